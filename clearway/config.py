@@ -1,0 +1,86 @@
+"""The TOML config file: layer roles, drawing options, robot and checks.
+
+    [layers]                      # each a list of glob patterns, matched case-insensitively
+    walls = ["A-WALL*"]
+    racking = ["*RACK*"]
+    keepout = ["*KEEPOUT*"]
+    boundary = ["A-FLOR-OTLN*"]
+    stations = ["*STATION*"]
+    shared = ["*SHARED*"]
+
+    [drawing]
+    units = "mm"                  # overrides $INSUNITS
+    chord_tolerance = 0.001       # metres
+    gap_tolerance = 0.01          # metres
+    max_wall_thickness = 0.6      # metres
+    nominal_wall_thickness = 0.05 # metres
+    label_radius = 3.0            # metres
+
+    [robot]
+    radius = 0.35                 # or: length = 1.0, width = 0.6
+    margin = 0.10
+
+    [checks]
+    comfort_clearance = 0.6       # metres; pinch points below it
+    personnel_clearance = 0.5     # metres
+    low_clearance_penalty = 0.0   # extra weight factor for lanes below comfort
+
+Command-line options override the file, key by key.
+"""
+
+from __future__ import annotations
+
+import tomllib
+from pathlib import Path
+from typing import Any
+
+from clearway.errors import ConfigError
+
+#: Every section and key the file may hold, with the type each value must have.
+SCHEMA: dict[str, dict[str, type | tuple[type, ...]]] = {
+    "layers": {name: list for name in
+               ("walls", "racking", "keepout", "boundary", "stations", "shared")},
+    "drawing": {"units": str, "chord_tolerance": (int, float), "gap_tolerance": (int, float),
+                "max_wall_thickness": (int, float), "nominal_wall_thickness": (int, float),
+                "label_radius": (int, float)},
+    "robot": {"radius": (int, float), "length": (int, float), "width": (int, float),
+              "margin": (int, float)},
+    "checks": {"comfort_clearance": (int, float), "personnel_clearance": (int, float),
+               "low_clearance_penalty": (int, float)},
+}
+
+
+def load_config(path: str | Path | None) -> dict[str, dict[str, Any]]:
+    """Read and validate a config file; return {section: {key: value}} (empty for None).
+
+    Raises
+    ------
+    ConfigError
+        The file is missing, not TOML, or holds an unknown key or a value of the wrong type.
+    """
+    config: dict[str, dict[str, Any]] = {section: {} for section in SCHEMA}
+    if path is None:
+        return config
+    path = Path(path)
+    try:
+        data = tomllib.loads(path.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise ConfigError(f"{path}: config file not found") from None
+    except (OSError, UnicodeDecodeError) as err:
+        raise ConfigError(f"{path}: cannot read config file ({err})") from None
+    except tomllib.TOMLDecodeError as err:
+        raise ConfigError(f"{path}: not valid TOML ({err})") from None
+    for section, values in data.items():
+        if section not in SCHEMA or not isinstance(values, dict):
+            raise ConfigError(f"{path}: unknown section [{section}]; "
+                              f"expected one of {', '.join(SCHEMA)}")
+        for key, value in values.items():
+            expected = SCHEMA[section].get(key)
+            if expected is None:
+                raise ConfigError(f"{path}: unknown key {key!r} in [{section}]")
+            if not isinstance(value, expected) or isinstance(value, bool):
+                raise ConfigError(f"{path}: [{section}] {key} has the wrong type: {value!r}")
+            if expected is list and not all(isinstance(item, str) for item in value):
+                raise ConfigError(f"{path}: [{section}] {key} must be a list of strings")
+            config[section][key] = value
+    return config

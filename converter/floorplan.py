@@ -1,0 +1,89 @@
+"""The plain value that crosses from the converter to the roadmap stage."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from types import MappingProxyType
+from typing import Mapping
+
+from shapely.geometry import MultiPolygon
+
+#: Layer roles, in the order a layer's role is decided when patterns overlap.
+ROLES = ("wall", "racking", "keepout", "boundary", "station", "shared")
+#: Roles whose geometry is an obstacle for the robot.
+OBSTACLE_ROLES = ("wall", "racking", "keepout", "boundary")
+
+
+@dataclass(frozen=True)
+class Station:
+    """A dock, charger or pick station: its label and drawn position, metres."""
+
+    label: str
+    x: float
+    y: float
+
+
+@dataclass(frozen=True)
+class Leak:
+    """A place where free space escapes to the outside of the drawing.
+
+    x, y : the middle of the gap, metres.  width : the gap's width, metres.
+    """
+
+    x: float
+    y: float
+    width: float
+
+
+@dataclass(frozen=True)
+class FloorPlan:
+    """A floor plan in metres, drawing frame. Immutable; no ezdxf object inside.
+
+    Attributes
+    ----------
+    source : str
+        The drawing's file name (no folder), for reports.
+    sha256 : str
+        Hex SHA-256 of the drawing file's bytes.
+    units : str
+        The unit the drawing was read in (a key of ``converter.units.UNITS_TO_M``).
+    m_per_unit : float
+        Metres per drawing unit.
+    unit_note : str
+        How the unit was decided, in one sentence (header, --units, or an assumption).
+    regions : mapping of str to MultiPolygon
+        Role -> polygons in metres, for every role in OBSTACLE_ROLES plus "shared"
+        (zones shared with people). Missing roles are empty MultiPolygons.
+        "boundary" is the obstacle band of the boundary outline (if drawn).
+    free_space : MultiPolygon
+        The navigable floor: inside the boundary (or the building's enclosing walls)
+        minus every obstacle. One polygon per enclosed free-space component.
+    stations : tuple of Station
+        Sorted by label; labels are unique.
+    leaks : tuple of Leak
+        Gaps through which free space escapes to the outside of the drawing.
+    warnings : tuple of str
+        One line each: repaired damage, skipped entities, unit assumptions.
+    extents : (xmin, ymin, xmax, ymax)
+        Extents of all mapped geometry, metres.
+    """
+
+    source: str
+    sha256: str
+    units: str
+    m_per_unit: float
+    unit_note: str
+    regions: Mapping[str, MultiPolygon]
+    free_space: MultiPolygon
+    stations: tuple[Station, ...]
+    leaks: tuple[Leak, ...] = ()
+    warnings: tuple[str, ...] = ()
+    extents: tuple[float, float, float, float] = (0.0, 0.0, 0.0, 0.0)
+
+    def __post_init__(self):
+        object.__setattr__(self, "regions", MappingProxyType(dict(self.regions)))
+
+    @property
+    def obstacles(self) -> dict[str, MultiPolygon]:
+        """Obstacle polygons by role (wall, racking, keepout, boundary)."""
+        return {role: self.regions[role] for role in OBSTACLE_ROLES if role in self.regions}
