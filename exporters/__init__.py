@@ -1,0 +1,27 @@
+"""Exporters: turn a FloorPlan and a Roadmap into GraphML, GeoJSON, SVG and report.json bytes.
+
+They take plain values (the networkx graph with its documented attributes, the floor plan's
+geometries, the findings) and never reach back into the roadmap's internals. ``write_outputs``
+writes a set of files atomically.
+"""
+
+from exporters.compare_svg import render_compare_svg
+from exporters.files import write_outputs
+from exporters.geojson import render_geojson
+from exporters.graphml import render_graphml
+from exporters.graphml_read import read_graphml
+from exporters.report import render_report, summarize
+from exporters.svg import render_svg
+from exporters.text import SAFETY_CAUTION
+
+__all__ = [
+    "SAFETY_CAUTION",
+    "read_graphml",
+    "render_compare_svg",
+    "render_geojson",
+    "render_graphml",
+    "render_report",
+    "render_svg",
+    "summarize",
+    "write_outputs",
+]

@@ -1,0 +1,98 @@
+"""Write a set of output files so that readers see either the old set or the new one.
+
+Every file is first written in full to a temporary name in the output folder (same file
+system, so the rename is atomic) and flushed to disk. Only when all of them succeeded are they
+renamed over the final names, one after the other, while an exclusive ``flock`` on the folder
+is held, so two builds into the same folder never interleave their files: the set that lands
+last is whole. On any failure (including KeyboardInterrupt) before the renames, the temporary
+files are removed and the previous outputs are left exactly as they were.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import fcntl
+import os
+import stat
+import tempfile
+from pathlib import Path
+
+#: Prefix and suffix of the temporary files (hidden, easy to recognise and clean up).
+TEMP_PREFIX = ".clearway-"
+TEMP_SUFFIX = ".part"
+
+
+def _check_names(files) -> None:
+    if not isinstance(files, dict):
+        raise TypeError(f"files must be a dict of name -> bytes, got {type(files).__name__}")
+    for name, content in files.items():
+        if (not isinstance(name, str) or not name or name in (".", "..")
+                or "/" in name or os.sep in name or "\0" in name):
+            raise ValueError(f"output file name must be a plain file name, got {name!r}")
+        if not isinstance(content, (bytes, bytearray)):
+            raise TypeError(f"{name}: content must be bytes, got {type(content).__name__}")
+
+
+def _final_mode(path: Path) -> int:
+    try:
+        return stat.S_IMODE(path.stat().st_mode)      # keep the mode of the file replaced
+    except FileNotFoundError:
+        return 0o644
+
+
+@contextlib.contextmanager
+def _folder_lock(folder: Path):
+    descriptor = os.open(folder, os.O_RDONLY)
+    try:
+        fcntl.flock(descriptor, fcntl.LOCK_EX)
+        yield descriptor
+    finally:
+        os.close(descriptor)          # closing releases the lock
+
+
+def write_outputs(outdir, files: dict[str, bytes]) -> list[Path]:
+    """Write `files` into `outdir` as one set, atomically per file and in order.
+
+    Parameters
+    ----------
+    outdir : str or path-like
+        Output folder; created (with parents) when missing.
+    files : dict of str to bytes
+        File name (no folder part) -> complete content.
+
+    Returns
+    -------
+    list of Path
+        The final paths, in the order of `files`.
+
+    Raises
+    ------
+    OSError
+        The folder cannot be created or written; no temporary file is left behind and no
+        existing output was changed.
+    """
+    _check_names(files)
+    folder = Path(outdir)
+    folder.mkdir(parents=True, exist_ok=True)
+    temporaries: list[tuple[Path, Path]] = []
+    try:
+        for name, content in files.items():
+            final = folder / name
+            descriptor, temporary = tempfile.mkstemp(
+                prefix=f"{TEMP_PREFIX}{name}.", suffix=TEMP_SUFFIX, dir=folder)
+            temporaries.append((Path(temporary), final))
+            with os.fdopen(descriptor, "wb") as handle:
+                handle.write(content)
+                handle.flush()
+                os.fchmod(handle.fileno(), _final_mode(final))
+                os.fsync(handle.fileno())
+        with _folder_lock(folder) as descriptor:
+            for temporary, final in temporaries:
+                os.replace(temporary, final)
+            os.fsync(descriptor)          # make the renames themselves durable
+    except BaseException:
+        for temporary, _ in temporaries:
+            with contextlib.suppress(FileNotFoundError):
+                temporary.unlink()
+        raise
+    return [final for _, final in temporaries]

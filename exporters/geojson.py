@@ -1,0 +1,159 @@
+"""Write the roadmap and the floor as an RFC 7946 GeoJSON FeatureCollection.
+
+Features, in drawing order (areas under lanes under points):
+
+- ``element: "area"`` MultiPolygons, ``role`` one of boundary, wall, racking, keepout,
+  shared (zones shared with people), free (floor not covered by obstacles), drivable
+  (where the robot's centre may be: free minus the inflated obstacles);
+- ``element: "edge"`` LineStrings from ``source`` to ``target`` with ``id``, ``length``,
+  ``weight``, ``clearance_min`` (metres), as in the GraphML;
+- ``element: "node"`` Points with ``id``, ``kind``, ``label``, ``x``, ``y``, ``clearance``;
+- ``element: "station"`` Points at each station's drawn position with ``label``, ``node``,
+  ``reachable`` and ``reason``.
+
+Coordinates are the drawing's local metres unless an anchor is given (RFC 7946 sec. 4 allows
+another coordinate reference system "by prior arrangement"); the top-level member
+``coordinate_system`` says which. Polygon rings follow the right-hand rule (sec. 3.1.6).
+Precision is limited to 0.1 mm: 4 decimals for metres, 9 for degrees (sec. 11.2).
+"""
+
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import shapely
+from shapely.geometry import MultiPolygon, Polygon, mapping
+
+from exporters.anchor import check_anchor, drawing_to_wgs84
+from exporters.graphml import oriented_edges
+from exporters.text import SAFETY_CAUTION, TOOL_VERSION, finite_or_none, json_text, natural_key
+
+#: Decimal places kept: 4 for metres (0.1 mm), 9 for degrees (about 0.1 mm of latitude).
+METRE_DECIMALS = 4
+DEGREE_DECIMALS = 9
+#: Area roles in drawing order.
+AREA_ROLES = ("boundary", "free", "drivable", "shared", "wall", "racking", "keepout")
+
+
+def _as_multipolygon(geometry) -> MultiPolygon:
+    if geometry is None or geometry.is_empty:
+        return MultiPolygon()
+    return MultiPolygon([part for part in shapely.get_parts(geometry)
+                         if isinstance(part, Polygon) and not part.is_empty])
+
+
+def _project(anchor):
+    if anchor is None:
+        return lambda xy: np.round(xy, METRE_DECIMALS)
+    return lambda xy: np.round(drawing_to_wgs84(xy, anchor), DEGREE_DECIMALS)
+
+
+def _geometry(geometry, project) -> dict:
+    geometry = shapely.transform(geometry, project)
+    if isinstance(geometry, (Polygon, MultiPolygon)):
+        geometry = shapely.orient_polygons(geometry, exterior_cw=False)
+    return mapping(geometry)
+
+
+def _feature(geometry: dict, properties: dict) -> dict:
+    return {"type": "Feature", "geometry": geometry, "properties": properties}
+
+
+def _area_features(plan, roadmap, project) -> list[dict]:
+    sources = dict(plan.regions) | {"free": plan.free_space, "drivable": roadmap.drivable}
+    features = []
+    for role in AREA_ROLES:
+        area = _as_multipolygon(sources.get(role))
+        if area.is_empty:
+            continue
+        features.append(_feature(_geometry(area, project), {
+            "element": "area", "role": role, "area": float(area.area)}))
+    return features
+
+
+def _graph_features(roadmap, project) -> list[dict]:
+    graph = roadmap.graph
+    features = []
+    for edge_id, source, target, attrs, coords in oriented_edges(graph):
+        features.append(_feature(_geometry(shapely.LineString(coords), project), {
+            "element": "edge", "id": json_text(edge_id), "source": json_text(source),
+            "target": json_text(target), "length": finite_or_none(attrs["length"]),
+            "weight": finite_or_none(attrs["weight"]),
+            "clearance_min": finite_or_none(attrs["clearance_min"])}))
+    for node_id in sorted(graph.nodes, key=natural_key):
+        attrs = graph.nodes[node_id]
+        features.append(_feature(_geometry(shapely.Point(attrs["x"], attrs["y"]), project), {
+            "element": "node", "id": json_text(node_id), "kind": json_text(attrs["kind"]),
+            "label": json_text(attrs.get("label", "")), "x": float(attrs["x"]),
+            "y": float(attrs["y"]), "clearance": finite_or_none(attrs["clearance"])}))
+    return features
+
+
+def _station_features(plan, roadmap, project) -> list[dict]:
+    results = {result.label: result for result in roadmap.findings.stations}
+    features = []
+    for station in plan.stations:
+        result = results.get(station.label)
+        features.append(_feature(_geometry(shapely.Point(station.x, station.y), project), {
+            "element": "station", "label": json_text(station.label),
+            "x": float(station.x), "y": float(station.y),
+            "node": json_text(result.node) if result and result.node is not None else None,
+            "reachable": bool(result.reachable) if result else False,
+            "reason": json_text(result.reason) if result else "not linked to the roadmap"}))
+    return features
+
+
+def coordinate_system(anchor=None) -> dict:
+    """Describe the coordinates written (the top-level ``coordinate_system`` member)."""
+    if anchor is None:
+        return {"type": "local", "units": "m", "axes": "x, y as drawn (y up)",
+                "note": "Drawing coordinates in metres, not WGS84 (RFC 7946 sec. 4: by prior "
+                        "arrangement). Pass --anchor LAT,LON,BEARING for longitude/latitude."}
+    latitude, longitude, bearing = check_anchor(anchor)
+    return {"type": "WGS84", "units": "degrees", "axes": "longitude, latitude",
+            "anchor": {"latitude": latitude, "longitude": longitude, "bearing": bearing},
+            "note": "Drawing origin at the anchor, drawing +Y at the bearing (degrees clockwise "
+                    "from true north); local tangent plane on the WGS84 ellipsoid."}
+
+
+def render_geojson(plan, roadmap, *, anchor=None) -> bytes:
+    """Return the floor and the roadmap as RFC 7946 GeoJSON bytes (UTF-8, deterministic).
+
+    Parameters
+    ----------
+    plan : converter.floorplan.FloorPlan
+    roadmap : roadmap.model.Roadmap
+    anchor : (latitude, longitude, bearing) in degrees, optional
+        WGS84 position of the drawing origin and bearing of its +Y axis. Without it the
+        coordinates are the drawing's local metres.
+
+    Returns
+    -------
+    bytes
+        One feature per line, so that revisions diff cleanly.
+
+    Raises
+    ------
+    ValueError
+        The anchor is out of range.
+    """
+    if anchor is not None:
+        anchor = check_anchor(anchor)
+    project = _project(anchor)
+    robot = roadmap.robot
+    header = {
+        "type": "FeatureCollection",
+        "name": "clearway roadmap",
+        "coordinate_system": coordinate_system(anchor),
+        "source": json_text(plan.source), "sha256": plan.sha256, "tool_version": TOOL_VERSION,
+        "robot": {"radius": robot.radius, "margin": robot.margin, "clearance": robot.clearance},
+        "caution": SAFETY_CAUTION,
+    }
+    features = (_area_features(plan, roadmap, project) + _graph_features(roadmap, project)
+                + _station_features(plan, roadmap, project))
+    head = json.dumps(header, ensure_ascii=False, allow_nan=False)[:-1]
+    lines = [json.dumps(f, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
+             for f in features]
+    body = ",\n".join(lines)
+    return (head + ', "features": [\n' + body + "\n]}\n").encode("utf-8")

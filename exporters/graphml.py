@@ -1,0 +1,157 @@
+"""Write the roadmap as GraphML 1.0: typed keys, exact floats, deterministic bytes.
+
+Layout (readers go by ``attr.name``, never by key id)::
+
+    <graphml xmlns="http://graphml.graphdrawing.org/xmlns">
+      <key id="g_units" for="graph" attr.name="units" attr.type="string"/>   ... sorted
+      <graph id="roadmap" edgedefault="undirected">
+        <data key="g_units">m</data> ...
+        <node id="n1"><data key="n_x">2.5</data> ...</node>              ... natural order
+        <edge id="e1" source="n1" target="n2">
+          <data key="e_geometry">LINESTRING (2.5 1.0, 7.5 1.0)</data> ...
+        </edge>                                                         ... natural order
+      </graph>
+    </graphml>
+
+Every float is written as Python's shortest round-trip ``repr`` (``float(text) == value``),
+so readers get back exactly the values in the graph. The edge geometry is a WKT LINESTRING in
+metres, drawing frame, oriented from ``source`` to ``target``.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import shapely
+from lxml import etree
+
+from exporters.text import TOOL_VERSION, exact_float, natural_key, xml_text
+
+GRAPHML_NS = "http://graphml.graphdrawing.org/xmlns"
+_XSI_NS = "http://www.w3.org/2001/XMLSchema-instance"
+_Q = f"{{{GRAPHML_NS}}}"
+_SCHEMA_LOCATION = f"{GRAPHML_NS} http://graphml.graphdrawing.org/xmlns/1.0/graphml.xsd"
+
+#: (domain, attr.name, attr.type) of every key clearway writes.
+KEYS = (
+    ("graph", "clearance", "double"),
+    ("graph", "margin", "double"),
+    ("graph", "robot_radius", "double"),
+    ("graph", "sha256", "string"),
+    ("graph", "source", "string"),
+    ("graph", "tool_version", "string"),
+    ("graph", "units", "string"),
+    ("node", "clearance", "double"),
+    ("node", "kind", "string"),
+    ("node", "label", "string"),
+    ("node", "x", "double"),
+    ("node", "y", "double"),
+    ("edge", "clearance_min", "double"),
+    ("edge", "geometry", "string"),
+    ("edge", "length", "double"),
+    ("edge", "weight", "double"),
+)
+_PREFIX = {"graph": "g", "node": "n", "edge": "e"}
+
+
+def _key_id(domain: str, name: str) -> str:
+    return f"{_PREFIX[domain]}_{name}"
+
+
+def _text(value: object, kind: str) -> str:
+    return exact_float(value) if kind == "double" else xml_text(value)
+
+
+def oriented_edges(graph) -> list[tuple[str, str, str, dict, np.ndarray]]:
+    """List the graph's edges as written: (edge id, source, target, data, coordinates).
+
+    The source is the end node that sorts first (``n2`` before ``n10``); the coordinates,
+    shape (N, 2) in metres, run from source to target. Edges come in natural id order.
+    """
+    edges = []
+    for u, v, key, data in graph.edges(keys=True, data=True):
+        source, target = sorted((str(u), str(v)), key=natural_key)
+        coords = shapely.get_coordinates(data["geometry"])
+        node = graph.nodes[source]
+        start = np.array([node["x"], node["y"]], dtype=float)
+        if source != target and len(coords) and (
+                np.hypot(*(coords[0] - start)) > np.hypot(*(coords[-1] - start))):
+            coords = coords[::-1]
+        edges.append((str(key), source, target, data, coords))
+    edges.sort(key=lambda edge: natural_key(edge[0]))
+    return edges
+
+
+def linestring_wkt(coords: np.ndarray) -> str:
+    """Format (N, 2) coordinates as a WKT LINESTRING with exact (round-trip) floats."""
+    if len(coords) == 0:
+        return "LINESTRING EMPTY"
+    return "LINESTRING (" + ", ".join(
+        f"{exact_float(x)} {exact_float(y)}" for x, y in coords.tolist()) + ")"
+
+
+def render_graphml(plan, roadmap) -> bytes:
+    """Return the roadmap as GraphML 1.0 bytes (UTF-8), identical for identical input.
+
+    Parameters
+    ----------
+    plan : converter.floorplan.FloorPlan
+        Supplies the drawing's file name (``source``) and SHA-256.
+    roadmap : roadmap.model.Roadmap
+        The lane graph (networkx MultiGraph with the documented attributes) and the robot.
+
+    Returns
+    -------
+    bytes
+        An XML document; see the module docstring for its layout.
+
+    Examples
+    --------
+    >>> import networkx as nx, shapely
+    >>> from roadmap.model import Robot, Roadmap
+    >>> from converter.floorplan import FloorPlan
+    >>> g = nx.MultiGraph()
+    >>> g.add_node("n1", x=0.0, y=1.0, clearance=1.0, kind="end", label="")
+    >>> g.add_node("n2", x=4.0, y=1.0, clearance=1.0, kind="end", label="")
+    >>> _ = g.add_edge("n2", "n1", key="e1", length=4.0, weight=4.0, clearance_min=1.0,
+    ...                geometry=shapely.LineString([(4, 1), (0, 1)]))
+    >>> empty = shapely.MultiPolygon()
+    >>> plan = FloorPlan("hall.dxf", "0" * 64, "m", 1.0, "", {}, empty, ())
+    >>> rm = Roadmap(g, Robot.disc(0.35, margin=0.1), empty, empty)
+    >>> b"LINESTRING (0.0 1.0, 4.0 1.0)" in render_graphml(plan, rm)
+    True
+    """
+    graph = roadmap.graph
+    robot = roadmap.robot
+    graph_values = {
+        "units": "m", "source": plan.source, "sha256": plan.sha256,
+        "robot_radius": robot.radius, "margin": robot.margin, "clearance": robot.clearance,
+        "tool_version": TOOL_VERSION,
+    }
+    types = {(domain, name): kind for domain, name, kind in KEYS}
+
+    root = etree.Element(_Q + "graphml", nsmap={None: GRAPHML_NS, "xsi": _XSI_NS})
+    root.set(f"{{{_XSI_NS}}}schemaLocation", _SCHEMA_LOCATION)
+    for domain, name, kind in KEYS:
+        etree.SubElement(root, _Q + "key", {"id": _key_id(domain, name), "for": domain,
+                                       "attr.name": name, "attr.type": kind})
+    element = etree.SubElement(root, _Q + "graph", {"id": "roadmap", "edgedefault": "undirected"})
+
+    def add_data(parent, domain, values):
+        for name in sorted(values):
+            data = etree.SubElement(parent, _Q + "data", {"key": _key_id(domain, name)})
+            data.text = _text(values[name], types[domain, name])
+
+    add_data(element, "graph", graph_values)
+    for node_id in sorted(graph.nodes, key=natural_key):
+        attrs = graph.nodes[node_id]
+        node = etree.SubElement(element, _Q + "node", {"id": xml_text(node_id)})
+        add_data(node, "node", {name: attrs[name] for name in ("x", "y", "clearance", "kind")}
+                 | {"label": attrs.get("label", "")})
+    for edge_id, source, target, attrs, coords in oriented_edges(graph):
+        edge = etree.SubElement(element, _Q + "edge", {"id": xml_text(edge_id),
+                                                  "source": xml_text(source),
+                                                  "target": xml_text(target)})
+        add_data(edge, "edge", {name: attrs[name] for name in
+                                ("length", "weight", "clearance_min")}
+                 | {"geometry": linestring_wkt(coords)})
+    return etree.tostring(root, xml_declaration=True, encoding="UTF-8", pretty_print=True)

@@ -1,0 +1,110 @@
+"""Write report.json: counts, stations, problems found, robot and source, as plain JSON.
+
+The keys are documented in the README ("report.json"). Lengths are metres in the drawing
+frame; the file holds no timestamps, so the same drawing and options give the same bytes.
+"""
+
+from __future__ import annotations
+
+import json
+
+import networkx as nx
+
+from exporters.text import SAFETY_CAUTION, TOOL_VERSION, finite_or_none, json_text, natural_key
+
+#: Version of the report layout; raised when a key changes meaning or disappears.
+REPORT_FORMAT = 1
+
+
+def _robot(robot) -> dict:
+    if robot.length is None:
+        shape, note = "disc", "radius as given"
+    else:
+        shape = "rectangle"
+        note = (f"circumscribed radius of the {robot.length:g} m x {robot.width:g} m "
+                "footprint, hypot(length, width) / 2; lanes are checked for this disc")
+    return {"shape": shape, "radius": robot.radius, "margin": robot.margin,
+            "clearance": robot.clearance, "length": robot.length, "width": robot.width,
+            "note": note}
+
+
+def _components(graph) -> list[list[str]]:
+    parts = [sorted(map(str, part), key=natural_key) for part in nx.connected_components(graph)]
+    return sorted(parts, key=lambda part: (-len(part), natural_key(part[0])))
+
+
+def summarize(plan, roadmap) -> dict:
+    """Return the report as a dict of plain values (what ``render_report`` writes).
+
+    Parameters
+    ----------
+    plan : converter.floorplan.FloorPlan
+    roadmap : roadmap.model.Roadmap
+
+    Returns
+    -------
+    dict
+        JSON-ready; see the README section "report.json" for every key.
+    """
+    graph, findings = roadmap.graph, roadmap.findings
+    kinds = [data.get("kind") for _, data in graph.nodes(data=True)]
+    lane_length = sum(float(data["length"]) for _, _, data in graph.edges(data=True))
+    stations = [{
+        "label": json_text(s.label), "x": float(s.x), "y": float(s.y),
+        "node": None if s.node is None else json_text(s.node),
+        "component": None if s.component is None else int(s.component), "reachable": bool(s.reachable), "reason": json_text(s.reason),
+    } for s in findings.stations]
+    personnel_required = graph.graph.get("personnel_clearance")
+    if personnel_required is None and findings.personnel:
+        personnel_required = findings.personnel[0].required
+    return {
+        "format": REPORT_FORMAT,
+        "tool_version": TOOL_VERSION,
+        "source": json_text(plan.source),
+        "sha256": plan.sha256,
+        "units": "m",
+        "drawing_units": {"units": plan.units, "m_per_unit": plan.m_per_unit,
+                          "note": json_text(plan.unit_note)},
+        "robot": _robot(roadmap.robot),
+        "counts": {"nodes": graph.number_of_nodes(), "edges": graph.number_of_edges(),
+                   "junctions": kinds.count("junction"), "ends": kinds.count("end"),
+                   "stations": len(plan.stations),
+                   "stations_reachable": sum(1 for s in findings.stations if s.reachable)},
+        "lane_length": lane_length,
+        "components": nx.number_connected_components(graph),
+        "component_nodes": [len(part) for part in _components(graph)],
+        "stations": stations,
+        "unreachable_pairs": [[json_text(a), json_text(b)] for a, b in findings.unreachable_pairs],
+        "pinch_points": [{"x": float(p.x), "y": float(p.y),
+                          "clearance": finite_or_none(p.clearance),
+                          "edge": json_text(p.edge)} for p in findings.pinch_points],
+        "narrow_passages": [{"x": float(p.x), "y": float(p.y), "width": float(p.width),
+                             "blocks": [json_text(label) for label in p.blocks]}
+                            for p in findings.narrow_passages],
+        "leaks": [{"x": float(leak.x), "y": float(leak.y), "width": float(leak.width)}
+                  for leak in plan.leaks],
+        "personnel_clearance": {
+            "required": finite_or_none(personnel_required),
+            "flags": [{"edge": json_text(f.edge), "x": float(f.x), "y": float(f.y),
+                       "clearance": float(f.clearance),
+                       "side_clearance": float(f.side_clearance),
+                       "required": float(f.required)} for f in findings.personnel]},
+        "warnings": [json_text(w) for w in (*plan.warnings, *findings.warnings)],
+        "caution": SAFETY_CAUTION,
+    }
+
+
+def render_report(plan, roadmap) -> bytes:
+    """Return report.json bytes (UTF-8, indented, deterministic, no timestamps).
+
+    Parameters
+    ----------
+    plan : converter.floorplan.FloorPlan
+    roadmap : roadmap.model.Roadmap
+
+    Returns
+    -------
+    bytes
+    """
+    text = json.dumps(summarize(plan, roadmap), ensure_ascii=False, indent=2, allow_nan=False)
+    return (text + "\n").encode("utf-8")

@@ -1,0 +1,223 @@
+"""Draw an SVG preview of the roadmap for people: floor, lanes, stations, problems, title block.
+
+One SVG user unit is one metre of the drawing, and a drawing point (x, y) is drawn at
+(x, -y): the drawing's y axis points up, the SVG's down. Plans at survey coordinates are
+drawn relative to a round origin (see ``drawing_origin``), stated in the title block. The page size fits the plan on A3
+(420 mm x 297 mm, landscape or portrait), so text sized in proportion to the plan stays
+readable in print. Colours come from the Okabe-Ito palette (areas, symbols) and a
+colour-blind-safe sequential ramp (lane clearance); every symbol also differs in shape.
+
+References
+----------
+.. [OI08] M. Okabe and K. Ito, "Color Universal Design (CUD): how to make figures and
+   presentations that are friendly to colorblind people", 2008.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import shapely
+from lxml import etree
+
+from exporters.graphml import oriented_edges
+from exporters.svg_parts import (AREA_STYLE, add_legend, add_marker, add_scale_and_arrow,
+                                 add_text, lane_bins, lane_colour, number, path_data)
+from exporters.text import SAFETY_CAUTION, TOOL_VERSION, xml_text
+
+SVG_NS = "http://www.w3.org/2000/svg"
+_A3 = (420.0, 297.0)   # mm, ISO 216
+_PX_PER_MM = 96 / 25.4  # CSS Values and Units: 1 in = 96 px = 25.4 mm
+
+
+def _bounds(plan, roadmap) -> tuple[float, float, float, float]:
+    geometries = [*plan.regions.values(), plan.free_space, roadmap.drivable,
+                  shapely.MultiPoint([(s.x, s.y) for s in plan.stations]),
+                  shapely.MultiPoint([(d["x"], d["y"]) for _, d in roadmap.graph.nodes(data=True)])]
+    boxes = np.array([g.bounds for g in geometries if g is not None and not g.is_empty])
+    if len(boxes) == 0 or not np.isfinite(boxes).all():
+        return 0.0, 0.0, 1.0, 1.0
+    xmin, ymin = boxes[:, 0].min(), boxes[:, 1].min()
+    xmax, ymax = boxes[:, 2].max(), boxes[:, 3].max()
+    return float(xmin), float(ymin), float(max(xmax, xmin + 1e-3)), float(max(ymax, ymin + 1e-3))
+
+
+def drawing_origin(bounds) -> np.ndarray:
+    """Return the point, metres, that the SVG is drawn relative to, shape (2,).
+
+    Renderers compute in single precision (24-bit mantissa: 0.5 m steps at 5.4e6 m), so a
+    plan placed at survey coordinates is drawn relative to the whole kilometre nearest its
+    extents' lower left corner; a plan within 10 km of its origin is drawn as is.
+
+    Examples
+    --------
+    >>> drawing_origin((500120.5, 5400310.0, 500200.0, 5400400.0)).tolist()
+    [500000.0, 5400000.0]
+    >>> drawing_origin((-5.0, 0.0, 120.0, 80.0)).tolist()
+    [0.0, 0.0]
+    """
+    if max(abs(v) for v in bounds) < 10_000.0:
+        return np.zeros(2)
+    return np.round(np.asarray(bounds[:2], dtype=float) / 1000.0) * 1000.0
+
+
+def _summary_lines(plan, roadmap, date: str) -> list[str]:
+    robot, graph, findings = roadmap.robot, roadmap.graph, roadmap.findings
+    if robot.length is None:
+        body = f"disc, radius {robot.radius:.2f} m"
+    else:
+        body = (f"{robot.length:.2f} m x {robot.width:.2f} m "
+                f"(circumscribed radius {robot.radius:.2f} m)")
+    lane_length = sum(float(d["length"]) for _, _, d in graph.edges(data=True))
+    junctions = sum(1 for _, d in graph.nodes(data=True) if d.get("kind") == "junction")
+    reached = sum(1 for s in findings.stations if s.reachable)
+    narrowest = min((p.clearance for p in findings.pinch_points), default=None)
+    pinch = f"narrowest pinch {narrowest:.2f} m" if narrowest is not None else "no pinch points"
+    return [
+        f"{plan.source}  \u00b7  {date}  \u00b7  {TOOL_VERSION}",
+        f"Robot: {body}, margin {robot.margin:.2f} m, required clearance {robot.clearance:.2f} m",
+        f"{graph.number_of_edges()} lanes, {lane_length:.1f} m in total  \u00b7  "
+        f"{junctions} junctions  \u00b7  stations reached {reached}/{len(plan.stations)}  "
+        f"\u00b7  {pinch}",
+        f"{len(findings.narrow_passages)} narrow passages  \u00b7  {len(plan.leaks)} leaks  "
+        f"\u00b7  {len(findings.personnel)} lanes short of personnel clearance",
+    ]
+
+
+def _wrap(text: str, width: int) -> list[str]:
+    lines, line = [], ""
+    for word in text.split():
+        if line and len(line) + 1 + len(word) > width:
+            lines.append(line)
+            line = word
+        else:
+            line = f"{line} {word}".strip()
+    return lines + [line] if line else lines
+
+
+def render_svg(plan, roadmap, *, date: str) -> bytes:
+    """Return the SVG preview as UTF-8 bytes (deterministic for the same input and date).
+
+    Parameters
+    ----------
+    plan : converter.floorplan.FloorPlan
+    roadmap : roadmap.model.Roadmap
+    date : str
+        Printed in the title block (the CLI passes today's date, ISO 8601).
+
+    Returns
+    -------
+    bytes
+        A standalone SVG 1.1 document whose viewBox holds the plan's extents, drawn at
+        (x - x0, -(y - y0)) with (x0, y0) = ``drawing_origin`` (zero unless the plan lies at
+        survey coordinates), plus a margin and the title block below the plan.
+    """
+    origin = drawing_origin(_bounds(plan, roadmap))
+    ox, oy = origin
+    xmin, ymin, xmax, ymax = np.subtract(_bounds(plan, roadmap), [ox, oy, ox, oy]).tolist()
+
+    def local(geometry):
+        return shapely.transform(geometry, lambda xy: xy - origin)
+
+    width, height = xmax - xmin, ymax - ymin
+    size = max(width, height)
+    pad = 0.04 * size
+    canvas_width = size + 2 * pad
+    font = canvas_width / 110                     # one text line, in metres of the drawing
+    strip = 14 * font                             # title block height
+    left = xmin - pad - (canvas_width - width - 2 * pad) / 2
+    top = -ymax - pad
+    canvas_height = height + 2 * pad + strip
+    landscape = canvas_width >= canvas_height
+    page = _A3 if landscape else _A3[::-1]
+    scale = min(page[0] / canvas_width, page[1] / canvas_height)    # mm per metre
+
+    root = etree.Element(f"{{{SVG_NS}}}svg", nsmap={None: SVG_NS}, attrib={
+        "version": "1.1",
+        "viewBox": " ".join(number(v) for v in (left, top, canvas_width, canvas_height)),
+        # CSS px (1/96 in): the page in millimetres, as plain numbers every renderer reads
+        "width": f"{canvas_width * scale * _PX_PER_MM:.1f}",
+        "height": f"{canvas_height * scale * _PX_PER_MM:.1f}",
+        "font-family": "DejaVu Sans, Verdana, Arial, sans-serif"})
+    etree.SubElement(root, "title").text = xml_text(f"clearway roadmap of {plan.source}")
+    etree.SubElement(root, "desc").text = SAFETY_CAUTION
+    _add_pattern(root, font)
+    etree.SubElement(root, "rect", x=number(left), y=number(top), width=number(canvas_width),
+                     height=number(canvas_height), fill="#ffffff")
+
+    floor = etree.SubElement(root, "g", id="floor")
+    band = plan.free_space.difference(roadmap.drivable) if not plan.free_space.is_empty else None
+    areas = {"free": plan.free_space, "band": band, **dict(plan.regions)}
+    areas = {role: local(area) for role, area in areas.items() if area is not None}
+    for role, style in AREA_STYLE.items():
+        geometry = areas.get(role)
+        if geometry is not None and not geometry.is_empty:
+            etree.SubElement(floor, "path", d=path_data(geometry), id=f"area-{role}",
+                             **{"fill-rule": "evenodd"}, **style(font))
+
+    bins = lane_bins(roadmap.robot.clearance)
+    lanes = etree.SubElement(root, "g", id="lanes", fill="none",
+                             **{"stroke-width": number(0.32 * font), "stroke-linecap": "round",
+                                "stroke-linejoin": "round"})
+    edges = sorted(oriented_edges(roadmap.graph), key=lambda e: -float(e[3]["clearance_min"]))
+    for edge_id, _, _, attrs, coords in edges:
+        colour = lane_colour(bins, float(attrs["clearance_min"]))
+        etree.SubElement(lanes, "polyline", stroke=colour, id=xml_text(f"lane-{edge_id}"),
+                         points=" ".join(f"{number(x)},{number(-y)}" for x, y in (coords - origin).tolist()))
+
+    marks = etree.SubElement(root, "g", id="marks")
+    right = xmin + 0.75 * width       # labels of marks beyond this go to the left
+    for _, attrs in sorted(roadmap.graph.nodes(data=True), key=lambda n: (n[1]["x"], n[1]["y"])):
+        if attrs.get("kind") in ("junction", "end"):
+            add_marker(marks, attrs["kind"], attrs["x"] - ox, attrs["y"] - oy, font)
+    for point in roadmap.findings.pinch_points:
+        add_marker(marks, "pinch", point.x - ox, point.y - oy, font, f"{point.clearance:.2f} m",
+                   label_left=point.x - ox > right)
+    for passage in roadmap.findings.narrow_passages:
+        add_marker(marks, "narrow", passage.x - ox, passage.y - oy, font, f"{passage.width:.2f} m",
+                   label_left=passage.x - ox > right)
+    for leak in plan.leaks:
+        add_marker(marks, "leak", leak.x - ox, leak.y - oy, font, f"leak {leak.width:.2f} m",
+                   label_left=leak.x - ox > right)
+    results = {s.label: s for s in roadmap.findings.stations}
+    for station in plan.stations:
+        result = results.get(station.label)
+        reachable = bool(result and result.reachable)
+        label = station.label if reachable else f"{station.label} (unreachable)"
+        add_marker(marks, "station" if reachable else "unreachable", station.x - ox,
+                   station.y - oy, font, label, label_left=station.x - ox > right)
+
+    _add_title_block(root, plan, roadmap, date, bins, left, -ymin + pad, canvas_width, font,
+                     origin)
+    return etree.tostring(root, xml_declaration=True, encoding="UTF-8", pretty_print=True)
+
+
+def _add_pattern(root, font: float) -> None:
+    defs = etree.SubElement(root, "defs")
+    pattern = etree.SubElement(defs, "pattern", id="hatch", patternUnits="userSpaceOnUse",
+                               width=number(0.8 * font), height=number(0.8 * font),
+                               patternTransform="rotate(45)")
+    etree.SubElement(pattern, "rect", width=number(0.8 * font), height=number(0.8 * font),
+                     fill="#D55E00", **{"fill-opacity": "0.18"})
+    etree.SubElement(pattern, "line", x1="0", y1="0", x2="0", y2=number(0.8 * font),
+                     stroke="#D55E00", **{"stroke-width": number(0.22 * font)})
+
+
+def _add_title_block(root, plan, roadmap, date, bins, left, top, width, font, origin) -> None:
+    block = etree.SubElement(root, "g", id="title-block")
+    etree.SubElement(block, "rect", x=number(left + font), y=number(top),
+                     width=number(width - 2 * font), height=number(13 * font), fill="#ffffff",
+                     stroke="#333333", **{"stroke-width": number(0.08 * font)})
+    x, y = left + 2 * font, top + 2 * font
+    add_text(block, x, y, xml_text(f"clearway roadmap \u2014 {plan.source}"), 1.4 * font,
+             weight="bold")
+    lines = _summary_lines(plan, roadmap, date)
+    if origin.any():
+        lines[0] += f"  \u00b7  drawn relative to x {origin[0]:.0f} m, y {origin[1]:.0f} m"
+    for index, line in enumerate(lines):
+        add_text(block, x, y + (1.6 + 1.3 * index) * font, xml_text(line), 0.85 * font)
+    caution_top = y + 7.2 * font
+    for index, line in enumerate(_wrap("CAUTION: " + SAFETY_CAUTION, 78)):
+        add_text(block, x, caution_top + 1.2 * index * font, line, 0.9 * font,
+                 weight="bold", colour="#A03000")
+    add_legend(block, left + 52 * font, top + 1.6 * font, bins, font)
+    add_scale_and_arrow(block, left + width - 14 * font, top + 2.2 * font, font)

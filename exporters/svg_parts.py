@@ -1,0 +1,223 @@
+"""Building blocks of the SVG preview: styles, numbers, paths, markers, legend, scale bar.
+
+All sizes are in SVG user units, which are metres of the drawing; ``font`` is the height of
+one line of text and sets the size of every symbol. Points are given in drawing coordinates
+(y up) and drawn at (x, -y).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import shapely
+from lxml import etree
+
+from exporters.text import xml_text
+
+# Okabe-Ito colours [OI08] for areas and symbols.
+BLACK, ORANGE, SKY, GREEN, YELLOW, BLUE, VERMILLION, PURPLE = (
+    "#000000", "#E69F00", "#56B4E9", "#009E73", "#F0E442", "#0072B2", "#D55E00", "#CC79A7")
+#: Lane colours from narrow to wide clearance: samples of the perceptually uniform,
+#: colour-blind-safe "plasma" ramp, without its palest end (it vanishes on white paper).
+LANE_COLOURS = ("#F89540", "#E16462", "#B12A90", "#6A00A8", "#0D0887")
+#: Lane clearance classes: metres above the required clearance where each class starts.
+LANE_STEPS = (0.0, 0.1, 0.25, 0.5, 1.0)
+
+
+def _style(**attrs):
+    """Attributes with lengths given in lines of text (floats, or tuples for dash arrays)."""
+    def scaled(value, font):
+        if isinstance(value, tuple):
+            return " ".join(number(v * font) for v in value)
+        return number(value * font) if isinstance(value, float) else value
+    return lambda font: {key.replace("_", "-"): scaled(value, font)
+                         for key, value in attrs.items()}
+
+
+#: Area role -> SVG attributes (drawn in this order, later on top).
+AREA_STYLE = {
+    "free": _style(fill="#FBFBF7"),
+    "band": _style(fill=SKY, fill_opacity="0.28"),
+    "shared": _style(fill=YELLOW, fill_opacity="0.45", stroke="#8A7F00", stroke_width=0.1,
+                     stroke_dasharray=(0.6, 0.3)),
+    "boundary": _style(fill="#8C8C8C", stroke="#4D4D4D", stroke_width=0.04),
+    "wall": _style(fill="#333333", stroke="#000000", stroke_width=0.04),
+    "racking": _style(fill=BLUE, fill_opacity="0.55", stroke=BLUE, stroke_width=0.08),
+    "keepout": _style(fill="url(#hatch)", stroke=VERMILLION, stroke_width=0.12),
+}
+AREA_NAMES = {"free": "free floor", "band": "clearance band",
+              "shared": "shared with people", "wall": "wall", "racking": "racking",
+              "keepout": "keep-out", "boundary": "boundary"}
+MARKER_NAMES = {"junction": "junction", "end": "lane end", "station": "station",
+                "unreachable": "unreachable station", "pinch": "pinch point",
+                "narrow": "narrow passage", "leak": "leak to outside"}
+
+
+def number(value: float) -> str:
+    """Format a coordinate for SVG: millimetre precision, no trailing zeros, no ``-0``."""
+    text = f"{float(value):.3f}".rstrip("0").rstrip(".")
+    return "0" if text in ("-0", "") else text
+
+
+def path_data(geometry) -> str:
+    """SVG path data of every polygon ring in `geometry`, y flipped (use fill-rule evenodd)."""
+    polygons = [p for p in shapely.get_parts(geometry) if p.geom_type == "Polygon"]
+    rings = [ring for polygon in polygons for ring in (polygon.exterior, *polygon.interiors)]
+    parts = []
+    for ring in rings:
+        coords = shapely.get_coordinates(ring)[:-1]
+        if len(coords) >= 3:
+            points = " ".join(f"{number(x)},{number(-y)}" for x, y in coords.tolist())
+            parts.append(f"M{points}Z")
+    return " ".join(parts)
+
+
+def lane_bins(clearance: float) -> np.ndarray:
+    """Lower bounds of the lane colour classes, metres, shape (5,)."""
+    return clearance + np.asarray(LANE_STEPS)
+
+
+def lane_colour(bins: np.ndarray, clearance_min: float) -> str:
+    """Colour of a lane whose smallest clearance is `clearance_min` metres."""
+    index = int(np.searchsorted(bins, clearance_min, side="right")) - 1
+    return LANE_COLOURS[min(max(index, 0), len(LANE_COLOURS) - 1)]
+
+
+def add_text(parent, x, y, text, size, *, weight=None, colour=BLACK, anchor=None, halo=False):
+    """Add one line of text at SVG position (x, y) (already flipped), `size` metres high."""
+    attrs = {"x": number(x), "y": number(y), "font-size": number(size), "fill": colour}
+    if weight:
+        attrs["font-weight"] = weight
+    if anchor:
+        attrs["text-anchor"] = anchor
+    if halo:
+        attrs.update({"stroke": "#ffffff", "stroke-width": number(0.3 * size),
+                      "paint-order": "stroke", "stroke-linejoin": "round"})
+    element = etree.SubElement(parent, "text", attrs)
+    element.text = text
+    return element
+
+
+def _symbol(parent, kind: str, x: float, y: float, font: float) -> None:
+    """Draw symbol `kind` centred on SVG position (x, y)."""
+    s = font
+    sub = etree.SubElement
+    if kind in ("junction", "end"):
+        fill, stroke = (BLACK, "#ffffff") if kind == "junction" else ("#ffffff", BLACK)
+        sub(parent, "circle", cx=number(x), cy=number(y), r=number(0.36 * s if kind ==
+            "junction" else 0.28 * s), fill=fill, stroke=stroke,
+            **{"stroke-width": number(0.12 * s)})
+    elif kind in ("station", "unreachable"):
+        half = 0.55 * s
+        fill, stroke = (GREEN, "#ffffff") if kind == "station" else ("#ffffff", VERMILLION)
+        sub(parent, "rect", x=number(x - half), y=number(y - half), width=number(2 * half),
+            height=number(2 * half), fill=fill, stroke=stroke,
+            **{"stroke-width": number(0.18 * s)})
+        if kind == "unreachable":
+            d = (f"M{number(x - half)},{number(y - half)}L{number(x + half)},{number(y + half)}"
+                 f"M{number(x - half)},{number(y + half)}L{number(x + half)},{number(y - half)}")
+            sub(parent, "path", d=d, stroke=VERMILLION, **{"stroke-width": number(0.18 * s)})
+    elif kind == "pinch":
+        h = 0.7 * s
+        points = f"{number(x)},{number(y - h)} {number(x + h)},{number(y + 0.6 * h)} " \
+                 f"{number(x - h)},{number(y + 0.6 * h)}"
+        sub(parent, "polygon", points=points, fill=PURPLE, stroke=BLACK,
+            **{"stroke-width": number(0.1 * s)})
+    elif kind == "narrow":
+        h = 0.7 * s
+        points = " ".join(f"{number(px)},{number(py)}" for px, py in
+                          ((x, y - h), (x + h, y), (x, y + h), (x - h, y)))
+        sub(parent, "polygon", points=points, fill=ORANGE, stroke=BLACK,
+            **{"stroke-width": number(0.1 * s)})
+    elif kind == "leak":
+        sub(parent, "circle", cx=number(x), cy=number(y), r=number(0.6 * s), fill="none",
+            stroke=VERMILLION, **{"stroke-width": number(0.25 * s), "stroke-dasharray":
+                                  f"{number(0.3 * s)} {number(0.15 * s)}"})
+    else:
+        raise ValueError(f"unknown marker kind {kind!r}")
+
+
+def add_marker(parent, kind, x, y, font, label=None, *, label_left=False) -> None:
+    """Draw symbol `kind` at drawing point (x, y), with an optional label beside it.
+
+    The label goes to the right of the symbol, or to its left with ``label_left`` (used
+    near the right edge of the plan so that it stays on the page).
+    """
+    group = etree.SubElement(parent, "g", {"class": kind})
+    _symbol(group, kind, float(x), -float(y), font)
+    if label is not None:
+        colour = "#A03000" if kind in ("unreachable", "leak") else BLACK
+        offset = -0.9 * font if label_left else 0.9 * font
+        add_text(group, float(x) + offset, -float(y) + 0.3 * font, xml_text(label),
+                 0.8 * font, colour=colour, halo=True, anchor="end" if label_left else None)
+
+
+def add_legend(parent, x: float, y: float, bins: np.ndarray, font: float) -> None:
+    """Draw the legend (areas, lane clearance classes, symbols) from SVG position (x, y)."""
+    row = 1.45 * font
+    column = 15 * font
+    size = 0.75 * font
+    add_text(parent, x, y, "Areas", 0.85 * font, weight="bold")
+    for index, role in enumerate(AREA_STYLE):
+        top = y + 0.5 * font + index * row
+        style = {"stroke": "#999999", "stroke-width": number(0.05 * font)}
+        style.update(AREA_STYLE[role](font))
+        etree.SubElement(parent, "rect", x=number(x), y=number(top), width=number(1.6 * font),
+                         height=number(0.9 * font), **style)
+        add_text(parent, x + 2.1 * font, top + 0.75 * font, AREA_NAMES[role], size)
+    x += column
+    add_text(parent, x, y, "Lane clearance", 0.85 * font, weight="bold")
+    for index, colour in enumerate(LANE_COLOURS):
+        top = y + 0.5 * font + index * row
+        etree.SubElement(parent, "line", x1=number(x), y1=number(top + 0.45 * font),
+                         x2=number(x + 1.6 * font), y2=number(top + 0.45 * font), stroke=colour,
+                         **{"stroke-width": number(0.4 * font), "stroke-linecap": "round"})
+        label = (f"{bins[index]:.2f}\u2013{bins[index + 1]:.2f} m" if index + 1 < len(bins)
+                 else f"\u2265 {bins[index]:.2f} m")
+        add_text(parent, x + 2.1 * font, top + 0.75 * font, label, size)
+    add_text(parent, x, y + 0.5 * font + 5 * row + 0.75 * font,
+             "centre to nearest obstacle", 0.65 * font)
+    x += column
+    add_text(parent, x, y, "Symbols", 0.85 * font, weight="bold")
+    for index, kind in enumerate(MARKER_NAMES):
+        top = y + 0.5 * font + index * row
+        _symbol(parent, kind, x + 0.8 * font, top + 0.45 * font, 0.8 * font)
+        add_text(parent, x + 2.1 * font, top + 0.75 * font, MARKER_NAMES[kind], size)
+
+
+def nice_length(limit: float) -> float:
+    """Largest 1, 2 or 5 x 10**k metres not above `limit` metres (> 0).
+
+    Examples
+    --------
+    >>> nice_length(7.3), nice_length(0.34), nice_length(120.0)
+    (5.0, 0.2, 100.0)
+    """
+    exponent = math.floor(math.log10(limit))
+    for step in (5.0, 2.0, 1.0):
+        if step * 10.0 ** exponent <= limit:
+            return float(f"{step * 10.0 ** exponent:.12g}")
+    return float(f"{10.0 ** exponent:.12g}")
+
+
+def add_scale_and_arrow(parent, x: float, y: float, font: float) -> None:
+    """Draw a four-part scale bar and the +Y arrow from SVG position (x, y)."""
+    length = nice_length(11 * font)
+    height = 0.45 * font
+    for index in range(4):
+        etree.SubElement(parent, "rect", x=number(x + index * length / 4), y=number(y),
+                         width=number(length / 4), height=number(height),
+                         fill=BLACK if index % 2 == 0 else "#ffffff", stroke=BLACK,
+                         **{"stroke-width": number(0.06 * font)})
+    add_text(parent, x, y + height + 0.9 * font, "0", 0.75 * font, anchor="middle")
+    add_text(parent, x + length, y + height + 0.9 * font, f"{length:g} m", 0.75 * font,
+             anchor="middle")
+    tip_x, tip_y = x + length / 2, y + 3.2 * font
+    d = (f"M{number(tip_x)},{number(tip_y)}L{number(tip_x + 0.8 * font)},"
+         f"{number(tip_y + 2.6 * font)}L{number(tip_x)},{number(tip_y + 2.0 * font)}"
+         f"L{number(tip_x - 0.8 * font)},{number(tip_y + 2.6 * font)}Z")
+    etree.SubElement(parent, "path", d=d, fill=BLACK)
+    add_text(parent, tip_x, tip_y + 4.0 * font, "+Y (drawing north)", 0.75 * font,
+             anchor="middle")
+    add_text(parent, tip_x, tip_y + 5.1 * font, "y up as drawn", 0.6 * font, anchor="middle")

@@ -1,0 +1,72 @@
+"""Text and number helpers shared by the exporters: safe strings, exact floats, fixed wording."""
+
+from __future__ import annotations
+
+import math
+import re
+
+from clearway import __version__
+
+#: The tool name and version written into every output.
+TOOL_VERSION = f"clearway {__version__}"
+
+#: The caution every human-facing output carries.
+SAFETY_CAUTION = (
+    "Planning aid only, not a safety function: verify every lane on site under ISO 3691-4, "
+    "the robot maker's safety manual and local codes, by qualified people."
+)
+
+# XML 1.0 sec. 2.2 Char production: everything outside it cannot appear in an XML document,
+# not even as a character reference.
+_XML_ILLEGAL = re.compile("[^\t\n\r\u0020-\ud7ff\ue000-\ufffd\U00010000-\U0010ffff]")
+# Lone surrogates cannot be encoded as UTF-8; JSON keeps everything else (escaped by json).
+_SURROGATE = re.compile("[\ud800-\udfff]")
+
+
+def xml_text(value: object) -> str:
+    """Return `value` as a string that XML 1.0 can hold.
+
+    Characters outside the XML 1.0 ``Char`` production (C0 controls other than tab, line
+    feed and carriage return, lone surrogates, U+FFFE, U+FFFF) are dropped; everything
+    else, right-to-left marks included, is kept. Escaping of ``<``, ``&`` and quotes is
+    left to the XML writer (lxml).
+
+    Examples
+    --------
+    >>> xml_text("Dock <A> & \\x07B\\u200f")
+    'Dock <A> & B\\u200f'
+    """
+    return _XML_ILLEGAL.sub("", str(value))
+
+
+def json_text(value: object) -> str:
+    """Return `value` as a string that UTF-8 JSON can hold (lone surrogates become U+FFFD)."""
+    return _SURROGATE.sub("\ufffd", str(value))
+
+
+def exact_float(value: float) -> str:
+    """Format a float so that ``float(text) == value`` exactly, in the shortest form.
+
+    Python's ``repr`` gives the shortest string that round-trips (e.g. ``'0.35'``,
+    ``'1e-05'``, ``'5400000.125'``); it is deterministic across platforms.
+
+    Examples
+    --------
+    >>> exact_float(0.1 + 0.2), exact_float(3)
+    ('0.30000000000000004', '3.0')
+    """
+    return repr(float(value))
+
+
+def finite_or_none(value: float | None) -> float | None:
+    """Return `value` as a Python float, or None when it is None, NaN or infinite (JSON-safe)."""
+    if value is None:
+        return None
+    value = float(value)
+    return value if math.isfinite(value) else None
+
+
+def natural_key(text: str) -> tuple:
+    """Sort key that orders ``n2`` before ``n10`` (digit runs compare as numbers)."""
+    return tuple((0, int(part), "") if part.isdigit() else (1, 0, part)
+                 for part in re.split(r"(\d+)", str(text)) if part)

@@ -1,0 +1,79 @@
+"""write_outputs: a set of files lands whole, or the previous set stays byte-identical."""
+
+from __future__ import annotations
+
+import os
+import stat
+
+import pytest
+
+import exporters.files
+from exporters import write_outputs
+
+NEW = {"roadmap.graphml": b"<new graph/>", "roadmap.geojson": b"{}",
+       "roadmap.svg": b"<svg/>", "report.json": b"{\"new\": 1}\n"}
+
+
+def _snapshot(folder) -> dict[str, bytes]:
+    return {path.name: path.read_bytes() for path in sorted(folder.iterdir())}
+
+
+def test_creates_the_folder_and_writes_every_file(tmp_path):
+    outdir = tmp_path / "a" / "b"
+    paths = write_outputs(outdir, NEW)
+    assert [p.name for p in paths] == list(NEW)
+    assert _snapshot(outdir) == dict(sorted(NEW.items()))
+    # common practice: output files readable by everyone, writable by the owner
+    assert stat.S_IMODE((outdir / "report.json").stat().st_mode) == 0o644
+
+
+def test_a_failure_while_writing_leaves_the_previous_set_and_no_temporaries(tmp_path,
+                                                                             monkeypatch):
+    write_outputs(tmp_path, {name: b"old " + name.encode() for name in NEW})
+    before = _snapshot(tmp_path)
+    calls = []
+
+    def failing_fsync(descriptor):
+        calls.append(descriptor)
+        if len(calls) == 4:                       # the last file of the set
+            raise OSError(28, "No space left on device")
+        return os.fsync(descriptor)
+
+    monkeypatch.setattr(exporters.files.os, "fsync", failing_fsync)
+    with pytest.raises(OSError, match="No space left"):
+        write_outputs(tmp_path, NEW)
+    assert _snapshot(tmp_path) == before
+
+
+def test_an_interrupt_while_writing_cleans_up(tmp_path, monkeypatch):
+    write_outputs(tmp_path, {"report.json": b"old"})
+    real_replace = os.replace
+
+    def interrupted(*args):
+        raise KeyboardInterrupt
+    monkeypatch.setattr(exporters.files.os, "replace", interrupted)
+    with pytest.raises(KeyboardInterrupt):
+        write_outputs(tmp_path, NEW)
+    monkeypatch.setattr(exporters.files.os, "replace", real_replace)
+    assert _snapshot(tmp_path) == {"report.json": b"old"}
+
+
+def test_keeps_the_mode_of_a_replaced_file(tmp_path):
+    write_outputs(tmp_path, {"report.json": b"old"})
+    (tmp_path / "report.json").chmod(0o640)
+    write_outputs(tmp_path, {"report.json": b"new"})
+    assert stat.S_IMODE((tmp_path / "report.json").stat().st_mode) == 0o640
+    assert (tmp_path / "report.json").read_bytes() == b"new"
+
+
+@pytest.mark.parametrize("name", ["../escape.json", "sub/report.json", "", ".", "a\0b"])
+def test_refuses_names_with_a_folder_part(tmp_path, name):
+    with pytest.raises(ValueError, match="plain file name"):
+        write_outputs(tmp_path, {name: b"x"})
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_refuses_text_content(tmp_path):
+    with pytest.raises(TypeError, match="bytes"):
+        write_outputs(tmp_path, {"report.json": "not bytes"})
+    assert list(tmp_path.iterdir()) == []
