@@ -1,0 +1,184 @@
+"""Draw two revisions of a lane graph over each other with their differences marked.
+
+Colours come from the Okabe-Ito palette, which stays distinguishable with the common forms of
+colour blindness, and every change also differs in line style or marker shape, so the drawing
+reads in grey-scale print too: removed lanes are dashed vermilion, added lanes solid blue,
+moved nodes black arrows, new pinch points yellow diamonds, unchanged lanes thin grey.
+
+References
+----------
+.. [OI08] M. Okabe, K. Ito, "Color Universal Design (CUD): how to make figures and
+   presentations that are friendly to colorblind people", J*FLY, 2008.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from xml.sax.saxutils import escape
+
+import networkx as nx
+import numpy as np
+import shapely
+
+from roadmap.compare import GraphChanges
+
+#: Okabe-Ito colours by role.
+COLOURS = {"unchanged": "#999999", "removed": "#D55E00", "added": "#0072B2",
+           "moved": "#000000", "pinch": "#F0E442", "pinch_edge": "#E69F00",
+           "station": "#009E73"}
+
+_CONTROL = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\x7f\ufffe\uffff]")
+SAFETY_NOTE = ("Planning aid only: verify on site under ISO 3691-4, the robot maker's "
+               "safety manual and local codes, by qualified people.")
+
+
+def _text(value: str) -> str:
+    """Escape text for SVG; control characters (not allowed in XML 1.0) become U+FFFD."""
+    return escape(_CONTROL.sub("\ufffd", str(value)))
+
+
+
+def render_compare_svg(old: nx.MultiGraph, new: nx.MultiGraph, changes: GraphChanges, *,
+                       width: float = 1200.0, title: str = "") -> bytes:
+    """Render both graphs and `changes` as one SVG document.
+
+    Parameters
+    ----------
+    old, new : networkx.MultiGraph
+        The two revisions, metres.
+    changes : GraphChanges
+        From ``roadmap.compare_graphs(old, new)``.
+    width : float
+        Width of the drawing area, pixels (> 0).
+    title : str
+        Shown above the legend (escaped).
+
+    Returns
+    -------
+    bytes
+        UTF-8 SVG 1.1. Elements carry classes ``lane-unchanged``, ``lane-removed``,
+        ``lane-added``, ``node-added``, ``node-removed``, ``node-moved``, ``pinch``,
+        ``station`` so scripts can count them.
+    """
+    if not (math.isfinite(width) and width > 0):
+        raise ValueError(f"width must be > 0 px, got {width}")
+    xy = [(a["x"], a["y"]) for g in (old, new) for _, a in g.nodes(data=True)]
+    for graph in (old, new):
+        for *_, line in graph.edges(data="geometry"):
+            xy.extend(shapely.get_coordinates(line).tolist())
+    points = np.asarray(xy, dtype=float).reshape(-1, 2)
+    low = points.min(axis=0) if len(points) else np.zeros(2)
+    high = points.max(axis=0) if len(points) else np.ones(2)
+    span = max(float((high - low).max()), 1e-9)
+    pad, label_room = 30.0, 110.0   # label_room: station labels right of the drawing
+    scale = (width - 2 * pad - label_room) / span
+    height = float((high[1] - low[1]) * scale + 2 * pad)
+    legend_height = 188.0
+
+    def to_px(coords) -> str:
+        coords = np.asarray(coords, dtype=float).reshape(-1, 2)
+        px = pad + (coords[:, 0] - low[0]) * scale
+        py = legend_height + pad + (high[1] - coords[:, 1]) * scale
+        return " ".join(f"{a:.2f},{b:.2f}" for a, b in zip(px, py))
+
+    def node_px(graph, node) -> tuple[float, float]:
+        x, y = to_px((graph.nodes[node]["x"], graph.nodes[node]["y"])).split(" ")[0].split(",")
+        return float(x), float(y)
+
+    removed = {change.id for change in changes.edges_removed}
+    added = {change.id for change in changes.edges_added}
+    body = []
+    for u, v, key, line in sorted(new.edges(keys=True, data="geometry"), key=lambda e: e[2]):
+        if key not in added:
+            body.append(f'<polyline class="lane-unchanged" points="{to_px(shapely.get_coordinates(line))}"'
+                        f' stroke="{COLOURS["unchanged"]}" stroke-width="1.5" fill="none"/>')
+    for u, v, key, line in sorted(old.edges(keys=True, data="geometry"), key=lambda e: e[2]):
+        if key in removed:
+            body.append(f'<polyline class="lane-removed" points="{to_px(shapely.get_coordinates(line))}"'
+                        f' stroke="{COLOURS["removed"]}" stroke-width="3" stroke-dasharray="8 5"'
+                        f' fill="none"><title>{_text("removed lane " + key)}</title></polyline>')
+    for u, v, key, line in sorted(new.edges(keys=True, data="geometry"), key=lambda e: e[2]):
+        if key in added:
+            body.append(f'<polyline class="lane-added" points="{to_px(shapely.get_coordinates(line))}"'
+                        f' stroke="{COLOURS["added"]}" stroke-width="3" fill="none">'
+                        f'<title>{_text("added lane " + key)}</title></polyline>')
+    for change in changes.nodes_removed:
+        x, y = node_px(old, change.id)
+        body.append(f'<path class="node-removed" d="M{x - 5:.2f},{y - 5:.2f} l10,10 m0,-10 l-10,10"'
+                    f' stroke="{COLOURS["removed"]}" stroke-width="2.5">'
+                    f'<title>{_text("removed node " + change.id)}</title></path>')
+    for change in changes.nodes_added:
+        x, y = node_px(new, change.id)
+        body.append(f'<circle class="node-added" cx="{x:.2f}" cy="{y:.2f}" r="4.5"'
+                    f' fill="{COLOURS["added"]}"><title>{_text("added node " + change.id)}'
+                    f'</title></circle>')
+    for move in changes.nodes_moved:
+        (x0, y0), (x1, y1) = node_px(old, move.old_id), node_px(new, move.new_id)
+        pixels = math.hypot(x1 - x0, y1 - y0)
+        if 0 < pixels < 16:   # a short move still gets a visible arrow (not to scale)
+            x1, y1 = x0 + (x1 - x0) * 16 / pixels, y0 + (y1 - y0) * 16 / pixels
+        note = f"{move.new_id} moved {move.distance:.3f} m"
+        body.append(f'<g class="node-moved"><circle cx="{x0:.2f}" cy="{y0:.2f}" r="4" fill="none"'
+                    f' stroke="{COLOURS["moved"]}" stroke-width="1.5"/><line x1="{x0:.2f}"'
+                    f' y1="{y0:.2f}" x2="{x1:.2f}" y2="{y1:.2f}" stroke="{COLOURS["moved"]}"'
+                    f' stroke-width="2" marker-end="url(#arrow)"/><title>{_text(note)}</title></g>')
+    for pinch in changes.new_pinch_points:
+        x, y = to_px((pinch.x, pinch.y)).split(",")
+        x, y = float(x), float(y)
+        colour = COLOURS["pinch"] if pinch.element == "node" else COLOURS["pinch_edge"]
+        note = f"new pinch point ({pinch.reason}): clearance {pinch.clearance:.2f} m"
+        body.append(f'<path class="pinch" d="M{x:.2f},{y - 8:.2f} l8,8 l-8,8 l-8,-8 z"'
+                    f' fill="{colour}" stroke="#000000" stroke-width="1">'
+                    f'<title>{_text(note)}</title></path>')
+    for label, node in sorted((a["label"], n) for n, a in new.nodes(data=True) if a.get("label")):
+        x, y = node_px(new, node)
+        body.append(f'<g class="station"><rect x="{x - 4:.2f}" y="{y - 4:.2f}" width="8"'
+                    f' height="8" fill="{COLOURS["station"]}"/><text x="{x + 7:.2f}"'
+                    f' y="{y - 6:.2f}" font-size="12">{_text(label)}</text></g>')
+    head = _legend(changes, title, width)
+    total_height = height + legend_height
+    return ("<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n"
+            f'<svg xmlns="http://www.w3.org/2000/svg" version="1.1" width="{width:.0f}"'
+            f' height="{total_height:.0f}" viewBox="0 0 {width:.0f} {total_height:.0f}"'
+            ' font-family="sans-serif">\n<defs><marker id="arrow" viewBox="0 0 10 10" refX="9"'
+            ' refY="5" markerWidth="7" markerHeight="7" orient="auto"><path d="M0,0 L10,5 L0,10 z"'
+            f' fill="{COLOURS["moved"]}"/></marker></defs>\n'
+            f'<rect width="100%" height="100%" fill="#ffffff"/>\n{head}\n'
+            + "\n".join(body) + "\n</svg>\n").encode("utf-8")
+
+
+def _legend(changes: GraphChanges, title: str, width: float) -> str:
+    rows = [
+        ('<line x1="0" y1="0" x2="30" y2="0" stroke="{unchanged}" stroke-width="1.5"/>',
+         "lane in both revisions"),
+        ('<line x1="0" y1="0" x2="30" y2="0" stroke="{removed}" stroke-width="3"'
+         ' stroke-dasharray="8 5"/>', f"lane removed ({len(changes.edges_removed)}); "
+         f"x = node removed ({len(changes.nodes_removed)})"),
+        ('<line x1="0" y1="0" x2="30" y2="0" stroke="{added}" stroke-width="3"/>',
+         f"lane added ({len(changes.edges_added)}); dot = node added "
+         f"({len(changes.nodes_added)})"),
+        ('<line x1="0" y1="0" x2="28" y2="0" stroke="{moved}" stroke-width="2"'
+         ' marker-end="url(#arrow)"/>', f"node moved, ring = old place "
+         f"({len(changes.nodes_moved)})"),
+        ('<path d="M15,-8 l8,8 l-8,8 l-8,-8 z" fill="{pinch}" stroke="#000000"/>',
+         f"new pinch point ({len(changes.new_pinch_points)})"),
+        ('<rect x="11" y="-4" width="8" height="8" fill="{station}"/>',
+         "station (new revision)"),
+    ]
+    parts = [f'<g class="legend"><text x="20" y="24" font-size="16" font-weight="bold">'
+             f'{_text(title or "Lane graph revision comparison")}</text>',
+             f'<text x="20" y="44" font-size="12">{_text(_lengths(changes))}</text>']
+    for index, (symbol, text) in enumerate(rows):
+        y = 66 + index * 18
+        parts.append(f'<g transform="translate(20,{y})">{symbol.format(**COLOURS)}</g>'
+                     f'<text x="60" y="{y + 4}" font-size="12">{_text(text)}</text>')
+    parts.append(f'<text x="20" y="{66 + len(rows) * 18 + 6}" font-size="11"'
+                 f' fill="#444444">{_text(SAFETY_NOTE)}</text></g>')
+    return "".join(parts)
+
+
+def _lengths(changes: GraphChanges) -> str:
+    changed = len(changes.routes_changed)
+    return (f"lane length {changes.lane_length_before:.1f} m -> {changes.lane_length_after:.1f} m;"
+            f" {changed} station route{'s' if changed != 1 else ''} changed")
