@@ -1,0 +1,139 @@
+"""`clearway route`: routes and the station matrix from a GraphML file, end to end."""
+
+from __future__ import annotations
+
+import csv
+import importlib.util
+import io
+import json
+import sys
+from pathlib import Path
+
+import networkx as nx
+import pytest
+from click.testing import CliRunner
+from scipy.sparse.csgraph import dijkstra
+
+from clearway.cli import main
+
+_spec = importlib.util.spec_from_file_location(
+    "lane_fixtures", Path(__file__).resolve().parent / "lane_fixtures.py")
+fixtures = sys.modules.setdefault("lane_fixtures", importlib.util.module_from_spec(_spec))
+if not hasattr(fixtures, "lane_graph"):
+    _spec.loader.exec_module(fixtures)
+
+
+def site_graph() -> nx.MultiGraph:
+    """Two aisles joined at both ends, a dock, a charger, a pick face and an island station."""
+    return fixtures.lane_graph(
+        {"n0": (0, 0, "station", "DOCK-1", 0.9), "n1": (4, 0, "junction", "", 1.2),
+         "n2": (4, 8, "junction", "", 1.1), "n3": (12, 0, "junction", "", 1.0),
+         "n4": (12, 8, "junction", "", 1.0), "n5": (16, 8, "station", "CHG <2>", 0.7),
+         "n6": (8, 4, "station", "PICK,A", 0.8), "n7": (30, 30, "station", "ISLAND", 2.0)},
+        [("e0", "n0", "n1"), ("e1", "n1", "n2", {"clearance_min": 0.65}), ("e2", "n1", "n3"),
+         ("e3", "n2", "n4"), ("e4", "n3", "n4", {"clearance_min": 0.55}),
+         ("e5", "n4", "n5"), ("e6", "n2", "n6"), ("e7", "n1", "n6", {"via": [(8, 0)]})])
+
+
+@pytest.fixture()
+def graph_file(tmp_path):
+    path = tmp_path / "roadmap.graphml"
+    path.write_bytes(fixtures.write_spec_graphml(site_graph()))
+    return path
+
+
+def run(*args):
+    result = CliRunner().invoke(main, [str(arg) for arg in args])
+    return result
+
+
+def test_route_text_output(graph_file):
+    result = run("route", graph_file, "DOCK-1", "CHG <2>")
+    assert result.exit_code == 0, result.stderr
+    lines = result.stdout.splitlines()
+    # analytic: 4 + 8 + 8 + 4 = 24 m either way round the loop; the lower-numbered lanes
+    # tie-break is not promised, so check the length and the ends
+    assert lines[0].startswith("DOCK-1 -> CHG <2>: 24.000 m, clearance_min ")
+    assert lines[1].startswith("nodes: n0 n1 ") and lines[1].endswith(" n4 n5")
+    assert lines[2].startswith("LINESTRING (0 0, 4 0, ") and lines[2].endswith("16 8)")
+
+
+def test_route_json_matches_scipy(graph_file):
+    result = run("route", graph_file, "n0", "PICK,A", "--json", "--method", "dijkstra")
+    assert result.exit_code == 0, result.stderr
+    answer = json.loads(result.stdout)
+    site = site_graph()
+    order = list(site.nodes)
+    matrix = nx.to_scipy_sparse_array(nx.Graph(site), nodelist=order, weight="weight")
+    # independent reference: scipy.sparse.csgraph on the same lanes
+    expected = dijkstra(matrix, directed=False, indices=order.index("n0"))[order.index("n6")]
+    assert answer["length"] == pytest.approx(expected) and answer["reachable"] is True
+    assert answer["nodes"][0] == "n0" and answer["nodes"][-1] == "n6"
+    assert answer["wkt"].startswith("LINESTRING (0 0, 4 0")
+
+
+def test_route_avoid(graph_file):
+    plain = json.loads(run("route", graph_file, "DOCK-1", "CHG <2>", "--json").stdout)
+    around = run("route", graph_file, "DOCK-1", "CHG <2>", "--json", "--avoid", "n3")
+    assert around.exit_code == 0
+    answer = json.loads(around.stdout)
+    assert "n3" not in answer["nodes"] and answer["length"] == plain["length"] == 24.0
+    # analytic: the only other way is the aisle x = 4 with clearance_min 0.65 m
+    assert answer["nodes"] == ["n0", "n1", "n2", "n4", "n5"] and answer["clearance_min"] == 0.65
+
+
+def test_unreachable_route_exits_1_with_one_line(graph_file):
+    result = run("route", graph_file, "DOCK-1", "ISLAND")
+    assert result.exit_code == 1
+    assert result.stderr.strip().endswith("no route from 'n0' to 'n7'")
+    assert len(result.stderr.splitlines()) == 1 and result.stdout == ""
+
+
+def test_matrix_csv_marks_unreachable_and_is_symmetric(graph_file, tmp_path):
+    out = tmp_path / "matrix.csv"
+    result = run("route", graph_file, "--matrix", "--csv", out)
+    assert result.exit_code == 0, result.stderr
+    rows = list(csv.reader(io.StringIO(out.read_text(encoding="utf-8"))))
+    assert rows[0] == ["station", "CHG <2>", "DOCK-1", "ISLAND", "PICK,A"]
+    cells = {(row[0], name): value for row in rows[1:] for name, value in zip(rows[0][1:], row[1:])}
+    assert cells["DOCK-1", "ISLAND"] == cells["ISLAND", "DOCK-1"] == "unreachable"
+    assert cells["DOCK-1", "CHG <2>"] == "24.000"
+    numbers = {key: float(v) for key, v in cells.items() if v != "unreachable"}
+    assert all(numbers[a, b] == numbers[b, a] for a, b in numbers)
+    assert not list(tmp_path.glob(".clearway-*"))
+
+
+def test_matrix_json(graph_file):
+    answer = json.loads(run("route", graph_file, "--matrix", "--json").stdout)
+    assert answer["stations"] == ["CHG <2>", "DOCK-1", "ISLAND", "PICK,A"]
+    assert answer["matrix"][1][2] is None and answer["matrix"][1][0] == 24.0
+    assert answer["matrix"][2][2] == 0.0
+
+
+@pytest.mark.parametrize(("args", "message"), [
+    (("DOCK-1",), "give FROM and TO, or --matrix"),
+    (("DOCK-1", "CHG <2>", "--matrix"), "give FROM and TO, or --matrix"),
+    (("DOCK-1", "CHG <2>", "--csv", "x.csv"), "--csv needs --matrix"),
+    (("DOCK-1", "NOWHERE"), "no node or station called 'NOWHERE'"),
+    (("DOCK-1", "CHG <2>", "--avoid", "DOCK-1"), "cannot avoid 'n0'"),
+])
+def test_bad_input_exit_2_one_line(graph_file, args, message):
+    result = run("route", graph_file, *args)
+    assert result.exit_code == 2
+    assert message in result.stderr and len(result.stderr.strip().splitlines()) == 1
+
+
+def test_hostile_graph_file_exit_2(tmp_path):
+    path = tmp_path / "evil.graphml"
+    path.write_text('<?xml version="1.0"?><!DOCTYPE g [<!ENTITY x SYSTEM "file:///etc/passwd">]>'
+                    '<graphml xmlns="http://graphml.graphdrawing.org/xmlns">&x;</graphml>')
+    result = run("route", path, "--matrix")
+    assert result.exit_code == 2 and "root:" not in result.stderr + result.stdout
+    assert result.stderr.strip() == (f"Error: {path}: DOCTYPE or ENTITY declarations are not "
+                                     "allowed in a graph file; refusing to read it")
+
+
+def test_missing_graph_file_exit_2(tmp_path):
+    result = run("route", tmp_path / "none.graphml", "a", "b")
+    assert result.exit_code == 2 and "graph file not found" in result.stderr
+    assert len(result.stderr.splitlines()) == 1
