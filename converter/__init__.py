@@ -1,0 +1,12 @@
+"""converter: read a DXF floor plan into obstacle and free-space polygons in metres."""
+
+from converter.convert import LayerRow, LayerTable, list_layers, read_floorplan
+from converter.floorplan import OBSTACLE_ROLES, ROLES, FloorPlan, Leak, Station
+from converter.roles import DEFAULT_ROLE_PATTERNS, ROLE_OPTION_NAMES, Roles
+from converter.units import UNITS_TO_M
+
+__all__ = [
+    "read_floorplan", "list_layers", "LayerTable", "LayerRow",
+    "Roles", "DEFAULT_ROLE_PATTERNS", "ROLE_OPTION_NAMES", "UNITS_TO_M",
+    "FloorPlan", "Station", "Leak", "ROLES", "OBSTACLE_ROLES",
+]

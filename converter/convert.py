@@ -1,0 +1,281 @@
+"""From a DXF file to a FloorPlan in metres, and the layer table people use to choose roles."""
+
+from __future__ import annotations
+
+import json
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+import shapely
+
+from clearway.errors import ConfigError, DrawingError
+from converter.floorplan import OBSTACLE_ROLES, ROLES, FloorPlan, Leak, Station
+from converter.parts import Parts
+from converter.polygons import (as_multipolygon, boundary_regions, filled_regions,
+                                find_leaks, free_space, wall_regions)
+from converter.read import read_drawing
+from converter.roles import ROLE_OPTION_NAMES, Roles
+from converter.units import UNITS_TO_M, decide_units
+
+#: Coordinates are snapped to this grid, metres (0.1 mm), so shared edges match exactly.
+SNAP_M = 1e-4
+
+
+@dataclass(frozen=True)
+class LayerRow:
+    """One layer of the layer table: model-space entity counts, extents (metres), state, role."""
+
+    name: str
+    entities: tuple[tuple[str, int], ...]
+    closed: int
+    open: int
+    extents: tuple[float, float, float, float] | None
+    frozen: bool
+    off: bool
+    role: str | None
+
+
+@dataclass(frozen=True)
+class LayerTable:
+    """The drawing's layers with their roles under the current patterns."""
+
+    source: str
+    units: str
+    m_per_unit: float
+    unit_note: str
+    layers: tuple[LayerRow, ...]
+    paperspace: int = 0
+    warnings: tuple[str, ...] = ()
+
+    def to_dict(self):
+        """Return the table as plain data: {"units", "m_per_unit", "layers": [...]}."""
+        return {"units": self.units, "m_per_unit": self.m_per_unit, "layers": [
+            {"name": row.name, "entities": dict(row.entities),
+             "extents": list(row.extents) if row.extents else None,
+             "frozen": row.frozen, "off": row.off, "role": row.role} for row in self.layers]}
+
+    def to_json(self):
+        """Return the table as JSON text."""
+        return json.dumps(self.to_dict(), indent=2)
+
+
+def _check_options(roles, units, **lengths):
+    if roles is not None and not isinstance(roles, Roles):
+        raise TypeError(f"roles must be a converter.Roles, got {type(roles).__name__}")
+    if units is not None and units not in UNITS_TO_M:
+        raise ConfigError(f"units must be one of {', '.join(UNITS_TO_M)}, got {units!r}")
+    for name, value in lengths.items():
+        if not isinstance(value, (int, float)) or not np.isfinite(value) or value < 0 \
+                or (value == 0 and name in ("chord_tolerance", "max_wall_thickness")):
+            raise ConfigError(f"{name} must be a length > 0 m, got {value!r}")
+
+
+def _read(path, units, chord_tolerance):
+    """Read the drawing and decide its unit: (content, (units, m_per_unit, note, warnings))."""
+    content = read_drawing(path, chord_tolerance=chord_tolerance, units=units)
+    extents = [parts.extents() for parts in content.parts.values() if len(parts)]
+    span = 0.0
+    if extents:
+        box = np.array(extents)
+        span = float(np.max(box[:, 2:].max(axis=0) - box[:, :2].min(axis=0)))
+    return content, decide_units(content.insunits, units, span, source=content.source)
+
+
+def list_layers(path, *, roles=None, units=None):
+    """Return the LayerTable of a drawing: what each layer holds and the role it gets.
+
+    Parameters
+    ----------
+    path : str or Path
+    roles : Roles, optional
+        Layer role patterns; the defaults when None.
+    units : str, optional
+        A key of UNITS_TO_M overriding the header's $INSUNITS.
+
+    Raises
+    ------
+    DrawingError
+        The file is missing, truncated, not DXF or unreadable.
+    """
+    _check_options(roles, units)
+    roles = roles or Roles()
+    content, (unit, factor, note, warnings) = _read(path, units, 0.001)
+    rows = []
+    for name in sorted(content.layer_states, key=str.upper):
+        frozen, off = content.layer_states[name]
+        parts = content.parts.get(name, Parts.empty())
+        boxes = [parts.extents()] if len(parts) else []
+        points = [(x, y) for layer, x, y, *_ in content.points + content.texts if layer == name]
+        if points:
+            xy = np.array(points, dtype=float)
+            boxes.append((*xy.min(axis=0), *xy.max(axis=0)))
+        extents = None
+        if boxes:
+            box = np.array(boxes) * factor
+            extents = tuple(round(float(value), 4) for value in
+                            (*box[:, :2].min(axis=0), *box[:, 2:].max(axis=0)))
+        closed, open_ = content.closed_open.get(name, (0, 0))
+        rows.append(LayerRow(name, tuple(sorted(content.counts.get(name, {}).items())),
+                             closed, open_, extents, bool(frozen), bool(off), roles.role_of(name)))
+    return LayerTable(content.source, unit, factor, note, tuple(rows), content.paperspace,
+                      tuple(content.warnings) + tuple(warnings))
+
+
+def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_tolerance=0.01,
+                   max_wall_thickness=0.6, nominal_wall_thickness=0.05, label_radius=3.0):
+    """Read a DXF floor plan into a FloorPlan in metres.
+
+    Parameters
+    ----------
+    path : str or Path
+    roles : Roles, optional
+        Layer role patterns; the defaults when None.
+    units : str, optional
+        A key of UNITS_TO_M overriding the header's $INSUNITS.
+    chord_tolerance : float
+        Largest distance between a curve and its flattened chords, metres.
+    gap_tolerance : float
+        Endpoint gaps in linework below this are closed, metres.
+    max_wall_thickness : float
+        Enclosed wall-layer faces no wider than this are solid wall, metres.
+    nominal_wall_thickness : float
+        Thickness given to wall lines that enclose nothing, metres.
+    label_radius : float
+        A station without a label attribute takes the nearest station-layer text within
+        this distance, metres.
+
+    Returns
+    -------
+    FloorPlan
+
+    Raises
+    ------
+    DrawingError
+        Unreadable, truncated or non-DXF file, empty model space, a self-inserting block,
+        mapped layers that hold nothing, non-finite coordinates, no enclosed floor,
+        duplicate station labels.
+    ConfigError
+        An option is out of range.
+    """
+    _check_options(roles, units, chord_tolerance=chord_tolerance, gap_tolerance=gap_tolerance,
+                   max_wall_thickness=max_wall_thickness,
+                   nominal_wall_thickness=nominal_wall_thickness, label_radius=label_radius)
+    roles = roles or Roles()
+    content, (unit, factor, note, unit_warnings) = _read(path, units, chord_tolerance)
+    source = content.source
+    if not any(content.counts.values()):
+        raise DrawingError(f"{source}: model space is empty")
+    warnings = list(content.warnings) + list(unit_warnings)
+    visible = {name for name, (frozen, off) in content.layer_states.items() if not (frozen or off)}
+    by_role = {role: [] for role in ROLES}
+    for name in sorted(content.layer_states):
+        role = roles.role_of(name)
+        if role is None or not (content.counts.get(name) or name in content.parts):
+            continue
+        if name not in visible:
+            if content.counts.get(name):
+                warnings.append(f"{source}: layer {name!r} ({role}) is frozen or off; ignored")
+            continue
+        by_role[role].append(name)
+    _check_mapped(content, roles, by_role, source)
+    for (layer, dxftype), count in sorted(content.skipped.items()):
+        if layer in visible and roles.role_of(layer) not in (None, "station"):
+            warnings.append(f"{source}: {count} {dxftype} on layer {layer!r} skipped (not plan geometry)")
+
+    def geometry(role):
+        parts = Parts.concat([content.parts[name] for name in by_role[role] if name in content.parts])
+        return parts.scaled(factor, grid=SNAP_M).geometries()
+
+    common = {"gap_tolerance": gap_tolerance}
+    walls, enclosed = wall_regions(*geometry("wall"), max_wall_thickness=max_wall_thickness,
+                                   nominal_wall_thickness=nominal_wall_thickness, **common)
+    regions = {"wall": walls}
+    for role in ("racking", "keepout", "shared"):
+        regions[role] = filled_regions(*geometry(role), nominal_thickness=nominal_wall_thickness,
+                                       **common)
+    band, inside = boundary_regions(*geometry("boundary"), nominal_thickness=nominal_wall_thickness,
+                                    **common)
+    regions["boundary"] = band
+    leaks = []
+    if by_role["boundary"]:
+        if inside.is_empty:
+            raise DrawingError(f"{source}: the boundary layers ({', '.join(by_role['boundary'])}) "
+                               f"enclose no area; close the outline")
+        container = inside
+    else:
+        leaks, container = find_leaks(walls, enclosed)
+        for x, y, width in leaks:
+            warnings.append(f"{source}: floor escapes to the outside through a {width:.2f} m gap "
+                            f"in the walls at ({x:.2f}, {y:.2f}) m; close it or draw a boundary")
+    free = free_space(container, [regions[role] for role in OBSTACLE_ROLES])
+    if free.is_empty:
+        raise DrawingError(f"{source}: no enclosed floor: the wall layers enclose no free space "
+                           f"and no boundary is drawn; check the layer roles with `clearway layers`")
+    stations = find_stations(content, by_role["station"], factor, label_radius, source)
+    everything = shapely.union_all([region for region in regions.values()] + [free])
+    return FloorPlan(source=source, sha256=content.sha256, units=unit, m_per_unit=factor,
+                     unit_note=note, regions=regions, free_space=free, stations=stations,
+                     leaks=tuple(Leak(round(x, 4), round(y, 4), round(width, 4))
+                                 for x, y, width in leaks),
+                     warnings=tuple(warnings),
+                     extents=tuple(float(value) for value in shapely.bounds(everything)))
+
+
+def _check_mapped(content, roles, by_role, source):
+    """Refuse roles the user mapped that hold nothing, and drawings with no walls at all."""
+    def holds(name):
+        return bool(content.counts.get(name)) or name in content.parts
+    for role in sorted(roles.explicit):
+        if not any(holds(name) for name in by_role[role]):
+            patterns = " ".join(roles.patterns[role])
+            raise DrawingError(f"{source}: --{ROLE_OPTION_NAMES[role]} {patterns!r} matches no "
+                               f"visible layer with entities in model space; see `clearway layers`")
+    if not any(holds(name) for role in ("wall", "boundary") for name in by_role[role]):
+        raise DrawingError(f"{source}: no wall or boundary layer holds entities; map layers with "
+                           f"--walls or --boundary (see `clearway layers`)")
+
+
+def find_stations(content, layers, factor, label_radius, source):
+    """Return the stations on `layers`, labelled, sorted by label (metres)."""
+    layers = set(layers)
+    points = [(x * factor, y * factor, label) for layer, x, y, label, dxftype in content.points
+              if layer in layers and dxftype in ("POINT", "CIRCLE", "INSERT")]
+    texts = [(x * factor, y * factor, text) for layer, x, y, text in content.texts
+             if layer in layers and text]
+    labels = [label for _, _, label in points]
+    if texts and any(label is None for label in labels):
+        unlabelled = [index for index, label in enumerate(labels) if label is None]
+        pxy = np.array([points[index][:2] for index in unlabelled])
+        txy = np.array([text[:2] for text in texts])
+        distance = np.hypot(*(pxy[:, None, :] - txy[None, :, :]).transpose(2, 0, 1))
+        used_points, used_texts = set(), set()
+        for flat in np.argsort(distance, axis=None, kind="stable"):
+            row, column = divmod(int(flat), len(texts))
+            if distance[row, column] > label_radius:
+                break
+            if row in used_points or column in used_texts:
+                continue
+            used_points.add(row)
+            used_texts.add(column)
+            labels[unlabelled[row]] = texts[column][2]
+    order = sorted(range(len(points)), key=lambda index: (points[index][1], points[index][0]))
+    taken = {label for label in labels if label}
+    number = 0
+    for index in order:
+        if labels[index] is None:
+            number += 1
+            while f"STATION-{number:03d}" in taken:
+                number += 1
+            labels[index] = f"STATION-{number:03d}"
+    seen = {}
+    stations = []
+    for (x, y, _), label in zip(points, labels):
+        x, y = round(x / 1e-4) * 1e-4, round(y / 1e-4) * 1e-4
+        if label in seen:
+            (x0, y0) = seen[label]
+            raise DrawingError(f"{source}: two stations are labelled {label!r}, at ({x0:.2f}, "
+                               f"{y0:.2f}) m and ({x:.2f}, {y:.2f}) m; give each a unique label")
+        seen[label] = (x, y)
+        stations.append(Station(label, float(x), float(y)))
+    return tuple(sorted(stations, key=lambda station: station.label))

@@ -1,0 +1,229 @@
+"""Linework to polygons: solid walls, filled areas, the enclosure, free space and leaks.
+
+All lengths in metres. Inputs are shapely arrays as `Parts.geometries` returns them: open
+lines, closed rings (as line strings) and filled polygons.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import shapely
+
+#: Closing widths (metres) tried, smallest first, when looking for gaps in the enclosure.
+LEAK_WIDTHS = (0.25, 0.5, 1.0, 2.0, 4.0, 8.0)
+
+_EMPTY = shapely.MultiPolygon()
+
+
+def as_multipolygon(geometry):
+    """Return the polygonal parts of `geometry` as one MultiPolygon (empty if none)."""
+    parts = shapely.get_parts(geometry)
+    parts = parts[(shapely.get_type_id(parts) == 3) & ~shapely.is_empty(parts)]
+    if not len(parts):
+        return _EMPTY
+    return shapely.multipolygons(parts)
+
+
+def fill_holes(geometry):
+    """Return `geometry` with every hole filled."""
+    parts = shapely.get_parts(as_multipolygon(geometry))
+    if not len(parts):
+        return _EMPTY
+    return shapely.union_all(shapely.polygons(shapely.get_exterior_ring(parts)))
+
+
+def union_polygons(polygons):
+    """Union an array of polygons; a coverage union first when they tile edge to edge.
+
+    Rack bays placed side by side and back to back share their edges exactly (coordinates
+    are snapped), and shapely's coverage union merges such a tiling far faster than a
+    general union. Overlapping input falls back to `shapely.union_all`.
+    """
+    polygons = np.asarray(polygons, dtype=object)
+    polygons = polygons[~shapely.is_empty(polygons)]
+    if len(polygons) == 0:
+        return _EMPTY
+    if len(polygons) > 8:
+        try:
+            merged = shapely.coverage_union_all(polygons)
+            total = float(np.sum(shapely.area(polygons)))
+            if merged.is_valid and abs(merged.area - total) <= 1e-9 * max(total, 1.0):
+                return as_multipolygon(merged)
+        except shapely.errors.GEOSException:
+            pass
+    return as_multipolygon(shapely.union_all(polygons))
+
+
+def node_lines(lines, *, gap_tolerance):
+    """Node linework and close endpoint gaps below `gap_tolerance` metres.
+
+    A free end (a node only one edge reaches) within `gap_tolerance` of other linework is
+    joined to its nearest point there: endpoint to endpoint and endpoint to segment
+    (a T-junction drawn a millimetre short).
+
+    Returns
+    -------
+    ndarray of LineString
+        Noded edges; duplicated, reversed, overlapping and zero-length input does no harm.
+    """
+    lines = np.asarray(lines, dtype=object)
+    lines = lines[~shapely.is_empty(lines) & (shapely.length(lines) > 0)]
+    if not len(lines):
+        return np.empty(0, dtype=object)
+    edges = shapely.get_parts(shapely.line_merge(shapely.union_all(lines)))
+    edges = shapely.get_parts(shapely.union_all(edges))
+    if gap_tolerance <= 0:
+        return edges
+    ends = np.concatenate([shapely.get_coordinates(shapely.get_point(edges, 0)),
+                           shapely.get_coordinates(shapely.get_point(edges, -1))])
+    nodes, counts = np.unique(ends, axis=0, return_counts=True)
+    free = shapely.points(nodes[counts == 1])
+    if not len(free):
+        return edges
+    tree = shapely.STRtree(edges)
+    point_index, edge_index = tree.query(free, predicate="dwithin", distance=gap_tolerance)
+    distance = shapely.distance(free[point_index], edges[edge_index])
+    keep = distance > 0
+    point_index, edge_index, distance = point_index[keep], edge_index[keep], distance[keep]
+    if not len(point_index):
+        return edges
+    order = np.lexsort((distance, point_index))
+    first = order[np.r_[True, point_index[order][1:] != point_index[order][:-1]]]
+    connectors = shapely.shortest_line(free[point_index[first]], edges[edge_index[first]])
+    return shapely.get_parts(shapely.union_all(np.concatenate([edges, connectors])))
+
+
+def bands(lines, width):
+    """Return lines widened to `width` metres (round ends) as a MultiPolygon."""
+    if not len(lines):
+        return _EMPTY
+    return as_multipolygon(shapely.union_all(shapely.buffer(lines, width / 2.0, quad_segs=2)))
+
+
+def wall_regions(lines, rings, fills, *, gap_tolerance, max_wall_thickness, nominal_wall_thickness):
+    """Return (solid walls, enclosed area) from wall-layer linework, metres.
+
+    Linework stays linework: it is noded and polygonized, and a face whose largest inscribed
+    circle has a diameter of at most `max_wall_thickness` is solid (the band between two wall
+    faces, a column drawn as a circle); wider faces are rooms. Edges that bound no solid face
+    (dangling lines, a single-line outline) become bands `nominal_wall_thickness` wide.
+    Filled polygons (hatches, solids, wide polylines) are solid.
+
+    Returns
+    -------
+    solid : MultiPolygon
+    enclosed : MultiPolygon
+        Everything the linework and fills enclose, holes filled (rooms and walls together).
+
+    Examples
+    --------
+    >>> outer = shapely.box(0, 0, 10, 8).exterior
+    >>> inner = shapely.box(0.3, 0.3, 9.7, 7.7).exterior
+    >>> solid, enclosed = wall_regions([], [outer, inner], [], gap_tolerance=0.01,
+    ...     max_wall_thickness=0.6, nominal_wall_thickness=0.05)
+    >>> round(solid.area, 6), enclosed.area
+    (10.44, 80.0)
+    """
+    edges = node_lines(np.concatenate([np.asarray(lines, dtype=object),
+                                       np.asarray(rings, dtype=object)]), gap_tolerance=gap_tolerance)
+    faces = np.empty(0, dtype=object)
+    if len(edges):
+        faces = shapely.get_parts(shapely.polygonize(edges))
+    if len(faces):
+        tolerance = max(max_wall_thickness / 100.0, 1e-4)
+        radius = shapely.length(shapely.maximum_inscribed_circle(faces, tolerance))
+        solid_faces = faces[2.0 * radius <= max_wall_thickness + tolerance]
+    else:
+        solid_faces = faces
+    fills = np.asarray(fills, dtype=object)
+    solid = union_polygons(np.concatenate([solid_faces, fills]))
+    if len(edges):
+        loose = edges[~shapely.covered_by(edges, solid)] if not solid.is_empty else edges
+        solid = as_multipolygon(shapely.union_all([solid, bands(loose, nominal_wall_thickness)]))
+    enclosed = fill_holes(shapely.union_all(np.concatenate([faces, fills, [solid]])))
+    return solid, enclosed
+
+
+def filled_regions(lines, rings, fills, *, gap_tolerance, nominal_thickness):
+    """Return the area racking, keep-out or shared-zone linework covers, metres.
+
+    Closed shapes are filled; open lines that together enclose faces fill those faces;
+    open lines that enclose nothing and lie outside every filled area become bands
+    `nominal_thickness` wide.
+    """
+    rings = np.asarray(rings, dtype=object)
+    polygons = shapely.make_valid(shapely.polygons(rings)) if len(rings) else rings
+    area = union_polygons(np.concatenate([polygons, np.asarray(fills, dtype=object)]))
+    lines = np.asarray(lines, dtype=object)
+    if len(lines) and not area.is_empty:
+        lines = lines[~shapely.covered_by(lines, area)]
+    if not len(lines):
+        return area
+    edges = node_lines(lines, gap_tolerance=gap_tolerance)
+    faces = shapely.get_parts(shapely.polygonize(edges))
+    covered = union_polygons(np.concatenate([faces, [area]]))
+    loose = edges[~shapely.covered_by(edges, covered)]
+    return as_multipolygon(shapely.union_all([covered, bands(loose, nominal_thickness)]))
+
+
+def boundary_regions(lines, rings, fills, *, gap_tolerance, nominal_thickness):
+    """Return (boundary band, area inside the boundary) from boundary-layer linework, metres."""
+    edges = node_lines(np.concatenate([np.asarray(lines, dtype=object),
+                                       np.asarray(rings, dtype=object)]), gap_tolerance=gap_tolerance)
+    faces = shapely.get_parts(shapely.polygonize(edges)) if len(edges) else edges
+    inside = fill_holes(shapely.union_all(np.concatenate([faces, np.asarray(fills, dtype=object)])))
+    return bands(edges, nominal_thickness), inside
+
+
+def free_space(container, obstacles):
+    """Return `container` minus the union of `obstacles`, one polygon per component."""
+    blocked = shapely.union_all([geometry for geometry in obstacles if not geometry.is_empty])
+    free = as_multipolygon(shapely.difference(container, blocked))
+    parts = shapely.get_parts(free)
+    return as_multipolygon(parts[shapely.area(parts) > 1e-6])
+
+
+def find_leaks(walls, enclosed, *, widths=LEAK_WIDTHS, min_area=1.0):
+    """Find gaps in the walls through which the building's floor escapes to the outside.
+
+    The walls are closed morphologically (grown by w / 2, shrunk by w / 2) for growing w.
+    The area this newly encloses at the largest w is the floor that escaped; the smallest w
+    that seals most of it (90 %) finds the gaps: the closing patches touching both that floor
+    and the outside. Patches filling the outside corners of the walls touch no floor.
+
+    Returns
+    -------
+    leaks : list of (x, y, width)
+        Middle of each gap and its width, metres.
+    sealed : MultiPolygon
+        `enclosed` plus the floor the gaps let out.
+    """
+    base = fill_holes(enclosed)
+    if walls.is_empty:
+        return [], base
+    sealed_by_width = []
+    for width in widths:
+        closed = shapely.buffer(shapely.buffer(walls, width / 2.0, join_style="mitre"),
+                                -width / 2.0, join_style="mitre")
+        sealed_by_width.append((width, closed, fill_holes(shapely.union_all([closed, base]))))
+    last_closed, last_sealed = sealed_by_width[-1][1:]
+    escaped = shapely.difference(last_sealed, shapely.union_all([last_closed, base]))
+    if escaped.area < min_area:
+        return [], base
+    outside = shapely.difference(shapely.envelope(walls).buffer(max(widths) * 2.0), base)
+    for width, closed, sealed in sealed_by_width:
+        interior = shapely.difference(sealed, shapely.union_all([closed, base]))
+        if interior.area < 0.9 * escaped.area:
+            continue
+        exterior = shapely.difference(outside, sealed)
+        patches = shapely.get_parts(shapely.difference(closed, walls))
+        near = shapely.buffer(patches, 1e-6)
+        opening = shapely.intersects(near, interior) & shapely.intersects(near, exterior)
+        inner_edge = shapely.boundary(interior)
+        leaks = []
+        for patch, grown in zip(patches[opening], near[opening]):
+            span = shapely.length(shapely.intersection(grown, inner_edge))
+            centre = patch.centroid
+            leaks.append((float(centre.x), float(centre.y), float(span)))
+        return sorted(leaks), as_multipolygon(sealed)
+    return [], base

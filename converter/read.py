@@ -1,0 +1,372 @@
+"""Read a DXF drawing with ezdxf (the only module that imports it) into plain arrays.
+
+Damaged files go through ezdxf's recovery path and its repairs become warnings; truncated or
+non-DXF bytes are refused here, because recovery accepts them silently. Each block definition
+is flattened once per layer (block units) and then placed for all its INSERTs and MINSERT cells
+with numpy (`Parts.placed`), which handles nesting, non-uniform scale, rotation, mirroring and
+extrusion through each INSERT's own transformation matrix.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import hashlib
+import io
+import logging
+import math
+import re
+from collections import Counter, defaultdict
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import shapely
+from ezdxf import recover
+from ezdxf.lldxf.const import DXFError
+from ezdxf.math import X_AXIS, Y_AXIS
+from ezdxf.path import from_hatch
+
+from clearway.errors import DrawingError
+from converter.curves import bulge_polyline, widened_polyline
+from converter.parts import CLOSED, HOLE, OPEN, SHELL, Parts
+from converter.units import INSUNITS_CODES, UNITS_TO_M
+
+BINARY_SENTINEL = b"AutoCAD Binary DXF\r\n\x1a\x00"
+_MARKER = re.compile(rb"^[ \t]*0[ \t]*\r?\n[ \t]*(SECTION|ENDSEC|EOF)[ \t]*\r?$", re.MULTILINE)
+_SECTION_NAME = re.compile(rb"SECTION[ \t]*\r?\n[ \t]*2[ \t]*\r?\n[ \t]*(\w+)")
+_LINEWORK = ("LINE", "LWPOLYLINE", "POLYLINE", "ARC", "CIRCLE", "ELLIPSE", "SPLINE")
+_FILLS = ("HATCH", "SOLID", "TRACE", "3DFACE")
+_TEXTS = ("TEXT", "MTEXT")
+_LABEL_TAGS = ("LABEL", "NAME", "ID", "STATION", "TAG")
+
+
+@dataclass
+class DrawingContent:
+    """Everything clearway uses from a drawing, in drawing units, model space only.
+
+    parts : layer -> Parts (blocks placed; layer 0 inside a block resolved to the INSERT's layer)
+    points : (layer, x, y, label or None, dxftype) for POINT, CIRCLE centres and INSERTs
+    texts : (layer, x, y, text) for TEXT and MTEXT
+    """
+
+    source: str
+    sha256: str
+    insunits: int | None
+    layer_states: dict = field(default_factory=dict)      # name -> (frozen, off)
+    counts: dict = field(default_factory=lambda: defaultdict(Counter))
+    closed_open: dict = field(default_factory=lambda: defaultdict(lambda: [0, 0]))
+    parts: dict = field(default_factory=dict)
+    points: list = field(default_factory=list)
+    texts: list = field(default_factory=list)
+    skipped: Counter = field(default_factory=Counter)     # (layer, dxftype) -> count
+    paperspace: int = 0
+    warnings: list = field(default_factory=list)
+
+
+@contextlib.contextmanager
+def quiet_library():
+    """Keep ezdxf's log records and prints off the user's terminal for the duration."""
+    names = ["ezdxf"] + [name for name in logging.root.manager.loggerDict if name.startswith("ezdxf.")]
+    loggers = [logging.getLogger(name) for name in names]
+    previous = [logger.disabled for logger in loggers]
+    for logger in loggers:
+        logger.disabled = True
+    try:
+        with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):
+            yield
+    finally:
+        for logger, state in zip(loggers, previous):
+            logger.disabled = state
+
+
+def check_dxf_bytes(data, source):
+    """Raise DrawingError unless `data` looks like a complete DXF file."""
+    if not data.strip():
+        raise DrawingError(f"{source}: file is empty")
+    if data[:4] in (b"AC10", b"AC1.", b"AC2."):
+        raise DrawingError(f"{source}: this is a DWG file, not DXF; save it as DXF from the CAD program")
+    if data.startswith(BINARY_SENTINEL):
+        if b"EOF" not in data[-8:]:
+            raise DrawingError(f"{source}: binary DXF is truncated (no end-of-file marker)")
+        return
+    head = data[:4096].lstrip(b"\xef\xbb\xbf").decode("latin-1").splitlines()
+    pairs = [(head[i].strip(), head[i + 1].strip()) for i in range(0, len(head) - 1, 2)]
+    pairs = [pair for pair in pairs if pair[0] != "999"]
+    if not pairs or pairs[0] != ("0", "SECTION"):
+        raise DrawingError(f"{source}: not a DXF file (it does not start with a SECTION)")
+    markers = _MARKER.findall(data)
+    names = _SECTION_NAME.findall(data)
+    depth = 0
+    for marker in markers:
+        if marker == b"SECTION":
+            if depth:
+                break
+            depth = 1
+        elif marker == b"ENDSEC":
+            depth = 0
+        elif marker == b"EOF":
+            break
+    if depth or markers.count(b"SECTION") > markers.count(b"ENDSEC"):
+        name = names[markers.count(b"ENDSEC")].decode() if len(names) > markers.count(b"ENDSEC") else "?"
+        raise DrawingError(f"{source}: file is truncated: section {name} is not terminated")
+    if not markers or markers[-1] != b"EOF":
+        raise DrawingError(f"{source}: file is truncated: no end-of-file marker")
+
+
+def open_document(path):
+    """Read `path` through ezdxf's recovery; return (document, sha256, repair warnings)."""
+    path = Path(path)
+    source = path.name
+    try:
+        data = path.read_bytes()
+    except FileNotFoundError:
+        raise DrawingError(f"{path}: file not found") from None
+    except IsADirectoryError:
+        raise DrawingError(f"{path}: is a folder, not a DXF file") from None
+    except OSError as err:
+        raise DrawingError(f"{path}: cannot read file ({err.strerror})") from None
+    check_dxf_bytes(data, source)
+    try:
+        with quiet_library():
+            doc, auditor = recover.read(io.BytesIO(data))
+    except (DXFError, ValueError, TypeError, KeyError, IndexError, UnicodeError) as err:
+        message = str(err).splitlines()[0] if str(err) else type(err).__name__
+        raise DrawingError(f"{source}: not a readable DXF file ({message})") from None
+    warnings = [f"{source}: repaired: {fix.message}" for fix in auditor.fixes]
+    warnings += [f"{source}: damaged: {error.message}" for error in auditor.errors
+                 if "block reference cycle" not in error.message.lower()]
+    if len(warnings) > 20:
+        warnings = warnings[:20] + [f"{source}: {len(warnings) - 20} more repairs not listed"]
+    return doc, hashlib.sha256(data).hexdigest(), warnings
+
+
+def read_drawing(path, *, chord_tolerance, units=None):
+    """Read a drawing's model space into a DrawingContent (drawing units).
+
+    Parameters
+    ----------
+    path : str or Path
+    chord_tolerance : float
+        Chord tolerance for flattening curves, metres. Must be > 0. It is converted to
+        drawing units with `units`, else the header's $INSUNITS, else metres.
+    units : str, optional
+        A key of UNITS_TO_M.
+
+    Raises
+    ------
+    DrawingError
+        Missing, truncated, non-DXF or unreadable file; a block that inserts itself;
+        coordinates that are not finite.
+    """
+    doc, sha256, warnings = open_document(path)
+    source = Path(path).name
+    insunits = doc.header.get("$INSUNITS", None)
+    unit = units or INSUNITS_CODES.get(insunits, "m")
+    tolerance = chord_tolerance / UNITS_TO_M[unit]
+    content = DrawingContent(source, sha256, insunits, warnings=warnings)
+    for layer in doc.layers:
+        content.layer_states[layer.dxf.name] = (layer.is_frozen(), layer.is_off())
+    content.paperspace = sum(len(layout) for layout in doc.layouts if not layout.is_modelspace)
+    reader = _BlockReader(doc, source)
+    chunks = defaultdict(list)
+    inserts = defaultdict(list)
+    for entity in doc.modelspace():
+        dxftype, layer = entity.dxftype(), entity.dxf.layer
+        content.counts[layer][dxftype] += 1
+        content.layer_states.setdefault(layer, (False, False))
+        if dxftype == "INSERT":
+            matrices = insert_matrices(entity)
+            inserts[(entity.dxf.name, layer)].append(matrices)
+            label = attribute_label(entity)
+            for x, y in matrices[:, 2, :]:
+                content.points.append((layer, float(x), float(y), label, dxftype))
+        elif dxftype == "POINT":
+            location = entity.dxf.location
+            content.points.append((layer, location.x, location.y, None, dxftype))
+        elif dxftype in _TEXTS:
+            content.texts.append(text_item(entity, layer))
+        else:
+            found = flatten_entity(entity, tolerance)
+            if found is None:
+                content.skipped[(layer, dxftype)] += 1
+                continue
+            if dxftype == "CIRCLE":
+                centre = entity.ocs().to_wcs(entity.dxf.center)
+                content.points.append((layer, centre.x, centre.y, None, dxftype))
+            if dxftype in _LINEWORK:
+                closed = any(kind != OPEN for _, kind in found)
+                content.closed_open[layer][0 if closed else 1] += 1
+            chunks[layer].append(Parts.from_list(*zip(*found)) if found else Parts.empty())
+    for (name, insert_layer), matrix_list in inserts.items():
+        if content.layer_states.get(insert_layer, (False, False))[0]:
+            continue  # an INSERT on a frozen layer hides its whole block
+        matrices = np.concatenate(matrix_list)
+        scale = float(np.max(np.linalg.norm(matrices[:, :2, :], ord=2, axis=(1, 2))))
+        for block_layer, parts in reader.block_parts(name, tolerance / max(scale, 1e-9)).items():
+            target = insert_layer if block_layer == "0" else block_layer
+            chunks[target].append(parts.placed(matrices))
+    content.warnings += reader.warnings
+    content.parts = {layer: Parts.concat(found) for layer, found in chunks.items()}
+    for layer, parts in content.parts.items():
+        if not np.isfinite(parts.coords).all():
+            raise DrawingError(f"{source}: layer {layer!r} has coordinates that are not finite")
+    for layer, x, y, *_ in content.points:
+        if not (math.isfinite(x) and math.isfinite(y)):
+            raise DrawingError(f"{source}: layer {layer!r} has coordinates that are not finite")
+    return content
+
+
+def insert_matrices(insert):
+    """Return the (M, 3, 2) row-vector affine matrices of an INSERT (M cells of a MINSERT)."""
+    rows = np.array(list(insert.matrix44().rows()), dtype=float)
+    base = rows[[0, 1, 3], :2]
+    row_count = max(int(insert.dxf.get("row_count", 1)), 1)
+    column_count = max(int(insert.dxf.get("column_count", 1)), 1)
+    if row_count * column_count == 1:
+        return base[None]
+    columns, grid_rows = np.meshgrid(np.arange(column_count), np.arange(row_count))
+    offsets = np.column_stack([columns.ravel() * insert.dxf.column_spacing,
+                               grid_rows.ravel() * insert.dxf.row_spacing])
+    offsets = np.unique(offsets, axis=0)  # zero spacing repeats a cell; keep it once
+    angle = math.radians(insert.dxf.rotation)
+    rotation = np.array([[math.cos(angle), math.sin(angle)], [-math.sin(angle), math.cos(angle)]])
+    ocs = insert.ocs()
+    axes = np.array([list(ocs.to_wcs(X_AXIS))[:2], list(ocs.to_wcs(Y_AXIS))[:2]])
+    matrices = np.repeat(base[None], len(offsets), axis=0)
+    matrices[:, 2, :] += offsets @ rotation @ axes
+    return matrices
+
+
+def attribute_label(insert):
+    """Return an INSERT's label attribute (LABEL, NAME, ID, ... or the first non-empty one)."""
+    values = {attrib.dxf.tag.upper(): attrib.dxf.text.strip() for attrib in insert.attribs}
+    for tag in _LABEL_TAGS:
+        if values.get(tag):
+            return values[tag]
+    return next((value for value in values.values() if value), None)
+
+
+def text_item(entity, layer):
+    """Return (layer, x, y, text) for a TEXT or MTEXT."""
+    if entity.dxftype() == "TEXT":
+        position = entity.ocs().to_wcs(entity.dxf.insert)
+    else:
+        position = entity.dxf.insert
+    return (layer, position.x, position.y, entity.plain_text().strip())
+
+
+def _xy(vertices):
+    return np.array([(vertex.x, vertex.y) for vertex in vertices], dtype=float).reshape(-1, 2)
+
+
+def flatten_entity(entity, tolerance):
+    """Return [(xy, kind), ...] for one entity in its own frame, or None if unsupported."""
+    dxftype = entity.dxftype()
+    if dxftype == "LINE":
+        start, end = entity.dxf.start, entity.dxf.end
+        return [(np.array([[start.x, start.y], [end.x, end.y]]), OPEN)]
+    if dxftype == "LWPOLYLINE":
+        points = np.array(entity.get_points("xyseb"), dtype=float).reshape(-1, 5)
+        return polyline_parts(points, entity.closed, entity.dxf.const_width, entity.ocs(),
+                              entity.dxf.elevation, tolerance)
+    if dxftype == "POLYLINE":
+        if entity.is_2d_polyline:
+            points = np.array([(v.dxf.location.x, v.dxf.location.y,
+                                v.dxf.get("start_width", entity.dxf.default_start_width),
+                                v.dxf.get("end_width", entity.dxf.default_end_width),
+                                v.dxf.bulge) for v in entity.vertices], dtype=float).reshape(-1, 5)
+            return polyline_parts(points, entity.is_closed, 0.0, entity.ocs(),
+                                  entity.dxf.elevation.z, tolerance)
+        if entity.is_3d_polyline:
+            return [(_xy(entity.points()), CLOSED if entity.is_closed else OPEN)]
+        return None
+    if dxftype in ("ARC", "CIRCLE"):
+        xy = _xy(entity.flattening(tolerance))
+        return [(xy, OPEN if dxftype == "ARC" else CLOSED)]
+    if dxftype in ("ELLIPSE", "SPLINE"):
+        xy = _xy(entity.flattening(tolerance))
+        closed = len(xy) > 2 and np.allclose(xy[0], xy[-1], atol=tolerance)
+        return [(xy, CLOSED if closed else OPEN)]
+    if dxftype == "HATCH":
+        rings = [_xy(path.flattening(tolerance)) for path in from_hatch(entity)]
+        rings = [shapely.make_valid(shapely.Polygon(ring)) for ring in rings if len(ring) >= 3]
+        area = shapely.Polygon()
+        for ring in rings:  # boundary paths nest as islands: even-odd
+            area = shapely.symmetric_difference(area, ring)
+        return polygon_rings(area)
+    if dxftype in ("SOLID", "TRACE", "3DFACE"):
+        xy = _xy(entity.wcs_vertices())
+        return [(xy, SHELL)] if len(np.unique(xy, axis=0)) >= 3 else []
+    return None
+
+
+def polyline_parts(points, closed, const_width, ocs, elevation, tolerance):
+    """Flatten a 2-D polyline given as (N, 5) x, y, start width, end width, bulge (OCS)."""
+    if not len(points):
+        return []
+    xy = bulge_polyline(points[:, :2], points[:, 4], closed=closed, tolerance=tolerance)
+    wide = const_width > 0 or np.any(points[:, 2:4] > 0)
+    if wide:
+        widths = np.where(points[:, 2:4] > 0, points[:, 2:4], const_width)
+        band = widened_polyline(points[:, :2], points[:, 4], widths[:, 0], widths[:, 1],
+                                closed=closed, tolerance=tolerance)
+        found = polygon_rings(band)
+    else:
+        found = [(xy, CLOSED if closed else OPEN)]
+    if ocs.uz.isclose((0, 0, 1)):
+        return found
+    return [(_xy(ocs.points_to_wcs([(x, y, elevation) for x, y in ring])), kind)
+            for ring, kind in found]
+
+
+def polygon_rings(area):
+    """Return [(xy, SHELL), (xy, HOLE), ...] for a shapely (Multi)Polygon."""
+    found = []
+    for polygon in shapely.get_parts(area):
+        if polygon.geom_type != "Polygon" or polygon.is_empty:
+            continue
+        found.append((np.asarray(polygon.exterior.coords)[:-1, :2], SHELL))
+        found.extend((np.asarray(ring.coords)[:-1, :2], HOLE) for ring in polygon.interiors)
+    return found
+
+
+class _BlockReader:
+    """Flatten each block definition once per tolerance, nested blocks included."""
+
+    def __init__(self, doc, source):
+        self.doc, self.source = doc, source
+        self.cache, self.active, self.warnings = {}, [], []
+
+    def block_parts(self, name, tolerance):
+        """Return {layer: Parts} of block `name` in block units (layer 0 left as '0')."""
+        tolerance = 2.0 ** math.floor(math.log2(tolerance))  # a few cache buckets
+        if (name, tolerance) in self.cache:
+            return self.cache[(name, tolerance)]
+        if name in self.active:
+            chain = " -> ".join(self.active[self.active.index(name):] + [name])
+            raise DrawingError(f"{self.source}: block {name!r} inserts itself ({chain}); "
+                               f"fix the block definitions")
+        block = self.doc.blocks.get(name)
+        if block is None:
+            self.warnings.append(f"{self.source}: INSERT of undefined block {name!r} skipped")
+            return {}
+        self.active.append(name)
+        chunks = defaultdict(list)
+        for entity in block:
+            layer = entity.dxf.get("layer", "0")
+            if entity.dxftype() == "INSERT":
+                matrices = insert_matrices(entity)
+                scale = float(np.max(np.linalg.norm(matrices[:, :2, :], ord=2, axis=(1, 2))))
+                for child_layer, parts in self.block_parts(entity.dxf.name,
+                                                           tolerance / max(scale, 1e-9)).items():
+                    chunks[layer if child_layer == "0" else child_layer].append(parts.placed(matrices))
+                continue
+            if entity.dxftype() in ("ATTDEF", "ATTRIB") + _TEXTS:
+                continue
+            found = flatten_entity(entity, tolerance)
+            if found:
+                chunks[layer].append(Parts.from_list(*zip(*found)))
+        self.active.pop()
+        result = {layer: Parts.concat(found) for layer, found in chunks.items()}
+        self.cache[(name, tolerance)] = result
+        return result

@@ -1,0 +1,86 @@
+"""Drawing units: $INSUNITS codes, metres per unit, and the unit decision for a drawing."""
+
+from __future__ import annotations
+
+#: Metres per drawing unit, for every unit a user may name (``--units``).
+#: Inch and foot are exact by definition (international yard and pound agreement, 1959).
+UNITS_TO_M: dict[str, float] = {
+    "mm": 0.001,
+    "cm": 0.01,
+    "m": 1.0,
+    "in": 0.0254,
+    "ft": 0.3048,
+    "yd": 0.9144,
+}
+
+#: DXF $INSUNITS codes clearway understands, to unit names of UNITS_TO_M.
+INSUNITS_CODES: dict[int, str] = {1: "in", 2: "ft", 4: "mm", 5: "cm", 6: "m", 10: "yd"}
+
+#: Largest side, metres, of a plausible single floor plan; smallest likewise.
+PLAUSIBLE_SPAN_M = (2.0, 3000.0)
+
+
+def decide_units(insunits, override, span_drawing, *, source):
+    """Decide the drawing's unit.
+
+    Parameters
+    ----------
+    insunits : int or None
+        The header's $INSUNITS value (None when absent).
+    override : str or None
+        A unit name from UNITS_TO_M given by the user; it wins over the header.
+    span_drawing : float
+        The larger side of the drawing's extents, in drawing units (0 when unknown).
+    source : str
+        File name used in messages.
+
+    Returns
+    -------
+    (units, m_per_unit, unit_note, warnings) : (str, float, str, tuple of str)
+
+    Raises
+    ------
+    ValueError
+        `override` is not a key of UNITS_TO_M.
+
+    Examples
+    --------
+    >>> decide_units(4, None, 60000.0, source="a.dxf")[:2]
+    ('mm', 0.001)
+    >>> decide_units(0, None, 60000.0, source="a.dxf")[3]
+    ('a.dxf: drawing has no units ($INSUNITS = 0) and spans 60000 units, implausible in metres; it is likely in mm; pass --units mm',)
+    """
+    if override is not None:
+        if override not in UNITS_TO_M:
+            raise ValueError(f"units must be one of {', '.join(UNITS_TO_M)}, got {override!r}")
+        header = f"$INSUNITS = {insunits}" if insunits is not None else "no $INSUNITS"
+        note = f"Read in {override} as requested (--units {override}; the header says {header})."
+        return override, UNITS_TO_M[override], note, ()
+    if insunits in INSUNITS_CODES:
+        units = INSUNITS_CODES[insunits]
+        return units, UNITS_TO_M[units], f"Read in {units} from the header ($INSUNITS = {insunits}).", ()
+    note = (f"Assumed metres: the header gives no unit clearway knows ($INSUNITS = {insunits}); "
+            f"pass --units to say otherwise.")
+    low, high = PLAUSIBLE_SPAN_M
+    if span_drawing and not low <= span_drawing <= high:
+        likely = likely_unit(span_drawing)
+        hint = f"it is likely in {likely}; pass --units {likely}" if likely else "pass --units"
+        warning = (f"{source}: drawing has no units ($INSUNITS = {insunits}) and spans "
+                   f"{span_drawing:.0f} units, implausible in metres; {hint}")
+        return "m", 1.0, note, (warning,)
+    return "m", 1.0, note, ()
+
+
+def likely_unit(span_drawing):
+    """Return the unit that makes a span of `span_drawing` units a plausible building, or None.
+
+    Examples
+    --------
+    >>> likely_unit(40000.0), likely_unit(1500.0), likely_unit(1e9)
+    ('mm', 'in', None)
+    """
+    low, high = PLAUSIBLE_SPAN_M
+    for units in ("mm", "in", "cm", "ft"):
+        if low <= span_drawing * UNITS_TO_M[units] <= high / 10:
+            return units
+    return None
