@@ -13,7 +13,9 @@ import click
 from networkx import NetworkXNoPath
 
 from clearway import __version__
-from clearway.errors import ClearwayError
+from clearway.config import load_config
+from clearway.errors import ClearwayError, ConfigError
+from converter import ROLE_OPTION_NAMES, UNITS_TO_M, Roles, list_layers
 from exporters import read_graphml, render_compare_svg
 from roadmap import (ROUTE_METHODS, compare_graphs, distance_matrix, shortest_route,
                      summarize_changes)
@@ -33,6 +35,95 @@ def main():
     The graph is a planning aid: verify it on site, under ISO 3691-4, the robot
     maker's safety manual and local codes, by qualified people.
     """
+
+
+#: Drawing settings a config file's [drawing] section may hold, passed to read_floorplan.
+_DRAWING_KEYS = ("chord_tolerance", "gap_tolerance", "max_wall_thickness",
+                 "nominal_wall_thickness", "label_radius")
+
+
+def drawing_options(command):
+    """Add --config, the layer-role options and --units to a command that reads a drawing."""
+    role_help = {"walls": "wall faces, columns", "racking": "racking and shelving",
+                 "keepout": "keep-out zones", "boundary": "the floor's outline",
+                 "stations": "docks, chargers, pick stations",
+                 "shared": "zones shared with people"}
+    decorators = [click.option("--config", "config", metavar="FILE",
+                               help="TOML file with [layers] and [drawing] settings.")]
+    decorators += [click.option(f"--{name}", name, multiple=True, metavar="PATTERN",
+                                help=f"Layer glob for {role_help[name]} (repeatable; "
+                                     f"replaces the default patterns).")
+                   for name in ROLE_OPTION_NAMES.values()]
+    decorators.append(click.option("--units", type=click.Choice(list(UNITS_TO_M)),
+                                   help="Drawing unit, overriding the header's $INSUNITS."))
+    for decorator in reversed(decorators):
+        command = decorator(command)
+    return command
+
+
+def converter_options(options: dict) -> dict:
+    """Return read_floorplan's keyword arguments from command options and the config file.
+
+    The config file (``options["config"]``) gives the base; options given on the command
+    line override it key by key. Raises ConfigError for a bad file or value.
+    """
+    config = load_config(options.get("config"))
+    patterns = dict(config["layers"])
+    for name in ROLE_OPTION_NAMES.values():
+        if options.get(name):
+            patterns[name] = list(options[name])
+    try:
+        roles = Roles.from_options(**patterns)
+    except ValueError as err:
+        raise ConfigError(str(err)) from None
+    drawing = dict(config["drawing"])
+    units = options.get("units") or drawing.pop("units", None)
+    drawing.pop("units", None)
+    if units is not None and units not in UNITS_TO_M:
+        raise ConfigError(f"{options.get('config')}: [drawing] units must be one of "
+                          f"{', '.join(UNITS_TO_M)}, got {units!r}")
+    for key in _DRAWING_KEYS:
+        if options.get(key) is not None:
+            drawing[key] = options[key]
+    return {"roles": roles, "units": units, **drawing}
+
+
+def _format_layer_table(table) -> str:
+    lines = [f"{table.source}: units {table.units} ({table.m_per_unit:g} m per unit). "
+             f"{table.unit_note}",
+             f"{'LAYER':<24} {'ROLE':<9} {'STATE':<7} {'CLOSED':>6} {'OPEN':>5}  "
+             f"{'EXTENTS (m)':<35} ENTITIES"]
+    for row in table.layers:
+        state = "frozen" if row.frozen else "off" if row.off else "-"
+        extents = ("{:.2f},{:.2f} .. {:.2f},{:.2f}".format(*row.extents)
+                   if row.extents else "-")
+        entities = ", ".join(f"{name} {count}" for name, count in row.entities) or "-"
+        lines.append(f"{row.name:<24} {row.role or '-':<9} {state:<7} {row.closed:>6} "
+                     f"{row.open:>5}  {extents:<35} {entities}")
+    lines.append(f"Model space only; entities on frozen or off layers are ignored; "
+                 f"{table.paperspace} paper-space entities ignored.")
+    lines += [f"warning: {warning}" for warning in table.warnings]
+    return "\n".join(lines)
+
+
+@main.command()
+@click.argument("drawing")
+@click.option("--json", "as_json", is_flag=True, help="Print the table as JSON on stdout.")
+@drawing_options
+def layers(drawing, as_json, **options):
+    """List the layers of DRAWING with their entities, extents and layer roles.
+
+    Counts are model-space entities by DXF type (an INSERT counts once, on its own
+    layer); CLOSED and OPEN count closed and open linework; extents are in metres.
+    Use it to choose the patterns for --walls, --racking, --keepout, --boundary,
+    --stations and --shared.
+    """
+    try:
+        kwargs = converter_options(options)
+        table = list_layers(drawing, roles=kwargs["roles"], units=kwargs["units"])
+    except ClearwayError as err:
+        raise InputError(str(err)) from None
+    click.echo(table.to_json() if as_json else _format_layer_table(table))
 
 
 def _replace_file(path: str, data: bytes) -> None:
