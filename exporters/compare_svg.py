@@ -25,8 +25,7 @@ from roadmap.compare import GraphChanges
 
 #: Okabe-Ito colours by role.
 COLOURS = {"unchanged": "#999999", "removed": "#D55E00", "added": "#0072B2",
-           "moved": "#000000", "pinch": "#F0E442", "pinch_edge": "#E69F00",
-           "station": "#009E73"}
+           "moved": "#000000", "pinch": "#F0E442", "station": "#009E73"}
 
 _CONTROL = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\x7f\ufffe\uffff]")
 SAFETY_NOTE = ("Planning aid only: verify on site under ISO 3691-4, the robot maker's "
@@ -71,7 +70,7 @@ def render_compare_svg(old: nx.MultiGraph, new: nx.MultiGraph, changes: GraphCha
     low = points.min(axis=0) if len(points) else np.zeros(2)
     high = points.max(axis=0) if len(points) else np.ones(2)
     span = max(float((high - low).max()), 1e-9)
-    pad, label_room = 30.0, 110.0   # label_room: station labels right of the drawing
+    pad, label_room = 30.0, 150.0   # label_room: station labels right of the drawing
     scale = (width - 2 * pad - label_room) / span
     height = float((high[1] - low[1]) * scale + 2 * pad)
     legend_height = 188.0
@@ -103,11 +102,20 @@ def render_compare_svg(old: nx.MultiGraph, new: nx.MultiGraph, changes: GraphCha
             body.append(f'<polyline class="lane-added" points="{to_px(shapely.get_coordinates(line))}"'
                         f' stroke="{COLOURS["added"]}" stroke-width="3" fill="none">'
                         f'<title>{_text("added lane " + key)}</title></polyline>')
+    for label, node in sorted((a["label"], n) for n, a in new.nodes(data=True) if a.get("label")):
+        x, y = node_px(new, node)
+        body.append(f'<g class="station"><rect x="{x - 4:.2f}" y="{y - 4:.2f}" width="8"'
+                    f' height="8" fill="{COLOURS["station"]}"/><text x="{x + 7:.2f}"'
+                    f' y="{y - 6:.2f}" font-size="12">{_text(label)}</text></g>')
     for change in changes.nodes_removed:
         x, y = node_px(old, change.id)
         body.append(f'<path class="node-removed" d="M{x - 5:.2f},{y - 5:.2f} l10,10 m0,-10 l-10,10"'
                     f' stroke="{COLOURS["removed"]}" stroke-width="2.5">'
                     f'<title>{_text("removed node " + change.id)}</title></path>')
+        if change.label:
+            body.append(f'<text class="station-removed" x="{x + 7:.2f}" y="{y - 6:.2f}"'
+                        f' font-size="12" fill="{COLOURS["removed"]}">'
+                        f'{_text(change.label + " (removed)")}</text>')
     for change in changes.nodes_added:
         x, y = node_px(new, change.id)
         body.append(f'<circle class="node-added" cx="{x:.2f}" cy="{y:.2f}" r="4.5"'
@@ -126,16 +134,11 @@ def render_compare_svg(old: nx.MultiGraph, new: nx.MultiGraph, changes: GraphCha
     for pinch in changes.new_pinch_points:
         x, y = to_px((pinch.x, pinch.y)).split(",")
         x, y = float(x), float(y)
-        colour = COLOURS["pinch"] if pinch.element == "node" else COLOURS["pinch_edge"]
         note = f"new pinch point ({pinch.reason}): clearance {pinch.clearance:.2f} m"
-        body.append(f'<path class="pinch" d="M{x:.2f},{y - 8:.2f} l8,8 l-8,8 l-8,-8 z"'
-                    f' fill="{colour}" stroke="#000000" stroke-width="1">'
-                    f'<title>{_text(note)}</title></path>')
-    for label, node in sorted((a["label"], n) for n, a in new.nodes(data=True) if a.get("label")):
-        x, y = node_px(new, node)
-        body.append(f'<g class="station"><rect x="{x - 4:.2f}" y="{y - 4:.2f}" width="8"'
-                    f' height="8" fill="{COLOURS["station"]}"/><text x="{x + 7:.2f}"'
-                    f' y="{y - 6:.2f}" font-size="12">{_text(label)}</text></g>')
+        body.append(f'<g class="pinch"><path d="M{x:.2f},{y - 8:.2f} l8,8 l-8,8 l-8,-8 z"'
+                    f' fill="{COLOURS["pinch"]}" stroke="#000000" stroke-width="1"/>'
+                    f'<text x="{x + 10:.2f}" y="{y + 14:.2f}" font-size="11">'
+                    f'{pinch.clearance:.2f} m</text><title>{_text(note)}</title></g>')
     head = _legend(changes, title, width)
     total_height = height + legend_height
     return ("<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n"
@@ -162,7 +165,7 @@ def _legend(changes: GraphChanges, title: str, width: float) -> str:
          ' marker-end="url(#arrow)"/>', f"node moved, ring = old place "
          f"({len(changes.nodes_moved)})"),
         ('<path d="M15,-8 l8,8 l-8,8 l-8,-8 z" fill="{pinch}" stroke="#000000"/>',
-         f"new pinch point ({len(changes.new_pinch_points)})"),
+         f"new pinch point, clearance now ({len(changes.new_pinch_points)})"),
         ('<rect x="11" y="-4" width="8" height="8" fill="{station}"/>',
          "station (new revision)"),
     ]

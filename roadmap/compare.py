@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import json
 import math
+import re
 from dataclasses import asdict, dataclass, field
 
 import networkx as nx
@@ -181,8 +182,9 @@ def compare_graphs(old: nx.MultiGraph, new: nx.MultiGraph, *, match_tolerance: f
     return GraphChanges(
         nodes_added=_node_changes(new, set(new) - set(pairs)),
         nodes_removed=_node_changes(old, set(old) - matched_old),
-        nodes_moved=tuple(sorted(moved, key=lambda m: m.new_id)),
-        ids_changed=tuple(sorted((o, n) for n, o in pairs.items() if o != n)),
+        nodes_moved=tuple(sorted(moved, key=lambda m: _natural(m.new_id))),
+        ids_changed=tuple(sorted(((o, n) for n, o in pairs.items() if o != n),
+                                key=lambda pair: _natural(pair[0]))),
         edges_added=_edge_changes(new, lambda key: key not in edge_pairs),
         edges_removed=_edge_changes(old, lambda key: key not in matched_old_edges),
         lane_length_before=_lane_length(old),
@@ -199,6 +201,12 @@ def compare_graphs(old: nx.MultiGraph, new: nx.MultiGraph, *, match_tolerance: f
                   "comfort_clearance": float(comfort_clearance),
                   "narrowing_tolerance": float(narrowing_tolerance)},
     )
+
+
+def _natural(text: str) -> list:
+    """Sort key putting n2 before n10."""
+    return [(0, int(part), "") if part.isdigit() else (1, 0, part)
+            for part in re.split(r"(\d+)", str(text))]
 
 
 def _xy(graph, node) -> tuple[float, float]:
@@ -221,7 +229,7 @@ def _node_changes(graph, nodes) -> tuple[NodeChange, ...]:
 def _edge_changes(graph, keep) -> tuple[EdgeChange, ...]:
     changes = [EdgeChange(key, u, v, float(attrs["length"]), attrs["geometry"].wkt)
                for u, v, key, attrs in graph.edges(keys=True, data=True) if keep(key)]
-    return tuple(sorted(changes, key=lambda change: change.id))
+    return tuple(sorted(changes, key=lambda change: _natural(change.id)))
 
 
 def _lane_length(graph) -> float:
@@ -269,7 +277,7 @@ def _pinch_changes(old, new, pairs, edge_pairs, comfort, tolerance) -> tuple[Pin
             middle = attrs["geometry"].interpolate(0.5, normalized=True)
             found.append(PinchChange("edge", key, float(middle.x), float(middle.y), now, was,
                                      "below comfort"))
-    return tuple(sorted(found, key=lambda p: (p.element, p.id)))
+    return tuple(sorted(found, key=lambda p: (p.element, _natural(p.id))))
 
 
 def summarize_changes(changes: GraphChanges) -> str:

@@ -1,0 +1,181 @@
+"""roadmap.ids: ids survive a rebuild wherever the place is the same; new things get new ids."""
+
+from __future__ import annotations
+
+import importlib.util
+import itertools
+import math
+import random
+import re
+import sys
+from pathlib import Path
+
+import networkx as nx
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from roadmap import assign_stable_ids
+from roadmap.ids import match_nodes
+
+_spec = importlib.util.spec_from_file_location(
+    "lane_fixtures", Path(__file__).resolve().parents[1] / "lane_fixtures.py")
+fixtures = sys.modules.setdefault("lane_fixtures", importlib.util.module_from_spec(_spec))
+if not hasattr(fixtures, "lane_graph"):
+    _spec.loader.exec_module(fixtures)
+lane_graph, grid_graph = fixtures.lane_graph, fixtures.grid_graph
+
+
+def renamed(graph: nx.MultiGraph, seed: int) -> nx.MultiGraph:
+    """The same graph under shuffled node and edge ids, as an independent rebuild gives."""
+    rng = random.Random(seed)
+    nodes = list(graph.nodes)
+    names = [f"v{i}" for i in range(len(nodes))]
+    rng.shuffle(names)
+    mapping = dict(zip(nodes, names))
+    keys = [f"k{i}" for i in range(graph.number_of_edges())]
+    rng.shuffle(keys)
+    result = nx.MultiGraph(**graph.graph)
+    result.add_nodes_from((mapping[n], dict(a)) for n, a in graph.nodes(data=True))
+    result.add_edges_from((mapping[u], mapping[v], key, dict(a)) for (u, v, _, a), key in
+                          zip(graph.edges(keys=True, data=True), keys))
+    return result
+
+
+def position_index(graph):
+    return {(round(a["x"], 6), round(a["y"], 6)): n for n, a in graph.nodes(data=True)}
+
+
+def test_identical_rebuild_gets_every_old_id_back():
+    old = grid_graph(6, 4, jitter=lambda k: (0.01 * (k % 3), 0.02 * (k % 5)))
+    new = assign_stable_ids(renamed(old, seed=3), old)
+    assert position_index(new) == position_index(old)
+    assert sorted(new.edges(keys=True)) == sorted(old.edges(keys=True))
+
+
+def test_planted_revision_keeps_ids_away_from_the_change():
+    old = grid_graph(12, 8, spacing=2.5)
+    # revision: the block x in [10, 15], y in [5, 10] is rebuilt (a rack moved), every
+    # node shifts by up to 8 cm (resampling noise), two nodes beside the block move 0.4 m
+    changed = (10.0, 5.0, 15.0, 10.0)
+    rng = random.Random(11)
+    new = nx.MultiGraph(units="m")
+
+    def inside(x, y, grow=0.0):
+        return (changed[0] - grow <= x <= changed[2] + grow
+                and changed[1] - grow <= y <= changed[3] + grow)
+
+    moved_far = {"n27", "n51"}   # (7.5, 5.0) and (7.5, 10.0): left of the block
+    for node, attrs in old.nodes(data=True):
+        if inside(attrs["x"], attrs["y"]):
+            continue
+        dx, dy = rng.uniform(-0.056, 0.056), rng.uniform(-0.056, 0.056)
+        if node in moved_far:
+            dx, dy = -0.4, 0.0
+        new.add_node(f"t{node}", **{**attrs, "x": attrs["x"] + dx, "y": attrs["y"] + dy})
+    for u, v, attrs in old.edges(data=True):
+        if f"t{u}" in new and f"t{v}" in new:
+            new.add_edge(f"t{u}", f"t{v}", key=f"t{u}-{v}", **attrs)
+    for index, (x, y) in enumerate([(11.0, 6.0), (14.0, 6.0), (11.0, 9.0), (14.0, 9.0)]):
+        new.add_node(f"new{index}", x=x, y=y, kind="junction", label="", clearance=0.8)
+    new.add_edge("new0", "new1", key="x0", **old.edges["n0", "n1", "e0"])
+    new.add_edge("new0", "tn26", key="x1", **old.edges["n0", "n1", "e0"])
+
+    result = assign_stable_ids(new, old)
+    index = {f"t{n}": n for n in old}
+    far, kept = 0, 0
+    for node, attrs in new.nodes(data=True):
+        if node.startswith("new"):
+            continue
+        distance = math.hypot(max(changed[0] - attrs["x"], 0, attrs["x"] - changed[2]),
+                              max(changed[1] - attrs["y"], 0, attrs["y"] - changed[3]))
+        if distance > 5.0:
+            far += 1
+            kept += index[node] in result and result.nodes[index[node]]["x"] == attrs["x"]
+    assert far > 40 and kept == far        # every node > 5 m from the change keeps its id
+    # the two nodes moved 0.4 m (> 0.25 m tolerance) and the four new ones get fresh ids
+    old_top = max(int(n[1:]) for n in old)
+    fresh = sorted((n for n in result if n not in old), key=lambda n: int(n[1:]))
+    assert len(fresh) == 6 and all(int(n[1:]) > old_top for n in fresh)
+    assert not (moved_far & set(result))
+    # edges: kept between carried nodes, fresh ids for the two new lanes
+    old_keys = {k for *_, k in old.edges(keys=True)}
+    new_keys = {k for *_, k in result.edges(keys=True)}
+    assert len(new_keys - old_keys) == 2 + sum(
+        1 for u, v in new.edges() if {u, v} & {f"t{n}" for n in moved_far})
+    for u, v, key in result.edges(keys=True):
+        if key in old_keys:
+            assert old.has_edge(u, v, key)
+    assert all(re.fullmatch(r"e\d+", k) for k in new_keys - old_keys)
+
+
+def test_kind_and_station_label_must_match():
+    old = lane_graph({"n0": (0, 0, "station", "DOCK-1"), "n1": (5, 0, "junction"),
+                      "n2": (9, 0, "end")}, [("e0", "n0", "n1"), ("e1", "n1", "n2")])
+    new = lane_graph({"a": (0.1, 0, "station", "DOCK-2"), "b": (5, 0.1, "junction"),
+                      "c": (9, 0, "waypoint")}, [("x", "a", "b"), ("y", "b", "c")])
+    result = assign_stable_ids(new, old)
+    assert sorted(result.nodes) == ["n1", "n3", "n4"]
+    assert result.nodes["n3"]["label"] == "DOCK-2"       # sorted (x, y): a before c
+    assert sorted(k for *_, k in result.edges(keys=True)) == ["e2", "e3"]
+
+
+def test_nearest_candidate_wins_and_matching_is_one_to_one():
+    old = lane_graph({"n0": (0, 0)}, [])
+    new = lane_graph({"a": (0.2, 0), "b": (0.05, 0), "c": (0, 0.1)}, [])
+    result = assign_stable_ids(new, old)
+    assert result.nodes["n0"]["x"] == 0.05 and sorted(result) == ["n0", "n1", "n2"]
+
+
+def test_parallel_lanes_keep_ids_by_shape():
+    old = lane_graph({"n0": (0, 0), "n1": (10, 0)},
+                     [("e0", "n0", "n1", {"via": [(5, 3)]}), ("e1", "n0", "n1", {"via": [(5, -3)]}),
+                      ("e2", "n0", "n1")])
+    new = lane_graph({"p": (0, 0), "q": (10, 0)},
+                     [("z0", "q", "p", {"via": [(5, -2.8)]}), ("z1", "p", "q"),
+                      ("z2", "p", "q", {"via": [(5, 3.1)]})])
+    result = assign_stable_ids(new, old)
+    shapes = {key: attrs["geometry"].coords[1][1] for *_, key, attrs in
+              result.edges(keys=True, data=True)}
+    # the lane through (5, 3.1) is the old one through (5, 3), and so on
+    assert shapes["e0"] == 3.1 and shapes["e1"] == -2.8 and shapes["e2"] in (0.0, 10.0)
+
+
+def test_deterministic():
+    old = grid_graph(5, 5)
+    new = renamed(grid_graph(6, 5, jitter=lambda k: (0.03, 0.0)), seed=5)
+    first, second = assign_stable_ids(new, old), assign_stable_ids(new, old)
+    assert list(first.nodes(data=True)) == list(second.nodes(data=True))
+    assert list(first.edges(keys=True)) == list(second.edges(keys=True))
+
+
+@settings(max_examples=25, deadline=None)
+@given(st.lists(st.tuples(st.integers(0, 6), st.integers(0, 6)), min_size=1, max_size=5),
+       st.lists(st.tuples(st.integers(0, 6), st.integers(0, 6)), min_size=1, max_size=5))
+def test_matching_is_the_optimum(old_points, new_points):
+    tolerance = 0.25
+    old = lane_graph({f"o{i}": (x / 20, y / 20) for i, (x, y) in enumerate(old_points)}, [])
+    new = lane_graph({f"w{i}": (x / 20, y / 20) for i, (x, y) in enumerate(new_points)}, [])
+    pairs = match_nodes(old, new, tolerance=tolerance)
+    assert len(set(pairs.values())) == len(pairs)                      # one-to-one
+
+    def dist(a, b):
+        return math.dist((new.nodes[a]["x"], new.nodes[a]["y"]),
+                         (old.nodes[b]["x"], old.nodes[b]["y"]))
+
+    assert all(dist(a, b) <= tolerance for a, b in pairs.items())
+    # independent reference: Hopcroft-Karp maximum matching (networkx) for the count,
+    # and brute force over every one-to-one assignment for the smallest total distance
+    candidates = nx.Graph([(a, b) for a in new for b in old if dist(a, b) <= tolerance])
+    top = [a for a in new if a in candidates]
+    best_count = len(nx.bipartite.maximum_matching(candidates, top_nodes=top)) // 2 if top else 0
+    assert len(pairs) == best_count
+    best_total = math.inf
+    options = [[None] + [b for b in old if dist(a, b) <= tolerance] for a in new]
+    for choice in itertools.product(*options):
+        chosen = [c for c in choice if c is not None]
+        if len(chosen) == best_count and len(set(chosen)) == len(chosen):
+            best_total = min(best_total, sum(dist(a, b) for a, b in zip(new, choice)
+                                             if b is not None))
+    total = sum(dist(a, b) for a, b in pairs.items())
+    assert total == pytest.approx(best_total if best_count else 0.0, abs=1e-9)
