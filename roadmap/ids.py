@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import re
 from collections import defaultdict
+from dataclasses import replace
 
 import networkx as nx
 import numpy as np
@@ -23,6 +24,8 @@ from scipy.optimize import linear_sum_assignment
 from scipy.sparse import coo_array
 from scipy.sparse.csgraph import connected_components
 from scipy.spatial import cKDTree
+
+from roadmap.model import Roadmap
 
 _NUMBERED = re.compile(r"^([A-Za-z_]*)(\d+)$")
 
@@ -116,6 +119,19 @@ def fresh_ids(used, prefix: str):
             yield candidate
 
 
+def stable_id_mapping(new_graph: nx.MultiGraph, previous_graph: nx.MultiGraph, *,
+                      tolerance: float = 0.25) -> tuple[dict[str, str], dict[str, str]]:
+    """Return ({new node id: id to use}, {new edge id: id to use}); see `assign_stable_ids`."""
+    pairs = match_nodes(previous_graph, new_graph, tolerance=tolerance)
+    fresh = fresh_ids(previous_graph.nodes, "n")
+    nodes = {}
+    order = sorted(new_graph.nodes, key=lambda n: (new_graph.nodes[n]["x"],
+                                                   new_graph.nodes[n]["y"], str(n)))
+    for node in order:
+        nodes[node] = pairs[node] if node in pairs else next(fresh)
+    return nodes, _match_edges(previous_graph, new_graph, nodes)
+
+
 def assign_stable_ids(new_graph: nx.MultiGraph, previous_graph: nx.MultiGraph, *,
                       tolerance: float = 0.25) -> nx.MultiGraph:
     """Return `new_graph` with node and edge ids carried over from `previous_graph`.
@@ -148,21 +164,35 @@ def assign_stable_ids(new_graph: nx.MultiGraph, previous_graph: nx.MultiGraph, *
     >>> sorted(assign_stable_ids(new, old).nodes)
     ['n7', 'n8']
     """
-    pairs = match_nodes(previous_graph, new_graph, tolerance=tolerance)
-    fresh = fresh_ids(previous_graph.nodes, "n")
-    mapping = {}
-    order = sorted(new_graph.nodes, key=lambda n: (new_graph.nodes[n]["x"],
-                                                   new_graph.nodes[n]["y"], str(n)))
-    for node in order:
-        mapping[node] = pairs[node] if node in pairs else next(fresh)
-    edge_ids = _match_edges(previous_graph, new_graph, mapping)
+    nodes, edges = stable_id_mapping(new_graph, previous_graph, tolerance=tolerance)
+    return _relabel(new_graph, nodes, edges)
+
+
+def _relabel(graph: nx.MultiGraph, nodes: dict, edges: dict) -> nx.MultiGraph:
     result = nx.MultiGraph()
-    result.graph.update(new_graph.graph)
-    result.add_nodes_from((mapping[node], dict(attrs))
-                          for node, attrs in new_graph.nodes(data=True))
-    result.add_edges_from((mapping[u], mapping[v], edge_ids[key], dict(attrs))
-                          for u, v, key, attrs in new_graph.edges(keys=True, data=True))
+    result.graph.update(graph.graph)
+    result.add_nodes_from((nodes[node], dict(attrs)) for node, attrs in graph.nodes(data=True))
+    result.add_edges_from((nodes[u], nodes[v], edges[key], dict(attrs))
+                          for u, v, key, attrs in graph.edges(keys=True, data=True))
     return result
+
+
+def carry_ids_over(roadmap: Roadmap, previous_graph: nx.MultiGraph, *,
+                   tolerance: float = 0.25) -> Roadmap:
+    """Return `roadmap` with its graph's ids carried over from `previous_graph`.
+
+    The findings follow the new ids too (station nodes, pinch point and personnel edges),
+    so the report and the graph keep agreeing. See `assign_stable_ids`.
+    """
+    nodes, edges = stable_id_mapping(roadmap.graph, previous_graph, tolerance=tolerance)
+    findings = roadmap.findings
+    findings = replace(
+        findings,
+        stations=tuple(replace(s, node=nodes.get(s.node, s.node)) for s in findings.stations),
+        pinch_points=tuple(replace(p, edge=edges.get(p.edge, p.edge))
+                           for p in findings.pinch_points),
+        personnel=tuple(replace(p, edge=edges.get(p.edge, p.edge)) for p in findings.personnel))
+    return replace(roadmap, graph=_relabel(roadmap.graph, nodes, edges), findings=findings)
 
 
 def match_edge_pairs(old: nx.MultiGraph, new: nx.MultiGraph,

@@ -12,6 +12,7 @@ from pathlib import Path
 
 import networkx as nx
 import pytest
+import shapely
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
@@ -179,3 +180,22 @@ def test_matching_is_the_optimum(old_points, new_points):
                                              if b is not None))
     total = sum(dist(a, b) for a, b in pairs.items())
     assert total == pytest.approx(best_total if best_count else 0.0, abs=1e-9)
+
+
+def test_carry_ids_over_updates_the_findings_too():
+    from roadmap import carry_ids_over
+    from roadmap.model import Findings, PinchPoint, Robot, Roadmap, StationResult
+    old = lane_graph({"n4": (0, 0, "station", "DOCK-1"), "n9": (6, 0, "end")},
+                     [("e5", "n4", "n9", {"clearance_min": 0.4})])
+    new = lane_graph({"a": (0.02, 0, "station", "DOCK-1"), "b": (6, 0.01, "end"),
+                      "c": (6, 5, "end")}, [("x", "a", "b", {"clearance_min": 0.4}),
+                                            ("y", "b", "c")])
+    findings = Findings(stations=(StationResult("DOCK-1", 0.0, 0.0, "a", 0, True),),
+                        pinch_points=(PinchPoint(3.0, 0.0, 0.4, edge="x"),))
+    built = Roadmap(new, Robot.disc(0.35, margin=0.1), shapely.Point(0, 0), shapely.Point(0, 0),
+                    findings)
+    carried = carry_ids_over(built, old)
+    assert sorted(carried.graph.nodes) == ["n10", "n4", "n9"]
+    assert carried.findings.stations[0].node == "n4"
+    assert carried.findings.pinch_points[0].edge == "e5"
+    assert built.graph is new and sorted(new.nodes) == ["a", "b", "c"]   # input untouched
