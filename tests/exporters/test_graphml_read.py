@@ -222,3 +222,26 @@ def test_billion_laughs_is_refused_quickly(encoding):
     with pytest.raises(GraphFileError, match="DOCTYPE or ENTITY declarations are not allowed"):
         read_graphml(_laughs(encoding))
     assert time.perf_counter() - started < 1.0
+
+
+@pytest.mark.parametrize("shift", [(0.0, 0.0), (5e5, 5.4e6)])
+def test_reads_what_the_exporter_writes(shift):
+    # the hall of hall_fixture.py (also at survey coordinates) through render_graphml
+    from exporters import render_graphml
+    from hall_fixture import make_plan, make_roadmap
+    plan = make_plan(shift=shift)
+    roadmap = make_roadmap(plan)
+    back = read_graphml(render_graphml(plan, roadmap))
+    graph = roadmap.graph
+    assert sorted(back.nodes) == sorted(graph.nodes)
+    assert sorted(back.edges(keys=True)) == sorted(graph.edges(keys=True))
+    for node, attrs in graph.nodes(data=True):
+        for name in ("x", "y", "clearance", "kind", "label"):
+            assert back.nodes[node][name] == attrs[name]       # floats round-trip exactly
+    for u, v, key, attrs in graph.edges(keys=True, data=True):
+        got = back.edges[u, v, key]
+        assert got["geometry"].equals(attrs["geometry"])
+        assert (got["length"], got["weight"], got["clearance_min"]) == (
+            attrs["length"], attrs["weight"], attrs["clearance_min"])
+    assert back.graph["clearance"] == roadmap.robot.clearance
+    assert back.graph["source"] == plan.source and back.graph["sha256"] == plan.sha256
