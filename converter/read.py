@@ -207,6 +207,8 @@ def read_drawing(path, *, chord_tolerance, units=None):
             chunks[target].append(parts.placed(matrices))
     content.warnings += reader.warnings
     content.parts = {layer: Parts.concat(found) for layer, found in chunks.items()}
+    for layer in content.parts:  # layers used inside blocks need not be in the table
+        content.layer_states.setdefault(layer, (False, False))
     for layer, parts in content.parts.items():
         if not np.isfinite(parts.coords).all():
             raise DrawingError(f"{source}: layer {layer!r} has coordinates that are not finite")

@@ -1,0 +1,123 @@
+"""Wall faces, gap closing, filled areas, free space and leaks."""
+
+import numpy as np
+import pytest
+import shapely
+
+from converter import read_floorplan
+from converter.polygons import node_lines, union_polygons, wall_regions
+from tests.conftest import new_drawing, rectangle, save, wall_with_gap, walled_room
+
+
+def test_double_line_wall_band_is_solid_and_the_room_is_free(room_drawing):
+    doc, msp, write = room_drawing
+    plan = read_floorplan(write())
+    # analytic: band between 10 x 8 and 9.6 x 7.6 rectangles
+    assert plan.regions["wall"].area == pytest.approx(80 - 9.6 * 7.6, abs=1e-9)
+    assert plan.free_space.area == pytest.approx(9.6 * 7.6, abs=1e-9)
+    assert len(plan.free_space.geoms) == 1
+
+
+def test_closed_outline_does_not_fill_the_building(tmp_path):
+    doc = new_drawing(6)
+    doc.modelspace().add_lwpolyline(rectangle(0, 0, 20, 10), close=True,
+                                    dxfattribs={"layer": "A-WALL"})
+    plan = read_floorplan(save(doc, tmp_path), nominal_wall_thickness=0.05)
+    # analytic: the single line gets the nominal thickness, 0.025 m either side
+    assert plan.free_space.area == pytest.approx(19.95 * 9.95, rel=1e-6)
+    assert plan.regions["wall"].area < 0.05 * 61
+
+
+def test_round_column_is_solid_and_a_wide_circle_is_a_room(room_drawing):
+    doc, msp, write = room_drawing
+    msp.add_circle((3, 4), 0.25, dxfattribs={"layer": "A-COLS"})
+    msp.add_circle((7, 4), 1.0, dxfattribs={"layer": "A-WALL"})  # 2 m: a round room
+    plan = read_floorplan(write())
+    assert shapely.Point(3, 4).within(plan.regions["wall"])
+    assert shapely.Point(7, 4).within(plan.free_space)
+    # analytic: pi r^2 within the chord bound (1 mm)
+    column = plan.regions["wall"].intersection(shapely.box(2, 3, 4, 5)).area
+    assert np.pi * 0.25 ** 2 - 0.001 * 2 * np.pi * 0.25 <= column <= np.pi * 0.25 ** 2
+    assert len(plan.free_space.geoms) == 2  # the round room is its own component
+
+
+def test_face_wider_than_max_wall_thickness_is_a_room():
+    # analytic: a 0.5 m band is solid under 0.6 m and a room under 0.4 m
+    rings = [shapely.box(0, 0, 10, 10.5).exterior, shapely.box(0.5, 0.5, 9.5, 10).exterior]
+    solid, _ = wall_regions([], rings, [], gap_tolerance=0.01, max_wall_thickness=0.6,
+                            nominal_wall_thickness=0.05)
+    assert solid.area == pytest.approx(10 * 10.5 - 9 * 9.5)
+    solid, _ = wall_regions([], rings, [], gap_tolerance=0.01, max_wall_thickness=0.4,
+                            nominal_wall_thickness=0.05)
+    # analytic: only nominal 0.05 m bands along both rings (perimeters 41 m and 37 m)
+    assert solid.area == pytest.approx(0.05 * (41 + 37), rel=0.01)
+
+
+def test_t_junction_one_millimetre_short_is_closed(room_drawing):
+    doc, msp, write = room_drawing
+    # a partition from the north wall's inner face down to 1 mm above the south wall's
+    for x in (4.95, 5.05):
+        msp.add_line((x, 7.8), (x, 0.201), dxfattribs={"layer": "A-WALL"})
+    plan = read_floorplan(write(), gap_tolerance=0.01)
+    # analytic: the 0.1 m partition splits the 9.6 m x 7.6 m room into two closed rooms
+    areas = sorted(polygon.area for polygon in plan.free_space.geoms)
+    assert len(areas) == 2
+    assert sum(areas) == pytest.approx(9.6 * 7.6 - 0.1 * 7.6, abs=1e-3)
+    assert shapely.Point(5.0, 3.0).within(plan.regions["wall"])
+    # without gap closing the partition's faces enclose nothing: two thin lines, not a wall
+    loose = read_floorplan(write(), gap_tolerance=0.0)
+    assert shapely.Point(5.0, 3.0).within(loose.free_space)
+
+
+def test_endpoint_gap_closed_endpoint_to_endpoint():
+    lines = [shapely.LineString([(0, 0), (1, 0)]), shapely.LineString([(1.005, 0), (2, 0)])]
+    edges = node_lines(lines, gap_tolerance=0.01)
+    assert shapely.union_all(edges).length == pytest.approx(2.0)
+    assert shapely.line_merge(shapely.union_all(edges)).geom_type == "LineString"
+
+
+def test_duplicated_reversed_and_zero_length_lines_do_no_harm(room_drawing):
+    doc, msp, write = room_drawing
+    baseline = read_floorplan(write("a.dxf")).free_space.area
+    msp.add_line((10, 0), (0, 0), dxfattribs={"layer": "A-WALL"})
+    msp.add_line((0, 0), (10, 0), dxfattribs={"layer": "A-WALL"})
+    msp.add_line((0, 0), (5, 0), dxfattribs={"layer": "A-WALL"})
+    msp.add_line((3, 3), (3, 3), dxfattribs={"layer": "A-WALL"})
+    assert read_floorplan(write("b.dxf")).free_space.area == pytest.approx(baseline)
+
+
+def test_leak_is_reported_with_location_and_width(tmp_path):
+    doc = new_drawing(6)
+    wall_with_gap(doc.modelspace(), 0, 0, 20, 12, thickness=0.2, gap=(8.0, 9.2))
+    plan = read_floorplan(save(doc, tmp_path))
+    assert len(plan.leaks) == 1
+    leak = plan.leaks[0]
+    # analytic: the opening spans x 8.0-9.2 in the 0.2 m south wall
+    assert (leak.x, leak.y) == pytest.approx((8.6, 0.1), abs=0.02)
+    assert leak.width == pytest.approx(1.2, abs=0.02)
+    assert any("1.20 m gap" in warning for warning in plan.warnings)
+    # the floor is computed as if the gap were sealed
+    assert plan.free_space.area == pytest.approx(19.6 * 11.6, rel=0.01)
+
+
+def test_wide_dock_opening_leak(tmp_path):
+    doc = new_drawing(4)  # millimetres
+    wall_with_gap(doc.modelspace(), 0, 0, 40000, 25000, thickness=300, gap=(10000, 13500))
+    plan = read_floorplan(save(doc, tmp_path))
+    assert [round(leak.width, 2) for leak in plan.leaks] == [3.5]
+
+
+def test_closed_building_has_no_leak(samples):
+    assert read_floorplan(samples / "clinic.dxf").leaks == ()
+
+
+def test_coverage_union_equals_general_union():
+    # rack bays edge to edge: both unions must agree (shapely's union_all as reference)
+    bays = [shapely.box(x * 2.7, y * 1.1, (x + 1) * 2.7, (y + 1) * 1.1)
+            for x in range(20) for y in range(2)]
+    bays = shapely.set_precision(np.array(bays), 1e-4)
+    fast = union_polygons(bays)
+    assert fast.equals(shapely.union_all(bays))
+    assert fast.area == pytest.approx(40 * 2.97)
+    overlapping = np.array([shapely.box(0, 0, 2, 2)] * 9 + [shapely.box(1, 1, 3, 3)])
+    assert union_polygons(overlapping).area == pytest.approx(7.0)

@@ -1,0 +1,54 @@
+"""Unit factors against their published definitions, and the unit decision."""
+
+from fractions import Fraction
+
+import pytest
+
+from converter import UNITS_TO_M, read_floorplan
+from converter.units import decide_units
+from tests.conftest import new_drawing, save, walled_room
+
+
+def test_inch_and_foot_match_the_1959_definitions():
+    # exact by definition: 1 yd = 0.9144 m, 1 ft = 1/3 yd, 1 in = 1/12 ft
+    # (international yard and pound agreement, 1959)
+    yard = Fraction("0.9144")
+    assert Fraction(UNITS_TO_M["yd"]).limit_denominator(10**6) == yard
+    assert Fraction(UNITS_TO_M["ft"]).limit_denominator(10**6) == yard / 3
+    assert Fraction(UNITS_TO_M["in"]).limit_denominator(10**6) == yard / 36
+    # SI prefixes: milli = 1e-3, centi = 1e-2 (SI Brochure, 9th ed., table 7)
+    assert UNITS_TO_M["mm"] == 1e-3 and UNITS_TO_M["cm"] == 1e-2 and UNITS_TO_M["m"] == 1.0
+
+
+def test_header_units_and_override():
+    # DXF reference, $INSUNITS: 1 = inches, 4 = millimetres
+    assert decide_units(1, None, 100.0, source="a.dxf")[:2] == ("in", 0.0254)
+    units, factor, note, warnings = decide_units(4, "ft", 100.0, source="a.dxf")
+    assert (units, factor, warnings) == ("ft", 0.3048, ())
+    assert "--units ft" in note
+
+
+def test_unitless_drawing_with_millimetre_extents_warns_naming_mm():
+    # common practice: a 60 m building drawn in mm spans 60000 units
+    units, factor, note, warnings = decide_units(0, None, 60000.0, source="a.dxf")
+    assert (units, factor) == ("m", 1.0)
+    assert "Assumed metres" in note
+    assert len(warnings) == 1 and "likely in mm; pass --units mm" in warnings[0]
+
+
+def test_inch_drawing_is_converted_to_metres(tmp_path):
+    doc = new_drawing(1)
+    walled_room(doc.modelspace(), 0, 0, 400, 300, thickness=8)
+    plan = read_floorplan(save(doc, tmp_path))
+    # exact by definition: 1 in = 0.0254 m
+    assert plan.units == "in" and plan.m_per_unit == 0.0254
+    assert plan.extents == pytest.approx((0, 0, 400 * 0.0254, 300 * 0.0254), abs=1e-4)
+    assert plan.free_space.area == pytest.approx(384 * 284 * 0.0254 ** 2, rel=1e-6)
+
+
+def test_units_option_overrides_the_header(tmp_path):
+    doc = new_drawing(6)
+    walled_room(doc.modelspace(), 0, 0, 10000, 8000, thickness=200)
+    plan = read_floorplan(save(doc, tmp_path), units="mm")
+    assert plan.extents == pytest.approx((0, 0, 10, 8), abs=1e-4)
+    assert "--units mm" in plan.unit_note
