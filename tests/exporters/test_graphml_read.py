@@ -5,12 +5,15 @@ from __future__ import annotations
 import importlib.util
 import io
 import math
+import os
 import sys
 import time
 from pathlib import Path
 
 import networkx as nx
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 import shapely
 
 from clearway.errors import GraphFileError, LimitError
@@ -245,3 +248,31 @@ def test_reads_what_the_exporter_writes(shift):
             attrs["length"], attrs["weight"], attrs["clearance_min"])
     assert back.graph["clearance"] == roadmap.robot.clearance
     assert back.graph["source"] == plan.source and back.graph["sha256"] == plan.sha256
+
+
+@settings(max_examples=int(os.environ.get("CLEARWAY_FUZZ_EXAMPLES", "60")), deadline=None)
+@given(st.data())
+def test_mutated_files_give_a_graph_or_one_clear_error(data):
+    # byte-level fuzzing: flips, cuts and insertions anywhere in a valid file
+    original = bytearray(write_spec_graphml(sample_graph()))
+    for _ in range(data.draw(st.integers(1, 4))):
+        where = data.draw(st.integers(0, len(original) - 1))
+        action = data.draw(st.sampled_from(["flip", "cut", "insert"]))
+        if action == "flip":
+            original[where] ^= 1 << data.draw(st.integers(0, 7))
+        elif action == "cut":
+            del original[where:where + data.draw(st.integers(1, 200))]
+        else:
+            original[where:where] = data.draw(st.sampled_from(
+                [b"<", b"&amp;", b"\x00", b"<!ENTITY x 'y'>", b"nan", b"-1e400", b'"', b"]]>"]))
+        if not original:
+            original = bytearray(b" ")
+    try:
+        graph = read_graphml(bytes(original))
+    except (GraphFileError, LimitError) as err:
+        assert "\n" not in str(err) and str(err).startswith("<graph bytes>: ")
+    else:
+        for _, attrs in graph.nodes(data=True):
+            assert math.isfinite(attrs["x"]) and math.isfinite(attrs["y"])
+        for *_, attrs in graph.edges(data=True):
+            assert attrs["weight"] >= 0 and isinstance(attrs["geometry"], shapely.LineString)
