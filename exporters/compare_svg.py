@@ -14,27 +14,24 @@ References
 from __future__ import annotations
 
 import math
-import re
 from xml.sax.saxutils import escape
 
 import networkx as nx
 import numpy as np
 import shapely
 
+from exporters.text import SAFETY_CAUTION, xml_text
 from roadmap.compare import GraphChanges
 
 #: Okabe-Ito colours by role.
 COLOURS = {"unchanged": "#999999", "removed": "#D55E00", "added": "#0072B2",
            "moved": "#000000", "pinch": "#F0E442", "station": "#009E73"}
 
-_CONTROL = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\x7f\ufffe\uffff]")
-SAFETY_NOTE = ("Planning aid only: verify on site under ISO 3691-4, the robot maker's "
-               "safety manual and local codes, by qualified people.")
 
 
 def _text(value: str) -> str:
-    """Escape text for SVG; control characters (not allowed in XML 1.0) become U+FFFD."""
-    return escape(_CONTROL.sub("\ufffd", str(value)))
+    """Escape text for SVG; characters XML 1.0 cannot hold are dropped (as in every export)."""
+    return escape(xml_text(value))
 
 
 
@@ -88,20 +85,20 @@ def render_compare_svg(old: nx.MultiGraph, new: nx.MultiGraph, changes: GraphCha
     removed = {change.id for change in changes.edges_removed}
     added = {change.id for change in changes.edges_added}
     body = []
-    for u, v, key, line in sorted(new.edges(keys=True, data="geometry"), key=lambda e: e[2]):
-        if key not in added:
-            body.append(f'<polyline class="lane-unchanged" points="{to_px(shapely.get_coordinates(line))}"'
-                        f' stroke="{COLOURS["unchanged"]}" stroke-width="1.5" fill="none"/>')
-    for u, v, key, line in sorted(old.edges(keys=True, data="geometry"), key=lambda e: e[2]):
-        if key in removed:
-            body.append(f'<polyline class="lane-removed" points="{to_px(shapely.get_coordinates(line))}"'
-                        f' stroke="{COLOURS["removed"]}" stroke-width="3" stroke-dasharray="8 5"'
-                        f' fill="none"><title>{_text("removed lane " + key)}</title></polyline>')
-    for u, v, key, line in sorted(new.edges(keys=True, data="geometry"), key=lambda e: e[2]):
-        if key in added:
-            body.append(f'<polyline class="lane-added" points="{to_px(shapely.get_coordinates(line))}"'
-                        f' stroke="{COLOURS["added"]}" stroke-width="3" fill="none">'
-                        f'<title>{_text("added lane " + key)}</title></polyline>')
+
+    def lane(line, role: str, style: str, note: str = "") -> str:
+        title = f"<title>{_text(note)}</title>" if note else ""
+        return (f'<polyline class="lane-{role}" points="{to_px(shapely.get_coordinates(line))}"'
+                f' stroke="{COLOURS[role]}" {style} fill="none">{title}</polyline>')
+
+    new_lanes = sorted(new.edges(keys=True, data="geometry"), key=lambda e: e[2])
+    body += [lane(line, "unchanged", 'stroke-width="1.5"')
+             for *_, key, line in new_lanes if key not in added]
+    body += [lane(line, "removed", 'stroke-width="3" stroke-dasharray="8 5"', f"removed lane {key}")
+             for *_, key, line in sorted(old.edges(keys=True, data="geometry"),
+                                         key=lambda e: e[2]) if key in removed]
+    body += [lane(line, "added", 'stroke-width="3"', f"added lane {key}")
+             for *_, key, line in new_lanes if key in added]
     for label, node in sorted((a["label"], n) for n, a in new.nodes(data=True) if a.get("label")):
         x, y = node_px(new, node)
         body.append(f'<g class="station"><rect x="{x - 4:.2f}" y="{y - 4:.2f}" width="8"'
@@ -177,7 +174,7 @@ def _legend(changes: GraphChanges, title: str, width: float) -> str:
         parts.append(f'<g transform="translate(20,{y})">{symbol.format(**COLOURS)}</g>'
                      f'<text x="60" y="{y + 4}" font-size="12">{_text(text)}</text>')
     parts.append(f'<text x="20" y="{66 + len(rows) * 18 + 6}" font-size="11"'
-                 f' fill="#444444">{_text(SAFETY_NOTE)}</text></g>')
+                 f' fill="#444444">{_text(SAFETY_CAUTION)}</text></g>')
     return "".join(parts)
 
 
