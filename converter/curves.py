@@ -15,7 +15,7 @@ def arc_segments(radius, sweep, tolerance):
     Examples
     --------
     >>> arc_segments(1.0, np.pi, 0.001)
-    71
+    36
     """
     radius, sweep = abs(float(radius)), abs(float(sweep))
     if radius <= tolerance or sweep == 0.0:

@@ -22,6 +22,8 @@ from pathlib import Path
 import numpy as np
 import shapely
 from ezdxf import recover
+from ezdxf.document import Drawing
+from ezdxf.lldxf.tagger import binary_tags_loader
 from ezdxf.lldxf.const import DXFError
 from ezdxf.math import X_AXIS, Y_AXIS
 from ezdxf.path import from_hatch
@@ -128,7 +130,11 @@ def open_document(path):
     check_dxf_bytes(data, source)
     try:
         with quiet_library():
-            doc, auditor = recover.read(io.BytesIO(data))
+            if data.startswith(BINARY_SENTINEL):  # recovery reads ASCII only
+                doc = Drawing.load(binary_tags_loader(data))
+                auditor = doc.audit()
+            else:
+                doc, auditor = recover.read(io.BytesIO(data))
     except (DXFError, ValueError, TypeError, KeyError, IndexError, UnicodeError) as err:
         message = str(err).splitlines()[0] if str(err) else type(err).__name__
         raise DrawingError(f"{source}: not a readable DXF file ({message})") from None

@@ -207,3 +207,18 @@ def test_bad_options():
     with pytest.raises(ConfigError, match="units must be one of"):
         read_floorplan("x.dxf", units="furlong")
     assert math.isclose(0.0254 * 36, 0.9144)
+
+
+def test_binary_dxf_reads_like_ascii(tmp_path):
+    doc = new_drawing(6)
+    walled_room(doc.modelspace(), 0, 0, 10, 8)
+    doc.saveas(tmp_path / "binary.dxf", fmt="bin")
+    doc.saveas(tmp_path / "ascii.dxf")
+    binary, ascii_ = read_floorplan(tmp_path / "binary.dxf"), read_floorplan(tmp_path / "ascii.dxf")
+    assert binary.free_space.equals(ascii_.free_space)
+    # analytic: 9.6 m x 7.6 m inside 0.2 m walls
+    assert binary.free_space.area == pytest.approx(9.6 * 7.6)
+    truncated = tmp_path / "cut.dxf"
+    truncated.write_bytes((tmp_path / "binary.dxf").read_bytes()[:-200])
+    with pytest.raises(DrawingError, match="binary DXF is truncated"):
+        read_floorplan(truncated)
