@@ -1,11 +1,27 @@
 """The roadmap stage: from a FloorPlan to the lane graph, routes and revision comparisons."""
 
+from roadmap.build import build_roadmap
 from roadmap.compare import GraphChanges, compare_graphs, summarize_changes
 from roadmap.ids import assign_stable_ids, carry_ids_over
+from roadmap.gvd import MedialAxis, generalized_voronoi, medial_axis
+from roadmap.model import (NODE_KINDS, Findings, NarrowPassage, PersonnelFlag, PinchPoint,
+                           Robot, Roadmap, StationResult)
 from roadmap.routing import (ROUTE_METHODS, Route, distance_matrix, resolve_node,
                              shortest_route)
 
 __all__ = [
+    "Findings",
+    "MedialAxis",
+    "NODE_KINDS",
+    "NarrowPassage",
+    "PersonnelFlag",
+    "PinchPoint",
+    "Robot",
+    "Roadmap",
+    "StationResult",
+    "build_roadmap",
+    "generalized_voronoi",
+    "medial_axis",
     "GraphChanges",
     "ROUTE_METHODS",
     "Route",

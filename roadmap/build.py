@@ -1,0 +1,197 @@
+"""build_roadmap: free space and obstacles in, the lane graph and its findings out."""
+
+from __future__ import annotations
+
+from typing import Callable, Mapping, Sequence
+
+import networkx as nx
+import numpy as np
+import shapely
+from scipy.sparse.csgraph import connected_components
+from scipy.spatial import cKDTree
+
+from roadmap import checks
+from roadmap.gvd import medial_axis
+from roadmap.graph import (_adjacency, chain_lanes, contract_short_edges, prune_spurs,
+                           split_loops)
+from roadmap.inflate import (boundary_segments, clearance_field, drivable_region,
+                             inflate_obstacles, local_offset, polygon_parts, polylines,
+                             to_drawing,
+                             to_local)
+from roadmap.model import Findings, Robot, Roadmap
+from roadmap.lanes import assemble_graph
+from roadmap.stations import Attachment, link_stations, station_regions
+
+#: Douglas-Peucker tolerance for lanes whose clearance exceeds c by more than twice it, m.
+SIMPLIFY = 0.005
+
+
+def _fragments(vertices, clearance, edges, regions, field, c):
+    """Map lane fragments to drivable regions; join split fragments; seed empty regions."""
+    warnings = []
+    count = len(vertices)
+    _, label = connected_components(_adjacency(count, edges), directed=False) \
+        if count else (0, np.zeros(0, dtype=np.int64))
+    best = {}
+    for vertex in np.lexsort((-clearance, label)):
+        best.setdefault(int(label[vertex]), vertex)
+    representative = np.array([best[k] for k in sorted(best)], dtype=np.int64)
+    fragment_region = station_regions(vertices[representative], regions)
+    vertex_region = fragment_region[label] if count else np.zeros(0, dtype=np.int64)
+    keep = vertex_region >= 0
+    extra_edges = []
+    for region in np.unique(fragment_region[fragment_region >= 0]):
+        members = np.flatnonzero(fragment_region == region)
+        joined = {int(members[0])}
+        for fragment in members[1:]:
+            others = np.flatnonzero(np.isin(label, list(joined)))
+            mine = np.flatnonzero(label == fragment)
+            gap, where = cKDTree(vertices[others]).query(vertices[mine])
+            a, b = mine[np.argmin(gap)], others[where[np.argmin(gap)]]
+            _, _, along = field.along([shapely.LineString(vertices[[a, b]])], 0.01)
+            if along.min() >= c - 1e-9:
+                extra_edges.append((min(a, b), max(a, b)))
+            else:
+                warnings.append(f"drivable region {int(region)}: lane left in pieces at "
+                                f"({vertices[a, 0]:.3f}, {vertices[a, 1]:.3f})")
+            joined.add(int(fragment))
+    if extra_edges:
+        edges = np.unique(np.vstack([edges, np.asarray(extra_edges)]), axis=0)
+    seeds = [i for i in range(len(regions)) if i not in set(fragment_region.tolist())]
+    new_points = np.array([shapely.get_coordinates(shapely.polylabel(regions[i], 0.01))[0]
+                           for i in seeds]).reshape(-1, 2)
+    vertices = np.vstack([vertices, new_points])
+    clearance = np.r_[clearance, field.at(new_points)]
+    keep = np.r_[keep, np.ones(len(new_points), bool)]
+    return vertices, clearance, edges, keep, warnings
+
+
+def _lanes(vertices, clearance, edges, isolated, c):
+    chains = chain_lanes(len(vertices), edges)
+    sequences, _ = split_loops(chains, vertices)
+    lines = [vertices[seq] for seq in sequences]
+    geometry = polylines(lines)
+    if len(geometry):
+        wide = np.array([clearance[seq].min() >= c + 2 * SIMPLIFY for seq in sequences])
+        geometry[wide] = shapely.simplify(geometry[wide], SIMPLIFY, preserve_topology=False)
+    ends = [(int(seq[0]), int(seq[-1])) for seq in sequences]
+    return geometry, ends, [int(v) for v in isolated]
+
+
+def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequence[tuple],
+                  *, robot: Robot, shared_zones=None, comfort_clearance: float | None = None,
+                  personnel_clearance: float = 0.5, low_clearance_penalty: float = 0.0,
+                  sample_step: float = 0.2,
+                  progress: Callable[[str], None] | None = None) -> Roadmap:
+    """Build the lane graph of maximum clearance for `robot` in `free_space`.
+
+    Parameters
+    ----------
+    obstacles : mapping of role -> Polygon or MultiPolygon, metres
+        wall, racking, keepout, boundary; used for the inflated obstacles.
+    free_space : Polygon or MultiPolygon, metres
+        The navigable floor, one polygon per enclosed component.
+    stations : sequence of (label, x, y), metres
+    robot : Robot
+        Required clearance c = robot.clearance (radius + margin).
+    shared_zones : Polygon or MultiPolygon, optional
+        Zones shared with people, for personnel flags.
+    comfort_clearance : float, optional
+        Lanes with clearance below it are pinch points (and penalised); default c + 0.2 m.
+    personnel_clearance : float
+        Side clearance required beside the robot in shared zones, metres; 0.5 m from memory
+        of ISO 3691-4's clear zone beside driverless trucks.
+    low_clearance_penalty : float
+        Lanes whose clearance_min is below comfort weigh length * (1 + penalty).
+    sample_step : float
+        Boundary sampling interval of the Voronoi diagram, metres.
+    progress : callable, optional
+        Called with "inflating", "voronoi", "graph", "stations", "checks" as each starts.
+
+    Returns
+    -------
+    Roadmap
+    """
+    if not isinstance(robot, Robot):
+        raise TypeError(f"robot must be a Robot, got {type(robot).__name__}")
+    for name, value in (("sample_step", sample_step), ("personnel_clearance",
+                        personnel_clearance + 1), ("low_clearance_penalty",
+                        low_clearance_penalty + 1)):
+        if not (np.isfinite(value) and value > 0):
+            raise ValueError(f"{name} must be > 0, got {value}")
+    c = float(robot.clearance)
+    comfort = c + 0.2 if comfort_clearance is None else float(comfort_clearance)
+    report = progress or (lambda stage: None)
+    parts = polygon_parts(free_space)
+    if len(parts) == 0:
+        raise ValueError("free space is empty; nothing to build a roadmap on")
+    offset = local_offset(shapely.total_bounds(parts))
+    local = shapely.MultiPolygon(list(to_local(parts, offset)))
+    if not shapely.is_valid(local):
+        local = shapely.MultiPolygon(list(polygon_parts(shapely.make_valid(local))))
+
+    report("inflating")
+    regions = drivable_region(local, c)
+    obstacle_parts = polygon_parts([g for g in obstacles.values() if g is not None]) \
+        if obstacles else np.empty(0, object)
+    inflated = inflate_obstacles(obstacle_parts, c)
+    drivable = shapely.MultiPolygon(list(regions))
+    field = clearance_field(boundary_segments(local)[0])
+
+    report("voronoi")
+    axis = medial_axis(local, step=sample_step)
+
+    report("graph")
+    lane_axis = axis.restrict(axis.clearance >= c)
+    vertices, clearance, edges = contract_short_edges(lane_axis.vertices, lane_axis.clearance,
+                                                      lane_axis.edges)
+    vertices, clearance, edges, keep, warnings = _fragments(vertices, clearance, edges,
+                                                            regions, field, c)
+    edges = edges[keep[edges].all(axis=1)]
+    kept, isolated = prune_spurs(vertices, clearance, edges)
+    lines, ends, isolated = _lanes(vertices, clearance, kept, isolated, c)
+    region_of = station_regions(vertices, regions)
+    lane_region = np.array([region_of[a] for a, _ in ends], dtype=np.int64)
+
+    report("stations")
+    labels = [str(s[0]) for s in stations]
+    station_xy = np.array([(float(s[1]), float(s[2])) for s in stations]).reshape(-1, 2) \
+        - np.asarray(offset)
+    joins = link_stations(station_xy, lines, lane_region, regions, field, local, c)
+    failed = [i for i, j in enumerate(joins) if isinstance(j, str) and j.startswith("no ")]
+    if failed:
+        chains = chain_lanes(len(vertices), edges)
+        full, _ = split_loops(chains, vertices)
+        full_lines = polylines([vertices[s] for s in full])
+        retry = link_stations(station_xy[failed], full_lines,
+                              np.array([region_of[s[0]] for s in full]), regions, field,
+                              local, c)
+        protected = np.zeros(len(vertices), bool)
+        for attachment in retry:
+            if isinstance(attachment, Attachment):
+                seq = full[attachment.lane]
+                step = np.r_[0, np.cumsum(np.hypot(*np.diff(vertices[seq], axis=0).T))]
+                at = int(np.clip(np.searchsorted(step, attachment.along), 1, len(seq) - 1))
+                protected[seq[at - 1:at + 1]] = True
+        if protected.any():
+            kept, isolated = prune_spurs(vertices, clearance, edges, protected=protected)
+            lines, ends, isolated = _lanes(vertices, clearance, kept, isolated, c)
+            lane_region = np.array([region_of[a] for a, _ in ends], dtype=np.int64)
+            joins = link_stations(station_xy, lines, lane_region, regions, field, local, c)
+
+    report("checks")
+    graph, samples, station_nodes = assemble_graph(lines, ends, vertices, isolated, station_xy, labels,
+                                    joins, field, offset)
+    graph.graph.update(units="m", robot_radius=float(robot.radius),
+                       margin=float(robot.margin), clearance=c)
+    drawn = station_xy + np.asarray(offset)
+    findings = checks.run_checks(graph, samples, joins, labels, station_nodes, drawn, axis,
+                                 c, comfort,
+                                 robot=robot, shared_zones=shared_zones,
+                                 personnel_clearance=personnel_clearance,
+                                 low_clearance_penalty=low_clearance_penalty,
+                                 regions=regions, region_of_station=station_regions(
+                                     station_xy, regions), offset=offset,
+                                 warnings=tuple(warnings))
+    return Roadmap(graph=graph, robot=robot, inflated=inflated,
+                   drivable=to_drawing(drivable, offset), findings=findings)

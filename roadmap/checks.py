@@ -1,0 +1,246 @@
+"""What a commissioning engineer must know about a lane graph: the Findings.
+
+- Components of the graph and the stations in each; unreachable pairs.
+- Narrow passages: where the raw free space connects but the drivable region does not. They
+  are found on the medial axis of the raw free space [CB00]_: a stretch of axis whose
+  clearance dips below c between two drivable regions; its width is twice the clearance at
+  the bottleneck (the maximin point, found by merging axis vertices in falling clearance).
+- Pinch points: the lowest point of each run of a lane whose clearance is below the comfort
+  clearance (by default c + 0.2 m).
+- Personnel flags: in zones shared with people, lanes whose clearance minus the robot's
+  half-width is below the personnel clearance (0.5 m by default, from memory of ISO 3691-4's
+  clear zone beside driverless trucks; configurable).
+
+References
+----------
+.. [CB00] H. Choset and J. Burdick, "Sensor-based exploration: the hierarchical generalized
+   Voronoi graph", International Journal of Robotics Research 19(2), 2000.
+"""
+
+from __future__ import annotations
+
+import itertools
+
+import networkx as nx
+import numpy as np
+import shapely
+from scipy.sparse.csgraph import connected_components
+
+from roadmap.graph import _adjacency
+from roadmap.inflate import polygon_parts, to_local
+from roadmap.model import (Findings, NarrowPassage, PersonnelFlag, PinchPoint,
+                           StationResult)
+from roadmap.stations import station_regions
+
+
+def _find(parent, item):
+    while parent[item] != item:
+        parent[item] = parent[parent[item]]
+        item = parent[item]
+    return item
+
+
+def narrow_passages(axis, clearance: float, regions) -> list[tuple[float, float, float, int, int]]:
+    """Return (x, y, width, region_a, region_b) for each place too narrow between two regions.
+
+    Parameters
+    ----------
+    axis : MedialAxis of the raw free space (local frame)
+    clearance : float, required clearance c, metres
+    regions : (K,) Polygon, the drivable regions
+    """
+    count = len(axis.vertices)
+    if count == 0 or len(regions) < 2:
+        return []
+    drivable = axis.clearance >= clearance
+    edges = axis.edges
+    both = drivable[edges].all(axis=1)
+    _, label = connected_components(_adjacency(count, edges[both]), directed=False)
+    fragments = np.unique(label[drivable])
+    best = {}
+    for vertex in np.flatnonzero(drivable)[np.argsort(-axis.clearance[drivable],
+                                                      kind="stable")]:
+        best.setdefault(int(label[vertex]), int(vertex))
+    region_of_fragment = dict(zip(fragments.tolist(), station_regions(
+        axis.vertices[[best[f] for f in fragments]], regions).tolist()))
+    region = np.full(count, -1)
+    region[drivable] = [region_of_fragment[f] for f in label[drivable]]
+    low_edges = edges[~drivable[edges].all(axis=1)]
+    _, low_label = connected_components(_adjacency(count, low_edges[
+        ~drivable[low_edges].any(axis=1)]), directed=False)
+    mixed = low_edges[drivable[low_edges].any(axis=1)]
+    low_end = np.where(drivable[mixed[:, 0]], mixed[:, 1], mixed[:, 0])
+    high_end = np.where(drivable[mixed[:, 0]], mixed[:, 0], mixed[:, 1])
+    touched = {}
+    for low, high in zip(low_label[low_end], region[high_end]):
+        if high >= 0:
+            touched.setdefault(int(low), set()).add(int(high))
+    found = []
+    for component in sorted(k for k, v in touched.items() if len(v) >= 2):
+        members = np.flatnonzero((low_label == component) & ~drivable)
+        inner = low_edges[np.isin(low_edges, members).all(axis=1)]
+        attach = mixed[np.isin(low_end, members)]
+        neighbours = {int(v): [] for v in members}
+        for a, b in inner:
+            neighbours[int(a)].append(int(b))
+            neighbours[int(b)].append(int(a))
+        for a, b in attach:
+            low, high = (a, b) if not drivable[a] else (b, a)
+            if region[high] >= 0:
+                neighbours[int(low)].append(-1 - int(region[high]))
+        parent: dict[int, int] = {}
+        holds: dict[int, int | None] = {}
+        for vertex in members[np.argsort(-axis.clearance[members], kind="stable")]:
+            vertex = int(vertex)
+            parent[vertex], holds[vertex] = vertex, None
+            for other in neighbours[vertex]:
+                if other < 0 and other not in parent:
+                    parent[other], holds[other] = other, -1 - other
+                if other not in parent:
+                    continue
+                ra, rb = _find(parent, vertex), _find(parent, other)
+                if ra == rb:
+                    continue
+                if holds[ra] is not None and holds[rb] is not None:
+                    x, y = axis.vertices[vertex]
+                    found.append((float(x), float(y), float(2 * axis.clearance[vertex]),
+                                  holds[ra], holds[rb]))
+                parent[ra] = rb
+                holds[rb] = holds[rb] if holds[rb] is not None else holds[ra]
+    return found
+
+
+def pinch_points(samples, graph, comfort: float, offset) -> list[PinchPoint]:
+    """Lowest point of every run of lane samples whose clearance is below `comfort` metres."""
+    result, seen = [], set()
+    below = samples.clearance < comfort
+    if not below.any():
+        return result
+    change = np.r_[True, (below[1:] != below[:-1]) | (samples.owner[1:] != samples.owner[:-1])]
+    starts = np.flatnonzero(change)
+    stops = np.r_[starts[1:], len(below)]
+    lookup = {key: (u, v) for u, v, key in graph.edges(keys=True)}
+    for start, stop in zip(starts, stops):
+        if not below[start]:
+            continue
+        key = samples.edge_ids[samples.owner[start]]
+        u, v = lookup[key]
+        line = graph.edges[u, v, key]["geometry"]
+        ends_kind = {graph.nodes[u]["kind"], graph.nodes[v]["kind"]}
+        if "station" in ends_kind and len(line.coords) == 2:
+            continue  # a station's straight approach, not a lane
+        low = start + int(np.argmin(samples.clearance[start:stop]))
+        x, y = samples.xy[low] + np.asarray(offset)
+        spot = (round(float(x), 2), round(float(y), 2))
+        if spot in seen:
+            continue
+        seen.add(spot)
+        result.append(PinchPoint(float(x), float(y), float(samples.clearance[low]), key))
+    return result
+
+
+def personnel_flags(samples, shared_zones, offset, *, half_width: float,
+                    required: float) -> list[PersonnelFlag]:
+    """Flag each edge inside `shared_zones` whose clearance - half_width < `required` m."""
+    if shared_zones is None or len(samples.xy) == 0:
+        return []
+    zones = polygon_parts(shared_zones)
+    if len(zones) == 0:
+        return []
+    zone = shapely.MultiPolygon(list(to_local(zones, offset)))
+    shapely.prepare(zone)
+    inside = shapely.intersects_xy(zone, samples.xy[:, 0], samples.xy[:, 1])
+    side = samples.clearance - half_width
+    flagged = inside & (side < required)
+    result = []
+    for owner in np.unique(samples.owner[flagged]):
+        mine = np.flatnonzero(flagged & (samples.owner == owner))
+        low = mine[np.argmin(side[mine])]
+        x, y = samples.xy[low] + np.asarray(offset)
+        result.append(PersonnelFlag(samples.edge_ids[owner], float(x), float(y),
+                                    float(samples.clearance[low]), float(side[low]),
+                                    float(required)))
+    return result
+
+
+def run_checks(graph: nx.MultiGraph, samples, joins, labels, station_nodes, station_xy, axis,
+               clearance: float, comfort: float, *, robot, shared_zones,
+               personnel_clearance: float, low_clearance_penalty: float, regions,
+               region_of_station, offset, warnings=()) -> Findings:
+    """Weigh the edges and collect every finding (see the module docstring)."""
+    for _, _, data in graph.edges(data=True):
+        penalty = low_clearance_penalty if data["clearance_min"] < comfort else 0.0
+        data["weight"] = float(data["length"] * (1.0 + penalty))
+    number = {node: int(node[1:]) for node in graph}
+    components = sorted(nx.connected_components(graph),
+                        key=lambda nodes: min(number[n] for n in nodes))
+    station_count = [sum(graph.nodes[n]["kind"] == "station" for n in nodes)
+                     for nodes in components]
+    order = sorted(range(len(components)), key=lambda i: -station_count[i])
+    components = [components[i] for i in order]
+    component_of = {node: k for k, nodes in enumerate(components) for node in nodes}
+    passages = narrow_passages(axis, clearance, regions)
+    main_regions = set()
+    if components:
+        main_xy = np.array([[graph.nodes[n]["x"], graph.nodes[n]["y"]]
+                            for n in components[0]]) - np.asarray(offset)
+        main_regions = set(station_regions(main_xy, regions).tolist()) - {-1}
+    blocks: dict[int, list[str]] = {}
+    pending = []
+    for index, join in enumerate(joins):
+        node = station_nodes.get(index)
+        component = component_of.get(node) if node is not None else None
+        reachable = component == 0
+        reason = "" if reachable else (join if isinstance(join, str) else
+                                       f"in graph component {component}, apart from "
+                                       f"component 0")
+        if node is not None and not reachable:
+            bottleneck = _bottleneck(passages, region_of_station[index], main_regions)
+            if bottleneck is not None:
+                blocks.setdefault(bottleneck, []).append(labels[index])
+                px, py, width = passages[bottleneck][:3]
+                reason += (f"; narrowest place {width:.2f} m wide at "
+                           f"({px + offset[0]:.2f}, {py + offset[1]:.2f})")
+        pending.append((index, node, component, reachable, reason))
+    stations = tuple(StationResult(labels[i], float(x), float(y), node, component, reachable,
+                                   reason)
+                     for (i, node, component, reachable, reason), (x, y) in zip(
+                         pending, station_xy))
+    station_labels = tuple(tuple(sorted(graph.nodes[n]["label"] for n in nodes
+                                        if graph.nodes[n]["kind"] == "station"))
+                           for nodes in components)
+    unreachable = tuple(
+        (a.label, b.label) for a, b in itertools.combinations(
+            sorted(stations, key=lambda r: r.label), 2)
+        if a.component is None or b.component is None or a.component != b.component)
+    narrow = tuple(NarrowPassage(x + offset[0], y + offset[1], width,
+                                 tuple(sorted(blocks.get(i, ()))))
+                   for i, (x, y, width, _, _) in enumerate(passages))
+    return Findings(
+        stations=stations, components=station_labels, unreachable_pairs=unreachable,
+        pinch_points=tuple(pinch_points(samples, graph, comfort, offset)),
+        narrow_passages=narrow,
+        personnel=tuple(personnel_flags(samples, shared_zones, offset,
+                                        half_width=robot.half_width,
+                                        required=personnel_clearance)),
+        warnings=tuple(warnings))
+
+
+def _bottleneck(passages, region, targets):
+    """Index of the narrowest passage on the widest route from `region` to `targets`."""
+    if region < 0 or not targets:
+        return None
+    parent = {}
+    for index in sorted(range(len(passages)), key=lambda i: -passages[i][2]):
+        a, b = passages[index][3], passages[index][4]
+        for item in (a, b):
+            parent.setdefault(item, item)
+        ra, rb = _find(parent, a), _find(parent, b)
+        if ra != rb:
+            parent[ra] = rb
+        parent.setdefault(region, region)
+        for target in targets:
+            parent.setdefault(target, target)
+            if _find(parent, region) == _find(parent, target):
+                return index
+    return None

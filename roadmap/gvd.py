@@ -1,0 +1,256 @@
+"""The generalized Voronoi diagram of the obstacles, from a Voronoi diagram of boundary samples.
+
+The generalized Voronoi diagram (GVD) of the obstacles inside the free space is the set of
+points with two or more nearest obstacle points: the medial axis of the free space. Restricted
+to clearance >= c it is the GVD of the obstacles grown by c, the roadmap of maximum clearance
+[CB00]_, [Lat91]_, [LaV06]_.
+
+Method: sample the free space's boundary every `step` metres plus every vertex, jitter the
+samples by a micrometre (Qhull is slow on regular grids), triangulate them (Delaunay), and
+take the circumcentres (the Voronoi vertices) that fall inside the free space, joined by the
+Voronoi ridges between samples that are not neighbours along the boundary. Each Voronoi
+vertex is then moved onto the exact bisector of the boundary segments its three samples lie
+on (a few Gauss-Newton steps on the distance differences), which removes the sampling error
+of about ``(step / 2)**2 / (2 * width)`` and keeps lanes through necks only millimetres wider
+than 2c. Everything runs on numpy arrays; no Python loop touches a ridge.
+
+References
+----------
+.. [CB00] H. Choset and J. Burdick, "Sensor-based exploration: the hierarchical generalized
+   Voronoi graph", International Journal of Robotics Research 19(2), 2000.
+.. [Lat91] J.-C. Latombe, Robot Motion Planning, Kluwer, 1991, ch. 4 (retraction).
+.. [LaV06] S. M. LaValle, Planning Algorithms, Cambridge University Press, 2006, sec. 6.2.3.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import shapely
+from scipy.spatial import Delaunay, QhullError
+
+from roadmap.inflate import boundary_segments
+
+#: Jitter of the samples before triangulation, metres (deterministic, seeded).
+JITTER = 1e-6
+#: Vertices are merged when they agree to this grid after correction, metres.
+MERGE_GRID = 1e-5
+
+
+@dataclass(frozen=True)
+class MedialAxis:
+    """A sampled medial axis: vertices, their clearance and the ridges joining them.
+
+    Attributes
+    ----------
+    vertices : (V, 2) float ndarray, metres (local frame)
+    clearance : (V,) float ndarray, metres; distance to the boundary segments of the
+        vertex's generating samples after correction (exact up to rounding on the axis).
+    edges : (E, 2) int ndarray; vertex index pairs, u < v, unique, no self-loops.
+    """
+
+    vertices: np.ndarray
+    clearance: np.ndarray
+    edges: np.ndarray
+
+    def restrict(self, keep: np.ndarray) -> "MedialAxis":
+        """Return the sub-axis on vertices where `keep` (V,) is true, re-indexed."""
+        new_index = np.cumsum(keep) - 1
+        both = keep[self.edges].all(axis=1)
+        return MedialAxis(self.vertices[keep], self.clearance[keep],
+                          new_index[self.edges[both]].reshape(-1, 2))
+
+
+def sample_boundary(segments: np.ndarray, following: np.ndarray, step: float):
+    """Sample every segment every `step` metres, starting at each segment's first vertex.
+
+    Parameters
+    ----------
+    segments : (S, 2, 2) float ndarray, metres
+    following : (S,) int ndarray, the next segment along the ring
+    step : float, metres, > 0
+
+    Returns
+    -------
+    xy : (N, 2) float ndarray
+    owner : (N,) int ndarray, the segment of each sample
+    successor : (N,) int ndarray, the next sample along the ring
+    """
+    start, end = segments[:, 0], segments[:, 1]
+    pieces = np.maximum(1, np.ceil(np.hypot(*(end - start).T) / step)).astype(np.int64)
+    owner = np.repeat(np.arange(len(segments)), pieces)
+    first = np.cumsum(pieces) - pieces
+    within = np.arange(len(owner)) - first[owner]
+    t = (within / pieces[owner])[:, None]
+    xy = start[owner] * (1 - t) + end[owner] * t
+    is_last = within == pieces[owner] - 1
+    successor = np.where(is_last, first[following[owner]], np.arange(len(owner)) + 1)
+    return xy, owner, successor
+
+
+def _circumcentres(points: np.ndarray, simplices: np.ndarray):
+    a = points[simplices[:, 0]]
+    b = points[simplices[:, 1]] - a
+    c = points[simplices[:, 2]] - a
+    d = 2.0 * (b[:, 0] * c[:, 1] - b[:, 1] * c[:, 0])
+    bb, cc = (b * b).sum(axis=1), (c * c).sum(axis=1)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ux = (c[:, 1] * bb - b[:, 1] * cc) / d
+        uy = (b[:, 0] * cc - c[:, 0] * bb) / d
+    return a + np.stack([ux, uy], axis=1)
+
+
+def _nearest_on(points, start, end):
+    """Nearest point on segments start-end (K, 2) to points (K, 2) and its distance."""
+    direction = end - start
+    length2 = (direction * direction).sum(axis=1)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t = np.clip(((points - start) * direction).sum(axis=1) / length2, 0.0, 1.0)
+    t = np.where(length2 > 0, t, 0.0)
+    nearest = start + t[:, None] * direction
+    return nearest, np.hypot(*(points - nearest).T)
+
+
+def _feature_distance(points, segments, previous, following, owner):
+    """Distance from points (K, 2) to the segment `owner` (K,) and its two ring neighbours."""
+    best_point, best = _nearest_on(points, segments[owner, 0], segments[owner, 1])
+    for other in (previous[owner], following[owner]):
+        near, dist = _nearest_on(points, segments[other, 0], segments[other, 1])
+        closer = dist < best
+        best = np.where(closer, dist, best)
+        best_point = np.where(closer[:, None], near, best_point)
+    return best_point, best
+
+
+def _pseudo_inverse(matrices: np.ndarray) -> np.ndarray:
+    """Closed-form pseudo-inverse of (K, 2, 2) matrices (inverse, or J^T / |J|^2 at rank 1)."""
+    a, b = matrices[:, 0, 0], matrices[:, 0, 1]
+    c, d = matrices[:, 1, 0], matrices[:, 1, 1]
+    det = a * d - b * c
+    norm2 = a * a + b * b + c * c + d * d
+    regular = np.abs(det) > 1e-3 * norm2
+    safe_det = np.where(regular, det, 1.0)
+    inverse = np.stack([np.stack([d, -b], axis=1), np.stack([-c, a], axis=1)], axis=1)
+    inverse /= safe_det[:, None, None]
+    rank_one = np.swapaxes(matrices, 1, 2) / np.maximum(norm2, 1e-300)[:, None, None]
+    rank_one[norm2 < 1e-18] = 0.0
+    return np.where(regular[:, None, None], inverse, rank_one)
+
+
+def correct_vertices(centres, generators, segments, previous, following, *,
+                     iterations: int = 3, max_move: float = 0.2):
+    """Move Voronoi vertices onto the exact bisector of their generators' boundary segments.
+
+    Gauss-Newton on ``[d0 - d1, d0 - d2] = 0`` with the minimum-norm step (the pseudo-inverse
+    handles generators on the same side, whose distance differences vanish identically).
+
+    Parameters
+    ----------
+    centres : (K, 2) float ndarray, metres
+    generators : (K, 3) int ndarray, each vertex's segment per generating sample
+    segments, previous, following : from :func:`roadmap.inflate.boundary_segments`
+    max_move : float, metres; a vertex that would move farther keeps its position.
+
+    Returns
+    -------
+    corrected : (K, 2) float ndarray
+    clearance : (K,) float ndarray, the smallest of the three feature distances, metres
+    """
+    current = centres.copy()
+    for _ in range(iterations):
+        near, dist = zip(*(_feature_distance(current, segments, previous, following,
+                                             generators[:, k]) for k in range(3)))
+        units = [(current - q) / np.maximum(d, 1e-12)[:, None] for q, d in zip(near, dist)]
+        jacobian = np.stack([units[0] - units[1], units[0] - units[2]], axis=1)
+        residual = np.stack([dist[0] - dist[1], dist[0] - dist[2]], axis=1)
+        update = np.einsum("kij,kj->ki", _pseudo_inverse(jacobian), residual)
+        current = current - np.nan_to_num(update)
+    moved = np.hypot(*(current - centres).T)
+    current = np.where((moved <= max_move)[:, None], current, centres)
+    _, dist = zip(*(_feature_distance(current, segments, previous, following,
+                                      generators[:, k]) for k in range(3)))
+    return current, np.minimum(np.minimum(dist[0], dist[1]), dist[2])
+
+
+def medial_axis(free_space, *, step: float = 0.2, seed: int = 0) -> MedialAxis:
+    """Return the sampled medial axis of `free_space` (every clearance, not yet restricted).
+
+    Parameters
+    ----------
+    free_space : Polygon or MultiPolygon, metres, ideally near the origin
+    step : float
+        Boundary sampling interval, metres, > 0. 0.2 m keeps lanes within 1 cm.
+    seed : int
+        Seed of the deterministic jitter.
+
+    Returns
+    -------
+    MedialAxis
+
+    Examples
+    --------
+    >>> axis = medial_axis(shapely.box(0, 0, 10, 2))
+    >>> lane = axis.vertices[axis.clearance > 0.99]
+    >>> bool(abs(lane[:, 1] - 1.0).max() < 1e-6)
+    True
+    """
+    if not step > 0:
+        raise ValueError(f"step must be > 0 m, got {step}")
+    segments, previous, following = boundary_segments(free_space)
+    empty = MedialAxis(np.zeros((0, 2)), np.zeros(0), np.zeros((0, 2), dtype=np.int64))
+    if len(segments) < 3:
+        return empty
+    xy, owner, successor = sample_boundary(segments, following, step)
+    rng = np.random.default_rng(seed)
+    try:
+        triangulation = Delaunay(xy + rng.uniform(-JITTER, JITTER, xy.shape))
+    except QhullError:
+        return empty
+    simplices, neighbours = triangulation.simplices, triangulation.neighbors
+    centres = _circumcentres(xy, simplices)
+    finite = np.isfinite(centres).all(axis=1)
+    inside = np.zeros(len(simplices), dtype=bool)
+    shapely.prepare(free_space)
+    inside[finite] = shapely.contains_xy(free_space, centres[finite, 0], centres[finite, 1])
+    # Ridges: the Delaunay edge opposite vertex k of triangle t is shared with neighbour n.
+    tri = np.repeat(np.arange(len(simplices)), 3)
+    corner = np.tile(np.arange(3), len(simplices))
+    other = neighbours.ravel()
+    g0 = simplices[tri, (corner + 1) % 3]
+    g1 = simplices[tri, (corner + 2) % 3]
+    take = (other > tri) & inside[tri] & inside[np.maximum(other, 0)]
+    take &= (successor[g0] != g1) & (successor[g1] != g0)
+    tri, other = tri[take], other[take]
+    used = np.flatnonzero(inside)
+    corrected, clearance = correct_vertices(centres[used], owner[simplices[used]],
+                                            segments, previous, following)
+    key = np.round(corrected / MERGE_GRID).astype(np.int64)
+    unique_key, first, merged = np.unique(key, axis=0, return_index=True, return_inverse=True)
+    merged = merged.ravel()
+    compact = np.full(len(simplices), -1, dtype=np.int64)
+    compact[used] = merged
+    edges = np.sort(np.stack([compact[tri], compact[other]], axis=1), axis=1)
+    edges = edges[edges[:, 0] != edges[:, 1]]
+    edges = np.unique(edges, axis=0) if len(edges) else edges.reshape(0, 2)
+    vertices = corrected[first]
+    best = np.full(len(unique_key), np.inf)
+    np.minimum.at(best, merged, clearance)
+    return MedialAxis(vertices, best, edges)
+
+
+def generalized_voronoi(free_space, clearance: float, *, step: float = 0.2,
+                        seed: int = 0) -> MedialAxis:
+    """Return the GVD of the obstacles grown by `clearance` metres, before any pruning.
+
+    It is the medial axis of `free_space` where the clearance is at least `clearance`.
+
+    Examples
+    --------
+    >>> room = shapely.box(0, 0, 6, 4)      # central segment y = 2 from x = 2 to x = 4
+    >>> gvd = generalized_voronoi(room, 0.5)
+    >>> bool((gvd.clearance >= 0.5).all())
+    True
+    """
+    axis = medial_axis(free_space, step=step, seed=seed)
+    return axis.restrict(axis.clearance >= clearance)

@@ -1,0 +1,152 @@
+"""Assemble the networkx lane graph: split lanes at stations, number nodes and edges.
+
+Node ids are ``n<k>`` in sorted (x, y) order and edge ids ``e<k>`` sorted by their end ids,
+so the same input always gives the same ids. Clearances are exact distances (shapely/GEOS)
+on the final geometry: at each node, and along each edge every EDGE_STEP metres plus vertices.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import networkx as nx
+import numpy as np
+import shapely
+
+from roadmap.inflate import ClearanceField, polylines
+from roadmap.stations import ON_LANE, Attachment
+
+#: Sampling interval for each edge's clearance_min, metres.
+EDGE_STEP = 0.03
+
+
+@dataclass(frozen=True)
+class EdgeSamples:
+    """Exact clearance samples along the edges (local frame): xy (M, 2), edge index (M,)."""
+
+    xy: np.ndarray
+    owner: np.ndarray
+    clearance: np.ndarray
+    edge_ids: list
+
+
+def _cut(coords: np.ndarray, cuts: list[tuple[float, np.ndarray]]):
+    """Split polyline `coords` (n, 2) at distances along it; each cut point is given."""
+    along = np.r_[0.0, np.cumsum(np.hypot(*np.diff(coords, axis=0).T))]
+    pieces, start, current = [], 0.0, coords[:1]
+    for distance, point in cuts:
+        inner = coords[(along > start) & (along < distance)]
+        pieces.append(np.vstack([current, inner, point[None]]))
+        start, current = distance, point[None]
+    pieces.append(np.vstack([current, coords[along > start]]))
+    return pieces
+
+
+def _station_nodes(lines, ends, station_xy, joins, add_node):
+    """Per lane, the cut points (distance, node key, point); plus the station link edges."""
+    cuts: dict[int, list] = {}
+    links = []
+    for index, join in enumerate(joins):
+        if not isinstance(join, Attachment):
+            continue
+        station = ("s", index)
+        add_node(station, station_xy[index], "station")
+        point = station_xy[index] if join.on_lane else np.array([join.x, join.y])
+        line = lines[join.lane]
+        length = float(line.length)
+        if join.along <= ON_LANE or join.along >= length - ON_LANE:
+            end = ends[join.lane][0 if join.along <= ON_LANE else 1]
+            target = ("v", end)
+            links.append((station, target, None))
+            continue
+        group = cuts.setdefault(join.lane, [])
+        same = [g for g in group if abs(g[0] - join.along) <= ON_LANE]
+        if same:
+            target = same[0][1]
+        else:
+            target = station if join.on_lane else ("l", join.lane, len(group))
+            if not join.on_lane:
+                add_node(target, point, "link")
+            group.append((join.along, target, point))
+        if target != station:
+            links.append((station, target, None))
+    return cuts, links
+
+
+def assemble_graph(lines, ends, vertices, isolated, station_xy, labels, joins,
+                   field: ClearanceField, offset):
+    """Build the MultiGraph in the drawing frame from lanes in the local frame.
+
+    Parameters
+    ----------
+    lines : (L,) LineString, lanes joining ``ends[i] = (u, v)`` vertex indices, metres
+    vertices : (V, 2) float, metres; isolated : list of vertex indices kept alone
+    station_xy : (N, 2) float; labels : list of str; joins : Attachment or reason per station
+    field : ClearanceField; offset : (x0, y0) of the local frame, metres
+
+    Returns
+    -------
+    graph : networkx.MultiGraph (edge weights equal lengths here; checks add penalties)
+    samples : EdgeSamples along every edge
+    stations : dict of station index -> node id, for the stations that joined
+    """
+    points: dict = {}
+    kinds: dict = {}
+
+    def add_node(key, xy, kind=None):
+        points.setdefault(key, np.asarray(xy, dtype=float))
+        if kind:
+            kinds[key] = kind
+
+    for a, b in ends:
+        add_node(("v", a), vertices[a])
+        add_node(("v", b), vertices[b])
+    for vertex in isolated:
+        add_node(("v", vertex), vertices[vertex])
+    cuts, links = _station_nodes(lines, ends, station_xy, joins, add_node)
+    pieces = []
+    for index, line in enumerate(lines):
+        coords = shapely.get_coordinates(line)
+        coords[0], coords[-1] = vertices[ends[index][0]], vertices[ends[index][1]]
+        mine = sorted(cuts.get(index, []), key=lambda cut: cut[0])
+        nodes = [("v", ends[index][0])] + [cut[1] for cut in mine] + [("v", ends[index][1])]
+        for k, piece in enumerate(_cut(coords, [(d, points[key]) for d, key, _ in mine])):
+            pieces.append((nodes[k], nodes[k + 1], piece))
+    for station, target, _ in links:
+        pieces.append((station, target, np.vstack([points[station], points[target]])))
+    keys = list(points)
+    xy = np.array([points[key] for key in keys]).reshape(-1, 2)
+    order = np.lexsort((xy[:, 1], xy[:, 0]))
+    node_id = {keys[i]: f"n{rank}" for rank, i in enumerate(order)}
+    number = {keys[i]: rank for rank, i in enumerate(order)}
+    pieces.sort(key=lambda p: (min(number[p[0]], number[p[1]]), max(number[p[0]], number[p[1]]),
+                               len(p[2]), tuple(p[2].ravel()[:4])))
+    shift = np.asarray(offset, dtype=float)
+    geometry = [shapely.LineString(piece + shift) for _, _, piece in pieces]
+    local_lines = polylines([piece for _, _, piece in pieces])
+    sample_xy, owner, values = field.along(local_lines, EDGE_STEP) if pieces else \
+        (np.zeros((0, 2)), np.zeros(0, np.int64), np.zeros(0))
+    low = np.full(len(pieces), np.inf)
+    np.minimum.at(low, owner, values)
+    node_clearance = field.at(xy)
+    degree = {key: 0 for key in keys}
+    for u, v, _ in pieces:
+        degree[u] += 1
+        degree[v] += 1
+    graph = nx.MultiGraph()
+    for rank, i in enumerate(order):
+        key = keys[i]
+        kind = kinds.get(key) or ("junction" if degree[key] >= 3 else
+                                  "waypoint" if degree[key] == 2 else "end")
+        label = labels[key[1]] if key[0] == "s" else ""
+        graph.add_node(f"n{rank}", x=float(xy[i, 0] + shift[0]), y=float(xy[i, 1] + shift[1]),
+                       clearance=float(node_clearance[i]), kind=kind, label=label)
+    edge_ids = []
+    for index, (u, v, _) in enumerate(pieces):
+        length = float(geometry[index].length)
+        key = f"e{index}"
+        edge_ids.append(key)
+        graph.add_edge(node_id[u], node_id[v], key=key, length=length, weight=length,
+                       clearance_min=float(low[index]), geometry=geometry[index])
+    stations = {key[1]: node_id[key] for key in keys if key[0] == "s"}
+    return graph, EdgeSamples(sample_xy, owner, values, edge_ids), stations

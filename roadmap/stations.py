@@ -1,0 +1,156 @@
+"""Join stations (docks, chargers, pick stations) to the lanes by straight, clear links.
+
+A station joins the nearest point of a lane that it can reach by a straight segment clear of
+obstacles by at least the required clearance c along its whole length (checked by exact
+distances every 2 cm). Where several points are equally near (within 1 mm), an existing
+node (a lane's end) wins, then the lower (x, y), which is the lower node id.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import shapely
+
+from roadmap.inflate import ClearanceField
+
+#: A station this close to a lane splits the lane itself, metres.
+ON_LANE = 1e-3
+#: Candidate points farther than the nearest visible one by less than this tie, metres.
+TIE = 1e-3
+#: Links are checked for clearance every LINK_STEP metres.
+LINK_STEP = 0.02
+#: Candidate points are taken every CANDIDATE_STEP metres along nearby lanes.
+CANDIDATE_STEP = 0.1
+
+REASON_BAND = "inside an obstacle's clearance band"
+REASON_NO_LANE = "its region has no lane"
+REASON_NO_LINK = "no straight clear link to a lane"
+
+
+@dataclass(frozen=True)
+class Attachment:
+    """Where a station joins: lane index, point on it (local frame, metres), distance along."""
+
+    lane: int
+    x: float
+    y: float
+    along: float
+    on_lane: bool
+
+
+def station_regions(points: np.ndarray, regions: np.ndarray) -> np.ndarray:
+    """Index of the drivable region holding each point (N, 2), -1 where none (1 mm slack)."""
+    result = np.full(len(points), -1, dtype=np.int64)
+    if len(regions) == 0 or len(points) == 0:
+        return result
+    tree = shapely.STRtree(regions)
+    point_index, region_index = tree.query(shapely.points(points), predicate="dwithin",
+                                           distance=ON_LANE)
+    order = np.lexsort((region_index, point_index))
+    point_index, region_index = point_index[order], region_index[order]
+    first = np.r_[True, point_index[1:] != point_index[:-1]]
+    result[point_index[first]] = region_index[first]
+    return result
+
+
+def _candidates(point, lanes, chosen, radius):
+    """Candidate lane points near `point`: each lane's nearest point and its samples."""
+    subset = lanes[chosen]
+    nearest = shapely.get_coordinates(
+        shapely.line_interpolate_point(subset, shapely.line_locate_point(subset, point)))
+    dense = shapely.segmentize(subset, CANDIDATE_STEP)
+    xy, owner = shapely.get_coordinates(dense, return_index=True)
+    near = np.hypot(*(xy - shapely.get_coordinates(point)[0]).T) <= radius
+    points = np.concatenate([nearest, xy[near]])
+    owners = np.concatenate([chosen, chosen[owner[near]]])
+    return points, owners
+
+
+def _visible(here, points, field, clearance):
+    """Whether the straight links from `here` to each of `points` (M, 2) stay clear."""
+    result = np.hypot(*(points - here).T) <= ON_LANE
+    far = np.flatnonzero(~result)
+    if len(far):
+        links = shapely.linestrings(
+            np.stack([np.broadcast_to(here, points[far].shape), points[far]], 1))
+        _, owner, values = field.along(links, LINK_STEP)
+        low = np.full(len(far), np.inf)
+        np.minimum.at(low, owner, values)
+        result[far] = low >= np.minimum(clearance, field.at(points[far])) - 1e-9
+    return result
+
+
+def _attach(point, lanes, mine, tree, ends, field, clearance):
+    here = shapely.get_coordinates(point)[0]
+    radius = float(shapely.distance(point, lanes[mine]).min()) + 1.0
+    while True:
+        chosen = np.intersect1d(tree.query(point, predicate="dwithin", distance=radius), mine)
+        points, owners = _candidates(point, lanes, chosen, radius)
+        distance = np.hypot(*(points - here).T)
+        order = np.lexsort((points[:, 1], points[:, 0], distance))
+        points, owners, distance = points[order], owners[order], distance[order]
+        for start in range(0, len(points), 32):
+            visible = np.flatnonzero(_visible(here, points[start:start + 32], field, clearance))
+            if len(visible) == 0:
+                continue
+            best = start + visible[0]
+            tied = np.arange(best, np.searchsorted(distance, distance[best] + TIE, "right"))
+            tied = tied[_visible(here, points[tied], field, clearance)]
+            at_node = np.array([np.hypot(*(ends[owners[i]] - points[i]).T).min() <= TIE
+                                for i in tied])
+            pool = tied[at_node] if at_node.any() else tied
+            pick = pool[np.lexsort((points[pool, 1], points[pool, 0]))[0]]
+            x, y = points[pick]
+            line = lanes[owners[pick]]
+            return Attachment(int(owners[pick]), float(x), float(y),
+                              float(shapely.line_locate_point(line, shapely.Point(x, y))),
+                              bool(distance[pick] <= ON_LANE))
+        if len(chosen) == len(mine):
+            return None
+        radius *= 3.0
+
+
+def link_stations(stations: np.ndarray, lanes: np.ndarray, lane_region: np.ndarray,
+                  regions: np.ndarray, field: ClearanceField, free_space,
+                  clearance: float) -> list[Attachment | str]:
+    """Find where each station joins a lane, or why it cannot.
+
+    Parameters
+    ----------
+    stations : (N, 2) float ndarray, metres (local frame)
+    lanes : (L,) object ndarray of LineString, metres
+    lane_region : (L,) int ndarray, the drivable region of each lane
+    regions : (K,) object ndarray of Polygon, the drivable regions
+    field : ClearanceField
+    free_space : Polygon or MultiPolygon
+    clearance : float, required clearance c, metres
+
+    Returns
+    -------
+    list of Attachment, or of a one-line reason (str), one per station.
+    """
+    stations = np.asarray(stations, dtype=float).reshape(-1, 2)
+    if len(stations) == 0:
+        return []
+    tree = shapely.STRtree(lanes)
+    ends = np.stack([shapely.get_coordinates(shapely.get_point(lanes, 0)),
+                     shapely.get_coordinates(shapely.get_point(lanes, -1))], 1) \
+        if len(lanes) else np.zeros((0, 2, 2))
+    station_clearance = field.at(stations)
+    shapely.prepare(free_space)
+    inside = shapely.contains_xy(free_space, stations[:, 0], stations[:, 1])
+    region = station_regions(stations, regions)
+    results: list[Attachment | str] = []
+    for index, here in enumerate(stations):
+        if not inside[index] or station_clearance[index] < clearance - 1e-9:
+            results.append(REASON_BAND)
+            continue
+        mine = np.flatnonzero(lane_region == region[index]) if region[index] >= 0 else []
+        if len(mine) == 0:
+            results.append(REASON_NO_LANE)
+            continue
+        found = _attach(shapely.Point(here), lanes, mine, tree, ends, field, clearance)
+        results.append(found if found is not None else REASON_NO_LINK)
+    return results

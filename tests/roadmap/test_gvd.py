@@ -1,0 +1,126 @@
+"""The sampled GVD against analytic medial axes and scikit-image's raster skeleton."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+import shapely
+from scipy.spatial import cKDTree
+
+from roadmap import generalized_voronoi, medial_axis
+
+from roadmap_builders import assert_exact_clearances, assert_lanes_clear, assert_topology, build, \
+    corridor, plan
+
+
+def test_straight_corridor_lane_on_centre_line():
+    obstacles, free = corridor(2.0)
+    roadmap = build(obstacles, free)
+    graph = roadmap.graph
+    # analytic: between parallel walls 2 m apart the lane is the centre line y = 1
+    for _, _, data in graph.edges(data=True):
+        xy = shapely.get_coordinates(data["geometry"])
+        assert np.abs(xy[:, 1] - 1.0).max() < 0.01
+        # analytic: clearance on the centre line = half the width = 1 m
+        assert data["clearance_min"] == pytest.approx(1.0, abs=0.01)
+    assert graph.number_of_edges() == 1
+    assert_exact_clearances(roadmap, free)
+
+
+def test_curved_corridor_lane_on_mid_radius():
+    outer = shapely.Point(0, 0).buffer(6.0, quad_segs=128)
+    inner = shapely.Point(0, 0).buffer(4.0, quad_segs=128)
+    arc = shapely.box(0, 0, 7, 7)                      # a quarter ring, 2 m wide
+    free = outer.difference(inner).intersection(arc)
+    roadmap = build({"wall": shapely.box(-7, -7, 7, 7).difference(free)}, free)
+    # analytic: between concentric arcs of radii 4 and 6 the lane lies on radius 5
+    for _, _, data in roadmap.graph.edges(data=True):
+        xy = shapely.get_coordinates(shapely.segmentize(data["geometry"], 0.05))
+        radius = np.hypot(*xy.T)
+        away_from_ends = (xy > 1.2).all(axis=1)
+        assert np.abs(radius[away_from_ends] - 5.0).max() < 0.01
+    assert_exact_clearances(roadmap, free)
+
+
+def test_two_columns_lane_on_perpendicular_bisector():
+    columns = [shapely.Point(-1.5, 0).buffer(0.01), shapely.Point(1.5, 0).buffer(0.01)]
+    obstacles, free = plan((-6.0, -6.0, 6.0, 6.0), *columns)
+    axis = generalized_voronoi(free, 0.45)
+    # analytic: points equidistant from two point columns lie on their bisector x = 0
+    near = (np.abs(axis.vertices[:, 1]) < 1.2)
+    between = axis.vertices[near & (np.abs(axis.vertices[:, 0]) < 1.4)]
+    assert len(between) > 3
+    assert np.abs(between[:, 0]).max() < 0.005
+
+
+def test_rectangular_room_bisectors_meet_central_segment():
+    room = shapely.box(0, 0, 8, 4)
+    axis = generalized_voronoi(room, 0.3)
+    xy = axis.vertices
+    # analytic: medial axis of an 8 x 4 rectangle = segment y = 2 for 2 <= x <= 6, plus
+    # 45-degree bisectors from its ends to the corners (|y - 2| = |x - 2| near x < 2)
+    on_centre = np.abs(xy[:, 1] - 2.0) < 1e-6
+    assert xy[on_centre, 0].min() == pytest.approx(2.0, abs=1e-3)
+    assert xy[on_centre, 0].max() == pytest.approx(6.0, abs=1e-3)
+    left = xy[xy[:, 0] < 1.99]
+    assert np.abs(np.abs(left[:, 1] - 2.0) - (2.0 - left[:, 0])).max() < 0.005
+    # analytic: the bisectors stop where the clearance (= x near the left wall) reaches c
+    assert left[:, 0].min() == pytest.approx(0.3, abs=0.15)
+
+
+@pytest.mark.parametrize("gap, connected", [(0.9 + 0.004, True), (0.9 - 0.004, False)])
+def test_neck_a_few_millimetres_wide(gap, connected):
+    obstacles, free = plan((0.0, 0.0, 12.0, 6.0), shapely.box(4, gap, 8, 3))
+    roadmap = build(obstacles, free)
+    assert_topology(roadmap)
+    assert_lanes_clear(roadmap)
+    # analytic: the island stands gap m above the wall; the neck is drivable iff gap >= 2c
+    holes = sum(len(p.interiors) for p in shapely.get_parts(roadmap.drivable))
+    assert holes == (1 if connected else 0)
+
+
+def _skeleton_points(free, pixel):
+    from skimage.draw import polygon as fill
+    from skimage.morphology import medial_axis as raster_axis
+    xmin, ymin, xmax, ymax = free.bounds
+    shape = (int(math.ceil((ymax - ymin) / pixel)) + 2, int(math.ceil((xmax - xmin) / pixel)) + 2)
+    image = np.zeros(shape, dtype=bool)
+    for part in shapely.get_parts(free):
+        xy = np.asarray(part.exterior.coords)
+        image[fill((xy[:, 1] - ymin) / pixel + 0.5, (xy[:, 0] - xmin) / pixel + 0.5, shape)] = 1
+        for hole in part.interiors:
+            xy = np.asarray(hole.coords)
+            image[fill((xy[:, 1] - ymin) / pixel + 0.5, (xy[:, 0] - xmin) / pixel + 0.5,
+                       shape)] = 0
+    skeleton, distance = raster_axis(image, return_distance=True, rng=0)
+    rows, cols = np.nonzero(skeleton)
+    return np.stack([cols * pixel + xmin, rows * pixel + ymin], 1), distance[rows, cols] * pixel
+
+
+@pytest.mark.parametrize("layout", ["aisles", "columns"])
+def test_lanes_match_scikit_image_skeleton(layout):
+    pixel = 0.02
+    if layout == "aisles":
+        obstacles, free = plan((0.0, 0.0, 14.0, 9.0), shapely.box(2, 2, 12, 3.5),
+                               shapely.box(2, 5.5, 12, 7))
+    else:
+        obstacles, free = plan((0.0, 0.0, 10.0, 8.0), shapely.box(3, 3, 3.5, 3.5),
+                               shapely.box(6, 4, 6.6, 4.6))
+    c = 0.45
+    roadmap = build(obstacles, free)
+    skeleton, radius = _skeleton_points(free, pixel)
+    skeleton = skeleton[radius >= c + 0.1]
+    lanes = np.concatenate([shapely.get_coordinates(shapely.segmentize(d["geometry"], 0.02))
+                            for _, _, d in roadmap.graph.edges(data=True)])
+    clear = shapely.distance(shapely.points(lanes), free.boundary) >= c + 0.1
+    # source: scikit-image medial_axis (independent raster reference) - lanes within two
+    # pixels of its skeleton, away from spur ends (clearance within 0.1 m of c)
+    gap, _ = cKDTree(skeleton).query(lanes[clear])
+    assert gap.max() <= 2 * pixel * math.sqrt(2)
+
+
+def test_medial_axis_rejects_bad_step():
+    with pytest.raises(ValueError, match="step must be > 0"):
+        medial_axis(shapely.box(0, 0, 1, 1), step=0)
