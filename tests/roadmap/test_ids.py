@@ -199,3 +199,36 @@ def test_carry_ids_over_updates_the_findings_too():
     assert carried.findings.stations[0].node == "n4"
     assert carried.findings.pinch_points[0].edge == "e5"
     assert built.graph is new and sorted(new.nodes) == ["a", "b", "c"]   # input untouched
+
+
+SAMPLES = Path(__file__).resolve().parents[2] / "sample_drawings"
+
+
+def build_sample(name: str):
+    from converter import read_floorplan
+    from roadmap import Robot, build_roadmap
+    plan = read_floorplan(SAMPLES / name)
+    obstacles = shapely.union_all([plan.regions[role] for role in
+                                   ("wall", "racking", "keepout", "boundary")])
+    return build_roadmap({"obstacles": obstacles}, plan.free_space,
+                         [(s.label, s.x, s.y) for s in plan.stations],
+                         robot=Robot.disc(0.35, margin=0.1), shared_zones=plan.regions["shared"])
+
+
+def test_sample_revision_b_keeps_every_id_away_from_the_change():
+    old = build_sample("distribution_centre.dxf").graph
+    new = build_sample("distribution_centre_rev_b.dxf").graph
+    # source: sample_drawings/README.md and make_samples.py: revision B moves the west half
+    # of the third double row (x 4..31 m, y 22.4..24.6 m) 0.6 m north and adds a partition
+    # at x = 44 m (y 0.3..10 m); everything else is identical
+    changed = shapely.union_all([shapely.box(4.0, 22.4, 31.0, 25.2),
+                                 shapely.box(43.95, 0.3, 44.05, 10.0)])
+    result = assign_stable_ids(new, old)
+    by_place = {(a["x"], a["y"]): n for n, a in result.nodes(data=True)}
+    far = [(a["x"], a["y"]) for _, a in new.nodes(data=True)
+           if shapely.distance(shapely.Point(a["x"], a["y"]), changed) > 5.0]
+    kept = [place for place in far if by_place[place] in old]
+    assert len(far) >= 30
+    assert len(kept) == len(far)             # measured share: 43 of 43 nodes (100 %)
+    carried_labels = {result.nodes[n]["label"] for n in result if n in old}
+    assert {a["label"] for _, a in old.nodes(data=True) if a["label"]} <= carried_labels
