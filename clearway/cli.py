@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import contextlib
+import datetime
 import json
 import math
 import os
@@ -15,10 +16,11 @@ from networkx import NetworkXNoPath
 from clearway import __version__
 from clearway.config import load_config
 from clearway.errors import ClearwayError, ConfigError
-from converter import ROLE_OPTION_NAMES, UNITS_TO_M, Roles, list_layers
-from exporters import read_graphml, render_compare_svg
-from roadmap import (ROUTE_METHODS, compare_graphs, distance_matrix, shortest_route,
-                     summarize_changes)
+from converter import ROLE_OPTION_NAMES, UNITS_TO_M, Roles, list_layers, read_floorplan
+from exporters import (check_anchor, read_graphml, render_compare_svg, render_geojson,
+                       render_graphml, render_report, render_svg, summarize, write_outputs)
+from roadmap import (ROUTE_METHODS, Robot, build_roadmap, compare_graphs, distance_matrix,
+                     shortest_route, summarize_changes)
 
 
 class InputError(click.ClickException):
@@ -252,3 +254,160 @@ def _csv_cell(text: str) -> str:
     if any(char in text for char in ',"\r\n') or text[:1] in ("=", "+", "-", "@"):
         return '"' + text.replace('"', '""') + '"'
     return text
+
+
+#: The files `build` writes, in the order they are rendered.
+BUILD_FILES = ("roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json")
+
+
+def _metres(name: str, value, *, allow_zero: bool = False) -> float | None:
+    """Parse an option or config value in metres; None stays None."""
+    if value is None:
+        return None
+    try:
+        number = float(value)
+    except (TypeError, ValueError):
+        raise InputError(f"{name} must be a number of metres, got {value!r}") from None
+    if not (math.isfinite(number) and (number >= 0 if allow_zero else number > 0)):
+        raise InputError(f"{name} must be {'>=' if allow_zero else '>'} 0 m, got {value}")
+    return number
+
+
+def _build_robot(config: dict, robot_radius, robot_size, margin):
+    """The robot from the options, else from [robot] of the config file, else the defaults."""
+    if robot_radius is not None and robot_size is not None:
+        raise InputError("--robot-radius and --robot-size exclude each other; pass one")
+    section = config.get("robot", {})
+    margin = (_metres("--margin", margin, allow_zero=True) if margin is not None
+              else _metres("[robot] margin", section.get("margin", 0.10), allow_zero=True))
+    if robot_size is not None:
+        parts = robot_size.lower().split("x")
+        if len(parts) != 2:
+            raise InputError(f"--robot-size must be LENGTHxWIDTH in metres (e.g. 1.0x0.6), "
+                             f"got {robot_size!r}")
+        return Robot.rectangle(_metres("--robot-size length", parts[0]),
+                               _metres("--robot-size width", parts[1]), margin=margin)
+    if robot_radius is None and "length" in section and "width" in section:
+        return Robot.rectangle(_metres("[robot] length", section["length"]),
+                               _metres("[robot] width", section["width"]), margin=margin)
+    if robot_radius is not None:
+        return Robot.disc(_metres("--robot-radius", robot_radius), margin=margin)
+    return Robot.disc(_metres("[robot] radius", section.get("radius", 0.35)), margin=margin)
+
+
+def _parse_anchor(value: str | None):
+    if value is None:
+        return None
+    try:
+        return check_anchor(tuple(float(part) for part in value.split(",")))
+    except ValueError as err:
+        raise InputError(f"--anchor {value}: {err}; expected LAT,LON,BEARING in degrees, "
+                         "e.g. 48.137,11.575,30") from None
+
+
+def _today() -> str:
+    """Today's date, ISO 8601; SOURCE_DATE_EPOCH (reproducible-builds.org) pins it."""
+    epoch = os.environ.get("SOURCE_DATE_EPOCH")
+    if epoch and epoch.isdigit():
+        return datetime.datetime.fromtimestamp(int(epoch), datetime.timezone.utc).date().isoformat()
+    return datetime.date.today().isoformat()
+
+
+def _summary(plan, roadmap, outdir: str) -> list[str]:
+    counts = summarize(plan, roadmap)
+    findings = roadmap.findings
+    unreachable = [s for s in findings.stations if not s.reachable]
+    lines = [f"{plan.source}: {counts['counts']['edges']} lanes, "
+             f"{counts['lane_length']:.1f} m in total, {counts['counts']['junctions']} junctions, "
+             f"stations reached {counts['counts']['stations_reachable']}/"
+             f"{counts['counts']['stations']}"]
+    for station in unreachable:
+        lines.append(f"  unreachable: {station.label} ({station.reason or 'no lane reaches it'})")
+    if findings.pinch_points:
+        pinch = min(findings.pinch_points, key=lambda p: p.clearance)
+        lines.append(f"narrowest pinch: {pinch.clearance:.2f} m clearance at "
+                     f"({pinch.x:.2f}, {pinch.y:.2f})")
+    problems = (f"{len(unreachable)} unreachable stations, {len(plan.leaks)} leaks, "
+                f"{len(findings.narrow_passages)} narrow passages, {len(findings.pinch_points)} "
+                f"pinch points, {len(findings.personnel)} lanes short of personnel clearance, "
+                f"{len(plan.warnings) + len(findings.warnings)} warnings")
+    lines.append(f"problems: {problems}")
+    lines.append(f"files in {outdir}: {', '.join(BUILD_FILES)}")
+    lines.append("planning aid: verify on site under ISO 3691-4, the robot maker's safety "
+                 "manual and local codes, by qualified people")
+    return lines
+
+
+@main.command()
+@click.argument("drawing")
+@click.option("-o", "--outdir", required=True, metavar="OUTDIR",
+              help="Folder for roadmap.graphml, roadmap.geojson, roadmap.svg, report.json "
+                   "(created when missing).")
+@drawing_options
+@click.option("--robot-radius", metavar="M",
+              help="Disc robot radius, metres [default 0.35, or [robot] radius].")
+@click.option("--robot-size", metavar="LxW",
+              help="Rectangular robot, length x width in metres; lanes are checked for its "
+                   "circumscribed radius.")
+@click.option("--margin", metavar="M",
+              help="Safety margin added to the radius, metres [default 0.10].")
+@click.option("--comfort-clearance", metavar="M",
+              help="Lanes with less clearance are reported as pinch points, metres "
+                   "[default: required clearance + 0.2 m].")
+@click.option("--anchor", metavar="LAT,LON,BEARING",
+              help="WGS84 position of the drawing origin and bearing of its +Y axis (degrees): "
+                   "the GeoJSON gets longitude/latitude instead of local metres.")
+@click.option("--strict", is_flag=True,
+              help="Exit 1 (after writing) when a station is unreachable or free space leaks.")
+@click.option("-q", "--quiet", is_flag=True, help="Print only errors.")
+def build(drawing, outdir, robot_radius, robot_size, margin, comfort_clearance, anchor,
+          strict, quiet, **options):
+    """Build the lane graph of DRAWING into OUTDIR.
+
+    Writes roadmap.graphml, roadmap.geojson, roadmap.svg and report.json as one set: all
+    four are rendered first and replace earlier outputs only when every one succeeded.
+    Exit 0 when built, 1 with --strict when a station is unreachable or free space leaks,
+    2 for bad input.
+    """
+    def say(message: str) -> None:
+        if not quiet:
+            click.echo(message, err=True)
+
+    try:
+        config = load_config(options.get("config"))
+        robot = _build_robot(config, robot_radius, robot_size, margin)
+        checks = config.get("checks", {})
+        comfort = (_metres("--comfort-clearance", comfort_clearance)
+                   if comfort_clearance is not None
+                   else _metres("[checks] comfort_clearance", checks.get("comfort_clearance")))
+        anchor = _parse_anchor(anchor)
+        # said once read, so that a drawing refused by the reader gives one line only
+        plan = read_floorplan(drawing, **converter_options(options))
+        say(f"read {drawing}: units {plan.units}, "
+            f"{sum(len(p.geoms) for p in plan.obstacles.values())} obstacle polygons, "
+            f"{len(plan.stations)} stations")
+        roadmap = build_roadmap(
+            plan.obstacles, plan.free_space, [(s.label, s.x, s.y) for s in plan.stations],
+            robot=robot, shared_zones=plan.regions["shared"], comfort_clearance=comfort,
+            personnel_clearance=float(checks.get("personnel_clearance", 0.5)),
+            low_clearance_penalty=float(checks.get("low_clearance_penalty", 0.0)),
+            progress=lambda *stage: say("  " + " ".join(str(part) for part in stage)))
+        say("rendering roadmap.graphml, roadmap.geojson, roadmap.svg, report.json")
+        files = dict(zip(BUILD_FILES, (
+            render_graphml(plan, roadmap), render_geojson(plan, roadmap, anchor=anchor),
+            render_svg(plan, roadmap, date=_today()), render_report(plan, roadmap))))
+    except (ClearwayError, ValueError) as err:     # ValueError: a library's bad-value check
+        raise InputError(str(err)) from None
+    except OSError as err:
+        raise InputError(f"{err.filename or drawing}: {err.strerror or err}") from None
+    try:
+        write_outputs(outdir, files)
+    except OSError as err:
+        raise InputError(f"{outdir}: cannot write outputs ({err.strerror or err})") from None
+    for line in _summary(plan, roadmap, outdir):
+        say(line)
+    problems = [s for s in roadmap.findings.stations if not s.reachable] + list(plan.leaks)
+    if strict and problems:
+        click.echo(f"strict: {len(problems)} problems (unreachable stations or leaks); "
+                   f"outputs written to {outdir}", err=True)
+        click.get_current_context().exit(1)

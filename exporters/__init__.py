@@ -5,6 +5,7 @@ geometries, the findings) and never reach back into the roadmap's internals. ``w
 writes a set of files atomically.
 """
 
+from exporters.anchor import check_anchor
 from exporters.compare_svg import render_compare_svg
 from exporters.files import write_outputs
 from exporters.geojson import render_geojson
@@ -16,6 +17,7 @@ from exporters.text import SAFETY_CAUTION
 
 __all__ = [
     "SAFETY_CAUTION",
+    "check_anchor",
     "read_graphml",
     "render_compare_svg",
     "render_geojson",
