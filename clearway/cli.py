@@ -4,11 +4,14 @@ from __future__ import annotations
 
 import contextlib
 import datetime
+import functools
 import json
 import math
 import os
+import signal
 import sys
 import tempfile
+import threading
 
 import click
 from networkx import NetworkXNoPath
@@ -338,6 +341,28 @@ def _summary(plan, roadmap, outdir: str) -> list[str]:
     return lines
 
 
+def _sigterm_as_exit(command):
+    """Run `command` with SIGTERM raising SystemExit(143), so that cleanup code runs.
+
+    Python's default SIGTERM ends the process at once; as an exception it unwinds through
+    write_outputs, which removes its temporary files (and holds the signal back while it
+    renames the finished set).
+    """
+    @functools.wraps(command)
+    def wrapper(*args, **kwargs):
+        if threading.current_thread() is not threading.main_thread():
+            return command(*args, **kwargs)
+
+        def terminate(signum, frame):
+            raise SystemExit(128 + signum)
+        previous = signal.signal(signal.SIGTERM, terminate)
+        try:
+            return command(*args, **kwargs)
+        finally:
+            signal.signal(signal.SIGTERM, previous)
+    return wrapper
+
+
 @main.command()
 @click.argument("drawing")
 @click.option("-o", "--outdir", required=True, metavar="OUTDIR",
@@ -360,6 +385,7 @@ def _summary(plan, roadmap, outdir: str) -> list[str]:
 @click.option("--strict", is_flag=True,
               help="Exit 1 (after writing) when a station is unreachable or free space leaks.")
 @click.option("-q", "--quiet", is_flag=True, help="Print only errors.")
+@_sigterm_as_exit
 def build(drawing, outdir, robot_radius, robot_size, margin, comfort_clearance, anchor,
           strict, quiet, **options):
     """Build the lane graph of DRAWING into OUTDIR.

@@ -3,9 +3,10 @@
 Every file is first written in full to a temporary name in the output folder (same file
 system, so the rename is atomic) and flushed to disk. Only when all of them succeeded are they
 renamed over the final names, one after the other, while an exclusive ``flock`` on the folder
-is held, so two builds into the same folder never interleave their files: the set that lands
-last is whole. On any failure (including KeyboardInterrupt) before the renames, the temporary
-files are removed and the previous outputs are left exactly as they were.
+is held (so two builds into the same folder never interleave their files: the set that lands
+last is whole) and SIGINT / SIGTERM are held back (so an interrupt cannot split the set).
+On any failure (including KeyboardInterrupt) before the renames, the temporary files are
+removed and the previous outputs are left exactly as they were.
 """
 
 from __future__ import annotations
@@ -13,8 +14,10 @@ from __future__ import annotations
 import contextlib
 import fcntl
 import os
+import signal
 import stat
 import tempfile
+import threading
 from pathlib import Path
 
 #: Prefix and suffix of the temporary files (hidden, easy to recognise and clean up).
@@ -48,6 +51,24 @@ def _folder_lock(folder: Path):
         yield descriptor
     finally:
         os.close(descriptor)          # closing releases the lock
+
+
+@contextlib.contextmanager
+def _signals_held():
+    """Hold SIGINT and SIGTERM back during the renames, so that they land as a whole set.
+
+    A signal that arrives meanwhile is delivered (KeyboardInterrupt, or the SIGTERM
+    handler) right after the last rename.
+    """
+    held = {signal.SIGINT, signal.SIGTERM}
+    if threading.current_thread() is not threading.main_thread():
+        yield                          # signals are only handled in the main thread
+        return
+    previous = signal.pthread_sigmask(signal.SIG_BLOCK, held)
+    try:
+        yield
+    finally:
+        signal.pthread_sigmask(signal.SIG_SETMASK, previous)
 
 
 def write_outputs(outdir, files: dict[str, bytes]) -> list[Path]:
@@ -86,7 +107,7 @@ def write_outputs(outdir, files: dict[str, bytes]) -> list[Path]:
                 handle.flush()
                 os.fchmod(handle.fileno(), _final_mode(final))
                 os.fsync(handle.fileno())
-        with _folder_lock(folder) as descriptor:
+        with _folder_lock(folder) as descriptor, _signals_held():
             for temporary, final in temporaries:
                 os.replace(temporary, final)
             os.fsync(descriptor)          # make the renames themselves durable

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 import re
+import signal
 
 import geojson
 import igraph
@@ -160,6 +161,21 @@ def test_a_failing_last_exporter_leaves_the_previous_outputs(built, tmp_path, mo
     result = run("build", SAMPLES / "clinic.dxf", "-o", tmp_path, "--robot-radius", "0.3")
     assert result.exit_code != 0 and isinstance(result.exception, RuntimeError)
     assert _snapshot(tmp_path) == before              # byte-identical, no temporary files
+
+
+def test_sigterm_while_rendering_leaves_the_previous_outputs(tmp_path, monkeypatch):
+    result = run("build", SAMPLES / "clinic.dxf", "-o", tmp_path, "--quiet")
+    before = _snapshot(tmp_path)
+    real_render = clearway.cli.render_svg
+
+    def terminated(plan, roadmap, *, date):
+        signal.raise_signal(signal.SIGTERM)          # as `kill PID` would deliver it
+        return real_render(plan, roadmap, date=date)
+    monkeypatch.setattr(clearway.cli, "render_svg", terminated)
+    result = run("build", SAMPLES / "clinic.dxf", "-o", tmp_path, "--robot-radius", "0.3",
+                 "--quiet")
+    assert result.exit_code == 128 + signal.SIGTERM   # common practice: 128 + signal number
+    assert _snapshot(tmp_path) == before
 
 
 def test_a_failing_disk_leaves_the_previous_outputs(tmp_path, monkeypatch):

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import os
+import signal
 import stat
 
 import pytest
@@ -77,3 +78,17 @@ def test_refuses_text_content(tmp_path):
     with pytest.raises(TypeError, match="bytes"):
         write_outputs(tmp_path, {"report.json": "not bytes"})
     assert list(tmp_path.iterdir()) == []
+
+
+def test_an_interrupt_during_the_renames_lands_after_the_whole_set(tmp_path, monkeypatch):
+    write_outputs(tmp_path, {name: b"old" for name in NEW})
+    real_replace = os.replace
+
+    def replace_and_interrupt(source, target):
+        if target.name == "roadmap.graphml":        # the first rename of the set
+            signal.raise_signal(signal.SIGINT)      # Ctrl-C, as the user would press it
+        return real_replace(source, target)
+    monkeypatch.setattr(exporters.files.os, "replace", replace_and_interrupt)
+    with pytest.raises(KeyboardInterrupt):
+        write_outputs(tmp_path, NEW)
+    assert _snapshot(tmp_path) == dict(sorted(NEW.items()))    # whole new set, no temporaries
