@@ -22,8 +22,8 @@ from clearway.errors import ClearwayError, ConfigError
 from converter import ROLE_OPTION_NAMES, UNITS_TO_M, Roles, list_layers, read_floorplan
 from exporters import (check_anchor, read_graphml, render_compare_svg, render_geojson,
                        render_graphml, render_report, render_svg, summarize, write_outputs)
-from roadmap import (ROUTE_METHODS, Robot, build_roadmap, compare_graphs, distance_matrix,
-                     shortest_route, summarize_changes)
+from roadmap import (ROUTE_METHODS, Robot, build_roadmap, carry_ids_over, compare_graphs,
+                     distance_matrix, shortest_route, summarize_changes)
 
 
 class InputError(click.ClickException):
@@ -382,12 +382,15 @@ def _sigterm_as_exit(command):
 @click.option("--anchor", metavar="LAT,LON,BEARING",
               help="WGS84 position of the drawing origin and bearing of its +Y axis (degrees): "
                    "the GeoJSON gets longitude/latitude instead of local metres.")
+@click.option("--previous", metavar="OLD.graphml",
+              help="Graph of the previous revision: nodes within 0.25 m of an old node of "
+                   "the same kind (and label) keep its id, lanes between them keep theirs.")
 @click.option("--strict", is_flag=True,
               help="Exit 1 (after writing) when a station is unreachable or free space leaks.")
 @click.option("-q", "--quiet", is_flag=True, help="Print only errors.")
 @_sigterm_as_exit
 def build(drawing, outdir, robot_radius, robot_size, margin, comfort_clearance, anchor,
-          strict, quiet, **options):
+          previous, strict, quiet, **options):
     """Build the lane graph of DRAWING into OUTDIR.
 
     Writes roadmap.graphml, roadmap.geojson, roadmap.svg and report.json as one set: all
@@ -407,6 +410,7 @@ def build(drawing, outdir, robot_radius, robot_size, margin, comfort_clearance, 
                    if comfort_clearance is not None
                    else _metres("[checks] comfort_clearance", checks.get("comfort_clearance")))
         anchor = _parse_anchor(anchor)
+        previous_graph = read_graphml(previous) if previous else None
         # said once read, so that a drawing refused by the reader gives one line only
         plan = read_floorplan(drawing, **converter_options(options))
         say(f"read {drawing}: units {plan.units}, "
@@ -418,6 +422,9 @@ def build(drawing, outdir, robot_radius, robot_size, margin, comfort_clearance, 
             personnel_clearance=float(checks.get("personnel_clearance", 0.5)),
             low_clearance_penalty=float(checks.get("low_clearance_penalty", 0.0)),
             progress=lambda *stage: say("  " + " ".join(str(part) for part in stage)))
+        if previous_graph is not None:
+            say(f"  ids carried over from {previous}")
+            roadmap = carry_ids_over(roadmap, previous_graph)
         say("rendering roadmap.graphml, roadmap.geojson, roadmap.svg, report.json")
         files = dict(zip(BUILD_FILES, (
             render_graphml(plan, roadmap), render_geojson(plan, roadmap, anchor=anchor),

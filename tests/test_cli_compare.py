@@ -84,3 +84,48 @@ def test_bad_option_exit_2(tmp_path):
     assert result.exit_code == 2
     assert result.stderr.strip() == ("Error: comfort_clearance must be a number >= 0 m, "
                                      "got -1.0")
+
+
+SAMPLES = Path(__file__).resolve().parents[1] / "sample_drawings"
+
+
+def test_build_previous_then_compare_the_sample_revisions(tmp_path):
+    runner = CliRunner()
+    first = runner.invoke(main, ["build", str(SAMPLES / "distribution_centre.dxf"), "-o",
+                                 str(tmp_path / "a"), "-q"])
+    assert first.exit_code == 0, first.stderr
+    old_file = tmp_path / "a" / "roadmap.graphml"
+    second = runner.invoke(main, ["build", str(SAMPLES / "distribution_centre_rev_b.dxf"),
+                                  "-o", str(tmp_path / "b"), "-q", "--previous", str(old_file)])
+    assert second.exit_code == 0, second.stderr
+    from exporters import read_graphml
+    old, new = read_graphml(old_file), read_graphml(tmp_path / "b" / "roadmap.graphml")
+    # every station keeps its node id (stations are not moved in revision B, per
+    # sample_drawings/README.md), and the report names the same nodes as the graph
+    assert {old.nodes[n]["label"]: n for n in old if old.nodes[n]["label"]} == {
+        new.nodes[n]["label"]: n for n in new if new.nodes[n]["label"]}
+    report = json.loads((tmp_path / "b" / "report.json").read_text(encoding="utf-8"))
+    assert {s["label"]: s["node"] for s in report["stations"]} == {
+        new.nodes[n]["label"]: n for n in new if new.nodes[n]["label"]}
+    edges = {key for *_, key in new.edges(keys=True)}
+    assert report["pinch_points"] and all(p["edge"] in edges for p in report["pinch_points"])
+    # compare: with carried ids, only nodes that moved more than 0.25 m change id
+    result = runner.invoke(main, ["compare", str(old_file), str(tmp_path / "b" / "roadmap.graphml"),
+                                  "--json"])
+    changes = json.loads(result.stdout)
+    assert all(move["distance"] > 0.25 for move in changes["nodes_moved"]
+               if move["old_id"] != move["new_id"])
+    assert len(changes["ids_changed"]) == sum(1 for move in changes["nodes_moved"]
+                                              if move["old_id"] != move["new_id"])
+
+
+def test_build_with_a_hostile_previous_writes_nothing(tmp_path):
+    evil = tmp_path / "evil.graphml"
+    evil.write_text('<?xml version="1.0"?><!DOCTYPE g [<!ENTITY x SYSTEM "file:///etc/passwd">]>'
+                    '<graphml xmlns="http://graphml.graphdrawing.org/xmlns">&x;</graphml>')
+    out = tmp_path / "out"
+    result = CliRunner().invoke(main, ["build", str(SAMPLES / "distribution_centre.dxf"), "-o",
+                                       str(out), "--previous", str(evil)])
+    assert result.exit_code == 2 and not out.exists()
+    assert result.stderr == (f"Error: {evil}: DOCTYPE or ENTITY declarations are not allowed "
+                             "in a graph file; refusing to read it\n")
