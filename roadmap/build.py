@@ -19,7 +19,7 @@ from roadmap.inflate import (boundary_segments, clearance_field, drivable_region
                              to_drawing,
                              to_local)
 from roadmap.model import Findings, Robot, Roadmap
-from roadmap.lanes import assemble_graph
+from roadmap.lanes import assemble_graph, refine_lanes
 from roadmap.stations import Attachment, link_stations, station_regions
 
 #: Douglas-Peucker tolerance for lanes whose clearance exceeds c by more than twice it, m.
@@ -66,10 +66,10 @@ def _fragments(vertices, clearance, edges, regions, field, c):
     return vertices, clearance, edges, keep, warnings
 
 
-def _lanes(vertices, clearance, edges, isolated, c):
+def _lanes(vertices, clearance, edges, isolated, c, field):
     chains = chain_lanes(len(vertices), edges)
     sequences, _ = split_loops(chains, vertices)
-    lines = [vertices[seq] for seq in sequences]
+    lines = refine_lanes([vertices[seq] for seq in sequences], field, below=c + 0.02)
     geometry = polylines(lines)
     if len(geometry):
         wide = np.array([clearance[seq].min() >= c + 2 * SIMPLIFY for seq in sequences])
@@ -120,6 +120,8 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
         if not (np.isfinite(value) and value > 0):
             raise ValueError(f"{name} must be > 0, got {value}")
     c = float(robot.clearance)
+    # 1 um above c, so a gap of exactly 2c is a wall for lanes and drivable region alike
+    threshold = c + 1e-6
     comfort = c + 0.2 if comfort_clearance is None else float(comfort_clearance)
     report = progress or (lambda stage: None)
     parts = polygon_parts(free_space)
@@ -131,7 +133,7 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
         local = shapely.MultiPolygon(list(polygon_parts(shapely.make_valid(local))))
 
     report("inflating")
-    regions = drivable_region(local, c)
+    regions = drivable_region(local, threshold)
     obstacle_parts = polygon_parts([g for g in obstacles.values() if g is not None]) \
         if obstacles else np.empty(0, object)
     inflated = inflate_obstacles(obstacle_parts, c)
@@ -142,14 +144,16 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
     axis = medial_axis(local, step=sample_step)
 
     report("graph")
-    lane_axis = axis.restrict(axis.clearance >= c)
+    lane_axis = axis.restrict(axis.clearance >= threshold)
     vertices, clearance, edges = contract_short_edges(lane_axis.vertices, lane_axis.clearance,
                                                       lane_axis.edges)
     vertices, clearance, edges, keep, warnings = _fragments(vertices, clearance, edges,
                                                             regions, field, c)
     edges = edges[keep[edges].all(axis=1)]
+    alone = np.flatnonzero(keep & (np.bincount(edges.ravel(), minlength=len(vertices)) == 0))
     kept, isolated = prune_spurs(vertices, clearance, edges)
-    lines, ends, isolated = _lanes(vertices, clearance, kept, isolated, c)
+    isolated = np.union1d(isolated, alone)
+    lines, ends, isolated = _lanes(vertices, clearance, kept, isolated, c, field)
     region_of = station_regions(vertices, regions)
     lane_region = np.array([region_of[a] for a, _ in ends], dtype=np.int64)
 
@@ -175,7 +179,8 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
                 protected[seq[at - 1:at + 1]] = True
         if protected.any():
             kept, isolated = prune_spurs(vertices, clearance, edges, protected=protected)
-            lines, ends, isolated = _lanes(vertices, clearance, kept, isolated, c)
+            isolated = np.union1d(isolated, alone)
+            lines, ends, isolated = _lanes(vertices, clearance, kept, isolated, c, field)
             lane_region = np.array([region_of[a] for a, _ in ends], dtype=np.int64)
             joins = link_stations(station_xy, lines, lane_region, regions, field, local, c)
 

@@ -125,9 +125,13 @@ def inflate_obstacles(obstacles, clearance: float, *, quad_segs: int = QUAD_SEGS
     parts = polygon_parts(list(obstacles)) if len(obstacles) else np.empty(0, dtype=object)
     if len(parts) == 0:
         return shapely.MultiPolygon()
-    return shapely.buffer(shapely.coverage_union_all(parts)
-                          if _is_coverage(parts) else shapely.union_all(parts),
-                          clearance, quad_segs=quad_segs)
+    try:
+        merged = shapely.coverage_union_all(parts) if _is_coverage(parts) else None
+    except shapely.errors.GEOSException:
+        merged = None
+    if merged is None:
+        merged = shapely.union_all(parts)
+    return shapely.buffer(merged, clearance, quad_segs=quad_segs)
 
 
 def _is_coverage(parts) -> bool:

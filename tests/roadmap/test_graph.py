@@ -1,0 +1,141 @@
+"""Lane graph invariants: topology, exact clearances, pruning, determinism, survey frames."""
+
+from __future__ import annotations
+
+import networkx as nx
+import numpy as np
+import pytest
+import shapely
+from hypothesis import given, settings, strategies as st
+
+from roadmap import NODE_KINDS, Robot
+from roadmap.graph import chain_lanes
+
+from roadmap_builders import (assert_exact_clearances, assert_lanes_clear, assert_topology,
+                              build, plan, rack_grid)
+
+
+def test_graph_contract():
+    obstacles, free = rack_grid(2, 2)
+    roadmap = build(obstacles, free, [("dock 1", 1.0, 1.0)])
+    graph = roadmap.graph
+    assert isinstance(graph, nx.MultiGraph) and not graph.is_directed()
+    assert nx.number_of_selfloops(graph) == 0
+    assert graph.graph["units"] == "m" and graph.graph["clearance"] == pytest.approx(0.45)
+    xy = [(d["x"], d["y"]) for _, d in sorted(graph.nodes(data=True),
+                                               key=lambda item: int(item[0][1:]))]
+    assert xy == sorted(xy)                       # ids follow sorted (x, y)
+    for node, data in graph.nodes(data=True):
+        assert data["kind"] in NODE_KINDS
+        assert all(type(data[k]) is float for k in ("x", "y", "clearance"))
+        if data["kind"] == "junction":
+            assert graph.degree(node) >= 3
+        if data["kind"] == "end":
+            assert graph.degree(node) <= 1
+    for u, v, key, data in graph.edges(keys=True, data=True):
+        assert key.startswith("e") and all(type(data[k]) is float
+                                           for k in ("length", "weight", "clearance_min"))
+        ends = shapely.get_coordinates(data["geometry"])[[0, -1]]
+        nodes = np.array([[graph.nodes[n]["x"], graph.nodes[n]["y"]] for n in (u, v)])
+        assert np.allclose(ends, nodes) or np.allclose(ends, nodes[::-1])
+        assert data["length"] == pytest.approx(data["geometry"].length)
+    assert_topology(roadmap)
+    assert_exact_clearances(roadmap, free)
+    assert_lanes_clear(roadmap)
+
+
+def test_dead_end_aisle_between_racks_backing_onto_a_wall_keeps_its_lane():
+    # Two rack rows standing against the top wall make a U-shaped obstacle with the wall;
+    # the 3 m aisle between them is a dead end, and its lane must stay (not a spur).
+    obstacles, free = plan((0.0, 0.0, 12.0, 10.0), shapely.box(3, 4, 4.5, 10),
+                           shapely.box(7.5, 4, 9, 10))
+    roadmap = build(obstacles, free)
+    graph = roadmap.graph
+    lane_points = np.concatenate([shapely.get_coordinates(d["geometry"])
+                                  for _, _, d in graph.edges(data=True)])
+    in_aisle = lane_points[(lane_points[:, 0] > 4.5) & (lane_points[:, 0] < 7.5)
+                           & (lane_points[:, 1] > 4.0)]
+    # analytic: the aisle's lane is its centre line x = 6 and reaches to within half the
+    # aisle width (1.5 m) of its closed end at y = 10
+    assert len(in_aisle) > 0
+    assert np.abs(in_aisle[:, 0] - 6.0).max() < 0.01
+    assert in_aisle[:, 1].max() == pytest.approx(8.5, abs=0.05)
+    assert_topology(roadmap)
+
+
+def test_room_corner_spurs_are_pruned():
+    obstacles, free = plan((0.0, 0.0, 8.0, 4.0))
+    graph = build(obstacles, free).graph
+    # analytic: what remains of an 8 x 4 room's medial axis is its central segment y = 2
+    assert graph.number_of_edges() == 1
+    (u, v, data), = graph.edges(data=True)
+    xy = shapely.get_coordinates(data["geometry"])
+    assert np.abs(xy[:, 1] - 2.0).max() < 1e-6
+    assert sorted(xy[[0, -1], 0]) == pytest.approx([2.0, 6.0], abs=1e-3)
+
+
+def test_square_room_keeps_one_node():
+    obstacles, free = plan((0.0, 0.0, 4.0, 4.0))
+    graph = build(obstacles, free).graph
+    # analytic: a square's medial axis is its diagonals; pruned, the centre remains
+    assert graph.number_of_nodes() == 1
+    (_, data), = graph.nodes(data=True)
+    assert (data["x"], data["y"]) == pytest.approx((2.0, 2.0), abs=0.01)
+
+
+def test_ring_around_one_island_has_no_self_loop():
+    obstacles, free = plan((0.0, 0.0, 10.0, 10.0), shapely.box(3, 3, 7, 7))
+    roadmap = build(obstacles, free)
+    assert nx.number_of_selfloops(roadmap.graph) == 0
+    assert_topology(roadmap)
+
+
+def test_deterministic():
+    obstacles, free = rack_grid(2, 3)
+    first = build(obstacles, free, [("a", 1, 1)]).graph
+    second = build(obstacles, free, [("a", 1, 1)]).graph
+    assert list(first.nodes(data=True)) == list(second.nodes(data=True))
+    assert [(u, v, k, d["geometry"].wkt) for u, v, k, d in first.edges(keys=True, data=True)] \
+        == [(u, v, k, d["geometry"].wkt) for u, v, k, d in second.edges(keys=True, data=True)]
+
+
+def test_survey_coordinates_give_the_same_graph_up_to_the_shift():
+    shift = (5e5, 5.4e6)      # a site plan at survey coordinates (UTM-like), metres
+    obstacles, free = rack_grid(2, 2)
+    moved_obstacles = {k: shapely.affinity.translate(g, *shift) for k, g in obstacles.items()}
+    moved_free = shapely.affinity.translate(free, *shift)
+    here = build(obstacles, free, [("a", 1.0, 1.0)]).graph
+    there = build(moved_obstacles, moved_free, [("a", 1.0 + shift[0], 1.0 + shift[1])]).graph
+    assert list(here.nodes) == list(there.nodes)
+    for node, data in here.nodes(data=True):
+        other = there.nodes[node]
+        assert other["x"] - shift[0] == pytest.approx(data["x"], abs=1e-6)
+        assert other["y"] - shift[1] == pytest.approx(data["y"], abs=1e-6)
+        assert other["clearance"] == pytest.approx(data["clearance"], abs=1e-6)
+    assert sorted(here.edges(keys=True)) == sorted(there.edges(keys=True))
+    assert_exact_clearances(build(moved_obstacles, moved_free), moved_free)
+
+
+def test_chain_lanes_splits_at_junctions_and_closes_cycles():
+    # a triangle (closed cycle) and a star with three arms of two edges each
+    edges = np.array([[0, 1], [1, 2], [0, 2], [3, 4], [4, 5], [3, 6], [6, 7], [3, 8], [8, 9]])
+    chains = chain_lanes(10, edges)
+    lanes = sorted(tuple(chains.lane(i)) for i in range(len(chains)))
+    assert len(lanes) == 4
+    cycle = [lane for lane in lanes if lane[0] == lane[-1]]
+    assert len(cycle) == 1 and sorted(set(cycle[0])) == [0, 1, 2]
+    arms = sorted(tuple(sorted(lane)) for lane in lanes if lane[0] != lane[-1])
+    assert arms == [(3, 4, 5), (3, 6, 7), (3, 8, 9)]
+
+
+@settings(max_examples=25, deadline=None)
+@given(rows=st.integers(1, 3), columns=st.integers(1, 3),
+       aisle=st.floats(0.7, 3.5), depth=st.floats(0.8, 2.6), wall_gap=st.floats(0.6, 2.5),
+       radius=st.floats(0.25, 0.5))
+def test_cycle_rank_equals_islands_on_rack_grids(rows, columns, aisle, depth, wall_gap, radius):
+    obstacles, free = rack_grid(rows, columns, aisle=aisle, depth=depth, bays=4,
+                                wall_gap=wall_gap)
+    roadmap = build(obstacles, free, robot=Robot.disc(radius, margin=0.05))
+    assert_topology(roadmap)
+    assert_lanes_clear(roadmap)
+    assert_exact_clearances(roadmap, free)

@@ -1,0 +1,117 @@
+"""Stations joining the lanes, and the findings: passages, pinch points, personnel flags."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+import shapely
+
+from roadmap_builders import assert_lanes_clear, build, corridor, plan
+
+
+def test_station_links_straight_to_nearest_lane_point():
+    obstacles, free = corridor(3.0)
+    roadmap = build(obstacles, free, [("dock", 4.0, 0.6)])
+    result, = roadmap.findings.stations
+    assert result.reachable and result.reason == ""
+    graph = roadmap.graph
+    station = graph.nodes[result.node]
+    assert (station["kind"], station["label"]) == ("station", "dock")
+    (link,) = graph[result.node]
+    # analytic: the nearest lane point is the foot of the perpendicular on y = 1.5
+    assert (graph.nodes[link]["x"], graph.nodes[link]["y"]) == pytest.approx((4.0, 1.5))
+    assert graph.nodes[link]["kind"] == "link" and graph.degree(link) == 3
+    assert_lanes_clear(roadmap)
+
+
+def test_station_on_a_lane_splits_it():
+    obstacles, free = corridor(3.0)
+    roadmap = build(obstacles, free, [("mid", 5.0, 1.5 + 0.0004)])
+    result, = roadmap.findings.stations
+    assert roadmap.graph.degree(result.node) == 2
+    assert roadmap.graph.nodes[result.node]["kind"] == "station"
+
+
+def test_station_beside_a_lane_end_joins_the_existing_node():
+    # analytic: the 8 x 4 room's lane is y = 2 for 2 <= x <= 6; from (1, 2) the nearest
+    # lane point is its end node (2, 2), which the station joins without a new link node
+    obstacles, free = plan((0.0, 0.0, 8.0, 4.0))
+    roadmap = build(obstacles, free, [("west", 1.0, 2.0)])
+    result, = roadmap.findings.stations
+    (target,) = roadmap.graph[result.node]
+    node = roadmap.graph.nodes[target]
+    assert (node["x"], node["y"]) == pytest.approx((2.0, 2.0), abs=1e-3)
+    assert node["kind"] == "waypoint" and roadmap.graph.number_of_nodes() == 3
+
+
+def test_station_reasons():
+    hall = (0.0, 0.0, 20.0, 6.0)
+    # a closed pocket (walled off) too small for any lane, and a station by a wall
+    pocket = shapely.box(14, 0, 14.2, 6)
+    obstacles, free = plan(hall, pocket, shapely.box(14.2, 0.1, 20, 6))
+    roadmap = build(obstacles, free, [("by wall", 5.0, 0.2), ("ok", 5.0, 3.0)])
+    by_label = {r.label: r for r in roadmap.findings.stations}
+    assert by_label["by wall"].reason == "inside an obstacle's clearance band"
+    assert by_label["by wall"].node is None and not by_label["by wall"].reachable
+    assert by_label["ok"].reachable
+    assert roadmap.findings.unreachable_pairs == (("by wall", "ok"),)
+
+
+def test_narrow_doorway_is_reported_with_its_width():
+    # two rooms joined by a doorway 0.6 m wide in a 0.2 m wall; the robot needs 2c = 0.9 m
+    wall = shapely.box(9.9, 0, 10.1, 6).difference(shapely.box(9.9, 2.7, 10.1, 3.3))
+    obstacles, free = plan((0.0, 0.0, 20.0, 6.0), wall)
+    roadmap = build(obstacles, free, [("left", 3.0, 3.0), ("right", 17.0, 3.0)])
+    passage, = roadmap.findings.narrow_passages
+    # analytic: the doorway's clear width is 0.6 m, centred at (10, 3)
+    assert passage.width == pytest.approx(0.6, abs=0.01)
+    assert (passage.x, passage.y) == pytest.approx((10.0, 3.0), abs=0.11)
+    findings = roadmap.findings
+    assert len(findings.components) == 2
+    unreachable = [r for r in findings.stations if not r.reachable]
+    assert len(unreachable) == 1 and "0.60 m wide" in unreachable[0].reason
+    assert passage.blocks == (unreachable[0].label,)
+
+
+def test_pinch_point_at_a_column_and_penalty():
+    # a 3 m aisle with a 0.4 m column standing 0.5 m off one wall's face
+    column = shapely.box(5.0, 2.1, 5.4, 2.5)
+    obstacles, free = plan((0.0, 0.0, 10.0, 3.0), column)
+    roadmap = build(obstacles, free, comfort_clearance=1.2, low_clearance_penalty=0.5)
+    pinch, = roadmap.findings.pinch_points
+    # analytic: beside the column the lane runs midway between y = 0 and y = 2.1, clearance
+    # 1.05 m (below comfort 1.2 m); elsewhere it is 1.5 m
+    assert pinch.clearance == pytest.approx(1.05, abs=0.01)
+    assert 4.9 <= pinch.x <= 5.5
+    for pinch in [pinch]:
+        point = shapely.Point(pinch.x, pinch.y)
+        assert shapely.distance(point, free.boundary) == pytest.approx(pinch.clearance,
+                                                                       abs=0.01)
+    for _, _, data in roadmap.graph.edges(data=True):
+        factor = 1.5 if data["clearance_min"] < 1.2 else 1.0
+        assert data["weight"] == pytest.approx(data["length"] * factor)
+
+
+def test_personnel_flags_in_shared_zone():
+    obstacles, free = corridor(2.0)           # lane clearance 1.0 m
+    zone = shapely.box(2, 0, 4, 2)
+    # analytic: side clearance = lane clearance 1.0 - half width 0.35 = 0.65 m
+    # from memory: ISO 3691-4 asks for a 0.5 m clear zone beside the truck -> no flag
+    assert build(obstacles, free, shared_zones=zone).findings.personnel == ()
+    roadmap = build(obstacles, free, shared_zones=zone, personnel_clearance=0.7)
+    flag, = roadmap.findings.personnel
+    assert flag.side_clearance == pytest.approx(0.65, abs=0.01)
+    assert flag.required == 0.7
+    assert 2 - 1e-6 <= flag.x <= 4 + 1e-6
+
+
+def test_progress_stages_and_bad_options():
+    obstacles, free = corridor(2.0)
+    stages = []
+    build(obstacles, free, progress=stages.append)
+    assert stages == ["inflating", "voronoi", "graph", "stations", "checks"]
+    with pytest.raises(ValueError, match="sample_step"):
+        build(obstacles, free, sample_step=0)
+    with pytest.raises(TypeError, match="robot"):
+        from roadmap import build_roadmap
+        build_roadmap(obstacles, free, [], robot=0.4)
