@@ -80,9 +80,12 @@ def _xy(graph: nx.MultiGraph, nodes: list[str]) -> np.ndarray:
 
 def _assign(old, new, old_nodes, new_nodes, tolerance) -> dict[str, str]:
     old_xy, new_xy = _xy(old, old_nodes), _xy(new, new_nodes)
-    hits = cKDTree(new_xy).query_ball_tree(cKDTree(old_xy), tolerance)
+    # query a hair wider, then decide with one distance formula for every pair
+    hits = cKDTree(new_xy).query_ball_tree(cKDTree(old_xy), tolerance * (1 + 1e-9) + 1e-12)
     rows = np.repeat(np.arange(len(new_xy)), [len(found) for found in hits])
     cols = np.fromiter((c for found in hits for c in found), dtype=int, count=len(rows))
+    within = np.hypot(*(new_xy[rows] - old_xy[cols]).T) <= tolerance
+    rows, cols = rows[within], cols[within]
     if len(rows) == 0:
         return {}
     size = len(new_xy) + len(old_xy)
