@@ -149,7 +149,9 @@ def add_marker(parent, kind, x, y, font, label=None, *, label_left=False) -> Non
     if label is not None:
         colour = "#A03000" if kind in ("unreachable", "leak") else BLACK
         offset = -0.9 * font if label_left else 0.9 * font
-        add_text(group, float(x) + offset, -float(y) + 0.3 * font, xml_text(label),
+        # station labels sit above the line through the symbol, where lanes often run
+        rise = -0.75 * font if kind in ("station", "unreachable") else 0.3 * font
+        add_text(group, float(x) + offset, -float(y) + rise, xml_text(label),
                  0.8 * font, colour=colour, halo=True, anchor="end" if label_left else None)
 
 
