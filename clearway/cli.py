@@ -157,8 +157,9 @@ def _read_graph(path: str):
 @click.argument("new")
 @click.option("--json", "as_json", is_flag=True, help="Print the changes as JSON on stdout.")
 @click.option("--svg", "svg_path", metavar="FILE", help="Draw both graphs and the changes.")
-@click.option("--comfort-clearance", type=float, default=0.6, show_default=True,
-              help="Clearance below which a lane is a pinch point, metres.")
+@click.option("--comfort-clearance", type=float,
+              help="Clearance below which a lane is a pinch point, metres [default: the "
+                   "new graph's required clearance + 0.2 m, else 0.6 m].")
 @click.option("--match-tolerance", type=float, default=1.0, show_default=True,
               help="Farther than this from any old node, a node counts as added, metres.")
 def compare(old, new, as_json, svg_path, comfort_clearance, match_tolerance):

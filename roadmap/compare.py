@@ -19,6 +19,13 @@ from roadmap.ids import match_edge_pairs, match_nodes
 from roadmap.routing import distance_matrix, station_nodes
 
 
+#: Comfort clearance above the required one, metres (build_roadmap's default rule).
+COMFORT_ALLOWANCE = 0.2
+#: Comfort clearance when a graph does not state its required clearance, metres
+#: (clearway.config's [checks] comfort_clearance example value).
+DEFAULT_COMFORT = 0.6
+
+
 @dataclass(frozen=True)
 class NodeChange:
     """A node only one revision has."""
@@ -134,7 +141,7 @@ def _finite(value):
 
 def compare_graphs(old: nx.MultiGraph, new: nx.MultiGraph, *, match_tolerance: float = 1.0,
                    move_tolerance: float = 0.01, route_tolerance: float = 0.05,
-                   comfort_clearance: float = 0.6,
+                   comfort_clearance: float | None = None,
                    narrowing_tolerance: float = 0.05) -> GraphChanges:
     """Compare two lane graphs.
 
@@ -149,8 +156,10 @@ def compare_graphs(old: nx.MultiGraph, new: nx.MultiGraph, *, match_tolerance: f
         Matched nodes that moved less than this are not reported as moved, metres.
     route_tolerance : float
         Station-to-station route costs that changed less than this are not reported, metres.
-    comfort_clearance : float
-        Clearance below which a node or lane is a pinch point, metres.
+    comfort_clearance : float, optional
+        Clearance below which a node or lane is a pinch point, metres. Default, as in
+        ``build_roadmap``: the new graph's required clearance (graph attribute
+        ``clearance``) + 0.2 m, or `DEFAULT_COMFORT` when the file does not say.
     narrowing_tolerance : float
         A node whose clearance fell by more than this and is now a strict local minimum
         of clearance among its neighbours is a new narrowing, metres.
@@ -159,6 +168,11 @@ def compare_graphs(old: nx.MultiGraph, new: nx.MultiGraph, *, match_tolerance: f
     -------
     GraphChanges
     """
+    if comfort_clearance is None:
+        required = new.graph.get("clearance")
+        comfort_clearance = (float(required) + COMFORT_ALLOWANCE
+                             if isinstance(required, float) and math.isfinite(required)
+                             else DEFAULT_COMFORT)
     for name, value in (("match_tolerance", match_tolerance), ("move_tolerance", move_tolerance),
                         ("route_tolerance", route_tolerance),
                         ("comfort_clearance", comfort_clearance),

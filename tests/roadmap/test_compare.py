@@ -122,3 +122,17 @@ def test_small_moves_are_not_reported_and_bad_options_refused():
     assert len(compare_graphs(old, new, move_tolerance=0.001).nodes_moved) == 1
     with pytest.raises(ValueError, match="comfort_clearance must be a number >= 0 m, got -1"):
         compare_graphs(old, new, comfort_clearance=-1)
+
+
+def test_comfort_defaults_to_required_clearance_plus_allowance():
+    old, new = revisions()
+    new.graph["clearance"] = 0.45          # robot radius 0.35 m + margin 0.1 m
+    changes = compare_graphs(old, new)
+    # comfort 0.45 + 0.2 = 0.65 m: node n4 (0.65 m) is not below it, n6 (0.8 m) neither,
+    # lanes e3 (0.5 m) is; e4 (0.55 m) was already below
+    assert changes.settings["comfort_clearance"] == pytest.approx(0.65)
+    new.nodes["n6"]["clearance"] = 0.62
+    pinches = [(p.id, p.reason) for p in compare_graphs(old, new).new_pinch_points]
+    assert ("n6", "below comfort") in pinches
+    assert ("n6", "below comfort") not in [
+        (p.id, p.reason) for p in compare_graphs(old, new, comfort_clearance=0.6).new_pinch_points]
