@@ -169,8 +169,7 @@ def compare(old, new, as_json, svg_path, comfort_clearance, match_tolerance):
         changes = compare_graphs(old_graph, new_graph, comfort_clearance=comfort_clearance,
                                  match_tolerance=match_tolerance)
         picture = (render_compare_svg(old_graph, new_graph, changes,
-                                      title=f"{os.path.basename(old)} -> "
-                                            f"{os.path.basename(new)}")
+                                      title=f"{_short_name(old)} -> {_short_name(new)}")
                    if svg_path else None)
     except ValueError as err:
         raise InputError(str(err)) from None
@@ -180,6 +179,12 @@ def compare(old, new, as_json, svg_path, comfort_clearance, match_tolerance):
         except OSError as err:
             raise InputError(f"{svg_path}: cannot write ({err.strerror})") from None
     click.echo(changes.to_json() if as_json else summarize_changes(changes), nl=False)
+
+
+def _short_name(path: str) -> str:
+    """The file name with its folder (revisions are often roadmap.graphml in two folders)."""
+    return os.path.join(os.path.basename(os.path.dirname(os.path.abspath(path))),
+                        os.path.basename(path))
 
 
 def _number(value: float) -> str:

@@ -159,8 +159,8 @@ def _legend(changes: GraphChanges, title: str, width: float) -> str:
          f"lane added ({len(changes.edges_added)}); dot = node added "
          f"({len(changes.nodes_added)})"),
         ('<line x1="0" y1="0" x2="28" y2="0" stroke="{moved}" stroke-width="2"'
-         ' marker-end="url(#arrow)"/>', f"node moved, ring = old place "
-         f"({len(changes.nodes_moved)})"),
+         ' marker-end="url(#arrow)"/>', f"node moved, ring = old place; short moves drawn "
+         f"longer ({len(changes.nodes_moved)})"),
         ('<path d="M15,-8 l8,8 l-8,8 l-8,-8 z" fill="{pinch}" stroke="#000000"/>',
          f"new pinch point, clearance now ({len(changes.new_pinch_points)})"),
         ('<rect x="11" y="-4" width="8" height="8" fill="{station}"/>',
