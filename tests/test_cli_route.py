@@ -6,10 +6,12 @@ import csv
 import importlib.util
 import io
 import json
+import math
 import sys
 from pathlib import Path
 
 import networkx as nx
+import numpy as np
 import pytest
 from click.testing import CliRunner
 from scipy.sparse.csgraph import dijkstra
@@ -137,3 +139,36 @@ def test_missing_graph_file_exit_2(tmp_path):
     result = run("route", tmp_path / "none.graphml", "a", "b")
     assert result.exit_code == 2 and "graph file not found" in result.stderr
     assert len(result.stderr.splitlines()) == 1
+
+
+def test_matrix_of_the_sample_build_equals_scipy_on_networkx_reading(tmp_path):
+    # the real pipeline's file, read independently by networkx's GraphML reader and solved
+    # by scipy.sparse.csgraph: every station-to-station cost must agree
+    sample = Path(__file__).resolve().parents[1] / "sample_drawings" / "distribution_centre.dxf"
+    built = run("build", sample, "-o", tmp_path / "out", "-q")
+    assert built.exit_code == 0, built.stderr
+    path = tmp_path / "out" / "roadmap.graphml"
+    answer = json.loads(run("route", path, "--matrix", "--json").stdout)
+    theirs = nx.read_graphml(path, force_multigraph=True)
+    order = list(theirs.nodes)
+    simple = nx.Graph()
+    simple.add_nodes_from(order)
+    for u, v, weight in theirs.edges(data="weight"):
+        if u != v and (not simple.has_edge(u, v) or weight < simple[u][v]["weight"]):
+            simple.add_edge(u, v, weight=weight)
+    matrix = nx.to_scipy_sparse_array(simple, nodelist=order, weight="weight")
+    by_label = {theirs.nodes[n]["label"]: order.index(n) for n in order
+                if theirs.nodes[n].get("label")}
+    labels = answer["stations"]
+    assert labels == sorted(by_label) and len(labels) == 13   # source: sample_drawings/README.md
+    rows = [by_label[label] for label in labels]
+    expected = dijkstra(matrix, directed=False, indices=rows)[:, rows]
+    got = [[math.inf if v is None else v for v in row] for row in answer["matrix"]]
+    np.testing.assert_allclose(np.array(got), expected, rtol=1e-12, atol=1e-9)
+    # and one route by each method equals networkx's Dijkstra on the same file
+    for method in ("astar", "dijkstra"):
+        route = json.loads(run("route", path, "DOCK-01", "CHG-03", "--json", "--method",
+                               method).stdout)
+        source, target = order[by_label["DOCK-01"]], order[by_label["CHG-03"]]
+        assert route["cost"] == pytest.approx(
+            nx.dijkstra_path_length(theirs, source, target, weight="weight"), rel=1e-12)
