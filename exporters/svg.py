@@ -175,6 +175,9 @@ def render_svg(plan, roadmap, *, date: str) -> bytes:
     for passage in roadmap.findings.narrow_passages:
         add_marker(marks, "narrow", passage.x - ox, passage.y - oy, font, f"{passage.width:.2f} m",
                    label_left=passage.x - ox > right)
+    for flag in roadmap.findings.personnel:
+        add_marker(marks, "personnel", flag.x - ox, flag.y - oy, font,
+                   f"side {flag.side_clearance:.2f} m", label_left=flag.x - ox > right)
     for leak in plan.leaks:
         add_marker(marks, "leak", leak.x - ox, leak.y - oy, font, f"leak {leak.width:.2f} m",
                    label_left=leak.x - ox > right)

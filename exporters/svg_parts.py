@@ -51,7 +51,8 @@ AREA_NAMES = {"free": "free floor", "band": "clearance band",
               "keepout": "keep-out", "boundary": "boundary"}
 MARKER_NAMES = {"junction": "junction", "end": "lane end", "station": "station",
                 "unreachable": "unreachable station", "pinch": "pinch point",
-                "narrow": "narrow passage", "leak": "leak to outside"}
+                "narrow": "narrow passage", "personnel": "personnel clearance short",
+                "leak": "leak to outside"}
 
 
 def number(value: float) -> str:
@@ -130,6 +131,14 @@ def _symbol(parent, kind: str, x: float, y: float, font: float) -> None:
                           ((x, y - h), (x + h, y), (x, y + h), (x - h, y)))
         sub(parent, "polygon", points=points, fill=ORANGE, stroke=BLACK,
             **{"stroke-width": number(0.1 * s)})
+    elif kind == "personnel":        # a standing figure: head and body
+        sub(parent, "circle", cx=number(x), cy=number(y - 0.48 * s), r=number(0.2 * s),
+            fill=BLACK)
+        points = " ".join(f"{number(px)},{number(py)}" for px, py in
+                          ((x, y - 0.22 * s), (x + 0.38 * s, y + 0.55 * s),
+                           (x - 0.38 * s, y + 0.55 * s)))
+        sub(parent, "polygon", points=points, fill=BLACK, stroke="#ffffff",
+            **{"stroke-width": number(0.06 * s)})
     elif kind == "leak":
         sub(parent, "circle", cx=number(x), cy=number(y), r=number(0.6 * s), fill="none",
             stroke=VERMILLION, **{"stroke-width": number(0.25 * s), "stroke-dasharray":
@@ -145,7 +154,14 @@ def add_marker(parent, kind, x, y, font, label=None, *, label_left=False) -> Non
     near the right edge of the plan so that it stays on the page).
     """
     group = etree.SubElement(parent, "g", {"class": kind})
-    _symbol(group, kind, float(x), -float(y), font)
+    # the figure for personnel clearance stands above its place, which is often a pinch point
+    lift = 1.3 * font if kind == "personnel" else 0.0
+    y = float(y) + lift
+    if lift:
+        etree.SubElement(group, "line", x1=number(x), y1=number(-y + 0.5 * font), x2=number(x),
+                         y2=number(-y + lift), stroke=BLACK,
+                         **{"stroke-width": number(0.08 * font)})
+    _symbol(group, kind, float(x), -y, font)
     if label is not None:
         colour = "#A03000" if kind in ("unreachable", "leak") else BLACK
         offset = -0.9 * font if label_left else 0.9 * font
@@ -157,7 +173,7 @@ def add_marker(parent, kind, x, y, font, label=None, *, label_left=False) -> Non
 
 def add_legend(parent, x: float, y: float, bins: np.ndarray, font: float) -> None:
     """Draw the legend (areas, lane clearance classes, symbols) from SVG position (x, y)."""
-    row = 1.45 * font
+    row = 1.3 * font
     column = 15 * font
     size = 0.75 * font
     add_text(parent, x, y, "Areas", 0.85 * font, weight="bold")
@@ -205,7 +221,7 @@ def nice_length(limit: float) -> float:
 
 def add_scale_and_arrow(parent, x: float, y: float, font: float) -> None:
     """Draw a four-part scale bar and the +Y arrow from SVG position (x, y)."""
-    length = nice_length(11 * font)
+    length = nice_length(12 * font)
     height = 0.45 * font
     for index in range(4):
         etree.SubElement(parent, "rect", x=number(x + index * length / 4), y=number(y),

@@ -78,8 +78,14 @@ def test_title_block_has_the_caution_date_source_and_robot(plan, roadmap):
     assert "2026-01-31" in text and "hall <1>.dxf" in text
     assert "radius 0.35 m" in text and "margin 0.10 m" in text and "clearance 0.45 m" in text
     for label in ("Lane clearance", "pinch point", "narrow passage", "unreachable station",
-                  "+Y", "2 m"):
+                  "personnel clearance short", "+Y", "2 m"):
         assert label in text
+    # every finding of the hand-built hall is marked once in the plan
+    classes = [g.get("class") for g in root.iter(f"{SVG}g") if g.get("class")]
+    assert {kind: classes.count(kind) for kind in ("pinch", "narrow", "personnel", "leak",
+                                                   "station", "unreachable", "junction")} == {
+        "pinch": 1, "narrow": 1, "personnel": 1, "leak": 1, "station": 1, "unreachable": 1,
+        "junction": 2}
 
 
 def test_hostile_label_is_escaped_and_kept(plan, roadmap):
