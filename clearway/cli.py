@@ -318,8 +318,14 @@ def _today() -> str:
     """Today's date, ISO 8601; SOURCE_DATE_EPOCH (reproducible-builds.org) pins it."""
     epoch = os.environ.get("SOURCE_DATE_EPOCH")
     if epoch and epoch.isdigit():
-        return datetime.datetime.fromtimestamp(int(epoch), datetime.timezone.utc).date().isoformat()
+        moment = datetime.datetime.fromtimestamp(int(epoch), datetime.timezone.utc)
+        return moment.date().isoformat()
     return datetime.date.today().isoformat()
+
+
+def _count(number: int, singular: str, plural: str = "") -> str:
+    """'1 leak', '2 leaks'; irregular plurals given."""
+    return f"{number} {singular if number == 1 else plural or singular + 's'}"
 
 
 def _summary(plan, roadmap, outdir: str) -> list[str]:
@@ -336,10 +342,13 @@ def _summary(plan, roadmap, outdir: str) -> list[str]:
         pinch = min(findings.pinch_points, key=lambda p: p.clearance)
         lines.append(f"narrowest pinch: {pinch.clearance:.2f} m clearance at "
                      f"({pinch.x:.2f}, {pinch.y:.2f})")
-    problems = (f"{len(unreachable)} unreachable stations, {len(plan.leaks)} leaks, "
-                f"{len(findings.narrow_passages)} narrow passages, {len(findings.pinch_points)} "
-                f"pinch points, {len(findings.personnel)} lanes short of personnel clearance, "
-                f"{len(plan.warnings) + len(findings.warnings)} warnings")
+    problems = ", ".join(_count(*item) for item in (
+        (len(unreachable), "unreachable station"), (len(plan.leaks), "leak"),
+        (len(findings.narrow_passages), "narrow passage"),
+        (len(findings.pinch_points), "pinch point"),
+        (len(findings.personnel), "lane short of personnel clearance",
+         "lanes short of personnel clearance"),
+        (len(plan.warnings) + len(findings.warnings), "warning")))
     lines.append(f"problems: {problems}")
     lines.append(f"files in {outdir}: {', '.join(BUILD_FILES)}")
     lines.append("planning aid: verify on site under ISO 3691-4, the robot maker's safety "
@@ -445,8 +454,8 @@ def build(drawing, outdir, robot_radius, robot_size, margin, comfort_clearance, 
         raise InputError(f"{outdir}: cannot write outputs ({err.strerror or err})") from None
     for line in _summary(plan, roadmap, outdir):
         say(line)
-    problems = [s for s in roadmap.findings.stations if not s.reachable] + list(plan.leaks)
-    if strict and problems:
-        click.echo(f"strict: {len(problems)} problems (unreachable stations or leaks); "
-                   f"outputs written to {outdir}", err=True)
+    unreachable = sum(1 for s in roadmap.findings.stations if not s.reachable)
+    if strict and (unreachable or plan.leaks):
+        click.echo(f"strict: {_count(unreachable, 'unreachable station')}, "
+                   f"{_count(len(plan.leaks), 'leak')}; outputs written to {outdir}", err=True)
         click.get_current_context().exit(1)

@@ -20,7 +20,7 @@ from shapely.geometry import shape
 import clearway.cli
 import exporters.files
 from clearway.cli import main
-from tests.conftest import SAMPLES
+from tests.conftest import SAMPLES, new_drawing, save, wall_with_gap
 
 FILES = {"roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json"}
 #: Pinned build date (2026-01-01), so the SVG is byte-identical too (reproducible-builds.org).
@@ -124,6 +124,24 @@ def test_strict_writes_and_exits_1_when_a_station_is_unreachable(tmp_path):
     assert result.exit_code == 1
     assert set(_snapshot(tmp_path)) == FILES
     assert len(result.stderr.splitlines()) == 1 and "strict" in result.stderr
+
+
+def test_strict_exits_1_when_free_space_leaks(tmp_path):
+    doc = new_drawing(6)
+    wall_with_gap(doc.modelspace(), 0, 0, 20, 12, thickness=0.2, gap=(8.0, 9.2))
+    drawing = save(doc, tmp_path)
+    result = run("build", drawing, "-o", tmp_path / "lenient", "--quiet")
+    assert result.exit_code == 0 and result.stderr == ""
+    result = run("build", drawing, "-o", tmp_path / "out", "--strict")
+    assert result.exit_code == 1
+    assert "problems: 0 unreachable stations, 1 leak, " in result.stderr
+    assert result.stderr.splitlines()[-1].startswith("strict: 0 unreachable stations, 1 leak;")
+    report = json.loads((tmp_path / "out" / "report.json").read_text(encoding="utf-8"))
+    # analytic: the opening spans x 8.0-9.2 m in the 0.2 m thick south wall
+    assert len(report["leaks"]) == 1
+    assert report["leaks"][0]["width"] == pytest.approx(1.2, abs=0.02)
+    assert report["leaks"][0]["x"] == pytest.approx(8.6, abs=0.02)
+    assert b'class="leak"' in (tmp_path / "out" / "roadmap.svg").read_bytes()
 
 
 def test_robot_and_anchor_options_reach_the_outputs(tmp_path):
