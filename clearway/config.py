@@ -25,6 +25,9 @@
     personnel_clearance = 0.5     # metres
     low_clearance_penalty = 0.0   # extra weight factor for lanes below comfort
 
+    [limits]                      # resource limits; see clearway.limits.Limits
+    max_extent = 20000.0          # metres
+
 Command-line options override the file, key by key.
 """
 
@@ -47,6 +50,10 @@ SCHEMA: dict[str, dict[str, type | tuple[type, ...]]] = {
               "margin": (int, float)},
     "checks": {"comfort_clearance": (int, float), "personnel_clearance": (int, float),
                "low_clearance_penalty": (int, float)},
+    "limits": {"max_file_size": (int, float), "max_extent": (int, float),
+               "max_coordinate": (int, float), "max_entities": int, "max_vertices": int,
+               "max_curve_vertices": int, "max_block_depth": int,
+               "max_boundary_length": (int, float)},
 }
 
 

@@ -10,6 +10,7 @@ import numpy as np
 import shapely
 
 from clearway.errors import ConfigError, DrawingError
+from clearway.limits import Limits
 from converter.floorplan import OBSTACLE_ROLES, ROLES, FloorPlan, Leak, Station
 from converter.parts import Parts
 from converter.polygons import (as_multipolygon, boundary_regions, filled_regions,
@@ -60,9 +61,11 @@ class LayerTable:
         return json.dumps(self.to_dict(), indent=2)
 
 
-def _check_options(roles, units, **lengths):
+def _check_options(roles, units, limits, **lengths):
     if roles is not None and not isinstance(roles, Roles):
         raise TypeError(f"roles must be a converter.Roles, got {type(roles).__name__}")
+    if limits is not None and not isinstance(limits, Limits):
+        raise TypeError(f"limits must be a clearway.limits.Limits, got {type(limits).__name__}")
     if units is not None and units not in UNITS_TO_M:
         raise ConfigError(f"units must be one of {', '.join(UNITS_TO_M)}, got {units!r}")
     for name, value in lengths.items():
@@ -71,18 +74,19 @@ def _check_options(roles, units, **lengths):
             raise ConfigError(f"{name} must be a length > 0 m, got {value!r}")
 
 
-def _read(path, units, chord_tolerance):
+def _read(path, units, chord_tolerance, limits):
     """Read the drawing and decide its unit: (content, (units, m_per_unit, note, warnings))."""
-    content = read_drawing(path, chord_tolerance=chord_tolerance, units=units)
+    content = read_drawing(path, chord_tolerance=chord_tolerance, units=units, limits=limits)
     extents = [parts.extents() for parts in content.parts.values() if len(parts)]
     span = 0.0
     if extents:
         box = np.array(extents)
-        span = float(np.max(box[:, 2:].max(axis=0) - box[:, :2].min(axis=0)))
+        with np.errstate(over="ignore", invalid="ignore"):  # refused later by the limits
+            span = float(np.max(box[:, 2:].max(axis=0) - box[:, :2].min(axis=0)))
     return content, decide_units(content.insunits, units, span, source=content.source)
 
 
-def list_layers(path, *, roles=None, units=None):
+def list_layers(path, *, roles=None, units=None, limits=None):
     """Return the LayerTable of a drawing: what each layer holds and the role it gets.
 
     Parameters
@@ -92,15 +96,19 @@ def list_layers(path, *, roles=None, units=None):
         Layer role patterns; the defaults when None.
     units : str, optional
         A key of UNITS_TO_M overriding the header's $INSUNITS.
+    limits : clearway.limits.Limits, optional
+        Resource limits; the defaults when None.
 
     Raises
     ------
     DrawingError
         The file is missing, truncated, not DXF or unreadable.
+    LimitError
+        The file or its expanded geometry is larger than `limits` allow.
     """
-    _check_options(roles, units)
+    _check_options(roles, units, limits)
     roles = roles or Roles()
-    content, (unit, factor, note, warnings) = _read(path, units, 0.001)
+    content, (unit, factor, note, warnings) = _read(path, units, 0.001, limits or Limits())
     rows = []
     for name in sorted(content.layer_states, key=str.upper):
         frozen, off = content.layer_states[name]
@@ -123,7 +131,8 @@ def list_layers(path, *, roles=None, units=None):
 
 
 def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_tolerance=0.01,
-                   max_wall_thickness=0.6, nominal_wall_thickness=0.05, label_radius=3.0):
+                   max_wall_thickness=0.6, nominal_wall_thickness=0.05, label_radius=3.0,
+                   limits=None):
     """Read a DXF floor plan into a FloorPlan in metres.
 
     Parameters
@@ -144,6 +153,8 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
     label_radius : float
         A station without a label attribute takes the nearest station-layer text within
         this distance, metres.
+    limits : clearway.limits.Limits, optional
+        Resource limits (file size, extent, expanded entities, ...); the defaults when None.
 
     Returns
     -------
@@ -157,12 +168,15 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
         duplicate station labels.
     ConfigError
         An option is out of range.
+    LimitError
+        The drawing needs more work than `limits` allow; the message names the limit.
     """
-    _check_options(roles, units, chord_tolerance=chord_tolerance, gap_tolerance=gap_tolerance,
+    _check_options(roles, units, limits, chord_tolerance=chord_tolerance, gap_tolerance=gap_tolerance,
                    max_wall_thickness=max_wall_thickness,
                    nominal_wall_thickness=nominal_wall_thickness, label_radius=label_radius)
     roles = roles or Roles()
-    content, (unit, factor, note, unit_warnings) = _read(path, units, chord_tolerance)
+    limits = limits or Limits()
+    content, (unit, factor, note, unit_warnings) = _read(path, units, chord_tolerance, limits)
     source = content.source
     if not any(content.counts.values()):
         raise DrawingError(f"{source}: model space is empty")
@@ -179,6 +193,7 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
             continue
         by_role[role].append(name)
     _check_mapped(content, roles, by_role, source)
+    _check_size(content, by_role, factor, unit, limits)
     for (layer, dxftype), count in sorted(content.skipped.items()):
         if layer in visible and roles.role_of(layer) not in (None, "station"):
             warnings.append(f"{source}: {count} {dxftype} on layer {layer!r} skipped (not plan geometry)")
@@ -212,6 +227,9 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
     if free.is_empty:
         raise DrawingError(f"{source}: no enclosed floor: the wall layers enclose no free space "
                            f"and no boundary is drawn; check the layer roles with `clearway layers`")
+    limits.check("max_boundary_length", float(free.boundary.length), subject=source,
+                 what="length of the free space's boundary in metres (the roadmap samples it "
+                      "every 0.2 m)")
     stations = find_stations(content, by_role["station"], factor, label_radius, source)
     everything = shapely.union_all([region for region in regions.values()] + [free])
     return FloorPlan(source=source, sha256=content.sha256, units=unit, m_per_unit=factor,
@@ -234,6 +252,28 @@ def _check_mapped(content, roles, by_role, source):
     if not any(holds(name) for role in ("wall", "boundary") for name in by_role[role]):
         raise DrawingError(f"{source}: no wall or boundary layer holds entities; map layers with "
                            f"--walls or --boundary (see `clearway layers`)")
+
+
+def _check_size(content, by_role, factor, unit, limits):
+    """Refuse mapped geometry whose extent or coordinates exceed the limits (metres)."""
+    names = [name for names in by_role.values() for name in names]
+    boxes = [content.parts[name].extents() for name in names
+             if name in content.parts and len(content.parts[name].coords)]
+    points = [(x, y) for layer, x, y, *_ in content.points if layer in names]
+    if points:
+        xy = np.array(points, dtype=float)
+        boxes.append((*xy.min(axis=0), *xy.max(axis=0)))
+    if not boxes:
+        return
+    box = np.array(boxes, dtype=float)
+    with np.errstate(over="ignore", invalid="ignore"):
+        low, high = box[:, :2].min(axis=0) * factor, box[:, 2:].max(axis=0) * factor
+        extent = float(np.max(high - low))
+    hint = f"read in units of {unit}: if the drawing is in another unit, pass --units"
+    limits.check("max_coordinate", float(np.max(np.abs([*low, *high]))), subject=content.source,
+                 what="largest coordinate of the mapped layers in metres", hint=hint)
+    limits.check("max_extent", extent, subject=content.source,
+                 what="extent of the mapped layers in metres", hint=hint)
 
 
 def find_stations(content, layers, factor, label_radius, source):

@@ -21,10 +21,11 @@ def arc_segments(radius, sweep, tolerance):
     if radius <= tolerance or sweep == 0.0:
         return 1
     step = 2.0 * np.arccos(1.0 - tolerance / radius)
-    return max(1, int(np.ceil(sweep / step)))
+    count = sweep / step if step > 0 else np.inf
+    return max(1, int(np.ceil(count))) if count < 2.0 ** 62 else 2 ** 62  # caller caps it
 
 
-def bulge_polyline(xy, bulges, *, closed, tolerance):
+def bulge_polyline(xy, bulges, *, closed, tolerance, max_vertices=None):
     """Return the vertices of a polyline whose bulged segments are flattened into chords.
 
     Parameters
@@ -37,10 +38,12 @@ def bulge_polyline(xy, bulges, *, closed, tolerance):
         Whether a segment runs from the last vertex back to the first.
     tolerance : float
         Largest distance between an arc and its chords, drawing units. Must be > 0.
+    max_vertices : int, optional
+        Return None instead when the result would have more vertices than this.
 
     Returns
     -------
-    (M, 2) ndarray
+    (M, 2) ndarray or None
         For a closed polyline the first vertex is not repeated at the end.
 
     Examples
@@ -58,6 +61,7 @@ def bulge_polyline(xy, bulges, *, closed, tolerance):
     if not np.any(bulges[:segment_count]):
         return xy
     pieces = []
+    total = 0
     for index in range(segment_count):
         start, end = xy[index], xy[(index + 1) % count]
         pieces.append(start[None, :])
@@ -71,6 +75,9 @@ def bulge_polyline(xy, bulges, *, closed, tolerance):
         centre = (start + end) / 2.0 + left * chord * (1.0 - bulge * bulge) / (4.0 * bulge)
         begin = np.arctan2(*(start - centre)[::-1])
         steps = arc_segments(radius, sweep, tolerance)
+        total += steps
+        if max_vertices is not None and total > max_vertices:
+            return None
         angles = begin + sweep * np.arange(1, steps) / steps
         pieces.append(centre + radius * np.column_stack([np.cos(angles), np.sin(angles)]))
     if not closed:

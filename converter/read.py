@@ -12,6 +12,7 @@ from __future__ import annotations
 import contextlib
 import hashlib
 import io
+import itertools
 import logging
 import math
 import re
@@ -28,7 +29,8 @@ from ezdxf.lldxf.const import DXFError
 from ezdxf.math import X_AXIS, Y_AXIS
 from ezdxf.path import from_hatch
 
-from clearway.errors import DrawingError
+from clearway.errors import ClearwayError, DrawingError, LimitError
+from clearway.limits import Limits
 from converter.curves import bulge_polyline, widened_polyline
 from converter.parts import CLOSED, HOLE, OPEN, SHELL, Parts
 from converter.units import INSUNITS_CODES, UNITS_TO_M
@@ -40,6 +42,23 @@ _LINEWORK = ("LINE", "LWPOLYLINE", "POLYLINE", "ARC", "CIRCLE", "ELLIPSE", "SPLI
 _FILLS = ("HATCH", "SOLID", "TRACE", "3DFACE")
 _TEXTS = ("TEXT", "MTEXT")
 _LABEL_TAGS = ("LABEL", "NAME", "ID", "STATION", "TAG")
+#: What ezdxf raises on a damaged file or entity (found by fuzzing the sample drawings):
+#: its own DXFError family, and plain Python errors from fields that recovery left missing,
+#: of the wrong type or out of range.
+_DAMAGE = (DXFError, AttributeError, AssertionError, ValueError, TypeError, KeyError,
+           IndexError, ZeroDivisionError, OverflowError, UnicodeError, EOFError)
+
+
+class _TooMany(Exception):
+    """A flattened curve has more vertices than allowed (caught and reported in read.py)."""
+
+
+class _NotFinite(Exception):
+    """An entity has coordinates that are not finite (caught and reported in read.py)."""
+
+
+def _not_finite(source, layer):
+    return DrawingError(f"{source}: layer {layer!r} has coordinates that are not finite")
 
 
 @dataclass
@@ -115,11 +134,15 @@ def check_dxf_bytes(data, source):
         raise DrawingError(f"{source}: file is truncated: no end-of-file marker")
 
 
-def open_document(path):
+def open_document(path, limits=None):
     """Read `path` through ezdxf's recovery; return (document, sha256, repair warnings)."""
+    limits = limits or Limits()
     path = Path(path)
     source = path.name
     try:
+        if path.is_file():
+            limits.check("max_file_size", path.stat().st_size / 1e6, subject=source,
+                         what="file size in MB")
         data = path.read_bytes()
     except FileNotFoundError:
         raise DrawingError(f"{path}: file not found") from None
@@ -135,9 +158,12 @@ def open_document(path):
                 auditor = doc.audit()
             else:
                 doc, auditor = recover.read(io.BytesIO(data))
-    except (DXFError, ValueError, TypeError, KeyError, IndexError, UnicodeError) as err:
-        message = str(err).splitlines()[0] if str(err) else type(err).__name__
-        raise DrawingError(f"{source}: not a readable DXF file ({message})") from None
+    except RecursionError:
+        raise DrawingError(f"{source}: not a readable DXF file (structures nest too "
+                           f"deeply to recover)") from None
+    except _DAMAGE as err:
+        message = str(err).splitlines()[0].strip() if str(err).strip() else type(err).__name__
+        raise DrawingError(f"{source}: not a readable DXF file ({message[:200]})") from None
     warnings = [f"{source}: repaired: {fix.message}" for fix in auditor.fixes]
     warnings += [f"{source}: damaged: {error.message}" for error in auditor.errors
                  if "block reference cycle" not in error.message.lower()]
@@ -146,7 +172,7 @@ def open_document(path):
     return doc, hashlib.sha256(data).hexdigest(), warnings
 
 
-def read_drawing(path, *, chord_tolerance, units=None):
+def read_drawing(path, *, chord_tolerance, units=None, limits=None):
     """Read a drawing's model space into a DrawingContent (drawing units).
 
     Parameters
@@ -157,59 +183,61 @@ def read_drawing(path, *, chord_tolerance, units=None):
         drawing units with `units`, else the header's $INSUNITS, else metres.
     units : str, optional
         A key of UNITS_TO_M.
+    limits : clearway.limits.Limits, optional
+        Resource limits; the defaults when None.
 
     Raises
     ------
     DrawingError
         Missing, truncated, non-DXF or unreadable file; a block that inserts itself;
         coordinates that are not finite.
+    LimitError
+        The file, a curve, a MINSERT, the block nesting or the expanded geometry is
+        larger than `limits` allow.
     """
-    doc, sha256, warnings = open_document(path)
+    limits = limits or Limits()
+    doc, sha256, warnings = open_document(path, limits)
     source = Path(path).name
     insunits = doc.header.get("$INSUNITS", None)
     unit = units or INSUNITS_CODES.get(insunits, "m")
     tolerance = chord_tolerance / UNITS_TO_M[unit]
-    content = DrawingContent(source, sha256, insunits, warnings=warnings)
+    content = DrawingContent(source, sha256, insunits if isinstance(insunits, int) else None,
+                             warnings=warnings)
     for layer in doc.layers:
-        content.layer_states[layer.dxf.name] = (layer.is_frozen(), layer.is_off())
-    content.paperspace = sum(len(layout) for layout in doc.layouts if not layout.is_modelspace)
-    reader = _BlockReader(doc, source)
+        with contextlib.suppress(*_DAMAGE):
+            content.layer_states[str(layer.dxf.name)] = (layer.is_frozen(), layer.is_off())
+    content.paperspace = _paperspace_count(doc)
+    budget = _Budget(limits, source)
+    reader = _BlockReader(doc, source, limits, budget)
     chunks = defaultdict(list)
     inserts = defaultdict(list)
+    damaged = Counter()
     for entity in doc.modelspace():
-        dxftype, layer = entity.dxftype(), entity.dxf.layer
+        if not entity.is_alive:
+            continue
+        dxftype, layer = entity.dxftype(), entity_layer(entity)
         content.counts[layer][dxftype] += 1
         content.layer_states.setdefault(layer, (False, False))
-        if dxftype == "INSERT":
-            matrices = insert_matrices(entity)
-            inserts[(entity.dxf.name, layer)].append(matrices)
-            label = attribute_label(entity)
-            for x, y in matrices[:, 2, :]:
-                content.points.append((layer, float(x), float(y), label, dxftype))
-        elif dxftype == "POINT":
-            location = entity.dxf.location
-            content.points.append((layer, location.x, location.y, None, dxftype))
-        elif dxftype in _TEXTS:
-            content.texts.append(text_item(entity, layer))
-        else:
-            found = flatten_entity(entity, tolerance)
-            if found is None:
-                content.skipped[(layer, dxftype)] += 1
-                continue
-            if dxftype == "CIRCLE":
-                centre = entity.ocs().to_wcs(entity.dxf.center)
-                content.points.append((layer, centre.x, centre.y, None, dxftype))
-            if dxftype in _LINEWORK:
-                closed = any(kind != OPEN for _, kind in found)
-                content.closed_open[layer][0 if closed else 1] += 1
-            chunks[layer].append(Parts.from_list(*zip(*found)) if found else Parts.empty())
+        try:
+            _read_entity(entity, dxftype, layer, tolerance, content, chunks, inserts, limits,
+                         budget)
+        except ClearwayError:
+            raise
+        except _TooMany as err:
+            raise _curve_limit(limits, source, dxftype, layer, err.args[0]) from None
+        except _NotFinite:
+            raise _not_finite(source, layer) from None
+        except _DAMAGE:  # lenient per entity: a damaged one is skipped and reported
+            damaged[(layer, dxftype)] += 1
+    for (layer, dxftype), count in sorted(damaged.items()):
+        content.warnings.append(f"{source}: {count} damaged {dxftype} on layer {layer!r} skipped")
     for (name, insert_layer), matrix_list in inserts.items():
         if content.layer_states.get(insert_layer, (False, False))[0]:
             continue  # an INSERT on a frozen layer hides its whole block
         matrices = np.concatenate(matrix_list)
-        scale = float(np.max(np.linalg.norm(matrices[:, :2, :], ord=2, axis=(1, 2))))
-        for block_layer, parts in reader.block_parts(name, tolerance / max(scale, 1e-9)).items():
+        for block_layer, parts in reader.block_parts(name, tolerance / _scale(matrices)).items():
             target = insert_layer if block_layer == "0" else block_layer
+            budget.spend(parts, len(matrices), f"INSERTs of block {name!r}")
             chunks[target].append(parts.placed(matrices))
     content.warnings += reader.warnings
     content.parts = {layer: Parts.concat(found) for layer, found in chunks.items()}
@@ -218,20 +246,109 @@ def read_drawing(path, *, chord_tolerance, units=None):
     for layer, parts in content.parts.items():
         if not np.isfinite(parts.coords).all():
             raise DrawingError(f"{source}: layer {layer!r} has coordinates that are not finite")
-    for layer, x, y, *_ in content.points:
+    for layer, x, y, *_ in content.points + content.texts:
         if not (math.isfinite(x) and math.isfinite(y)):
             raise DrawingError(f"{source}: layer {layer!r} has coordinates that are not finite")
     return content
 
 
-def insert_matrices(insert):
-    """Return the (M, 3, 2) row-vector affine matrices of an INSERT (M cells of a MINSERT)."""
+def _read_entity(entity, dxftype, layer, tolerance, content, chunks, inserts, limits, budget):
+    """Add one model-space entity to `content`, `chunks` (linework) or `inserts`."""
+    if dxftype == "INSERT":
+        matrices = insert_matrices(entity, limits=limits, source=content.source)
+        label = attribute_label(entity)
+        name = str(entity.dxf.name)
+        inserts[(name, layer)].append(matrices)
+        for x, y in matrices[:, 2, :]:
+            content.points.append((layer, float(x), float(y), label, dxftype))
+    elif dxftype == "POINT":
+        location = entity.dxf.location
+        content.points.append((layer, float(location.x), float(location.y), None, dxftype))
+    elif dxftype in _TEXTS:
+        content.texts.append(text_item(entity, layer))
+    else:
+        found = flatten_entity(entity, tolerance, limits.max_curve_vertices)
+        if found is None:
+            content.skipped[(layer, dxftype)] += 1
+            return
+        if dxftype == "CIRCLE":
+            centre = entity.ocs().to_wcs(entity.dxf.center)
+            content.points.append((layer, float(centre.x), float(centre.y), None, dxftype))
+        if dxftype in _LINEWORK:
+            closed = any(kind != OPEN for _, kind in found)
+            content.closed_open[layer][0 if closed else 1] += 1
+        parts = Parts.from_list(*zip(*found)) if found else Parts.empty()
+        budget.spend(parts, 1, f"{dxftype} on layer {layer!r}")
+        chunks[layer].append(parts)
+
+
+def entity_layer(entity):
+    """Return an entity's layer name ("0" when a damaged or unmodelled entity has none)."""
+    try:
+        return str(entity.dxf.get("layer", "0"))
+    except _DAMAGE:
+        return "0"
+
+
+def _paperspace_count(doc):
+    """Count paper-space entities (0 when recovery left the layouts damaged)."""
+    total = 0
+    try:
+        for layout in doc.layouts:
+            with contextlib.suppress(*_DAMAGE):
+                if not layout.is_modelspace:
+                    total += len(layout)
+    except _DAMAGE:
+        pass
+    return total
+
+
+def _scale(matrices):
+    """Largest linear scale of (M, 3, 2) affine matrices (for the chord tolerance)."""
+    scale = float(np.max(np.linalg.norm(matrices[:, :2, :], ord=2, axis=(1, 2))))
+    return scale if math.isfinite(scale) and scale > 1e-9 else 1e-9 if scale <= 1e-9 else 1e300
+
+
+def _curve_limit(limits, source, dxftype, layer, count):
+    return LimitError(
+        f"{source}: a {dxftype} on layer {layer!r} flattens to more than "
+        f"{limits.max_curve_vertices} vertices (limit max_curve_vertices; the chord "
+        f"tolerance may be too fine for its size or units); if the drawing really needs it, "
+        f"raise the limit in the --config file: [limits] max_curve_vertices = {10 * count}")
+
+
+class _Budget:
+    """Running count of expanded parts and vertices against max_entities / max_vertices."""
+
+    def __init__(self, limits, source):
+        self.limits, self.source = limits, source
+        self.parts = self.vertices = 0
+
+    def spend(self, parts, copies, where):
+        self.parts += len(parts) * copies
+        self.vertices += len(parts.coords) * copies
+        hint = f"reached while expanding {where}"
+        self.limits.check("max_entities", self.parts, subject=self.source,
+                          what="linework parts after block expansion", hint=hint)
+        self.limits.check("max_vertices", self.vertices, subject=self.source,
+                          what="vertices after block expansion", hint=hint)
+
+
+def insert_matrices(insert, *, limits=None, source=""):
+    """Return the (M, 3, 2) row-vector affine matrices of an INSERT (M cells of a MINSERT).
+
+    Raises LimitError when a MINSERT has more cells than ``limits.max_entities``.
+    """
+    limits = limits or Limits()
     rows = np.array(list(insert.matrix44().rows()), dtype=float)
     base = rows[[0, 1, 3], :2]
     row_count = max(int(insert.dxf.get("row_count", 1)), 1)
     column_count = max(int(insert.dxf.get("column_count", 1)), 1)
     if row_count * column_count == 1:
         return base[None]
+    limits.check("max_entities", row_count * column_count, subject=source,
+                 what=f"MINSERT of block {str(insert.dxf.name)!r} with {row_count} x "
+                      f"{column_count} cells")
     columns, grid_rows = np.meshgrid(np.arange(column_count), np.arange(row_count))
     offsets = np.column_stack([columns.ravel() * insert.dxf.column_spacing,
                                grid_rows.ravel() * insert.dxf.row_spacing])
@@ -247,7 +364,8 @@ def insert_matrices(insert):
 
 def attribute_label(insert):
     """Return an INSERT's label attribute (LABEL, NAME, ID, ... or the first non-empty one)."""
-    values = {attrib.dxf.tag.upper(): attrib.dxf.text.strip() for attrib in insert.attribs}
+    values = {str(attrib.dxf.tag).upper(): str(attrib.dxf.text).strip()
+              for attrib in insert.attribs if attrib.is_alive}
     for tag in _LABEL_TAGS:
         if values.get(tag):
             return values[tag]
@@ -263,12 +381,21 @@ def text_item(entity, layer):
     return (layer, position.x, position.y, entity.plain_text().strip())
 
 
-def _xy(vertices):
+def _xy(vertices, limit=None):
+    """(N, 2) array of the x, y of `vertices`; raise _TooMany past `limit` of them."""
+    if limit is not None:
+        vertices = list(itertools.islice(vertices, limit + 1))
+        if len(vertices) > limit:
+            raise _TooMany(limit)
     return np.array([(vertex.x, vertex.y) for vertex in vertices], dtype=float).reshape(-1, 2)
 
 
-def flatten_entity(entity, tolerance):
-    """Return [(xy, kind), ...] for one entity in its own frame, or None if unsupported."""
+def flatten_entity(entity, tolerance, max_vertices=None):
+    """Return [(xy, kind), ...] for one entity in its own frame, or None if unsupported.
+
+    Raises _TooMany when a flattened curve would have more than `max_vertices` vertices.
+    """
+    limit = max_vertices
     dxftype = entity.dxftype()
     if dxftype == "LINE":
         start, end = entity.dxf.start, entity.dxf.end
@@ -276,7 +403,7 @@ def flatten_entity(entity, tolerance):
     if dxftype == "LWPOLYLINE":
         points = np.array(entity.get_points("xyseb"), dtype=float).reshape(-1, 5)
         return polyline_parts(points, entity.closed, entity.dxf.const_width, entity.ocs(),
-                              entity.dxf.elevation, tolerance)
+                              entity.dxf.elevation, tolerance, limit)
     if dxftype == "POLYLINE":
         if entity.is_2d_polyline:
             points = np.array([(v.dxf.location.x, v.dxf.location.y,
@@ -284,19 +411,21 @@ def flatten_entity(entity, tolerance):
                                 v.dxf.get("end_width", entity.dxf.default_end_width),
                                 v.dxf.bulge) for v in entity.vertices], dtype=float).reshape(-1, 5)
             return polyline_parts(points, entity.is_closed, 0.0, entity.ocs(),
-                                  entity.dxf.elevation.z, tolerance)
+                                  entity.dxf.elevation.z, tolerance, limit)
         if entity.is_3d_polyline:
-            return [(_xy(entity.points()), CLOSED if entity.is_closed else OPEN)]
+            return [(_xy(entity.points(), limit), CLOSED if entity.is_closed else OPEN)]
         return None
     if dxftype in ("ARC", "CIRCLE"):
-        xy = _xy(entity.flattening(tolerance))
+        xy = _xy(entity.flattening(tolerance), limit)
         return [(xy, OPEN if dxftype == "ARC" else CLOSED)]
     if dxftype in ("ELLIPSE", "SPLINE"):
-        xy = _xy(entity.flattening(tolerance))
+        xy = _xy(entity.flattening(tolerance), limit)
         closed = len(xy) > 2 and np.allclose(xy[0], xy[-1], atol=tolerance)
         return [(xy, CLOSED if closed else OPEN)]
     if dxftype == "HATCH":
-        rings = [_xy(path.flattening(tolerance)) for path in from_hatch(entity)]
+        rings = [_xy(path.flattening(tolerance), limit) for path in from_hatch(entity)]
+        if not all(np.isfinite(ring).all() for ring in rings):
+            raise _NotFinite()
         rings = [shapely.make_valid(shapely.Polygon(ring)) for ring in rings if len(ring) >= 3]
         area = shapely.Polygon()
         for ring in rings:  # boundary paths nest as islands: even-odd
@@ -308,11 +437,18 @@ def flatten_entity(entity, tolerance):
     return None
 
 
-def polyline_parts(points, closed, const_width, ocs, elevation, tolerance):
+def polyline_parts(points, closed, const_width, ocs, elevation, tolerance, limit=None):
     """Flatten a 2-D polyline given as (N, 5) x, y, start width, end width, bulge (OCS)."""
     if not len(points):
         return []
-    xy = bulge_polyline(points[:, :2], points[:, 4], closed=closed, tolerance=tolerance)
+    if not np.isfinite(points).all():
+        raise _NotFinite()
+    if limit is not None and len(points) > limit:
+        raise _TooMany(limit)
+    xy = bulge_polyline(points[:, :2], points[:, 4], closed=closed, tolerance=tolerance,
+                        max_vertices=limit)
+    if xy is None:
+        raise _TooMany(limit)
     wide = const_width > 0 or np.any(points[:, 2:4] > 0)
     if wide:
         widths = np.where(points[:, 2:4] > 0, points[:, 2:4], const_width)
@@ -341,40 +477,69 @@ def polygon_rings(area):
 class _BlockReader:
     """Flatten each block definition once per tolerance, nested blocks included."""
 
-    def __init__(self, doc, source):
-        self.doc, self.source = doc, source
+    def __init__(self, doc, source, limits, budget):
+        self.doc, self.source, self.limits, self.budget = doc, source, limits, budget
         self.cache, self.active, self.warnings = {}, [], []
+        self.damaged = Counter()
 
     def block_parts(self, name, tolerance):
         """Return {layer: Parts} of block `name` in block units (layer 0 left as '0')."""
-        tolerance = 2.0 ** math.floor(math.log2(tolerance))  # a few cache buckets
+        tolerance = 2.0 ** math.floor(math.log2(min(max(tolerance, 1e-300), 1e300)))  # buckets
         if (name, tolerance) in self.cache:
             return self.cache[(name, tolerance)]
         if name in self.active:
             chain = " -> ".join(self.active[self.active.index(name):] + [name])
             raise DrawingError(f"{self.source}: block {name!r} inserts itself ({chain}); "
                                f"fix the block definitions")
-        block = self.doc.blocks.get(name)
+        self.limits.check("max_block_depth", len(self.active) + 1, subject=self.source,
+                          what=f"nesting depth of block {name!r}",
+                          hint=f"it is inserted through {' -> '.join(self.active[:3])} ...")
+        try:
+            block = self.doc.blocks.get(name)
+        except _DAMAGE:
+            block = None
         if block is None:
             self.warnings.append(f"{self.source}: INSERT of undefined block {name!r} skipped")
             return {}
         self.active.append(name)
         chunks = defaultdict(list)
         for entity in block:
-            layer = entity.dxf.get("layer", "0")
-            if entity.dxftype() == "INSERT":
-                matrices = insert_matrices(entity)
-                scale = float(np.max(np.linalg.norm(matrices[:, :2, :], ord=2, axis=(1, 2))))
-                for child_layer, parts in self.block_parts(entity.dxf.name,
-                                                           tolerance / max(scale, 1e-9)).items():
-                    chunks[layer if child_layer == "0" else child_layer].append(parts.placed(matrices))
+            if not entity.is_alive:
                 continue
-            if entity.dxftype() in ("ATTDEF", "ATTRIB") + _TEXTS:
-                continue
-            found = flatten_entity(entity, tolerance)
-            if found:
-                chunks[layer].append(Parts.from_list(*zip(*found)))
+            dxftype, layer = entity.dxftype(), entity_layer(entity)
+            try:
+                self._add(entity, dxftype, layer, tolerance, chunks)
+            except ClearwayError:
+                raise
+            except _TooMany as err:
+                raise _curve_limit(self.limits, self.source, dxftype, layer,
+                                   err.args[0]) from None
+            except _NotFinite:
+                raise _not_finite(self.source, layer) from None
+            except _DAMAGE:
+                self.damaged[(name, dxftype)] += 1
         self.active.pop()
         result = {layer: Parts.concat(found) for layer, found in chunks.items()}
         self.cache[(name, tolerance)] = result
+        if not self.active:
+            for (block_name, dxftype), count in sorted(self.damaged.items()):
+                self.warnings.append(f"{self.source}: {count} damaged {dxftype} in block "
+                                     f"{block_name!r} skipped")
+            self.damaged.clear()
         return result
+
+    def _add(self, entity, dxftype, layer, tolerance, chunks):
+        if dxftype == "INSERT":
+            matrices = insert_matrices(entity, limits=self.limits, source=self.source)
+            child = str(entity.dxf.name)
+            for child_layer, parts in self.block_parts(child, tolerance / _scale(matrices)).items():
+                self.budget.spend(parts, len(matrices), f"block {child!r}")
+                chunks[layer if child_layer == "0" else child_layer].append(parts.placed(matrices))
+            return
+        if dxftype in ("ATTDEF", "ATTRIB") + _TEXTS:
+            return
+        found = flatten_entity(entity, tolerance, self.limits.max_curve_vertices)
+        if found:
+            parts = Parts.from_list(*zip(*found))
+            self.budget.spend(parts, 1, f"block contents")
+            chunks[layer].append(parts)

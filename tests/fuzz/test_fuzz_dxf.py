@@ -1,0 +1,265 @@
+"""Byte- and tag-level fuzzing of DXF input: every input ends, in bounded time, with a result
+or a ClearwayError of one line; on the command line with exit code 2, one stderr line and
+no files written.
+
+Inputs are mutations of the bundled sample drawings (ASCII and binary DXF) described by a
+short recipe, so hypothesis shows and shrinks the recipe, not 30 kB of bytes. The budget is
+small in CI; set CLEARWAY_FUZZ_EXAMPLES for a longer run by hand, e.g.
+
+    CLEARWAY_FUZZ_EXAMPLES=2000 pytest tests/fuzz -q
+
+The number of inputs tried per target is printed in the "fuzz inputs tried" summary.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import faulthandler
+import os
+import signal
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import ezdxf
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from clearway.errors import ClearwayError
+from converter import list_layers, read_floorplan
+
+SAMPLES = Path(__file__).resolve().parents[2] / "sample_drawings"
+NAMES = ("clinic", "distribution_centre", "distribution_centre_rev_b")
+EXAMPLES = int(os.environ.get("CLEARWAY_FUZZ_EXAMPLES", "120"))
+#: Seconds one input may take in process (the samples read in well under 0.2 s).
+TIMEOUT_S = 10
+FUZZ = settings(max_examples=EXAMPLES, deadline=None, derandomize=not os.environ.get(
+    "CLEARWAY_FUZZ_EXAMPLES"), suppress_health_check=[HealthCheck.too_slow,
+                                                      HealthCheck.function_scoped_fixture])
+
+#: Group codes that hold counts, flags and sizes (DXF reference: 90 vertex count of
+#: LWPOLYLINE, 70/71 MINSERT columns/rows, 72-74 spline and hatch counts, 91-98 hatch paths,
+#: edges and spline knots), plus coordinates (10/20) and scales and radii (40-45, 50).
+COUNT_CODES = (b"90", b"70", b"71", b"72", b"73", b"74", b"91", b"92", b"93", b"94", b"95",
+               b"96", b"97", b"98", b"40", b"41", b"42", b"43", b"44", b"45", b"50", b"10",
+               b"20")
+HOSTILE_VALUES = (b"2147483647", b"-2147483648", b"4294967296", b"1000000000", b"-1", b"0",
+                  b"99999999999999999999", b"1e308", b"-1e308", b"1e-320", b"nan", b"inf",
+                  b"-inf", b"", b"A-WALL", b"\xff\xfe", b"0\nEOF")
+
+
+@pytest.fixture(scope="module")
+def originals(tmp_path_factory):
+    """Bytes of each sample drawing, ASCII and binary DXF (binary written by ezdxf)."""
+    folder = tmp_path_factory.mktemp("binary")
+    found = {}
+    for name in NAMES:
+        found[name] = (SAMPLES / f"{name}.dxf").read_bytes()
+        binary = folder / f"{name}.dxf"
+        ezdxf.readfile(SAMPLES / f"{name}.dxf").saveas(binary, fmt="bin")
+        found[f"{name} (binary)"] = binary.read_bytes()
+    return found
+
+
+class Hang(BaseException):
+    """One input ran past TIMEOUT_S (BaseException: no library code may swallow it)."""
+
+
+@contextlib.contextmanager
+def time_limit(seconds):
+    """Raise Hang after `seconds`; as a last resort, dump stacks and exit after 6x that."""
+    def expire(*_):
+        raise Hang(f"input took more than {seconds} s")
+    previous = signal.signal(signal.SIGALRM, expire)
+    signal.setitimer(signal.ITIMER_REAL, seconds)
+    faulthandler.dump_traceback_later(6 * seconds, exit=True)  # a hang inside C code
+    try:
+        yield
+    finally:
+        signal.setitimer(signal.ITIMER_REAL, 0)
+        faulthandler.cancel_dump_traceback_later()
+        signal.signal(signal.SIGALRM, previous)
+
+
+# --- mutations: (operation, numbers in [0, 1) choosing where, a value) -------------------
+
+def _where(fraction, count):
+    return min(int(fraction * count), count - 1)
+
+
+def mutate(data: bytes, recipe) -> bytes:
+    """Apply each (operation, a, b, value) of `recipe` to `data` in order."""
+    for operation, a, b, value in recipe:
+        lines = data.split(b"\n")
+        pairs = max(len(lines) // 2, 1)
+        if operation == "flip":           # flipped bits anywhere
+            blob = bytearray(data)
+            if blob:
+                blob[_where(a, len(blob))] ^= 1 << _where(b, 8)
+            data = bytes(blob)
+            continue
+        if operation == "truncate":       # cut off at any byte
+            data = data[:_where(a, len(data) + 1)]
+            continue
+        if operation == "cut_tag":        # a (code, value) pair removed
+            del lines[2 * _where(a, pairs):2 * _where(a, pairs) + 2]
+        elif operation == "cut_line":     # one line removed: codes and values out of step
+            del lines[_where(a, len(lines))]
+        elif operation == "swap_codes":   # two group codes swapped
+            i, j = 2 * _where(a, pairs), 2 * _where(b, pairs)
+            if j < len(lines) and i < len(lines):
+                lines[i], lines[j] = lines[j], lines[i]
+        elif operation == "count":        # an enormous or absurd count, size or coordinate
+            found = [k for k in range(0, len(lines) - 1, 2) if lines[k].strip() in COUNT_CODES]
+            if found:
+                lines[found[_where(a, len(found))] + 1] = value
+        elif operation == "value":        # any value replaced
+            k = 2 * _where(a, pairs) + 1
+            if k < len(lines):
+                lines[k] = value
+        elif operation == "repeat":       # a run of tags repeated elsewhere
+            start, at = 2 * _where(a, pairs), 2 * _where(b, pairs)
+            lines[at:at] = lines[start:start + 2 + int(b * 60) * 2]
+        data = b"\n".join(lines)
+    return data
+
+
+OPERATIONS = ("flip", "truncate", "cut_tag", "cut_line", "swap_codes", "count", "value",
+              "repeat")
+unit = st.floats(0, 1, exclude_max=True, allow_nan=False)
+recipes = st.lists(st.tuples(st.sampled_from(OPERATIONS), unit, unit,
+                             st.sampled_from(HOSTILE_VALUES)), min_size=1, max_size=4)
+
+
+def run_in_process(function, path, counts, target):
+    """Run `function(path)` under the time limit; return "result" or "refused"."""
+    start = time.perf_counter()
+    with time_limit(TIMEOUT_S):
+        try:
+            function(path)
+            outcome = "result"
+        except ClearwayError as err:
+            message = str(err)
+            assert message and "\n" not in message and "\r" not in message, repr(message)
+            assert message.startswith(path.name), message      # subject first: the file
+            outcome = "refused"
+    assert time.perf_counter() - start < TIMEOUT_S
+    counts[f"{target}: {outcome}"] += 1
+    return outcome
+
+
+@FUZZ
+@given(name=st.sampled_from(NAMES), binary=st.booleans(), recipe=recipes)
+def test_mutated_drawing_reads_or_is_refused(tmp_path, originals, fuzz_counts, name, binary,
+                                             recipe):
+    data = originals[f"{name} (binary)" if binary else name]
+    path = tmp_path / "mutated.dxf"
+    path.write_bytes(mutate(data, recipe))
+    run_in_process(read_floorplan, path, fuzz_counts, "read_floorplan, mutated samples")
+
+
+@FUZZ
+@given(name=st.sampled_from(NAMES), binary=st.booleans(), recipe=recipes)
+def test_mutated_drawing_lists_or_is_refused(tmp_path, originals, fuzz_counts, name, binary,
+                                             recipe):
+    data = originals[f"{name} (binary)" if binary else name]
+    path = tmp_path / "mutated.dxf"
+    path.write_bytes(mutate(data, recipe))
+    run_in_process(list_layers, path, fuzz_counts, "list_layers, mutated samples")
+
+
+@settings(max_examples=max(EXAMPLES // 3, 10), deadline=None,
+          suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(name=st.sampled_from(NAMES), cut=unit)
+def test_truncated_drawing_is_refused(tmp_path, originals, fuzz_counts, name, cut):
+    # analytic: a file cut before its EOF marker has an unterminated section or no EOF
+    data = originals[name]
+    end = data.rindex(b"EOF")
+    path = tmp_path / "cut.dxf"
+    path.write_bytes(data[:_where(cut, end)])
+    assert run_in_process(read_floorplan, path, fuzz_counts, "read_floorplan, truncated") \
+        == "refused"
+
+
+# --- regression inputs found by fuzzing (each crashed before the fix) --------------------
+
+def _find_line(data, old, new):
+    assert old in data
+    return data.replace(old, new, 1)
+
+
+@pytest.mark.parametrize("case", ["renamed entity", "huge coordinate", "far line",
+                                  "huge MINSERT", "nan in polyline"])
+def test_fuzz_regressions(tmp_path, originals, fuzz_counts, case):
+    """Inputs that crashed or hung before the fixes of issue 6, each rebuilt by hand."""
+    doc = ezdxf.new("R2010", units=6)
+    msp = doc.modelspace()
+    msp.add_lwpolyline([(0, 0), (10, 0), (10, 8), (0, 8)], close=True,
+                       dxfattribs={"layer": "A-WALL"})
+    msp.add_lwpolyline([(0.2, 0.2), (9.8, 0.2), (9.8, 7.8), (0.2, 7.8)], close=True,
+                       dxfattribs={"layer": "A-WALL"})
+    msp.add_circle((5, 4), 0.3, dxfattribs={"layer": "A-COLS"})
+    block = doc.blocks.new("DOCK")
+    block.add_circle((0, 0), 0.2)
+    block.add_attdef("LABEL", (0, 0))
+    insert = msp.add_blockref("DOCK", (2, 2), dxfattribs={"layer": "STATION"})
+    insert.add_attrib("LABEL", "D1", (2, 2))
+    if case == "far line":
+        msp.add_line((0, 0), (0, 2.54e7), dxfattribs={"layer": "A-WALL"})  # hung in leak search
+    if case == "huge MINSERT":           # 2^31 x 2^31 cells: a MemoryError before
+        msp.add_blockref("DOCK", (1, 1), dxfattribs={"layer": "A-EQPM-RACK"}).grid(
+            size=(2 ** 31 - 1, 2 ** 31 - 1), spacing=(1, 1))
+    if case == "nan in polyline":
+        msp.add_lwpolyline([(1, 1), (2, 1), (2, 2)], dxfattribs={"layer": "A-WALL"})
+    path = tmp_path / f"{case.replace(' ', '_')}.dxf"
+    doc.saveas(path)
+    data = path.read_bytes()
+    if case == "renamed entity":        # DXFAttributeError 'layer' for entity CISCLE
+        data = _find_line(data, b"\nCIRCLE\n", b"\nCISCLE\n")
+    elif case == "huge coordinate":     # GEOSException NaN/Inf and OverflowError before
+        data = _find_line(data, b"\n 10\n5.0\n", b"\n 10\n1e308\n")
+    elif case == "nan in polyline":
+        data = _find_line(data, b"\n 10\n2.0\n 20\n1.0", b"\n 10\nnan\n 20\n1.0")
+    path.write_bytes(data)
+    outcome = run_in_process(read_floorplan, path, fuzz_counts, "regressions")
+    assert run_in_process(list_layers, path, fuzz_counts, "regressions") == \
+        ("refused" if case in ("huge MINSERT", "nan in polyline") else "result")
+    expected = {"renamed entity": "result", "huge coordinate": "refused", "far line": "refused",
+                "huge MINSERT": "refused", "nan in polyline": "refused"}
+    assert outcome == expected[case]
+
+
+# --- the command line: exit 2, one line on stderr, nothing written ------------------------
+
+CLI = "from clearway.cli import main; main()"
+CLI_RECIPES = [
+    [("truncate", 0.5, 0.0, b"")],
+    [("count", 0.3, 0.0, b"1e308")],
+    [("cut_line", 0.4, 0.0, b"")],
+    [("flip", 0.001, 0.2, b"")],
+    [("value", 0.0, 0.0, b"")],
+    [("swap_codes", 0.2, 0.7, b""), ("repeat", 0.1, 0.9, b"")],
+]
+
+
+@pytest.mark.parametrize("recipe", CLI_RECIPES, ids=lambda recipe: recipe[0][0])
+def test_cli_layers_on_mutated_drawing(tmp_path, originals, fuzz_counts, recipe):
+    data = mutate(originals["distribution_centre"], recipe)
+    drawing = tmp_path / "in" / "mutated.dxf"
+    drawing.parent.mkdir()
+    drawing.write_bytes(data)
+    before = sorted(tmp_path.rglob("*"))
+    done = subprocess.run([sys.executable, "-c", CLI, "layers", str(drawing)],
+                          capture_output=True, text=True, timeout=60, cwd=tmp_path)
+    assert done.returncode in (0, 2), done.stderr
+    assert "Traceback" not in done.stderr
+    if done.returncode == 2:
+        assert len(done.stderr.splitlines()) == 1, done.stderr
+        assert done.stderr.startswith("Error: "), done.stderr
+        assert done.stdout == ""
+    else:
+        assert done.stderr == "", done.stderr
+    assert sorted(tmp_path.rglob("*")) == before               # nothing written
+    fuzz_counts[f"clearway layers (subprocess): exit {done.returncode}"] += 1
