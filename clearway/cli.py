@@ -32,7 +32,37 @@ class InputError(click.ClickException):
     exit_code = 2
 
 
-@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+class OneLineErrorGroup(click.Group):
+    """A click group whose usage errors, like every input error, print exactly one line.
+
+    click's own display adds the usage and a hint (three lines); a script reading stderr
+    wants the cause alone, with exit code 2 as before.
+    """
+
+    def main(self, args=None, prog_name=None, complete_var=None, standalone_mode=True,
+             **extra):
+        if not standalone_mode:
+            return super().main(args, prog_name, complete_var, standalone_mode=False, **extra)
+        try:
+            result = super().main(args, prog_name, complete_var, standalone_mode=False,
+                                  **extra)
+        except click.exceptions.NoArgsIsHelpError as err:
+            click.echo(err.format_message())         # bare `clearway`: the help, on stdout
+            sys.exit(0)
+        except click.UsageError as err:
+            where = f"{err.ctx.command_path}: " if err.ctx is not None else ""
+            click.echo(f"Error: {where}{err.format_message()}", err=True)
+            sys.exit(err.exit_code)
+        except click.ClickException as err:
+            err.show()
+            sys.exit(err.exit_code)
+        except click.Abort:
+            click.echo("Aborted.", err=True)
+            sys.exit(1)
+        sys.exit(result if isinstance(result, int) else 0)
+
+
+@click.group(cls=OneLineErrorGroup, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(__version__, prog_name="clearway")
 def main():
     """Turn a DXF floor plan into a weighted graph of safe robot lanes.

@@ -2,9 +2,11 @@
 
 Every file is first written in full to a temporary name in the output folder (same file
 system, so the rename is atomic) and flushed to disk. Only when all of them succeeded are they
-renamed over the final names, one after the other, while an exclusive ``flock`` on the folder
-is held (so two builds into the same folder never interleave their files: the set that lands
-last is whole) and SIGINT / SIGTERM are held back (so an interrupt cannot split the set).
+renamed over the final names, one after the other, while SIGINT / SIGTERM are held back (so
+an interrupt cannot split the set). An exclusive ``flock`` on the folder is held from the first
+temporary file to the last rename, so two builds into the same folder never interleave their
+files (the set that lands last is whole), and temporary files that a killed build left behind
+(SIGKILL, power loss) are removed by the next build into that folder.
 On any failure (including KeyboardInterrupt) before the renames, the temporary files are
 removed and the previous outputs are left exactly as they were.
 """
@@ -96,24 +98,37 @@ def write_outputs(outdir, files: dict[str, bytes]) -> list[Path]:
     folder = Path(outdir)
     folder.mkdir(parents=True, exist_ok=True)
     temporaries: list[tuple[Path, Path]] = []
-    try:
-        for name, content in files.items():
-            final = folder / name
-            descriptor, temporary = tempfile.mkstemp(
-                prefix=f"{TEMP_PREFIX}{name}.", suffix=TEMP_SUFFIX, dir=folder)
-            temporaries.append((Path(temporary), final))
-            with os.fdopen(descriptor, "wb") as handle:
-                handle.write(content)
-                handle.flush()
-                os.fchmod(handle.fileno(), _final_mode(final))
-                os.fsync(handle.fileno())
-        with _folder_lock(folder) as descriptor, _signals_held():
-            for temporary, final in temporaries:
-                os.replace(temporary, final)
-            os.fsync(descriptor)          # make the renames themselves durable
-    except BaseException:
-        for temporary, _ in temporaries:
-            with contextlib.suppress(FileNotFoundError):
-                temporary.unlink()
-        raise
+    with _folder_lock(folder) as descriptor:
+        _remove_stale_temporaries(folder)
+        try:
+            _write_set(folder, files, temporaries, descriptor)
+        except BaseException:
+            for temporary, _ in temporaries:
+                with contextlib.suppress(FileNotFoundError):
+                    temporary.unlink()
+            raise
     return [final for _, final in temporaries]
+
+
+def _remove_stale_temporaries(folder: Path) -> None:
+    """Remove temporary files of builds that died; only called while holding the lock."""
+    for stale in folder.glob(f"{TEMP_PREFIX}*{TEMP_SUFFIX}"):
+        with contextlib.suppress(FileNotFoundError):
+            stale.unlink()
+
+
+def _write_set(folder: Path, files, temporaries, descriptor) -> None:
+    for name, content in files.items():
+        final = folder / name
+        handle_descriptor, temporary = tempfile.mkstemp(
+            prefix=f"{TEMP_PREFIX}{name}.", suffix=TEMP_SUFFIX, dir=folder)
+        temporaries.append((Path(temporary), final))
+        with os.fdopen(handle_descriptor, "wb") as handle:
+            handle.write(content)
+            handle.flush()
+            os.fchmod(handle.fileno(), _final_mode(final))
+            os.fsync(handle.fileno())
+    with _signals_held():
+        for temporary, final in temporaries:
+            os.replace(temporary, final)
+        os.fsync(descriptor)              # make the renames themselves durable

@@ -244,3 +244,24 @@ def test_bad_input_exits_2_with_one_line_and_writes_nothing(tmp_path, make_args,
 def _write(path, data: bytes):
     path.write_bytes(data)
     return path
+
+
+@pytest.mark.parametrize("args, message", [
+    (["build", SAMPLES / "clinic.dxf"], r"^Error: \S+ build: Missing option '-o'"),
+    (["build", SAMPLES / "clinic.dxf", "-o", "x", "--bogus"], r"No such option: --bogus"),
+    (["bogus"], r"^Error: \S+: No such command 'bogus'"),
+    (["route", "--matrix"], r"^Error: \S+ route: Missing argument"),
+])
+def test_usage_errors_exit_2_with_one_line(tmp_path, monkeypatch, args, message):
+    monkeypatch.chdir(tmp_path)
+    result = run(*args)
+    assert result.exit_code == 2, result.output
+    assert len(result.stderr.splitlines()) == 1, result.stderr
+    assert re.search(message, result.stderr), result.stderr
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_bare_command_prints_help_and_exits_0():
+    result = run()
+    assert result.exit_code == 0
+    assert result.stdout.startswith("Usage: ") and result.stderr == ""

@@ -92,3 +92,14 @@ def test_an_interrupt_during_the_renames_lands_after_the_whole_set(tmp_path, mon
     with pytest.raises(KeyboardInterrupt):
         write_outputs(tmp_path, NEW)
     assert _snapshot(tmp_path) == dict(sorted(NEW.items()))    # whole new set, no temporaries
+
+
+def test_a_later_build_removes_what_a_killed_build_left_behind(tmp_path):
+    # a SIGKILL between writing and renaming leaves a hidden temporary file; the lock is
+    # held from the first temporary file to the last rename, so any such file found
+    # while holding it belongs to no live build
+    write_outputs(tmp_path, {"report.json": b"old"})
+    stale = tmp_path / f"{exporters.files.TEMP_PREFIX}report.json.x1y2{exporters.files.TEMP_SUFFIX}"
+    stale.write_bytes(b"half a report")
+    write_outputs(tmp_path, NEW)
+    assert _snapshot(tmp_path) == dict(sorted(NEW.items()))
