@@ -248,7 +248,7 @@ def _write(path, data: bytes):
 
 @pytest.mark.parametrize("args, message", [
     (["build", SAMPLES / "clinic.dxf"], r"^Error: \S+ build: Missing option '-o'"),
-    (["build", SAMPLES / "clinic.dxf", "-o", "x", "--bogus"], r"No such option: --bogus"),
+    (["build", SAMPLES / "clinic.dxf", "-o", "x", "--bogus"], r"No such option '--bogus'"),
     (["bogus"], r"^Error: \S+: No such command 'bogus'"),
     (["route", "--matrix"], r"^Error: \S+ route: Missing argument"),
 ])
