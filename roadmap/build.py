@@ -14,10 +14,9 @@ from roadmap import checks
 from roadmap.gvd import medial_axis
 from roadmap.graph import (_adjacency, chain_lanes, contract_short_edges, prune_spurs,
                            split_loops)
-from roadmap.inflate import (boundary_segments, clearance_field, drivable_region,
-                             inflate_obstacles, local_offset, polygon_parts, polylines,
-                             to_drawing,
-                             to_local)
+from roadmap.clearance import clearance_field
+from roadmap.inflate import (boundary_segments, drivable_region, inflate_obstacles,
+                             local_offset, polygon_parts, polylines, to_drawing, to_local)
 from roadmap.model import Findings, Robot, Roadmap
 from roadmap.lanes import assemble_graph, refine_lanes
 from roadmap.stations import Attachment, link_stations, station_regions

@@ -9,7 +9,6 @@ minus every obstacle).
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
 
 import numpy as np
 import shapely
@@ -165,42 +164,3 @@ def boundary_segments(free_space) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     previous = np.where(first, ring_last, index - 1)
     following = np.where(last, ring_first, index + 1)
     return np.stack([start, end], axis=1), previous, following
-
-
-@dataclass(frozen=True)
-class ClearanceField:
-    """Exact clearance queries against the boundary of the free space.
-
-    Build it with :func:`clearance_field`; call :meth:`at` with an (N, 2) array of points.
-    The distances are shapely's (GEOS) point-to-segment distances, so they agree with
-    ``shapely.distance(point, free_space.boundary)`` to rounding.
-    """
-
-    tree: shapely.STRtree
-    lines: np.ndarray
-
-    def at(self, xy) -> np.ndarray:
-        """Return the clearance at each point, metres, shape (N,)."""
-        xy = np.asarray(xy, dtype=float).reshape(-1, 2)
-        if len(xy) == 0 or len(self.lines) == 0:
-            return np.full(len(xy), np.inf)
-        _, distance = self.tree.query_nearest(shapely.points(xy), return_distance=True,
-                                              all_matches=False)
-        return np.asarray(distance, dtype=float)
-
-    def along(self, lines, step: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-        """Sample `lines` every `step` metres plus every vertex; measure each sample.
-
-        Returns
-        -------
-        xy : (M, 2) samples, owner : (M,) index of the line, clearance : (M,) metres.
-        """
-        dense = shapely.segmentize(np.asarray(lines, dtype=object), step)
-        xy, owner = shapely.get_coordinates(dense, return_index=True)
-        return xy, owner, self.at(xy)
-
-
-def clearance_field(segments: np.ndarray) -> ClearanceField:
-    """Index boundary `segments` (S, 2, 2) for exact clearance queries."""
-    lines = shapely.linestrings(segments) if len(segments) else np.empty(0, dtype=object)
-    return ClearanceField(tree=shapely.STRtree(lines), lines=lines)

@@ -13,7 +13,8 @@ import networkx as nx
 import numpy as np
 import shapely
 
-from roadmap.inflate import ClearanceField, polylines
+from roadmap.clearance import ClearanceField
+from roadmap.inflate import polylines
 from roadmap.stations import ON_LANE, Attachment
 
 #: Sampling interval for each edge's clearance_min, metres.
