@@ -2,7 +2,8 @@
 
 Double rows of 2.7 m x 1.1 m rack bays (each bay one INSERT of a block) with 3.2 m aisles,
 4 m cross aisles between blocks of 20 bays, the last block's rows butting the east wall
-(dead-end aisles), columns in the cross aisles, and a 0.3 m double-line exterior wall.
+(dead-end aisles), a single row backing onto the south wall in each block, columns in the
+cross aisles, a 0.3 m double-line exterior wall, and docks (stations) along the west aisle.
 Millimetres ($INSUNITS = 4). Deterministic: the same arguments write the same drawing.
 """
 
@@ -12,6 +13,7 @@ import math
 from pathlib import Path
 
 import ezdxf
+import numpy as np
 
 BAY_LENGTH, BAY_DEPTH, AISLE, CROSS_AISLE, BAYS_PER_RUN = 2.7, 1.1, 3.2, 4.0, 20
 
@@ -19,8 +21,12 @@ BAY_LENGTH, BAY_DEPTH, AISLE, CROSS_AISLE, BAYS_PER_RUN = 2.7, 1.1, 3.2, 4.0, 20
 def warehouse_layout(bays, *, runs_across=3):
     """Return (bay origins in metres, building width, building depth) for about `bays` bays."""
     per_double_row = 2 * BAYS_PER_RUN * runs_across
-    double_rows = max(1, math.ceil(bays / per_double_row))
+    backed = BAYS_PER_RUN * runs_across  # one row per block backing onto the south wall
+    double_rows = max(1, math.ceil(max(bays - backed, 0) / per_double_row))
     origins = []
+    for run in range(runs_across):
+        x0 = 4.0 + run * (BAYS_PER_RUN * BAY_LENGTH + CROSS_AISLE)
+        origins.extend((x0 + index * BAY_LENGTH, 0.0) for index in range(BAYS_PER_RUN))
     for row in range(double_rows):
         y = 6.0 + row * (2 * BAY_DEPTH + AISLE)
         for run in range(runs_across):
@@ -57,7 +63,9 @@ def write_warehouse(path, bays=5000, *, runs_across=3):
         while y < depth - 3.0:
             msp.add_circle((x * mm, y * mm), 0.2 * mm, dxfattribs={"layer": "A-COLS"})
             y += 2 * (2 * BAY_DEPTH + AISLE)
-    msp.add_point((2.0 * mm, 3.0 * mm), dxfattribs={"layer": "A-EQPM-STATION"})
-    msp.add_text("DOCK-01", dxfattribs={"layer": "A-EQPM-STATION", "insert": (2.2 * mm, 3.2 * mm)})
+    for number, y in enumerate(np.arange(3.0, depth - 2.0, 25.0), start=1):  # west-aisle docks
+        msp.add_point((2.0 * mm, y * mm), dxfattribs={"layer": "A-EQPM-STATION"})
+        msp.add_text(f"DOCK-{number:02d}", dxfattribs={"layer": "A-EQPM-STATION",
+                                                       "insert": (2.2 * mm, (y + 0.2) * mm)})
     doc.saveas(Path(path))
     return Path(path)
