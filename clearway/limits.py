@@ -11,7 +11,7 @@ running out of memory or time.
     max_coordinate = 1e8          # m, largest |x| or |y| of the mapped geometry
     max_entities = 2000000        # linework parts after block expansion (MINSERT cells too)
     max_vertices = 20000000       # vertices after block expansion
-    max_curve_vertices = 1000000  # vertices of one flattened curve or polyline
+    max_curve_vertices = 100000   # vertices of one flattened curve or polyline
     max_block_depth = 64          # blocks nested inside blocks
     max_boundary_length = 200000.0  # m of free-space boundary (the Voronoi stage samples it)
 """
@@ -59,7 +59,7 @@ class Limits:
     max_coordinate: float = 1e8
     max_entities: int = 2_000_000
     max_vertices: int = 20_000_000
-    max_curve_vertices: int = 1_000_000
+    max_curve_vertices: int = 100_000
     max_block_depth: int = 64
     max_boundary_length: float = 200_000.0
 

@@ -311,10 +311,10 @@ def _scale(matrices):
 
 def _curve_limit(limits, source, dxftype, layer, count):
     return LimitError(
-        f"{source}: a {dxftype} on layer {layer!r} flattens to more than "
-        f"{limits.max_curve_vertices} vertices (limit max_curve_vertices; the chord "
-        f"tolerance may be too fine for its size or units); if the drawing really needs it, "
-        f"raise the limit in the --config file: [limits] max_curve_vertices = {10 * count}")
+        f"{source}: a {dxftype} on layer {layer!r} flattens to more than {count} vertices, "
+        f"over the limit max_curve_vertices = {limits.max_curve_vertices}; the chord tolerance "
+        f"may be too fine for its size or units; if the drawing really needs it, raise the "
+        f"limit in the --config file: [limits] max_curve_vertices = {10 * count}")
 
 
 class _Budget:
@@ -347,8 +347,8 @@ def insert_matrices(insert, *, limits=None, source=""):
     if row_count * column_count == 1:
         return base[None]
     limits.check("max_entities", row_count * column_count, subject=source,
-                 what=f"MINSERT of block {str(insert.dxf.name)!r} with {row_count} x "
-                      f"{column_count} cells")
+                 what=f"the number of cells of a MINSERT of block {str(insert.dxf.name)!r} "
+                      f"({row_count} x {column_count})")
     columns, grid_rows = np.meshgrid(np.arange(column_count), np.arange(row_count))
     offsets = np.column_stack([columns.ravel() * insert.dxf.column_spacing,
                                grid_rows.ravel() * insert.dxf.row_spacing])
@@ -419,6 +419,9 @@ def flatten_entity(entity, tolerance, max_vertices=None):
         xy = _xy(entity.flattening(tolerance), limit)
         return [(xy, OPEN if dxftype == "ARC" else CLOSED)]
     if dxftype in ("ELLIPSE", "SPLINE"):
+        if dxftype == "SPLINE" and limit is not None and max(
+                entity.control_point_count(), entity.fit_point_count()) > limit:
+            raise _TooMany(limit)  # refused before the costly evaluation
         xy = _xy(entity.flattening(tolerance), limit)
         closed = len(xy) > 2 and np.allclose(xy[0], xy[-1], atol=tolerance)
         return [(xy, CLOSED if closed else OPEN)]
