@@ -153,8 +153,7 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
     kept, isolated = prune_spurs(vertices, clearance, edges)
     isolated = np.union1d(isolated, alone)
     lines, ends, isolated = _lanes(vertices, clearance, kept, isolated, c, field)
-    region_of = station_regions(vertices, regions)
-    lane_region = np.array([region_of[a] for a, _ in ends], dtype=np.int64)
+    lane_region = station_regions(vertices[[a for a, _ in ends]], regions)
 
     report("stations")
     labels = [str(s[0]) for s in stations]
@@ -167,8 +166,8 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
         full, _ = split_loops(chains, vertices)
         full_lines = polylines([vertices[s] for s in full])
         retry = link_stations(station_xy[failed], full_lines,
-                              np.array([region_of[s[0]] for s in full]), regions, field,
-                              local, c)
+                              station_regions(vertices[[s[0] for s in full]], regions),
+                              regions, field, local, c)
         protected = np.zeros(len(vertices), bool)
         for attachment in retry:
             if isinstance(attachment, Attachment):
@@ -180,7 +179,7 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
             kept, isolated = prune_spurs(vertices, clearance, edges, protected=protected)
             isolated = np.union1d(isolated, alone)
             lines, ends, isolated = _lanes(vertices, clearance, kept, isolated, c, field)
-            lane_region = np.array([region_of[a] for a, _ in ends], dtype=np.int64)
+            lane_region = station_regions(vertices[[a for a, _ in ends]], regions)
             joins = link_stations(station_xy, lines, lane_region, regions, field, local, c)
 
     report("checks")

@@ -41,17 +41,37 @@ class Attachment:
 
 
 def station_regions(points: np.ndarray, regions: np.ndarray) -> np.ndarray:
-    """Index of the drivable region holding each point (N, 2), -1 where none (1 mm slack)."""
+    """Index of the drivable region holding each point (N, 2), -1 where none (1 mm slack).
+
+    Points inside a region are found with prepared point-in-polygon tests (one vectorized
+    call per region whose bounds hold points); only the rest take the slower 1 mm
+    distance test.
+    """
+    points = np.asarray(points, dtype=float).reshape(-1, 2)
     result = np.full(len(points), -1, dtype=np.int64)
     if len(regions) == 0 or len(points) == 0:
         return result
+    bounds = shapely.bounds(regions)
+    for index, region in enumerate(regions):
+        xmin, ymin, xmax, ymax = bounds[index]
+        near = np.flatnonzero((result < 0) & (points[:, 0] >= xmin) & (points[:, 0] <= xmax)
+                              & (points[:, 1] >= ymin) & (points[:, 1] <= ymax))
+        if len(near):
+            shapely.prepare(region)
+            inside = shapely.contains_xy(region, points[near, 0], points[near, 1])
+            result[near[inside]] = index
+    rest = np.flatnonzero(result < 0)
+    if len(rest) == 0:
+        return result
     tree = shapely.STRtree(regions)
-    point_index, region_index = tree.query(shapely.points(points), predicate="dwithin",
+    point_index, region_index = tree.query(shapely.points(points[rest]), predicate="dwithin",
                                            distance=ON_LANE)
+    if len(point_index) == 0:
+        return result
     order = np.lexsort((region_index, point_index))
     point_index, region_index = point_index[order], region_index[order]
     first = np.r_[True, point_index[1:] != point_index[:-1]]
-    result[point_index[first]] = region_index[first]
+    result[rest[point_index[first]]] = region_index[first]
     return result
 
 
