@@ -19,6 +19,7 @@ from networkx import NetworkXNoPath
 from clearway import __version__
 from clearway.config import load_config
 from clearway.errors import ClearwayError, ConfigError
+from clearway.limits import Limits
 from converter import ROLE_OPTION_NAMES, UNITS_TO_M, Roles, list_layers, read_floorplan
 from exporters import (check_anchor, read_graphml, render_compare_svg, render_geojson,
                        render_graphml, render_report, render_svg, summarize, write_outputs)
@@ -84,7 +85,8 @@ def drawing_options(command):
                  "stations": "docks, chargers, pick stations",
                  "shared": "zones shared with people"}
     decorators = [click.option("--config", "config", metavar="FILE",
-                               help="TOML file with [layers] and [drawing] settings.")]
+                               help="TOML file with [layers], [drawing], [robot], [checks] and "
+                                    "[limits] settings.")]
     decorators += [click.option(f"--{name}", name, multiple=True, metavar="PATTERN",
                                 help=f"Layer glob for {role_help[name]} (repeatable; "
                                      f"replaces the default patterns).")
@@ -100,7 +102,8 @@ def converter_options(options: dict) -> dict:
     """Return read_floorplan's keyword arguments from command options and the config file.
 
     The config file (``options["config"]``) gives the base; options given on the command
-    line override it key by key. Raises ConfigError for a bad file or value.
+    line override it key by key; the file's [limits] section becomes ``limits``. Raises
+    ConfigError for a bad file or value.
     """
     config = load_config(options.get("config"))
     patterns = dict(config["layers"])
@@ -120,7 +123,11 @@ def converter_options(options: dict) -> dict:
     for key in _DRAWING_KEYS:
         if options.get(key) is not None:
             drawing[key] = options[key]
-    return {"roles": roles, "units": units, **drawing}
+    try:
+        limits = Limits.from_config(config["limits"])
+    except ConfigError as err:
+        raise ConfigError(f"{options.get('config')}: {err}") from None
+    return {"roles": roles, "units": units, "limits": limits, **drawing}
 
 
 def _format_layer_table(table) -> str:
@@ -155,7 +162,8 @@ def layers(drawing, as_json, **options):
     """
     try:
         kwargs = converter_options(options)
-        table = list_layers(drawing, roles=kwargs["roles"], units=kwargs["units"])
+        table = list_layers(drawing, roles=kwargs["roles"], units=kwargs["units"],
+                            limits=kwargs["limits"])
     except ClearwayError as err:
         raise InputError(str(err)) from None
     click.echo(table.to_json() if as_json else _format_layer_table(table))

@@ -33,11 +33,22 @@ Command-line options override the file, key by key.
 
 from __future__ import annotations
 
+import dataclasses
 import tomllib
+import typing
 from pathlib import Path
 from typing import Any
 
 from clearway.errors import ConfigError
+from clearway.limits import Limits
+
+
+def _limit_types() -> dict[str, type | tuple[type, ...]]:
+    """The [limits] keys and value types, from the Limits dataclass (one definition)."""
+    hints = typing.get_type_hints(Limits)
+    return {item.name: int if hints[item.name] is int else (int, float)
+            for item in dataclasses.fields(Limits)}
+
 
 #: Every section and key the file may hold, with the type each value must have.
 SCHEMA: dict[str, dict[str, type | tuple[type, ...]]] = {
@@ -50,10 +61,7 @@ SCHEMA: dict[str, dict[str, type | tuple[type, ...]]] = {
               "margin": (int, float)},
     "checks": {"comfort_clearance": (int, float), "personnel_clearance": (int, float),
                "low_clearance_penalty": (int, float)},
-    "limits": {"max_file_size": (int, float), "max_extent": (int, float),
-               "max_coordinate": (int, float), "max_entities": int, "max_vertices": int,
-               "max_curve_vertices": int, "max_block_depth": int,
-               "max_boundary_length": (int, float)},
+    "limits": _limit_types(),
 }
 
 
