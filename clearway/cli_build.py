@@ -1,0 +1,216 @@
+"""`clearway build`: the lane graph of a drawing, written as one set of four files."""
+
+from __future__ import annotations
+
+import datetime
+import functools
+import math
+import os
+import signal
+import threading
+
+import click
+
+from clearway.cli_common import InputError, converter_options, drawing_options
+from clearway.config import load_config
+from clearway.errors import ClearwayError
+from converter import read_floorplan
+from exporters import (check_anchor, read_graphml, render_geojson, render_graphml, render_report,
+                       render_svg, summarize, write_outputs)
+from roadmap import Robot, build_roadmap, carry_ids_over
+
+
+#: The files `build` writes, in the order they are rendered.
+BUILD_FILES = ("roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json")
+
+
+def _metres(name: str, value, *, allow_zero: bool = False) -> float | None:
+    """Parse an option or config value in metres; None stays None."""
+    if value is None:
+        return None
+    try:
+        number = float(value)
+    except (TypeError, ValueError):
+        raise InputError(f"{name} must be a number of metres, got {value!r}") from None
+    if not (math.isfinite(number) and (number >= 0 if allow_zero else number > 0)):
+        raise InputError(f"{name} must be {'>=' if allow_zero else '>'} 0 m, got {value}")
+    return number
+
+
+def _build_robot(config: dict, robot_radius, robot_size, margin):
+    """The robot from the options, else from [robot] of the config file, else the defaults."""
+    if robot_radius is not None and robot_size is not None:
+        raise InputError("--robot-radius and --robot-size exclude each other; pass one")
+    section = config.get("robot", {})
+    margin = (_metres("--margin", margin, allow_zero=True) if margin is not None
+              else _metres("[robot] margin", section.get("margin", 0.10), allow_zero=True))
+    if robot_size is not None:
+        parts = robot_size.lower().split("x")
+        if len(parts) != 2:
+            raise InputError(f"--robot-size must be LENGTHxWIDTH in metres (e.g. 1.0x0.6), "
+                             f"got {robot_size!r}")
+        return Robot.rectangle(_metres("--robot-size length", parts[0]),
+                               _metres("--robot-size width", parts[1]), margin=margin)
+    if robot_radius is None and "length" in section and "width" in section:
+        return Robot.rectangle(_metres("[robot] length", section["length"]),
+                               _metres("[robot] width", section["width"]), margin=margin)
+    if robot_radius is not None:
+        return Robot.disc(_metres("--robot-radius", robot_radius), margin=margin)
+    return Robot.disc(_metres("[robot] radius", section.get("radius", 0.35)), margin=margin)
+
+
+def _parse_anchor(value: str | None):
+    if value is None:
+        return None
+    try:
+        return check_anchor(tuple(float(part) for part in value.split(",")))
+    except ValueError as err:
+        raise InputError(f"--anchor {value}: {err}; expected LAT,LON,BEARING in degrees, "
+                         "e.g. 48.137,11.575,30") from None
+
+
+def _today() -> str:
+    """Today's date, ISO 8601; SOURCE_DATE_EPOCH (reproducible-builds.org) pins it."""
+    epoch = os.environ.get("SOURCE_DATE_EPOCH")
+    if epoch and epoch.isdigit():
+        moment = datetime.datetime.fromtimestamp(int(epoch), datetime.timezone.utc)
+        return moment.date().isoformat()
+    return datetime.date.today().isoformat()
+
+
+def _count(number: int, singular: str, plural: str = "") -> str:
+    """'1 leak', '2 leaks'; irregular plurals given."""
+    return f"{number} {singular if number == 1 else plural or singular + 's'}"
+
+
+def _summary(plan, roadmap, outdir: str) -> list[str]:
+    counts = summarize(plan, roadmap)
+    findings = roadmap.findings
+    unreachable = [s for s in findings.stations if not s.reachable]
+    lines = [f"{plan.source}: {counts['counts']['edges']} lanes, "
+             f"{counts['lane_length']:.1f} m in total, {counts['counts']['junctions']} junctions, "
+             f"stations reached {counts['counts']['stations_reachable']}/"
+             f"{counts['counts']['stations']}"]
+    for station in unreachable:
+        lines.append(f"  unreachable: {station.label} ({station.reason or 'no lane reaches it'})")
+    if findings.pinch_points:
+        pinch = min(findings.pinch_points, key=lambda p: p.clearance)
+        lines.append(f"narrowest pinch: {pinch.clearance:.2f} m clearance at "
+                     f"({pinch.x:.2f}, {pinch.y:.2f})")
+    problems = ", ".join(_count(*item) for item in (
+        (len(unreachable), "unreachable station"), (len(plan.leaks), "leak"),
+        (len(findings.narrow_passages), "narrow passage"),
+        (len(findings.pinch_points), "pinch point"),
+        (len(findings.personnel), "lane short of personnel clearance",
+         "lanes short of personnel clearance"),
+        (len(plan.warnings) + len(findings.warnings), "warning")))
+    lines.append(f"problems: {problems}")
+    lines.append(f"files in {outdir}: {', '.join(BUILD_FILES)}")
+    lines.append("planning aid: verify on site under ISO 3691-4, the robot maker's safety "
+                 "manual and local codes, by qualified people")
+    return lines
+
+
+def _sigterm_as_exit(command):
+    """Run `command` with SIGTERM raising SystemExit(143), so that cleanup code runs.
+
+    Python's default SIGTERM ends the process at once; as an exception it unwinds through
+    write_outputs, which removes its temporary files (and holds the signal back while it
+    renames the finished set).
+    """
+    @functools.wraps(command)
+    def wrapper(*args, **kwargs):
+        if threading.current_thread() is not threading.main_thread():
+            return command(*args, **kwargs)
+
+        def terminate(signum, frame):
+            raise SystemExit(128 + signum)
+        previous = signal.signal(signal.SIGTERM, terminate)
+        try:
+            return command(*args, **kwargs)
+        finally:
+            signal.signal(signal.SIGTERM, previous)
+    return wrapper
+
+
+@click.command()
+@click.argument("drawing")
+@click.option("-o", "--outdir", required=True, metavar="OUTDIR",
+              help="Folder for roadmap.graphml, roadmap.geojson, roadmap.svg, report.json "
+                   "(created when missing).")
+@drawing_options
+@click.option("--robot-radius", metavar="M",
+              help="Disc robot radius, metres [default 0.35, or [robot] radius].")
+@click.option("--robot-size", metavar="LxW",
+              help="Rectangular robot, length x width in metres; lanes are checked for its "
+                   "circumscribed radius.")
+@click.option("--margin", metavar="M",
+              help="Safety margin added to the radius, metres [default 0.10].")
+@click.option("--comfort-clearance", metavar="M",
+              help="Lanes with less clearance are reported as pinch points, metres "
+                   "[default: required clearance + 0.2 m].")
+@click.option("--anchor", metavar="LAT,LON,BEARING",
+              help="WGS84 position of the drawing origin and bearing of its +Y axis (degrees): "
+                   "the GeoJSON gets longitude/latitude instead of local metres.")
+@click.option("--previous", metavar="OLD.graphml",
+              help="Graph of the previous revision: nodes within 0.25 m of an old node of "
+                   "the same kind (and label) keep its id, lanes between them keep theirs.")
+@click.option("--strict", is_flag=True,
+              help="Exit 1 (after writing) when a station is unreachable or free space leaks.")
+@click.option("-q", "--quiet", is_flag=True, help="Print only errors.")
+@_sigterm_as_exit
+def build(drawing, outdir, robot_radius, robot_size, margin, comfort_clearance, anchor,
+          previous, strict, quiet, **options):
+    """Build the lane graph of DRAWING into OUTDIR.
+
+    Writes roadmap.graphml, roadmap.geojson, roadmap.svg and report.json as one set: all
+    four are rendered first and replace earlier outputs only when every one succeeded.
+    Exit 0 when built, 1 with --strict when a station is unreachable or free space leaks,
+    2 for bad input.
+    """
+    def say(message: str) -> None:
+        if not quiet:
+            click.echo(message, err=True)
+
+    try:
+        config = load_config(options.get("config"))
+        robot = _build_robot(config, robot_radius, robot_size, margin)
+        checks = config.get("checks", {})
+        comfort = (_metres("--comfort-clearance", comfort_clearance)
+                   if comfort_clearance is not None
+                   else _metres("[checks] comfort_clearance", checks.get("comfort_clearance")))
+        anchor = _parse_anchor(anchor)
+        previous_graph = read_graphml(previous) if previous else None
+        # said once read, so that a drawing refused by the reader gives one line only
+        plan = read_floorplan(drawing, **converter_options(options))
+        say(f"read {drawing}: units {plan.units}, "
+            f"{sum(len(p.geoms) for p in plan.obstacles.values())} obstacle polygons, "
+            f"{len(plan.stations)} stations")
+        roadmap = build_roadmap(
+            plan.obstacles, plan.free_space, [(s.label, s.x, s.y) for s in plan.stations],
+            robot=robot, shared_zones=plan.regions["shared"], comfort_clearance=comfort,
+            personnel_clearance=float(checks.get("personnel_clearance", 0.5)),
+            low_clearance_penalty=float(checks.get("low_clearance_penalty", 0.0)),
+            progress=lambda *stage: say("  " + " ".join(str(part) for part in stage)))
+        if previous_graph is not None:
+            say(f"  ids carried over from {previous}")
+            roadmap = carry_ids_over(roadmap, previous_graph)
+        say("rendering roadmap.graphml, roadmap.geojson, roadmap.svg, report.json")
+        files = dict(zip(BUILD_FILES, (
+            render_graphml(plan, roadmap), render_geojson(plan, roadmap, anchor=anchor),
+            render_svg(plan, roadmap, date=_today()), render_report(plan, roadmap))))
+    except (ClearwayError, ValueError) as err:     # ValueError: a library's bad-value check
+        raise InputError(str(err)) from None
+    except OSError as err:
+        raise InputError(f"{err.filename or drawing}: {err.strerror or err}") from None
+    try:
+        write_outputs(outdir, files)
+    except OSError as err:
+        raise InputError(f"{outdir}: cannot write outputs ({err.strerror or err})") from None
+    for line in _summary(plan, roadmap, outdir):
+        say(line)
+    unreachable = sum(1 for s in roadmap.findings.stations if not s.reachable)
+    if strict and (unreachable or plan.leaks):
+        click.echo(f"strict: {_count(unreachable, 'unreachable station')}, "
+                   f"{_count(len(plan.leaks), 'leak')}; outputs written to {outdir}", err=True)
+        click.get_current_context().exit(1)

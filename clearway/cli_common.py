@@ -1,0 +1,102 @@
+"""Shared pieces of the `clearway` command line: the one-line input error and the options
+of every command that reads a drawing or a graph."""
+
+from __future__ import annotations
+
+import contextlib
+import os
+import tempfile
+
+import click
+
+from clearway.config import load_config
+from clearway.errors import ClearwayError, ConfigError
+from clearway.limits import Limits
+from converter import ROLE_OPTION_NAMES, UNITS_TO_M, Roles
+from exporters import read_graphml
+
+
+class InputError(click.ClickException):
+    """Bad input or usage: exactly one line on stderr, exit code 2."""
+
+    exit_code = 2
+
+
+#: Drawing settings a config file's [drawing] section may hold, passed to read_floorplan.
+_DRAWING_KEYS = ("chord_tolerance", "gap_tolerance", "max_wall_thickness",
+                 "nominal_wall_thickness", "label_radius")
+
+
+def drawing_options(command):
+    """Add --config, the layer-role options and --units to a command that reads a drawing."""
+    role_help = {"walls": "wall faces, columns", "racking": "racking and shelving",
+                 "keepout": "keep-out zones", "boundary": "the floor's outline",
+                 "stations": "docks, chargers, pick stations",
+                 "shared": "zones shared with people"}
+    decorators = [click.option("--config", "config", metavar="FILE",
+                               help="TOML file with [layers], [drawing], [robot], [checks] and "
+                                    "[limits] settings.")]
+    decorators += [click.option(f"--{name}", name, multiple=True, metavar="PATTERN",
+                                help=f"Layer glob for {role_help[name]} (repeatable; "
+                                     f"replaces the default patterns).")
+                   for name in ROLE_OPTION_NAMES.values()]
+    decorators.append(click.option("--units", type=click.Choice(list(UNITS_TO_M)),
+                                   help="Drawing unit, overriding the header's $INSUNITS."))
+    for decorator in reversed(decorators):
+        command = decorator(command)
+    return command
+
+
+def converter_options(options: dict) -> dict:
+    """Return read_floorplan's keyword arguments from command options and the config file.
+
+    The config file (``options["config"]``) gives the base; options given on the command
+    line override it key by key; the file's [limits] section becomes ``limits``. Raises
+    ConfigError for a bad file or value.
+    """
+    config = load_config(options.get("config"))
+    patterns = dict(config["layers"])
+    for name in ROLE_OPTION_NAMES.values():
+        if options.get(name):
+            patterns[name] = list(options[name])
+    try:
+        roles = Roles.from_options(**patterns)
+    except ValueError as err:
+        raise ConfigError(str(err)) from None
+    drawing = dict(config["drawing"])
+    units = options.get("units") or drawing.pop("units", None)
+    drawing.pop("units", None)
+    if units is not None and units not in UNITS_TO_M:
+        raise ConfigError(f"{options.get('config')}: [drawing] units must be one of "
+                          f"{', '.join(UNITS_TO_M)}, got {units!r}")
+    for key in _DRAWING_KEYS:
+        if options.get(key) is not None:
+            drawing[key] = options[key]
+    try:
+        limits = Limits.from_config(config["limits"])
+    except ConfigError as err:
+        raise ConfigError(f"{options.get('config')}: {err}") from None
+    return {"roles": roles, "units": units, "limits": limits, **drawing}
+
+
+
+def replace_file(path: str, data: bytes) -> None:
+    """Write `data` to `path` through a temporary file in the same folder, then rename."""
+    target = os.path.abspath(path)
+    handle, temporary = tempfile.mkstemp(dir=os.path.dirname(target), prefix=".clearway-")
+    try:
+        with os.fdopen(handle, "wb") as file:
+            file.write(data)
+        os.replace(temporary, target)
+    except BaseException:
+        with contextlib.suppress(OSError):
+            os.unlink(temporary)
+        raise
+
+
+def read_graph(path: str):
+    try:
+        return read_graphml(path)
+    except ClearwayError as err:
+        raise InputError(str(err)) from None
+

@@ -1,0 +1,129 @@
+"""`clearway route` and `clearway compare`: commands that read lane graphs (GraphML)."""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import sys
+
+import click
+from networkx import NetworkXNoPath
+
+from clearway.cli_common import InputError, read_graph, replace_file
+from exporters import render_compare_svg
+from roadmap import (ROUTE_METHODS, compare_graphs, distance_matrix, shortest_route,
+                     summarize_changes)
+
+
+@click.command()
+@click.argument("old")
+@click.argument("new")
+@click.option("--json", "as_json", is_flag=True, help="Print the changes as JSON on stdout.")
+@click.option("--svg", "svg_path", metavar="FILE", help="Draw both graphs and the changes.")
+@click.option("--comfort-clearance", type=float,
+              help="Clearance below which a lane is a pinch point, metres [default: the "
+                   "new graph's required clearance + 0.2 m, else 0.6 m].")
+@click.option("--match-tolerance", type=float, default=1.0, show_default=True,
+              help="Farther than this from any old node, a node counts as added, metres.")
+def compare(old, new, as_json, svg_path, comfort_clearance, match_tolerance):
+    """Show what changed between the lane graphs OLD.graphml and NEW.graphml."""
+    old_graph, new_graph = read_graph(old), read_graph(new)
+    try:
+        changes = compare_graphs(old_graph, new_graph, comfort_clearance=comfort_clearance,
+                                 match_tolerance=match_tolerance)
+        picture = (render_compare_svg(old_graph, new_graph, changes,
+                                      title=f"{_short_name(old)} -> {_short_name(new)}")
+                   if svg_path else None)
+    except ValueError as err:
+        raise InputError(str(err)) from None
+    if picture is not None:
+        try:
+            replace_file(svg_path, picture)
+        except OSError as err:
+            raise InputError(f"{svg_path}: cannot write ({err.strerror})") from None
+    click.echo(changes.to_json() if as_json else summarize_changes(changes), nl=False)
+
+
+def _short_name(path: str) -> str:
+    """The file name with its folder (revisions are often roadmap.graphml in two folders)."""
+    return os.path.join(os.path.basename(os.path.dirname(os.path.abspath(path))),
+                        os.path.basename(path))
+
+
+def _number(value: float) -> str:
+    return f"{value:.3f}" if math.isfinite(value) else "unreachable"
+
+
+@click.command()
+@click.argument("graph_file", metavar="GRAPH")
+@click.argument("ends", nargs=-1, metavar="[FROM TO]")
+@click.option("--json", "as_json", is_flag=True, help="Print the result as JSON on stdout.")
+@click.option("--avoid", multiple=True, metavar="NODE",
+              help="Node id or station label the route must not pass (repeatable).")
+@click.option("--method", type=click.Choice(ROUTE_METHODS), default="astar",
+              show_default=True, help="Search method; both find the same route cost.")
+@click.option("--matrix", is_flag=True, help="Station-to-station route costs instead.")
+@click.option("--csv", "csv_path", metavar="FILE", help="With --matrix: write it as CSV.")
+def route(graph_file, ends, as_json, avoid, method, matrix, csv_path):
+    """Find the shortest route in GRAPH from FROM to TO (station labels or node ids).
+
+    With --matrix, give the route cost in metres between every pair of stations;
+    pairs with no route are marked "unreachable" (null in JSON). Exit code 1 when
+    FROM and TO are not connected.
+    """
+    if matrix == bool(ends) or (ends and len(ends) != 2):
+        raise InputError("give FROM and TO, or --matrix (not both)")
+    if (csv_path or False) and not matrix:
+        raise InputError("--csv needs --matrix")
+    graph = read_graph(graph_file)
+    if matrix:
+        try:
+            labels, costs = distance_matrix(graph)
+        except ValueError as err:
+            raise InputError(f"{graph_file}: {err}") from None
+        rows = [["station", *labels]] + [[label, *map(_number, row)]
+                                         for label, row in zip(labels, costs.tolist())]
+        table = "".join(",".join(_csv_cell(cell) for cell in row) + "\r\n" for row in rows)
+        if csv_path:
+            try:
+                replace_file(csv_path, table.encode("utf-8"))
+            except OSError as err:
+                raise InputError(f"{csv_path}: cannot write ({err.strerror})") from None
+        if as_json:
+            cells = [[value if math.isfinite(value) else None for value in row]
+                     for row in costs.tolist()]
+            click.echo(json.dumps({"stations": list(labels), "unit": "m", "matrix": cells},
+                                  indent=2))
+        elif not csv_path:
+            click.echo(table, nl=False)
+        return
+    try:
+        found = shortest_route(graph, ends[0], ends[1], method=method, avoid=avoid)
+    except ValueError as err:
+        raise InputError(f"{graph_file}: {err}") from None
+    except NetworkXNoPath as err:
+        if as_json:
+            click.echo(json.dumps({"from": ends[0], "to": ends[1], "reachable": False}))
+        click.echo(f"{graph_file}: {err}", err=True)
+        sys.exit(1)
+    clearance = found.clearance_min if math.isfinite(found.clearance_min) else None
+    if as_json:
+        click.echo(json.dumps({"from": ends[0], "to": ends[1], "reachable": True,
+                               "method": method, "nodes": list(found.nodes),
+                               "edges": list(found.edges), "length": found.length,
+                               "cost": found.cost, "clearance_min": clearance,
+                               "wkt": found.geometry.wkt}, indent=2))
+        return
+    click.echo(f"{ends[0]} -> {ends[1]}: {found.length:.3f} m, clearance_min "
+               + (f"{clearance:.3f} m" if clearance is not None else "unknown")
+               + f", {len(found.nodes)} nodes")
+    click.echo("nodes: " + " ".join(found.nodes))
+    click.echo(found.geometry.wkt)
+
+
+def _csv_cell(text: str) -> str:
+    text = str(text)
+    if any(char in text for char in ',"\r\n') or text[:1] in ("=", "+", "-", "@"):
+        return '"' + text.replace('"', '""') + '"'
+    return text
