@@ -80,7 +80,7 @@ def _lanes(vertices, clearance, edges, isolated, c, field):
 def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequence[tuple],
                   *, robot: Robot, shared_zones=None, comfort_clearance: float | None = None,
                   personnel_clearance: float = 0.5, low_clearance_penalty: float = 0.0,
-                  sample_step: float = 0.2,
+                  sample_step: float = 0.25,
                   progress: Callable[[str], None] | None = None) -> Roadmap:
     """Build the lane graph of maximum clearance for `robot` in `free_space`.
 

@@ -173,14 +173,14 @@ def correct_vertices(centres, generators, segments, previous, following, *,
     return current, np.minimum(np.minimum(dist[0], dist[1]), dist[2])
 
 
-def medial_axis(free_space, *, step: float = 0.2, seed: int = 0) -> MedialAxis:
+def medial_axis(free_space, *, step: float = 0.25, seed: int = 0) -> MedialAxis:
     """Return the sampled medial axis of `free_space` (every clearance, not yet restricted).
 
     Parameters
     ----------
     free_space : Polygon or MultiPolygon, metres, ideally near the origin
     step : float
-        Boundary sampling interval, metres, > 0. 0.2 m keeps lanes within 1 cm.
+        Boundary sampling interval, metres, > 0. 0.25 m keeps lanes within 1 cm.
     seed : int
         Seed of the deterministic jitter.
 
@@ -239,7 +239,7 @@ def medial_axis(free_space, *, step: float = 0.2, seed: int = 0) -> MedialAxis:
     return MedialAxis(vertices, best, edges)
 
 
-def generalized_voronoi(free_space, clearance: float, *, step: float = 0.2,
+def generalized_voronoi(free_space, clearance: float, *, step: float = 0.25,
                         seed: int = 0) -> MedialAxis:
     """Return the GVD of the obstacles grown by `clearance` metres, before any pruning.
 

@@ -138,8 +138,22 @@ def _is_coverage(parts) -> bool:
         shapely.GeometryCollection(list(parts))))
 
 
+def _ring_links(seg_ring: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Previous and following segment of each one, for segments listed ring by ring."""
+    count = len(seg_ring)
+    index = np.arange(count)
+    first = np.r_[True, seg_ring[1:] != seg_ring[:-1]] if count else np.zeros(0, bool)
+    ring_first = np.maximum.accumulate(np.where(first, index, 0)) if count else index
+    last = np.r_[first[1:], True] if count else first
+    ring_last = np.minimum.accumulate(np.where(last, index, count)[::-1])[::-1]
+    return np.where(first, ring_last, index - 1), np.where(last, ring_first, index + 1)
+
+
 def boundary_segments(free_space) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Split the boundary of `free_space` into straight segments.
+
+    Consecutive collinear segments (rack bays in a row leave a vertex at every joint) are
+    merged into one, so the boundary holds one segment per straight run.
 
     Returns
     -------
@@ -155,12 +169,17 @@ def boundary_segments(free_space) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     start, end, seg_ring = xy[:-1][same], xy[1:][same], ring[:-1][same]
     keep = np.any(start != end, axis=1)
     start, end, seg_ring = start[keep], end[keep], seg_ring[keep]
-    count = len(start)
-    index = np.arange(count)
-    first = np.r_[True, seg_ring[1:] != seg_ring[:-1]] if count else np.zeros(0, bool)
-    ring_first = np.maximum.accumulate(np.where(first, index, 0)) if count else index
-    last = np.r_[first[1:], True] if count else first
-    ring_last = np.minimum.accumulate(np.where(last, index, count)[::-1])[::-1]
-    previous = np.where(first, ring_last, index - 1)
-    following = np.where(last, ring_first, index + 1)
+    previous, following = _ring_links(seg_ring)
+    direction = end - start
+    before = direction[previous]
+    cross = before[:, 0] * direction[:, 1] - before[:, 1] * direction[:, 0]
+    scale = np.hypot(*before.T) * np.hypot(*direction.T)
+    straight = (np.abs(cross) <= 1e-12 * scale) & ((before * direction).sum(axis=1) > 0)
+    straight &= ~np.isin(seg_ring, np.unique(seg_ring[straight])[
+        np.bincount(seg_ring[~straight], minlength=seg_ring.max(initial=-1) + 1)[
+            np.unique(seg_ring[straight])] == 0])  # keep a ring that has no corner at all
+    if straight.any():
+        start, seg_ring = start[~straight], seg_ring[~straight]
+        previous, following = _ring_links(seg_ring)
+        end = start[following]
     return np.stack([start, end], axis=1), previous, following
