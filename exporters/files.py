@@ -106,6 +106,9 @@ def write_outputs(outdir, files: dict[str, bytes]) -> list[Path]:
             for temporary, _ in temporaries:
                 with contextlib.suppress(FileNotFoundError):
                     temporary.unlink()
+            # an interrupt between mkstemp creating a file and its name being recorded
+            # leaves one more; under the lock every temporary file in the folder is ours
+            _remove_stale_temporaries(folder)
             raise
     return [final for _, final in temporaries]
 
