@@ -115,3 +115,47 @@ def test_progress_stages_and_bad_options():
     with pytest.raises(TypeError, match="robot"):
         from roadmap import build_roadmap
         build_roadmap(obstacles, free, [], robot=0.4)
+
+
+def test_station_equidistant_from_two_lanes_joins_the_lower_point():
+    # analytic: in a plus of two 2 m corridors crossing at (5, 5) the lanes are x = 5 and
+    # y = 5; the station (5.3, 5.3) is 0.3 m from both, at (5.0, 5.3) and (5.3, 5.0).
+    # The tie goes to the lower (x, y), which also gets the lower node id.
+    hall = shapely.box(0, 4, 10, 6) | shapely.box(4, 0, 6, 10)
+    outline = hall.buffer(0.2, join_style="mitre").difference(hall)
+    obstacles = {"boundary": outline}
+    for _ in range(2):   # deterministic: the same answer every time
+        roadmap = build(obstacles, hall, [("tie", 5.3, 5.3)])
+        result, = roadmap.findings.stations
+        graph = roadmap.graph
+        (link,) = graph[result.node]
+        assert (graph.nodes[link]["x"], graph.nodes[link]["y"]) == pytest.approx((5.0, 5.3),
+                                                                                abs=1e-3)
+        (key,) = graph[result.node][link]
+        assert graph.edges[result.node, link, key]["length"] == pytest.approx(0.3, abs=1e-3)
+        assert_lanes_clear(roadmap)
+
+
+def test_station_equidistant_from_a_node_and_a_lane_joins_the_node():
+    from roadmap.clearance import clearance_field
+    from roadmap.inflate import boundary_segments
+    from roadmap.stations import Attachment, link_stations
+    # analytic: lane A starts at (6, 0); lane B is x = 4; the station (5, 0) is 1 m from
+    # both the end node (6, 0) and the point (4, 0) of lane B. The existing node wins
+    # although (4, 0) is the lower point; then the lower (x, y) among equals.
+    free = shapely.box(-10, -10, 20, 10)
+    lanes = np.array([shapely.LineString([(4, -3), (4, 3)]),
+                      shapely.LineString([(6, 0), (10, 0)])], dtype=object)
+    field = clearance_field(boundary_segments(free)[0])
+    regions = np.array([free.buffer(-0.45)], dtype=object)
+    join, = link_stations(np.array([[5.0, 0.0]]), lanes, np.array([0, 0]), regions, field,
+                          free, 0.45)
+    assert isinstance(join, Attachment)
+    assert (join.lane, join.x, join.y) == (1, pytest.approx(6.0), pytest.approx(0.0))
+    assert join.along == pytest.approx(0.0) and not join.on_lane
+    # two interior points 1 m away, (5, 1) on y = 1 and (5, -1) on y = -1: the lower wins
+    lanes = np.array([shapely.LineString([(0, 1), (10, 1)]),
+                      shapely.LineString([(0, -1), (10, -1)])], dtype=object)
+    join, = link_stations(np.array([[5.0, 0.0]]), lanes, np.array([0, 0]), regions, field,
+                          free, 0.45)
+    assert (join.lane, join.x, join.y) == (1, pytest.approx(5.0), pytest.approx(-1.0))
