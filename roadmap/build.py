@@ -184,7 +184,7 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
 
     report("checks")
     graph, samples, station_nodes = assemble_graph(lines, ends, vertices, isolated, station_xy, labels,
-                                    joins, field, offset)
+                                    joins, field, offset, refine_below=comfort)
     graph.graph.update(units="m", robot_radius=float(robot.radius),
                        margin=float(robot.margin), clearance=c)
     drawn = station_xy + np.asarray(offset)

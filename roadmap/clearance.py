@@ -118,6 +118,44 @@ class ClearanceField:
         xy, owner = shapely.get_coordinates(dense, return_index=True)
         return xy, owner, self.at(xy)
 
+    def along_adaptive(self, lines, step: float, *, fine: float, tolerance: float,
+                       below: float = -np.inf):
+        """Sample `lines` every `step` metres, then every `fine` metres where it matters.
+
+        Along a straight piece the distance to each boundary segment is convex with
+        curvature at most 1 / distance, so between two samples L metres apart whose lower
+        clearance is d the clearance dips at most L**2 / (8 * (d - L / 2)) below d. Only
+        intervals where that dip could bring a value more than `tolerance` below the
+        line's lowest sample, or below `below` metres, are sampled again every `fine` m.
+
+        Returns
+        -------
+        xy : (M, 2), owner : (M,) line index, clearance : (M,) metres, in order along
+        each line.
+        """
+        xy, owner, value = self.along(lines, step)
+        if len(xy) < 2:
+            return xy, owner, value
+        lowest = np.full(int(owner.max()) + 1, np.inf)
+        np.minimum.at(lowest, owner, value)
+        length = np.hypot(*np.diff(xy, axis=0).T)
+        low = np.minimum(value[:-1], value[1:])
+        dip = length ** 2 / (8 * np.maximum(low - length / 2, 1e-3))
+        refine = (owner[1:] == owner[:-1]) & (dip > tolerance) & \
+            ((low - dip < lowest[owner[:-1]] - tolerance) | (low - dip < below))
+        interval = np.flatnonzero(refine)
+        if len(interval) == 0:
+            return xy, owner, value
+        count = np.maximum(np.ceil(length[interval] / fine).astype(np.int64) - 1, 0)
+        which = np.repeat(np.arange(len(interval)), count)
+        step_in = np.arange(len(which)) - np.repeat(np.cumsum(count) - count, count) + 1
+        t = (step_in / np.repeat(count + 1, count))[:, None]
+        start, end = xy[interval[which]], xy[interval[which] + 1]
+        extra = start * (1 - t) + end * t
+        at = interval[which] + 1
+        return (np.insert(xy, at, extra, axis=0), np.insert(owner, at, owner[at - 1]),
+                np.insert(value, at, self.at(extra)))
+
 
 def clearance_field(segments: np.ndarray, *, spacing: float = SPACING) -> ClearanceField:
     """Index boundary `segments` (S, 2, 2), metres, for exact clearance queries.

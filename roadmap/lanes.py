@@ -2,7 +2,9 @@
 
 Node ids are ``n<k>`` in sorted (x, y) order and edge ids ``e<k>`` sorted by their end ids,
 so the same input always gives the same ids. Clearances are exact distances (shapely/GEOS)
-on the final geometry: at each node, and along each edge every EDGE_STEP metres plus vertices.
+on the final geometry: at each node, and along each edge every COARSE_STEP metres plus
+vertices, then every EDGE_STEP metres wherever the curvature bound of the distance leaves
+room for a lower value (see ClearanceField.along_adaptive).
 """
 
 from __future__ import annotations
@@ -19,6 +21,10 @@ from roadmap.stations import ON_LANE, Attachment
 
 #: Sampling interval for each edge's clearance_min, metres.
 EDGE_STEP = 0.03
+#: First sampling interval along each edge, metres.
+COARSE_STEP = 0.15
+#: Largest error allowed in clearance_min and in the samples below the comfort clearance, m.
+CLEARANCE_TOLERANCE = 0.005
 
 
 @dataclass(frozen=True)
@@ -75,7 +81,7 @@ def _station_nodes(lines, ends, station_xy, joins, add_node):
 
 
 def assemble_graph(lines, ends, vertices, isolated, station_xy, labels, joins,
-                   field: ClearanceField, offset):
+                   field: ClearanceField, offset, *, refine_below: float = np.inf):
     """Build the MultiGraph in the drawing frame from lanes in the local frame.
 
     Parameters
@@ -84,6 +90,8 @@ def assemble_graph(lines, ends, vertices, isolated, station_xy, labels, joins,
     vertices : (V, 2) float, metres; isolated : list of vertex indices kept alone
     station_xy : (N, 2) float; labels : list of str; joins : Attachment or reason per station
     field : ClearanceField; offset : (x0, y0) of the local frame, metres
+    refine_below : float, metres; samples whose clearance may lie below it are exact to
+        CLEARANCE_TOLERANCE (the comfort clearance, for pinch points).
 
     Returns
     -------
@@ -125,7 +133,9 @@ def assemble_graph(lines, ends, vertices, isolated, station_xy, labels, joins,
     shift = np.asarray(offset, dtype=float)
     geometry = [shapely.LineString(piece + shift) for _, _, piece in pieces]
     local_lines = polylines([piece for _, _, piece in pieces])
-    sample_xy, owner, values = field.along(local_lines, EDGE_STEP) if pieces else \
+    sample_xy, owner, values = field.along_adaptive(
+        local_lines, COARSE_STEP, fine=EDGE_STEP, tolerance=CLEARANCE_TOLERANCE,
+        below=refine_below) if pieces else \
         (np.zeros((0, 2)), np.zeros(0, np.int64), np.zeros(0))
     low = np.full(len(pieces), np.inf)
     np.minimum.at(low, owner, values)
