@@ -12,7 +12,7 @@ import click
 
 from clearway import __version__
 from clearway.cli_build import build
-from clearway.cli_common import InputError, converter_options, drawing_options
+from clearway.cli_common import InputError, converter_options, drawing_options, terminal_text
 from clearway.cli_graphs import compare, route
 from clearway.errors import ClearwayError
 from converter import list_layers
@@ -39,10 +39,10 @@ class OneLineErrorGroup(click.Group):
             sys.exit(0)
         except click.UsageError as err:
             where = f"{err.ctx.command_path}: " if err.ctx is not None else ""
-            click.echo(f"Error: {where}{err.format_message()}", err=True)
+            click.echo(terminal_text(f"Error: {where}{err.format_message()}"), err=True)
             sys.exit(err.exit_code)
         except click.ClickException as err:
-            err.show()
+            click.echo(terminal_text(f"Error: {err.format_message()}"), err=True)
             sys.exit(err.exit_code)
         except click.Abort:
             click.echo("Aborted.", err=True)
@@ -96,7 +96,9 @@ def layers(drawing, as_json, **options):
                             limits=kwargs["limits"])
     except ClearwayError as err:
         raise InputError(str(err)) from None
-    click.echo(table.to_json() if as_json else _format_layer_table(table))
+    text = table.to_json() if as_json else "\n".join(
+        terminal_text(line) for line in _format_layer_table(table).splitlines())
+    click.echo(text)
 
 
 for _command in (build, route, compare):

@@ -11,7 +11,7 @@ import threading
 
 import click
 
-from clearway.cli_common import InputError, converter_options, drawing_options
+from clearway.cli_common import InputError, converter_options, drawing_options, terminal_text
 from clearway.config import load_config
 from clearway.errors import ClearwayError
 from converter import read_floorplan
@@ -170,7 +170,7 @@ def build(drawing, outdir, robot_radius, robot_size, margin, comfort_clearance, 
     """
     def say(message: str) -> None:
         if not quiet:
-            click.echo(message, err=True)
+            click.echo(terminal_text(message), err=True)
 
     try:
         config = load_config(options.get("config"))

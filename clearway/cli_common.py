@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import contextlib
 import os
+import re
 import tempfile
 
 import click
@@ -16,10 +17,39 @@ from converter import ROLE_OPTION_NAMES, UNITS_TO_M, Roles
 from exporters import read_graphml
 
 
+#: Characters a terminal acts on instead of showing them: C0 and C1 controls (line breaks
+#: and escape sequences among them), Unicode line and paragraph separators, and the
+#: bidirectional formatting characters (Unicode UAX #9) that reorder the text shown.
+_UNSAFE_ON_TERMINAL = re.compile(
+    "[\x00-\x1f\x7f-\x9f\u061c\u200e\u200f\u2028\u2029\u202a-\u202e\u2066-\u2069]")
+
+
+def terminal_text(text: object) -> str:
+    r"""Return `text` with every character a terminal would act on spelled out as an escape.
+
+    Drawings, file names and graph labels come from other people; printed raw, an ESC
+    sequence or a right-to-left override in them would rewrite or reorder the line.
+
+    Examples
+    --------
+    >>> terminal_text("plan\u202e.dxf: bad\nline \x1b[2J")
+    'plan\\u202e.dxf: bad\\nline \\x1b[2J'
+    """
+    return _UNSAFE_ON_TERMINAL.sub(
+        lambda match: match.group().encode("unicode_escape").decode("ascii"), str(text))
+
+
 class InputError(click.ClickException):
-    """Bad input or usage: exactly one line on stderr, exit code 2."""
+    """Bad input or usage: exactly one line on stderr, exit code 2.
+
+    The message is passed through `terminal_text`, so it stays one line whatever a drawing
+    or a library put into it.
+    """
 
     exit_code = 2
+
+    def __init__(self, message: str) -> None:
+        super().__init__(terminal_text(message))
 
 
 #: Drawing settings a config file's [drawing] section may hold, passed to read_floorplan.

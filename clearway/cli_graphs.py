@@ -10,7 +10,7 @@ import sys
 import click
 from networkx import NetworkXNoPath
 
-from clearway.cli_common import InputError, read_graph, replace_file
+from clearway.cli_common import InputError, read_graph, replace_file, terminal_text
 from exporters import render_compare_svg
 from roadmap import (ROUTE_METHODS, compare_graphs, distance_matrix, shortest_route,
                      summarize_changes)
@@ -105,7 +105,7 @@ def route(graph_file, ends, as_json, avoid, method, matrix, csv_path):
     except NetworkXNoPath as err:
         if as_json:
             click.echo(json.dumps({"from": ends[0], "to": ends[1], "reachable": False}))
-        click.echo(f"{graph_file}: {err}", err=True)
+        click.echo(terminal_text(f"{graph_file}: {err}"), err=True)
         sys.exit(1)
     clearance = found.clearance_min if math.isfinite(found.clearance_min) else None
     if as_json:

@@ -9,6 +9,7 @@ from __future__ import annotations
 import json
 import subprocess
 import sys
+import unicodedata
 
 import geojson
 import networkx as nx
@@ -86,17 +87,25 @@ def built(tmp_path_factory):
     done = clearway("build", drawing.name, "-o", "out", cwd=folder)
     assert done.returncode == 0, done.stderr.decode("utf-8", "replace")
     assert b"Traceback" not in done.stderr
-    return drawing, folder / "out"
+    return drawing, folder / "out", done.stderr.decode("utf-8")
+
+
+def assert_safe_on_a_terminal(text: str) -> None:
+    """No control, format (bidi) or separator character (Unicode general categories Cc, Cf,
+    Zl, Zp) except the line feeds between lines: nothing a terminal would act on."""
+    for line in text.split("\n"):
+        bad = [char for char in line if unicodedata.category(char) in ("Cc", "Cf", "Zl", "Zp")]
+        assert not bad, (bad, line)
 
 
 def test_build_writes_the_four_files(built):
-    _, outdir = built
+    _, outdir, _ = built
     assert {path.name for path in outdir.iterdir()} == {
         "roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json"}
 
 
 def test_graphml_keeps_labels_and_source_escaped_and_intact(built):
-    _, outdir = built
+    _, outdir, _ = built
     data = (outdir / "roadmap.graphml").read_bytes()
     # W3C XML 1.0 sec. 2.2: BEL, ESC and SOH cannot appear, not even as &#7; references
     for control in (b"\x07", b"\x1b", b"\x01", b"&#7;", b"&#x7;", b"&#27;", b"&#x1b;"):
@@ -121,7 +130,7 @@ def test_graphml_keeps_labels_and_source_escaped_and_intact(built):
 
 
 def test_geojson_and_report_keep_every_character(built):
-    _, outdir = built
+    _, outdir, _ = built
     text = (outdir / "roadmap.geojson").read_bytes()
     # RFC 8259 sec. 7: control characters U+0000-U+001F must be escaped inside strings
     assert not any(byte < 0x20 and byte not in b"\n" for byte in text)
@@ -144,7 +153,7 @@ def test_geojson_and_report_keep_every_character(built):
 
 
 def test_svg_shows_labels_and_title_escaped_and_intact(built):
-    _, outdir = built
+    _, outdir, _ = built
     data = (outdir / "roadmap.svg").read_bytes()
     for control in (b"\x07", b"\x1b", b"\x01", b"&#7;", b"&#x7;", b"&#27;", b"&#x1b;"):
         assert control not in data.lower()
@@ -158,7 +167,7 @@ def test_svg_shows_labels_and_title_escaped_and_intact(built):
 
 
 def test_layers_json_keeps_hostile_layer_names(built):
-    drawing, _ = built
+    drawing, _, _ = built
     done = clearway("layers", "--json", drawing.name, cwd=drawing.parent)
     assert done.returncode == 0, done.stderr
     table = json.loads(done.stdout)
@@ -167,3 +176,32 @@ def test_layers_json_keeps_hostile_layer_names(built):
     assert rows[WALL_LAYER]["role"] == "wall" and rows[STATION_LAYER]["role"] == "station"
     assert rows[DOCK_LAYER]["role"] == "station"
     assert rows[FROZEN_LAYER]["frozen"] and not rows[WALL_LAYER]["frozen"]
+
+
+def test_terminal_output_spells_out_controls_and_bidi_marks(built):
+    drawing, _, progress = built
+    assert_safe_on_a_terminal(progress)
+    # the file name appears with its override and BEL written as escapes
+    assert 'plan <&"\'\\u202e\\x07>.dxf: ' in progress
+    table = clearway("layers", drawing.name, cwd=drawing.parent)
+    assert table.returncode == 0
+    text = table.stdout.decode("utf-8")
+    assert_safe_on_a_terminal(text)
+    assert 'A-WALL <&"\'>\\u202e\\u200f\\x07' in text               # WALL_LAYER, spelled out
+    # one line per layer and per warning, plus head, column titles and foot: none broken
+    table = json.loads(clearway("layers", "--json", drawing.name, cwd=drawing.parent).stdout)
+    warnings = [line for line in text.splitlines() if line.startswith("warning: ")]
+    assert len(text.splitlines()) == len(table["layers"]) + len(warnings) + 3
+
+
+def test_refused_hostile_file_name_is_one_safe_line(tmp_path):
+    drawing = tmp_path / "evil\u202e\x1b[2J\nname.dxf"
+    drawing.write_bytes(b"")
+    for args in (["layers", drawing.name], ["build", drawing.name, "-o", "out"]):
+        done = clearway(*args, cwd=tmp_path)
+        assert done.returncode == 2
+        stderr = done.stderr.decode("utf-8")
+        assert stderr.count("\n") == 1 and stderr.startswith("Error: ")
+        assert_safe_on_a_terminal(stderr)
+        assert "evil\\u202e\\x1b[2J\\nname.dxf" in stderr
+    assert not (tmp_path / "out").exists()
