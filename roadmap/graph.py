@@ -162,7 +162,7 @@ def prune_spurs(vertices, clearance, edges, *, protected=None, slope: float = SP
     """
     count = len(vertices)
     protected = np.zeros(count, bool) if protected is None else protected
-    alive = edges
+    alive = np.asarray(edges, dtype=np.int64)  # int64: the edge keys below reach V**2
     isolated = []
     for _ in range(max_rounds):
         chains = chain_lanes(count, alive, protected)

@@ -139,3 +139,21 @@ def test_cycle_rank_equals_islands_on_rack_grids(rows, columns, aisle, depth, wa
     assert_topology(roadmap)
     assert_lanes_clear(roadmap)
     assert_exact_clearances(roadmap, free)
+
+
+def test_spurs_pruned_on_large_axes_with_int32_edges():
+    # regression: edge keys u * V + v overflowed int32 beyond V = 46,341 vertices, so no
+    # spur of a large warehouse was ever dropped
+    from roadmap.graph import prune_spurs
+    base = 50_000
+    main = np.stack([np.arange(11.0), np.zeros(11)], axis=1)     # y = 0, clearance 1 m
+    spur = np.stack([np.full(5, 5.0), np.linspace(0.25, 1.0, 5)], axis=1)
+    vertices = np.vstack([np.zeros((base, 2)), main, spur])
+    # analytic: into a 90-degree corner the clearance falls by sin 45 = 0.71 m per metre
+    clearance = np.r_[np.zeros(base), np.ones(11), 1.0 - 0.71 * spur[:, 1]]
+    edges = np.array([(base + i, base + i + 1) for i in range(10)] +
+                     [(base + 5, base + 11)] +
+                     [(base + 11 + i, base + 12 + i) for i in range(4)], dtype=np.int32)
+    kept, isolated = prune_spurs(vertices, clearance, edges)
+    assert sorted(map(tuple, kept.tolist())) == [(base + i, base + i + 1) for i in range(10)]
+    assert len(isolated) == 0
