@@ -34,6 +34,9 @@ from roadmap.inflate import boundary_segments
 
 #: Jitter of the samples before triangulation, metres (deterministic, seeded).
 JITTER = 1e-6
+#: A boundary vertex turning by more than asin(BEND) (2 degrees) is a corner: lanes bend
+#: round it or meet its bisector there; the chord across a smaller bend stays within mm.
+BEND = 0.035
 #: Vertices are merged when they agree to this grid after correction, metres.
 MERGE_GRID = 1e-5
 
@@ -79,6 +82,12 @@ def sample_boundary(segments: np.ndarray, following: np.ndarray, step: float):
     """
     start, end = segments[:, 0], segments[:, 1]
     pieces = np.maximum(1, np.ceil(np.hypot(*(end - start).T) / step)).astype(np.int64)
+    return _cut(segments, following, pieces)
+
+
+def _cut(segments, following, pieces):
+    """Cut segment i into pieces[i] equal parts; return samples as sample_boundary does."""
+    start, end = segments[:, 0], segments[:, 1]
     owner = np.repeat(np.arange(len(segments)), pieces)
     first = np.cumsum(pieces) - pieces
     within = np.arange(len(owner)) - first[owner]
@@ -87,6 +96,67 @@ def sample_boundary(segments: np.ndarray, following: np.ndarray, step: float):
     is_last = within == pieces[owner] - 1
     successor = np.where(is_last, first[following[owner]], np.arange(len(owner)) + 1)
     return xy, owner, successor
+
+
+def _corners(segments, previous) -> np.ndarray:
+    """Whether each segment's first vertex turns by more than asin(BEND), shape (S,)."""
+    direction = segments[:, 1] - segments[:, 0]
+    direction = direction / np.hypot(*direction.T)[:, None]
+    before = direction[previous]
+    turn = np.abs(before[:, 0] * direction[:, 1] - before[:, 1] * direction[:, 0])
+    return (turn > BEND) | ((before * direction).sum(axis=1) < 0)
+
+
+def adaptive_samples(segments, previous, following, step: float, *, coarse: float, rng,
+                     probe: float | None = None):
+    """Sample the boundary every `step` metres where the axis needs it, else up to `coarse`.
+
+    A first Delaunay triangulation of samples `probe` metres apart (default 2 * coarse)
+    measures the local width: an edge of length l between samples of two segments that do
+    not meet spans a passage about l wide. Near such a sample the step becomes l / 1.5
+    (circumcentres stay inside the passage); where the edge's other end is a corner, the
+    lane bends round it on a parabola, and sqrt(0.08 * l) keeps the chord between Voronoi
+    vertices within 1 cm of it; within l of a corner of its own segment (where bisectors
+    from the corner meet the lane in a junction) it is `step`. Long straight faces facing
+    each other need no more than `coarse`: their bisector is straight.
+
+    Returns
+    -------
+    xy, owner, successor : as :func:`sample_boundary`
+    """
+    probe = 2 * coarse if probe is None else probe
+    if coarse <= step or len(segments) < 3:
+        return sample_boundary(segments, following, step)
+    xy, owner, successor = sample_boundary(segments, following, probe)
+    simplices = Delaunay(xy + rng.uniform(-JITTER, JITTER, xy.shape)).simplices
+    pairs = np.concatenate([simplices[:, [0, 1]], simplices[:, [1, 2]], simplices[:, [2, 0]]])
+    a, b = pairs[:, 0], pairs[:, 1]
+    apart = (owner[a] != owner[b]) & (following[owner[a]] != owner[b]) & \
+        (previous[owner[a]] != owner[b])
+    a, b = a[apart], b[apart]
+    length = np.hypot(*(xy[a] - xy[b]).T)
+    corner = _corners(segments, previous)
+    vertex = np.r_[True, owner[1:] != owner[:-1]] & corner[owner]
+    bend = np.minimum(length / 1.5, np.sqrt(0.08 * length))
+    width = np.full(len(xy), np.inf)
+    np.minimum.at(width, a, length)
+    np.minimum.at(width, b, length)
+    wanted = np.minimum(width / 1.5, coarse)
+    np.minimum.at(wanted, a, np.where(vertex[b] & ~vertex[a], bend, coarse))
+    np.minimum.at(wanted, b, np.where(vertex[a] & ~vertex[b], bend, coarse))
+    from_start = np.hypot(*(xy - segments[owner, 0]).T)
+    to_end = np.hypot(*(segments[owner, 1] - xy).T)
+    near_corner = (corner[owner] & (from_start <= width)) | \
+        (corner[following[owner]] & (to_end <= width + probe))
+    wanted[near_corner] = step
+    before = np.empty_like(successor)
+    before[successor] = np.arange(len(successor))
+    wanted = np.minimum(np.minimum(wanted, wanted[successor]), wanted[before])
+    wanted = np.clip(np.minimum(wanted, wanted[successor]), step, coarse)
+    pieces = np.maximum(1, np.ceil(np.hypot(*(xy[successor] - xy).T) / wanted)).astype(np.int64)
+    fine, fine_owner, fine_successor = _cut(np.stack([xy, xy[successor]], axis=1), successor,
+                                            pieces)
+    return fine, owner[fine_owner], fine_successor
 
 
 def _circumcentres(points: np.ndarray, simplices: np.ndarray):
@@ -173,14 +243,19 @@ def correct_vertices(centres, generators, segments, previous, following, *,
     return current, np.minimum(np.minimum(dist[0], dist[1]), dist[2])
 
 
-def medial_axis(free_space, *, step: float = 0.25, seed: int = 0) -> MedialAxis:
+def medial_axis(free_space, *, step: float = 0.25, coarse: float | None = None,
+                seed: int = 0) -> MedialAxis:
     """Return the sampled medial axis of `free_space` (every clearance, not yet restricted).
 
     Parameters
     ----------
     free_space : Polygon or MultiPolygon, metres, ideally near the origin
     step : float
-        Boundary sampling interval, metres, > 0. 0.25 m keeps lanes within 1 cm.
+        Boundary sampling interval where the axis needs it, metres, > 0; 0.25 m keeps
+        lanes within 1 cm.
+    coarse : float, optional
+        Largest sampling interval, along faces whose bisector is straight (see
+        :func:`adaptive_samples`), metres; default 4 * step; `step` samples uniformly.
     seed : int
         Seed of the deterministic jitter.
 
@@ -201,9 +276,11 @@ def medial_axis(free_space, *, step: float = 0.25, seed: int = 0) -> MedialAxis:
     empty = MedialAxis(np.zeros((0, 2)), np.zeros(0), np.zeros((0, 2), dtype=np.int64))
     if len(segments) < 3:
         return empty
-    xy, owner, successor = sample_boundary(segments, following, step)
     rng = np.random.default_rng(seed)
+    coarse = 4 * step if coarse is None else max(float(coarse), step)
     try:
+        xy, owner, successor = adaptive_samples(segments, previous, following, step,
+                                                coarse=coarse, rng=rng)
         triangulation = Delaunay(xy + rng.uniform(-JITTER, JITTER, xy.shape))
     except QhullError:
         return empty
