@@ -124,3 +124,24 @@ def test_lanes_match_scikit_image_skeleton(layout):
 def test_medial_axis_rejects_bad_step():
     with pytest.raises(ValueError, match="step must be > 0"):
         medial_axis(shapely.box(0, 0, 1, 1), step=0)
+
+
+def test_lane_round_a_rack_end_follows_the_parabola():
+    # A 10 m rack block hangs from the north wall of a 30 m x 6 m hall; the aisle under it
+    # is 3 m wide. analytic: west of the block the lane is equidistant from the block's
+    # corner (10, 3) and the floor y = 0: the parabola y = ((x - 10)^2 + 9) / 6, from
+    # x = 7 (where it meets the hall's centre line y = 3) to x = 10. Here the boundary is
+    # sampled coarsely along the straight faces, so this checks the dense samples at bends.
+    obstacles, free = plan((0.0, 0.0, 30.0, 6.0), shapely.box(10.0, 3.0, 20.0, 6.0))
+    graph = build(obstacles, free).graph
+    lanes = [d["geometry"] for _, _, d in graph.edges(data=True)]
+    xy = shapely.get_coordinates(shapely.segmentize(np.array(lanes, dtype=object), 0.02))
+    on_bend = xy[(xy[:, 0] > 7.2) & (xy[:, 0] < 9.9) & (xy[:, 1] < 2.95)]
+    assert len(on_bend) > 50
+    x = np.linspace(6.0, 11.0, 200_001)
+    curve = np.stack([x, ((x - 10.0) ** 2 + 9.0) / 6.0], axis=1)
+    gap = cKDTree(curve).query(on_bend)[0]
+    assert gap.max() < 0.01                           # issue 3: lanes within 1 cm
+    # and the aisle lane under the block is its centre line y = 1.5
+    aisle = xy[(xy[:, 0] > 10.5) & (xy[:, 0] < 19.5) & (xy[:, 1] < 2.5)]
+    assert np.abs(aisle[:, 1] - 1.5).max() < 0.01
