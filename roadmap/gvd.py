@@ -37,6 +37,9 @@ JITTER = 1e-6
 #: A boundary vertex turning by more than asin(BEND) (2 degrees) is a corner: lanes bend
 #: round it or meet its bisector there; the chord across a smaller bend stays within mm.
 BEND = 0.035
+#: Dense samples reach this fraction of the local width from every corner: bisectors from
+#: a corner meet the lane about half a width along the faces.
+CORNER_REACH = 0.75
 #: Vertices are merged when they agree to this grid after correction, metres.
 MERGE_GRID = 1e-5
 
@@ -115,10 +118,11 @@ def adaptive_samples(segments, previous, following, step: float, *, coarse: floa
     measures the local width: an edge of length l between samples of two segments that do
     not meet spans a passage about l wide. Near such a sample the step becomes l / 1.5
     (circumcentres stay inside the passage); where the edge's other end is a corner, the
-    lane bends round it on a parabola, and sqrt(0.08 * l) keeps the chord between Voronoi
-    vertices within 1 cm of it; within l of a corner of its own segment (where bisectors
-    from the corner meet the lane in a junction) it is `step`. Long straight faces facing
-    each other need no more than `coarse`: their bisector is straight.
+    lane bends round it on a parabola, and sqrt(0.04 * l) keeps the chord between Voronoi
+    vertices within 5 mm of it (sagitta step**2 / (8 l)). Within 0.75 l of a corner of its
+    own segment (where bisectors from the corner meet the lane in a junction) the step is
+    `step`. Long straight faces facing each other need no more than `coarse`: their
+    bisector is straight.
 
     Returns
     -------
@@ -137,22 +141,24 @@ def adaptive_samples(segments, previous, following, step: float, *, coarse: floa
     length = np.hypot(*(xy[a] - xy[b]).T)
     corner = _corners(segments, previous)
     vertex = np.r_[True, owner[1:] != owner[:-1]] & corner[owner]
-    bend = np.minimum(length / 1.5, np.sqrt(0.08 * length))
+    bend = np.minimum(length / 1.5, np.sqrt(0.04 * length))
     width = np.full(len(xy), np.inf)
     np.minimum.at(width, a, length)
     np.minimum.at(width, b, length)
     wanted = np.minimum(width / 1.5, coarse)
     np.minimum.at(wanted, a, np.where(vertex[b] & ~vertex[a], bend, coarse))
     np.minimum.at(wanted, b, np.where(vertex[a] & ~vertex[b], bend, coarse))
-    from_start = np.hypot(*(xy - segments[owner, 0]).T)
-    to_end = np.hypot(*(segments[owner, 1] - xy).T)
-    near_corner = (corner[owner] & (from_start <= width)) | \
-        (corner[following[owner]] & (to_end <= width + probe))
-    wanted[near_corner] = step
     before = np.empty_like(successor)
     before[successor] = np.arange(len(successor))
     wanted = np.minimum(np.minimum(wanted, wanted[successor]), wanted[before])
     wanted = np.clip(np.minimum(wanted, wanted[successor]), step, coarse)
+    # the interval from sample k to the next reaches within 0.75 * width of a corner
+    reach = CORNER_REACH * np.minimum(width, width[successor])
+    from_start = np.hypot(*(xy - segments[owner, 0]).T)
+    next_to_end = np.where(owner[successor] == owner,
+                           np.hypot(*(segments[owner, 1] - xy[successor]).T), 0.0)
+    wanted[(corner[owner] & (from_start <= reach)) |
+           (corner[following[owner]] & (next_to_end <= reach))] = step
     pieces = np.maximum(1, np.ceil(np.hypot(*(xy[successor] - xy).T) / wanted)).astype(np.int64)
     fine, fine_owner, fine_successor = _cut(np.stack([xy, xy[successor]], axis=1), successor,
                                             pieces)
