@@ -28,8 +28,9 @@ from dataclasses import dataclass
 
 import numpy as np
 import shapely
-from scipy.spatial import Delaunay, QhullError
+from scipy.spatial import QhullError
 
+from roadmap.delaunay import triangulate
 from roadmap.inflate import boundary_segments
 
 #: Jitter of the samples before triangulation, metres (deterministic, seeded).
@@ -111,18 +112,21 @@ def _corners(segments, previous) -> np.ndarray:
 
 
 def adaptive_samples(segments, previous, following, step: float, *, coarse: float, rng,
-                     probe: float | None = None):
+                     probe: float | None = None, free_space=None):
     """Sample the boundary every `step` metres where the axis needs it, else up to `coarse`.
 
     A first Delaunay triangulation of samples `probe` metres apart (default 2 * coarse)
     measures the local width: an edge of length l between samples of two segments that do
-    not meet spans a passage about l wide. Near such a sample the step becomes l / 1.5
+    not meet spans a passage about l wide (or a wall l thick, whose end needs the same). Near such a sample the step becomes l / 1.5
     (circumcentres stay inside the passage); where the edge's other end is a corner, the
     lane bends round it on a parabola, and sqrt(0.04 * l) keeps the chord between Voronoi
     vertices within 5 mm of it (sagitta step**2 / (8 l)). Within 0.75 l of a corner of its
     own segment (where bisectors from the corner meet the lane in a junction) the step is
     `step`. Long straight faces facing each other need no more than `coarse`: their
     bisector is straight.
+
+    `free_space` (prepared), when given, lets the first triangulation run in strips
+    (:func:`roadmap.delaunay.triangulate`).
 
     Returns
     -------
@@ -132,7 +136,7 @@ def adaptive_samples(segments, previous, following, step: float, *, coarse: floa
     if coarse <= step or len(segments) < 3:
         return sample_boundary(segments, following, step)
     xy, owner, successor = sample_boundary(segments, following, probe)
-    simplices = Delaunay(xy + rng.uniform(-JITTER, JITTER, xy.shape)).simplices
+    simplices, _ = triangulate(xy + rng.uniform(-JITTER, JITTER, xy.shape), free_space)
     pairs = np.concatenate([simplices[:, [0, 1]], simplices[:, [1, 2]], simplices[:, [2, 0]]])
     a, b = pairs[:, 0], pairs[:, 1]
     apart = (owner[a] != owner[b]) & (following[owner[a]] != owner[b]) & \
@@ -284,17 +288,17 @@ def medial_axis(free_space, *, step: float = 0.25, coarse: float | None = None,
         return empty
     rng = np.random.default_rng(seed)
     coarse = 4 * step if coarse is None else max(float(coarse), step)
+    shapely.prepare(free_space)
     try:
         xy, owner, successor = adaptive_samples(segments, previous, following, step,
-                                                coarse=coarse, rng=rng)
-        triangulation = Delaunay(xy + rng.uniform(-JITTER, JITTER, xy.shape))
+                                                coarse=coarse, rng=rng, free_space=free_space)
+        simplices, neighbours = triangulate(xy + rng.uniform(-JITTER, JITTER, xy.shape),
+                                            free_space)
     except QhullError:
         return empty
-    simplices, neighbours = triangulation.simplices, triangulation.neighbors
     centres = _circumcentres(xy, simplices)
     finite = np.isfinite(centres).all(axis=1)
     inside = np.zeros(len(simplices), dtype=bool)
-    shapely.prepare(free_space)
     inside[finite] = shapely.contains_xy(free_space, centres[finite, 0], centres[finite, 1])
     # Ridges: the Delaunay edge opposite vertex k of triangle t is shared with neighbour n.
     tri = np.repeat(np.arange(len(simplices)), 3)

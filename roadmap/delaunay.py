@@ -1,0 +1,94 @@
+"""Delaunay triangulation of many boundary samples, in strips.
+
+Qhull's time grows faster than linearly with the number of points (measured here: 4 times
+the samples of a 20,000-bay warehouse took 7.6 times as long), so large sample sets are
+triangulated in strips of about STRIP_POINTS points along the longer axis, each with a
+margin of its neighbours' points. A triangle of a strip is a triangle of the whole
+triangulation when its circumcircle lies inside the strip's band (the band holds every
+point there, and the circle holds none of them); each is kept by the strip holding its
+circumcentre. A triangle whose circle leaves the band matters only when its circumcentre
+lies in the free space (a Voronoi vertex); then the strip is done again with twice the
+margin. Neighbours are found by matching the triangles' edges.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import shapely
+from scipy.spatial import Delaunay
+
+#: Points per strip (Qhull's time per point is lowest up to about this many).
+STRIP_POINTS = 12_000
+#: First margin of each strip, metres.
+MARGIN = 8.0
+
+
+def circumcircles(points: np.ndarray, simplices: np.ndarray):
+    """Circumcentres (T, 2) and circumradii (T,) of triangles; non-finite when degenerate."""
+    a = points[simplices[:, 0]]
+    b = points[simplices[:, 1]] - a
+    c = points[simplices[:, 2]] - a
+    d = 2.0 * (b[:, 0] * c[:, 1] - b[:, 1] * c[:, 0])
+    bb, cc = (b * b).sum(axis=1), (c * c).sum(axis=1)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ux = (c[:, 1] * bb - b[:, 1] * cc) / d
+        uy = (b[:, 0] * cc - c[:, 0] * bb) / d
+    return a + np.stack([ux, uy], axis=1), np.hypot(ux, uy)
+
+
+def neighbours_of(simplices: np.ndarray) -> np.ndarray:
+    """Neighbour across the edge opposite each corner (T, 3), -1 where none."""
+    count = len(simplices)
+    first = np.concatenate([simplices[:, 1], simplices[:, 2], simplices[:, 0]])
+    second = np.concatenate([simplices[:, 2], simplices[:, 0], simplices[:, 1]])
+    low, high = np.minimum(first, second), np.maximum(first, second)
+    owner = np.tile(np.arange(count), 3)
+    corner = np.repeat(np.arange(3), count)
+    order = np.lexsort((high, low))
+    same = (low[order][1:] == low[order][:-1]) & (high[order][1:] == high[order][:-1])
+    a, b = order[:-1][same], order[1:][same]
+    result = np.full((count, 3), -1, dtype=np.int64)
+    result[owner[a], corner[a]] = owner[b]
+    result[owner[b], corner[b]] = owner[a]
+    return result
+
+
+def triangulate(points: np.ndarray, free_space=None, *, strip_points: int = STRIP_POINTS):
+    """Return the Delaunay triangles of `points` (N, 2) that matter, and their neighbours.
+
+    Parameters
+    ----------
+    points : (N, 2) float ndarray, metres, in general position (jittered)
+    free_space : prepared Polygon or MultiPolygon, optional
+        Triangles whose circumcentre lies outside it may be left out (strips only).
+
+    Returns
+    -------
+    simplices : (T, 3) int ndarray, indices into `points`
+    neighbours : (T, 3) int ndarray, as scipy's ``Delaunay.neighbors`` (-1: none kept)
+    """
+    if len(points) <= 2 * strip_points or free_space is None:
+        triangulation = Delaunay(points)
+        return triangulation.simplices, triangulation.neighbors
+    axis = int(np.argmax(np.ptp(points, axis=0)))
+    along = points[:, axis]
+    edges = np.quantile(along, np.linspace(0.0, 1.0, len(points) // strip_points + 1))
+    edges[0], edges[-1] = -np.inf, np.inf
+    kept = []
+    for low, high in zip(edges[:-1], edges[1:]):
+        margin = MARGIN
+        while True:
+            members = np.flatnonzero((along >= low - margin) & (along <= high + margin))
+            simplices = members[Delaunay(points[members]).simplices]
+            centre, radius = circumcircles(points, simplices)
+            mine = (centre[:, axis] >= low) & (centre[:, axis] < high)
+            inside_band = (centre[:, axis] - radius >= low - margin) & \
+                (centre[:, axis] + radius <= high + margin)
+            doubtful = np.flatnonzero(mine & ~inside_band & np.isfinite(centre).all(axis=1))
+            if len(doubtful) == 0 or not shapely.contains_xy(
+                    free_space, centre[doubtful, 0], centre[doubtful, 1]).any():
+                kept.append(simplices[mine & inside_band])
+                break
+            margin *= 2.0
+    simplices = np.concatenate(kept)
+    return simplices, neighbours_of(simplices)
