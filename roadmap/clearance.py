@@ -93,7 +93,8 @@ class ClearanceField:
         if len(xy) > BLOCK:
             return np.concatenate([self.at(xy[i:i + BLOCK]) for i in range(0, len(xy), BLOCK)])
         k = min(CANDIDATES, len(self.samples))
-        reach, nearest = self.index.query(xy, k=k, workers=-1)
+        # threads pay off only on large queries (starting them costs about a millisecond)
+        reach, nearest = self.index.query(xy, k=k, workers=-1 if len(xy) > 20_000 else 1)
         reach, nearest = reach.reshape(len(xy), k), nearest.reshape(len(xy), k)
         segment = self.owner[nearest]
         best = self._distance(xy, segment).min(axis=1)

@@ -53,7 +53,8 @@ def neighbours_of(simplices: np.ndarray) -> np.ndarray:
     return result
 
 
-def triangulate(points: np.ndarray, free_space=None, *, strip_points: int = STRIP_POINTS):
+def triangulate(points: np.ndarray, free_space=None, *, strip_points: int = STRIP_POINTS,
+                neighbours: bool = True):
     """Return the Delaunay triangles of `points` (N, 2) that matter, and their neighbours.
 
     Parameters
@@ -65,7 +66,8 @@ def triangulate(points: np.ndarray, free_space=None, *, strip_points: int = STRI
     Returns
     -------
     simplices : (T, 3) int ndarray, indices into `points`
-    neighbours : (T, 3) int ndarray, as scipy's ``Delaunay.neighbors`` (-1: none kept)
+    neighbours : (T, 3) int ndarray, as scipy's ``Delaunay.neighbors`` (-1: none kept);
+        None when `neighbours` is false.
     """
     if len(points) <= 2 * strip_points or free_space is None:
         triangulation = Delaunay(points)
@@ -91,4 +93,4 @@ def triangulate(points: np.ndarray, free_space=None, *, strip_points: int = STRI
                 break
             margin *= 2.0
     simplices = np.concatenate(kept)
-    return simplices, neighbours_of(simplices)
+    return simplices, neighbours_of(simplices) if neighbours else None

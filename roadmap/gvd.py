@@ -136,7 +136,8 @@ def adaptive_samples(segments, previous, following, step: float, *, coarse: floa
     if coarse <= step or len(segments) < 3:
         return sample_boundary(segments, following, step)
     xy, owner, successor = sample_boundary(segments, following, probe)
-    simplices, _ = triangulate(xy + rng.uniform(-JITTER, JITTER, xy.shape), free_space)
+    simplices, _ = triangulate(xy + rng.uniform(-JITTER, JITTER, xy.shape), free_space,
+                               neighbours=False)
     pairs = np.concatenate([simplices[:, [0, 1]], simplices[:, [1, 2]], simplices[:, [2, 0]]])
     a, b = pairs[:, 0], pairs[:, 1]
     apart = (owner[a] != owner[b]) & (following[owner[a]] != owner[b]) & \
