@@ -220,7 +220,7 @@ def _pseudo_inverse(matrices: np.ndarray) -> np.ndarray:
 
 
 def correct_vertices(centres, generators, segments, previous, following, *,
-                     iterations: int = 3, max_move: float = 0.2):
+                     iterations: int = 2, max_move: float = 0.2):
     """Move Voronoi vertices onto the exact bisector of their generators' boundary segments.
 
     Gauss-Newton on ``[d0 - d1, d0 - d2] = 0`` with the minimum-norm step (the pseudo-inverse
