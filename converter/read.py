@@ -340,8 +340,10 @@ def insert_matrices(insert, *, limits=None, source=""):
     Raises LimitError when a MINSERT has more cells than ``limits.max_entities``.
     """
     limits = limits or Limits()
-    rows = np.array(list(insert.matrix44().rows()), dtype=float)
-    base = rows[[0, 1, 3], :2]
+    base = _plan_matrix(insert)
+    if base is None:
+        rows = np.array(list(insert.matrix44().rows()), dtype=float)
+        base = rows[[0, 1, 3], :2]
     row_count = max(int(insert.dxf.get("row_count", 1)), 1)
     column_count = max(int(insert.dxf.get("column_count", 1)), 1)
     if row_count * column_count == 1:
@@ -360,6 +362,26 @@ def insert_matrices(insert, *, limits=None, source=""):
     matrices = np.repeat(base[None], len(offsets), axis=0)
     matrices[:, 2, :] += offsets @ rotation @ axes
     return matrices
+
+
+def _plan_matrix(insert):
+    """The (3, 2) matrix of an INSERT in the plan's plane (extrusion +Z), as ezdxf's
+    ``Insert.matrix44`` gives it (scale, then rotation, block base point moved onto the
+    insertion point) without its 4 x 4 algebra; None for any other extrusion."""
+    dxf = insert.dxf
+    extrusion = dxf.get("extrusion", None)
+    if extrusion is not None and (extrusion[0] != 0 or extrusion[1] != 0 or extrusion[2] <= 0):
+        return None
+    angle = math.radians(dxf.rotation)
+    cos, sin = math.cos(angle), math.sin(angle)
+    xscale, yscale = dxf.xscale, dxf.yscale
+    matrix = np.array([[xscale * cos, xscale * sin], [-yscale * sin, yscale * cos],
+                       [dxf.insert[0], dxf.insert[1]]], dtype=float)
+    block = insert.block()
+    if block is not None:
+        base_point = block.block.dxf.base_point
+        matrix[2] -= base_point[0] * matrix[0] + base_point[1] * matrix[1]
+    return matrix
 
 
 def attribute_label(insert):
