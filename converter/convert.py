@@ -231,13 +231,14 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
                  what="length of the free space's boundary in metres (the roadmap samples it "
                       "every 0.2 m)")
     stations = find_stations(content, by_role["station"], factor, label_radius, source)
-    everything = shapely.union_all([region for region in regions.values()] + [free])
+    # the extents of the union are the combined bounds; no need to build the union itself
+    everything = shapely.total_bounds([region for region in regions.values()] + [free])
     return FloorPlan(source=source, sha256=content.sha256, units=unit, m_per_unit=factor,
                      unit_note=note, regions=regions, free_space=free, stations=stations,
                      leaks=tuple(Leak(round(x, 4), round(y, 4), round(width, 4))
                                  for x, y, width in leaks),
                      warnings=tuple(warnings),
-                     extents=tuple(float(value) for value in shapely.bounds(everything)))
+                     extents=tuple(float(value) for value in everything))
 
 
 def _check_mapped(content, roles, by_role, source):
