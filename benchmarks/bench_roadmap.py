@@ -22,7 +22,9 @@ floor and its time is scaled by the floor's pixel count / the window's pixel cou
 steps are linear in pixels); at 1,000 bays it also runs on the whole floor, to check the
 scaling.
 
-The numbers are medians on a shared, noisy machine: compare within one run.
+Targets (issue 3, 2 cores): read + convert + roadmap of about 5,000 bays <= 1 s and of about
+20,000 bays <= 4 s and 800 MiB; total <= 3 x parse; >= 20 x faster than the raster; about
+linear growth. The numbers are medians on a shared, noisy machine: compare within one run.
 """
 
 from __future__ import annotations
