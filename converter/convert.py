@@ -229,7 +229,7 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
                            f"and no boundary is drawn; check the layer roles with `clearway layers`")
     limits.check("max_boundary_length", float(free.boundary.length), subject=source,
                  what="length of the free space's boundary in metres (the roadmap samples it "
-                      "every 0.2 m)")
+                      "every 0.25 to 1 m)")
     stations = find_stations(content, by_role["station"], factor, label_radius, source)
     # the extents of the union are the combined bounds; no need to build the union itself
     everything = shapely.total_bounds([region for region in regions.values()] + [free])
