@@ -29,6 +29,7 @@ from ezdxf.lldxf.const import DXFError
 from ezdxf.math import X_AXIS, Y_AXIS
 from ezdxf.path import from_hatch
 
+from clearway.collector import paused_collector
 from clearway.errors import ClearwayError, DrawingError, LimitError
 from clearway.limits import Limits
 from converter.curves import bulge_polyline, widened_polyline
@@ -172,6 +173,7 @@ def open_document(path, limits=None):
     return doc, hashlib.sha256(data).hexdigest(), warnings
 
 
+@paused_collector()  # ezdxf's many long-lived objects make each full collection costly
 def read_drawing(path, *, chord_tolerance, units=None, limits=None):
     """Read a drawing's model space into a DrawingContent (drawing units).
 

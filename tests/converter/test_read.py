@@ -222,3 +222,24 @@ def test_binary_dxf_reads_like_ascii(tmp_path):
     truncated.write_bytes((tmp_path / "binary.dxf").read_bytes()[:-200])
     with pytest.raises(DrawingError, match="binary DXF is truncated"):
         read_floorplan(truncated)
+
+
+def test_reading_restores_the_garbage_collector(tmp_path):
+    # read_drawing pauses Python's cyclic collector; it must come back on after a good
+    # read and after a refused file, and stay off if the caller had turned it off
+    import gc
+    walls = new_drawing(6)
+    walled_room(walls.modelspace(), 0, 0, 10, 10)
+    path = save(walls, tmp_path)
+    assert gc.isenabled()
+    read_floorplan(path)
+    assert gc.isenabled()
+    with pytest.raises(DrawingError, match="file not found"):
+        read_floorplan(tmp_path / "missing.dxf")
+    assert gc.isenabled()
+    gc.disable()
+    try:
+        read_floorplan(path)
+        assert not gc.isenabled()
+    finally:
+        gc.enable()
