@@ -2,10 +2,8 @@
 
 from __future__ import annotations
 
-import datetime
 import functools
 import math
-import os
 import signal
 import threading
 
@@ -69,13 +67,9 @@ def _parse_anchor(value: str | None):
                          "e.g. 48.137,11.575,30") from None
 
 
-def _today() -> str:
-    """Today's date, ISO 8601; SOURCE_DATE_EPOCH (reproducible-builds.org) pins it."""
-    epoch = os.environ.get("SOURCE_DATE_EPOCH")
-    if epoch and epoch.isdigit():
-        moment = datetime.datetime.fromtimestamp(int(epoch), datetime.timezone.utc)
-        return moment.date().isoformat()
-    return datetime.date.today().isoformat()
+def _drawing_date(plan) -> str:
+    """The title block's date: the drawing's own, so rebuilding gives byte-identical files."""
+    return f"drawing of {plan.drawing_date}" if plan.drawing_date else "drawing undated"
 
 
 def _count(number: int, singular: str, plural: str = "") -> str:
@@ -198,7 +192,7 @@ def build(drawing, outdir, robot_radius, robot_size, margin, comfort_clearance, 
         say("rendering roadmap.graphml, roadmap.geojson, roadmap.svg, report.json")
         files = dict(zip(BUILD_FILES, (
             render_graphml(plan, roadmap), render_geojson(plan, roadmap, anchor=anchor),
-            render_svg(plan, roadmap, date=_today()), render_report(plan, roadmap))))
+            render_svg(plan, roadmap, date=_drawing_date(plan)), render_report(plan, roadmap))))
     except (ClearwayError, ValueError) as err:     # ValueError: a library's bad-value check
         raise InputError(str(err)) from None
     except OSError as err:

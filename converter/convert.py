@@ -238,7 +238,8 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
                      leaks=tuple(Leak(round(x, 4), round(y, 4), round(width, 4))
                                  for x, y, width in leaks),
                      warnings=tuple(warnings),
-                     extents=tuple(float(value) for value in everything))
+                     extents=tuple(float(value) for value in everything),
+                     drawing_date=content.drawing_date)
 
 
 def _check_mapped(content, roles, by_role, source):

@@ -66,6 +66,9 @@ class FloorPlan:
         One line each: repaired damage, skipped entities, unit assumptions.
     extents : (xmin, ymin, xmax, ymax)
         Extents of all mapped geometry, metres.
+    drawing_date : str
+        When the drawing was last saved, ISO 8601 (YYYY-MM-DD), from its header
+        ($TDUPDATE, else $TDCREATE); "" when the header does not say.
     """
 
     source: str
@@ -79,6 +82,7 @@ class FloorPlan:
     leaks: tuple[Leak, ...] = ()
     warnings: tuple[str, ...] = ()
     extents: tuple[float, float, float, float] = (0.0, 0.0, 0.0, 0.0)
+    drawing_date: str = ""
 
     def __post_init__(self):
         object.__setattr__(self, "regions", MappingProxyType(dict(self.regions)))

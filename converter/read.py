@@ -10,6 +10,7 @@ extrusion through each INSERT's own transformation matrix.
 from __future__ import annotations
 
 import contextlib
+import datetime
 import hashlib
 import io
 import itertools
@@ -83,6 +84,26 @@ class DrawingContent:
     skipped: Counter = field(default_factory=Counter)     # (layer, dxftype) -> count
     paperspace: int = 0
     warnings: list = field(default_factory=list)
+    drawing_date: str = ""                                # ISO 8601, "" when unknown
+
+
+#: Julian day number of 2000-01-01.
+_JDN_2000 = 2451545
+
+
+def saved_date(header) -> str:
+    """Return when the drawing was last saved ($TDUPDATE, else $TDCREATE), ISO 8601, or "".
+
+    DXF stores both as the Julian day number of the local date plus the fraction of the day
+    since midnight. Values outside the years 1900 to 2999 are taken as missing.
+    """
+    for name in ("$TDUPDATE", "$TDCREATE"):
+        with contextlib.suppress(*_DAMAGE):
+            days = float(header.get(name, 0.0))
+            if 2415021 <= days < 2816788:
+                day = datetime.date(2000, 1, 1) + datetime.timedelta(days=int(days) - _JDN_2000)
+                return day.isoformat()
+    return ""
 
 
 @contextlib.contextmanager
@@ -204,7 +225,7 @@ def read_drawing(path, *, chord_tolerance, units=None, limits=None):
     unit = units or INSUNITS_CODES.get(insunits, "m")
     tolerance = chord_tolerance / UNITS_TO_M[unit]
     content = DrawingContent(source, sha256, insunits if isinstance(insunits, int) else None,
-                             warnings=warnings)
+                             warnings=warnings, drawing_date=saved_date(doc.header))
     for layer in doc.layers:
         with contextlib.suppress(*_DAMAGE):
             content.layer_states[str(layer.dxf.name)] = (layer.is_frozen(), layer.is_off())

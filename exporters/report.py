@@ -62,6 +62,7 @@ def summarize(plan, roadmap) -> dict:
         "tool_version": TOOL_VERSION,
         "source": json_text(plan.source),
         "sha256": plan.sha256,
+        "drawing_date": plan.drawing_date or None,
         "units": "m",
         "drawing_units": {"units": plan.units, "m_per_unit": plan.m_per_unit,
                           "note": json_text(plan.unit_note)},

@@ -102,7 +102,8 @@ def render_svg(plan, roadmap, *, date: str) -> bytes:
     plan : converter.floorplan.FloorPlan
     roadmap : roadmap.model.Roadmap
     date : str
-        Printed in the title block (the CLI passes today's date, ISO 8601).
+        Printed in the title block (the CLI passes the drawing's own date, so a rebuild
+        of the same drawing gives the same bytes).
 
     Returns
     -------

@@ -12,9 +12,11 @@ default layer roles, so the drawings need no config file.
 from __future__ import annotations
 
 import sys
+import datetime
 from pathlib import Path
 
 import ezdxf
+from ezdxf.tools.juliandate import juliandate
 from ezdxf.enums import TextEntityAlignment
 
 HERE = Path(__file__).resolve().parent
@@ -218,6 +220,25 @@ def clinic():
     return doc
 
 
+#: The invented issue date of each drawing, written as its $TDUPDATE (last saved).
+ISSUED = {"distribution_centre.dxf": datetime.datetime(2026, 10, 5, 9, 30),
+          "distribution_centre_rev_b.dxf": datetime.datetime(2026, 11, 16, 14, 0),
+          "clinic.dxf": datetime.datetime(2026, 9, 21, 11, 0)}
+
+
+def _date_drawing(doc, issued):
+    """Save `doc` with a fixed last-saved date instead of ezdxf's fixed 2000-01-01.
+
+    ezdxf sets the header dates while saving, so the date is put in right after that step.
+    """
+    update = doc._update_metadata
+
+    def update_and_date():
+        update()
+        doc.header["$TDUPDATE"] = juliandate(issued)
+    doc._update_metadata = update_and_date
+
+
 def write_samples(folder=HERE):
     """Write the three sample drawings into `folder`; return their paths."""
     folder = Path(folder)
@@ -231,6 +252,7 @@ def write_samples(folder=HERE):
         }
         paths = []
         for name, doc in drawings.items():
+            _date_drawing(doc, ISSUED[name])
             # ezdxf adds CLASS records from a set of entity types: fix their order
             doc.classes.add_required_classes(doc.dxfversion)
             doc.classes.classes = dict(sorted(doc.classes.classes.items()))

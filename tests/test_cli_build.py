@@ -23,8 +23,8 @@ from clearway.cli import main
 from tests.conftest import SAMPLES, new_drawing, save, wall_with_gap
 
 FILES = {"roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json"}
-#: Pinned build date (2026-01-01), so the SVG is byte-identical too (reproducible-builds.org).
-ENV = {"SOURCE_DATE_EPOCH": "1767225600"}
+#: No environment pinning: the SVG carries the drawing's own date, not the build date.
+ENV: dict[str, str] = {}
 # source: sample_drawings/README.md -- stations per drawing, and which cannot be reached
 EXPECTED_STATIONS = {"distribution_centre.dxf": (13, set()),
                      "distribution_centre_rev_b.dxf": (13, set()),
@@ -98,7 +98,10 @@ def test_sample_builds_and_every_output_checks_out(built, name):
     assert left <= min(xs) and left + width >= max(xs) and top <= -max(ys)
     png = bytes(resvg_py.svg_to_bytes(svg_string=svg.decode("utf-8")))
     assert png[:8] == b"\x89PNG\r\n\x1a\n"              # source: PNG spec sec. 5.2 signature
-    assert b"ISO 3691-4" in svg and b"2026-01-01" in svg
+    # source: sample_drawings/make_samples.py ISSUED -- the drawing's date, not the build's
+    issued = {"clinic.dxf": b"2026-09-21", "distribution_centre.dxf": b"2026-10-05",
+              "distribution_centre_rev_b.dxf": b"2026-11-16"}[name]
+    assert b"ISO 3691-4" in svg and b"drawing of " + issued in svg
 
 
 def test_progress_and_summary_on_stderr(built):

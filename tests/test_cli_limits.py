@@ -19,8 +19,7 @@ FILES = {"roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json"}
 
 
 def run(*args):
-    return CliRunner().invoke(main, [str(arg) for arg in args],
-                              env={"SOURCE_DATE_EPOCH": "1767225600"})
+    return CliRunner().invoke(main, [str(arg) for arg in args])
 
 
 def nested_blocks(folder, depth):

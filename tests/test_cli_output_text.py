@@ -20,7 +20,6 @@ from lxml import etree
 from tests.conftest import new_drawing
 
 CLI = "from clearway.cli import main; main()"
-ENV_EPOCH = "1767225600"                                     # 2026-01-01, reproducible builds
 
 # Markup characters, both quotes, C0 controls that XML 1.0 forbids (BEL, ESC, SOH), a tab that
 # it allows, and the right-to-left override and mark (U+202E, U+200F; Unicode UAX #9).
@@ -76,8 +75,7 @@ def hostile_drawing(folder):
 
 def clearway(*args, cwd):
     return subprocess.run([sys.executable, "-c", CLI, *map(str, args)], capture_output=True,
-                          cwd=cwd, timeout=120, env={"SOURCE_DATE_EPOCH": ENV_EPOCH,
-                                                     "PATH": "/usr/bin:/bin"})
+                          cwd=cwd, timeout=120, env={"PATH": "/usr/bin:/bin"})
 
 
 @pytest.fixture(scope="module")

@@ -243,3 +243,24 @@ def test_reading_restores_the_garbage_collector(tmp_path):
         assert not gc.isenabled()
     finally:
         gc.enable()
+
+
+@pytest.mark.parametrize("header, expected", [
+    # source: DXF reference, HEADER section: $TDCREATE / $TDUPDATE hold the Julian day
+    # number plus the fraction of the day; JDN 2451545 is 2000-01-01 (Meeus, Astronomical
+    # Algorithms, 1998, ch. 7), and 2460000 is 2023-02-24
+    ({"$TDUPDATE": 2451545.0}, "2000-01-01"),
+    ({"$TDUPDATE": 2460000.75, "$TDCREATE": 2451545.0}, "2023-02-24"),
+    ({"$TDUPDATE": 0.0, "$TDCREATE": 2460000.25}, "2023-02-24"),
+    ({}, ""),
+    ({"$TDUPDATE": float("nan")}, ""),
+    ({"$TDUPDATE": "not a date"}, ""),
+])
+def test_drawing_date_from_the_header(header, expected):
+    from converter.read import saved_date
+    assert saved_date(header) == expected
+
+
+def test_floor_plan_carries_the_sample_drawing_date(samples):
+    # source: sample_drawings/make_samples.py ISSUED, written as $TDUPDATE
+    assert read_floorplan(samples / "distribution_centre_rev_b.dxf").drawing_date == "2026-11-16"

@@ -14,7 +14,7 @@ from roadmap.model import Robot
 
 REQUIRED = {"counts", "lane_length", "components", "stations", "pinch_points", "narrow_passages",
             "leaks", "personnel_clearance", "warnings", "units", "robot", "source", "sha256",
-            "caution"}
+            "caution", "drawing_date"}
 
 
 def _report(plan, roadmap) -> dict:

@@ -21,7 +21,6 @@ from tests.fuzz.mutations import EXAMPLES, NAMES, TIMEOUT_S, recipes, mutate, ti
 
 FILES = {"roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json"}
 CLI = "from clearway.cli import main; main()"
-ENV = {"SOURCE_DATE_EPOCH": "1767225600"}
 DERANDOMIZE = not os.environ.get("CLEARWAY_FUZZ_EXAMPLES")
 IN_PROCESS = settings(max_examples=max(EXAMPLES // 3, 20), deadline=None, derandomize=DERANDOMIZE,
                       suppress_health_check=[HealthCheck.too_slow,
@@ -63,8 +62,7 @@ def test_mutated_drawing_builds_or_is_refused(tmp_path_factory, originals, fuzz_
     drawing, outdir = write_input(tmp_path_factory.mktemp("build"), originals, name, binary,
                                   recipe)
     with time_limit(TIMEOUT_S):
-        result = CliRunner().invoke(main, ["build", str(drawing), "-o", str(outdir), "-q"],
-                                    env=ENV)
+        result = CliRunner().invoke(main, ["build", str(drawing), "-o", str(outdir), "-q"])
     if result.exception is not None and not isinstance(result.exception, SystemExit):
         raise result.exception                        # shows the traceback of the crash
     outcome = check_outcome(result.exit_code, result.stdout, result.stderr, outdir)
@@ -79,6 +77,6 @@ def test_mutated_drawing_through_the_command(tmp_path_factory, originals, fuzz_c
                                   recipe)
     done = subprocess.run([sys.executable, "-c", CLI, "build", str(drawing), "-o", str(outdir),
                            "-q"], capture_output=True, text=True, timeout=PROCESS_TIMEOUT_S,
-                          cwd=drawing.parent, env={**os.environ, **ENV})
+                          cwd=drawing.parent, env=dict(os.environ))
     outcome = check_outcome(done.returncode, done.stdout, done.stderr, outdir)
     fuzz_counts[f"clearway build (subprocess): {outcome}"] += 1
