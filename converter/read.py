@@ -282,8 +282,8 @@ def _read_entity(entity, dxftype, layer, tolerance, content, chunks, inserts, li
         label = attribute_label(entity)
         name = str(entity.dxf.name)
         inserts[(name, layer)].append(matrices)
-        for x, y in matrices[:, 2, :]:
-            content.points.append((layer, float(x), float(y), label, dxftype))
+        for x, y in matrices[:, 2, :].tolist():
+            content.points.append((layer, x, y, label, dxftype))
     elif dxftype == "POINT":
         location = entity.dxf.location
         content.points.append((layer, float(location.x), float(location.y), None, dxftype))
@@ -397,14 +397,18 @@ def _plan_matrix(insert):
         return None
     angle = math.radians(dxf.rotation)
     cos, sin = math.cos(angle), math.sin(angle)
-    xscale, yscale = dxf.xscale, dxf.yscale
-    matrix = np.array([[xscale * cos, xscale * sin], [-yscale * sin, yscale * cos],
-                       [dxf.insert[0], dxf.insert[1]]], dtype=float)
+    xscale, yscale = float(dxf.xscale), float(dxf.yscale)
+    x_axis, y_axis = (xscale * cos, xscale * sin), (-yscale * sin, yscale * cos)
+    x, y = float(dxf.insert[0]), float(dxf.insert[1])
     block = insert.block()
     if block is not None:
+        # plain floats, same operations in the same order as on numpy 2-vectors (whose
+        # per-call overhead outweighed the arithmetic), so the matrices are bit-identical
         base_point = block.block.dxf.base_point
-        matrix[2] -= base_point[0] * matrix[0] + base_point[1] * matrix[1]
-    return matrix
+        base_x, base_y = float(base_point[0]), float(base_point[1])
+        x -= base_x * x_axis[0] + base_y * y_axis[0]
+        y -= base_x * x_axis[1] + base_y * y_axis[1]
+    return np.array([x_axis, y_axis, (x, y)], dtype=float)
 
 
 def attribute_label(insert):
