@@ -100,6 +100,33 @@ def bands(lines, width):
     return as_multipolygon(shapely.union_all(shapely.buffer(lines, width / 2.0, quad_segs=2)))
 
 
+def inscribed_radius(faces, tolerance, *, above):
+    """Return the radius of each face's largest inscribed circle, metres, shape (N,).
+
+    Exact within `tolerance` metres (GEOS's maximum inscribed circle) for every face that
+    could have a radius up to `above`; a wider face may get a smaller radius that still
+    exceeds `above`. A first pass with a tolerance of `above` settles wide faces (a room or
+    a whole floor, whose fine search dominates the cost) and only the others are refined.
+    A circle centred inside its face is a lower bound of the true radius, so a first-pass
+    radius over ``above + 2 * tolerance`` proves the fine one exceeds `above` too.
+
+    Examples
+    --------
+    >>> faces = np.array([shapely.box(0, 0, 10, 0.3), shapely.box(0, 0, 50, 40)])
+    >>> inscribed_radius(faces, 0.006, above=0.303).round(2).tolist()
+    [0.15, 20.0]
+    """
+    faces = np.asarray(faces, dtype=object)
+    circles = shapely.maximum_inscribed_circle(faces, max(above, tolerance))
+    centre = shapely.get_coordinates(shapely.get_point(circles, 0))
+    inside = shapely.contains_xy(faces, centre[:, 0], centre[:, 1])
+    radius = np.where(inside, shapely.length(circles), 0.0)
+    unsure = radius <= above + 2.0 * tolerance
+    if unsure.any():
+        radius[unsure] = shapely.length(shapely.maximum_inscribed_circle(faces[unsure], tolerance))
+    return radius
+
+
 def wall_regions(lines, rings, fills, *, gap_tolerance, max_wall_thickness, nominal_wall_thickness):
     """Return (solid walls, enclosed area) from wall-layer linework, metres.
 
@@ -131,7 +158,7 @@ def wall_regions(lines, rings, fills, *, gap_tolerance, max_wall_thickness, nomi
         faces = shapely.get_parts(shapely.polygonize(edges))
     if len(faces):
         tolerance = max(max_wall_thickness / 100.0, 1e-4)
-        radius = shapely.length(shapely.maximum_inscribed_circle(faces, tolerance))
+        radius = inscribed_radius(faces, tolerance, above=(max_wall_thickness + tolerance) / 2)
         solid_faces = faces[2.0 * radius <= max_wall_thickness + tolerance]
     else:
         solid_faces = faces

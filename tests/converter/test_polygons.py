@@ -121,3 +121,20 @@ def test_coverage_union_equals_general_union():
     assert fast.area == pytest.approx(40 * 2.97)
     overlapping = np.array([shapely.box(0, 0, 2, 2)] * 9 + [shapely.box(1, 1, 3, 3)])
     assert union_polygons(overlapping).area == pytest.approx(7.0)
+
+
+def test_inscribed_radius_of_thin_u_and_wide_rooms():
+    from converter.polygons import inscribed_radius
+    # a 0.4 m thick U-shaped wall 20 m across: its centroid lies outside it, 10 m from it,
+    # so a first pass must not take that distance for the radius
+    u_wall = shapely.box(0, 0, 20, 0.4) | shapely.box(0, 0, 0.4, 20) | shapely.box(19.6, 0, 20, 20)
+    room = shapely.box(0, 0, 30, 12)
+    ring_room = shapely.box(-5, -5, 45, 25).difference(shapely.box(0, 0, 40, 20))
+    radius = inscribed_radius(np.array([u_wall, room, ring_room]), 0.006, above=0.303)
+    # analytic: in the U's outer corner the circle touches both outer faces and the inner
+    # corner (w, w): sqrt(2) (w - r) = r, r = w sqrt(2) / (1 + sqrt(2)) = 0.2343 m for w = 0.4;
+    # a 30 x 12 m room has 6 m; the 5 m wide ring around a 40 x 20 m hole has the same
+    # corner circle, 5 sqrt(2) / (1 + sqrt(2)) = 2.93 m
+    assert radius[0] == pytest.approx(0.4 * 2 ** 0.5 / (1 + 2 ** 0.5), abs=0.006)
+    assert radius[1] > 0.303 + 0.012 and radius[1] <= 6.0 + 1e-9
+    assert radius[2] > 0.303 + 0.012 and radius[2] <= 5 * 2 ** 0.5 / (1 + 2 ** 0.5) + 1e-9
