@@ -191,7 +191,8 @@ def refine_lanes(lines: list[np.ndarray], field: ClearanceField, *, below: float
         owner = np.repeat(np.arange(len(lines)), counts)
         chord = np.flatnonzero(owner[1:] == owner[:-1])
         a, b = xy[chord], xy[chord + 1]
-        ends = np.minimum(field.at(a), field.at(b))
+        at_vertex = field.at(xy)  # each vertex once, not once per chord it ends
+        ends = np.minimum(at_vertex[chord], at_vertex[chord + 1])
         narrow = ends < below + 0.2
         chord, a, b, ends = chord[narrow], a[narrow], b[narrow], ends[narrow]
         span = np.hypot(*(b - a).T)
