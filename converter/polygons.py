@@ -228,15 +228,19 @@ def find_leaks(walls, enclosed, *, widths=LEAK_WIDTHS, min_area=1.0):
     base = fill_holes(enclosed)
     if walls.is_empty:
         return [], base
-    sealed_by_width = []
-    for width in widths:
+
+    def sealed_at(width):
         closed = shapely.buffer(shapely.buffer(walls, width / 2.0, join_style="mitre"),
                                 -width / 2.0, join_style="mitre")
-        sealed_by_width.append((width, closed, fill_holes(shapely.union_all([closed, base]))))
-    last_closed, last_sealed = sealed_by_width[-1][1:]
+        return width, closed, fill_holes(shapely.union_all([closed, base]))
+
+    # the widest closing alone decides whether anything escaped (the usual answer: no)
+    last_closed, last_sealed = sealed_at(widths[-1])[1:]
     escaped = shapely.difference(last_sealed, shapely.union_all([last_closed, base]))
     if escaped.area < min_area:
         return [], base
+    sealed_by_width = [sealed_at(width) for width in widths[:-1]] + \
+        [(widths[-1], last_closed, last_sealed)]
     outside = shapely.difference(shapely.envelope(walls).buffer(max(widths) * 2.0), base)
     for width, closed, sealed in sealed_by_width:
         interior = shapely.difference(sealed, shapely.union_all([closed, base]))
