@@ -3,7 +3,9 @@
 A station joins the nearest point of a lane that it can reach by a straight segment clear of
 obstacles by at least the required clearance c along its whole length (checked by exact
 distances every 2 cm). Where several points are equally near (within 1 mm), an existing
-node (a lane's end) wins, then the lower (x, y), which is the lower node id.
+node (a lane's end) wins, then the lower (x, y), which is the lower node id. A link that
+would meet its lane within 0.1 m of an existing node meets that node instead, when the
+longer link stays clear too.
 """
 
 from __future__ import annotations
@@ -23,6 +25,10 @@ TIE = 1e-3
 LINK_STEP = 0.02
 #: Candidate points are taken every CANDIDATE_STEP metres along nearby lanes.
 CANDIDATE_STEP = 0.1
+#: A link that would meet a lane this close to an existing node meets the node instead,
+#: metres: a lane stub of a few centimetres between a link node and a junction is noise
+#: to fleet software, and the link grows by at most this much.
+NODE_SNAP = 0.1
 
 REASON_BAND = "inside an obstacle's clearance band"
 REASON_NO_LANE = "its region has no lane"
@@ -102,6 +108,18 @@ def _visible(here, points, field, clearance):
     return result
 
 
+def _snap_to_node(here, point, lane_ends, distance, field, clearance):
+    """Return `point`, or the lane end (2, 2) within NODE_SNAP of it when the link stays clear.
+
+    A station standing on the lane (within ON_LANE) keeps its own point: it splits the lane.
+    """
+    gaps = np.hypot(*(lane_ends - point).T)
+    nearest = lane_ends[int(np.argmin(gaps))]
+    if distance <= ON_LANE or gaps.min() > NODE_SNAP or gaps.min() <= TIE:
+        return point
+    return nearest if _visible(here, nearest[None], field, clearance)[0] else point
+
+
 def _attach(point, lanes, mine, tree, ends, field, clearance):
     here = shapely.get_coordinates(point)[0]
     radius = float(shapely.distance(point, lanes[mine]).min()) + 1.0
@@ -122,7 +140,8 @@ def _attach(point, lanes, mine, tree, ends, field, clearance):
                                 for i in tied])
             pool = tied[at_node] if at_node.any() else tied
             pick = pool[np.lexsort((points[pool, 1], points[pool, 0]))[0]]
-            x, y = points[pick]
+            x, y = _snap_to_node(here, points[pick], ends[owners[pick]], distance[pick],
+                                 field, clearance)
             line = lanes[owners[pick]]
             return Attachment(int(owners[pick]), float(x), float(y),
                               float(shapely.line_locate_point(line, shapely.Point(x, y))),

@@ -159,3 +159,28 @@ def test_station_equidistant_from_a_node_and_a_lane_joins_the_node():
     join, = link_stations(np.array([[5.0, 0.0]]), lanes, np.array([0, 0]), regions, field,
                           free, 0.45)
     assert (join.lane, join.x, join.y) == (1, pytest.approx(5.0), pytest.approx(-1.0))
+
+
+def test_link_that_would_land_next_to_a_node_joins_the_node():
+    from roadmap.clearance import clearance_field
+    from roadmap.inflate import boundary_segments
+    from roadmap.stations import link_stations
+    # analytic: the nearest point of lane B = (6, 0)-(10, 0) to the station (6.05, 2) is
+    # (6.05, 0), 5 cm from B's end node (6, 0); the link to the node is sqrt(0.05^2 + 2^2)
+    # = 2.0006 m long and clear, so it meets the node and leaves no 5 cm lane stub
+    free = shapely.box(-10, -10, 20, 10)
+    lanes = np.array([shapely.LineString([(6, 0), (6, -5)]),
+                      shapely.LineString([(6, 0), (10, 0)])], dtype=object)
+    field = clearance_field(boundary_segments(free)[0])
+    regions = np.array([free.buffer(-0.45)], dtype=object)
+    join, = link_stations(np.array([[6.05, 2.0]]), lanes, np.array([0, 0]), regions, field,
+                          free, 0.45)
+    assert (join.x, join.y) == (pytest.approx(6.0), pytest.approx(0.0))
+    # 0.3 m from the node is beyond the snap distance: the nearest lane point stands
+    join, = link_stations(np.array([[6.3, 2.0]]), lanes, np.array([0, 0]), regions, field,
+                          free, 0.45)
+    assert (join.lane, join.x, join.y) == (1, pytest.approx(6.3), pytest.approx(0.0))
+    # a station standing on the lane splits it where it stands, however near the node
+    join, = link_stations(np.array([[6.05, 0.0]]), lanes, np.array([0, 0]), regions, field,
+                          free, 0.45)
+    assert join.on_lane and (join.x, join.y) == (pytest.approx(6.05), pytest.approx(0.0))
