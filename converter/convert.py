@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import json
 from dataclasses import dataclass
-from pathlib import Path
 
 import numpy as np
 import shapely
@@ -13,7 +12,7 @@ from clearway.errors import ConfigError, DrawingError
 from clearway.limits import Limits
 from converter.floorplan import OBSTACLE_ROLES, ROLES, FloorPlan, Leak, Station
 from converter.parts import Parts
-from converter.polygons import (as_multipolygon, boundary_regions, filled_regions,
+from converter.polygons import (boundary_regions, filled_regions,
                                 find_leaks, free_space, wall_regions)
 from converter.read import read_drawing
 from converter.roles import ROLE_OPTION_NAMES, Roles

@@ -593,5 +593,5 @@ class _BlockReader:
         found = flatten_entity(entity, tolerance, self.limits.max_curve_vertices)
         if found:
             parts = Parts.from_list(*zip(*found))
-            self.budget.spend(parts, 1, f"block contents")
+            self.budget.spend(parts, 1, "block contents")
             chunks[layer].append(parts)

@@ -11,7 +11,6 @@ from __future__ import annotations
 import io
 import math
 import os
-from pathlib import Path
 from typing import BinaryIO
 
 import networkx as nx

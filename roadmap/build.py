@@ -4,7 +4,6 @@ from __future__ import annotations
 
 from typing import Callable, Mapping, Sequence
 
-import networkx as nx
 import numpy as np
 import shapely
 from scipy.sparse.csgraph import connected_components
@@ -17,7 +16,7 @@ from roadmap.graph import (_adjacency, chain_lanes, contract_short_edges, prune_
 from roadmap.clearance import clearance_field
 from roadmap.inflate import (boundary_segments, drivable_region, inflate_obstacles,
                              local_offset, polygon_parts, polylines, to_drawing, to_local)
-from roadmap.model import Findings, Robot, Roadmap
+from roadmap.model import Robot, Roadmap
 from roadmap.lanes import assemble_graph, refine_lanes
 from roadmap.stations import Attachment, link_stations, station_regions
 

@@ -30,7 +30,7 @@ import numpy as np
 import shapely
 from scipy.spatial import QhullError
 
-from roadmap.delaunay import triangulate
+from roadmap.delaunay import circumcircles, triangulate
 from roadmap.inflate import boundary_segments
 
 #: Jitter of the samples before triangulation, metres (deterministic, seeded).
@@ -170,18 +170,6 @@ def adaptive_samples(segments, previous, following, step: float, *, coarse: floa
     return fine, owner[fine_owner], fine_successor
 
 
-def _circumcentres(points: np.ndarray, simplices: np.ndarray):
-    a = points[simplices[:, 0]]
-    b = points[simplices[:, 1]] - a
-    c = points[simplices[:, 2]] - a
-    d = 2.0 * (b[:, 0] * c[:, 1] - b[:, 1] * c[:, 0])
-    bb, cc = (b * b).sum(axis=1), (c * c).sum(axis=1)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        ux = (c[:, 1] * bb - b[:, 1] * cc) / d
-        uy = (b[:, 0] * cc - c[:, 0] * bb) / d
-    return a + np.stack([ux, uy], axis=1)
-
-
 def _nearest_on(points, start, end):
     """Nearest point on segments start-end (K, 2) to points (K, 2) and its distance."""
     direction = end - start
@@ -297,7 +285,7 @@ def medial_axis(free_space, *, step: float = 0.25, coarse: float | None = None,
                                             free_space)
     except QhullError:
         return empty
-    centres = _circumcentres(xy, simplices)
+    centres, _ = circumcircles(xy, simplices)
     finite = np.isfinite(centres).all(axis=1)
     inside = np.zeros(len(simplices), dtype=bool)
     inside[finite] = shapely.contains_xy(free_space, centres[finite, 0], centres[finite, 1])

@@ -2,9 +2,7 @@
 
 from __future__ import annotations
 
-import importlib.util
 import json
-import sys
 from pathlib import Path
 
 from click.testing import CliRunner
@@ -12,15 +10,8 @@ from lxml import etree
 
 from clearway.cli import main
 
-_spec = importlib.util.spec_from_file_location(
-    "lane_fixtures", Path(__file__).resolve().parent / "lane_fixtures.py")
-fixtures = sys.modules.setdefault("lane_fixtures", importlib.util.module_from_spec(_spec))
-if not hasattr(fixtures, "lane_graph"):
-    _spec.loader.exec_module(fixtures)
-_cases_spec = importlib.util.spec_from_file_location(
-    "compare_cases_cli", Path(__file__).resolve().parent / "roadmap" / "test_compare.py")
-cases = importlib.util.module_from_spec(_cases_spec)
-_cases_spec.loader.exec_module(cases)
+import tests.lane_fixtures as fixtures
+from tests.roadmap import test_compare as cases
 
 
 def files(tmp_path, omit=()):

@@ -3,11 +3,9 @@
 from __future__ import annotations
 
 import csv
-import importlib.util
 import io
 import json
 import math
-import sys
 from pathlib import Path
 
 import networkx as nx
@@ -18,11 +16,7 @@ from scipy.sparse.csgraph import dijkstra
 
 from clearway.cli import main
 
-_spec = importlib.util.spec_from_file_location(
-    "lane_fixtures", Path(__file__).resolve().parent / "lane_fixtures.py")
-fixtures = sys.modules.setdefault("lane_fixtures", importlib.util.module_from_spec(_spec))
-if not hasattr(fixtures, "lane_graph"):
-    _spec.loader.exec_module(fixtures)
+import tests.lane_fixtures as fixtures
 
 
 def site_graph() -> nx.MultiGraph:

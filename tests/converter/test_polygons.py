@@ -6,7 +6,7 @@ import shapely
 
 from converter import read_floorplan
 from converter.polygons import node_lines, union_polygons, wall_regions
-from tests.conftest import new_drawing, rectangle, save, wall_with_gap, walled_room
+from tests.conftest import new_drawing, rectangle, save, wall_with_gap
 
 
 def test_double_line_wall_band_is_solid_and_the_room_is_free(room_drawing):

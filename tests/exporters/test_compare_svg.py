@@ -2,9 +2,6 @@
 
 from __future__ import annotations
 
-import importlib.util
-import sys
-from pathlib import Path
 
 import pytest
 import resvg_py
@@ -13,10 +10,7 @@ from lxml import etree
 from exporters import render_compare_svg
 from roadmap import compare_graphs
 
-_spec = importlib.util.spec_from_file_location(
-    "compare_cases", Path(__file__).resolve().parents[1] / "roadmap" / "test_compare.py")
-cases = importlib.util.module_from_spec(_spec)
-_spec.loader.exec_module(cases)
+from tests.roadmap import test_compare as cases
 
 SVG = "{http://www.w3.org/2000/svg}"   # source: SVG 1.1 (W3C), sec. 5.1.2 namespace
 

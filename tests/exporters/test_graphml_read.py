@@ -2,11 +2,9 @@
 
 from __future__ import annotations
 
-import importlib.util
 import io
 import math
 import os
-import sys
 import time
 from pathlib import Path
 
@@ -19,13 +17,7 @@ import shapely
 from clearway.errors import GraphFileError, LimitError
 from exporters import read_graphml
 
-# tests/ must not go on sys.path (its folders would shadow the packages): load by file name
-_spec = importlib.util.spec_from_file_location(
-    "lane_fixtures", Path(__file__).resolve().parents[1] / "lane_fixtures.py")
-fixtures = sys.modules.setdefault("lane_fixtures", importlib.util.module_from_spec(_spec))
-if not hasattr(fixtures, "lane_graph"):
-    _spec.loader.exec_module(fixtures)
-lane_graph, write_spec_graphml = fixtures.lane_graph, fixtures.write_spec_graphml
+from tests.lane_fixtures import lane_graph, write_spec_graphml
 
 NS = "http://graphml.graphdrawing.org/xmlns"  # source: GraphML 1.0 primer, sec. 2
 

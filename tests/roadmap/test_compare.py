@@ -2,23 +2,15 @@
 
 from __future__ import annotations
 
-import importlib.util
 import json
 import math
-import sys
-from pathlib import Path
 
 import networkx as nx
 import pytest
 
 from roadmap import compare_graphs, summarize_changes
 
-_spec = importlib.util.spec_from_file_location(
-    "lane_fixtures", Path(__file__).resolve().parents[1] / "lane_fixtures.py")
-fixtures = sys.modules.setdefault("lane_fixtures", importlib.util.module_from_spec(_spec))
-if not hasattr(fixtures, "lane_graph"):
-    _spec.loader.exec_module(fixtures)
-lane_graph = fixtures.lane_graph
+from tests.lane_fixtures import lane_graph
 
 OLD_NODES = {"n0": (0, 0, "station", "DOCK-1", 0.9), "n1": (4, 0, "junction", "", 1.2),
              "n2": (4, 8, "junction", "", 1.1), "n3": (12, 0, "junction", "", 1.0),

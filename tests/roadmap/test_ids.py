@@ -2,12 +2,10 @@
 
 from __future__ import annotations
 
-import importlib.util
 import itertools
 import math
 import random
 import re
-import sys
 from pathlib import Path
 
 import networkx as nx
@@ -19,12 +17,7 @@ from hypothesis import strategies as st
 from roadmap import assign_stable_ids
 from roadmap.ids import match_nodes
 
-_spec = importlib.util.spec_from_file_location(
-    "lane_fixtures", Path(__file__).resolve().parents[1] / "lane_fixtures.py")
-fixtures = sys.modules.setdefault("lane_fixtures", importlib.util.module_from_spec(_spec))
-if not hasattr(fixtures, "lane_graph"):
-    _spec.loader.exec_module(fixtures)
-lane_graph, grid_graph = fixtures.lane_graph, fixtures.grid_graph
+from tests.lane_fixtures import lane_graph, grid_graph
 
 
 def renamed(graph: nx.MultiGraph, seed: int) -> nx.MultiGraph:

@@ -2,10 +2,7 @@
 
 from __future__ import annotations
 
-import importlib.util
 import math
-import sys
-from pathlib import Path
 
 import networkx as nx
 import numpy as np
@@ -18,12 +15,7 @@ from scipy.sparse.csgraph import dijkstra
 
 from roadmap import distance_matrix, resolve_node, shortest_route
 
-_spec = importlib.util.spec_from_file_location(
-    "lane_fixtures", Path(__file__).resolve().parents[1] / "lane_fixtures.py")
-fixtures = sys.modules.setdefault("lane_fixtures", importlib.util.module_from_spec(_spec))
-if not hasattr(fixtures, "lane_graph"):
-    _spec.loader.exec_module(fixtures)
-lane_graph, grid_graph = fixtures.lane_graph, fixtures.grid_graph
+from tests.lane_fixtures import lane_graph, grid_graph
 
 
 @st.composite
