@@ -26,9 +26,10 @@ import shapely
 from ezdxf import recover
 from ezdxf.document import Drawing
 from ezdxf.lldxf.tagger import binary_tags_loader
+from ezdxf.entities.boundary_paths import BoundaryPathType, EdgeType
 from ezdxf.lldxf.const import DXFError
 from ezdxf.math import X_AXIS, Y_AXIS
-from ezdxf.path import from_hatch
+from ezdxf.path import from_hatch_boundary_path
 
 from clearway.collector import paused_collector
 from clearway.errors import ClearwayError, DrawingError, LimitError
@@ -475,7 +476,7 @@ def flatten_entity(entity, tolerance, max_vertices=None):
         closed = len(xy) > 2 and np.allclose(xy[0], xy[-1], atol=tolerance)
         return [(xy, CLOSED if closed else OPEN)]
     if dxftype == "HATCH":
-        rings = [_xy(path.flattening(tolerance), limit) for path in from_hatch(entity)]
+        rings = hatch_rings(entity, tolerance, limit)
         if not all(np.isfinite(ring).all() for ring in rings):
             raise _NotFinite()
         rings = [shapely.make_valid(shapely.Polygon(ring)) for ring in rings if len(ring) >= 3]
@@ -487,6 +488,68 @@ def flatten_entity(entity, tolerance, max_vertices=None):
         xy = _xy(entity.wcs_vertices())
         return [(xy, SHELL)] if len(np.unique(xy, axis=0)) >= 3 else []
     return None
+
+
+def hatch_rings(hatch, tolerance, limit=None):
+    """Flatten each boundary path of a HATCH into an (N, 2) ring, world coordinates.
+
+    Polyline paths, and edge paths of lines and arcs, go through the same bulge flattening
+    as polylines, so their arcs keep the chord tolerance. ezdxf's own paths approximate arcs
+    by one cubic Bezier curve per quarter circle (off by about 2.7e-4 of the radius: 2.7 mm
+    on a 10 m arc); they serve only paths with ellipse or spline edges.
+    """
+    ocs, elevation = hatch.ocs(), hatch.dxf.elevation.z
+    rings = []
+    for boundary in hatch.paths:
+        vertices = _boundary_bulges(boundary)
+        if vertices is None:
+            path = from_hatch_boundary_path(boundary, ocs, elevation)
+            paths = path.sub_paths() if path.has_sub_paths else [path]
+            rings += [_xy(part.flattening(tolerance), limit) for part in paths]
+            continue
+        if len(vertices) < 2:
+            continue
+        xy = bulge_polyline(vertices[:, :2], vertices[:, 2], closed=True, tolerance=tolerance,
+                            max_vertices=limit)
+        if xy is None:
+            raise _TooMany(limit)
+        if not ocs.uz.isclose((0, 0, 1)):
+            xy = _xy(ocs.points_to_wcs([(x, y, elevation) for x, y in xy]))
+        rings.append(xy)
+    return rings
+
+
+def _boundary_bulges(boundary):
+    """A hatch boundary path as (N, 3) x, y, bulge in its OCS; None if it has curved edges
+    other than circular arcs."""
+    if boundary.type == BoundaryPathType.POLYLINE:
+        return np.array([(x, y, bulge) for x, y, bulge in boundary.vertices],
+                        dtype=float).reshape(-1, 3)
+    vertices = []
+    for edge in boundary.edges:
+        if edge.type == EdgeType.LINE:
+            vertices.append((edge.start[0], edge.start[1], 0.0))
+        elif edge.type == EdgeType.ARC:
+            vertices += _arc_as_bulges(edge)
+        else:
+            return None
+    return np.array(vertices, dtype=float).reshape(-1, 3)
+
+
+def _arc_as_bulges(edge):
+    """Vertices with bulges tracing a hatch arc edge in its drawn direction (a full circle
+    as two halves). ezdxf keeps the angles counter-clockwise and flags the direction."""
+    sweep = (edge.end_angle - edge.start_angle) % 360.0 or 360.0
+    pieces = 2 if sweep > 180.0 else 1
+    sign = 1.0 if edge.ccw else -1.0
+    start = edge.start_angle if edge.ccw else edge.end_angle
+    bulge = sign * math.tan(math.radians(sweep / pieces) / 4.0)
+    vertices = []
+    for piece in range(pieces):
+        angle = math.radians(start + sign * piece * sweep / pieces)
+        vertices.append((edge.center[0] + edge.radius * math.cos(angle),
+                         edge.center[1] + edge.radius * math.sin(angle), bulge))
+    return vertices
 
 
 def polyline_parts(points, closed, const_width, ocs, elevation, tolerance, limit=None):

@@ -77,3 +77,32 @@ def test_wide_polyline_is_a_band(tmp_path):
     # analytic: band 6 m x 0.3 m inside a 9.6 m x 7.6 m room
     assert plan.free_space.area == pytest.approx(9.6 * 7.6 - 6 * 0.3, abs=1e-6)
     assert shapely.Point(5, 4).within(plan.regions["wall"])
+
+
+@pytest.mark.parametrize("ccw", [True, False])
+def test_hatch_arc_edges_keep_the_chord_tolerance(tmp_path, ccw):
+    # analytic: a 10 m half disc drawn as a hatch edge path (one arc edge, one line edge);
+    # the flattening's vertices lie on the circle and the chords cut off less than
+    # tolerance * arc length, as for polylines. A cubic Bezier per quarter circle would
+    # miss the circle by 2.7e-4 r = 2.7 mm (source: the classic 4/3 tan(theta/4) handle
+    # length, error 2.7e-4 of the radius for 90 degrees; from memory).
+    radius, tolerance = 10.0, 0.001
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, -20, -20, 20, 20)
+    hatch = msp.add_hatch(dxfattribs={"layer": "A-AREA-KEEPOUT"})
+    edges = hatch.paths.add_edge_path()
+    if ccw:        # upper half, traversed counter-clockwise from (10, 0)
+        edges.add_arc((0, 0), radius, 0, 180, ccw=True)
+        edges.add_line((-radius, 0), (radius, 0))
+    else:          # lower half, traversed clockwise from (-10, 0)
+        edges.add_line((-radius, 0), (radius, 0))
+        edges.add_arc((0, 0), radius, 180, 360, ccw=False)
+    plan = read_floorplan(save(doc, tmp_path), chord_tolerance=tolerance)
+    keepout = plan.regions["keepout"]
+    exact = math.pi * radius ** 2 / 2
+    assert exact - tolerance * math.pi * radius <= keepout.area <= exact
+    xy = shapely.get_coordinates(keepout)
+    on_arc = np.abs(xy[:, 1]) > 1e-6
+    assert np.abs(np.hypot(*xy[on_arc].T) - radius).max() <= 1e-4   # 0.1 mm coordinate snap
+    assert (xy[:, 1] >= -1e-9).all() if ccw else (xy[:, 1] <= 1e-9).all()
