@@ -18,7 +18,8 @@ from roadmap.inflate import (boundary_segments, drivable_region, inflate_obstacl
                              local_offset, polygon_parts, polylines, to_drawing, to_local)
 from roadmap.model import Robot, Roadmap
 from roadmap.lanes import assemble_graph, refine_lanes
-from roadmap.stations import Attachment, link_stations, station_regions
+from roadmap.stations import (REASON_NO_LANE, REASON_NO_LINK, Attachment, link_stations,
+                              station_regions)
 
 #: Douglas-Peucker tolerance for lanes whose clearance exceeds c by more than twice it, m.
 SIMPLIFY = 0.005
@@ -159,7 +160,8 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
     station_xy = np.array([(float(s[1]), float(s[2])) for s in stations]).reshape(-1, 2) \
         - np.asarray(offset)
     joins = link_stations(station_xy, lines, lane_region, regions, field, local, c)
-    failed = [i for i, j in enumerate(joins) if isinstance(j, str) and j.startswith("no ")]
+    # a region pruned to one vertex (a square or round room) has no lane left: retry too
+    failed = [i for i, j in enumerate(joins) if j in (REASON_NO_LINK, REASON_NO_LANE)]
     if failed:
         chains = chain_lanes(len(vertices), edges)
         full, _ = split_loops(chains, vertices)

@@ -119,15 +119,11 @@ def pinch_points(samples, graph, comfort: float, offset) -> list[PinchPoint]:
     change = np.r_[True, (below[1:] != below[:-1]) | (samples.owner[1:] != samples.owner[:-1])]
     starts = np.flatnonzero(change)
     stops = np.r_[starts[1:], len(below)]
-    lookup = {key: (u, v) for u, v, key in graph.edges(keys=True)}
     for start, stop in zip(starts, stops):
         if not below[start]:
             continue
         key = samples.edge_ids[samples.owner[start]]
-        u, v = lookup[key]
-        line = graph.edges[u, v, key]["geometry"]
-        ends_kind = {graph.nodes[u]["kind"], graph.nodes[v]["kind"]}
-        if "station" in ends_kind and len(line.coords) == 2:
+        if key in samples.approach:
             continue  # a station's straight approach, not a lane
         low = start + int(np.argmin(samples.clearance[start:stop]))
         x, y = samples.xy[low] + np.asarray(offset)

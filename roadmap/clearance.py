@@ -115,7 +115,10 @@ class ClearanceField:
         -------
         xy : (M, 2) samples, owner : (M,) index of the line, clearance : (M,) metres.
         """
-        dense = shapely.segmentize(np.asarray(lines, dtype=object), step)
+        dense = np.array(lines, dtype=object).reshape(-1)
+        # GEOS refuses to segmentize a zero-length line (a station on a lane's end node)
+        long = shapely.length(dense) > 0
+        dense[long] = shapely.segmentize(dense[long], step)
         xy, owner = shapely.get_coordinates(dense, return_index=True)
         return xy, owner, self.at(xy)
 

@@ -35,6 +35,8 @@ class EdgeSamples:
     owner: np.ndarray
     clearance: np.ndarray
     edge_ids: list
+    #: edge ids of the straight links from stations to lanes (not lanes themselves)
+    approach: frozenset = frozenset()
 
 
 def _cut(coords: np.ndarray, cuts: list[tuple[float, np.ndarray]]):
@@ -120,9 +122,9 @@ def assemble_graph(lines, ends, vertices, isolated, station_xy, labels, joins,
         mine = sorted(cuts.get(index, []), key=lambda cut: cut[0])
         nodes = [("v", ends[index][0])] + [cut[1] for cut in mine] + [("v", ends[index][1])]
         for k, piece in enumerate(_cut(coords, [(d, points[key]) for d, key, _ in mine])):
-            pieces.append((nodes[k], nodes[k + 1], piece))
+            pieces.append((nodes[k], nodes[k + 1], piece, False))
     for station, target, _ in links:
-        pieces.append((station, target, np.vstack([points[station], points[target]])))
+        pieces.append((station, target, np.vstack([points[station], points[target]]), True))
     keys = list(points)
     xy = np.array([points[key] for key in keys]).reshape(-1, 2)
     order = np.lexsort((xy[:, 1], xy[:, 0]))
@@ -131,8 +133,8 @@ def assemble_graph(lines, ends, vertices, isolated, station_xy, labels, joins,
     pieces.sort(key=lambda p: (min(number[p[0]], number[p[1]]), max(number[p[0]], number[p[1]]),
                                len(p[2]), tuple(p[2].ravel()[:4])))
     shift = np.asarray(offset, dtype=float)
-    geometry = [shapely.LineString(piece + shift) for _, _, piece in pieces]
-    local_lines = polylines([piece for _, _, piece in pieces])
+    geometry = [shapely.LineString(piece + shift) for _, _, piece, _ in pieces]
+    local_lines = polylines([piece for _, _, piece, _ in pieces])
     sample_xy, owner, values = field.along_adaptive(
         local_lines, COARSE_STEP, fine=EDGE_STEP, tolerance=CLEARANCE_TOLERANCE,
         below=refine_below) if pieces else \
@@ -141,7 +143,7 @@ def assemble_graph(lines, ends, vertices, isolated, station_xy, labels, joins,
     np.minimum.at(low, owner, values)
     node_clearance = field.at(xy)
     degree = {key: 0 for key in keys}
-    for u, v, _ in pieces:
+    for u, v, _, _ in pieces:
         degree[u] += 1
         degree[v] += 1
     graph = nx.MultiGraph()
@@ -153,14 +155,15 @@ def assemble_graph(lines, ends, vertices, isolated, station_xy, labels, joins,
         graph.add_node(f"n{rank}", x=float(xy[i, 0] + shift[0]), y=float(xy[i, 1] + shift[1]),
                        clearance=float(node_clearance[i]), kind=kind, label=label)
     edge_ids = []
-    for index, (u, v, _) in enumerate(pieces):
+    for index, (u, v, _, _) in enumerate(pieces):
         length = float(geometry[index].length)
         key = f"e{index}"
         edge_ids.append(key)
         graph.add_edge(node_id[u], node_id[v], key=key, length=length, weight=length,
                        clearance_min=float(low[index]), geometry=geometry[index])
     stations = {key[1]: node_id[key] for key in keys if key[0] == "s"}
-    return graph, EdgeSamples(sample_xy, owner, values, edge_ids), stations
+    approach = frozenset(edge_ids[i] for i, piece in enumerate(pieces) if piece[3])
+    return graph, EdgeSamples(sample_xy, owner, values, edge_ids, approach), stations
 
 
 def refine_lanes(lines: list[np.ndarray], field: ClearanceField, *, below: float,
