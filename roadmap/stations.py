@@ -31,6 +31,7 @@ CANDIDATE_STEP = 0.1
 NODE_SNAP = 0.1
 
 REASON_BAND = "inside an obstacle's clearance band"
+REASON_OFF_FLOOR = "not on the free floor (drawn inside an obstacle or outside the building)"
 REASON_NO_LANE = "its region has no lane"
 REASON_NO_LINK = "no straight clear link to a lane"
 
@@ -183,7 +184,10 @@ def link_stations(stations: np.ndarray, lanes: np.ndarray, lane_region: np.ndarr
     region = station_regions(stations, regions)
     results: list[Attachment | str] = []
     for index, here in enumerate(stations):
-        if not inside[index] or station_clearance[index] < clearance - 1e-9:
+        if not inside[index]:
+            results.append(REASON_OFF_FLOOR)
+            continue
+        if station_clearance[index] < clearance - 1e-9:
             results.append(REASON_BAND)
             continue
         mine = np.flatnonzero(lane_region == region[index]) if region[index] >= 0 else []

@@ -49,12 +49,16 @@ def test_station_reasons():
     # a closed pocket (walled off) too small for any lane, and a station by a wall
     pocket = shapely.box(14, 0, 14.2, 6)
     obstacles, free = plan(hall, pocket, shapely.box(14.2, 0.1, 20, 6))
-    roadmap = build(obstacles, free, [("by wall", 5.0, 0.2), ("ok", 5.0, 3.0)])
+    roadmap = build(obstacles, free, [("by wall", 5.0, 0.2), ("ok", 5.0, 3.0),
+                                      ("in the pocket wall", 14.1, 3.0), ("outside", 30.0, 3.0)])
     by_label = {r.label: r for r in roadmap.findings.stations}
     assert by_label["by wall"].reason == "inside an obstacle's clearance band"
+    # analytic: (14.1, 3) lies inside the 0.2 m wall x 14..14.2, and (30, 3) beyond the hall
+    for label in ("in the pocket wall", "outside"):
+        assert by_label[label].reason.startswith("not on the free floor")
     assert by_label["by wall"].node is None and not by_label["by wall"].reachable
     assert by_label["ok"].reachable
-    assert roadmap.findings.unreachable_pairs == (("by wall", "ok"),)
+    assert ("by wall", "ok") in roadmap.findings.unreachable_pairs
 
 
 def test_narrow_doorway_is_reported_with_its_width():
