@@ -197,12 +197,17 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
         if layer in visible and roles.role_of(layer) not in (None, "station"):
             warnings.append(f"{source}: {count} {dxftype} on layer {layer!r} skipped (not plan geometry)")
 
-    def geometry(role):
+    def scaled(role):
         parts = Parts.concat([content.parts[name] for name in by_role[role] if name in content.parts])
-        return parts.scaled(factor, grid=SNAP_M).geometries()
+        return parts.scaled(factor, grid=SNAP_M)
+
+    def geometry(role):
+        return scaled(role).geometries()
 
     common = {"gap_tolerance": gap_tolerance}
-    walls, enclosed = wall_regions(*geometry("wall"), max_wall_thickness=max_wall_thickness,
+    wall_parts = scaled("wall")
+    walls, enclosed = wall_regions(*wall_parts.geometries(), arcs=wall_parts.arcs(),
+                                   max_wall_thickness=max_wall_thickness,
                                    nominal_wall_thickness=nominal_wall_thickness, **common)
     regions = {"wall": walls}
     for role in ("racking", "keepout", "shared"):

@@ -12,8 +12,9 @@ from dataclasses import dataclass
 import numpy as np
 import shapely
 
-#: Part kinds: open linework, closed linework, the shell and the holes of a filled area.
-OPEN, CLOSED, SHELL, HOLE = 0, 1, 2, 3
+#: Part kinds: open linework, closed linework, the shell and the holes of a filled area, and
+#: an ARC entity (open linework that may be a door swing rather than a wall face).
+OPEN, CLOSED, SHELL, HOLE, ARC = 0, 1, 2, 3, 4
 
 
 @dataclass(frozen=True)
@@ -108,7 +109,8 @@ class Parts:
         """
         counts = np.diff(self.offsets)
         index = np.repeat(np.arange(len(self.kinds)), counts)
-        keep_open = (self.kinds == OPEN) & (counts >= 2) | (self.kinds == CLOSED) & (counts == 2)
+        keep_open = np.isin(self.kinds, (OPEN, ARC)) & (counts >= 2) | \
+            (self.kinds == CLOSED) & (counts == 2)
         keep_closed = (self.kinds == CLOSED) & (counts >= 3)
         result = []
         for keep, build in ((keep_open, shapely.linestrings), (keep_closed, shapely.linearrings)):
@@ -120,6 +122,17 @@ class Parts:
                                 indices=np.unique(index[mask], return_inverse=True)[1]))
         result.append(self._polygons(counts, index))
         return tuple(result)
+
+    def arcs(self):
+        """Return the ARC parts as an array of open line strings (those of `geometries` too)."""
+        counts = np.diff(self.offsets)
+        keep = (self.kinds == ARC) & (counts >= 2)
+        if not keep.any():
+            return np.empty(0, dtype=object)
+        index = np.repeat(np.arange(len(self.kinds)), counts)
+        mask = keep[index]
+        return shapely.linestrings(self.coords[mask],
+                                   indices=np.unique(index[mask], return_inverse=True)[1])
 
     def _polygons(self, counts, index):
         filled = (self.kinds == SHELL) | (self.kinds == HOLE)

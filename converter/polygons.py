@@ -12,6 +12,11 @@ import shapely
 #: Closing widths (metres) tried, smallest first, when looking for gaps in the enclosure.
 LEAK_WIDTHS = (0.25, 0.5, 1.0, 2.0, 4.0, 8.0)
 
+#: An arc on a wall layer with a radius in this range (metres, a door leaf's width) and a
+#: sweep of at most DOOR_SWING_MAX_SWEEP degrees that bounds no solid wall is a door swing.
+DOOR_SWING_RADII = (0.5, 1.6)
+DOOR_SWING_MAX_SWEEP = 120.0
+
 _EMPTY = shapely.MultiPolygon()
 
 
@@ -127,14 +132,46 @@ def inscribed_radius(faces, tolerance, *, above):
     return radius
 
 
-def wall_regions(lines, rings, fills, *, gap_tolerance, max_wall_thickness, nominal_wall_thickness):
+def door_swings(arcs):
+    """Return the arcs that look like door swings: leaf-sized radius, sweep up to 120 degrees.
+
+    The sweep follows from the chord c and the arc length s of each flattened arc:
+    c / s = sin(t / 2) / (t / 2) for a sweep t, and the radius is s / t.
+
+    Examples
+    --------
+    >>> t = np.radians(np.linspace(0, 90, 33))
+    >>> quarter = shapely.LineString(np.c_[0.9 * np.cos(t), 0.9 * np.sin(t)])
+    >>> half = shapely.LineString(np.c_[5 * np.cos(2 * t), 5 * np.sin(2 * t)])
+    >>> len(door_swings([quarter, half]))
+    1
+    """
+    arcs = np.asarray(arcs, dtype=object)
+    if not len(arcs):
+        return arcs
+    length = shapely.length(arcs)
+    chord = shapely.distance(shapely.get_point(arcs, 0), shapely.get_point(arcs, -1))
+    half = np.linspace(np.pi, 1e-6, 2000)  # half sweep t / 2, decreasing so sinc increases
+    ratio = np.divide(chord, length, out=np.zeros_like(length), where=length > 0)
+    half_sweep = np.interp(ratio, np.sin(half) / half, half)
+    radius = length / np.maximum(2.0 * half_sweep, 1e-9)
+    low, high = DOOR_SWING_RADII
+    keep = (radius >= low) & (radius <= high) & \
+        (np.degrees(2.0 * half_sweep) <= DOOR_SWING_MAX_SWEEP + 1.0)
+    return arcs[keep]
+
+
+def wall_regions(lines, rings, fills, *, gap_tolerance, max_wall_thickness, nominal_wall_thickness,
+                 arcs=()):
     """Return (solid walls, enclosed area) from wall-layer linework, metres.
 
     Linework stays linework: it is noded and polygonized, and a face whose largest inscribed
     circle has a diameter of at most `max_wall_thickness` is solid (the band between two wall
     faces, a column drawn as a circle); wider faces are rooms. Edges that bound no solid face
     (dangling lines, a single-line outline) become bands `nominal_wall_thickness` wide.
-    Filled polygons (hatches, solids, wide polylines) are solid.
+    Filled polygons (hatches, solids, wide polylines) are solid. `arcs` are the ARC entities
+    among `lines`: one that bounds no solid face and looks like a door swing (`door_swings`)
+    is the path of a door leaf, not a wall, and gets no band (it would close the doorway).
 
     Returns
     -------
@@ -166,6 +203,12 @@ def wall_regions(lines, rings, fills, *, gap_tolerance, max_wall_thickness, nomi
     solid = union_polygons(np.concatenate([solid_faces, fills]))
     if len(edges):
         loose = edges[~shapely.covered_by(edges, solid)] if not solid.is_empty else edges
+        swings = door_swings(arcs)
+        if len(loose) and len(swings):
+            # merged edges may run on from a swing into its leaf: cut the swing out of them
+            swing = shapely.buffer(shapely.union_all(swings), 1e-6)
+            loose = shapely.get_parts(shapely.difference(loose, swing))
+            loose = loose[~shapely.is_empty(loose)]
         solid = as_multipolygon(shapely.union_all([solid, bands(loose, nominal_wall_thickness)]))
     enclosed = fill_holes(shapely.union_all(np.concatenate([faces, fills, [solid]])))
     return solid, enclosed
@@ -248,6 +291,9 @@ def find_leaks(walls, enclosed, *, widths=LEAK_WIDTHS, min_area=1.0):
             continue
         exterior = shapely.difference(outside, sealed)
         patches = shapely.get_parts(shapely.difference(closed, walls))
+        # drop the slivers the closing leaves along thin (single-line) walls: open by 1 mm
+        patches = shapely.get_parts(shapely.buffer(shapely.buffer(patches, -1e-3), 1e-3))
+        patches = patches[~shapely.is_empty(patches)]
         near = shapely.buffer(patches, 1e-6)
         opening = shapely.intersects(near, interior) & shapely.intersects(near, exterior)
         inner_edge = shapely.boundary(interior)

@@ -35,7 +35,7 @@ from clearway.collector import paused_collector
 from clearway.errors import ClearwayError, DrawingError, LimitError
 from clearway.limits import Limits
 from converter.curves import bulge_polyline, widened_polyline
-from converter.parts import CLOSED, HOLE, OPEN, SHELL, Parts
+from converter.parts import ARC, CLOSED, HOLE, OPEN, SHELL, Parts
 from converter.units import INSUNITS_CODES, UNITS_TO_M
 
 BINARY_SENTINEL = b"AutoCAD Binary DXF\r\n\x1a\x00"
@@ -299,7 +299,7 @@ def _read_entity(entity, dxftype, layer, tolerance, content, chunks, inserts, li
             centre = entity.ocs().to_wcs(entity.dxf.center)
             content.points.append((layer, float(centre.x), float(centre.y), None, dxftype))
         if dxftype in _LINEWORK:
-            closed = any(kind != OPEN for _, kind in found)
+            closed = any(kind not in (OPEN, ARC) for _, kind in found)
             content.closed_open[layer][0 if closed else 1] += 1
         parts = Parts.from_list(*zip(*found)) if found else Parts.empty()
         budget.spend(parts, 1, f"{dxftype} on layer {layer!r}")
@@ -467,7 +467,7 @@ def flatten_entity(entity, tolerance, max_vertices=None):
         return None
     if dxftype in ("ARC", "CIRCLE"):
         xy = _xy(entity.flattening(tolerance), limit)
-        return [(xy, OPEN if dxftype == "ARC" else CLOSED)]
+        return [(xy, ARC if dxftype == "ARC" else CLOSED)]
     if dxftype in ("ELLIPSE", "SPLINE"):
         if dxftype == "SPLINE" and limit is not None and max(
                 entity.control_point_count(), entity.fit_point_count()) > limit:

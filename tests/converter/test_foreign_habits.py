@@ -1,0 +1,70 @@
+"""Drawings made the way other offices draw: door swings on the wall layer, single-line walls."""
+
+import pytest
+import shapely
+
+from converter import read_floorplan
+from tests.conftest import new_drawing, save, walled_room
+
+WALL = "A-WALL"
+
+
+def test_door_swing_arc_on_the_wall_layer_leaves_the_doorway_open(tmp_path):
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 20, 12)
+    # partition 0.2 m thick at x = 9.9..10.1 with a 0.9 m doorway at y = 5..5.9
+    msp.add_lwpolyline([(9.9, 0.2), (9.9, 5), (10.1, 5), (10.1, 0.2)], dxfattribs={"layer": WALL})
+    msp.add_lwpolyline([(9.9, 11.8), (9.9, 5.9), (10.1, 5.9), (10.1, 11.8)],
+                       dxfattribs={"layer": WALL})
+    msp.add_line((10.1, 5), (11.0, 5), dxfattribs={"layer": WALL})  # leaf, open 90 degrees
+    msp.add_arc((10.1, 5), 0.9, 0, 90, dxfattribs={"layer": WALL})   # its swing
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: the swing is a leaf's path, not a wall: both rooms form one free component
+    assert len(plan.free_space.geoms) == 1
+    # analytic: walls 240 - 19.6 * 11.6 = 12.64, partition 0.2 * (11.6 - 0.9) = 2.14, leaf band
+    # 0.9 x 0.05 plus its round caps (< 0.002); the arc adds nothing
+    assert plan.regions["wall"].area == pytest.approx(12.64 + 2.14 + 0.045, abs=0.003)
+
+
+def test_large_arc_on_the_wall_layer_stays_a_wall(tmp_path):
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    # single-line outline: three sides and a half-circle of radius 5 m closing the north side
+    msp.add_lwpolyline([(10, 0), (10, -5), (0, -5), (0, 0)], dxfattribs={"layer": WALL})
+    msp.add_arc((5, 0), 5, 0, 180, dxfattribs={"layer": WALL})
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: a 10 x 5 rectangle plus a half disc of radius 5 (39.27 m2), enclosed, no leak,
+    # less the inner half (0.025 m) of the nominal band along the 35.71 m outline (0.89 m2)
+    assert plan.leaks == ()
+    assert plan.free_space.area == pytest.approx(50 + 39.27 - 0.89, abs=0.05)
+
+
+def test_leak_width_in_single_line_walls(tmp_path):
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    msp.add_lwpolyline([(8, 0), (0, 0), (0, 12), (20, 12), (20, 0), (9.5, 0)],
+                       dxfattribs={"layer": WALL})
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: one 1.5 m opening centred at (8.75, 0); the 0.05 m bands' caps narrow it to 1.45
+    assert len(plan.leaks) == 1
+    leak = plan.leaks[0]
+    assert (leak.x, leak.y) == pytest.approx((8.75, 0.0), abs=0.05)
+    assert 1.4 <= leak.width <= 1.55
+
+
+def test_door_swing_in_feet(tmp_path):
+    doc = new_drawing(2)
+    msp = doc.modelspace()
+    f = 1 / 0.3048
+    walled_room(msp, 0, 0, 20 * f, 12 * f, thickness=0.2 * f)
+    msp.add_lwpolyline([(9.9 * f, 0.2 * f), (9.9 * f, 5 * f), (10.1 * f, 5 * f), (10.1 * f, 0.2 * f)],
+                       dxfattribs={"layer": "a-wall"})
+    msp.add_lwpolyline([(9.9 * f, 11.8 * f), (9.9 * f, 5.9 * f), (10.1 * f, 5.9 * f),
+                        (10.1 * f, 11.8 * f)], dxfattribs={"layer": "a-wall"})
+    msp.add_arc((10.1 * f, 5 * f), 0.9 * f, 0, 90, dxfattribs={"layer": "a-wall"})
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: ft -> 0.3048 m exactly (1959 agreement); the swing (0.9 m) leaves one component
+    assert plan.units == "ft"
+    assert len(plan.free_space.geoms) == 1
+    assert shapely.area(plan.free_space) == pytest.approx(19.6 * 11.6 - 2.14, abs=0.02)
