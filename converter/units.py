@@ -47,8 +47,8 @@ def decide_units(insunits, override, span_drawing, *, source):
     --------
     >>> decide_units(4, None, 60000.0, source="a.dxf")[:2]
     ('mm', 0.001)
-    >>> decide_units(0, None, 60000.0, source="a.dxf")[3]
-    ('a.dxf: drawing has no units ($INSUNITS = 0) and spans 60000 units, implausible in metres; it is likely in mm; pass --units mm',)
+    >>> decide_units(0, None, 60000.0, source="a.dxf")[:2]
+    ('mm', 0.001)
     """
     if override is not None:
         if override not in UNITS_TO_M:
@@ -64,10 +64,20 @@ def decide_units(insunits, override, span_drawing, *, source):
     low, high = PLAUSIBLE_SPAN_M
     if span_drawing and not low <= span_drawing <= high:
         likely = likely_unit(span_drawing)
-        hint = f"it is likely in {likely}; pass --units {likely}" if likely else "pass --units"
+        if likely is None:
+            warning = (f"{source}: drawing has no units ($INSUNITS = {insunits}) and spans "
+                       f"{span_drawing:.0f} units, implausible in metres; pass --units")
+            return "m", 1.0, note, (warning,)
+        # a building tens of kilometres wide is a drawing in another unit: read it in the
+        # unit that makes it a building, and say so loudly
+        span_m = span_drawing * UNITS_TO_M[likely]
+        note = (f"Assumed {likely}: the header gives no unit clearway knows ($INSUNITS = "
+                f"{insunits}) and the drawing spans {span_drawing:.0f} units, implausible in "
+                f"metres, {span_m:.1f} m in {likely}; pass --units to say otherwise.")
         warning = (f"{source}: drawing has no units ($INSUNITS = {insunits}) and spans "
-                   f"{span_drawing:.0f} units, implausible in metres; {hint}")
-        return "m", 1.0, note, (warning,)
+                   f"{span_drawing:.0f} units, implausible in metres; read it as {likely}, "
+                   f"its likely unit; pass --units if that is wrong")
+        return likely, UNITS_TO_M[likely], note, (warning,)
     return "m", 1.0, note, ()
 
 

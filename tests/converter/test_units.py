@@ -28,12 +28,18 @@ def test_header_units_and_override():
     assert "--units ft" in note
 
 
-def test_unitless_drawing_with_millimetre_extents_warns_naming_mm():
-    # common practice: a 60 m building drawn in mm spans 60000 units
+def test_unitless_drawing_with_millimetre_extents_is_read_in_mm_with_a_warning():
+    # common practice: a 60 m building drawn in mm spans 60000 units; 60 km is no building
     units, factor, note, warnings = decide_units(0, None, 60000.0, source="a.dxf")
-    assert (units, factor) == ("m", 1.0)
-    assert "Assumed metres" in note
-    assert len(warnings) == 1 and "likely in mm; pass --units mm" in warnings[0]
+    assert (units, factor) == ("mm", 0.001)
+    assert note.startswith("Assumed mm") and "60.0 m in mm" in note
+    assert len(warnings) == 1 and "read it as mm, its likely unit" in warnings[0]
+    # a plausible span in metres stays metres, with no warning
+    assert decide_units(0, None, 60.0, source="a.dxf")[:2] + (decide_units(
+        0, None, 60.0, source="a.dxf")[3],) == ("m", 1.0, ())
+    # a span no unit makes plausible stays metres and says so (the extent limit refuses it)
+    units, _, _, warnings = decide_units(0, None, 1e9, source="a.dxf")
+    assert units == "m" and warnings and warnings[0].endswith("pass --units")
 
 
 def test_inch_drawing_is_converted_to_metres(tmp_path):
