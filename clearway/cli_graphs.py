@@ -26,12 +26,16 @@ from roadmap import (ROUTE_METHODS, compare_graphs, distance_matrix, shortest_ro
                    "new graph's required clearance + 0.2 m, else 0.6 m].")
 @click.option("--match-tolerance", type=float, default=1.0, show_default=True,
               help="Farther than this from any old node, a node counts as added, metres.")
-def compare(old, new, as_json, svg_path, comfort_clearance, match_tolerance):
+@click.option("--route-tolerance", type=float, default=0.05, show_default=True,
+              help="Station-to-station routes that changed less than this are not listed, "
+                   "metres.")
+def compare(old, new, as_json, svg_path, comfort_clearance, match_tolerance, route_tolerance):
     """Show what changed between the lane graphs OLD.graphml and NEW.graphml."""
     old_graph, new_graph = read_graph(old), read_graph(new)
     try:
         changes = compare_graphs(old_graph, new_graph, comfort_clearance=comfort_clearance,
-                                 match_tolerance=match_tolerance)
+                                 match_tolerance=match_tolerance,
+                                 route_tolerance=route_tolerance)
         picture = (render_compare_svg(old_graph, new_graph, changes,
                                       title=f"{_short_name(old)} -> {_short_name(new)}")
                    if svg_path else None)

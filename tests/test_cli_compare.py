@@ -120,3 +120,15 @@ def test_build_with_a_hostile_previous_writes_nothing(tmp_path):
     assert result.exit_code == 2 and not out.exists()
     assert result.stderr == (f"Error: {evil}: DOCTYPE or ENTITY declarations are not allowed "
                              "in a graph file; refusing to read it\n")
+
+
+def test_route_tolerance_hides_smaller_route_changes(tmp_path):
+    # the planted revision lengthens DOCK-1 - PICK,A by 5.87 m (see test_text_summary):
+    # listed under a 5 m tolerance, hidden under a 6 m one
+    old, new = files(tmp_path)
+    listed = CliRunner().invoke(main, ["compare", str(old), str(new), "--route-tolerance", "5"])
+    hidden = CliRunner().invoke(main, ["compare", str(old), str(new), "--route-tolerance", "6"])
+    assert listed.exit_code == hidden.exit_code == 0
+    change = "route DOCK-1 - PICK,A: 12.00 m -> 17.87 m (+5.87 m)"
+    assert change in listed.stdout.splitlines()
+    assert change not in hidden.stdout.splitlines()
