@@ -176,7 +176,7 @@ def build(drawing, outdir, robot_radius, robot_size, margin, comfort_clearance, 
         anchor = _parse_anchor(anchor)
         previous_graph = read_graphml(previous) if previous else None
         # said once read, so that a drawing refused by the reader gives one line only
-        plan = read_floorplan(drawing, **converter_options(options))
+        plan = read_floorplan(drawing, **converter_options(options, config))
         say(f"read {drawing}: units {plan.units}, "
             f"{sum(len(p.geoms) for p in plan.obstacles.values())} obstacle polygons, "
             f"{len(plan.stations)} stations")

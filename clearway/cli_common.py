@@ -77,14 +77,15 @@ def drawing_options(command):
     return command
 
 
-def converter_options(options: dict) -> dict:
+def converter_options(options: dict, config: dict | None = None) -> dict:
     """Return read_floorplan's keyword arguments from command options and the config file.
 
-    The config file (``options["config"]``) gives the base; options given on the command
-    line override it key by key; the file's [limits] section becomes ``limits``. Raises
-    ConfigError for a bad file or value.
+    The config file (``options["config"]``, or `config` when the caller has already loaded
+    it) gives the base; options given on the command line override it key by key; the
+    file's [limits] section becomes ``limits``. Raises ConfigError for a bad file or value.
     """
-    config = load_config(options.get("config"))
+    if config is None:
+        config = load_config(options.get("config"))
     patterns = dict(config["layers"])
     for name in ROLE_OPTION_NAMES.values():
         if options.get(name):
@@ -94,8 +95,8 @@ def converter_options(options: dict) -> dict:
     except ValueError as err:
         raise ConfigError(str(err)) from None
     drawing = dict(config["drawing"])
-    units = options.get("units") or drawing.pop("units", None)
-    drawing.pop("units", None)
+    file_units = drawing.pop("units", None)
+    units = options.get("units") or file_units
     if units is not None and units not in UNITS_TO_M:
         raise ConfigError(f"{options.get('config')}: [drawing] units must be one of "
                           f"{', '.join(UNITS_TO_M)}, got {units!r}")

@@ -184,8 +184,9 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
             joins = link_stations(station_xy, lines, lane_region, regions, field, local, c)
 
     report("checks")
-    graph, samples, station_nodes = assemble_graph(lines, ends, vertices, isolated, station_xy, labels,
-                                    joins, field, offset, refine_below=comfort)
+    graph, samples, station_nodes = assemble_graph(lines, ends, vertices, isolated, station_xy,
+                                                   labels, joins, field, offset,
+                                                   refine_below=comfort)
     graph.graph.update(units="m", robot_radius=float(robot.radius),
                        margin=float(robot.margin), clearance=c)
     drawn = station_xy + np.asarray(offset)
