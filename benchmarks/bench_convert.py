@@ -19,8 +19,8 @@ from pathlib import Path
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
 from benchmarks.synthetic import write_warehouse  # noqa: E402
-from converter import read_floorplan  # noqa: E402
-from converter.read import quiet_library  # noqa: E402
+from clearway.converter import read_floorplan  # noqa: E402
+from clearway.converter.read import quiet_library  # noqa: E402
 
 
 def median_seconds(function, repeats):

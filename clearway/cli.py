@@ -15,7 +15,7 @@ from clearway.cli_build import build
 from clearway.cli_common import InputError, converter_options, drawing_options, terminal_text
 from clearway.cli_graphs import compare, route
 from clearway.errors import ClearwayError
-from converter import list_layers
+from clearway.converter import list_layers
 
 __all__ = ["main", "InputError", "drawing_options", "converter_options"]
 

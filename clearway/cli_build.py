@@ -12,10 +12,10 @@ import click
 from clearway.cli_common import InputError, converter_options, drawing_options, terminal_text
 from clearway.config import load_config
 from clearway.errors import ClearwayError
-from converter import read_floorplan
-from exporters import (check_anchor, read_graphml, render_geojson, render_graphml, render_report,
+from clearway.converter import read_floorplan
+from clearway.exporters import (check_anchor, read_graphml, render_geojson, render_graphml, render_report,
                        render_svg, summarize, write_outputs)
-from roadmap import Robot, build_roadmap, carry_ids_over
+from clearway.roadmap import Robot, build_roadmap, carry_ids_over
 
 
 #: The files `build` writes, in the order they are rendered.

@@ -13,8 +13,8 @@ import click
 from clearway.config import load_config
 from clearway.errors import ClearwayError, ConfigError
 from clearway.limits import Limits
-from converter import ROLE_OPTION_NAMES, UNITS_TO_M, Roles
-from exporters import read_graphml
+from clearway.converter import ROLE_OPTION_NAMES, UNITS_TO_M, Roles
+from clearway.exporters import read_graphml
 
 
 #: Characters a terminal acts on instead of showing them: C0 and C1 controls (line breaks

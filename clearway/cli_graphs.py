@@ -11,8 +11,8 @@ import click
 from networkx import NetworkXNoPath
 
 from clearway.cli_common import InputError, read_graph, replace_file, terminal_text
-from exporters import render_compare_svg
-from roadmap import (ROUTE_METHODS, compare_graphs, distance_matrix, shortest_route,
+from clearway.exporters import render_compare_svg
+from clearway.roadmap import (ROUTE_METHODS, compare_graphs, distance_matrix, shortest_route,
                      summarize_changes)
 
 

@@ -1,9 +1,9 @@
 """converter: read a DXF floor plan into obstacle and free-space polygons in metres."""
 
-from converter.convert import LayerRow, LayerTable, list_layers, read_floorplan
-from converter.floorplan import OBSTACLE_ROLES, ROLES, FloorPlan, Leak, Station
-from converter.roles import DEFAULT_ROLE_PATTERNS, ROLE_OPTION_NAMES, Roles
-from converter.units import UNITS_TO_M
+from clearway.converter.convert import LayerRow, LayerTable, list_layers, read_floorplan
+from clearway.converter.floorplan import OBSTACLE_ROLES, ROLES, FloorPlan, Leak, Station
+from clearway.converter.roles import DEFAULT_ROLE_PATTERNS, ROLE_OPTION_NAMES, Roles
+from clearway.converter.units import UNITS_TO_M
 
 __all__ = [
     "read_floorplan", "list_layers", "LayerTable", "LayerRow",

@@ -10,13 +10,13 @@ import shapely
 
 from clearway.errors import ConfigError, DrawingError
 from clearway.limits import Limits
-from converter.floorplan import OBSTACLE_ROLES, ROLES, FloorPlan, Leak, Station
-from converter.parts import Parts
-from converter.polygons import (boundary_regions, filled_regions,
+from clearway.converter.floorplan import OBSTACLE_ROLES, ROLES, FloorPlan, Leak, Station
+from clearway.converter.parts import Parts
+from clearway.converter.polygons import (boundary_regions, filled_regions,
                                 find_leaks, free_space, wall_regions)
-from converter.read import read_drawing
-from converter.roles import ROLE_OPTION_NAMES, Roles
-from converter.units import UNITS_TO_M, decide_units
+from clearway.converter.read import read_drawing
+from clearway.converter.roles import ROLE_OPTION_NAMES, Roles
+from clearway.converter.units import UNITS_TO_M, decide_units
 
 #: Coordinates are snapped to this grid, metres (0.1 mm), so shared edges match exactly.
 SNAP_M = 1e-4

@@ -34,9 +34,9 @@ from ezdxf.path import from_hatch_boundary_path
 from clearway.collector import paused_collector
 from clearway.errors import ClearwayError, DrawingError, LimitError
 from clearway.limits import Limits
-from converter.curves import bulge_polyline, widened_polyline
-from converter.parts import ARC, CLOSED, HOLE, OPEN, SHELL, Parts
-from converter.units import INSUNITS_CODES, UNITS_TO_M
+from clearway.converter.curves import bulge_polyline, widened_polyline
+from clearway.converter.parts import ARC, CLOSED, HOLE, OPEN, SHELL, Parts
+from clearway.converter.units import INSUNITS_CODES, UNITS_TO_M
 
 BINARY_SENTINEL = b"AutoCAD Binary DXF\r\n\x1a\x00"
 _MARKER = re.compile(rb"^[ \t]*0[ \t]*\r?\n[ \t]*(SECTION|ENDSEC|EOF)[ \t]*\r?$", re.MULTILINE)

@@ -7,7 +7,7 @@ from fnmatch import fnmatchcase
 from types import MappingProxyType
 from typing import Mapping
 
-from converter.floorplan import ROLES
+from clearway.converter.floorplan import ROLES
 
 #: Default glob patterns per role, matched case-insensitively. The wall and outline
 #: patterns follow the AIA / US National CAD Standard layer names (A-WALL, A-COLS,

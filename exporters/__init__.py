@@ -5,15 +5,15 @@ geometries, the findings) and never reach back into the roadmap's internals. ``w
 writes a set of files atomically.
 """
 
-from exporters.anchor import check_anchor
-from exporters.compare_svg import render_compare_svg
-from exporters.files import write_outputs
-from exporters.geojson import render_geojson
-from exporters.graphml import render_graphml
-from exporters.graphml_read import read_graphml
-from exporters.report import render_report, summarize
-from exporters.svg import render_svg
-from exporters.text import SAFETY_CAUTION
+from clearway.exporters.anchor import check_anchor
+from clearway.exporters.compare_svg import render_compare_svg
+from clearway.exporters.files import write_outputs
+from clearway.exporters.geojson import render_geojson
+from clearway.exporters.graphml import render_graphml
+from clearway.exporters.graphml_read import read_graphml
+from clearway.exporters.report import render_report, summarize
+from clearway.exporters.svg import render_svg
+from clearway.exporters.text import SAFETY_CAUTION
 
 __all__ = [
     "SAFETY_CAUTION",

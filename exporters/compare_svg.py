@@ -20,8 +20,8 @@ import networkx as nx
 import numpy as np
 import shapely
 
-from exporters.text import SAFETY_CAUTION, xml_text
-from roadmap.compare import GraphChanges
+from clearway.exporters.text import SAFETY_CAUTION, xml_text
+from clearway.roadmap.compare import GraphChanges
 
 #: Okabe-Ito colours by role.
 COLOURS = {"unchanged": "#999999", "removed": "#D55E00", "added": "#0072B2",

@@ -25,9 +25,9 @@ import numpy as np
 import shapely
 from shapely.geometry import MultiPolygon, Polygon, mapping
 
-from exporters.anchor import check_anchor, drawing_to_wgs84
-from exporters.graphml import oriented_edges
-from exporters.text import SAFETY_CAUTION, TOOL_VERSION, finite_or_none, json_text, natural_key
+from clearway.exporters.anchor import check_anchor, drawing_to_wgs84
+from clearway.exporters.graphml import oriented_edges
+from clearway.exporters.text import SAFETY_CAUTION, TOOL_VERSION, finite_or_none, json_text, natural_key
 
 #: Decimal places kept: 4 for metres (0.1 mm), 9 for degrees (about 0.1 mm of latitude).
 METRE_DECIMALS = 4

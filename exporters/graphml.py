@@ -24,7 +24,7 @@ import numpy as np
 import shapely
 from lxml import etree
 
-from exporters.text import TOOL_VERSION, exact_float, natural_key, xml_text
+from clearway.exporters.text import TOOL_VERSION, exact_float, natural_key, xml_text
 
 GRAPHML_NS = "http://graphml.graphdrawing.org/xmlns"
 _XSI_NS = "http://www.w3.org/2001/XMLSchema-instance"

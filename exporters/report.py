@@ -10,7 +10,7 @@ import json
 
 import networkx as nx
 
-from exporters.text import SAFETY_CAUTION, TOOL_VERSION, finite_or_none, json_text, natural_key
+from clearway.exporters.text import SAFETY_CAUTION, TOOL_VERSION, finite_or_none, json_text, natural_key
 
 #: Version of the report layout; raised when a key changes meaning or disappears.
 REPORT_FORMAT = 1

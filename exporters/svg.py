@@ -19,10 +19,10 @@ import numpy as np
 import shapely
 from lxml import etree
 
-from exporters.graphml import oriented_edges
-from exporters.svg_parts import (AREA_STYLE, add_legend, add_marker, add_scale_and_arrow,
+from clearway.exporters.graphml import oriented_edges
+from clearway.exporters.svg_parts import (AREA_STYLE, add_legend, add_marker, add_scale_and_arrow,
                                  add_text, lane_bins, lane_colour, number, path_data)
-from exporters.text import SAFETY_CAUTION, TOOL_VERSION, xml_text
+from clearway.exporters.text import SAFETY_CAUTION, TOOL_VERSION, xml_text
 
 SVG_NS = "http://www.w3.org/2000/svg"
 _A3 = (420.0, 297.0)   # mm, ISO 216

@@ -13,7 +13,7 @@ import numpy as np
 import shapely
 from lxml import etree
 
-from exporters.text import xml_text
+from clearway.exporters.text import xml_text
 
 # Okabe-Ito colours [OI08] for areas and symbols.
 BLACK, ORANGE, SKY, GREEN, YELLOW, BLUE, VERMILLION, PURPLE = (

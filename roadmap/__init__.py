@@ -1,12 +1,12 @@
 """The roadmap stage: from a FloorPlan to the lane graph, routes and revision comparisons."""
 
-from roadmap.build import build_roadmap
-from roadmap.compare import GraphChanges, compare_graphs, summarize_changes
-from roadmap.ids import assign_stable_ids, carry_ids_over
-from roadmap.gvd import MedialAxis, generalized_voronoi, medial_axis
-from roadmap.model import (NODE_KINDS, Findings, NarrowPassage, PersonnelFlag, PinchPoint,
+from clearway.roadmap.build import build_roadmap
+from clearway.roadmap.compare import GraphChanges, compare_graphs, summarize_changes
+from clearway.roadmap.ids import assign_stable_ids, carry_ids_over
+from clearway.roadmap.gvd import MedialAxis, generalized_voronoi, medial_axis
+from clearway.roadmap.model import (NODE_KINDS, Findings, NarrowPassage, PersonnelFlag, PinchPoint,
                            Robot, Roadmap, StationResult)
-from roadmap.routing import (ROUTE_METHODS, Route, distance_matrix, resolve_node,
+from clearway.roadmap.routing import (ROUTE_METHODS, Route, distance_matrix, resolve_node,
                              shortest_route)
 
 __all__ = [

@@ -9,16 +9,16 @@ import shapely
 from scipy.sparse.csgraph import connected_components
 from scipy.spatial import cKDTree
 
-from roadmap import checks
-from roadmap.gvd import medial_axis
-from roadmap.graph import (_adjacency, chain_lanes, contract_short_edges, prune_spurs,
+from clearway.roadmap import checks
+from clearway.roadmap.gvd import medial_axis
+from clearway.roadmap.graph import (_adjacency, chain_lanes, contract_short_edges, prune_spurs,
                            split_loops)
-from roadmap.clearance import clearance_field
-from roadmap.inflate import (boundary_segments, drivable_region, inflate_obstacles,
+from clearway.roadmap.clearance import clearance_field
+from clearway.roadmap.inflate import (boundary_segments, drivable_region, inflate_obstacles,
                              local_offset, polygon_parts, polylines, to_drawing, to_local)
-from roadmap.model import Robot, Roadmap
-from roadmap.lanes import assemble_graph, refine_lanes
-from roadmap.stations import (REASON_NO_LANE, REASON_NO_LINK, Attachment, link_stations,
+from clearway.roadmap.model import Robot, Roadmap
+from clearway.roadmap.lanes import assemble_graph, refine_lanes
+from clearway.roadmap.stations import (REASON_NO_LANE, REASON_NO_LINK, Attachment, link_stations,
                               station_regions)
 
 #: Douglas-Peucker tolerance for lanes whose clearance exceeds c by more than twice it, m.

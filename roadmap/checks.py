@@ -26,11 +26,11 @@ import numpy as np
 import shapely
 from scipy.sparse.csgraph import connected_components
 
-from roadmap.graph import _adjacency
-from roadmap.inflate import polygon_parts, to_local
-from roadmap.model import (Findings, NarrowPassage, PersonnelFlag, PinchPoint,
+from clearway.roadmap.graph import _adjacency
+from clearway.roadmap.inflate import polygon_parts, to_local
+from clearway.roadmap.model import (Findings, NarrowPassage, PersonnelFlag, PinchPoint,
                            StationResult)
-from roadmap.stations import station_regions
+from clearway.roadmap.stations import station_regions
 
 
 def _find(parent, item):

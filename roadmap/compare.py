@@ -15,8 +15,8 @@ from dataclasses import asdict, dataclass, field
 import networkx as nx
 import numpy as np
 
-from roadmap.ids import match_edge_pairs, match_nodes
-from roadmap.routing import distance_matrix, station_nodes
+from clearway.roadmap.ids import match_edge_pairs, match_nodes
+from clearway.roadmap.routing import distance_matrix, station_nodes
 
 
 #: Comfort clearance above the required one, metres (build_roadmap's default rule).

@@ -30,8 +30,8 @@ import numpy as np
 import shapely
 from scipy.spatial import QhullError
 
-from roadmap.delaunay import circumcircles, triangulate
-from roadmap.inflate import boundary_segments
+from clearway.roadmap.delaunay import circumcircles, triangulate
+from clearway.roadmap.inflate import boundary_segments
 
 #: Jitter of the samples before triangulation, metres (deterministic, seeded).
 JITTER = 1e-6

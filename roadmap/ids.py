@@ -25,7 +25,7 @@ from scipy.sparse import coo_array
 from scipy.sparse.csgraph import connected_components
 from scipy.spatial import cKDTree
 
-from roadmap.model import Roadmap
+from clearway.roadmap.model import Roadmap
 
 _NUMBERED = re.compile(r"^([A-Za-z_]*)(\d+)$")
 

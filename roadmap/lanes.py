@@ -15,9 +15,9 @@ import networkx as nx
 import numpy as np
 import shapely
 
-from roadmap.clearance import ClearanceField
-from roadmap.inflate import polylines
-from roadmap.stations import ON_LANE, Attachment
+from clearway.roadmap.clearance import ClearanceField
+from clearway.roadmap.inflate import polylines
+from clearway.roadmap.stations import ON_LANE, Attachment
 
 #: Sampling interval for each edge's clearance_min, metres.
 EDGE_STEP = 0.03

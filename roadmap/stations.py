@@ -15,7 +15,7 @@ from dataclasses import dataclass
 import numpy as np
 import shapely
 
-from roadmap.clearance import ClearanceField
+from clearway.roadmap.clearance import ClearanceField
 
 #: A station this close to a lane splits the lane itself, metres.
 ON_LANE = 1e-3

@@ -18,7 +18,7 @@ from lxml import etree
 from shapely.geometry import shape
 
 import clearway.cli_build
-import exporters.files
+import clearway.exporters.files
 from clearway.cli import main
 from tests.conftest import SAMPLES, new_drawing, save, wall_with_gap
 
@@ -202,14 +202,14 @@ def test_sigterm_while_rendering_leaves_the_previous_outputs(tmp_path, monkeypat
 def test_a_failing_disk_leaves_the_previous_outputs(tmp_path, monkeypatch):
     result = run("build", SAMPLES / "clinic.dxf", "-o", tmp_path, "--quiet")
     before = _snapshot(tmp_path)
-    real_fsync, calls = exporters.files.os.fsync, []
+    real_fsync, calls = clearway.exporters.files.os.fsync, []
 
     def fsync(descriptor):
         calls.append(descriptor)
         if len(calls) == 4:
             raise OSError(28, "No space left on device")
         return real_fsync(descriptor)
-    monkeypatch.setattr(exporters.files.os, "fsync", fsync)
+    monkeypatch.setattr(clearway.exporters.files.os, "fsync", fsync)
     result = run("build", SAMPLES / "clinic.dxf", "-o", tmp_path, "--robot-radius", "0.3",
                  "--quiet")
     assert result.exit_code == 2

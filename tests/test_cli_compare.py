@@ -89,7 +89,7 @@ def test_build_previous_then_compare_the_sample_revisions(tmp_path):
     second = runner.invoke(main, ["build", str(SAMPLES / "distribution_centre_rev_b.dxf"),
                                   "-o", str(tmp_path / "b"), "-q", "--previous", str(old_file)])
     assert second.exit_code == 0, second.stderr
-    from exporters import read_graphml
+    from clearway.exporters import read_graphml
     old, new = read_graphml(old_file), read_graphml(tmp_path / "b" / "roadmap.graphml")
     # every station keeps its node id (stations are not moved in revision B, per
     # sample_drawings/README.md), and the report names the same nodes as the graph

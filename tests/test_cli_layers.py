@@ -9,7 +9,7 @@ from click.testing import CliRunner
 
 from clearway.cli import InputError, converter_options, drawing_options, main
 from clearway.errors import ClearwayError
-from converter import Roles, read_floorplan
+from clearway.converter import Roles, read_floorplan
 
 from tests.conftest import new_drawing, save, walled_room
 

@@ -8,8 +8,8 @@ import numpy as np
 import pytest
 import shapely
 
-from converter import read_floorplan
-from roadmap import Robot, build_roadmap
+from clearway.converter import read_floorplan
+from clearway.roadmap import Robot, build_roadmap
 
 #: A UTM-like position (easting ~ 500 km, northing ~ 5,400 km); common practice.
 SHIFT = (5e5, 5.4e6)

@@ -13,8 +13,8 @@ import shapely
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from converter import UNITS_TO_M, read_floorplan
-from roadmap import Robot, build_roadmap
+from clearway.converter import UNITS_TO_M, read_floorplan
+from clearway.roadmap import Robot, build_roadmap
 
 INSUNITS = {"mm": 4, "cm": 5, "m": 6, "in": 1, "ft": 2}
 ROBOT = Robot.disc(0.3, margin=0.1)

@@ -7,7 +7,7 @@ import pyogrio.raw
 import pytest
 import shapely
 
-from converter import Roles, UNITS_TO_M, read_floorplan
+from clearway.converter import Roles, UNITS_TO_M, read_floorplan
 
 # the 1959 yard and pound agreement and SI: drawing unit -> metres, by $INSUNITS
 FACTORS = {"distribution_centre.dxf": 0.001, "distribution_centre_rev_b.dxf": 0.001,

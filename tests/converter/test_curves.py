@@ -7,8 +7,8 @@ import pytest
 import shapely
 from hypothesis import given, settings, strategies as st
 
-from converter import read_floorplan
-from converter.curves import arc_segments, bulge_polyline
+from clearway.converter import read_floorplan
+from clearway.converter.curves import arc_segments, bulge_polyline
 from tests.conftest import new_drawing, save, walled_room
 
 

@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 import shapely
 
-from converter import read_floorplan
+from clearway.converter import read_floorplan
 
 #: analytic: a 10 m x 8 m room with 0.2 m walls has a 9.6 m x 7.6 m free floor
 FLOOR = 9.6 * 7.6

@@ -3,7 +3,7 @@
 import pytest
 import shapely
 
-from converter import read_floorplan
+from clearway.converter import read_floorplan
 from tests.conftest import new_drawing, save, walled_room
 
 WALL = "A-WALL"

@@ -11,7 +11,7 @@ import pytest
 from clearway.config import load_config
 from clearway.errors import ConfigError, DrawingError, LimitError
 from clearway.limits import DEPTH_CEILING, Limits
-from converter import list_layers, read_floorplan
+from clearway.converter import list_layers, read_floorplan
 
 
 def _room(msp, scale=1.0, layer="A-WALL"):

@@ -4,8 +4,8 @@ import numpy as np
 import pytest
 import shapely
 
-from converter import read_floorplan
-from converter.polygons import node_lines, union_polygons, wall_regions
+from clearway.converter import read_floorplan
+from clearway.converter.polygons import node_lines, union_polygons, wall_regions
 from tests.conftest import new_drawing, rectangle, save, wall_with_gap
 
 
@@ -124,7 +124,7 @@ def test_coverage_union_equals_general_union():
 
 
 def test_inscribed_radius_of_thin_u_and_wide_rooms():
-    from converter.polygons import inscribed_radius
+    from clearway.converter.polygons import inscribed_radius
     # a 0.4 m thick U-shaped wall 20 m across: its centroid lies outside it, 10 m from it,
     # so a first pass must not take that distance for the radius
     u_wall = shapely.box(0, 0, 20, 0.4) | shapely.box(0, 0, 0.4, 20) | shapely.box(19.6, 0, 20, 20)

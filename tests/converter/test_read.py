@@ -6,7 +6,7 @@ import pytest
 import shapely
 
 from clearway.errors import ConfigError, DrawingError
-from converter import Roles, list_layers, read_floorplan
+from clearway.converter import Roles, list_layers, read_floorplan
 from tests.conftest import new_drawing, rectangle, save, walled_room
 
 RACK = "A-EQPM-RACK"
@@ -257,7 +257,7 @@ def test_reading_restores_the_garbage_collector(tmp_path):
     ({"$TDUPDATE": "not a date"}, ""),
 ])
 def test_drawing_date_from_the_header(header, expected):
-    from converter.read import saved_date
+    from clearway.converter.read import saved_date
     assert saved_date(header) == expected
 
 

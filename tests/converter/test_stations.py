@@ -3,7 +3,7 @@
 import pytest
 
 from clearway.errors import DrawingError
-from converter import read_floorplan
+from clearway.converter import read_floorplan
 
 STATIONS = "A-EQPM-STATION"
 

@@ -4,8 +4,8 @@ from fractions import Fraction
 
 import pytest
 
-from converter import UNITS_TO_M, read_floorplan
-from converter.units import decide_units
+from clearway.converter import UNITS_TO_M, read_floorplan
+from clearway.converter.units import decide_units
 from tests.conftest import new_drawing, save, walled_room
 
 

@@ -14,8 +14,8 @@ import networkx as nx
 import shapely
 from shapely.geometry import MultiPolygon
 
-from converter.floorplan import FloorPlan, Leak, Station
-from roadmap.model import (Findings, NarrowPassage, PersonnelFlag, PinchPoint, Robot, Roadmap,
+from clearway.converter.floorplan import FloorPlan, Leak, Station
+from clearway.roadmap.model import (Findings, NarrowPassage, PersonnelFlag, PinchPoint, Robot, Roadmap,
                            StationResult)
 
 #: A label with every character class that must survive: markup, quotes, ampersand, a C0

@@ -7,8 +7,8 @@ import pytest
 import resvg_py
 from lxml import etree
 
-from exporters import render_compare_svg
-from roadmap import compare_graphs
+from clearway.exporters import render_compare_svg
+from clearway.roadmap import compare_graphs
 
 from tests.roadmap import test_compare as cases
 

@@ -8,8 +8,8 @@ import stat
 
 import pytest
 
-import exporters.files
-from exporters import write_outputs
+import clearway.exporters.files
+from clearway.exporters import write_outputs
 
 NEW = {"roadmap.graphml": b"<new graph/>", "roadmap.geojson": b"{}",
        "roadmap.svg": b"<svg/>", "report.json": b"{\"new\": 1}\n"}
@@ -40,7 +40,7 @@ def test_a_failure_while_writing_leaves_the_previous_set_and_no_temporaries(tmp_
             raise OSError(28, "No space left on device")
         return os.fsync(descriptor)
 
-    monkeypatch.setattr(exporters.files.os, "fsync", failing_fsync)
+    monkeypatch.setattr(clearway.exporters.files.os, "fsync", failing_fsync)
     with pytest.raises(OSError, match="No space left"):
         write_outputs(tmp_path, NEW)
     assert _snapshot(tmp_path) == before
@@ -52,10 +52,10 @@ def test_an_interrupt_while_writing_cleans_up(tmp_path, monkeypatch):
 
     def interrupted(*args):
         raise KeyboardInterrupt
-    monkeypatch.setattr(exporters.files.os, "replace", interrupted)
+    monkeypatch.setattr(clearway.exporters.files.os, "replace", interrupted)
     with pytest.raises(KeyboardInterrupt):
         write_outputs(tmp_path, NEW)
-    monkeypatch.setattr(exporters.files.os, "replace", real_replace)
+    monkeypatch.setattr(clearway.exporters.files.os, "replace", real_replace)
     assert _snapshot(tmp_path) == {"report.json": b"old"}
 
 
@@ -88,7 +88,7 @@ def test_an_interrupt_during_the_renames_lands_after_the_whole_set(tmp_path, mon
         if target.name == "roadmap.graphml":        # the first rename of the set
             signal.raise_signal(signal.SIGINT)      # Ctrl-C, as the user would press it
         return real_replace(source, target)
-    monkeypatch.setattr(exporters.files.os, "replace", replace_and_interrupt)
+    monkeypatch.setattr(clearway.exporters.files.os, "replace", replace_and_interrupt)
     with pytest.raises(KeyboardInterrupt):
         write_outputs(tmp_path, NEW)
     assert _snapshot(tmp_path) == dict(sorted(NEW.items()))    # whole new set, no temporaries
@@ -99,7 +99,7 @@ def test_a_later_build_removes_what_a_killed_build_left_behind(tmp_path):
     # held from the first temporary file to the last rename, so any such file found
     # while holding it belongs to no live build
     write_outputs(tmp_path, {"report.json": b"old"})
-    stale = tmp_path / f"{exporters.files.TEMP_PREFIX}report.json.x1y2{exporters.files.TEMP_SUFFIX}"
+    stale = tmp_path / f"{clearway.exporters.files.TEMP_PREFIX}report.json.x1y2{clearway.exporters.files.TEMP_SUFFIX}"
     stale.write_bytes(b"half a report")
     write_outputs(tmp_path, NEW)
     assert _snapshot(tmp_path) == dict(sorted(NEW.items()))

@@ -11,8 +11,8 @@ import pytest
 import shapely
 from shapely.geometry import shape
 
-from exporters import render_geojson
-from exporters.anchor import drawing_to_wgs84
+from clearway.exporters import render_geojson
+from clearway.exporters.anchor import drawing_to_wgs84
 from hall_fixture import HOSTILE
 
 

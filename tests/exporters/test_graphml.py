@@ -10,8 +10,8 @@ import pytest
 import shapely
 from lxml import etree
 
-from exporters import render_graphml
-from exporters.text import xml_text
+from clearway.exporters import render_graphml
+from clearway.exporters.text import xml_text
 from hall_fixture import HOSTILE, make_plan, make_roadmap
 
 NS = {"g": "http://graphml.graphdrawing.org/xmlns"}

@@ -15,7 +15,7 @@ from hypothesis import strategies as st
 import shapely
 
 from clearway.errors import GraphFileError, LimitError
-from exporters import read_graphml
+from clearway.exporters import read_graphml
 
 from tests.lane_fixtures import lane_graph, write_spec_graphml
 
@@ -222,7 +222,7 @@ def test_billion_laughs_is_refused_quickly(encoding):
 @pytest.mark.parametrize("shift", [(0.0, 0.0), (5e5, 5.4e6)])
 def test_reads_what_the_exporter_writes(shift):
     # the hall of hall_fixture.py (also at survey coordinates) through render_graphml
-    from exporters import render_graphml
+    from clearway.exporters import render_graphml
     from hall_fixture import make_plan, make_roadmap
     plan = make_plan(shift=shift)
     roadmap = make_roadmap(plan)

@@ -8,9 +8,9 @@ import re
 
 import pytest
 
-from exporters import render_report
+from clearway.exporters import render_report
 from hall_fixture import HOSTILE, make_plan, make_roadmap
-from roadmap.model import Robot
+from clearway.roadmap.model import Robot
 
 REQUIRED = {"counts", "lane_length", "components", "stations", "pinch_points", "narrow_passages",
             "leaks", "personnel_clearance", "warnings", "units", "robot", "source", "sha256",

@@ -10,8 +10,8 @@ import resvg_py
 from lxml import etree
 from PIL import Image
 
-from exporters import render_svg
-from exporters.svg_parts import LANE_COLOURS, lane_colour, nice_length
+from clearway.exporters import render_svg
+from clearway.exporters.svg_parts import LANE_COLOURS, lane_colour, nice_length
 from hall_fixture import HOSTILE, make_plan, make_roadmap
 
 SVG = "{http://www.w3.org/2000/svg}"

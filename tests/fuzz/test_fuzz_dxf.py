@@ -23,7 +23,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from clearway.errors import ClearwayError
-from converter import list_layers, read_floorplan
+from clearway.converter import list_layers, read_floorplan
 from tests.fuzz.mutations import (EXAMPLES, FUZZ, NAMES, TIMEOUT_S, mutate, recipes, time_limit,
                                   unit, where)
 

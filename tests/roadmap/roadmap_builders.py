@@ -7,7 +7,7 @@ import numpy as np
 import pytest
 import shapely
 
-from roadmap import Robot, build_roadmap
+from clearway.roadmap import Robot, build_roadmap
 
 
 def plan(hall, *obstacles):

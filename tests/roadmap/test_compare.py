@@ -8,7 +8,7 @@ import math
 import networkx as nx
 import pytest
 
-from roadmap import compare_graphs, summarize_changes
+from clearway.roadmap import compare_graphs, summarize_changes
 
 from tests.lane_fixtures import lane_graph
 

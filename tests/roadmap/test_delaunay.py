@@ -6,7 +6,7 @@ import numpy as np
 import shapely
 from scipy.spatial import Delaunay
 
-from roadmap.delaunay import circumcircles, neighbours_of, triangulate
+from clearway.roadmap.delaunay import circumcircles, neighbours_of, triangulate
 
 
 def test_strips_give_the_triangles_of_the_whole_triangulation():

@@ -8,8 +8,8 @@ import pytest
 import shapely
 from hypothesis import given, settings, strategies as st
 
-from roadmap import NODE_KINDS, Robot
-from roadmap.graph import chain_lanes
+from clearway.roadmap import NODE_KINDS, Robot
+from clearway.roadmap.graph import chain_lanes
 
 from roadmap_builders import (assert_exact_clearances, assert_lanes_clear, assert_topology,
                               build, plan, rack_grid)
@@ -144,7 +144,7 @@ def test_cycle_rank_equals_islands_on_rack_grids(rows, columns, aisle, depth, wa
 def test_spurs_pruned_on_large_axes_with_int32_edges():
     # regression: edge keys u * V + v overflowed int32 beyond V = 46,341 vertices, so no
     # spur of a large warehouse was ever dropped
-    from roadmap.graph import prune_spurs
+    from clearway.roadmap.graph import prune_spurs
     base = 50_000
     main = np.stack([np.arange(11.0), np.zeros(11)], axis=1)     # y = 0, clearance 1 m
     spur = np.stack([np.full(5, 5.0), np.linspace(0.25, 1.0, 5)], axis=1)

@@ -9,7 +9,7 @@ import pytest
 import shapely
 from scipy.spatial import cKDTree
 
-from roadmap import generalized_voronoi, medial_axis
+from clearway.roadmap import generalized_voronoi, medial_axis
 
 from roadmap_builders import assert_exact_clearances, assert_lanes_clear, assert_topology, build, \
     corridor, plan

@@ -14,8 +14,8 @@ import shapely
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from roadmap import assign_stable_ids
-from roadmap.ids import match_nodes
+from clearway.roadmap import assign_stable_ids
+from clearway.roadmap.ids import match_nodes
 
 from tests.lane_fixtures import lane_graph, grid_graph
 
@@ -178,8 +178,8 @@ def test_matching_is_the_optimum(old_points, new_points):
 
 
 def test_carry_ids_over_updates_the_findings_too():
-    from roadmap import carry_ids_over
-    from roadmap.model import Findings, PinchPoint, Robot, Roadmap, StationResult
+    from clearway.roadmap import carry_ids_over
+    from clearway.roadmap.model import Findings, PinchPoint, Robot, Roadmap, StationResult
     old = lane_graph({"n4": (0, 0, "station", "DOCK-1"), "n9": (6, 0, "end")},
                      [("e5", "n4", "n9", {"clearance_min": 0.4})])
     new = lane_graph({"a": (0.02, 0, "station", "DOCK-1"), "b": (6, 0.01, "end"),
@@ -200,8 +200,8 @@ SAMPLES = Path(__file__).resolve().parents[2] / "sample_drawings"
 
 
 def build_sample(name: str):
-    from converter import read_floorplan
-    from roadmap import Robot, build_roadmap
+    from clearway.converter import read_floorplan
+    from clearway.roadmap import Robot, build_roadmap
     plan = read_floorplan(SAMPLES / name)
     return build_roadmap(plan.obstacles, plan.free_space,
                          [(s.label, s.x, s.y) for s in plan.stations],

@@ -5,7 +5,7 @@ from __future__ import annotations
 import networkx as nx
 import pytest
 
-from roadmap import Robot, build_roadmap
+from clearway.roadmap import Robot, build_roadmap
 from roadmap_builders import corridor, plan
 
 ROBOT = Robot.disc(0.3, margin=0.1)  # c = 0.4 m

@@ -13,7 +13,7 @@ from hypothesis import strategies as st
 from scipy.sparse import csr_array
 from scipy.sparse.csgraph import dijkstra
 
-from roadmap import distance_matrix, resolve_node, shortest_route
+from clearway.roadmap import distance_matrix, resolve_node, shortest_route
 
 from tests.lane_fixtures import lane_graph, grid_graph
 

@@ -22,8 +22,8 @@ from scipy import ndimage
 from scipy.spatial import cKDTree
 from skimage.morphology import medial_axis
 
-from converter import read_floorplan
-from roadmap import Robot, build_roadmap
+from clearway.converter import read_floorplan
+from clearway.roadmap import Robot, build_roadmap
 
 SAMPLES = Path(__file__).resolve().parents[2] / "sample_drawings"
 # source: sample_drawings/README.md -- the samples are specified for this robot

@@ -117,7 +117,7 @@ def test_progress_stages_and_bad_options():
     with pytest.raises(ValueError, match="sample_step"):
         build(obstacles, free, sample_step=0)
     with pytest.raises(TypeError, match="robot"):
-        from roadmap import build_roadmap
+        from clearway.roadmap import build_roadmap
         build_roadmap(obstacles, free, [], robot=0.4)
 
 
@@ -141,9 +141,9 @@ def test_station_equidistant_from_two_lanes_joins_the_lower_point():
 
 
 def test_station_equidistant_from_a_node_and_a_lane_joins_the_node():
-    from roadmap.clearance import clearance_field
-    from roadmap.inflate import boundary_segments
-    from roadmap.stations import Attachment, link_stations
+    from clearway.roadmap.clearance import clearance_field
+    from clearway.roadmap.inflate import boundary_segments
+    from clearway.roadmap.stations import Attachment, link_stations
     # analytic: lane A starts at (6, 0); lane B is x = 4; the station (5, 0) is 1 m from
     # both the end node (6, 0) and the point (4, 0) of lane B. The existing node wins
     # although (4, 0) is the lower point; then the lower (x, y) among equals.
@@ -166,9 +166,9 @@ def test_station_equidistant_from_a_node_and_a_lane_joins_the_node():
 
 
 def test_link_that_would_land_next_to_a_node_joins_the_node():
-    from roadmap.clearance import clearance_field
-    from roadmap.inflate import boundary_segments
-    from roadmap.stations import link_stations
+    from clearway.roadmap.clearance import clearance_field
+    from clearway.roadmap.inflate import boundary_segments
+    from clearway.roadmap.stations import link_stations
     # analytic: the nearest point of lane B = (6, 0)-(10, 0) to the station (6.05, 2) is
     # (6.05, 0), 5 cm from B's end node (6, 0); the link to the node is sqrt(0.05^2 + 2^2)
     # = 2.0006 m long and clear, so it meets the node and leaves no 5 cm lane stub
