@@ -9,18 +9,27 @@ files (the set that lands last is whole), and temporary files that a killed buil
 (SIGKILL, power loss) are removed by the next build into that folder.
 On any failure (including KeyboardInterrupt) before the renames, the temporary files are
 removed and the previous outputs are left exactly as they were.
+
+POSIX only (Linux, macOS, the BSDs): the lock is ``flock``, and the renames rely on POSIX
+signal masks and on fsync of a folder. On Windows this module imports (so rendering works),
+but `write_outputs` raises OSError saying the system is not supported.
 """
 
 from __future__ import annotations
 
 import contextlib
-import fcntl
+import errno
 import os
 import signal
 import stat
 import tempfile
 import threading
 from pathlib import Path
+
+try:
+    import fcntl
+except ImportError:                    # Windows: no flock; see the module docstring
+    fcntl = None
 
 #: Prefix and suffix of the temporary files (hidden, easy to recognise and clean up).
 TEMP_PREFIX = ".clearway-"
@@ -47,6 +56,9 @@ def _final_mode(path: Path) -> int:
 
 @contextlib.contextmanager
 def _folder_lock(folder: Path):
+    if fcntl is None:
+        raise OSError(errno.ENOTSUP, "writing outputs needs a POSIX system (Linux, macOS); "
+                      "Windows is not supported")
     descriptor = os.open(folder, os.O_RDONLY)
     try:
         fcntl.flock(descriptor, fcntl.LOCK_EX)

@@ -103,3 +103,26 @@ def test_a_later_build_removes_what_a_killed_build_left_behind(tmp_path):
     stale.write_bytes(b"half a report")
     write_outputs(tmp_path, NEW)
     assert _snapshot(tmp_path) == dict(sorted(NEW.items()))
+
+
+def test_issue_16_without_fcntl_the_package_imports_and_writing_says_windows_is_unsupported(
+        tmp_path, room_drawing):
+    """Windows has no fcntl: the library still imports and renders; `build` refuses to write
+    with one line (exit 2) instead of an ImportError traceback at import time."""
+    import subprocess
+    import sys
+    _, _, write = room_drawing
+    drawing = write()
+    outdir = tmp_path / "out"
+    # `sys.modules["fcntl"] = None` makes `import fcntl` raise ImportError, as on Windows
+    script = ("import sys; sys.modules['fcntl'] = None\n"
+              "import clearway.exporters, clearway.exporters.files as files\n"
+              "assert files.fcntl is None\n"
+              "from clearway.cli import main\n"
+              "main(['build', sys.argv[1], '-o', sys.argv[2], '-q'])\n")
+    result = subprocess.run([sys.executable, "-c", script, str(drawing), str(outdir)],
+                            capture_output=True, text=True, timeout=120)
+    assert result.returncode == 2, result.stderr
+    lines = result.stderr.splitlines()
+    assert len(lines) == 1 and "Windows is not supported" in lines[0], result.stderr
+    assert not outdir.exists() or list(outdir.iterdir()) == []
