@@ -113,11 +113,12 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
     """
     if not isinstance(robot, Robot):
         raise TypeError(f"robot must be a Robot, got {type(robot).__name__}")
-    for name, value in (("sample_step", sample_step), ("personnel_clearance",
-                        personnel_clearance + 1), ("low_clearance_penalty",
-                        low_clearance_penalty + 1)):
-        if not (np.isfinite(value) and value > 0):
-            raise ValueError(f"{name} must be > 0, got {value}")
+    if not (np.isfinite(sample_step) and sample_step > 0):
+        raise ValueError(f"sample_step must be > 0 m, got {sample_step}")
+    for name, value in (("personnel_clearance", personnel_clearance),
+                        ("low_clearance_penalty", low_clearance_penalty)):
+        if not (np.isfinite(value) and value >= 0):
+            raise ValueError(f"{name} must be >= 0, got {value}")
     c = float(robot.clearance)
     # 1 um above c, so a gap of exactly 2c is a wall for lanes and drivable region alike
     threshold = c + 1e-6

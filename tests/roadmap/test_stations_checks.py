@@ -116,6 +116,12 @@ def test_progress_stages_and_bad_options():
     assert stages == ["inflating", "voronoi", "graph", "stations", "checks"]
     with pytest.raises(ValueError, match="sample_step"):
         build(obstacles, free, sample_step=0)
+    # issue 16: the value is quoted as given (it was reported plus one) and 0 is allowed
+    with pytest.raises(ValueError, match=r"^personnel_clearance must be >= 0, got -2$"):
+        build(obstacles, free, personnel_clearance=-2)
+    with pytest.raises(ValueError, match=r"^low_clearance_penalty must be >= 0, got -0.5$"):
+        build(obstacles, free, low_clearance_penalty=-0.5)
+    assert build(obstacles, free, personnel_clearance=0).findings.personnel_clearance == 0
     with pytest.raises(TypeError, match="robot"):
         from clearway.roadmap import build_roadmap
         build_roadmap(obstacles, free, [], robot=0.4)
