@@ -54,9 +54,6 @@ def summarize(plan, roadmap) -> dict:
         "node": None if s.node is None else json_text(s.node),
         "component": None if s.component is None else int(s.component), "reachable": bool(s.reachable), "reason": json_text(s.reason),
     } for s in findings.stations]
-    personnel_required = graph.graph.get("personnel_clearance")
-    if personnel_required is None and findings.personnel:
-        personnel_required = findings.personnel[0].required
     return {
         "format": REPORT_FORMAT,
         "tool_version": TOOL_VERSION,
@@ -85,7 +82,7 @@ def summarize(plan, roadmap) -> dict:
         "leaks": [{"x": float(leak.x), "y": float(leak.y), "width": float(leak.width)}
                   for leak in plan.leaks],
         "personnel_clearance": {
-            "required": finite_or_none(personnel_required),
+            "required": finite_or_none(findings.personnel_clearance),
             "flags": [{"edge": json_text(f.edge), "x": float(f.x), "y": float(f.y),
                        "clearance": float(f.clearance),
                        "side_clearance": float(f.side_clearance),

@@ -219,7 +219,7 @@ def run_checks(graph: nx.MultiGraph, samples, joins, labels, station_nodes, stat
         personnel=tuple(personnel_flags(samples, shared_zones, offset,
                                         half_width=robot.half_width,
                                         required=personnel_clearance)),
-        warnings=tuple(warnings))
+        warnings=tuple(warnings), personnel_clearance=float(personnel_clearance))
 
 
 def _bottleneck(passages, region, targets):

@@ -106,6 +106,7 @@ class Findings:
     narrow_passages: tuple[NarrowPassage, ...] = ()
     personnel: tuple[PersonnelFlag, ...] = ()
     warnings: tuple[str, ...] = ()
+    personnel_clearance: float | None = None   # the side clearance required, metres
 
 
 @dataclass(frozen=True)

@@ -85,6 +85,7 @@ def make_roadmap(plan: FloorPlan, robot: Robot | None = None) -> Roadmap:
         narrow_passages=(NarrowPassage(19.0 + dx, 2.0 + dy, 0.62, (hostile,)),),
         personnel=(PersonnelFlag("e1", 10.0 + dx, 8.0 + dy, 0.5, 0.15, 0.5),),
         warnings=("lane e2 runs close to <racking> & walls",),
+        personnel_clearance=0.5,
     )
     return Roadmap(graph=graph, robot=robot, inflated=inflated, drivable=drivable,
                    findings=findings)

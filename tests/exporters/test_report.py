@@ -73,3 +73,15 @@ def test_report_is_deterministic_and_undated(plan, roadmap):
                                                                  make_roadmap(make_plan()))
     assert not re.search(rb"\d{4}-\d{2}-\d{2}|\d{2}:\d{2}:\d{2}", data)
     assert data.endswith(b"\n")
+
+
+def test_issue_16_required_personnel_clearance_is_reported_when_no_lane_is_flagged():
+    import shapely
+    from clearway.roadmap import build_roadmap
+    hall = shapely.box(0, 0, 10, 2)                  # a 2 m corridor, no zone shared with people
+    outline = hall.buffer(0.2, join_style="mitre").difference(hall)
+    roadmap = build_roadmap({"boundary": outline}, hall, [], robot=Robot.disc(0.35, margin=0.1),
+                            personnel_clearance=0.8)
+    section = _report(make_plan(), roadmap)["personnel_clearance"]
+    # the configured value, as passed in (it used to be null whenever no lane was flagged)
+    assert section == {"required": 0.8, "flags": []}
