@@ -47,7 +47,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
 from benchmarks.synthetic import write_warehouse  # noqa: E402
 from clearway.converter import read_floorplan  # noqa: E402
-from clearway.converter.read import quiet_library  # noqa: E402
+from clearway.converter.document import quiet_library  # noqa: E402
 from clearway.roadmap import Robot, build_roadmap  # noqa: E402
 
 ROBOT = Robot.disc(0.4, margin=0.1)

@@ -243,7 +243,7 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
                                  for x, y, width in leaks),
                      warnings=tuple(warnings),
                      extents=tuple(float(value) for value in everything),
-                     drawing_date=content.drawing_date)
+                     drawing_date=content.drawing_date, repairs=tuple(content.repairs))
 
 
 def _check_mapped(content, roles, by_role, source):
@@ -287,7 +287,7 @@ def find_stations(content, layers, factor, label_radius, source):
     layers = set(layers)
     points = [(x * factor, y * factor, label) for layer, x, y, label, dxftype in content.points
               if layer in layers and dxftype in ("POINT", "CIRCLE", "INSERT")]
-    texts = [(x * factor, y * factor, text) for layer, x, y, text in content.texts
+    texts = [(x * factor, y * factor, text) for layer, x, y, text, _ in content.texts
              if layer in layers and text]
     labels = [label for _, _, label in points]
     if texts and any(label is None for label in labels):

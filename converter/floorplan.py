@@ -35,6 +35,62 @@ class Leak:
     width: float
 
 
+#: Kinds of opening: a door (passable; its leaf and swing are never obstacles), a window and
+#: a closed opening (an overhead or locked door: a line straight across), both closed like
+#: wall, and an open gap with nothing drawn in it (passable).
+OPENING_KINDS = ("door", "window", "closed", "open")
+
+
+@dataclass(frozen=True)
+class Opening:
+    """A gap in the walls between two wall ends (jambs) that face each other, metres.
+
+    Attributes
+    ----------
+    x, y : float
+        The middle of the gap.
+    width : float
+        Clear width, jamb to jamb.
+    kind : str
+        One of OPENING_KINDS.
+    exterior : bool
+        The opening is in the building's envelope (it leads outside).
+    start, end : (float, float)
+        The line across the gap from one jamb to the other, along the wall; cutting the
+        floor along it separates the spaces the opening joins.
+    depth : float
+        Thickness of the wall at the opening (the jambs' length).
+    """
+
+    x: float
+    y: float
+    width: float
+    kind: str
+    exterior: bool
+    start: tuple[float, float]
+    end: tuple[float, float]
+    depth: float = 0.0
+
+    @property
+    def passable(self) -> bool:
+        """Doors and open gaps can be passed (by a robot that fits); windows cannot."""
+        return self.kind in ("door", "open")
+
+
+@dataclass(frozen=True)
+class PlanText:
+    """A text of the drawing (TEXT, MTEXT or a block attribute) at its insertion point, metres.
+
+    height : the text height, metres (0 when the drawing does not say).
+    """
+
+    text: str
+    x: float
+    y: float
+    height: float
+    layer: str
+
+
 @dataclass(frozen=True)
 class FloorPlan:
     """A floor plan in metres, drawing frame. Immutable; no ezdxf object inside.
@@ -69,6 +125,16 @@ class FloorPlan:
     drawing_date : str
         When the drawing was last saved, ISO 8601 (YYYY-MM-DD), from its header
         ($TDUPDATE, else $TDCREATE); "" when the header does not say.
+    openings : tuple of Opening
+        Every opening found in the walls, interior and exterior, sorted by position.
+    texts : tuple of PlanText
+        Texts of the floor plan that was built (every layer), for naming rooms.
+    repairs : tuple of str
+        ezdxf's notices for the repairs its recovery made (summarised in `warnings`).
+    unit_source : str
+        Where the unit came from: "option", "header", "content" or "assumed".
+    unit_evidence : tuple of str
+        What the drawing's content says about its unit, one finding per line.
     """
 
     source: str
@@ -83,6 +149,11 @@ class FloorPlan:
     warnings: tuple[str, ...] = ()
     extents: tuple[float, float, float, float] = (0.0, 0.0, 0.0, 0.0)
     drawing_date: str = ""
+    openings: tuple[Opening, ...] = ()
+    texts: tuple[PlanText, ...] = ()
+    repairs: tuple[str, ...] = ()
+    unit_source: str = "header"
+    unit_evidence: tuple[str, ...] = ()
 
     def __post_init__(self):
         object.__setattr__(self, "regions", MappingProxyType(dict(self.regions)))

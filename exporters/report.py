@@ -88,6 +88,7 @@ def summarize(plan, roadmap) -> dict:
                        "side_clearance": float(f.side_clearance),
                        "required": float(f.required)} for f in findings.personnel]},
         "warnings": [json_text(w) for w in (*plan.warnings, *findings.warnings)],
+        "repairs": [json_text(notice) for notice in plan.repairs],
         "caution": SAFETY_CAUTION,
     }
 

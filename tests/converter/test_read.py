@@ -257,7 +257,7 @@ def test_reading_restores_the_garbage_collector(tmp_path):
     ({"$TDUPDATE": "not a date"}, ""),
 ])
 def test_drawing_date_from_the_header(header, expected):
-    from clearway.converter.read import saved_date
+    from clearway.converter.document import saved_date
     assert saved_date(header) == expected
 
 

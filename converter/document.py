@@ -1,0 +1,147 @@
+"""Open a DXF file safely: byte checks, ezdxf's recovery reader, the header's save date.
+
+Damaged files go through ezdxf's recovery path and its repairs are returned as notices;
+truncated or non-DXF bytes are refused here, because recovery accepts them silently.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import datetime
+import hashlib
+import io
+import logging
+import re
+from pathlib import Path
+
+from ezdxf import recover
+from ezdxf.document import Drawing
+from ezdxf.lldxf.const import DXFError
+from ezdxf.lldxf.tagger import binary_tags_loader
+
+from clearway.errors import DrawingError
+from clearway.limits import Limits
+
+BINARY_SENTINEL = b"AutoCAD Binary DXF\r\n\x1a\x00"
+_MARKER = re.compile(rb"^[ \t]*0[ \t]*\r?\n[ \t]*(SECTION|ENDSEC|EOF)[ \t]*\r?$", re.MULTILINE)
+_SECTION_NAME = re.compile(rb"SECTION[ \t]*\r?\n[ \t]*2[ \t]*\r?\n[ \t]*(\w+)")
+#: What ezdxf raises on a damaged file or entity (found by fuzzing the sample drawings):
+#: its own DXFError family, and plain Python errors from fields that recovery left missing,
+#: of the wrong type or out of range.
+#: Repair notices kept in full (the report lists them; the summary counts them).
+MAX_NOTICES = 200
+
+DAMAGE = (DXFError, AttributeError, AssertionError, ValueError, TypeError, KeyError,
+          IndexError, ZeroDivisionError, OverflowError, UnicodeError, EOFError)
+
+
+#: Julian day number of 2000-01-01.
+_JDN_2000 = 2451545
+
+
+def saved_date(header) -> str:
+    """Return when the drawing was last saved ($TDUPDATE, else $TDCREATE), ISO 8601, or "".
+
+    DXF stores both as the Julian day number of the local date plus the fraction of the day
+    since midnight. Values outside the years 1900 to 2999 are taken as missing.
+    """
+    for name in ("$TDUPDATE", "$TDCREATE"):
+        with contextlib.suppress(*DAMAGE):
+            days = float(header.get(name, 0.0))
+            if 2415021 <= days < 2816788:
+                day = datetime.date(2000, 1, 1) + datetime.timedelta(days=int(days) - _JDN_2000)
+                return day.isoformat()
+    return ""
+
+
+@contextlib.contextmanager
+def quiet_library():
+    """Keep ezdxf's log records and prints off the user's terminal for the duration."""
+    names = ["ezdxf"] + [name for name in logging.root.manager.loggerDict if name.startswith("ezdxf.")]
+    loggers = [logging.getLogger(name) for name in names]
+    previous = [logger.disabled for logger in loggers]
+    for logger in loggers:
+        logger.disabled = True
+    try:
+        with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):
+            yield
+    finally:
+        for logger, state in zip(loggers, previous):
+            logger.disabled = state
+
+
+def check_dxf_bytes(data, source):
+    """Raise DrawingError unless `data` looks like a complete DXF file."""
+    if not data.strip():
+        raise DrawingError(f"{source}: file is empty")
+    if data[:4] in (b"AC10", b"AC1.", b"AC2."):
+        raise DrawingError(f"{source}: this is a DWG file, not DXF; save it as DXF from the CAD program")
+    if data.startswith(BINARY_SENTINEL):
+        if b"EOF" not in data[-8:]:
+            raise DrawingError(f"{source}: binary DXF is truncated (no end-of-file marker)")
+        return
+    head = data[:4096].lstrip(b"\xef\xbb\xbf").decode("latin-1").splitlines()
+    pairs = [(head[i].strip(), head[i + 1].strip()) for i in range(0, len(head) - 1, 2)]
+    pairs = [pair for pair in pairs if pair[0] != "999"]
+    if not pairs or pairs[0] != ("0", "SECTION"):
+        raise DrawingError(f"{source}: not a DXF file (it does not start with a SECTION)")
+    markers = _MARKER.findall(data)
+    names = _SECTION_NAME.findall(data)
+    depth = 0
+    for marker in markers:
+        if marker == b"SECTION":
+            if depth:
+                break
+            depth = 1
+        elif marker == b"ENDSEC":
+            depth = 0
+        elif marker == b"EOF":
+            break
+    if depth or markers.count(b"SECTION") > markers.count(b"ENDSEC"):
+        name = names[markers.count(b"ENDSEC")].decode() if len(names) > markers.count(b"ENDSEC") else "?"
+        raise DrawingError(f"{source}: file is truncated: section {name} is not terminated")
+    if not markers or markers[-1] != b"EOF":
+        raise DrawingError(f"{source}: file is truncated: no end-of-file marker")
+
+
+def open_document(path, limits=None):
+    """Read `path` through ezdxf's recovery; return (document, sha256, repair notices).
+
+    The notices are ezdxf's own words for each repair, at most MAX_NOTICES of them.
+    """
+    limits = limits or Limits()
+    path = Path(path)
+    source = path.name
+    try:
+        if path.is_file():
+            limits.check("max_file_size", path.stat().st_size / 1e6, subject=source,
+                         what="file size in MB")
+        data = path.read_bytes()
+    except FileNotFoundError:
+        raise DrawingError(f"{path}: file not found") from None
+    except IsADirectoryError:
+        raise DrawingError(f"{path}: is a folder, not a DXF file") from None
+    except OSError as err:
+        raise DrawingError(f"{path}: cannot read file ({err.strerror})") from None
+    check_dxf_bytes(data, source)
+    try:
+        with quiet_library():
+            if data.startswith(BINARY_SENTINEL):  # recovery reads ASCII only
+                doc = Drawing.load(binary_tags_loader(data))
+                auditor = doc.audit()
+            else:
+                doc, auditor = recover.read(io.BytesIO(data))
+    except RecursionError:
+        raise DrawingError(f"{source}: not a readable DXF file (structures nest too "
+                           f"deeply to recover)") from None
+    except DAMAGE as err:
+        message = str(err).splitlines()[0].strip() if str(err).strip() else type(err).__name__
+        raise DrawingError(f"{source}: not a readable DXF file ({message[:200]})") from None
+    notices = [f"repaired: {fix.message}" for fix in auditor.fixes]
+    notices += [f"damaged: {error.message}" for error in auditor.errors
+                if "block reference cycle" not in error.message.lower()]
+    if len(notices) > MAX_NOTICES:
+        notices = notices[:MAX_NOTICES] + [f"{len(notices) - MAX_NOTICES} more not listed"]
+    return doc, hashlib.sha256(data).hexdigest(), notices
+
+

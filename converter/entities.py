@@ -1,0 +1,252 @@
+"""Flatten one DXF entity into plan linework: a dispatch table from entity type to reader.
+
+Each reader returns ``[(xy, kind), ...]`` in the entity's own frame (block units inside a
+block), with kinds from `parts` (open, closed, arc, filled shell and hole); an entity type
+with no reader is not plan geometry. Curves keep a chord tolerance given in drawing units.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import itertools
+import math
+
+import numpy as np
+import shapely
+from ezdxf.entities.boundary_paths import BoundaryPathType, EdgeType
+from ezdxf.path import from_hatch_boundary_path
+
+from clearway.errors import ClearwayError, DrawingError, LimitError
+from clearway.converter.document import DAMAGE
+from clearway.converter.curves import bulge_polyline, widened_polyline
+from clearway.converter.parts import ARC, CLOSED, HOLE, OPEN, SHELL
+
+LINEWORK = ("LINE", "LWPOLYLINE", "POLYLINE", "ARC", "CIRCLE", "ELLIPSE", "SPLINE")
+TEXTS = ("TEXT", "MTEXT")
+
+
+class TooMany(Exception):
+    """A flattened curve has more vertices than allowed (the reader reports the limit)."""
+
+
+class NotFinite(Exception):
+    """An entity has coordinates that are not finite (the reader refuses the drawing)."""
+
+
+@contextlib.contextmanager
+def lenient(source, limits, dxftype, layer, damaged, key):
+    """Be lenient per entity, strict per drawing, around reading one entity.
+
+    A damaged entity (ezdxf raised one of DAMAGE) is skipped and counted in
+    ``damaged[key]``; a curve over ``limits.max_curve_vertices`` raises LimitError and
+    coordinates that are not finite raise DrawingError, both naming the layer.
+    """
+    try:
+        yield
+    except ClearwayError:
+        raise
+    except TooMany as err:
+        count = err.args[0]
+        raise LimitError(
+            f"{source}: a {dxftype} on layer {layer!r} flattens to more than {count} vertices, "
+            f"over the limit max_curve_vertices = {limits.max_curve_vertices}; the chord "
+            f"tolerance may be too fine for its size or units; if the drawing really needs "
+            f"it, raise the limit in the --config file: [limits] max_curve_vertices = "
+            f"{10 * count}") from None
+    except NotFinite:
+        raise DrawingError(f"{source}: layer {layer!r} has coordinates that are not finite") from None
+    except DAMAGE:
+        damaged[key] += 1
+
+
+def text_item(entity, layer):
+    """Return (layer, x, y, text, height) for a TEXT, MTEXT or ATTRIB (drawing units)."""
+    if entity.dxftype() in ("TEXT", "ATTRIB"):
+        position = entity.ocs().to_wcs(entity.dxf.insert)
+        height = entity.dxf.get("height", 0.0)
+    else:
+        position = entity.dxf.insert
+        height = entity.dxf.get("char_height", 0.0)
+    return (layer, float(position.x), float(position.y), entity.plain_text().strip(),
+            abs(float(height or 0.0)))
+
+
+def _xy(vertices, limit=None):
+    """(N, 2) array of the x, y of `vertices`; raise TooMany past `limit` of them."""
+    if limit is not None:
+        vertices = list(itertools.islice(vertices, limit + 1))
+        if len(vertices) > limit:
+            raise TooMany(limit)
+    return np.array([(vertex.x, vertex.y) for vertex in vertices], dtype=float).reshape(-1, 2)
+
+
+def _line(entity, tolerance, limit):
+    start, end = entity.dxf.start, entity.dxf.end
+    return [(np.array([[start.x, start.y], [end.x, end.y]]), OPEN)]
+
+
+def _lwpolyline(entity, tolerance, limit):
+    points = np.array(entity.get_points("xyseb"), dtype=float).reshape(-1, 5)
+    return polyline_parts(points, entity.closed, entity.dxf.const_width, entity.ocs(),
+                          entity.dxf.elevation, tolerance, limit)
+
+
+def _polyline(entity, tolerance, limit):
+    if entity.is_2d_polyline:
+        points = np.array([(v.dxf.location.x, v.dxf.location.y,
+                            v.dxf.get("start_width", entity.dxf.default_start_width),
+                            v.dxf.get("end_width", entity.dxf.default_end_width),
+                            v.dxf.bulge) for v in entity.vertices], dtype=float).reshape(-1, 5)
+        return polyline_parts(points, entity.is_closed, 0.0, entity.ocs(),
+                              entity.dxf.elevation.z, tolerance, limit)
+    if entity.is_3d_polyline:
+        return [(_xy(entity.points(), limit), CLOSED if entity.is_closed else OPEN)]
+    return None  # polyface and mesh: not plan linework
+
+
+def _arc_or_circle(entity, tolerance, limit):
+    xy = _xy(entity.flattening(tolerance), limit)
+    return [(xy, ARC if entity.dxftype() == "ARC" else CLOSED)]
+
+
+def _curve(entity, tolerance, limit):
+    if entity.dxftype() == "SPLINE" and limit is not None and max(
+            entity.control_point_count(), entity.fit_point_count()) > limit:
+        raise TooMany(limit)  # refused before the costly evaluation
+    xy = _xy(entity.flattening(tolerance), limit)
+    closed = len(xy) > 2 and np.allclose(xy[0], xy[-1], atol=tolerance)
+    return [(xy, CLOSED if closed else OPEN)]
+
+
+def _hatch(entity, tolerance, limit):
+    rings = hatch_rings(entity, tolerance, limit)
+    if not all(np.isfinite(ring).all() for ring in rings):
+        raise NotFinite()
+    rings = [shapely.make_valid(shapely.Polygon(ring)) for ring in rings if len(ring) >= 3]
+    area = shapely.Polygon()
+    for ring in rings:  # boundary paths nest as islands: even-odd
+        area = shapely.symmetric_difference(area, ring)
+    return polygon_rings(area)
+
+
+def _solid(entity, tolerance, limit):
+    xy = _xy(entity.wcs_vertices())
+    return [(xy, SHELL)] if len(np.unique(xy, axis=0)) >= 3 else []
+
+
+#: Entity type -> reader(entity, tolerance, max_vertices) -> [(xy, kind), ...] or None.
+READERS = {
+    "LINE": _line, "LWPOLYLINE": _lwpolyline, "POLYLINE": _polyline,
+    "ARC": _arc_or_circle, "CIRCLE": _arc_or_circle, "ELLIPSE": _curve, "SPLINE": _curve,
+    "HATCH": _hatch, "SOLID": _solid, "TRACE": _solid, "3DFACE": _solid,
+}
+
+
+def flatten_entity(entity, tolerance, max_vertices=None):
+    """Return [(xy, kind), ...] for one entity in its own frame, or None if unsupported.
+
+    Raises TooMany when a flattened curve would have more than `max_vertices` vertices.
+    """
+    reader = READERS.get(entity.dxftype())
+    return None if reader is None else reader(entity, tolerance, max_vertices)
+
+
+def hatch_rings(hatch, tolerance, limit=None):
+    """Flatten each boundary path of a HATCH into an (N, 2) ring, world coordinates.
+
+    Polyline paths, and edge paths of lines and arcs, go through the same bulge flattening
+    as polylines, so their arcs keep the chord tolerance. ezdxf's own paths approximate arcs
+    by one cubic Bezier curve per quarter circle (off by about 2.7e-4 of the radius: 2.7 mm
+    on a 10 m arc); they serve only paths with ellipse or spline edges.
+    """
+    ocs, elevation = hatch.ocs(), hatch.dxf.elevation.z
+    rings = []
+    for boundary in hatch.paths:
+        vertices = _boundary_bulges(boundary)
+        if vertices is None:
+            path = from_hatch_boundary_path(boundary, ocs, elevation)
+            paths = path.sub_paths() if path.has_sub_paths else [path]
+            rings += [_xy(part.flattening(tolerance), limit) for part in paths]
+            continue
+        if len(vertices) < 2:
+            continue
+        xy = bulge_polyline(vertices[:, :2], vertices[:, 2], closed=True, tolerance=tolerance,
+                            max_vertices=limit)
+        if xy is None:
+            raise TooMany(limit)
+        if not ocs.uz.isclose((0, 0, 1)):
+            xy = _xy(ocs.points_to_wcs([(x, y, elevation) for x, y in xy]))
+        rings.append(xy)
+    return rings
+
+
+def _boundary_bulges(boundary):
+    """A hatch boundary path as (N, 3) x, y, bulge in its OCS; None if it has curved edges
+    other than circular arcs."""
+    if boundary.type == BoundaryPathType.POLYLINE:
+        return np.array([(x, y, bulge) for x, y, bulge in boundary.vertices],
+                        dtype=float).reshape(-1, 3)
+    vertices = []
+    for edge in boundary.edges:
+        if edge.type == EdgeType.LINE:
+            vertices.append((edge.start[0], edge.start[1], 0.0))
+        elif edge.type == EdgeType.ARC:
+            vertices += _arc_as_bulges(edge)
+        else:
+            return None
+    return np.array(vertices, dtype=float).reshape(-1, 3)
+
+
+def _arc_as_bulges(edge):
+    """Vertices with bulges tracing a hatch arc edge in its drawn direction (a full circle
+    as two halves). ezdxf keeps the angles counter-clockwise and flags the direction."""
+    sweep = (edge.end_angle - edge.start_angle) % 360.0 or 360.0
+    pieces = 2 if sweep > 180.0 else 1
+    sign = 1.0 if edge.ccw else -1.0
+    start = edge.start_angle if edge.ccw else edge.end_angle
+    bulge = sign * math.tan(math.radians(sweep / pieces) / 4.0)
+    vertices = []
+    for piece in range(pieces):
+        angle = math.radians(start + sign * piece * sweep / pieces)
+        vertices.append((edge.center[0] + edge.radius * math.cos(angle),
+                         edge.center[1] + edge.radius * math.sin(angle), bulge))
+    return vertices
+
+
+def polyline_parts(points, closed, const_width, ocs, elevation, tolerance, limit=None):
+    """Flatten a 2-D polyline given as (N, 5) x, y, start width, end width, bulge (OCS)."""
+    if not len(points):
+        return []
+    if not np.isfinite(points).all():
+        raise NotFinite()
+    if limit is not None and len(points) > limit:
+        raise TooMany(limit)
+    xy = bulge_polyline(points[:, :2], points[:, 4], closed=closed, tolerance=tolerance,
+                        max_vertices=limit)
+    if xy is None:
+        raise TooMany(limit)
+    wide = const_width > 0 or np.any(points[:, 2:4] > 0)
+    if wide:
+        widths = np.where(points[:, 2:4] > 0, points[:, 2:4], const_width)
+        band = widened_polyline(points[:, :2], points[:, 4], widths[:, 0], widths[:, 1],
+                                closed=closed, tolerance=tolerance)
+        found = polygon_rings(band)
+    else:
+        found = [(xy, CLOSED if closed else OPEN)]
+    if ocs.uz.isclose((0, 0, 1)):
+        return found
+    return [(_xy(ocs.points_to_wcs([(x, y, elevation) for x, y in ring])), kind)
+            for ring, kind in found]
+
+
+def polygon_rings(area):
+    """Return [(xy, SHELL), (xy, HOLE), ...] for a shapely (Multi)Polygon."""
+    found = []
+    for polygon in shapely.get_parts(area):
+        if polygon.geom_type != "Polygon" or polygon.is_empty:
+            continue
+        found.append((np.asarray(polygon.exterior.coords)[:-1, :2], SHELL))
+        found.extend((np.asarray(ring.coords)[:-1, :2], HOLE) for ring in polygon.interiors)
+    return found
+
+

@@ -1,0 +1,198 @@
+"""INSERTs and blocks: placement matrices, attributes, and each block flattened once.
+
+Each block definition is flattened once per layer (block units) and then placed for all its
+INSERTs and MINSERT cells with numpy (`Parts.placed`), which handles nesting, non-uniform
+scale, rotation, mirroring and extrusion through each INSERT's own transformation matrix.
+"""
+
+from __future__ import annotations
+
+import math
+from collections import Counter, defaultdict
+
+import numpy as np
+from ezdxf.math import X_AXIS, Y_AXIS
+
+from clearway.errors import DrawingError
+from clearway.limits import Limits
+from clearway.converter.document import DAMAGE
+from clearway.converter.entities import TEXTS, flatten_entity, lenient
+from clearway.converter.parts import Parts
+
+_LABEL_TAGS = ("LABEL", "NAME", "ID", "STATION", "TAG")
+#: Block contents of INSERTs whose block name marks an opening go to these pseudo-layers
+#: (no DXF layer name can hold a NUL), one per kind of opening block.
+BLOCK_OPENING_PREFIX = "\x00"
+
+
+def scale_of(matrices):
+    """Largest linear scale of (M, 3, 2) affine matrices (for the chord tolerance)."""
+    scale = float(np.max(np.linalg.norm(matrices[:, :2, :], ord=2, axis=(1, 2))))
+    return scale if math.isfinite(scale) and scale > 1e-9 else 1e-9 if scale <= 1e-9 else 1e300
+
+
+def insert_matrices(insert, *, limits=None, source=""):
+    """Return the (M, 3, 2) row-vector affine matrices of an INSERT (M cells of a MINSERT).
+
+    Raises LimitError when a MINSERT has more cells than ``limits.max_entities``.
+    """
+    limits = limits or Limits()
+    base = _plan_matrix(insert)
+    if base is None:
+        rows = np.array(list(insert.matrix44().rows()), dtype=float)
+        base = rows[[0, 1, 3], :2]
+    row_count = max(int(insert.dxf.get("row_count", 1)), 1)
+    column_count = max(int(insert.dxf.get("column_count", 1)), 1)
+    if row_count * column_count == 1:
+        return base[None]
+    limits.check("max_entities", row_count * column_count, subject=source,
+                 what=f"the number of cells of a MINSERT of block {str(insert.dxf.name)!r} "
+                      f"({row_count} x {column_count})")
+    columns, grid_rows = np.meshgrid(np.arange(column_count), np.arange(row_count))
+    offsets = np.column_stack([columns.ravel() * insert.dxf.column_spacing,
+                               grid_rows.ravel() * insert.dxf.row_spacing])
+    offsets = np.unique(offsets, axis=0)  # zero spacing repeats a cell; keep it once
+    angle = math.radians(insert.dxf.rotation)
+    rotation = np.array([[math.cos(angle), math.sin(angle)], [-math.sin(angle), math.cos(angle)]])
+    ocs = insert.ocs()
+    axes = np.array([list(ocs.to_wcs(X_AXIS))[:2], list(ocs.to_wcs(Y_AXIS))[:2]])
+    matrices = np.repeat(base[None], len(offsets), axis=0)
+    matrices[:, 2, :] += offsets @ rotation @ axes
+    return matrices
+
+
+def _plan_matrix(insert):
+    """The (3, 2) matrix of an INSERT in the plan's plane (extrusion +Z), as ezdxf's
+    ``Insert.matrix44`` gives it (scale, then rotation, block base point moved onto the
+    insertion point) without its 4 x 4 algebra; None for any other extrusion."""
+    dxf = insert.dxf
+    extrusion = dxf.get("extrusion", None)
+    if extrusion is not None and (extrusion[0] != 0 or extrusion[1] != 0 or extrusion[2] <= 0):
+        return None
+    angle = math.radians(dxf.rotation)
+    cos, sin = math.cos(angle), math.sin(angle)
+    xscale, yscale = float(dxf.xscale), float(dxf.yscale)
+    x_axis, y_axis = (xscale * cos, xscale * sin), (-yscale * sin, yscale * cos)
+    x, y = float(dxf.insert[0]), float(dxf.insert[1])
+    block = insert.block()
+    if block is not None:
+        # plain floats, same operations in the same order as on numpy 2-vectors (whose
+        # per-call overhead outweighed the arithmetic), so the matrices are bit-identical
+        base_point = block.block.dxf.base_point
+        base_x, base_y = float(base_point[0]), float(base_point[1])
+        x -= base_x * x_axis[0] + base_y * y_axis[0]
+        y -= base_x * x_axis[1] + base_y * y_axis[1]
+    return np.array([x_axis, y_axis, (x, y)], dtype=float)
+
+
+def attribute_label(insert):
+    """Return an INSERT's label attribute (LABEL, NAME, ID, ... or the first non-empty one)."""
+    values = {tag: text for tag, text, _ in attributes(insert)}
+    for tag in _LABEL_TAGS:
+        if values.get(tag):
+            return values[tag]
+    return next((value for value in values.values() if value), None)
+
+
+def attributes(insert):
+    """Return an INSERT's live ATTRIBs as a list of (tag, text, entity)."""
+    return [(str(attrib.dxf.tag).upper(), str(attrib.dxf.text).strip(), attrib)
+            for attrib in insert.attribs if attrib.is_alive]
+
+
+class BlockReader:
+    """Flatten each block definition once per tolerance, nested blocks included.
+
+    `block_kind(name)` names the kind of opening a block draws ("door", "window") or None;
+    the contents of such a block, on any layer, are kept under the pseudo-layer
+    ``BLOCK_OPENING_PREFIX + kind`` instead of their own layers (a door leaf drawn on the
+    wall layer inside a door block is still a door leaf).
+    """
+
+    def __init__(self, doc, source, limits, budget, block_kind=None):
+        self.doc, self.source, self.limits, self.budget = doc, source, limits, budget
+        self.block_kind = block_kind or (lambda name: None)
+        self.cache, self.active, self.warnings = {}, [], []
+        self.damaged = Counter()
+
+    def block_parts(self, name, tolerance):
+        """Return {layer: Parts} of block `name` in block units (layer 0 left as '0')."""
+        tolerance = 2.0 ** math.floor(math.log2(min(max(tolerance, 1e-300), 1e300)))  # buckets
+        if (name, tolerance) in self.cache:
+            return self.cache[(name, tolerance)]
+        if name in self.active:
+            chain = " -> ".join(self.active[self.active.index(name):] + [name])
+            raise DrawingError(f"{self.source}: block {name!r} inserts itself ({chain}); "
+                               f"fix the block definitions")
+        self.limits.check("max_block_depth", len(self.active) + 1, subject=self.source,
+                          what=f"nesting depth of block {name!r}",
+                          hint=f"it is inserted through {' -> '.join(self.active[:3])} ...")
+        try:
+            block = self.doc.blocks.get(name)
+        except DAMAGE:
+            block = None
+        if block is None:
+            self.warnings.append(f"{self.source}: INSERT of undefined block {name!r} skipped")
+            return {}
+        self.active.append(name)
+        chunks = defaultdict(list)
+        for entity in block:
+            if not entity.is_alive:
+                continue
+            dxftype, layer = entity.dxftype(), entity_layer(entity)
+            with lenient(self.source, self.limits, dxftype, layer, self.damaged, (name, dxftype)):
+                self._add(entity, dxftype, layer, tolerance, chunks)
+        self.active.pop()
+        result = {layer: Parts.concat(found) for layer, found in chunks.items()}
+        self.cache[(name, tolerance)] = result
+        if not self.active:
+            for (block_name, dxftype), count in sorted(self.damaged.items()):
+                self.warnings.append(f"{self.source}: {count} damaged {dxftype} in block "
+                                     f"{block_name!r} skipped")
+            self.damaged.clear()
+        return result
+
+    def placed_parts(self, name, matrices, tolerance, insert_layer):
+        """Yield (layer, Parts) of block `name` placed by `matrices`, layers resolved.
+
+        Layer 0 inside the block takes `insert_layer`; every layer of an opening block goes
+        to its opening pseudo-layer.
+        """
+        kind = self.block_kind(name)
+        for block_layer, parts in self.block_parts(name, tolerance / scale_of(matrices)).items():
+            if kind and not block_layer.startswith(BLOCK_OPENING_PREFIX):
+                target = BLOCK_OPENING_PREFIX + kind
+            else:
+                target = insert_layer if block_layer == "0" else block_layer
+            self.budget.spend(parts, len(matrices), f"INSERTs of block {name!r}")
+            yield target, parts.placed(matrices)
+
+    def _add(self, entity, dxftype, layer, tolerance, chunks):
+        if dxftype == "INSERT":
+            matrices = insert_matrices(entity, limits=self.limits, source=self.source)
+            child = str(entity.dxf.name)
+            kind = self.block_kind(child)
+            # inline rather than through placed_parts: one frame less per nesting level
+            for child_layer, parts in self.block_parts(child, tolerance / scale_of(matrices)).items():
+                self.budget.spend(parts, len(matrices), f"block {child!r}")
+                if kind and not child_layer.startswith(BLOCK_OPENING_PREFIX):
+                    target = BLOCK_OPENING_PREFIX + kind
+                else:
+                    target = layer if child_layer == "0" else child_layer
+                chunks[target].append(parts.placed(matrices))
+            return
+        if dxftype in ("ATTDEF", "ATTRIB") + TEXTS:
+            return
+        found = flatten_entity(entity, tolerance, self.limits.max_curve_vertices)
+        if found:
+            parts = Parts.from_list(*zip(*found))
+            self.budget.spend(parts, 1, "block contents")
+            chunks[layer].append(parts)
+
+
+def entity_layer(entity):
+    """Return an entity's layer name ("0" when a damaged or unmodelled entity has none)."""
+    try:
+        return str(entity.dxf.get("layer", "0"))
+    except DAMAGE:
+        return "0"
