@@ -1,7 +1,7 @@
 """The `clearway` command line: thin wrappers that parse options, call the library, write.
 
 The group `main` and `layers` live here; `build` (clearway.cli_build), `route` and
-`compare` (clearway.cli_graphs) are registered on it below.
+`compare` (clearway.cli_graphs) and `view` (clearway.cli_view) are registered on it below.
 """
 
 from __future__ import annotations
@@ -14,6 +14,7 @@ from clearway import __version__
 from clearway.cli_build import build
 from clearway.cli_common import InputError, converter_options, drawing_options, terminal_text
 from clearway.cli_graphs import compare, route
+from clearway.cli_view import view
 from clearway.errors import ClearwayError
 from clearway.converter import list_layers
 
@@ -101,5 +102,5 @@ def layers(drawing, as_json, **options):
     click.echo(text)
 
 
-for _command in (build, route, compare):
+for _command in (build, route, compare, view):
     main.add_command(_command)

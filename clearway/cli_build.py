@@ -1,4 +1,4 @@
-"""`clearway build`: the lane graph of a drawing, written as one set of four files."""
+"""`clearway build`: the lane graph of a drawing, written as one set of files."""
 
 from __future__ import annotations
 
@@ -16,10 +16,11 @@ from clearway.converter import read_floorplan
 from clearway.exporters import (check_anchor, read_graphml, render_geojson, render_graphml, render_report,
                        render_svg, summarize, write_outputs)
 from clearway.roadmap import Robot, build_roadmap, carry_ids_over
+from clearway.cli_view import html_page
 
 
 #: The files `build` writes, in the order they are rendered.
-BUILD_FILES = ("roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json")
+BUILD_FILES = ("roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json", "roadmap.html")
 
 
 def _metres(name: str, value, *, allow_zero: bool = False) -> float | None:
@@ -77,7 +78,7 @@ def _count(number: int, singular: str, plural: str = "") -> str:
     return f"{number} {singular if number == 1 else plural or singular + 's'}"
 
 
-def _summary(plan, roadmap, outdir: str) -> list[str]:
+def _summary(plan, roadmap, outdir: str, names=BUILD_FILES) -> list[str]:
     counts = summarize(plan, roadmap)
     findings = roadmap.findings
     unreachable = [s for s in findings.stations if not s.reachable]
@@ -99,7 +100,7 @@ def _summary(plan, roadmap, outdir: str) -> list[str]:
          "lanes short of personnel clearance"),
         (len(plan.warnings) + len(findings.warnings), "warning")))
     lines.append(f"problems: {problems}")
-    lines.append(f"files in {outdir}: {', '.join(BUILD_FILES)}")
+    lines.append(f"files in {outdir}: {', '.join(names)}")
     lines.append("planning aid: verify on site under ISO 3691-4, the robot maker's safety "
                  "manual and local codes, by qualified people")
     return lines
@@ -130,7 +131,7 @@ def _sigterm_as_exit(command):
 @click.command()
 @click.argument("drawing")
 @click.option("-o", "--outdir", required=True, metavar="OUTDIR",
-              help="Folder for roadmap.graphml, roadmap.geojson, roadmap.svg, report.json "
+              help="Folder for roadmap.graphml, roadmap.geojson, roadmap.svg, report.json, roadmap.html "
                    "(created when missing).")
 @drawing_options
 @click.option("--robot-radius", metavar="M",
@@ -149,16 +150,18 @@ def _sigterm_as_exit(command):
 @click.option("--previous", metavar="OLD.graphml",
               help="Graph of the previous revision: nodes within 0.25 m of an old node of "
                    "the same kind (and label) keep its id, lanes between them keep theirs.")
+@click.option("--no-html", is_flag=True, help="Leave out roadmap.html, the interactive viewer.")
 @click.option("--strict", is_flag=True,
               help="Exit 1 (after writing) when a station is unreachable or free space leaks.")
 @click.option("-q", "--quiet", is_flag=True, help="Print only errors.")
 @_sigterm_as_exit
 def build(drawing, outdir, robot_radius, robot_size, margin, comfort_clearance, anchor,
-          previous, strict, quiet, **options):
+          previous, no_html, strict, quiet, **options):
     """Build the lane graph of DRAWING into OUTDIR.
 
-    Writes roadmap.graphml, roadmap.geojson, roadmap.svg and report.json as one set: all
-    four are rendered first and replace earlier outputs only when every one succeeded.
+    Writes roadmap.graphml, roadmap.geojson, roadmap.svg, report.json and roadmap.html (the
+    viewer; --no-html leaves it out) as one set: all are rendered first and replace earlier
+    outputs only when every one succeeded.
     Exit 0 when built, 1 with --strict when a station is unreachable or free space leaks,
     2 for bad input.
     """
@@ -189,10 +192,12 @@ def build(drawing, outdir, robot_radius, robot_size, margin, comfort_clearance, 
         if previous_graph is not None:
             say(f"  ids carried over from {previous}")
             roadmap = carry_ids_over(roadmap, previous_graph)
-        say("rendering roadmap.graphml, roadmap.geojson, roadmap.svg, report.json")
-        files = dict(zip(BUILD_FILES, (
+        names = BUILD_FILES[:-1] if no_html else BUILD_FILES
+        say(f"rendering {', '.join(names)}")
+        files = dict(zip(names, (
             render_graphml(plan, roadmap), render_geojson(plan, roadmap, anchor=anchor),
-            render_svg(plan, roadmap, date=_drawing_date(plan)), render_report(plan, roadmap))))
+            render_svg(plan, roadmap, date=_drawing_date(plan)), render_report(plan, roadmap),
+            *(() if no_html else (html_page(plan, roadmap, _drawing_date(plan), previous_graph),)))))
     except (ClearwayError, ValueError) as err:     # ValueError: a library's bad-value check
         raise InputError(str(err)) from None
     except OSError as err:
@@ -201,7 +206,7 @@ def build(drawing, outdir, robot_radius, robot_size, margin, comfort_clearance, 
         write_outputs(outdir, files)
     except OSError as err:
         raise InputError(f"{outdir}: cannot write outputs ({err.strerror or err})") from None
-    for line in _summary(plan, roadmap, outdir):
+    for line in _summary(plan, roadmap, outdir, names):
         say(line)
     unreachable = sum(1 for s in roadmap.findings.stations if not s.reachable)
     if strict and (unreachable or plan.leaks):

@@ -1,4 +1,4 @@
-"""Exporters: turn a FloorPlan and a Roadmap into GraphML, GeoJSON, SVG and report.json bytes.
+"""Exporters: turn a FloorPlan and a Roadmap into GraphML, GeoJSON, SVG, HTML and report.json bytes.
 
 They take plain values (the networkx graph with its documented attributes, the floor plan's
 geometries, the findings) and never reach back into the roadmap's internals. ``write_outputs``
@@ -11,6 +11,7 @@ from clearway.exporters.files import write_outputs
 from clearway.exporters.geojson import render_geojson
 from clearway.exporters.graphml import render_graphml
 from clearway.exporters.graphml_read import read_graphml
+from clearway.exporters.html import render_html
 from clearway.exporters.report import render_report, summarize
 from clearway.exporters.svg import render_svg
 from clearway.exporters.text import SAFETY_CAUTION
@@ -22,6 +23,7 @@ __all__ = [
     "render_compare_svg",
     "render_geojson",
     "render_graphml",
+    "render_html",
     "render_report",
     "render_svg",
     "summarize",

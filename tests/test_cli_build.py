@@ -22,7 +22,7 @@ import clearway.exporters.files
 from clearway.cli import main
 from tests.conftest import SAMPLES, new_drawing, save, wall_with_gap
 
-FILES = {"roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json"}
+FILES = {"roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json", "roadmap.html"}
 #: No environment pinning: the SVG carries the drawing's own date, not the build date.
 ENV: dict[str, str] = {}
 # source: sample_drawings/README.md -- stations per drawing, and which cannot be reached

@@ -26,7 +26,7 @@ from lxml import etree
 from benchmarks.synthetic import write_warehouse
 
 CLI = "from clearway.cli import main; main()"
-FILES = {"roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json"}
+FILES = {"roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json", "roadmap.html"}
 ENV = dict(os.environ)
 #: Interrupted runs per signal and way of timing it; rounds of two concurrent builds.
 RUNS = int(os.environ.get("CLEARWAY_SIGNAL_RUNS", "3"))

@@ -15,7 +15,7 @@ from clearway.config import SCHEMA, load_config
 from clearway.limits import Limits
 from tests.conftest import new_drawing, save, walled_room
 
-FILES = {"roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json"}
+FILES = {"roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json", "roadmap.html"}
 
 
 def run(*args):

@@ -96,10 +96,10 @@ def assert_safe_on_a_terminal(text: str) -> None:
         assert not bad, (bad, line)
 
 
-def test_build_writes_the_four_files(built):
+def test_build_writes_the_five_files(built):
     _, outdir, _ = built
     assert {path.name for path in outdir.iterdir()} == {
-        "roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json"}
+        "roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json", "roadmap.html"}
 
 
 def test_graphml_keeps_labels_and_source_escaped_and_intact(built):

@@ -19,7 +19,7 @@ from hypothesis import strategies as st
 from clearway.cli import main
 from tests.fuzz.mutations import EXAMPLES, NAMES, TIMEOUT_S, recipes, mutate, time_limit
 
-FILES = {"roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json"}
+FILES = {"roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json", "roadmap.html"}
 CLI = "from clearway.cli import main; main()"
 DERANDOMIZE = not os.environ.get("CLEARWAY_FUZZ_EXAMPLES")
 IN_PROCESS = settings(max_examples=max(EXAMPLES // 3, 20), deadline=None, derandomize=DERANDOMIZE,

@@ -1,0 +1,35 @@
+"""`clearway view`: open the roadmap.html of a build in the default web browser."""
+
+from __future__ import annotations
+
+import webbrowser
+from pathlib import Path
+
+import click
+
+from clearway.cli_common import InputError
+from clearway.exporters import render_html
+from clearway.roadmap import compare_graphs
+
+#: The viewer's file name inside OUTDIR.
+PAGE = "roadmap.html"
+
+
+def html_page(plan, roadmap, date: str, previous_graph=None) -> bytes:
+    """roadmap.html for `build`; with the previous revision's graph, its changes as a layer."""
+    changes = compare_graphs(previous_graph, roadmap.graph) if previous_graph is not None else None
+    return render_html(plan, roadmap, date=date, changes=changes)
+
+
+@click.command()
+@click.argument("outdir")
+def view(outdir):
+    """Open OUTDIR/roadmap.html (written by `clearway build`) in the default web browser."""
+    page = Path(outdir) / PAGE
+    if not page.is_file():
+        raise InputError(f"{page}: no such file; run `clearway build DRAWING -o {outdir}` "
+                         "first (without --no-html)")
+    uri = page.resolve().as_uri()
+    if not webbrowser.open(uri):
+        raise InputError(f"{page}: no web browser could be started; open {uri} by hand")
+    click.echo(f"opened {uri}", err=True)
