@@ -11,6 +11,7 @@ import click
 from networkx import NetworkXNoPath
 
 from clearway.cli_common import InputError, read_graph, replace_file, terminal_text
+from clearway.route_reasons import no_route_reason
 from clearway.exporters import render_compare_svg
 from clearway.roadmap import (ROUTE_METHODS, compare_graphs, distance_matrix, shortest_route,
                      summarize_changes)
@@ -69,7 +70,9 @@ def _number(value: float) -> str:
               show_default=True, help="Search method; both find the same route cost.")
 @click.option("--matrix", is_flag=True, help="Station-to-station route costs instead.")
 @click.option("--csv", "csv_path", metavar="FILE", help="With --matrix: write it as CSV.")
-def route(graph_file, ends, as_json, avoid, method, matrix, csv_path):
+@click.option("--wkt", "show_wkt", is_flag=True,
+              help="Also print the route's geometry as a WKT LINESTRING (metres).")
+def route(graph_file, ends, as_json, avoid, method, matrix, csv_path, show_wkt):
     """Find the shortest route in GRAPH from FROM to TO (station labels or node ids).
 
     With --matrix, give the route cost in metres between every pair of stations;
@@ -107,9 +110,12 @@ def route(graph_file, ends, as_json, avoid, method, matrix, csv_path):
     except ValueError as err:
         raise InputError(f"{graph_file}: {err}") from None
     except NetworkXNoPath as err:
+        reason = no_route_reason(graph_file, graph, ends, avoid)
         if as_json:
-            click.echo(json.dumps({"from": ends[0], "to": ends[1], "reachable": False}))
-        click.echo(terminal_text(f"{graph_file}: {err}"), err=True)
+            click.echo(json.dumps({"from": ends[0], "to": ends[1], "reachable": False,
+                                   "reason": reason or None}))
+        click.echo(terminal_text(f"{graph_file}: {err}" + (f": {reason}" if reason else "")),
+                   err=True)
         sys.exit(1)
     clearance = found.clearance_min if math.isfinite(found.clearance_min) else None
     if as_json:
@@ -123,7 +129,8 @@ def route(graph_file, ends, as_json, avoid, method, matrix, csv_path):
                + (f"{clearance:.3f} m" if clearance is not None else "unknown")
                + f", {len(found.nodes)} nodes")
     click.echo("nodes: " + " ".join(found.nodes))
-    click.echo(found.geometry.wkt)
+    if show_wkt:
+        click.echo(found.geometry.wkt)
 
 
 def _csv_cell(text: str) -> str:

@@ -85,12 +85,25 @@ def read_graphml(source: str | os.PathLike | bytes | BinaryIO, *,
         message = str(err).splitlines()[0] if str(err) else "syntax error"
         if "entity" in message.lower():
             raise GraphFileError(f"{name}: {_UNSAFE}") from None
-        raise GraphFileError(f"{name}: not well-formed XML ({message})") from None
+        raise GraphFileError(f"{name}: {_not_xml(data, err)}") from None
     docinfo = root.getroottree().docinfo
     if docinfo.internalDTD is not None or docinfo.doctype:
         # reached only by encodings the byte scan cannot see (e.g. UTF-16)
         raise GraphFileError(f"{name}: {_UNSAFE}")
     return _build_graph(name, root)
+
+
+def _not_xml(data: bytes, err: etree.XMLSyntaxError) -> str:
+    """Say in one line what the file is instead, without the XML parser's wording."""
+    head = data.lstrip()[:200]
+    if not head.startswith(b"<"):
+        kind = ("a DXF drawing (run clearway build on it first)"
+                if head.startswith(b"0") and b"SECTION" in head
+                else "JSON" if head[:1] in (b"{", b"[") else "not XML")
+        return f"not a GraphML file: it is {kind}; give the roadmap.graphml that build wrote"
+    line = getattr(err, "lineno", None)
+    return ("not a GraphML file: not well-formed XML" + (f" (line {line})" if line else "")
+            + "; the file may be cut short or damaged")
 
 
 def _load(source, max_bytes: int) -> tuple[str, bytes]:

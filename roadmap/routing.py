@@ -10,6 +10,7 @@ References
 
 from __future__ import annotations
 
+import difflib
 import math
 from dataclasses import dataclass
 from typing import Iterable
@@ -48,8 +49,10 @@ class Route:
 def resolve_node(graph: nx.MultiGraph, name: str) -> str:
     """Return the node id for `name`, a node id or a station label.
 
-    A node id wins over a label of the same spelling. A label shared by several
-    stations is refused as ambiguous.
+    A node id wins over a label of the same spelling; a label matches exactly first, then
+    ignoring case (``dock-1`` finds ``DOCK-1``). A label shared by several stations is
+    refused as ambiguous. An unknown name is answered with the closest labels ("did you
+    mean") and the full list of stations.
 
     Raises
     ------
@@ -60,22 +63,38 @@ def resolve_node(graph: nx.MultiGraph, name: str) -> str:
     --------
     >>> graph = nx.MultiGraph()
     >>> graph.add_node("n0", x=0.0, y=0.0, kind="station", label="DOCK-1")
-    >>> resolve_node(graph, "DOCK-1"), resolve_node(graph, "n0")
-    ('n0', 'n0')
+    >>> resolve_node(graph, "DOCK-1"), resolve_node(graph, "n0"), resolve_node(graph, "dock-1")
+    ('n0', 'n0', 'n0')
     """
     if not isinstance(name, str):
         raise TypeError(f"node name must be a string, got {type(name).__name__}")
     if name in graph:
         return name
-    matches = sorted(node for node, label in graph.nodes(data="label") if label == name)
+    labelled = [(node, label) for node, label in graph.nodes(data="label") if label]
+    matches = sorted(node for node, label in labelled if label == name)
+    if not matches:
+        matches = sorted(node for node, label in labelled
+                         if label.casefold() == name.casefold())
     if len(matches) == 1:
         return matches[0]
     if matches:
         raise ValueError(f"station {name!r} is ambiguous: nodes {', '.join(matches)}; "
                          "give a node id instead")
-    stations = sorted(label for _, label in graph.nodes(data="label") if label)
-    hint = f"; stations are {', '.join(stations[:8])}" + (" ..." if len(stations) > 8 else "")
-    raise ValueError(f"no node or station called {name!r}" + (hint if stations else ""))
+    stations = sorted({label for _, label in labelled})
+    folded = {label.casefold(): label for label in stations}
+    close = [folded[key] for key in
+             difflib.get_close_matches(name.casefold(), list(folded), n=3, cutoff=0.6)]
+    message = f"no node or station called {name!r}"
+    if close:
+        message += f"; did you mean {' or '.join(repr(label) for label in close)}?"
+    if stations:
+        message += f" (stations: {', '.join(stations)})"
+    raise ValueError(message)
+
+
+def display_name(graph: nx.MultiGraph, node: str) -> str:
+    """Return how a person names `node`: its station label, else its node id."""
+    return graph.nodes[node].get("label") or node
 
 
 def lightest_edges(graph: nx.MultiGraph, *, weight: str = "weight") -> nx.Graph:
@@ -148,7 +167,8 @@ def shortest_route(graph: nx.MultiGraph, source: str, target: str, *,
     avoided = {resolve_node(graph, name) for name in avoid}
     for end in (source, target):
         if end in avoided:
-            raise ValueError(f"cannot avoid {end!r}: it is an end of the route")
+            raise ValueError(f"cannot avoid {display_name(graph, end)}: it is an end of the "
+                             "route")
     simple = lightest_edges(graph)
     if avoided:
         simple = nx.restricted_view(simple, avoided, [])
@@ -159,8 +179,10 @@ def shortest_route(graph: nx.MultiGraph, source: str, target: str, *,
             nodes = nx.astar_path(simple, source, target, heuristic=_heuristic(graph),
                                   weight="weight")
     except nx.NetworkXNoPath:
-        raise nx.NetworkXNoPath(f"no route from {source!r} to {target!r}"
-                                + (" avoiding " + ", ".join(sorted(avoided)) if avoided
+        avoiding = sorted(display_name(graph, node) for node in avoided)
+        raise nx.NetworkXNoPath(f"no route from {display_name(graph, source)} to "
+                                f"{display_name(graph, target)}"
+                                + (" avoiding " + ", ".join(avoiding) if avoiding
                                    else "")) from None
     keys = [simple.edges[u, v]["key"] for u, v in zip(nodes, nodes[1:])]
     return _make_route(graph, nodes, keys)

@@ -51,6 +51,8 @@ def test_route_text_output(graph_file):
     # tie-break is not promised, so check the length and the ends
     assert lines[0].startswith("DOCK-1 -> CHG <2>: 24.000 m, clearance_min ")
     assert lines[1].startswith("nodes: n0 n1 ") and lines[1].endswith(" n4 n5")
+    assert len(lines) == 2                   # issue 15: the WKT only with --wkt
+    lines = run("route", graph_file, "DOCK-1", "CHG <2>", "--wkt").stdout.splitlines()
     assert lines[2].startswith("LINESTRING (0 0, 4 0, ") and lines[2].endswith("16 8)")
 
 
@@ -81,7 +83,7 @@ def test_route_avoid(graph_file):
 def test_unreachable_route_exits_1_with_one_line(graph_file):
     result = run("route", graph_file, "DOCK-1", "ISLAND")
     assert result.exit_code == 1
-    assert result.stderr.strip().endswith("no route from 'n0' to 'n7'")
+    assert result.stderr.strip().endswith("no route from DOCK-1 to ISLAND")
     assert len(result.stderr.splitlines()) == 1 and result.stdout == ""
 
 
@@ -111,7 +113,8 @@ def test_matrix_json(graph_file):
     (("DOCK-1", "CHG <2>", "--matrix"), "give FROM and TO, or --matrix"),
     (("DOCK-1", "CHG <2>", "--csv", "x.csv"), "--csv needs --matrix"),
     (("DOCK-1", "NOWHERE"), "no node or station called 'NOWHERE'"),
-    (("DOCK-1", "CHG <2>", "--avoid", "DOCK-1"), "cannot avoid 'n0'"),
+    (("DOCK-1", "CHG <2>", "--avoid", "DOCK-1"), "cannot avoid DOCK-1: it is an end"),
+    (("dock-1", "CHG 2"), "did you mean 'CHG <2>'?"),
 ])
 def test_bad_input_exit_2_one_line(graph_file, args, message):
     result = run("route", graph_file, *args)
@@ -166,3 +169,47 @@ def test_matrix_of_the_sample_build_equals_scipy_on_networkx_reading(tmp_path):
         source, target = order[by_label["DOCK-01"]], order[by_label["CHG-03"]]
         assert route["cost"] == pytest.approx(
             nx.dijkstra_path_length(theirs, source, target, weight="weight"), rel=1e-12)
+
+
+@pytest.fixture(scope="module")
+def clinic_build(tmp_path_factory):
+    outdir = tmp_path_factory.mktemp("clinic")
+    built = run("build", Path(__file__).parent.parent / "sample_drawings" / "clinic.dxf",
+                "-o", outdir, "-q")
+    assert built.exit_code == 0, built.stderr
+    return outdir
+
+
+def test_issue_15_no_route_names_the_blocking_doorway(clinic_build):
+    result = run("route", clinic_build / "roadmap.graphml", "supply", "Exam-3")
+    assert result.exit_code == 1 and len(result.stderr.splitlines()) == 1
+    # source: sample_drawings/README.md: EXAM-3 sits behind the 28 in doorway; exact by
+    # definition 28 in = 0.7112 m; the robot needs 2 x (0.35 + 0.1) = 0.90 m
+    assert result.stderr.strip().endswith(
+        "no route from SUPPLY to EXAM-3: EXAM-3 is cut off by a passage 0.71 m wide at "
+        "(14.58, 5.02), the robot needs 0.90 m")
+    answer = json.loads(run("route", clinic_build / "roadmap.graphml", "SUPPLY", "EXAM-3",
+                            "--json").stdout)
+    assert answer["reachable"] is False and "0.71 m wide" in answer["reason"]
+
+
+def test_issue_15_report_of_another_drawing_is_not_used(clinic_build, tmp_path):
+    (tmp_path / "roadmap.graphml").write_bytes((clinic_build / "roadmap.graphml").read_bytes())
+    report = json.loads((clinic_build / "report.json").read_text())
+    report["sha256"] = "0" * 64
+    (tmp_path / "report.json").write_text(json.dumps(report))
+    result = run("route", tmp_path / "roadmap.graphml", "SUPPLY", "EXAM-3")
+    assert result.exit_code == 1 and result.stderr.strip().endswith("to EXAM-3")
+
+
+@pytest.mark.parametrize(("content", "message"), [
+    (b"  0\nSECTION\n  2\nHEADER\n", "not a GraphML file: it is a DXF drawing"),
+    (b'{"format": 1}', "not a GraphML file: it is JSON"),
+    (b"<graphml><node", "not a GraphML file: not well-formed XML (line 1)"),
+])
+def test_issue_15_not_graphml_in_one_line(tmp_path, content, message):
+    path = tmp_path / "roadmap.graphml"
+    path.write_bytes(content)
+    result = run("route", path, "A", "B")
+    assert result.exit_code == 2 and len(result.stderr.splitlines()) == 1
+    assert message in result.stderr and "Start tag" not in result.stderr

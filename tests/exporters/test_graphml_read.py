@@ -111,7 +111,7 @@ def test_older_files_without_optional_attributes():
 
 
 NOT_CLEARWAY = {
-    "not xml": (b"this is not xml <", "not well-formed XML"),
+    "not xml": (b"this is not xml <", "not a GraphML file: it is not XML"),
     "empty": (b"   ", "graph file is empty"),
     "other root": (b'<svg xmlns="http://www.w3.org/2000/svg"/>', "not <graphml>"),
     "no x/y keys": (_graphml('<node id="n0"/>', keys=""), "no node x/y keys"),

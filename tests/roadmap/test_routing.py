@@ -155,9 +155,9 @@ def test_avoid_forces_a_detour_and_can_cut_off():
     # analytic: around the side of a 2 x 2 grid cell pair: 2 + 4 + 2 m
     assert "n4" not in detour.nodes and detour.length == 8.0
     assert detour.cost == shortest_route(graph, "n1", "n7", avoid=["n4"], method="dijkstra").cost
-    with pytest.raises(nx.NetworkXNoPath, match="no route from 'n0' to 'n8' avoiding n1, n3"):
+    with pytest.raises(nx.NetworkXNoPath, match="no route from n0 to n8 avoiding n1, n3"):
         shortest_route(graph, "n0", "n8", avoid=["n1", "n3"])
-    with pytest.raises(ValueError, match="cannot avoid 'n0'"):
+    with pytest.raises(ValueError, match="cannot avoid n0: it is an end"):
         shortest_route(graph, "n0", "n8", avoid=["n0"])
 
 
@@ -169,8 +169,11 @@ def test_station_labels_resolve():
     assert shortest_route(graph, "DOCK-1", "n2").length == 9.0
     with pytest.raises(ValueError, match="station 'CHG' is ambiguous: nodes n2, n3"):
         resolve_node(graph, "CHG")
-    with pytest.raises(ValueError, match="no node or station called 'dock-1'; stations are"):
-        resolve_node(graph, "dock-1")
+    # issue 15: labels match ignoring case, and a near miss gets a suggestion
+    assert resolve_node(graph, "dock-1") == "n0"
+    with pytest.raises(ValueError, match=r"called 'DOCK-2'; did you mean 'DOCK-1'\? "
+                                         r"\(stations: CHG, DOCK-1\)"):
+        resolve_node(graph, "DOCK-2")
     with pytest.raises(ValueError, match="method must be one of astar, dijkstra"):
         shortest_route(graph, "n0", "n1", method="bfs")
 
