@@ -9,11 +9,12 @@ import threading
 
 import click
 
-from clearway.cli_common import InputError, converter_options, drawing_options, terminal_text
+from clearway.cli_common import (InputError, converter_options, drawing_options, read_graph,
+                                 terminal_text)
 from clearway.config import load_config
 from clearway.errors import ClearwayError
 from clearway.converter import read_floorplan
-from clearway.exporters import (check_anchor, read_graphml, render_geojson, render_graphml, render_report,
+from clearway.exporters import (check_anchor, render_geojson, render_graphml, render_report,
                        render_svg, summarize, write_outputs)
 from clearway.roadmap import Robot, build_roadmap, carry_ids_over
 from clearway.cli_view import html_page
@@ -110,8 +111,8 @@ def _sigterm_as_exit(command):
     """Run `command` with SIGTERM raising SystemExit(143), so that cleanup code runs.
 
     Python's default SIGTERM ends the process at once; as an exception it unwinds through
-    write_outputs, which removes its temporary files (and holds the signal back while it
-    renames the finished set).
+    write_outputs, which holds the signal back while it changes OUTDIR and acts on it once
+    the set is whole (the previous one, or the new one).
     """
     @functools.wraps(command)
     def wrapper(*args, **kwargs):
@@ -177,7 +178,7 @@ def build(drawing, outdir, robot_radius, robot_size, margin, comfort_clearance, 
                    if comfort_clearance is not None
                    else _metres("[checks] comfort_clearance", checks.get("comfort_clearance")))
         anchor = _parse_anchor(anchor)
-        previous_graph = read_graphml(previous) if previous else None
+        previous_graph = read_graph(previous) if previous else None
         # said once read, so that a drawing refused by the reader gives one line only
         plan = read_floorplan(drawing, **converter_options(options, config))
         say(f"read {drawing}: units {plan.units}, "

@@ -14,7 +14,7 @@ from clearway.config import load_config
 from clearway.errors import ClearwayError, ConfigError
 from clearway.limits import Limits
 from clearway.converter import ROLE_OPTION_NAMES, UNITS_TO_M, Roles
-from clearway.exporters import read_graphml
+from clearway.exporters import finish_interrupted_set, read_graphml
 
 
 #: Characters a terminal acts on instead of showing them: C0 and C1 controls (line breaks
@@ -126,6 +126,8 @@ def replace_file(path: str, data: bytes) -> None:
 
 
 def read_graph(path: str):
+    """Read a GraphML file, first completing an output set a killed build left beside it."""
+    finish_interrupted_set(os.path.dirname(os.path.abspath(path)))
     try:
         return read_graphml(path)
     except ClearwayError as err:

@@ -2,12 +2,12 @@
 
 They take plain values (the networkx graph with its documented attributes, the floor plan's
 geometries, the findings) and never reach back into the roadmap's internals. ``write_outputs``
-writes a set of files atomically.
+writes a set of files atomically; ``finish_interrupted_set`` completes one a killed build left.
 """
 
 from clearway.exporters.anchor import check_anchor
 from clearway.exporters.compare_svg import render_compare_svg
-from clearway.exporters.files import write_outputs
+from clearway.exporters.files import finish_interrupted_set, write_outputs
 from clearway.exporters.geojson import render_geojson
 from clearway.exporters.graphml import render_graphml
 from clearway.exporters.graphml_read import read_graphml
@@ -19,6 +19,7 @@ from clearway.exporters.text import SAFETY_CAUTION
 __all__ = [
     "SAFETY_CAUTION",
     "check_anchor",
+    "finish_interrupted_set",
     "read_graphml",
     "render_compare_svg",
     "render_geojson",

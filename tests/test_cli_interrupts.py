@@ -1,5 +1,6 @@
 """Nothing lost: `clearway build` interrupted at random moments, and two builds at once.
 
+The same at every file-system step, deterministically: tests/test_cli_interrupt_steps.py.
 Each build runs as its own process (``python -c 'from clearway.cli import main; main()'``),
 as from a shell or a scheduler. After an interrupt OUTDIR holds the previous set byte for byte
 or the complete new one, never a mix and never a temporary file; two builds into one folder
@@ -25,8 +26,10 @@ from lxml import etree
 
 from benchmarks.synthetic import write_warehouse
 
+from clearway.cli_build import BUILD_FILES
+
 CLI = "from clearway.cli import main; main()"
-FILES = {"roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json", "roadmap.html"}
+FILES = set(BUILD_FILES)
 ENV = dict(os.environ)
 #: Interrupted runs per signal and way of timing it; rounds of two concurrent builds.
 RUNS = int(os.environ.get("CLEARWAY_SIGNAL_RUNS", "3"))

@@ -9,7 +9,7 @@ import stat
 import pytest
 
 import clearway.exporters.files
-from clearway.exporters import write_outputs
+from clearway.exporters import finish_interrupted_set, journal, write_outputs
 
 NEW = {"roadmap.graphml": b"<new graph/>", "roadmap.geojson": b"{}",
        "roadmap.svg": b"<svg/>", "report.json": b"{\"new\": 1}\n"}
@@ -126,3 +126,78 @@ def test_issue_16_without_fcntl_the_package_imports_and_writing_says_windows_is_
     lines = result.stderr.splitlines()
     assert len(lines) == 1 and "Windows is not supported" in lines[0], result.stderr
     assert not outdir.exists() or list(outdir.iterdir()) == []
+
+
+def _committed_but_killed(folder, old, new, renamed):
+    """The folder as a build killed after its commit record and `renamed` renames leaves it."""
+    write_outputs(folder, old)
+    entries = []
+    for index, (name, content) in enumerate(new.items()):
+        temporary = f"{clearway.exporters.files.TEMP_PREFIX}{name}.t{index}.part"
+        (folder / temporary).write_bytes(content)
+        backup = f"{clearway.exporters.files.TEMP_PREFIX}{name}.t{index}.old.part"
+        os.link(folder / name, folder / backup)
+        entries.append((temporary, name, backup))
+    descriptor = os.open(folder, os.O_RDONLY)
+    try:
+        journal.write_record(folder, descriptor, entries, "redo")
+    finally:
+        os.close(descriptor)
+    for temporary, name, _ in entries[:renamed]:
+        os.replace(folder / temporary, folder / name)
+
+
+@pytest.mark.parametrize("renamed", [0, 2, 4])
+def test_a_set_committed_by_a_killed_build_is_completed_by_the_next_reader(tmp_path, renamed):
+    old = {name: b"old " + name.encode() for name in NEW}
+    _committed_but_killed(tmp_path, old, NEW, renamed)
+    assert finish_interrupted_set(tmp_path) is True
+    assert _snapshot(tmp_path) == dict(sorted(NEW.items()))
+    assert finish_interrupted_set(tmp_path) is False             # nothing left to do
+
+
+def test_the_next_build_completes_a_killed_set_before_writing_its_own(tmp_path, monkeypatch):
+    old = {name: b"old " + name.encode() for name in NEW}
+    _committed_but_killed(tmp_path, old, NEW, 1)
+    seen = []
+    real_mkstemp = clearway.exporters.files.tempfile.mkstemp
+
+    def mkstemp(*args, **kwargs):
+        if not seen:
+            seen.append(_snapshot(tmp_path))
+        return real_mkstemp(*args, **kwargs)
+    monkeypatch.setattr(clearway.exporters.files.tempfile, "mkstemp", mkstemp)
+    write_outputs(tmp_path, {"report.json": b"third"})
+    assert seen == [dict(sorted(NEW.items()))]
+    assert _snapshot(tmp_path) == {**dict(sorted(NEW.items())), "report.json": b"third"}
+
+
+def test_a_record_clearway_did_not_write_is_never_acted_on(tmp_path):
+    write_outputs(tmp_path, {"report.json": b"old", "notes.txt": b"keep"})
+    (tmp_path / ".clearway-x.part").write_bytes(b"x")
+    (tmp_path / journal.JOURNAL_NAME).write_text(
+        '{"format": "clearway output journal 1", "direction": "redo", '
+        '"entries": [[".clearway-x.part", "../notes.txt", null]]}')
+    assert finish_interrupted_set(tmp_path) is True
+    assert _snapshot(tmp_path) == {"notes.txt": b"keep", "report.json": b"old"}
+
+
+def test_a_folder_at_an_output_name_leaves_the_previous_set(tmp_path):
+    write_outputs(tmp_path, {name: b"old" for name in NEW})
+    (tmp_path / "roadmap.svg").unlink()
+    (tmp_path / "roadmap.svg").mkdir()
+    before = _snapshot_names(tmp_path)
+    with pytest.raises(IsADirectoryError):
+        write_outputs(tmp_path, NEW)
+    assert _snapshot_names(tmp_path) == before
+    assert (tmp_path / "report.json").read_bytes() == b"old"
+
+
+def _snapshot_names(folder):
+    return sorted(path.name for path in folder.iterdir())
+
+
+def test_refuses_names_of_its_own_temporary_files(tmp_path):
+    with pytest.raises(ValueError, match="must not start with"):
+        write_outputs(tmp_path, {".clearway-journal": b"x"})
+    assert list(tmp_path.iterdir()) == []
