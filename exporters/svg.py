@@ -5,7 +5,7 @@ One SVG user unit is one metre of the drawing, and a drawing point (x, y) is dra
 drawn relative to a round origin (see ``drawing_origin``), stated in the title block. The page size fits the plan on A3
 (420 mm x 297 mm, landscape or portrait), so text sized in proportion to the plan stays
 readable in print. Colours come from the Okabe-Ito palette (areas, symbols) and a
-colour-blind-safe sequential ramp (lane clearance); every symbol also differs in shape.
+lightness ramp checked for CIEDE2000 distinctness (lane clearance); every symbol also differs in shape.
 
 References
 ----------
@@ -20,8 +20,10 @@ import shapely
 from lxml import etree
 
 from clearway.exporters.graphml import oriented_edges
+from clearway.exporters.svg_labels import LabelPlacer
 from clearway.exporters.svg_parts import (AREA_STYLE, add_legend, add_marker, add_scale_and_arrow,
-                                 add_text, lane_bins, lane_colour, number, path_data)
+                                          add_text, lane_bins, lane_colour, measure_label,
+                                          number, path_data, symbol_reach)
 from clearway.exporters.text import SAFETY_CAUTION, TOOL_VERSION, xml_text
 
 SVG_NS = "http://www.w3.org/2000/svg"
@@ -166,32 +168,42 @@ def render_svg(plan, roadmap, *, date: str) -> bytes:
                          points=" ".join(f"{number(x)},{number(-y)}" for x, y in (coords - origin).tolist()))
 
     marks = etree.SubElement(root, "g", id="marks")
-    right = xmin + 0.75 * width       # labels of marks beyond this go to the left
-    for _, attrs in sorted(roadmap.graph.nodes(data=True), key=lambda n: (n[1]["x"], n[1]["y"])):
-        if attrs.get("kind") in ("junction", "end"):
-            add_marker(marks, attrs["kind"], attrs["x"] - ox, attrs["y"] - oy, font)
-    for point in roadmap.findings.pinch_points:
-        add_marker(marks, "pinch", point.x - ox, point.y - oy, font, f"{point.clearance:.2f} m",
-                   label_left=point.x - ox > right)
-    for passage in roadmap.findings.narrow_passages:
-        add_marker(marks, "narrow", passage.x - ox, passage.y - oy, font, f"{passage.width:.2f} m",
-                   label_left=passage.x - ox > right)
-    for flag in roadmap.findings.personnel:
-        add_marker(marks, "personnel", flag.x - ox, flag.y - oy, font,
-                   f"side {flag.side_clearance:.2f} m", label_left=flag.x - ox > right)
-    for leak in plan.leaks:
-        add_marker(marks, "leak", leak.x - ox, leak.y - oy, font, f"leak {leak.width:.2f} m",
-                   label_left=leak.x - ox > right)
+    placer = LabelPlacer([shapely.LineString(coords - origin) for *_, coords in edges
+                          if len(coords) >= 2], 0.32 * font)
+    symbols = [(attrs["kind"], attrs["x"] - ox, attrs["y"] - oy, None)
+               for _, attrs in sorted(roadmap.graph.nodes(data=True),
+                                      key=lambda n: (n[1]["x"], n[1]["y"]))
+               if attrs.get("kind") in ("junction", "end")]
+    symbols += [("pinch", p.x - ox, p.y - oy, measure_label("pinch", p.clearance))
+                for p in roadmap.findings.pinch_points]
+    symbols += [("narrow", p.x - ox, p.y - oy, measure_label("narrow", p.width))
+                for p in roadmap.findings.narrow_passages]
+    symbols += [("personnel", f.x - ox, f.y - oy, measure_label("personnel", f.side_clearance))
+                for f in roadmap.findings.personnel]
+    symbols += [("leak", leak.x - ox, leak.y - oy, measure_label("leak", leak.width))
+                for leak in plan.leaks]
     results = {s.label: s for s in roadmap.findings.stations}
     for station in plan.stations:
         result = results.get(station.label)
         reachable = bool(result and result.reachable)
-        label = station.label if reachable else f"{station.label} (unreachable)"
-        add_marker(marks, "station" if reachable else "unreachable", station.x - ox,
-                   station.y - oy, font, label, label_left=station.x - ox > right)
+        symbols.append(("station" if reachable else "unreachable", station.x - ox,
+                        station.y - oy,
+                        station.label if reachable else f"{station.label} (unreachable)"))
+    for kind, x, y, _ in symbols:      # every symbol first, so that no label covers one
+        lift = 1.3 * font if kind == "personnel" else 0.0
+        placer.block(shapely.Point(x, y + lift).buffer(symbol_reach(kind, font), quad_segs=2))
+    right = xmin + 0.75 * width       # labels of marks beyond this prefer the left
+    for kind, x, y, label in symbols:
+        lift = 1.3 * font if kind == "personnel" else 0.0
+        at = (placer.place(x, y + lift, label, 0.8 * font, symbol_reach(kind, font),
+                           prefer_left=x > right) if label is not None else None)
+        add_marker(marks, kind, x, y, font, label, label_at=at)
+    present = {kind for kind, *_ in symbols}
+    drawn = {role for role in AREA_STYLE
+             if areas.get(role) is not None and not areas[role].is_empty}
 
     _add_title_block(root, plan, roadmap, date, bins, left, -ymin + pad, canvas_width, font,
-                     origin)
+                     origin, (drawn, present))
     return etree.tostring(root, xml_declaration=True, encoding="UTF-8", pretty_print=True)
 
 
@@ -204,9 +216,15 @@ def _add_pattern(root, font: float) -> None:
                      fill="#D55E00", **{"fill-opacity": "0.18"})
     etree.SubElement(pattern, "line", x1="0", y1="0", x2="0", y2=number(0.8 * font),
                      stroke="#D55E00", **{"stroke-width": number(0.22 * font)})
+    shared = etree.SubElement(defs, "pattern", id="shared", patternUnits="userSpaceOnUse",
+                              width=number(0.6 * font), height=number(0.6 * font),
+                              patternTransform="rotate(-45)")
+    etree.SubElement(shared, "line", x1="0", y1="0", x2="0", y2=number(0.6 * font),
+                     stroke="#C9B800", **{"stroke-width": number(0.2 * font)})
 
 
-def _add_title_block(root, plan, roadmap, date, bins, left, top, width, font, origin) -> None:
+def _add_title_block(root, plan, roadmap, date, bins, left, top, width, font, origin,
+                     occurring) -> None:
     block = etree.SubElement(root, "g", id="title-block")
     etree.SubElement(block, "rect", x=number(left + font), y=number(top),
                      width=number(width - 2 * font), height=number(13 * font), fill="#ffffff",
@@ -223,5 +241,6 @@ def _add_title_block(root, plan, roadmap, date, bins, left, top, width, font, or
     for index, line in enumerate(_wrap("CAUTION: " + SAFETY_CAUTION, 78)):
         add_text(block, x, caution_top + 1.2 * index * font, line, 0.9 * font,
                  weight="bold", colour="#A03000")
-    add_legend(block, left + 52 * font, top + 1.6 * font, bins, font)
+    add_legend(block, left + 52 * font, top + 1.6 * font, bins, font, areas=occurring[0],
+               markers=occurring[1])
     add_scale_and_arrow(block, left + width - 14 * font, top + 2.2 * font, font)

@@ -18,9 +18,12 @@ from clearway.exporters.text import xml_text
 # Okabe-Ito colours [OI08] for areas and symbols.
 BLACK, ORANGE, SKY, GREEN, YELLOW, BLUE, VERMILLION, PURPLE = (
     "#000000", "#E69F00", "#56B4E9", "#009E73", "#F0E442", "#0072B2", "#D55E00", "#CC79A7")
-#: Lane colours from narrow to wide clearance: samples of the perceptually uniform,
-#: colour-blind-safe "plasma" ramp, without its palest end (it vanishes on white paper).
-LANE_COLOURS = ("#F89540", "#E16462", "#B12A90", "#6A00A8", "#0D0887")
+#: Lane colours from narrow to wide clearance: a ramp of falling lightness (CIELAB L* 45,
+#: 37, 29, 21, 13, so it reads in grey-scale and with colour-vision deficiencies) whose hue
+#: turns from olive through brown, red and plum to navy. Chosen so that every two classes,
+#: and every class and a symbol colour (keep-out, narrow passage, pinch point, station,
+#: shared zone), differ by CIEDE2000 >= 19.5 (tests/exporters/test_svg_palette.py).
+LANE_COLOURS = ("#597324", "#784F07", "#7E2424", "#640645", "#151959")
 #: Lane clearance classes: metres above the required clearance where each class starts.
 LANE_STEPS = (0.0, 0.1, 0.25, 0.5, 1.0)
 
@@ -39,7 +42,9 @@ def _style(**attrs):
 AREA_STYLE = {
     "free": _style(fill="#FBFBF7"),
     "band": _style(fill=SKY, fill_opacity="0.28"),
-    "shared": _style(fill=YELLOW, fill_opacity="0.45", stroke="#8A7F00", stroke_width=0.1,
+    # a line pattern, not a tint: a tint over the clearance band mixes a colour (olive)
+    # that no legend entry shows
+    "shared": _style(fill="url(#shared)", stroke="#8A7F00", stroke_width=0.1,
                      stroke_dasharray=(0.6, 0.3)),
     "boundary": _style(fill="#8C8C8C", stroke="#4D4D4D", stroke_width=0.04),
     "wall": _style(fill="#333333", stroke="#000000", stroke_width=0.04),
@@ -53,6 +58,23 @@ MARKER_NAMES = {"junction": "junction", "end": "lane end", "station": "station",
                 "unreachable": "unreachable station", "pinch": "pinch point",
                 "narrow": "narrow passage", "personnel": "personnel clearance short",
                 "leak": "leak to outside"}
+#: The few letters before each measured value on the plan, and what they measure. They are
+#: the only labels with numbers; the legend explains those that occur.
+MEASURE_TERMS = {"pinch": ("clr", "lane centre to nearest obstacle"),
+                 "narrow": ("gap", "clear width of the opening"),
+                 "personnel": ("side", "room beside the robot for people"),
+                 "leak": ("leak", "width of the gap to outside")}
+
+
+def measure_label(kind: str, metres: float) -> str:
+    """Label of a measured value on the plan: ``clr 0.46 m`` for a pinch point's clearance."""
+    return f"{MEASURE_TERMS[kind][0]} {metres:.2f} m"
+
+
+def symbol_reach(kind: str, font: float) -> float:
+    """Half-size of symbol `kind` drawn for text of height `font`, metres."""
+    return {"junction": 0.42, "end": 0.34, "station": 0.64, "unreachable": 0.64,
+            "pinch": 0.75, "narrow": 0.75, "personnel": 0.6, "leak": 0.72}[kind] * font
 
 
 def number(value: float) -> str:
@@ -147,11 +169,11 @@ def _symbol(parent, kind: str, x: float, y: float, font: float) -> None:
         raise ValueError(f"unknown marker kind {kind!r}")
 
 
-def add_marker(parent, kind, x, y, font, label=None, *, label_left=False) -> None:
-    """Draw symbol `kind` at drawing point (x, y), with an optional label beside it.
+def add_marker(parent, kind, x, y, font, label=None, *, label_at=None) -> None:
+    """Draw symbol `kind` at drawing point (x, y), with an optional label.
 
-    The label goes to the right of the symbol, or to its left with ``label_left`` (used
-    near the right edge of the plan so that it stays on the page).
+    `label_at` is (x, y, anchor) of the label's baseline in the drawing frame (see
+    ``svg_labels.LabelPlacer``); without it the label goes to the right of the symbol.
     """
     group = etree.SubElement(parent, "g", {"class": kind})
     # the figure for personnel clearance stands above its place, which is often a pinch point
@@ -164,20 +186,23 @@ def add_marker(parent, kind, x, y, font, label=None, *, label_left=False) -> Non
     _symbol(group, kind, float(x), -y, font)
     if label is not None:
         colour = "#A03000" if kind in ("unreachable", "leak") else BLACK
-        offset = -0.9 * font if label_left else 0.9 * font
-        # station labels sit above the line through the symbol, where lanes often run
-        rise = -0.75 * font if kind in ("station", "unreachable") else 0.3 * font
-        add_text(group, float(x) + offset, -float(y) + rise, xml_text(label),
-                 0.8 * font, colour=colour, halo=True, anchor="end" if label_left else None)
+        tx, ty, anchor = label_at or (float(x) + 0.9 * font, y - 0.3 * font, "start")
+        add_text(group, tx, -ty, xml_text(label), 0.8 * font, colour=colour, halo=True,
+                 anchor=None if anchor == "start" else anchor)
 
 
-def add_legend(parent, x: float, y: float, bins: np.ndarray, font: float) -> None:
-    """Draw the legend (areas, lane clearance classes, symbols) from SVG position (x, y)."""
+def add_legend(parent, x: float, y: float, bins: np.ndarray, font: float, *,
+               areas=None, markers=None) -> None:
+    """Draw the legend from SVG position (x, y): the areas and symbols that occur on the
+    plan (`areas`, `markers`: sets of keys of AREA_STYLE and MARKER_NAMES; None = all), the
+    lane clearance classes, and what the letters before each measured value mean."""
+    areas = [role for role in AREA_STYLE if areas is None or role in areas]
+    markers = [kind for kind in MARKER_NAMES if markers is None or kind in markers]
     row = 1.3 * font
     column = 15 * font
     size = 0.75 * font
     add_text(parent, x, y, "Areas", 0.85 * font, weight="bold")
-    for index, role in enumerate(AREA_STYLE):
+    for index, role in enumerate(areas):
         top = y + 0.5 * font + index * row
         style = {"stroke": "#999999", "stroke-width": number(0.05 * font)}
         style.update(AREA_STYLE[role](font))
@@ -194,11 +219,15 @@ def add_legend(parent, x: float, y: float, bins: np.ndarray, font: float) -> Non
         label = (f"{bins[index]:.2f}\u2013{bins[index + 1]:.2f} m" if index + 1 < len(bins)
                  else f"\u2265 {bins[index]:.2f} m")
         add_text(parent, x + 2.1 * font, top + 0.75 * font, label, size)
-    add_text(parent, x, y + 0.5 * font + 5 * row + 0.75 * font,
-             "centre to nearest obstacle", 0.65 * font)
+    top = y + 0.5 * font + 5 * row + 0.75 * font
+    add_text(parent, x, top, "centre to nearest obstacle", 0.65 * font)
+    terms = [MEASURE_TERMS[kind] for kind in MEASURE_TERMS if kind in markers]
+    for index, (letters, meaning) in enumerate(terms):
+        add_text(parent, x, top + (1.1 + 0.9 * index) * font, f"{letters}: {meaning}",
+                 0.65 * font)
     x += column
     add_text(parent, x, y, "Symbols", 0.85 * font, weight="bold")
-    for index, kind in enumerate(MARKER_NAMES):
+    for index, kind in enumerate(markers):
         top = y + 0.5 * font + index * row
         _symbol(parent, kind, x + 0.8 * font, top + 0.45 * font, 0.8 * font)
         add_text(parent, x + 2.1 * font, top + 0.75 * font, MARKER_NAMES[kind], size)
