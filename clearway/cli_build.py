@@ -14,9 +14,10 @@ from clearway.cli_common import (InputError, converter_options, drawing_options,
 from clearway.config import load_config
 from clearway.errors import ClearwayError
 from clearway.converter import read_floorplan
-from clearway.exporters import (check_anchor, render_geojson, render_graphml, render_report,
-                       render_svg, summarize, write_outputs)
-from clearway.roadmap import Robot, build_roadmap, carry_ids_over
+from clearway.exporters import (check_anchor, render_dxf, render_geojson, render_graphml,
+                                render_report, render_svg, render_tables, summarize,
+                                write_outputs)
+from clearway.roadmap import Robot, build_roadmap, carry_ids_over, site_warnings
 from clearway.cli_view import html_page
 
 
@@ -149,15 +150,22 @@ def _sigterm_as_exit(command):
               help="WGS84 position of the drawing origin and bearing of its +Y axis (degrees): "
                    "the GeoJSON gets longitude/latitude instead of local metres.")
 @click.option("--previous", metavar="OLD.graphml",
-              help="Graph of the previous revision: nodes within 0.25 m of an old node of "
-                   "the same kind (and label) keep its id, lanes between them keep theirs.")
+              help="Graph of the previous revision: nodes within 0.5 m of an old node of "
+                   "the same kind (and label) keep its id, lanes between them keep theirs "
+                   "(compare pairs nodes within the same 0.5 m).")
 @click.option("--no-html", is_flag=True, help="Leave out roadmap.html, the interactive viewer.")
+@click.option("--dxf", "with_dxf", is_flag=True,
+              help="Also write roadmap.dxf: lanes, node and lane ids, stations and findings "
+                   "on layers of their own, in the drawing's units and frame, to lay over "
+                   "the plan in CAD.")
+@click.option("--csv", "with_csv", is_flag=True,
+              help="Also write nodes.csv and lanes.csv for spreadsheets.")
 @click.option("--strict", is_flag=True,
               help="Exit 1 (after writing) when a station is unreachable or free space leaks.")
 @click.option("-q", "--quiet", is_flag=True, help="Print only errors.")
 @_sigterm_as_exit
 def build(drawing, outdir, robot_radius, robot_size, margin, comfort_clearance, anchor,
-          previous, no_html, strict, quiet, **options):
+          previous, no_html, with_dxf, with_csv, strict, quiet, **options):
     """Build the lane graph of DRAWING into OUTDIR.
 
     Writes roadmap.graphml, roadmap.geojson, roadmap.svg, report.json and roadmap.html (the
@@ -191,6 +199,8 @@ def build(drawing, outdir, robot_radius, robot_size, margin, comfort_clearance, 
             low_clearance_penalty=float(checks.get("low_clearance_penalty", 0.0)),
             progress=lambda *stage: say("  " + " ".join(str(part) for part in stage)))
         if previous_graph is not None:
+            for warning in site_warnings(previous_graph, roadmap.graph):
+                click.echo(terminal_text(f"warning: --previous {previous}: {warning}"), err=True)
             say(f"  ids carried over from {previous}")
             roadmap = carry_ids_over(roadmap, previous_graph)
         names = BUILD_FILES[:-1] if no_html else BUILD_FILES
@@ -199,6 +209,10 @@ def build(drawing, outdir, robot_radius, robot_size, margin, comfort_clearance, 
             render_graphml(plan, roadmap), render_geojson(plan, roadmap, anchor=anchor),
             render_svg(plan, roadmap, date=_drawing_date(plan)), render_report(plan, roadmap),
             *(() if no_html else (html_page(plan, roadmap, _drawing_date(plan), previous_graph),)))))
+        if with_dxf:
+            files["roadmap.dxf"] = render_dxf(plan, roadmap)
+        if with_csv:
+            files.update(render_tables(roadmap))
     except (ClearwayError, ValueError) as err:     # ValueError: a library's bad-value check
         raise InputError(str(err)) from None
     except OSError as err:
@@ -207,7 +221,7 @@ def build(drawing, outdir, robot_radius, robot_size, margin, comfort_clearance, 
         write_outputs(outdir, files)
     except OSError as err:
         raise InputError(f"{outdir}: cannot write outputs ({err.strerror or err})") from None
-    for line in _summary(plan, roadmap, outdir, names):
+    for line in _summary(plan, roadmap, outdir, list(files)):
         say(line)
     unreachable = sum(1 for s in roadmap.findings.stations if not s.reachable)
     if strict and (unreachable or plan.leaks):

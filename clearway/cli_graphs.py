@@ -13,8 +13,8 @@ from networkx import NetworkXNoPath
 from clearway.cli_common import InputError, read_graph, replace_file, terminal_text
 from clearway.route_reasons import no_route_reason
 from clearway.exporters import render_compare_svg
-from clearway.roadmap import (ROUTE_METHODS, compare_graphs, distance_matrix, shortest_route,
-                     summarize_changes)
+from clearway.roadmap import (ROUTE_METHODS, SAME_PLACE_TOLERANCE, compare_graphs,
+                              distance_matrix, shortest_route, summarize_changes)
 
 
 @click.command()
@@ -25,11 +25,13 @@ from clearway.roadmap import (ROUTE_METHODS, compare_graphs, distance_matrix, sh
 @click.option("--comfort-clearance", type=float,
               help="Clearance below which a lane is a pinch point, metres [default: the "
                    "new graph's required clearance + 0.2 m, else 0.6 m].")
-@click.option("--match-tolerance", type=float, default=1.0, show_default=True,
-              help="Farther than this from any old node, a node counts as added, metres.")
-@click.option("--route-tolerance", type=float, default=0.05, show_default=True,
+@click.option("--match-tolerance", type=float, default=SAME_PLACE_TOLERANCE,
+              show_default=True,
+              help="Farther than this from any old node, a node counts as added, metres "
+                   "(the same tolerance build --previous keeps ids within).")
+@click.option("--route-tolerance", type=float,
               help="Station-to-station routes that changed less than this are not listed, "
-                   "metres.")
+                   "metres [default: 1 % of the route, at least 0.25 m].")
 def compare(old, new, as_json, svg_path, comfort_clearance, match_tolerance, route_tolerance):
     """Show what changed between the lane graphs OLD.graphml and NEW.graphml."""
     old_graph, new_graph = read_graph(old), read_graph(new)
@@ -47,6 +49,9 @@ def compare(old, new, as_json, svg_path, comfort_clearance, match_tolerance, rou
             replace_file(svg_path, picture)
         except OSError as err:
             raise InputError(f"{svg_path}: cannot write ({err.strerror})") from None
+    if as_json:
+        for warning in changes.warnings:
+            click.echo(terminal_text(f"warning: {warning}"), err=True)
     click.echo(changes.to_json() if as_json else summarize_changes(changes), nl=False)
 
 

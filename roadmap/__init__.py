@@ -1,8 +1,9 @@
 """The roadmap stage: from a FloorPlan to the lane graph, routes and revision comparisons."""
 
 from clearway.roadmap.build import build_roadmap
-from clearway.roadmap.compare import GraphChanges, compare_graphs, summarize_changes
-from clearway.roadmap.ids import assign_stable_ids, carry_ids_over
+from clearway.roadmap.compare import (GraphChanges, compare_graphs, site_warnings,
+                                      summarize_changes)
+from clearway.roadmap.ids import SAME_PLACE_TOLERANCE, assign_stable_ids, carry_ids_over
 from clearway.roadmap.gvd import MedialAxis, generalized_voronoi, medial_axis
 from clearway.roadmap.model import (NODE_KINDS, Findings, NarrowPassage, PersonnelFlag, PinchPoint,
                            Robot, Roadmap, StationResult)
@@ -24,6 +25,7 @@ __all__ = [
     "medial_axis",
     "GraphChanges",
     "ROUTE_METHODS",
+    "SAME_PLACE_TOLERANCE",
     "Route",
     "assign_stable_ids",
     "carry_ids_over",
@@ -31,5 +33,6 @@ __all__ = [
     "distance_matrix",
     "resolve_node",
     "shortest_route",
+    "site_warnings",
     "summarize_changes",
 ]

@@ -15,7 +15,7 @@ from dataclasses import asdict, dataclass, field
 import networkx as nx
 import numpy as np
 
-from clearway.roadmap.ids import match_edge_pairs, match_nodes
+from clearway.roadmap.ids import SAME_PLACE_TOLERANCE, match_edge_pairs, match_nodes
 from clearway.roadmap.routing import distance_matrix, station_nodes
 
 
@@ -24,6 +24,19 @@ COMFORT_ALLOWANCE = 0.2
 #: Comfort clearance when a graph does not state its required clearance, metres
 #: (clearway.config's [checks] comfort_clearance example value).
 DEFAULT_COMFORT = 0.6
+#: Default route tolerance: a route must change by this share of its length, and by at least
+#: ROUTE_TOLERANCE_FLOOR metres, to be listed (measuring noise of a rebuilt lane is a few cm;
+#: a robot's schedule notices a per cent).
+ROUTE_TOLERANCE_SHARE = 0.01
+ROUTE_TOLERANCE_FLOOR = 0.25
+#: Two graphs whose node extents overlap by less than this share of the smaller extent are
+#: probably different sites (a revision that drops a far station shrinks its extent, but
+#: stays inside the old one).
+SAME_SITE_OVERLAP = 0.5
+#: Extents differing in area by more than this factor are named as a further sign.
+SAME_SITE_AREA_RATIO = 4.0
+#: Lines of each kind the text summary lists before it summarises the rest.
+SUMMARY_LINES = 10
 
 
 @dataclass(frozen=True)
@@ -109,6 +122,7 @@ class GraphChanges:
     routes_changed: tuple[RouteChange, ...]
     new_pinch_points: tuple[PinchChange, ...]
     settings: dict = field(default_factory=dict)
+    warnings: tuple[str, ...] = ()
 
     @property
     def unchanged(self) -> bool:
@@ -139,8 +153,9 @@ def _finite(value):
     return value
 
 
-def compare_graphs(old: nx.MultiGraph, new: nx.MultiGraph, *, match_tolerance: float = 1.0,
-                   move_tolerance: float = 0.01, route_tolerance: float = 0.05,
+def compare_graphs(old: nx.MultiGraph, new: nx.MultiGraph, *,
+                   match_tolerance: float = SAME_PLACE_TOLERANCE,
+                   move_tolerance: float = 0.01, route_tolerance: float | None = None,
                    comfort_clearance: float | None = None,
                    narrowing_tolerance: float = 0.05) -> GraphChanges:
     """Compare two lane graphs.
@@ -151,18 +166,22 @@ def compare_graphs(old: nx.MultiGraph, new: nx.MultiGraph, *, match_tolerance: f
         Lane graphs in the in-memory contract (see roadmap.model.Roadmap).
     match_tolerance : float
         A node farther than this from every node of the other revision is added or
-        removed, metres.
+        removed, metres; default the one same-place tolerance that ``build --previous``
+        uses to keep ids (`roadmap.ids.SAME_PLACE_TOLERANCE`).
     move_tolerance : float
         Matched nodes that moved less than this are not reported as moved, metres.
-    route_tolerance : float
-        Station-to-station route costs that changed less than this are not reported, metres.
+    route_tolerance : float, optional
+        Station-to-station route costs that changed less than this are not reported,
+        metres. Default: 1 % of the route's old cost, at least 0.25 m.
     comfort_clearance : float, optional
-        Clearance below which a node or lane is a pinch point, metres. Default, as in
+        Clearance below which a node or lane is a pinch point, metres (nothing above it
+        is ever one). Default, as in
         ``build_roadmap``: the new graph's required clearance (graph attribute
         ``clearance``) + 0.2 m, or `DEFAULT_COMFORT` when the file does not say.
     narrowing_tolerance : float
-        A node whose clearance fell by more than this and is now a strict local minimum
-        of clearance among its neighbours is a new narrowing, metres.
+        A node below comfort before and after whose clearance fell by more than this and
+        is now a strict local minimum of clearance among its neighbours is a new
+        narrowing, metres.
 
     Returns
     -------
@@ -174,7 +193,8 @@ def compare_graphs(old: nx.MultiGraph, new: nx.MultiGraph, *, match_tolerance: f
                              if isinstance(required, float) and math.isfinite(required)
                              else DEFAULT_COMFORT)
     for name, value in (("match_tolerance", match_tolerance), ("move_tolerance", move_tolerance),
-                        ("route_tolerance", route_tolerance),
+                        ("route_tolerance", 0.0 if route_tolerance is None else
+                         route_tolerance),
                         ("comfort_clearance", comfort_clearance),
                         ("narrowing_tolerance", narrowing_tolerance)):
         if not (isinstance(value, (int, float)) and math.isfinite(value) and value >= 0):
@@ -196,7 +216,7 @@ def compare_graphs(old: nx.MultiGraph, new: nx.MultiGraph, *, match_tolerance: f
     return GraphChanges(
         nodes_added=_node_changes(new, set(new) - set(pairs)),
         nodes_removed=_node_changes(old, set(old) - matched_old),
-        nodes_moved=tuple(sorted(moved, key=lambda m: _natural(m.new_id))),
+        nodes_moved=tuple(sorted(moved, key=lambda m: (-m.distance, _natural(m.new_id)))),
         ids_changed=tuple(sorted(((o, n) for n, o in pairs.items() if o != n),
                                 key=lambda pair: _natural(pair[0]))),
         edges_added=_edge_changes(new, lambda key: key not in edge_pairs),
@@ -211,9 +231,14 @@ def compare_graphs(old: nx.MultiGraph, new: nx.MultiGraph, *, match_tolerance: f
                                         narrowing_tolerance),
         settings={"match_tolerance": float(match_tolerance),
                   "move_tolerance": float(move_tolerance),
-                  "route_tolerance": float(route_tolerance),
+                  "route_tolerance": (None if route_tolerance is None
+                                      else float(route_tolerance)),
+                  "route_tolerance_rule": (f"max({ROUTE_TOLERANCE_FLOOR} m, "
+                                           f"{ROUTE_TOLERANCE_SHARE:.0%} of the old route)"
+                                           if route_tolerance is None else "fixed"),
                   "comfort_clearance": float(comfort_clearance),
                   "narrowing_tolerance": float(narrowing_tolerance)},
+        warnings=site_warnings(old, new),
     )
 
 
@@ -258,11 +283,15 @@ def _route_changes(old, new, labels, tolerance) -> tuple[RouteChange, ...]:
     changes = []
     for i, j in zip(*np.triu_indices(len(labels), k=1)):
         was, now = float(before[i, j]), float(after[i, j])
+        least = (tolerance if tolerance is not None
+                 else max(ROUTE_TOLERANCE_FLOOR, ROUTE_TOLERANCE_SHARE * was))
         if math.isfinite(was) != math.isfinite(now):
             changes.append(RouteChange(labels[i], labels[j], was, now, math.nan))
-        elif math.isfinite(was) and abs(now - was) > tolerance:
+        elif math.isfinite(was) and abs(now - was) > least:
             changes.append(RouteChange(labels[i], labels[j], was, now, now - was))
-    return tuple(changes)
+    # the biggest change first: lost or gained routes, then by how much the length changed
+    return tuple(sorted(changes, key=lambda c: (math.isfinite(c.delta), -abs(c.delta)
+                                                if math.isfinite(c.delta) else 0.0)))
 
 
 def _is_local_minimum(graph, node) -> bool:
@@ -277,9 +306,11 @@ def _pinch_changes(old, new, pairs, edge_pairs, comfort, tolerance) -> tuple[Pin
         now = float(attrs.get("clearance", math.nan))
         counterpart = pairs.get(node)
         was = float(old.nodes[counterpart].get("clearance", math.nan)) if counterpart else math.nan
-        if now < comfort and not was < comfort:
+        if not now < comfort:       # issue 15: 2.08 m against a 0.65 m comfort is no pinch
+            continue
+        if not was < comfort:
             found.append(PinchChange("node", node, *_xy(new, node), now, was, "below comfort"))
-        elif (counterpart is not None and now < was - tolerance and _is_local_minimum(new, node)
+        elif (now < was - tolerance and _is_local_minimum(new, node)
               and not _is_local_minimum(old, counterpart)):
             found.append(PinchChange("node", node, *_xy(new, node), now, was, "new narrowing"))
     old_edges = {key: attrs for *_, key, attrs in old.edges(keys=True, data=True)}
@@ -294,29 +325,79 @@ def _pinch_changes(old, new, pairs, edge_pairs, comfort, tolerance) -> tuple[Pin
     return tuple(sorted(found, key=lambda p: (p.element, _natural(p.id))))
 
 
-def summarize_changes(changes: GraphChanges) -> str:
-    """Return a short plain-text account of `changes`, one finding per line."""
-    lines = [f"nodes: {len(changes.nodes_added)} added, {len(changes.nodes_removed)} removed, "
-             f"{len(changes.nodes_moved)} moved, {len(changes.ids_changed)} renamed",
-             f"lanes: {len(changes.edges_added)} added, {len(changes.edges_removed)} removed; "
-             f"length {changes.lane_length_before:.2f} m -> {changes.lane_length_after:.2f} m"]
+def site_warnings(old, new) -> tuple[str, ...]:
+    """Return a warning when the graphs' node extents barely overlap: probably two sites.
+
+    Used by `compare_graphs` and by ``build --previous`` (carrying ids from another site
+    would be meaningless). Empty when the extents overlap by SAME_SITE_OVERLAP or more.
+    """
+    boxes = []
+    for graph in (old, new):
+        xy = np.array([(a["x"], a["y"]) for _, a in graph.nodes(data=True)], dtype=float)
+        if len(xy) == 0:
+            return ()
+        boxes.append((*xy.min(axis=0), *xy.max(axis=0)))
+    (ax0, ay0, ax1, ay1), (bx0, by0, bx1, by1) = boxes
+    # padded by a metre, so that a single aisle (a box of no area) still overlaps itself
+    widths = [(x1 - x0 + 2.0, y1 - y0 + 2.0) for x0, y0, x1, y1 in boxes]
+    inter = (max(0.0, min(ax1, bx1) - max(ax0, bx0) + 2.0)
+             * max(0.0, min(ay1, by1) - max(ay0, by0) + 2.0))
+    areas = sorted(w * h for w, h in widths)
+    overlap = min(1.0, inter / areas[0])
+    labels = [set(station_nodes(graph)) for graph in (old, new)]
+    reasons = []
+    if overlap < SAME_SITE_OVERLAP:
+        reasons.append(f"the smaller extent overlaps the other by {overlap:.0%}")
+    if min(map(len, labels)) >= 2 and not labels[0] & labels[1]:
+        reasons.append("no station label in common")
+    if not reasons:     # a revision may drop a far station: sizes alone say little
+        return ()
+    if areas[1] > SAME_SITE_AREA_RATIO * areas[0]:
+        reasons.append(f"one extent is {areas[1] / areas[0]:.0f} times the other")
+    names = [graph.graph.get("source") for graph in (old, new)]
+    drawings = f" ({names[0]} and {names[1]})" if all(names) else ""
+    return (f"the two graphs look like different sites{drawings}: {'; '.join(reasons)}; "
+            "pairings, ids and route changes between them mean little",)
+
+
+def summarize_changes(changes: GraphChanges, *, limit: int = SUMMARY_LINES) -> str:
+    """Return a short plain-text account of `changes`, biggest changes first.
+
+    Moves and route changes are listed up to `limit` lines each, largest first; the rest
+    are summarised in one line with their range.
+    """
+    lines = [f"warning: {warning}" for warning in changes.warnings]
+    lines += [f"nodes: {len(changes.nodes_added)} added, {len(changes.nodes_removed)} removed, "
+              f"{len(changes.nodes_moved)} moved, {len(changes.ids_changed)} renamed",
+              f"lanes: {len(changes.edges_added)} added, {len(changes.edges_removed)} removed; "
+              f"length {changes.lane_length_before:.2f} m -> {changes.lane_length_after:.2f} m"]
     lines += [f"station added: {label}" for label in changes.stations_added]
     lines += [f"station removed: {label}" for label in changes.stations_removed]
-    for move in changes.nodes_moved:
-        lines.append(f"moved {move.old_id} -> {move.new_id} ({move.kind}"
-                     f"{' ' + move.label if move.label else ''}) by {move.distance:.3f} m")
-    for route in changes.routes_changed:
+    for pinch in changes.new_pinch_points:
+        before = f"{pinch.before:.2f} m" if math.isfinite(pinch.before) else "none"
+        lines.append(f"new pinch point at {pinch.element} {pinch.id} ({pinch.x:.2f}, "
+                     f"{pinch.y:.2f}): clearance {pinch.clearance:.2f} m, was {before} "
+                     f"({pinch.reason}; comfort {changes.settings['comfort_clearance']:.2f} m)")
+    routes = changes.routes_changed
+    for route in routes[:limit]:
         if route.reachability == "same":
             lines.append(f"route {route.source} - {route.target}: {route.before:.2f} m -> "
                          f"{route.after:.2f} m ({route.delta:+.2f} m)")
         else:
             lines.append(f"route {route.source} - {route.target}: reachability "
                          f"{route.reachability}")
-    for pinch in changes.new_pinch_points:
-        before = f"{pinch.before:.2f} m" if math.isfinite(pinch.before) else "none"
-        lines.append(f"new pinch point at {pinch.element} {pinch.id} ({pinch.x:.2f}, "
-                     f"{pinch.y:.2f}): clearance {pinch.clearance:.2f} m, was {before} "
-                     f"({pinch.reason})")
+    if len(routes) > limit:
+        rest = [abs(route.delta) for route in routes[limit:]]
+        lines.append(f"... and {len(rest)} more routes changed by {min(rest):.2f}-"
+                     f"{max(rest):.2f} m")
+    moves = changes.nodes_moved
+    for move in moves[:limit]:
+        lines.append(f"moved {move.old_id} -> {move.new_id} ({move.kind}"
+                     f"{' ' + move.label if move.label else ''}) by {move.distance:.3f} m")
+    if len(moves) > limit:
+        rest = [move.distance for move in moves[limit:]]
+        lines.append(f"... and {len(rest)} more nodes moved by {min(rest):.3f}-"
+                     f"{max(rest):.3f} m")
     if changes.unchanged:
         lines.append("no changes")
     return "\n".join(lines) + "\n"

@@ -29,6 +29,13 @@ from clearway.roadmap.model import Roadmap
 
 _NUMBERED = re.compile(r"^([A-Za-z_]*)(\d+)$")
 
+#: A node within this distance of a node of the other revision (same kind, same label for
+#: stations) stands for the same place, metres: `build --previous` gives it the old id and
+#: `compare` counts it as moved, not as removed and added. One tolerance, one meaning; half
+#: a metre is less than a common robot's width, so a node that moved that far is still on
+#: the same aisle.
+SAME_PLACE_TOLERANCE = 0.5
+
 
 def _node_class(attrs: dict, same_kind: bool) -> tuple[str, str]:
     label = attrs.get("label", "") or ""
@@ -37,7 +44,8 @@ def _node_class(attrs: dict, same_kind: bool) -> tuple[str, str]:
     return (attrs.get("kind", "") if same_kind else "", "")
 
 
-def match_nodes(old: nx.MultiGraph, new: nx.MultiGraph, *, tolerance: float = 0.25,
+def match_nodes(old: nx.MultiGraph, new: nx.MultiGraph, *,
+                tolerance: float = SAME_PLACE_TOLERANCE,
                 same_kind: bool = True, fixed: dict[str, str] | None = None) -> dict[str, str]:
     """Pair the nodes of `new` with nodes of `old` that stand for the same place.
 
@@ -123,7 +131,8 @@ def fresh_ids(used, prefix: str):
 
 
 def stable_id_mapping(new_graph: nx.MultiGraph, previous_graph: nx.MultiGraph, *,
-                      tolerance: float = 0.25) -> tuple[dict[str, str], dict[str, str]]:
+                      tolerance: float = SAME_PLACE_TOLERANCE
+                      ) -> tuple[dict[str, str], dict[str, str]]:
     """Return ({new node id: id to use}, {new edge id: id to use}); see `assign_stable_ids`."""
     pairs = match_nodes(previous_graph, new_graph, tolerance=tolerance)
     fresh = fresh_ids(previous_graph.nodes, "n")
@@ -136,7 +145,7 @@ def stable_id_mapping(new_graph: nx.MultiGraph, previous_graph: nx.MultiGraph, *
 
 
 def assign_stable_ids(new_graph: nx.MultiGraph, previous_graph: nx.MultiGraph, *,
-                      tolerance: float = 0.25) -> nx.MultiGraph:
+                      tolerance: float = SAME_PLACE_TOLERANCE) -> nx.MultiGraph:
     """Return `new_graph` with node and edge ids carried over from `previous_graph`.
 
     Parameters
@@ -181,7 +190,7 @@ def _relabel(graph: nx.MultiGraph, nodes: dict, edges: dict) -> nx.MultiGraph:
 
 
 def carry_ids_over(roadmap: Roadmap, previous_graph: nx.MultiGraph, *,
-                   tolerance: float = 0.25) -> Roadmap:
+                   tolerance: float = SAME_PLACE_TOLERANCE) -> Roadmap:
     """Return `roadmap` with its graph's ids carried over from `previous_graph`.
 
     The findings follow the new ids too (station nodes, pinch point and personnel edges),

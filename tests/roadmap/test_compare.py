@@ -10,7 +10,7 @@ import pytest
 
 from clearway.roadmap import compare_graphs, summarize_changes
 
-from tests.lane_fixtures import lane_graph
+from tests.lane_fixtures import grid_graph, lane_graph
 
 OLD_NODES = {"n0": (0, 0, "station", "DOCK-1", 0.9), "n1": (4, 0, "junction", "", 1.2),
              "n2": (4, 8, "junction", "", 1.1), "n3": (12, 0, "junction", "", 1.0),
@@ -57,13 +57,14 @@ def check_planted(changes, new_id=lambda n: n):
     assert routes["CHG <2>", "PICK,A"].delta == pytest.approx(
         math.hypot(4.3, 4) - math.hypot(4, 4), abs=1e-9)
     pinches = [(p.element, p.id, p.reason) for p in changes.new_pinch_points]
-    assert pinches == [("edge", "e3", "below comfort"), ("node", new_id("n4"), "new narrowing")]
+    # n4 narrowed from 1.0 m to 0.65 m, still above the 0.6 m comfort: no pinch point
+    assert pinches == [("edge", "e3", "below comfort")]
     assert changes.new_pinch_points[0].before == 1.0 and changes.new_pinch_points[0].clearance == 0.5
 
 
 def test_planted_changes_are_reported_exactly():
     old, new = revisions()
-    changes = compare_graphs(old, new)
+    changes = compare_graphs(old, new, route_tolerance=0.05)
     check_planted(changes)
     assert changes.ids_changed == () and not changes.unchanged
 
@@ -71,7 +72,7 @@ def test_planted_changes_are_reported_exactly():
 def test_independent_ids_compare_by_position():
     old, new = revisions()
     renamed = nx.relabel_nodes(new, {n: f"x{n[1:]}" for n in new})
-    changes = compare_graphs(old, renamed)
+    changes = compare_graphs(old, renamed, route_tolerance=0.05)
     check_planted(changes, new_id=lambda n: f"x{n[1:]}")
     assert len(changes.ids_changed) == 7
 
@@ -128,3 +129,65 @@ def test_comfort_defaults_to_required_clearance_plus_allowance():
     assert ("n6", "below comfort") in pinches
     assert ("n6", "below comfort") not in [
         (p.id, p.reason) for p in compare_graphs(old, new, comfort_clearance=0.6).new_pinch_points]
+
+
+def test_issue_15_no_pinch_point_above_comfort_and_narrowing_below_it():
+    old, new = revisions()
+    new.graph["clearance"] = 0.45                 # comfort 0.45 + 0.2 = 0.65 m
+    old.nodes["n2"]["clearance"], new.nodes["n2"]["clearance"] = 2.5, 2.08
+    found = {p.id: p.reason for p in compare_graphs(old, new).new_pinch_points}
+    assert "n2" not in found                      # 2.08 m against 0.65 m is no pinch point
+    # already below comfort at 0.62 m but not the narrowest of its stretch (n4 had 0.58 m);
+    # now 0.5 m, narrower than its neighbours n1, n4, n6 (1.2, 0.65, 0.8 m): a new narrowing
+    old.nodes["n2"]["clearance"], new.nodes["n2"]["clearance"] = 0.62, 0.5
+    old.nodes["n4"]["clearance"] = 0.58
+    found = {p.id: p.reason for p in compare_graphs(old, new).new_pinch_points}
+    assert found["n2"] == "new narrowing"
+
+
+def test_issue_15_default_route_tolerance_scales_with_the_route():
+    old, new = revisions()
+    routes = {(r.source, r.target): r for r in compare_graphs(old, new).routes_changed}
+    # analytic: CHG <2> - PICK,A changed by hypot(4.3, 4) - hypot(4, 4) = 0.216 m on a
+    # 17.7 m route: under max(0.25 m, 1 %) = 0.25 m, so not listed; DOCK-1 - PICK,A changed
+    # by 5.87 m and is
+    assert list(routes) == [("DOCK-1", "PICK,A")]
+    assert compare_graphs(old, new).settings["route_tolerance"] is None
+
+
+def test_issue_15_summary_lists_the_largest_first_and_summarises_the_rest():
+    old = grid_graph(8, 8, spacing=3.0)
+    new = grid_graph(8, 8, spacing=3.0, jitter=lambda k: (0.02 * (k % 7), 0.0))
+    for graph in (old, new):
+        for index, node in enumerate(sorted(graph, key=lambda n: int(n[1:]))[:16]):
+            graph.nodes[node]["label"] = f"S{index}"
+    text = summarize_changes(compare_graphs(old, new, route_tolerance=0.01), limit=3)
+    moved = [line for line in text.splitlines() if line.startswith("moved ")]
+    distances = [float(line.split(" by ")[1].split()[0]) for line in moved]
+    assert len(moved) == 3 and distances == sorted(distances, reverse=True)
+    # analytic: jitter 0.02 x (k mod 7) m moves nodes by at most 0.12 m
+    assert distances[0] == pytest.approx(0.12)
+    assert any(line.startswith("... and ") and "more nodes moved by 0.020-0.120 m" in line
+               for line in text.splitlines())
+
+
+def test_issue_15_another_site_is_warned():
+    old, _ = revisions()
+    far = old.copy()
+    for node in far:
+        far.nodes[node]["x"] += 500.0
+    changes = compare_graphs(old, far)
+    # analytic: the extents do not overlap at all
+    assert changes.warnings and "overlaps the other by 0%" in changes.warnings[0]
+    assert summarize_changes(changes).startswith("warning: the two graphs look like different")
+    # a small site drawn inside a big one's extent: told by the areas and the labels
+    small = old.subgraph(["n1", "n2", "n3", "n4"]).copy()
+    for node, label in (("n1", "X-1"), ("n2", "X-2")):
+        small.nodes[node]["label"] = label
+    for node in small:
+        small.nodes[node]["x"] = 4 + (small.nodes[node]["x"] - 4) / 4
+    (warning,) = compare_graphs(old, small).warnings
+    # analytic: old nodes span 30 x 30 m (+ 1 m pad each side: 32 x 32 m), the small one
+    # 2 x 8 m (4 x 10 m): 1024 / 40 = 25.6, and no label is shared
+    assert "one extent is 26 times the other" in warning and "no station label" in warning
+    assert compare_graphs(old, old.copy()).warnings == ()
