@@ -33,8 +33,8 @@ DRAWN_DECIMALS = 3
 #: Characters that must not appear raw inside a <script> element, nor in a JavaScript
 #: string literal (U+2028 and U+2029 end a line in ECMAScript before ES2019).
 _PLACEHOLDER = re.compile(r"\{\{(TITLE|CAUTION|STYLE|DATA|SCRIPT)\}\}")
-_SCRIPT_ESCAPES = {"<": "\\u003c", ">": "\\u003e", "&": "\\u0026",
-                   "\u2028": "\\u2028", "\u2029": "\\u2029"}
+_SCRIPT_ESCAPES = str.maketrans({"<": "\\u003c", ">": "\\u003e", "&": "\\u0026",
+                                 "\u2028": "\\u2028", "\u2029": "\\u2029"})
 
 
 def script_json(value) -> str:
@@ -49,7 +49,7 @@ def script_json(value) -> str:
     '{"label":"\\\\u003c/script\\\\u003e\\\\u003cb\\\\u003e\\\\u0026"}'
     """
     text = json.dumps(value, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
-    return "".join(_SCRIPT_ESCAPES.get(char, char) for char in text)
+    return text.translate(_SCRIPT_ESCAPES)
 
 
 def _flat(coords: np.ndarray, origin: np.ndarray) -> list[float]:
@@ -94,8 +94,8 @@ def _areas(plan, roadmap, origin) -> dict:
     free = plan.free_space
     band = free.difference(roadmap.drivable) if free is not None and not free.is_empty else None
     sources = {"free": free, "drivable": roadmap.drivable, "band": band, **dict(plan.regions)}
-    return {role: _polygons(area, origin) for role, area in sources.items()
-            if _polygons(area, origin)}
+    polygons = {role: _polygons(area, origin) for role, area in sources.items()}
+    return {role: parts for role, parts in polygons.items() if parts}
 
 
 def _graph(roadmap, origin) -> tuple[list, list]:
@@ -197,8 +197,9 @@ def _rooms(plan, roadmap, origin) -> tuple[list, list]:
     """Rooms and openings, when the roadmap or the plan carries them (else two empty lists).
 
     A room has an ``id``, ``names`` (list of str), a polygon ``geometry``, ``area`` (m^2) and
-    ``reachable``; an opening a point ``x``, ``y``, ``kind``, ``width`` (m), ``exterior`` and
-    ``passable``.
+    ``reachable``; an opening a point ``x``, ``y``, ``kind``, ``width`` (m), ``exterior``,
+    ``passable`` and, when known, the line ``start``, ``end`` across the gap (as
+    ``converter.floorplan.Opening``).
     """
     rooms, openings = [], []
     for source in (roadmap, plan):
@@ -215,11 +216,13 @@ def _rooms(plan, roadmap, origin) -> tuple[list, list]:
                           "reachable": getattr(room, "reachable", None),
                           "polygons": _polygons(geometry, origin)})
         for opening in getattr(source, "openings", None) or ():
+            ends = [getattr(opening, "start", None), getattr(opening, "end", None)]
             openings.append({"kind": json_text(getattr(opening, "kind", "")),
                              "width": finite_or_none(getattr(opening, "width", None)),
                              "exterior": bool(getattr(opening, "exterior", False)),
                              "passable": bool(getattr(opening, "passable", True)),
-                             "xy": _flat([(opening.x, opening.y)], origin)})
+                             "xy": _flat([(opening.x, opening.y)], origin),
+                             "line": _flat(ends, origin) if None not in ends else None})
         if rooms or openings:
             break
     return rooms, openings

@@ -159,32 +159,46 @@ function tileKey(x, y) {
   var gx = Math.floor((x - B[0]) / Math.max(B[2] - B[0], 1e-9) * GRID), gy = Math.floor((y - B[1]) / Math.max(B[3] - B[1], 1e-9) * GRID);
   return Math.min(Math.max(gx, 0), GRID - 1) * GRID + Math.min(Math.max(gy, 0), GRID - 1);
 }
+/* A shape (a polygon with its holes, or a lane) goes whole into the tile of its centre, so
+   that holes stay with their polygon; each tile keeps a full path and a coarse one (points
+   closer than COARSE metres to the last one kept are dropped) for zoomed-out pictures. */
+var COARSE = 0.08, COARSE_BELOW = 6;      // metres; used below this many pixels per metre
 function Tiles() { this.map = new Map(); this.list = []; }
-Tiles.prototype.add = function (flat, closed) {
+Tiles.prototype.add = function (rings, closed) {
   var x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
-  for (var k = 0; k < flat.length; k += 2) {
-    if (flat[k] < x0) x0 = flat[k]; if (flat[k] > x1) x1 = flat[k];
-    if (flat[k + 1] < y0) y0 = flat[k + 1]; if (flat[k + 1] > y1) y1 = flat[k + 1];
-  }
+  rings.forEach(function (flat) {
+    for (var k = 0; k < flat.length; k += 2) {
+      if (flat[k] < x0) x0 = flat[k]; if (flat[k] > x1) x1 = flat[k];
+      if (flat[k + 1] < y0) y0 = flat[k + 1]; if (flat[k + 1] > y1) y1 = flat[k + 1];
+    }
+  });
   var key = tileKey((x0 + x1) / 2, (y0 + y1) / 2), tile = this.map.get(key);
-  if (!tile) { tile = { path: new Path2D(), box: [x0, y0, x1, y1] }; this.map.set(key, tile); this.list.push(tile); }
+  if (!tile) { tile = { path: new Path2D(), coarse: new Path2D(), box: [x0, y0, x1, y1] }; this.map.set(key, tile); this.list.push(tile); }
   var b = tile.box;
   b[0] = Math.min(b[0], x0); b[1] = Math.min(b[1], y0); b[2] = Math.max(b[2], x1); b[3] = Math.max(b[3], y1);
-  tile.path.moveTo(flat[0], flat[1]);
-  for (k = 2; k < flat.length; k += 2) tile.path.lineTo(flat[k], flat[k + 1]);
-  if (closed) tile.path.closePath();
+  rings.forEach(function (flat) {
+    var n = flat.length;
+    tile.path.moveTo(flat[0], flat[1]); tile.coarse.moveTo(flat[0], flat[1]);
+    var lastX = flat[0], lastY = flat[1];
+    for (var k = 2; k < n; k += 2) {
+      tile.path.lineTo(flat[k], flat[k + 1]);
+      if (k + 2 >= n || Math.abs(flat[k] - lastX) + Math.abs(flat[k + 1] - lastY) >= COARSE) {
+        tile.coarse.lineTo(flat[k], flat[k + 1]); lastX = flat[k]; lastY = flat[k + 1];
+      }
+    }
+    if (closed) { tile.path.closePath(); tile.coarse.closePath(); }
+  });
 };
 Tiles.prototype.each = function (view, callback) {
+  var coarse = view.scale < COARSE_BELOW;
   for (var k = 0; k < this.list.length; k++) {
     var b = this.list[k].box;
-    if (b[2] >= view[0] && b[0] <= view[2] && b[3] >= view[1] && b[1] <= view[3]) callback(this.list[k].path);
+    if (b[2] >= view.x0 && b[0] <= view.x1 && b[3] >= view.y0 && b[1] <= view.y1) callback(coarse ? this.list[k].coarse : this.list[k].path);
   }
 };
 function polygonTiles(polygons) {
   var tiles = new Tiles();
-  polygons.forEach(function (rings) {
-    rings.forEach(function (ring) { tiles.add(ring, true); });
-  });
+  polygons.forEach(function (rings) { tiles.add(rings, true); });
   return tiles;
 }
 
@@ -198,6 +212,7 @@ var AREA_STYLES = {
   racking: { name: "Racking", fill: "rgba(0,114,178,0.55)", stroke: BLUE, width: 1 },
   keepout: { name: "Keep-out areas", fill: "rgba(213,94,0,0.22)", stroke: VERMILLION, width: 2, dash: [8, 4] }
 };
+var OPENING_COLOURS = { door: GREEN, open: SKY, window: BLUE, closed: VERMILLION };
 var AREA_ORDER = ["free", "drivable", "band", "shared", "boundary", "wall", "racking", "keepout"];
 var areaTiles = {};
 AREA_ORDER.forEach(function (role) { if (data.areas[role]) areaTiles[role] = polygonTiles(data.areas[role]); });
@@ -210,14 +225,14 @@ function laneClass(clearance) {
   return k;
 }
 var laneTiles = laneColours.map(function () { return new Tiles(); });
-data.edges.forEach(function (row) { laneTiles[laneClass(row[5])].add(row[6], false); });
+data.edges.forEach(function (row) { laneTiles[laneClass(row[5])].add([row[6]], false); });
 
 var roomTiles = polygonTiles([].concat.apply([], data.rooms.map(function (room) { return room.polygons; })));
 var changeTiles = null;
 if (data.changes) {
   changeTiles = { added: new Tiles(), removed: new Tiles() };
-  data.changes.lanes_added.forEach(function (row) { changeTiles.added.add(row[1], false); });
-  data.changes.lanes_removed.forEach(function (row) { changeTiles.removed.add(row[1], false); });
+  data.changes.lanes_added.forEach(function (row) { changeTiles.added.add([row[1]], false); });
+  data.changes.lanes_removed.forEach(function (row) { changeTiles.removed.add([row[1]], false); });
 }
 
 /* ---------- layers ---------- */
@@ -229,6 +244,9 @@ AREA_ORDER.forEach(function (role) {
 if (data.rooms.length) addLayer("rooms", "Rooms", "rgba(204,121,167,0.25)");
 if (data.openings.length) addLayer("openings", "Doors and openings", ORANGE);
 addLayer("lanes", "Lanes by clearance", laneColours[laneColours.length - 1]);
+var NODE_KINDS = ["waypoint", "link", "end", "junction", "station"], nodesByKind = {};
+NODE_KINDS.forEach(function (kind) { nodesByKind[kind] = []; });
+data.nodes.forEach(function (n, index) { if (nodesByKind[n[3]]) nodesByKind[n[3]].push(index); });
 var KIND_NAMES = { junction: "Junctions", end: "Lane ends", station: "Station nodes", link: "Station links", waypoint: "Waypoints" };
 var kindsPresent = {};
 data.nodes.forEach(function (n) { kindsPresent[n[3]] = true; });
@@ -297,13 +315,47 @@ function label(text, x, y, colour) {
 }
 function inView(x, y, margin) { return x >= -margin && y >= -margin && x <= view.width + margin && y <= view.height + margin; }
 
-function draw() {
-  scheduled = false;
-  var started = performance.now(), r = view.ratio, s = view.scale;
+/* The areas and lanes change only with the layers and the zoom: they are drawn into a
+   picture somewhat larger than the window, which panning moves and zooming scales, and
+   redrawn when the layers change, the window leaves the picture or the zoom settles. */
+var CACHE_MARGIN = 0.25, SETTLE_MS = 150;
+var cache = { canvas: document.createElement("canvas"), key: null, scale: 0, cx: 0, cy: 0, w: 0, h: 0, ratio: 0 };
+var settleTimer = null;
+function cacheKey() { return layers.map(function (layer) { return layer.on ? "1" : "0"; }).join(""); }
+function cacheSize() { return [Math.ceil(view.width * (1 + 2 * CACHE_MARGIN)), Math.ceil(view.height * (1 + 2 * CACHE_MARGIN))]; }
+function cacheState() {
+  var size = cacheSize();
+  if (cache.key !== cacheKey() || cache.ratio !== view.ratio || cache.w !== size[0] || cache.h !== size[1]) return "stale";
+  var k = view.scale / cache.scale;
+  if (k > 2 || k < 0.5) return "stale";
+  if (cache.whole) return k === 1 ? "fresh" : "scaled";     // the whole plan is in the picture
+  var seen = visible(), halfW = cache.w / 2 / cache.scale, halfH = cache.h / 2 / cache.scale;
+  if (seen[0] < cache.cx - halfW || seen[2] > cache.cx + halfW || seen[1] < cache.cy - halfH || seen[3] > cache.cy + halfH) return "stale";
+  return k === 1 ? "fresh" : "scaled";
+}
+function renderCache() {
+  var size = cacheSize(), r = view.ratio, width = Math.round(size[0] * r), height = Math.round(size[1] * r);
+  // an OffscreenCanvas turned into an ImageBitmap: drawn each frame as a plain copy
+  var target = typeof OffscreenCanvas === "function" ? new OffscreenCanvas(width, height) : cache.canvas;
+  target.width = width; target.height = height;
+  var saved = ctx, savedView = view;
+  ctx = target.getContext("2d");
+  // when the whole plan fits in the picture, centre it on the plan: panning never redraws
+  var whole = (B[2] - B[0]) * savedView.scale + 8 <= size[0] && (B[3] - B[1]) * savedView.scale + 8 <= size[1];
+  var cx = whole ? (B[0] + B[2]) / 2 : savedView.cx, cy = whole ? (B[1] + B[3]) / 2 : savedView.cy;
+  view = { cx: cx, cy: cy, scale: savedView.scale, width: size[0], height: size[1], ratio: r };
+  try { drawStatic(); } finally { ctx = saved; view = savedView; }
+  if (cache.image && cache.image.close) cache.image.close();
+  cache.image = target === cache.canvas ? cache.canvas : target.transferToImageBitmap();
+  cache.key = cacheKey(); cache.scale = view.scale; cache.cx = cx; cache.cy = cy; cache.whole = whole;
+  cache.w = size[0]; cache.h = size[1]; cache.ratio = r;
+}
+function drawStatic() {
+  var r = view.ratio, s = view.scale;
   ctx.setTransform(r, 0, 0, r, 0, 0);
-  ctx.lineCap = "butt"; ctx.lineJoin = "miter"; ctx.setLineDash([]);   // every frame starts alike
+  ctx.lineCap = "butt"; ctx.lineJoin = "miter"; ctx.setLineDash([]);   // every picture starts alike
   ctx.fillStyle = "#ffffff"; ctx.fillRect(0, 0, view.width, view.height);
-  var seen = visible();
+  var box = visible(), seen = { x0: box[0], y0: box[1], x1: box[2], y1: box[3], scale: s };
   // areas and lanes: Path2D in local metres under the view transform
   ctx.setTransform(r * s, 0, 0, -r * s, r * (view.width / 2 - view.cx * s), r * (view.height / 2 + view.cy * s));
   AREA_ORDER.forEach(function (role) {
@@ -328,26 +380,41 @@ function draw() {
     ctx.strokeStyle = VERMILLION; ctx.setLineDash([6 / s, 4 / s]); changeTiles.removed.each(seen, function (p) { ctx.stroke(p); });
     ctx.setLineDash([]); ctx.strokeStyle = GREEN; changeTiles.added.each(seen, function (p) { ctx.stroke(p); });
   }
-  if (route) {
-    ctx.lineWidth = 9 / s; ctx.strokeStyle = "rgba(0,0,0,0.55)"; strokeEdges(route.edges);
-    ctx.lineWidth = 5 / s; ctx.strokeStyle = YELLOW; strokeEdges(route.edges);
-  }
-  if (hovered && hovered.type === "edge") { ctx.lineWidth = 7 / s; ctx.strokeStyle = SKY; strokeEdges([hovered.index]); }
-  // symbols and text in CSS pixels
+  drawMarks();
+}
+
+// symbols and text, in CSS pixels: part of the cached picture
+function drawMarks() {
+  var r = view.ratio, s = view.scale;
   ctx.setTransform(r, 0, 0, r, 0, 0);
   var size = 14, dense = s < 2;
-  ["waypoint", "link", "end", "junction", "station"].forEach(function (kind) {
-    if (!layerOn("node-" + kind)) return;
-    if (dense && (kind === "waypoint" || kind === "link")) return;       // level of detail
-    var nodeSize = dense && kind !== "station" ? 9 : size;
-    for (var n = 0; n < nodeCount; n++) {
-      if (data.nodes[n][3] !== kind) continue;
-      var p = toScreen(nx_[n] - OX, ny_[n] - OY);
-      if (inView(p[0], p[1], 10)) symbol(kind === "station" ? "junction" : kind, p[0], p[1], nodeSize);
+  // nodes: one path per kind (a few draw calls, however many nodes); level of detail: lane
+  // ends and junctions shrink when zoomed out, waypoints and links show only when zoomed in
+  NODE_KINDS.forEach(function (kind) {
+    if (!layerOn("node-" + kind) || (dense && (kind === "waypoint" || kind === "link"))) return;
+    var radius = (kind === "junction" ? 0.36 : 0.28) * (dense ? 9 : size), list = nodesByKind[kind];
+    ctx.beginPath();
+    for (var k = 0; k < list.length; k++) {
+      var p = toScreen(nx_[list[k]] - OX, ny_[list[k]] - OY);
+      if (!inView(p[0], p[1], 10)) continue;
+      ctx.moveTo(p[0] + radius, p[1]); ctx.arc(p[0], p[1], radius, 0, 2 * Math.PI);
     }
+    var solid = kind === "junction" || kind === "station";
+    ctx.fillStyle = solid ? INK : "#ffffff"; ctx.strokeStyle = solid ? "#ffffff" : INK; ctx.lineWidth = dense ? 0.8 : 1.2;
+    ctx.fill(); ctx.stroke();
   });
   if (data.openings.length && layerOn("openings")) {
-    data.openings.forEach(function (o) { var p = toScreen(o.xy[0], o.xy[1]); if (inView(p[0], p[1], 10)) symbol(o.passable ? "opening" : "closed", p[0], p[1], size); });
+    data.openings.forEach(function (o) {
+      var p = toScreen(o.xy[0], o.xy[1]);
+      if (!inView(p[0], p[1], 40)) return;
+      if (o.line) {
+        var a = toScreen(o.line[0], o.line[1]), b = toScreen(o.line[2], o.line[3]);
+        ctx.beginPath(); ctx.moveTo(a[0], a[1]); ctx.lineTo(b[0], b[1]);
+        ctx.lineWidth = 5; ctx.strokeStyle = OPENING_COLOURS[o.kind] || ORANGE;
+        ctx.setLineDash(o.passable ? [] : [4, 3]); ctx.stroke(); ctx.setLineDash([]);
+      }
+      if (!o.line || s < 8) symbol(o.passable ? "opening" : "closed", p[0], p[1], o.passable ? 12 : size);
+    });
   }
   if (data.changes && layerOn("changes")) drawNodeChanges();
   if (layerOn("problems")) {
@@ -373,6 +440,31 @@ function draw() {
       if (inView(p[0], p[1], 100)) label(room.names.join(" / "), p[0], p[1], "#6b2a50");
     });
   }
+}
+
+function draw() {
+  scheduled = false;
+  var started = performance.now(), r = view.ratio, s = view.scale;
+  var state = cacheState();
+  if (state === "stale") renderCache();
+  else if (state === "scaled") {
+    clearTimeout(settleTimer);
+    settleTimer = setTimeout(function () { cache.key = null; request(); }, SETTLE_MS);
+  }
+  ctx.setTransform(r, 0, 0, r, 0, 0);
+  ctx.lineCap = "butt"; ctx.lineJoin = "miter"; ctx.setLineDash([]);
+  ctx.fillStyle = "#ffffff"; ctx.fillRect(0, 0, view.width, view.height);
+  var k = s / cache.scale, corner = toScreen(cache.cx - cache.w / 2 / cache.scale, cache.cy + cache.h / 2 / cache.scale);
+  if (state !== "scaled") corner = [Math.round(corner[0] * r) / r, Math.round(corner[1] * r) / r];
+  ctx.drawImage(cache.image, corner[0], corner[1], cache.w * k, cache.h * k);
+  ctx.setTransform(r * s, 0, 0, -r * s, r * (view.width / 2 - view.cx * s), r * (view.height / 2 + view.cy * s));
+  ctx.lineCap = "round"; ctx.lineJoin = "round";
+  if (route) {
+    ctx.lineWidth = 9 / s; ctx.strokeStyle = "rgba(0,0,0,0.55)"; strokeEdges(route.edges);
+    ctx.lineWidth = 5 / s; ctx.strokeStyle = YELLOW; strokeEdges(route.edges);
+  }
+  if (hovered && hovered.type === "edge") { ctx.lineWidth = 7 / s; ctx.strokeStyle = SKY; strokeEdges([hovered.index]); }
+  ctx.setTransform(r, 0, 0, r, 0, 0);
   routeEnds.forEach(function (n) { var p = toScreen(nx_[n] - OX, ny_[n] - OY); ring(p[0], p[1], 14, INK); });
   if (highlight) { var p = toScreen(highlight.x, highlight.y); ring(p[0], p[1], 22, VERMILLION); ring(p[0], p[1], 26, "#ffffff"); }
   if (hovered && hovered.type === "node") { p = toScreen(nx_[hovered.index] - OX, ny_[hovered.index] - OY); ring(p[0], p[1], 10, SKY); }
@@ -457,6 +549,12 @@ function pick(px, py) {
       if (d <= bestDistance) { bestDistance = d; best = { type: "node", index: n }; }
     });
   }
+  if (layerOn("openings")) {
+    data.openings.forEach(function (o, index) {
+      var d = Math.hypot(o.xy[0] - here[0], o.xy[1] - here[1]);
+      if (d <= bestDistance) { bestDistance = d; best = { type: "opening", index: index }; }
+    });
+  }
   if (best) return best;
   for (gx = a[0]; gx <= b[0]; gx++) for (gy = a[1]; gy <= b[1]; gy++) {
     (edgeCells.get(gx * CELLS + gy) || []).forEach(function (item) {
@@ -495,6 +593,10 @@ function describe(item) {
     var n = data.nodes[item.index];
     showDetails([["Node", n[0]], ["Kind", n[3]], ["Clearance", metres(n[5])], ["Label", n[4] || "none"],
                  ["Position", "x " + n[1].toFixed(3) + " m, y " + n[2].toFixed(3) + " m"]]);
+  } else if (item.type === "opening") {
+    var o = data.openings[item.index];
+    showDetails([["Opening", o.kind], ["Clear width", metres(o.width)], ["Robot may pass", o.passable ? "yes, if it fits" : "no"],
+                 ["In the outer wall", o.exterior ? "yes" : "no"], ["Position", "x " + (o.xy[0] + OX).toFixed(3) + " m, y " + (o.xy[1] + OY).toFixed(3) + " m"]]);
   } else if (item.type === "station") {
     var st = data.stations[item.index];
     showDetails([["Station", st[0]], ["Node", st[3] || "none"], ["Reachable", st[4] ? "yes" : "no"],
@@ -609,6 +711,12 @@ el("find").addEventListener("keydown", function (event) { if (event.key === "Ent
       return c;
     }, names[kind]);
   });
+  if (data.openings.length) {
+    Object.keys(OPENING_COLOURS).forEach(function (kind) {
+      row(function () { var s = document.createElement("span"); s.className = "key-line"; s.style.background = OPENING_COLOURS[kind]; return s; },
+          kind === "open" ? "open gap" : kind === "closed" ? "closed opening" : kind);
+    });
+  }
   row(function () { var s = document.createElement("span"); s.className = "key-line"; s.style.background = YELLOW; s.style.outline = "2px solid #555"; return s; }, "route");
 })();
 el("facts").textContent = [data.date, "Robot: " + data.robot, data.tool].join("  \u00b7  ");

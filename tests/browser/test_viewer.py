@@ -22,6 +22,7 @@ from clearway.cli import main
 from clearway.exporters import read_graphml, render_html
 from clearway.roadmap import shortest_route
 from tests.exporters.hall_fixture import HOSTILE, make_plan, make_roadmap
+from tests.exporters.rooms_fixture import plan_with_rooms_and_openings
 
 SAMPLES = Path(__file__).resolve().parents[2] / "sample_drawings"
 DOCS = Path(__file__).resolve().parents[2] / "docs"
@@ -240,3 +241,28 @@ def test_screenshot_of_the_sample_for_the_readme(centre, open_viewer, tmp_path):
         assert len(colours) > 50
     if os.environ.get("CLEARWAY_WRITE_DOCS"):
         shutil.copyfile(picture, DOCS / "viewer.png")
+
+
+def test_rooms_and_doors_are_layers_found_and_described(tmp_path, open_viewer):
+    plan = make_plan()
+    page = tmp_path / "roadmap.html"
+    page.write_bytes(render_html(plan_with_rooms_and_openings(plan), make_roadmap(plan),
+                                 date="undated"))
+    viewer = open_viewer(page)
+    shown = viewer.canvas_png()
+    viewer.page.uncheck("input[data-layer='rooms']")
+    assert _differs(shown, viewer.canvas_png()) > 1000         # a 6 m x 10 m room, tinted
+    viewer.page.check("input[data-layer='rooms']")
+    viewer.page.fill("#find", "Plant room")
+    viewer.page.press("#find", "Enter")
+    viewer.settle()
+    view = viewer.view()
+    # analytic: the plant room is the box 16..20 x 0..2; the page centres its corners' mean
+    assert (view["x"], view["y"]) == pytest.approx((18.0, 1.0), abs=1e-6)
+    viewer.page.click("#fit")
+    viewer.settle()
+    px, py = viewer.evaluate("([x, y]) => window.clearwayViewer.toScreen(x, y)", [-0.1, 5.0])
+    viewer.page.mouse.move(px, py)
+    details = viewer.page.inner_text("#details")
+    assert "door" in details and "1.20 m" in details and "yes, if it fits" in details
+    assert viewer.messages == []

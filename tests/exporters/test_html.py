@@ -15,6 +15,7 @@ from clearway.exporters import SAFETY_CAUTION, render_geojson, render_html
 from clearway.exporters.html import page_data, script_json
 from clearway.roadmap import compare_graphs
 from hall_fixture import HOSTILE, make_plan, make_roadmap
+from rooms_fixture import plan_with_rooms_and_openings
 
 
 class _Page(html.parser.HTMLParser):
@@ -170,3 +171,18 @@ def test_changes_layer_holds_the_revision_changes(plan, roadmap):
     assert [row[0] for row in data["changes"]["lanes_added"]] == ["e3"]
     assert data["changes"]["lanes_removed"] == []
     assert _data(render_html(plan, roadmap, date="undated"))["changes"] is None
+
+
+def test_rooms_and_openings_reach_the_page_when_present(plan, roadmap):
+    data = _data(render_html(plan_with_rooms_and_openings(plan), roadmap, date="undated"))
+    assert [room["names"] for room in data["rooms"]] == [["Goods in <A>"], ["Plant room"]]
+    # analytic: a 6 m x 10 m box has 60 m^2; the given area is kept as given
+    assert [room["area"] for room in data["rooms"]] == [60.0, 8.0]
+    (ring,), = data["rooms"][0]["polygons"]
+    assert sorted(zip(ring[::2], ring[1::2])) == [(0.0, 0.0), (0.0, 10.0), (6.0, 0.0), (6.0, 10.0)]
+    door, window = data["openings"]
+    assert (door["kind"], door["passable"], door["width"]) == ("door", True, 1.2)
+    assert (window["kind"], window["passable"]) == ("window", False)   # floorplan: windows close
+    assert door["line"] == [-0.1, 4.4, -0.1, 5.6]
+    plain = _data(render_html(plan, roadmap, date="undated"))
+    assert plain["rooms"] == [] and plain["openings"] == []
