@@ -17,7 +17,7 @@ from clearway.converter import read_floorplan
 from clearway.exporters import (check_anchor, render_dxf, render_geojson, render_graphml,
                                 render_report, render_svg, render_tables, summarize,
                                 write_outputs)
-from clearway.roadmap import Robot, build_roadmap, carry_ids_over, site_warnings
+from clearway.roadmap import ROBOT_KINDS, Robot, build_roadmap, carry_ids_over, site_warnings
 from clearway.cli_view import html_page
 
 
@@ -38,26 +38,55 @@ def _metres(name: str, value, *, allow_zero: bool = False) -> float | None:
     return number
 
 
-def _build_robot(config: dict, robot_radius, robot_size, margin):
+def _centre(value, name: str) -> tuple[float, float]:
+    """Parse a rotation centre offset 'FORWARD,LEFT' (or a config pair) in metres."""
+    parts = value.split(",") if isinstance(value, str) else list(value)
+    try:
+        forward, left = (float(part) for part in parts)
+    except (TypeError, ValueError):
+        raise InputError(f"{name} must be FORWARD,LEFT in metres (e.g. -0.5,0), "
+                         f"got {value!r}") from None
+    if not (math.isfinite(forward) and math.isfinite(left)):
+        raise InputError(f"{name} must be finite, got {value!r}")
+    return forward, left
+
+
+def _build_robot(config: dict, robot_radius, robot_size, margin, kind=None, centre=None,
+                 turn_radius=None, reverse=None):
     """The robot from the options, else from [robot] of the config file, else the defaults."""
     if robot_radius is not None and robot_size is not None:
         raise InputError("--robot-radius and --robot-size exclude each other; pass one")
     section = config.get("robot", {})
     margin = (_metres("--margin", margin, allow_zero=True) if margin is not None
               else _metres("[robot] margin", section.get("margin", 0.10), allow_zero=True))
+    motion = {"kind": kind or section.get("kind", "differential")}
+    if turn_radius is not None or "turn_radius" in section:
+        motion["turn_radius"] = (_metres("--turn-radius", turn_radius) if turn_radius is not None
+                                 else _metres("[robot] turn_radius", section["turn_radius"]))
+    motion["reverse"] = section.get("reverse", True) if reverse is None else reverse
+    offset = (_centre(centre, "--rotation-centre") if centre is not None else
+              _centre(section["centre_offset"], "[robot] centre_offset")
+              if "centre_offset" in section else None)
+    if offset is not None:
+        motion["centre"] = offset
     if robot_size is not None:
         parts = robot_size.lower().split("x")
         if len(parts) != 2:
             raise InputError(f"--robot-size must be LENGTHxWIDTH in metres (e.g. 1.0x0.6), "
                              f"got {robot_size!r}")
         return Robot.rectangle(_metres("--robot-size length", parts[0]),
-                               _metres("--robot-size width", parts[1]), margin=margin)
+                               _metres("--robot-size width", parts[1]), margin=margin,
+                               **motion)
     if robot_radius is None and "length" in section and "width" in section:
         return Robot.rectangle(_metres("[robot] length", section["length"]),
-                               _metres("[robot] width", section["width"]), margin=margin)
+                               _metres("[robot] width", section["width"]), margin=margin,
+                               **motion)
+    if offset is not None:
+        raise InputError("a rotation centre offset needs a rectangular robot (--robot-size)")
     if robot_radius is not None:
-        return Robot.disc(_metres("--robot-radius", robot_radius), margin=margin)
-    return Robot.disc(_metres("[robot] radius", section.get("radius", 0.35)), margin=margin)
+        return Robot.disc(_metres("--robot-radius", robot_radius), margin=margin, **motion)
+    return Robot.disc(_metres("[robot] radius", section.get("radius", 0.35)), margin=margin,
+                      **motion)
 
 
 def _parse_anchor(value: str | None):
@@ -139,10 +168,20 @@ def _sigterm_as_exit(command):
 @click.option("--robot-radius", metavar="M",
               help="Disc robot radius, metres [default 0.35, or [robot] radius].")
 @click.option("--robot-size", metavar="LxW",
-              help="Rectangular robot, length x width in metres; lanes are checked for its "
-                   "circumscribed radius.")
+              help="Rectangular robot, length x width in metres; lanes are kept where the "
+                   "body fits heading along them, turns are checked where it must turn.")
+@click.option("--robot-kind", type=click.Choice(list(ROBOT_KINDS)),
+              help="How the robot turns: differential (in place), car (arcs of at least "
+                   "--turn-radius), omni [default differential].")
+@click.option("--rotation-centre", metavar="FORWARD,LEFT",
+              help="Rotation centre (drive axle) of a rectangular robot as an offset from "
+                   "its centre, metres [default 0,0].")
+@click.option("--turn-radius", metavar="M",
+              help="Car robot: smallest turning radius of the rotation centre, metres.")
+@click.option("--reverse/--no-reverse", default=None,
+              help="Car robot: may it back up [default yes].")
 @click.option("--margin", metavar="M",
-              help="Safety margin added to the radius, metres [default 0.10].")
+              help="Safety margin kept around the robot's body, metres [default 0.10].")
 @click.option("--comfort-clearance", metavar="M",
               help="Lanes with less clearance are reported as pinch points, metres "
                    "[default: required clearance + 0.2 m].")
@@ -164,8 +203,9 @@ def _sigterm_as_exit(command):
               help="Exit 1 (after writing) when a station is unreachable or free space leaks.")
 @click.option("-q", "--quiet", is_flag=True, help="Print only errors.")
 @_sigterm_as_exit
-def build(drawing, outdir, robot_radius, robot_size, margin, comfort_clearance, anchor,
-          previous, no_html, with_dxf, with_csv, strict, quiet, **options):
+def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre, turn_radius,
+          reverse, margin, comfort_clearance, anchor, previous, no_html, with_dxf, with_csv,
+          strict, quiet, **options):
     """Build the lane graph of DRAWING into OUTDIR.
 
     Writes roadmap.graphml, roadmap.geojson, roadmap.svg, report.json and roadmap.html (the
@@ -180,7 +220,8 @@ def build(drawing, outdir, robot_radius, robot_size, margin, comfort_clearance, 
 
     try:
         config = load_config(options.get("config"))
-        robot = _build_robot(config, robot_radius, robot_size, margin)
+        robot = _build_robot(config, robot_radius, robot_size, margin, robot_kind,
+                             rotation_centre, turn_radius, reverse)
         checks = config.get("checks", {})
         comfort = (_metres("--comfort-clearance", comfort_clearance)
                    if comfort_clearance is not None

@@ -19,6 +19,11 @@
     [robot]
     radius = 0.35                 # or: length = 1.0, width = 0.6
     margin = 0.10
+    kind = "differential"         # or "car" (needs turn_radius) or "omni"
+    centre_offset = [0.0, 0.0]    # rotation centre from the rectangle's centre, metres
+                                  # (forward, left); a tugger's rear axle: [-0.5, 0.0]
+    turn_radius = 2.0             # car: smallest turning radius of the rotation centre, m
+    reverse = true                # car: may it back up
 
     [checks]
     comfort_clearance = 0.6       # metres; pinch points below it
@@ -58,7 +63,8 @@ SCHEMA: dict[str, dict[str, type | tuple[type, ...]]] = {
                 "max_wall_thickness": (int, float), "nominal_wall_thickness": (int, float),
                 "label_radius": (int, float)},
     "robot": {"radius": (int, float), "length": (int, float), "width": (int, float),
-              "margin": (int, float)},
+              "margin": (int, float), "kind": str, "centre_offset": list,
+              "turn_radius": (int, float), "reverse": bool},
     "checks": {"comfort_clearance": (int, float), "personnel_clearance": (int, float),
                "low_clearance_penalty": (int, float)},
     "limits": _limit_types(),
@@ -93,9 +99,15 @@ def load_config(path: str | Path | None) -> dict[str, dict[str, Any]]:
             expected = SCHEMA[section].get(key)
             if expected is None:
                 raise ConfigError(f"{path}: unknown key {key!r} in [{section}]")
-            if not isinstance(value, expected) or isinstance(value, bool):
+            if not isinstance(value, expected) or (isinstance(value, bool)
+                                                   and expected is not bool):
                 raise ConfigError(f"{path}: [{section}] {key} has the wrong type: {value!r}")
-            if expected is list and not all(isinstance(item, str) for item in value):
+            if section == "layers" and not all(isinstance(item, str) for item in value):
                 raise ConfigError(f"{path}: [{section}] {key} must be a list of strings")
+            if key == "centre_offset" and not (len(value) == 2 and all(
+                    isinstance(item, (int, float)) and not isinstance(item, bool)
+                    for item in value)):
+                raise ConfigError(f"{path}: [{section}] {key} must be two numbers "
+                                  "[forward, left] in metres")
             config[section][key] = value
     return config

@@ -50,6 +50,12 @@ KEYS = (
     ("edge", "length", "double"),
     ("edge", "weight", "double"),
 )
+#: Keys written only when the graph carries them: a rectangular or car robot's body checks.
+BODY_KEYS = (
+    ("node", "reverse_only", "boolean"),
+    ("node", "turns", "string"),
+    ("edge", "clearance_body", "double"),
+)
 _PREFIX = {"graph": "g", "node": "n", "edge": "e"}
 
 
@@ -58,6 +64,8 @@ def _key_id(domain: str, name: str) -> str:
 
 
 def _text(value: object, kind: str) -> str:
+    if kind == "boolean":
+        return "true" if value else "false"
     return exact_float(value) if kind == "double" else xml_text(value)
 
 
@@ -127,11 +135,15 @@ def render_graphml(plan, roadmap) -> bytes:
         "robot_radius": robot.radius, "margin": robot.margin, "clearance": robot.clearance,
         "tool_version": TOOL_VERSION,
     }
-    types = {(domain, name): kind for domain, name, kind in KEYS}
+    body = [(domain, name, kind) for domain, name, kind in BODY_KEYS
+            if any(name in attrs for *_, attrs in (graph.nodes(data=True) if domain == "node"
+                                                  else graph.edges(data=True)))]
+    keys = sorted(KEYS + tuple(body), key=lambda key: ("gne".index(key[0][0]), key[1]))
+    types = {(domain, name): kind for domain, name, kind in keys}
 
     root = etree.Element(_Q + "graphml", nsmap={None: GRAPHML_NS, "xsi": _XSI_NS})
     root.set(f"{{{_XSI_NS}}}schemaLocation", _SCHEMA_LOCATION)
-    for domain, name, kind in KEYS:
+    for domain, name, kind in keys:
         etree.SubElement(root, _Q + "key", {"id": _key_id(domain, name), "for": domain,
                                        "attr.name": name, "attr.type": kind})
     element = etree.SubElement(root, _Q + "graph", {"id": "roadmap", "edgedefault": "undirected"})
@@ -146,12 +158,16 @@ def render_graphml(plan, roadmap) -> bytes:
         attrs = graph.nodes[node_id]
         node = etree.SubElement(element, _Q + "node", {"id": xml_text(node_id)})
         add_data(node, "node", {name: attrs[name] for name in ("x", "y", "clearance", "kind")}
-                 | {"label": attrs.get("label", "")})
+                 | {"label": attrs.get("label", "")}
+                 | {name: attrs[name] for domain, name, _ in body
+                    if domain == "node" and name in attrs})
     for edge_id, source, target, attrs, coords in oriented_edges(graph):
         edge = etree.SubElement(element, _Q + "edge", {"id": xml_text(edge_id),
                                                   "source": xml_text(source),
                                                   "target": xml_text(target)})
         add_data(edge, "edge", {name: attrs[name] for name in
                                 ("length", "weight", "clearance_min")}
-                 | {"geometry": linestring_wkt(coords)})
+                 | {"geometry": linestring_wkt(coords)}
+                 | {name: attrs[name] for domain, name, _ in body
+                    if domain == "edge" and name in attrs})
     return etree.tostring(root, xml_declaration=True, encoding="UTF-8", pretty_print=True)

@@ -21,11 +21,27 @@ def _robot(robot) -> dict:
         shape, note = "disc", "radius as given"
     else:
         shape = "rectangle"
-        note = (f"circumscribed radius of the {robot.length:g} m x {robot.width:g} m "
-                "footprint, hypot(length, width) / 2; lanes are checked for this disc")
-    return {"shape": shape, "radius": robot.radius, "margin": robot.margin,
-            "clearance": robot.clearance, "length": robot.length, "width": robot.width,
-            "note": note}
+        note = (f"{robot.length:g} m x {robot.width:g} m footprint heading along the lanes: "
+                "lanes need half its width (plus the rotation centre's sideways offset) plus "
+                "the margin; the swept footprint is checked on bends and at lane ends; radius "
+                "is the circumscribed radius, hypot(length, width) / 2")
+    entry = {"shape": shape, "radius": robot.radius, "margin": robot.margin,
+             "clearance": robot.clearance, "length": robot.length, "width": robot.width,
+             "note": note}
+    if robot.has_body:
+        entry.update(kind=robot.kind, centre_offset=list(robot.centre),
+                     swing_radius=robot.swing, turn_radius=robot.turn_radius or None,
+                     reverse=robot.reverse)
+    return entry
+
+
+def _shortfall(item) -> dict:
+    """One lane, link or turn the body cannot manage, with what is short."""
+    return {"what": item.what, "x": float(item.x), "y": float(item.y),
+            "node": json_text(item.node) or None,
+            "edges": [json_text(edge) for edge in item.edges],
+            "needs": float(item.needs), "has": finite_or_none(item.has),
+            "note": json_text(item.note)}
 
 
 def _components(graph) -> list[list[str]]:
@@ -90,7 +106,12 @@ def summarize(plan, roadmap) -> dict:
         "warnings": [json_text(w) for w in (*plan.warnings, *findings.warnings)],
         "repairs": [json_text(notice) for notice in plan.repairs],
         "caution": SAFETY_CAUTION,
-    }
+    } | ({"body": {
+        "lanes": [_shortfall(s) for s in findings.body if s.what in ("lane", "link")],
+        "turns": [_shortfall(s) for s in findings.body if s.what in ("turn", "turn round")],
+        "reverse_only": sorted((json_text(node) for node, flag in
+                                graph.nodes(data="reverse_only") if flag), key=natural_key),
+    }} if roadmap.robot.has_body else {})
 
 
 def render_report(plan, roadmap) -> bytes:

@@ -67,8 +67,9 @@ def _summary_lines(plan, roadmap, date: str) -> list[str]:
     if robot.length is None:
         body = f"disc, radius {robot.radius:.2f} m"
     else:
-        body = (f"{robot.length:.2f} m x {robot.width:.2f} m "
-                f"(circumscribed radius {robot.radius:.2f} m)")
+        body = (f"{robot.length:.2f} m x {robot.width:.2f} m {robot.kind}"
+                + (f", turn radius {robot.turn_radius:.2f} m" if robot.kind == "car" else "")
+                + f" (swing radius {robot.swing:.2f} m)")
     lane_length = sum(float(d["length"]) for _, _, d in graph.edges(data=True))
     junctions = sum(1 for _, d in graph.nodes(data=True) if d.get("kind") == "junction")
     reached = sum(1 for s in findings.stations if s.reachable)

@@ -5,12 +5,14 @@ from clearway.roadmap.compare import (GraphChanges, compare_graphs, site_warning
                                       summarize_changes)
 from clearway.roadmap.ids import SAME_PLACE_TOLERANCE, assign_stable_ids, carry_ids_over
 from clearway.roadmap.gvd import MedialAxis, generalized_voronoi, medial_axis
-from clearway.roadmap.model import (NODE_KINDS, Findings, NarrowPassage, PersonnelFlag, PinchPoint,
+from clearway.roadmap.model import (NODE_KINDS, ROBOT_KINDS, BodyShortfall, Findings, NarrowPassage, PersonnelFlag, PinchPoint,
                            Robot, Roadmap, StationResult)
 from clearway.roadmap.routing import (ROUTE_METHODS, Route, distance_matrix, resolve_node,
                              shortest_route)
 
 __all__ = [
+    "BodyShortfall",
+    "ROBOT_KINDS",
     "Findings",
     "MedialAxis",
     "NODE_KINDS",

@@ -16,7 +16,9 @@ from clearway.roadmap.graph import (_adjacency, chain_lanes, contract_short_edge
 from clearway.roadmap.clearance import clearance_field
 from clearway.roadmap.inflate import (boundary_segments, drivable_region, inflate_obstacles,
                              local_offset, polygon_parts, polylines, to_drawing, to_local)
-from clearway.roadmap.model import Robot, Roadmap
+from clearway.roadmap.body import fit_edges, fit_lanes
+from clearway.roadmap.model import BodyShortfall, Robot, Roadmap
+from clearway.roadmap.turns import check_turns
 from clearway.roadmap.lanes import assemble_graph, refine_lanes
 from clearway.roadmap.stations import (REASON_NO_LANE, REASON_NO_LINK, Attachment, link_stations,
                               station_regions)
@@ -65,7 +67,10 @@ def _fragments(vertices, clearance, edges, regions, field, c):
     return vertices, clearance, edges, keep, warnings
 
 
-def _lanes(vertices, clearance, edges, isolated, c, field):
+def _lanes(vertices, clearance, edges, isolated, c, field, robot):
+    """Lanes as (geometry, ends, isolated, vertices, shortfalls); a rectangular body keeps
+    only the lanes it can drive heading along them (dead ends cut back, on a copy of
+    `vertices`)."""
     chains = chain_lanes(len(vertices), edges)
     sequences, _ = split_loops(chains, vertices)
     lines = refine_lanes([vertices[seq] for seq in sequences], field, below=c + 0.02)
@@ -74,7 +79,11 @@ def _lanes(vertices, clearance, edges, isolated, c, field):
         wide = np.array([clearance[seq].min() >= c + 2 * SIMPLIFY for seq in sequences])
         geometry[wide] = shapely.simplify(geometry[wide], SIMPLIFY, preserve_topology=False)
     ends = [(int(seq[0]), int(seq[-1])) for seq in sequences]
-    return geometry, ends, [int(v) for v in isolated]
+    short = []
+    if robot.length is not None:
+        vertices = vertices.copy()
+        geometry, ends, short = fit_lanes(robot, field, geometry, ends, vertices)
+    return geometry, ends, [int(v) for v in isolated], vertices, short
 
 
 def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequence[tuple],
@@ -153,8 +162,9 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
     alone = np.flatnonzero(keep & (np.bincount(edges.ravel(), minlength=len(vertices)) == 0))
     kept, isolated = prune_spurs(vertices, clearance, edges)
     isolated = np.union1d(isolated, alone)
-    lines, ends, isolated = _lanes(vertices, clearance, kept, isolated, c, field)
-    lane_region = station_regions(vertices[[a for a, _ in ends]], regions)
+    lines, ends, isolated, lane_vertices, short = _lanes(vertices, clearance, kept, isolated,
+                                                         c, field, robot)
+    lane_region = station_regions(lane_vertices[[a for a, _ in ends]], regions)
 
     report("stations")
     labels = [str(s[0]) for s in stations]
@@ -180,16 +190,27 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
         if protected.any():
             kept, isolated = prune_spurs(vertices, clearance, edges, protected=protected)
             isolated = np.union1d(isolated, alone)
-            lines, ends, isolated = _lanes(vertices, clearance, kept, isolated, c, field)
-            lane_region = station_regions(vertices[[a for a, _ in ends]], regions)
+            lines, ends, isolated, lane_vertices, short = _lanes(
+                vertices, clearance, kept, isolated, c, field, robot)
+            lane_region = station_regions(lane_vertices[[a for a, _ in ends]], regions)
             joins = link_stations(station_xy, lines, lane_region, regions, field, local, c)
 
     report("checks")
-    graph, samples, station_nodes = assemble_graph(lines, ends, vertices, isolated, station_xy,
-                                                   labels, joins, field, offset,
+    graph, samples, station_nodes = assemble_graph(lines, ends, lane_vertices, isolated,
+                                                   station_xy, labels, joins, field, offset,
                                                    refine_below=comfort)
     graph.graph.update(units="m", robot_radius=float(robot.radius),
                        margin=float(robot.margin), clearance=c)
+    body = []
+    if robot.has_body:
+        body = [BodyShortfall("lane", s.x + offset[0], s.y + offset[1], robot.margin, s.gap,
+                              note=f"needs {robot.margin:.2f} m beside the body, has "
+                                   f"{max(s.gap, 0.0):.2f} m; lane dropped")
+                for s in short]
+        samples, joins, links = fit_edges(robot, field, graph, samples, joins, station_nodes,
+                                          offset)
+        body += links
+        body += check_turns(robot, field, graph, offset)
     drawn = station_xy + np.asarray(offset)
     findings = checks.run_checks(graph, samples, joins, labels, station_nodes, drawn, axis,
                                  c, comfort,
@@ -198,6 +219,6 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
                                  low_clearance_penalty=low_clearance_penalty,
                                  regions=regions, region_of_station=station_regions(
                                      station_xy, regions), offset=offset,
-                                 warnings=tuple(warnings))
+                                 warnings=tuple(warnings), body=body)
     return Roadmap(graph=graph, robot=robot, inflated=inflated,
                    drivable=to_drawing(drivable, offset), findings=findings)

@@ -162,7 +162,7 @@ def personnel_flags(samples, shared_zones, offset, *, half_width: float,
 def run_checks(graph: nx.MultiGraph, samples, joins, labels, station_nodes, station_xy, axis,
                clearance: float, comfort: float, *, robot, shared_zones,
                personnel_clearance: float, low_clearance_penalty: float, regions,
-               region_of_station, offset, warnings=()) -> Findings:
+               region_of_station, offset, warnings=(), body=()) -> Findings:
     """Weigh the edges and collect every finding (see the module docstring)."""
     for _, _, data in graph.edges(data=True):
         penalty = low_clearance_penalty if data["clearance_min"] < comfort else 0.0
@@ -219,7 +219,8 @@ def run_checks(graph: nx.MultiGraph, samples, joins, labels, station_nodes, stat
         personnel=tuple(personnel_flags(samples, shared_zones, offset,
                                         half_width=robot.half_width,
                                         required=personnel_clearance)),
-        warnings=tuple(warnings), personnel_clearance=float(personnel_clearance))
+        body=tuple(body), warnings=tuple(warnings),
+        personnel_clearance=float(personnel_clearance))
 
 
 def _bottleneck(passages, region, targets):

@@ -26,6 +26,7 @@ from scipy.sparse.csgraph import connected_components
 from scipy.spatial import cKDTree
 
 from clearway.roadmap.model import Roadmap
+from clearway.roadmap.turns import pair_text, parse_turns
 
 _NUMBERED = re.compile(r"^([A-Za-z_]*)(\d+)$")
 
@@ -180,10 +181,20 @@ def assign_stable_ids(new_graph: nx.MultiGraph, previous_graph: nx.MultiGraph, *
     return _relabel(new_graph, nodes, edges)
 
 
+def _renamed_turns(attrs: dict, edges: dict) -> dict:
+    """A node's attributes with the edge ids in its ``turns`` pairs renamed."""
+    attrs = dict(attrs)
+    if attrs.get("turns"):
+        attrs["turns"] = pair_text({(edges.get(a, a), edges.get(b, b)) for a, b in
+                                    parse_turns(attrs["turns"])})
+    return attrs
+
+
 def _relabel(graph: nx.MultiGraph, nodes: dict, edges: dict) -> nx.MultiGraph:
     result = nx.MultiGraph()
     result.graph.update(graph.graph)
-    result.add_nodes_from((nodes[node], dict(attrs)) for node, attrs in graph.nodes(data=True))
+    result.add_nodes_from((nodes[node], _renamed_turns(attrs, edges))
+                          for node, attrs in graph.nodes(data=True))
     result.add_edges_from((nodes[u], nodes[v], edges[key], dict(attrs))
                           for u, v, key, attrs in graph.edges(keys=True, data=True))
     return result
@@ -203,7 +214,10 @@ def carry_ids_over(roadmap: Roadmap, previous_graph: nx.MultiGraph, *,
         stations=tuple(replace(s, node=nodes.get(s.node, s.node)) for s in findings.stations),
         pinch_points=tuple(replace(p, edge=edges.get(p.edge, p.edge))
                            for p in findings.pinch_points),
-        personnel=tuple(replace(p, edge=edges.get(p.edge, p.edge)) for p in findings.personnel))
+        personnel=tuple(replace(p, edge=edges.get(p.edge, p.edge)) for p in findings.personnel),
+        body=tuple(replace(b, node=nodes.get(b.node, b.node),
+                           edges=tuple(edges.get(e, e) for e in b.edges))
+                   for b in findings.body))
     return replace(roadmap, graph=_relabel(roadmap.graph, nodes, edges), findings=findings)
 
 

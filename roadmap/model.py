@@ -12,47 +12,114 @@ from shapely.geometry.base import BaseGeometry
 NODE_KINDS = ("junction", "end", "station", "link", "waypoint")
 
 
+#: How a robot changes heading: turns in place, steers like a car, or moves in any direction.
+ROBOT_KINDS = ("differential", "car", "omni")
+
+
+def _check_length(name: str, value: float, *, zero: bool = False) -> float:
+    if not (math.isfinite(value) and (value >= 0 if zero else value > 0)):
+        raise ValueError(f"robot {name} must be {'>=' if zero else '>'} 0 m, got {value}")
+    return float(value)
+
+
 @dataclass(frozen=True)
 class Robot:
-    """The robot's footprint and the safety margin, metres.
+    """The robot's footprint, how it turns, and the safety margin; lengths in metres.
 
-    A disc robot has ``length = width = None``. A rectangular robot is inflated by its
-    circumscribed radius ``hypot(length, width) / 2`` (stated in the report).
+    A disc robot has ``length = width = None``. A rectangular robot has a length (along its
+    heading) and a width; ``centre`` is its rotation centre (the point that follows the
+    lane: the middle of the drive axle, a tugger's rear axle) as (forward, left) offsets
+    from the rectangle's centre. ``kind`` is one of ROBOT_KINDS: "differential" turns in
+    place about ``centre``, "car" drives arcs of radius >= ``turn_radius`` (measured at
+    ``centre``) and may back up when ``reverse``, "omni" may move in any direction and turns
+    in place about the rectangle's centre.
+
+    The lanes are kept where the body fits heading along them: ``clearance`` is the side
+    clearance the lane needs, half the width (plus the rotation centre's sideways offset)
+    plus the margin; for a disc it is radius + margin. ``radius`` of a rectangle is the
+    circumscribed radius ``hypot(length, width) / 2`` (reported, not used for lanes).
     """
 
     radius: float
     margin: float
     length: float | None = None
     width: float | None = None
+    kind: str = "differential"
+    centre: tuple[float, float] = (0.0, 0.0)
+    turn_radius: float = 0.0
+    reverse: bool = True
+
+    def __post_init__(self) -> None:
+        if self.kind not in ROBOT_KINDS:
+            raise ValueError(f"robot kind must be one of {', '.join(ROBOT_KINDS)}, "
+                             f"got {self.kind!r}")
+        if self.kind == "car":
+            _check_length("turn radius", self.turn_radius)
+        elif self.turn_radius:
+            raise ValueError(f"a turn radius is for a car robot, not {self.kind!r}")
+        if self.centre != (0.0, 0.0):
+            if self.length is None or self.kind == "omni":
+                raise ValueError(f"a {'disc' if self.length is None else 'omni'} robot "
+                                 "turns about its centre; give no offset")
+            forward, left = self.centre
+            if not (abs(forward) <= self.length / 2 and abs(left) <= self.width / 2):
+                raise ValueError(f"rotation centre ({forward}, {left}) m lies outside the "
+                                 f"{self.length:g} m x {self.width:g} m footprint")
 
     @classmethod
-    def disc(cls, radius: float, *, margin: float) -> "Robot":
+    def disc(cls, radius: float, *, margin: float, kind: str = "differential",
+             turn_radius: float = 0.0, reverse: bool = True) -> "Robot":
         if not (math.isfinite(radius) and radius > 0):
             raise ValueError(f"robot radius must be > 0 m, got {radius}")
         if not (math.isfinite(margin) and margin >= 0):
             raise ValueError(f"margin must be >= 0 m, got {margin}")
-        return cls(radius=float(radius), margin=float(margin))
+        return cls(radius=float(radius), margin=float(margin), kind=kind,
+                   turn_radius=float(turn_radius), reverse=bool(reverse))
 
     @classmethod
-    def rectangle(cls, length: float, width: float, *, margin: float) -> "Robot":
+    def rectangle(cls, length: float, width: float, *, margin: float,
+                  kind: str = "differential", centre: tuple[float, float] = (0.0, 0.0),
+                  turn_radius: float = 0.0, reverse: bool = True) -> "Robot":
         for name, value in (("length", length), ("width", width)):
             if not (math.isfinite(value) and value > 0):
                 raise ValueError(f"robot {name} must be > 0 m, got {value}")
         if not (math.isfinite(margin) and margin >= 0):
             raise ValueError(f"margin must be >= 0 m, got {margin}")
+        forward, left = (float(value) for value in centre)
+        if not (math.isfinite(forward) and math.isfinite(left)):
+            raise ValueError(f"rotation centre must be finite, got {centre}")
         return cls(radius=math.hypot(length, width) / 2, margin=float(margin),
-                   length=float(length), width=float(width))
+                   length=float(length), width=float(width), kind=kind,
+                   centre=(forward, left), turn_radius=float(turn_radius),
+                   reverse=bool(reverse))
 
     @property
     def clearance(self) -> float:
-        """Required clearance c = radius + margin, metres."""
-        return self.radius + self.margin
+        """Required lane clearance c, metres: radius + margin, or for a rectangle heading
+        along the lane half its width + the rotation centre's sideways offset + margin."""
+        if self.length is None:
+            return self.radius + self.margin
+        return self.width / 2 + abs(self.centre[1]) + self.margin
 
     @property
     def half_width(self) -> float:
         """Half the robot's width across its direction of travel, metres."""
         return self.width / 2 if self.width is not None else self.radius
 
+    @property
+    def swing(self) -> float:
+        """Radius of the circle the body sweeps turning in place about its rotation
+        centre, metres."""
+        if self.length is None:
+            return self.radius
+        forward, left = self.centre
+        return math.hypot(self.length / 2 + abs(forward), self.width / 2 + abs(left))
+
+    @property
+    def has_body(self) -> bool:
+        """True when lanes and turns need the body checks (a rectangle, or a car); a disc
+        turning in place is fully described by its clearance."""
+        return self.length is not None or self.kind == "car"
 
 @dataclass(frozen=True)
 class StationResult:
@@ -98,6 +165,27 @@ class PersonnelFlag:
 
 
 @dataclass(frozen=True)
+class BodyShortfall:
+    """A lane the robot's body cannot drive heading along it, or a turn it cannot make.
+
+    what : "lane" (dropped or cut back), "link" (a station's approach), "turn" (between
+        two edges at a node) or "turn round" (at a dead end)
+    needs, has : metres; for lanes the clear distance beside the body (the margin) and the
+        smallest found; for turns the clear radius needed about the turning point and the
+        clearance there
+    """
+
+    what: str
+    x: float
+    y: float
+    needs: float
+    has: float
+    edges: tuple[str, ...] = ()
+    node: str = ""
+    note: str = ""           # what is short, one line
+
+
+@dataclass(frozen=True)
 class Findings:
     stations: tuple[StationResult, ...] = ()
     components: tuple[tuple[str, ...], ...] = ()          # station labels per graph component
@@ -105,6 +193,7 @@ class Findings:
     pinch_points: tuple[PinchPoint, ...] = ()
     narrow_passages: tuple[NarrowPassage, ...] = ()
     personnel: tuple[PersonnelFlag, ...] = ()
+    body: tuple[BodyShortfall, ...] = ()
     warnings: tuple[str, ...] = ()
     personnel_clearance: float | None = None   # the side clearance required, metres
 

@@ -1,0 +1,342 @@
+"""The robot's body along the lanes: swept footprints, side clearance, trimmed dead ends.
+
+A rectangular robot drives a lane with its rotation centre on the lane and its heading along
+the lane's tangent. A lane polyline is driven as straight moves along its segments and
+turns in place at its vertices (the Voronoi lanes are dense where they bend, so this follows
+a smooth bend to within the polyline's own deviation from it).
+
+The swept area of each move is covered by convex hulls of footprints:
+
+- a straight move sweeps exactly the convex hull of the footprints at its two ends (the
+  Minkowski sum of a convex shape and a segment);
+- a turn in place is split into steps of at most MAX_STEP_ANGLE; the hull of the footprints
+  at both ends of a step misses only the sagitta of the arcs the corners travel,
+  ``swing * (1 - cos(step / 2))``, at most 0.32 mm for a 1 m swing radius.
+
+A move is passable when its hull keeps at least the margin from every obstacle (distance to
+the free space's boundary, exact through shapely/GEOS), i.e. the footprint grown by the
+margin stays clear. The hull's distance is the body's side clearance, ``clearance_body``.
+A disc robot's footprint is its centre point grown by radius + margin.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import shapely
+
+from clearway.roadmap.inflate import polylines
+from clearway.roadmap.lanes import EdgeSamples
+from clearway.roadmap.model import BodyShortfall, Robot
+
+#: Largest heading change covered by one hull, radians (about 2.9 degrees).
+MAX_STEP_ANGLE = 0.05
+#: Bisection steps when trimming a dead end back to where the body fits (2**-20 of a move).
+TRIM_STEPS = 20
+#: Trimmed lanes shorter than this are dropped, metres.
+MIN_LANE = 0.05
+
+
+def core(robot: Robot) -> tuple[np.ndarray, float]:
+    """Return the footprint's core points in the body frame and how far it is grown.
+
+    Returns
+    -------
+    points : (K, 2) float ndarray, metres; x forward, y left, origin the rotation centre
+    grow : float, metres; the footprint is the convex hull of `points` grown by `grow`
+        minus the margin (so the clear distance needed from `points`' hull is `grow`)
+    """
+    if robot.length is None:
+        return np.zeros((1, 2)), robot.radius + robot.margin
+    forward, left = robot.centre
+    half_l, half_w = robot.length / 2, robot.width / 2
+    corners = np.array([[half_l, half_w], [-half_l, half_w], [-half_l, -half_w],
+                        [half_l, -half_w]]) - np.array([forward, left])
+    return corners, robot.margin
+
+
+def place(points: np.ndarray, xy: np.ndarray, heading: np.ndarray) -> np.ndarray:
+    """Body-frame `points` (K, 2) at poses `xy` (N, 2), `heading` (N,) rad -> (N, K, 2)."""
+    cos, sin = np.cos(heading)[:, None], np.sin(heading)[:, None]
+    x, y = points[:, 0][None], points[:, 1][None]
+    return np.stack([xy[:, :1] + cos * x - sin * y, xy[:, 1:] + sin * x + cos * y], axis=-1)
+
+
+def hulls(robot: Robot, a_xy, a_heading, b_xy, b_heading) -> np.ndarray:
+    """Convex hulls of the footprint cores at pose pairs a, b: (N,) shapely geometries."""
+    points, _ = core(robot)
+    both = np.concatenate([place(points, np.asarray(a_xy, float).reshape(-1, 2),
+                                 np.asarray(a_heading, float).ravel()),
+                           place(points, np.asarray(b_xy, float).reshape(-1, 2),
+                                 np.asarray(b_heading, float).ravel())], axis=1)
+    count = len(both)
+    if count == 0:
+        return np.empty(0, dtype=object)
+    return shapely.convex_hull(shapely.multipoints(
+        both.reshape(-1, 2), indices=np.repeat(np.arange(count), both.shape[1])))
+
+
+def gaps(field, geometry) -> np.ndarray:
+    """Exact distance from each geometry to the free space's boundary, metres, shape (N,)."""
+    if len(geometry) == 0:
+        return np.zeros(0)
+    found, distance = field.tree.query_nearest(geometry, return_distance=True,
+                                               all_matches=False)
+    result = np.full(len(geometry), np.inf)
+    result[found[0]] = distance
+    return result
+
+
+def contact(robot: Robot, field, driven: "Moves", move: int) -> np.ndarray:
+    """Where the body of one move comes nearest an obstacle: the obstacle's point, (2,)."""
+    hull = hulls(robot, driven.a_xy[move], driven.a_heading[move], driven.b_xy[move],
+                 driven.b_heading[move])[0]
+    nearest = field.tree.query_nearest(hull, all_matches=False)[0]
+    line = shapely.shortest_line(hull, field.tree.geometries[nearest])
+    return shapely.get_coordinates(line)[-1]
+
+
+def angle_between(a, b):
+    """Signed heading change from `a` to `b`, radians in (-pi, pi]."""
+    return -((np.pi - (np.asarray(b) - np.asarray(a))) % (2 * np.pi) - np.pi)
+
+
+@dataclass(frozen=True)
+class Moves:
+    """The moves of driving polylines: straight moves and turn steps, as pose pairs.
+
+    a_xy, b_xy : (M, 2) float; a_heading, b_heading : (M,) float, radians
+    owner : (M,) int, the polyline of each move; at : (M,) float, distance along it, metres
+    """
+
+    a_xy: np.ndarray
+    a_heading: np.ndarray
+    b_xy: np.ndarray
+    b_heading: np.ndarray
+    owner: np.ndarray
+    at: np.ndarray
+
+
+def moves(lines: list[np.ndarray]) -> Moves:
+    """Split each polyline (n_i, 2) into straight moves and turn steps, in driving order."""
+    counts = [len(c) for c in lines]
+    if sum(counts) == 0:
+        empty = np.zeros((0, 2))
+        return Moves(empty, np.zeros(0), empty, np.zeros(0), np.zeros(0, np.int64),
+                     np.zeros(0))
+    xy = np.concatenate([np.asarray(c, float).reshape(-1, 2) for c in lines])
+    owner = np.repeat(np.arange(len(lines)), counts)
+    same = owner[1:] == owner[:-1]
+    keep = np.r_[True, ~same | (np.hypot(*np.diff(xy, axis=0).T) > 1e-9)]
+    xy, owner = xy[keep], owner[keep]
+    segment = np.flatnonzero(owner[1:] == owner[:-1])        # move from xy[k] to xy[k + 1]
+    step = xy[segment + 1] - xy[segment]
+    heading = np.arctan2(step[:, 1], step[:, 0])
+    length = np.hypot(*step.T)
+    first = np.r_[True, owner[segment[1:]] != owner[segment[:-1]]]
+    run = np.cumsum(length)
+    base = np.maximum.accumulate(np.where(first, run - length, 0.0))
+    along = run - length - base                               # where each move starts
+    # turn at the vertex between consecutive moves of one polyline
+    joint = np.flatnonzero(~first[1:])
+    turn = angle_between(heading[joint], heading[joint + 1])
+    pieces = np.maximum(1, np.ceil(np.abs(turn) / MAX_STEP_ANGLE)).astype(np.int64)
+    which = np.repeat(np.arange(len(joint)), pieces)
+    rank = np.arange(len(which)) - np.repeat(np.cumsum(pieces) - pieces, pieces)
+    start_angle = heading[joint][which] + turn[which] * rank / pieces[which]
+    end_angle = heading[joint][which] + turn[which] * (rank + 1) / pieces[which]
+    pivot = xy[segment[joint + 1]][which]
+    a_xy = np.vstack([xy[segment], pivot])
+    b_xy = np.vstack([xy[segment + 1], pivot])
+    a_heading = np.r_[heading, start_angle]
+    b_heading = np.r_[heading, end_angle]
+    move_owner = np.r_[owner[segment], owner[segment[joint + 1]][which]]
+    at = np.r_[along, along[joint + 1][which]]
+    sub = np.r_[np.full(len(segment), np.iinfo(np.int64).max), rank]
+    order = np.lexsort((sub, at, move_owner))
+    return Moves(a_xy[order], a_heading[order], b_xy[order], b_heading[order],
+                 move_owner[order], at[order])
+
+
+def side_clearance(robot: Robot, field, lines: list[np.ndarray]):
+    """The body's side clearance along each polyline driven heading along it.
+
+    Returns
+    -------
+    moves : Moves
+    gap : (M,) float, metres; each move's swept core hull's distance to the boundary
+        minus (grow - margin), i.e. the clear distance left beside the body
+    lowest : (L,) float, metres; per polyline the smallest gap (inf for a point)
+    """
+    driven = moves(lines)
+    _, grow = core(robot)
+    gap = gaps(field, hulls(robot, driven.a_xy, driven.a_heading, driven.b_xy,
+                            driven.b_heading)) - (grow - robot.margin)
+    lowest = np.full(len(lines), np.inf)
+    np.minimum.at(lowest, driven.owner, gap)
+    # a polyline without a move (a station on its node) holds the body heading along
+    # whatever lane it joins: its side clearance is its clearance less the half-width
+    still = [i for i in np.flatnonzero(np.isinf(lowest)) if len(lines[i])]
+    if still:
+        lowest[still] = field.at(np.array([lines[i][0] for i in still])) - \
+            (robot.clearance - robot.margin)
+    return driven, gap, lowest
+
+
+def _trim(robot: Robot, field, coords: np.ndarray) -> np.ndarray | None:
+    """Cut a lane driven from coords[0] back to where the body last fits; None if nowhere."""
+    driven, gap, _ = side_clearance(robot, field, [coords])
+    bad = np.flatnonzero(gap < robot.margin - 1e-9)
+    if len(bad) == 0:
+        return coords
+    first = bad[0]
+    start, heading = driven.a_xy[first], driven.a_heading[first]
+    end = driven.b_xy[first]
+    kept = coords[np.r_[0.0, np.cumsum(np.hypot(*np.diff(coords, axis=0).T))]
+                  < driven.at[first] - 1e-9]
+    if np.allclose(start, end):           # a turn step fails: stop before turning
+        tail = start[None]
+    else:                                  # a straight move fails part way: bisect
+        low, high = 0.0, 1.0
+        for _ in range(TRIM_STEPS):
+            middle = (low + high) / 2
+            point = start + middle * (end - start)
+            hull = hulls(robot, start, heading, point, heading)
+            if gaps(field, hull)[0] - (core(robot)[1] - robot.margin) >= robot.margin - 1e-9:
+                low = middle
+            else:
+                high = middle
+        tail = np.vstack([start, start + low * (end - start)])
+    trimmed = np.vstack([kept, tail])
+    trimmed = trimmed[np.r_[True, np.hypot(*np.diff(trimmed, axis=0).T) > 1e-9]]
+    length = float(np.hypot(*np.diff(trimmed, axis=0).T).sum()) if len(trimmed) > 1 else 0.0
+    return trimmed if length >= MIN_LANE else None
+
+
+@dataclass(frozen=True)
+class Shortfall:
+    """Where a lane is too tight for the body: position (local frame) and the gap there."""
+
+    x: float
+    y: float
+    gap: float
+
+
+def fit_lanes(robot: Robot, field, lines, ends, vertices):
+    """Keep the lanes the body can drive heading along them; trim dead ends to fit.
+
+    A lane with a free end (an end vertex no other lane touches) is cut back from that end
+    to where the body last fits driving in from the other end, and the end vertex moves
+    there (the body's front stops the margin short of a dead end's wall). Every other lane
+    that is too tight anywhere is dropped.
+
+    Parameters
+    ----------
+    lines : (L,) LineString, local frame; ends : list of (u, v) vertex indices
+    vertices : (V, 2) float; updated in place where a dead end is trimmed
+
+    Returns
+    -------
+    lines, ends : the kept (and trimmed) lanes
+    dropped : list of Shortfall, one per lane dropped (where the body comes nearest an
+        obstacle: that obstacle's point, and the gap)
+    """
+    coords = [shapely.get_coordinates(line) for line in lines]
+    if not coords:
+        return lines, ends, []
+    driven, gap, lowest = side_clearance(robot, field, coords)
+    degree = np.bincount(np.asarray(ends, dtype=np.int64).ravel(), minlength=len(vertices))
+    kept_lines, kept_ends, short = [], [], []
+    for index, (u, v) in enumerate(ends):
+        if lowest[index] >= robot.margin - 1e-9:
+            kept_lines.append(coords[index])
+            kept_ends.append((u, v))
+            continue
+        trimmed = None
+        if degree[v] == 1 and u != v:
+            trimmed = _trim(robot, field, coords[index])
+            free = v
+        if trimmed is None and degree[u] == 1 and u != v:
+            trimmed = _trim(robot, field, coords[index][::-1])
+            trimmed = None if trimmed is None else trimmed[::-1]
+            free = u
+        if trimmed is None:
+            mine = np.flatnonzero(driven.owner == index)
+            worst = mine[np.argmin(gap[mine])]
+            x, y = contact(robot, field, driven, worst)
+            short.append(Shortfall(float(x), float(y), float(gap[worst])))
+            continue
+        vertices[free] = trimmed[-1] if free == v else trimmed[0]
+        kept_lines.append(trimmed)
+        kept_ends.append((u, v))
+    return polylines(kept_lines), kept_ends, short
+
+
+def fit_edges(robot: Robot, field, graph, samples, joins, station_nodes, offset):
+    """Set every edge's ``clearance_body``; drop the edges the body cannot drive.
+
+    These are mostly a station's straight approach: the station then gets a reason instead
+    of its join. Node kinds are renewed where an edge went; nodes left alone go too, except
+    stations.
+
+    Returns
+    -------
+    samples : EdgeSamples without the dropped edges' samples
+    joins : list, the stations' joins with reasons where their approach went
+    shortfalls : list of BodyShortfall ("link" or "lane"), drawing frame
+    """
+    shift = np.asarray(offset, dtype=float)
+    edges = list(graph.edges(keys=True, data=True))
+    driven, gap, lowest = side_clearance(
+        robot, field, [shapely.get_coordinates(data["geometry"]) - shift
+                       for _, _, _, data in edges])
+    station_of = {node: index for index, node in station_nodes.items()}
+    joins, shortfalls, dropped, touched = list(joins), [], set(), set()
+    for index, (u, v, key, data) in enumerate(edges):
+        if lowest[index] >= robot.margin - 1e-9:
+            data["clearance_body"] = float(lowest[index])
+            continue
+        mine = np.flatnonzero(driven.owner == index)
+        worst = mine[np.argmin(gap[mine])]
+        x, y = contact(robot, field, driven, worst) + shift
+        station = next((station_of[n] for n in (u, v) if n in station_of), None)
+        link = key in samples.approach
+        shortfalls.append(BodyShortfall(
+            "link" if link else "lane", float(x), float(y), robot.margin, float(gap[worst]),
+            (key,), "" if station is None else station_nodes[station],
+            f"needs {robot.margin:.2f} m beside the body, has {max(gap[worst], 0.0):.2f} m; "
+            "edge dropped"))
+        if link and station is not None:
+            joins[station] = (f"the body does not fit along its approach: needs "
+                              f"{robot.margin:.2f} m beside it, has {max(gap[worst], 0):.2f} m")
+        dropped.add(key)
+        touched.update((u, v))
+    if not dropped:
+        return samples, joins, shortfalls
+    graph.remove_edges_from([(u, v, key) for u, v, key, _ in edges if key in dropped])
+    for node in sorted(touched):
+        kind = graph.nodes[node]["kind"]
+        degree = graph.degree(node)
+        if kind == "station":
+            continue
+        if degree == 0:
+            graph.remove_node(node)
+        elif kind in ("junction", "waypoint", "end"):
+            graph.nodes[node]["kind"] = ("junction" if degree >= 3 else
+                                         "waypoint" if degree == 2 else "end")
+    gone = np.isin(np.asarray(samples.edge_ids, dtype=object)[samples.owner],
+                   list(dropped)) if len(samples.owner) else np.zeros(0, bool)
+    samples = EdgeSamples(samples.xy[~gone], samples.owner[~gone], samples.clearance[~gone],
+                          samples.edge_ids, samples.approach)
+    return samples, joins, shortfalls
+
+
+def pose_limits(robot: Robot) -> float:
+    """The clear radius about the rotation centre needed to turn in place, metres."""
+    return robot.swing + robot.margin if robot.length is not None else \
+        robot.radius + robot.margin
+
+
+__all__ = ["MAX_STEP_ANGLE", "Moves", "Shortfall", "core", "fit_edges", "fit_lanes", "gaps", "hulls",
+           "moves", "place", "side_clearance", "angle_between", "pose_limits"]

@@ -1,0 +1,154 @@
+"""Shortest paths of bounded curvature driving forwards: the six Dubins words.
+
+Between two poses (x, y, heading) the shortest forward path whose curvature never exceeds
+1/R is one of LSL, RSR, LSR, RSL, RLR, LRL: arcs of radius R (L left, R right) and straight
+segments (S) [Dub57]_. Each word's segment lengths come in closed form [SL01]_; every
+candidate is driven to its end and kept only if it lands on the goal pose, so a formula that
+does not apply (or a rounding slip) cannot give a wrong path.
+
+References
+----------
+.. [Dub57] L. E. Dubins, "On curves of minimal length with a constraint on average
+   curvature, and with prescribed initial and terminal positions and tangents", American
+   Journal of Mathematics 79(3), 1957.
+.. [SL01] A. M. Shkel and V. Lumelsky, "Classification of the Dubins set", Robotics and
+   Autonomous Systems 34, 2001.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+#: Largest heading change between sampled poses on an arc, radians.
+ARC_STEP = 0.05
+#: A candidate must land within this of the goal (position in R units, heading in rad).
+LANDING = 1e-6
+
+#: Rounding allowed in a formula's square root or arc cosine argument (tangent cases).
+SLACK = 1e-9
+
+WORDS = ("LSL", "RSR", "LSR", "RSL", "RLR", "LRL")
+
+
+def _mod2pi(angle: float) -> float:
+    return angle % (2 * math.pi)
+
+
+def _candidates(alpha: float, beta: float, d: float):
+    """(word, (t, p, q)) for each word that has a solution; lengths in units of R."""
+    sa, sb, ca, cb = math.sin(alpha), math.sin(beta), math.cos(alpha), math.cos(beta)
+    cab = math.cos(alpha - beta)
+    found = []
+    p2 = 2 + d * d - 2 * cab + 2 * d * (sa - sb)
+    if p2 >= -SLACK:
+        angle = math.atan2(cb - ca, d + sa - sb)
+        found.append(("LSL", (_mod2pi(angle - alpha), math.sqrt(max(p2, 0.0)), _mod2pi(beta - angle))))
+    p2 = 2 + d * d - 2 * cab + 2 * d * (sb - sa)
+    if p2 >= -SLACK:
+        angle = math.atan2(ca - cb, d - sa + sb)
+        found.append(("RSR", (_mod2pi(alpha - angle), math.sqrt(max(p2, 0.0)), _mod2pi(angle - beta))))
+    p2 = -2 + d * d + 2 * cab + 2 * d * (sa + sb)
+    if p2 >= -SLACK:
+        p = math.sqrt(max(p2, 0.0))
+        angle = math.atan2(-ca - cb, d + sa + sb) - math.atan2(-2.0, p)
+        found.append(("LSR", (_mod2pi(angle - alpha), p, _mod2pi(angle - beta))))
+    p2 = d * d - 2 + 2 * cab - 2 * d * (sa + sb)
+    if p2 >= -SLACK:
+        p = math.sqrt(max(p2, 0.0))
+        angle = math.atan2(ca + cb, d - sa - sb) - math.atan2(2.0, p)
+        found.append(("RSL", (_mod2pi(alpha - angle), p, _mod2pi(beta - angle))))
+    tmp = (6 - d * d + 2 * cab + 2 * d * (sa - sb)) / 8
+    if abs(tmp) <= 1 + SLACK:
+        p = _mod2pi(2 * math.pi - math.acos(max(-1.0, min(1.0, tmp))))
+        t = _mod2pi(alpha - math.atan2(ca - cb, d - sa + sb) + p / 2)
+        found.append(("RLR", (t, p, _mod2pi(alpha - beta - t + p))))
+    tmp = (6 - d * d + 2 * cab + 2 * d * (sb - sa)) / 8
+    if abs(tmp) <= 1 + SLACK:
+        p = _mod2pi(2 * math.pi - math.acos(max(-1.0, min(1.0, tmp))))
+        t = _mod2pi(-alpha - math.atan2(ca - cb, d + sa - sb) + p / 2)
+        found.append(("LRL", (t, p, _mod2pi(beta - alpha - t + p))))
+    return found
+
+
+def _drive(pose, word: str, lengths, radius: float):
+    """End pose after driving `word` with segment `lengths` (units of R) from `pose`."""
+    x, y, heading = pose
+    for letter, length in zip(word, lengths):
+        if letter == "S":
+            x += length * radius * math.cos(heading)
+            y += length * radius * math.sin(heading)
+            continue
+        turn = length if letter == "L" else -length
+        side = 1.0 if letter == "L" else -1.0
+        cx, cy = x - side * radius * math.sin(heading), y + side * radius * math.cos(heading)
+        heading += turn
+        x, y = cx + side * radius * math.sin(heading), cy - side * radius * math.cos(heading)
+    return x, y, heading
+
+
+@dataclass(frozen=True)
+class DubinsPath:
+    """A forward path of curvature <= 1/radius: `word` with `lengths` in units of radius."""
+
+    start: tuple[float, float, float]
+    word: str
+    lengths: tuple[float, float, float]
+    radius: float
+
+    @property
+    def length(self) -> float:
+        """Driven length, metres."""
+        return self.radius * sum(self.lengths)
+
+    def poses(self, *, step: float = ARC_STEP) -> np.ndarray:
+        """Poses along the path, (N, 3): x, y, heading; arcs every `step` radians at most,
+        straight segments by their two ends only."""
+        x, y, heading = self.start
+        rows = [(x, y, heading)]
+        for letter, length in zip(self.word, self.lengths):
+            if length <= 0:
+                continue
+            pieces = 1 if letter == "S" else max(1, math.ceil(length / step))
+            for k in range(1, pieces + 1):
+                rows.append(_drive((x, y, heading), letter, (length * k / pieces,),
+                                   self.radius))
+            x, y, heading = rows[-1]
+        return np.array(rows)
+
+
+def shortest_path(start, goal, radius: float) -> DubinsPath:
+    """The shortest forward path of curvature <= 1/`radius` from `start` to `goal`.
+
+    Parameters
+    ----------
+    start, goal : (x, y, heading), metres and radians
+    radius : float, the smallest turning radius, metres, > 0
+
+    Examples
+    --------
+    >>> path = shortest_path((0, 0, 0), (0, 2, math.pi), 1.0)   # a U-turn: a half circle
+    >>> path.word[0], round(path.length, 12) == round(math.pi, 12)
+    ('L', True)
+    """
+    if not (math.isfinite(radius) and radius > 0):
+        raise ValueError(f"turning radius must be > 0 m, got {radius}")
+    dx, dy = goal[0] - start[0], goal[1] - start[1]
+    d = math.hypot(dx, dy) / radius
+    phi = math.atan2(dy, dx) if d > 0 else 0.0
+    alpha, beta = _mod2pi(start[2] - phi), _mod2pi(goal[2] - phi)
+    best = None
+    for word, lengths in _candidates(alpha, beta, d):
+        x, y, heading = _drive(tuple(start), word, lengths, radius)
+        miss = math.hypot(x - goal[0], y - goal[1]) / radius
+        turn = abs((heading - goal[2] + math.pi) % (2 * math.pi) - math.pi)
+        if miss > LANDING or turn > LANDING:
+            continue
+        if best is None or sum(lengths) < sum(best[1]) - 1e-12:
+            best = (word, lengths)
+    if best is None:  # cannot happen for R > 0 (Dubins 1957); kept as a guard
+        raise ArithmeticError(f"no Dubins path from {start} to {goal}")
+    return DubinsPath(tuple(float(v) for v in start), best[0],
+                      tuple(float(v) for v in best[1]), float(radius))

@@ -1,0 +1,219 @@
+"""Turns at the nodes: between which incident edges the body can change heading.
+
+At every node the robot arrives along one edge (heading along its tangent, towards the
+node) and leaves along another (or the same one: turning round). Whether it can:
+
+- differential: it turns in place about its rotation centre on the node; the footprint
+  swept from the arriving heading to the leaving one (either way round) must keep the
+  margin from the obstacles. Where the node's clearance holds the whole swept circle,
+  swing radius + margin, every turn there is allowed without further work.
+- omni: the same, turning about the footprint's centre.
+- car: a forward path of curvature <= 1/R from a pose on the arriving edge to a pose on
+  the leaving one, 1, 2 or 3 R from the node (as far as the edges reach), whose swept
+  footprint keeps the margin: straight on and one arc of radius R tangent to both edges'
+  lines, or the shortest Dubins path between the two poses. Manoeuvres that back up
+  (Reeds-Shepp) are not searched, so a car that may reverse gets the same, cautious
+  answer: a turn it could make by backing up may be reported as forbidden.
+
+Swept footprints are convex hulls of consecutive poses (see body.py): a turn in place
+misses at most ``swing * (1 - cos(step / 2))``, an arc of radius R at most
+``(R + swing) * (1 - cos(step / 2))`` with step = 0.05 rad (0.3 mm per metre).
+The results go on the graph: node attribute ``turns``, the allowed pairs as
+``"e1:e2 e1:e3"`` (edge ids, each pair once, in natural order; ``e4:e4`` is turning round
+on e4), and ``reverse_only`` on dead ends where the robot cannot turn round.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import shapely
+
+from clearway.roadmap.body import MAX_STEP_ANGLE, angle_between, core, gaps, hulls
+from clearway.roadmap.dubins import DubinsPath, shortest_path
+from clearway.roadmap.model import BodyShortfall, Robot
+
+#: Distances from the node, in turning radii, where a car's manoeuvre starts and ends.
+CAR_REACH = (1.0, 2.0, 3.0)
+
+
+def natural(key: str):
+    """Sort key: 'e2' before 'e10'."""
+    head = key.rstrip("0123456789")
+    tail = key[len(head):]
+    return (head, int(tail) if tail else -1, key)
+
+
+def pair_text(pairs) -> str:
+    """The compact ``turns`` attribute for a set of (edge, edge) pairs."""
+    ordered = sorted({tuple(sorted(pair, key=natural)) for pair in pairs},
+                     key=lambda pair: (natural(pair[0]), natural(pair[1])))
+    return " ".join(f"{a}:{b}" for a, b in ordered)
+
+
+def parse_turns(text: str) -> set[tuple[str, str]]:
+    """Read a ``turns`` attribute back: the allowed pairs, both orders."""
+    pairs = set()
+    for item in str(text).split():
+        a, sep, b = item.partition(":")
+        if not sep or not a or not b:
+            raise ValueError(f"turns entry {item!r} is not EDGE:EDGE")
+        pairs.update({(a, b), (b, a)})
+    return pairs
+
+
+def _leaving(coords: np.ndarray, at: np.ndarray) -> tuple[np.ndarray, float]:
+    """Orient an edge's coordinates away from `at`; return them and the leaving heading."""
+    if np.hypot(*(coords[-1] - at)) < np.hypot(*(coords[0] - at)):
+        coords = coords[::-1]
+    step = np.diff(coords, axis=0)
+    moving = np.flatnonzero(np.hypot(*step.T) > 1e-9)
+    if len(moving) == 0:
+        return coords, math.nan
+    dx, dy = step[moving[0]]
+    return coords, math.atan2(dy, dx)
+
+
+def _point_along(coords: np.ndarray, distance: float) -> tuple[np.ndarray, float]:
+    """Point and heading at `distance` metres along a polyline (clipped to its ends)."""
+    step = np.diff(coords, axis=0)
+    length = np.hypot(*step.T)
+    along = np.r_[0.0, np.cumsum(length)]
+    distance = min(max(distance, 0.0), along[-1])
+    k = int(np.clip(np.searchsorted(along, distance, side="right") - 1, 0, len(step) - 1))
+    while k > 0 and length[k] <= 1e-12:
+        k -= 1
+    fraction = (distance - along[k]) / length[k] if length[k] > 0 else 0.0
+    return coords[k] + fraction * step[k], math.atan2(step[k, 1], step[k, 0])
+
+
+def _clear(robot: Robot, field, a_xy, a_heading, b_xy, b_heading) -> float:
+    """Smallest gap beside the body over moves a -> b (arrays), metres."""
+    _, grow = core(robot)
+    return float(gaps(field, hulls(robot, a_xy, a_heading, b_xy, b_heading)).min()
+                 - (grow - robot.margin)) if len(a_xy) else math.inf
+
+
+def _rotation_gap(robot: Robot, field, xy, start: float, turn: float) -> float:
+    """Gap beside the body turning in place at `xy` from `start` by `turn` radians."""
+    pieces = max(1, math.ceil(abs(turn) / MAX_STEP_ANGLE))
+    angles = start + turn * np.arange(pieces + 1) / pieces
+    where = np.repeat(np.asarray(xy, float)[None], pieces, axis=0)
+    return _clear(robot, field, where, angles[:-1], where, angles[1:])
+
+
+def _path_gap(robot: Robot, field, path) -> float:
+    poses = path.poses(step=MAX_STEP_ANGLE)
+    return _clear(robot, field, poses[:-1, :2], poses[:-1, 2], poses[1:, :2], poses[1:, 2])
+
+
+def fillet(start, end, radius: float) -> DubinsPath | None:
+    """Straight on from `start`, one arc of `radius` tangent to both headings' lines,
+    straight on to `end`; None where the lines do not meet ahead of both poses far enough
+    for the arc (or are parallel)."""
+    turn = float(angle_between(start[2], end[2]))
+    if abs(turn) < 1e-9 or abs(abs(turn) - math.pi) < 1e-9:
+        return None
+    a, b = np.array(start[:2], float), np.array(end[:2], float)
+    u = np.array([math.cos(start[2]), math.sin(start[2])])
+    v = np.array([math.cos(end[2]), math.sin(end[2])])
+    # meeting point a + s u = b - t v
+    matrix = np.column_stack([u, v])
+    s, t = np.linalg.solve(matrix, b - a)
+    cut = radius * math.tan(abs(turn) / 2)
+    if s < cut - 1e-9 or t < cut - 1e-9:
+        return None
+    return DubinsPath(tuple(float(x) for x in start), "SLS" if turn > 0 else "SRS",
+                      (max(s - cut, 0.0) / radius, abs(turn), max(t - cut, 0.0) / radius),
+                      float(radius))
+
+
+def _car_gap(robot: Robot, field, here, arrive, leave) -> float:
+    """Best gap over car manoeuvres from the arriving edge to the leaving one."""
+    best = -math.inf
+    reach_in = float(np.hypot(*np.diff(arrive, axis=0).T).sum())
+    reach_out = float(np.hypot(*np.diff(leave, axis=0).T).sum())
+    for scale in CAR_REACH:
+        start_xy, back = _point_along(arrive, scale * robot.turn_radius)
+        end_xy, ahead = _point_along(leave, scale * robot.turn_radius)
+        if np.allclose(start_xy, here) or np.allclose(end_xy, here):
+            continue
+        start, end = (*start_xy, back + math.pi), (*end_xy, ahead)
+        # the stretches of the edges between those poses and the node are not driven
+        for path in (fillet(start, end, robot.turn_radius),
+                     shortest_path(start, end, robot.turn_radius)):
+            if path is not None:
+                best = max(best, _path_gap(robot, field, path))
+        if best >= robot.margin - 1e-9 or (scale * robot.turn_radius >= reach_in and
+                                           scale * robot.turn_radius >= reach_out):
+            break
+    return best
+
+
+def check_turns(robot: Robot, field, graph, offset) -> list[BodyShortfall]:
+    """Set ``turns`` and ``reverse_only`` on every node; return the forbidden turns.
+
+    Parameters
+    ----------
+    robot : Robot with a body (``robot.has_body``)
+    field : ClearanceField of the local frame; offset : (x0, y0) of the local frame, m
+    graph : networkx.MultiGraph in the drawing frame (edited in place)
+    """
+    shift = np.asarray(offset, dtype=float)
+    need = robot.swing + robot.margin if robot.length is not None else \
+        robot.radius + robot.margin
+    forbidden = []
+    nodes = sorted(graph.nodes, key=natural)
+    xy = np.array([[graph.nodes[n]["x"], graph.nodes[n]["y"]] for n in nodes]).reshape(-1, 2)
+    room = field.at(xy - shift) if len(nodes) else np.zeros(0)
+    for index, node in enumerate(nodes):
+        here = xy[index] - shift
+        incident = sorted(((key, data) for _, _, key, data in graph.edges(node, keys=True,
+                                                                        data=True)),
+                          key=lambda item: natural(item[0]))
+        legs = {}
+        for key, data in incident:
+            coords, heading = _leaving(shapely.get_coordinates(data["geometry"]) - shift, here)
+            if not math.isnan(heading):
+                legs[key] = (coords, heading)
+        allowed = set()
+        keys = [key for key, _ in incident]
+        for i, a in enumerate(keys):
+            for b in keys[i:]:
+                if a not in legs or b not in legs:
+                    allowed.add((a, b))       # a station on its node: no heading to keep
+                    continue
+                arrive = legs[a][1] + math.pi
+                turn = float(angle_between(arrive, legs[b][1])) if a != b else math.pi
+                if robot.kind == "car":
+                    if abs(turn) < 1e-9:
+                        gap = math.inf       # straight through: the lanes' own check
+                    else:
+                        gap = _car_gap(robot, field, here, legs[a][0], legs[b][0])
+                    has, needs = gap, robot.margin
+                    note = (f"no forward path of radius {robot.turn_radius:.2f} m tried keeps "
+                            f"{robot.margin:.2f} m beside the body (best {max(gap, 0):.2f} m)")
+                elif room[index] >= need - 1e-9:
+                    allowed.add((a, b))          # the whole swept circle is clear
+                    continue
+                else:
+                    gap = _rotation_gap(robot, field, here, arrive, turn)
+                    if a == b or abs(abs(turn) - math.pi) < 1e-9:
+                        gap = max(gap, _rotation_gap(robot, field, here, arrive,
+                                                     -math.copysign(2 * math.pi, turn) + turn))
+                    has, needs = float(room[index]), need
+                    note = (f"turning in place needs {need:.2f} m clear radius, has "
+                            f"{room[index]:.2f} m; the turn's swept footprint keeps "
+                            f"{max(gap, 0):.2f} m of the {robot.margin:.2f} m margin")
+                if gap >= robot.margin - 1e-9:
+                    allowed.add((a, b))
+                    continue
+                x, y = xy[index]
+                forbidden.append(BodyShortfall("turn round" if a == b else "turn",
+                                               float(x), float(y), float(needs), float(has),
+                                               (a, b), node, note))
+        graph.nodes[node]["turns"] = pair_text(allowed)
+        graph.nodes[node]["reverse_only"] = bool(len(keys) == 1 and
+                                                 (keys[0], keys[0]) not in allowed)
+    return forbidden
