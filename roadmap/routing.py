@@ -11,6 +11,7 @@ References
 from __future__ import annotations
 
 import difflib
+import heapq
 import math
 from dataclasses import dataclass
 from typing import Iterable
@@ -21,6 +22,8 @@ import shapely
 from scipy.sparse import csr_array
 from scipy.sparse.csgraph import dijkstra
 from shapely.geometry import LineString
+
+from clearway.roadmap.turns import parse_turns
 
 #: Route search methods.
 ROUTE_METHODS = ("astar", "dijkstra")
@@ -169,6 +172,17 @@ def shortest_route(graph: nx.MultiGraph, source: str, target: str, *,
         if end in avoided:
             raise ValueError(f"cannot avoid {display_name(graph, end)}: it is an end of the "
                              "route")
+    rules = turn_rules(graph)
+    if rules is not None:
+        found = _turn_search(graph, source, target, rules, avoided,
+                             _heuristic(graph) if method == "astar" else None)
+        if found is None:
+            avoiding = sorted(display_name(graph, node) for node in avoided)
+            raise nx.NetworkXNoPath(f"no route from {display_name(graph, source)} to "
+                                    f"{display_name(graph, target)} with the allowed turns"
+                                    + (" avoiding " + ", ".join(avoiding) if avoiding
+                                       else ""))
+        return _make_route(graph, *found)
     simple = lightest_edges(graph)
     if avoided:
         simple = nx.restricted_view(simple, avoided, [])
@@ -186,6 +200,64 @@ def shortest_route(graph: nx.MultiGraph, source: str, target: str, *,
                                    else "")) from None
     keys = [simple.edges[u, v]["key"] for u, v in zip(nodes, nodes[1:])]
     return _make_route(graph, nodes, keys)
+
+
+def turn_rules(graph: nx.MultiGraph) -> dict[str, set[tuple[str, str]]] | None:
+    """The allowed turns per node from the ``turns`` attributes; None when there are none.
+
+    A node without the attribute allows every turn; one with an empty string allows none
+    (the robot may still start or stop there).
+    """
+    rules = {node: parse_turns(text) for node, text in graph.nodes(data="turns")
+             if text is not None}
+    return rules or None
+
+
+def _turn_search(graph: nx.MultiGraph, source: str, target: str | None, rules, avoided=(),
+                 heuristic=None, *, weight: str = "weight"):
+    """Dijkstra (A* with `heuristic`) over (node, edge arrived by) states, so that a route
+    only turns from one edge to the next where the node allows it.
+
+    Returns (nodes, edge keys) of the lightest route to `target`, None when there is none;
+    with ``target=None``, {node: lightest cost} for every node reached.
+    """
+    start = (source, None)
+    cost = {start: 0.0}
+    parent = {}
+    reached: dict[str, float] = {}
+    queue = [(0.0, 0.0, 0, start)]
+    counter = 1
+    while queue:
+        _, spent, _, state = heapq.heappop(queue)
+        if spent > cost.get(state, math.inf):
+            continue
+        node, arrived = state
+        reached.setdefault(node, spent)
+        if node == target:
+            nodes, keys = [node], []
+            while state in parent:
+                state, key = parent[state]
+                nodes.append(state[0])
+                keys.append(key)
+            return nodes[::-1], keys[::-1]
+        allowed = rules.get(node)
+        for _, other, key, value in graph.edges(node, keys=True, data=weight):
+            if other in avoided or other == node:
+                continue
+            if arrived is not None and allowed is not None and (arrived, key) not in allowed:
+                continue
+            value = float(value)
+            if not value >= 0:
+                raise ValueError(f"edge {key!r} has {weight} {value}; weights must be >= 0 m")
+            step = (other, key)
+            total = spent + value
+            if total < cost.get(step, math.inf):
+                cost[step] = total
+                parent[step] = (state, key)
+                guess = total + (heuristic(other, target) if heuristic else 0.0)
+                heapq.heappush(queue, (guess, total, counter, step))
+                counter += 1
+    return reached if target is None else None
 
 
 def _heuristic(graph: nx.MultiGraph):
@@ -270,6 +342,13 @@ def distance_matrix(graph: nx.MultiGraph, stations: Iterable[str] | None = None,
         targets = [resolve_node(graph, name) for name in labels]
     if not targets:
         return labels, np.zeros((0, 0))
+    rules = turn_rules(graph)
+    if rules is not None:
+        costs = np.full((len(targets), len(targets)), np.inf)
+        for row, node in enumerate(targets):
+            reached = _turn_search(graph, node, None, rules, weight=weight)
+            costs[row] = [reached.get(other, np.inf) for other in targets]
+        return labels, np.minimum(costs, costs.T).astype(float)
     simple = lightest_edges(graph, weight=weight)
     order = list(simple.nodes)
     index = {node: position for position, node in enumerate(order)}

@@ -194,3 +194,74 @@ def test_matrix_marks_unreachable_and_keeps_zero_length_lanes():
     assert matrix.tolist() == [[0.0, 0.0, math.inf], [0.0, 0.0, math.inf],
                                [math.inf, math.inf, 0.0]]
     assert distance_matrix(graph, ["C", "a"])[1].tolist() == [[0.0, math.inf], [math.inf, 0.0]]
+
+
+def scipy_turn_costs(graph: nx.MultiGraph, rules, source: str) -> dict[str, float]:
+    """Costs from `source` by scipy.sparse.csgraph on the directed graph of lane traversals
+    (u -> v along edge k), one arc per allowed turn: the textbook line-graph construction."""
+    moves = [(u, v, key, w) for u, v, key, w in graph.edges(keys=True, data="weight")
+             if u != v]
+    moves += [(v, u, key, w) for u, v, key, w in moves]
+    index = {move[:3]: i + 1 for i, move in enumerate(moves)}      # 0 is the start
+    rows, cols, values = [], [], []
+    for (u, v, key, weight) in moves:
+        if u == source:
+            rows.append(0), cols.append(index[u, v, key]), values.append(weight)
+        for (u2, v2, key2, weight2) in moves:
+            if u2 == v and (v not in rules or (key, key2) in rules[v]):
+                rows.append(index[u, v, key]), cols.append(index[u2, v2, key2])
+                values.append(weight2)
+    matrix = csr_array((values, (rows, cols)), shape=(len(moves) + 1, len(moves) + 1))
+    reached = dijkstra(matrix, directed=True, indices=0)
+    costs = {source: 0.0}
+    for (u, v, key, _) in moves:
+        costs[v] = min(costs.get(v, math.inf), reached[index[u, v, key]])
+    return costs
+
+
+@settings(max_examples=40, deadline=None)
+@given(random_lane_graphs(), st.data())
+def test_route_with_forbidden_turns_equals_scipy_on_the_traversal_graph(graph, data):
+    order = list(graph.nodes)
+    rules = {}
+    for node in order:
+        keys = sorted(key for *_, key in graph.edges(node, keys=True))
+        pairs = [(a, b) for i, a in enumerate(keys) for b in keys[i:]]
+        kept = data.draw(st.lists(st.sampled_from(pairs), unique=True) if pairs
+                         else st.just([]))
+        graph.nodes[node]["turns"] = " ".join(f"{a}:{b}" for a, b in kept)
+        rules[node] = {(a, b) for a, b in kept} | {(b, a) for a, b in kept}
+    source = data.draw(st.sampled_from(order))
+    target = data.draw(st.sampled_from(order))
+    expected = scipy_turn_costs(graph, rules, source).get(target, math.inf)
+    for method in ("astar", "dijkstra"):
+        if not math.isfinite(expected):
+            with pytest.raises(nx.NetworkXNoPath, match="allowed turns"):
+                shortest_route(graph, source, target, method=method)
+            continue
+        route = shortest_route(graph, source, target, method=method)
+        assert route.cost == pytest.approx(expected, rel=1e-12, abs=1e-9)
+        for node, before, after in zip(route.nodes[1:-1], route.edges, route.edges[1:]):
+            assert (before, after) in rules[node]
+    labels, matrix = distance_matrix(graph, [source, target])
+    assert matrix[0, 1] == pytest.approx(expected, rel=1e-12, abs=1e-9) or \
+        (math.isinf(matrix[0, 1]) and math.isinf(expected))
+
+
+def test_a_forbidden_turn_sends_the_route_round_the_block():
+    graph = nx.MultiGraph()
+    for node, (x, y) in {"n0": (0, 0), "n1": (10, 0), "n2": (10, 10), "n3": (0, 10)}.items():
+        graph.add_node(node, x=float(x), y=float(y), label="")
+    for key, u, v in (("e0", "n0", "n1"), ("e1", "n1", "n2"), ("e2", "n2", "n3"),
+                      ("e3", "n3", "n0")):
+        line = shapely.LineString([(graph.nodes[u]["x"], graph.nodes[u]["y"]),
+                                   (graph.nodes[v]["x"], graph.nodes[v]["y"])])
+        graph.add_edge(u, v, key, geometry=line, length=10.0, weight=10.0, clearance_min=1.0)
+    # analytic: on a 10 m square of lanes n1 -> n3 is 20 m either way round; allowing no
+    # turn at n0 (e0 to e3) leaves only n1-n2-n3, and none at n2 either leaves no route
+    graph.nodes["n0"]["turns"] = ""
+    route = shortest_route(graph, "n1", "n3")
+    assert route.nodes == ("n1", "n2", "n3") and route.cost == 20.0
+    graph.nodes["n2"]["turns"] = ""
+    with pytest.raises(nx.NetworkXNoPath, match="allowed turns"):
+        shortest_route(graph, "n1", "n3")
