@@ -1,0 +1,64 @@
+"""Benchmark: build_roadmap for rectangular and car robots against the disc robot.
+
+    python benchmarks/bench_body.py [BAYS]        (default: 20000, the largest warehouse)
+
+Reads one synthetic warehouse (benchmarks/synthetic.py) once, then builds its roadmap
+alternately for each robot (interleaved, so that a noisy neighbour slows them alike) and
+prints the median build time of each, its ratio to the disc robot's, and what the body
+checks found. Target (issue 14): a rectangular robot at most 1.5 x the disc robot's time.
+"""
+
+from __future__ import annotations
+
+import statistics
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
+
+from benchmarks.synthetic import write_warehouse  # noqa: E402
+from clearway.converter import read_floorplan  # noqa: E402
+from clearway.roadmap import Robot, build_roadmap  # noqa: E402
+
+ROBOTS = {
+    "disc 0.4 m": Robot.disc(0.4, margin=0.1),
+    "rect 1.4x0.8 differential": Robot.rectangle(1.4, 0.8, margin=0.1),
+    "rect 1.6x1.2 tugger": Robot.rectangle(1.6, 1.2, margin=0.1, centre=(-0.5, 0.0)),
+    "rect 1.4x0.8 car R 1.5": Robot.rectangle(1.4, 0.8, margin=0.1, kind="car",
+                                              centre=(-0.5, 0.0), turn_radius=1.5),
+}
+REPEATS = 3
+
+
+def main(bays: int) -> None:
+    with tempfile.TemporaryDirectory() as folder:
+        plan = read_floorplan(write_warehouse(Path(folder) / "warehouse.dxf", bays))
+    stations = [(s.label, s.x, s.y) for s in plan.stations]
+    times = {name: [] for name in ROBOTS}
+    results = {}
+    for _ in range(REPEATS):
+        for name, robot in ROBOTS.items():
+            start = time.perf_counter()
+            results[name] = build_roadmap(plan.obstacles, plan.free_space, stations,
+                                          robot=robot, shared_zones=plan.regions["shared"])
+            times[name].append(time.perf_counter() - start)
+    disc = statistics.median(times["disc 0.4 m"])
+    print(f"{bays} bays, {len(stations)} stations; median of {REPEATS} builds, seconds")
+    print(f"{'robot':<28} {'build':>7} {'/ disc':>7} {'edges':>6} {'lanes out':>9} "
+          f"{'turns out':>9} {'rev only':>8} {'reached':>8}")
+    for name, result in results.items():
+        median = statistics.median(times[name])
+        body = result.findings.body
+        reverse = sum(1 for _, flag in result.graph.nodes(data="reverse_only") if flag)
+        reached = sum(1 for s in result.findings.stations if s.reachable)
+        print(f"{name:<28} {median:>7.3f} {median / disc:>7.2f} "
+              f"{result.graph.number_of_edges():>6} "
+              f"{sum(1 for s in body if s.what in ('lane', 'link')):>9} "
+              f"{sum(1 for s in body if s.what.startswith('turn')):>9} {reverse:>8} "
+              f"{reached:>4}/{len(stations):<3}")
+
+
+if __name__ == "__main__":
+    main(int(sys.argv[1]) if len(sys.argv) > 1 else 20000)
