@@ -137,8 +137,9 @@ def _problems(plan, roadmap) -> list[dict]:
         detail = station.reason or "no lane reaches it"
         passage = blocking.get(station.label)
         if passage is not None:
-            detail += (f"; blocked by a {passage.width:.2f} m narrow passage "
-                       f"{_place(passage.x, passage.y)}")
+            detail += (f"; cut off by a passage {passage.width:.2f} m wide "
+                       f"{_place(passage.x, passage.y)}, the robot needs "
+                       f"{2 * roadmap.robot.clearance:.2f} m")
         add("unreachable", f"Unreachable station {station.label}", detail, station.x, station.y)
     for leak in plan.leaks:
         add("leak", f"Leak to outside, {leak.width:.2f} m gap", _place(leak.x, leak.y),

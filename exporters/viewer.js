@@ -628,7 +628,7 @@ function updateRoute() {
   [a, b].forEach(function (st) { if (st && st[3] !== null && nodeIndex.has(st[3])) routeEnds.push(nodeIndex.get(st[3])); });
   if (!a || !b) { result.textContent = a ? "From " + a[0] + ": now choose where to." : ""; request(); return; }
   var bad = [a, b].filter(function (st) { return st[3] === null || !nodeIndex.has(st[3]); });
-  if (bad.length) { result.textContent = "No route: " + bad.map(function (st) { return st[0]; }).join(", ") + " is not on the lane graph."; request(); return; }
+  if (bad.length) { result.textContent = "No route: " + bad.map(function (st) { return st[0] + " is not on the lane graph (" + st[5] + ")"; }).join("; ") + "."; request(); return; }
   route = shortestRoute(nodeIndex.get(a[3]), nodeIndex.get(b[3]));
   if (!route) { result.textContent = "No route from " + a[0] + " to " + b[0] + ": they lie on separate parts of the lane graph."; request(); return; }
   result.textContent = a[0] + " \u2192 " + b[0] + ": " + route.length.toFixed(3) + " m, narrowest clearance " +
@@ -729,7 +729,7 @@ canvas.addEventListener("wheel", function (event) {
   zoomAt(Math.exp(-event.deltaY * (event.deltaMode === 1 ? 0.05 : 0.0015)), event.clientX - rect.left, event.clientY - rect.top);
 }, { passive: false });
 canvas.addEventListener("pointerdown", function (event) {
-  canvas.setPointerCapture(event.pointerId);
+  try { canvas.setPointerCapture(event.pointerId); } catch (error) { /* pointer already gone */ }
   pointers.set(event.pointerId, [event.clientX, event.clientY]);
   dragged = false;
   if (pointers.size === 2) pinch = pinchState();

@@ -266,3 +266,22 @@ def test_rooms_and_doors_are_layers_found_and_described(tmp_path, open_viewer):
     details = viewer.page.inner_text("#details")
     assert "door" in details and "1.20 m" in details and "yes, if it fits" in details
     assert viewer.messages == []
+
+
+def test_two_finger_pinch_zooms_about_the_fingers(centre, open_viewer):
+    viewer = open_viewer(centre / "roadmap.html")
+    before = viewer.view()
+    box = viewer.page.locator("#plan").bounding_box()
+    cx, cy = box["x"] + box["width"] / 2, box["y"] + box["height"] / 2
+    # two touch pointers 100 px apart move to 200 px apart: analytic zoom factor 2
+    viewer.evaluate("""([cx, cy]) => {
+        const canvas = document.getElementById("plan");
+        const send = (type, id, x) => canvas.dispatchEvent(new PointerEvent(type, {
+            pointerId: id, pointerType: "touch", clientX: x, clientY: cy, bubbles: true}));
+        send("pointerdown", 1, cx - 50); send("pointerdown", 2, cx + 50);
+        send("pointermove", 1, cx - 100); send("pointermove", 2, cx + 100);
+        send("pointerup", 1, cx - 100); send("pointerup", 2, cx + 100);
+    }""", [cx, cy])
+    after = viewer.view()
+    assert after["scale"] == pytest.approx(2 * before["scale"], rel=0.02)
+    assert viewer.page.inner_text("#route-result") == ""       # a pinch picks nothing

@@ -146,7 +146,9 @@ def test_problems_list_every_finding_with_its_place(plan, roadmap):
     assert sorted(kinds) == sorted(["unreachable", "leak", "narrow", "pinch", "personnel",
                                     "warning", "warning"])
     unreachable = next(item for item in data["problems"] if item["kind"] == "unreachable")
-    assert "0.62 m narrow passage" in unreachable["detail"]    # the passage that blocks it
+    # the passage that blocks it, and what the robot needs: 2 x (0.35 m + 0.1 m)
+    assert "passage 0.62 m wide" in unreachable["detail"]
+    assert "the robot needs 0.90 m" in unreachable["detail"]
     pinch = next(item for item in data["problems"] if item["kind"] == "pinch")
     assert (pinch["x"], pinch["y"]) == (3.0, 5.0)
     assert all(item["x"] is None for item in data["problems"] if item["kind"] == "warning")
