@@ -59,7 +59,8 @@ _DRAWING_KEYS = ("chord_tolerance", "gap_tolerance", "max_wall_thickness",
 
 def drawing_options(command):
     """Add --config, the layer-role options and --units to a command that reads a drawing."""
-    role_help = {"walls": "wall faces, columns", "racking": "racking and shelving",
+    role_help = {"openings": "doors, windows, glazing", "stairs": "stairs (impassable)",
+                 "walls": "wall faces, columns", "racking": "racking and shelving",
                  "keepout": "keep-out zones", "boundary": "the floor's outline",
                  "stations": "docks, chargers, pick stations",
                  "shared": "zones shared with people"}

@@ -1,6 +1,8 @@
 """The TOML config file: layer roles, drawing options, robot and checks.
 
     [layers]                      # each a list of glob patterns, matched case-insensitively
+    openings = ["A-DOOR*", "A-GLAZ*"]
+    stairs = ["A-FLOR-STRS*"]
     walls = ["A-WALL*"]
     racking = ["*RACK*"]
     keepout = ["*KEEPOUT*"]
@@ -58,7 +60,8 @@ def _limit_types() -> dict[str, type | tuple[type, ...]]:
 #: Every section and key the file may hold, with the type each value must have.
 SCHEMA: dict[str, dict[str, type | tuple[type, ...]]] = {
     "layers": {name: list for name in
-               ("walls", "racking", "keepout", "boundary", "stations", "shared")},
+               ("openings", "stairs", "walls", "racking", "keepout", "boundary", "stations",
+                "shared")},
     "drawing": {"units": str, "chord_tolerance": (int, float), "gap_tolerance": (int, float),
                 "max_wall_thickness": (int, float), "nominal_wall_thickness": (int, float),
                 "label_radius": (int, float)},

@@ -10,12 +10,13 @@ import shapely
 
 from clearway.errors import ConfigError, DrawingError
 from clearway.limits import Limits
-from clearway.converter.floorplan import OBSTACLE_ROLES, ROLES, FloorPlan, Leak, Station
+from clearway.converter.floorplan import OBSTACLE_ROLES, ROLES, FloorPlan, Leak, PlanText, Station
 from clearway.converter.parts import Parts
-from clearway.converter.polygons import (boundary_regions, filled_regions,
-                                find_leaks, free_space, wall_regions)
+from clearway.converter.inserts import BLOCK_OPENING_PREFIX
+from clearway.converter.interior import building_interior
+from clearway.converter.polygons import as_multipolygon, boundary_regions, filled_regions, free_space
 from clearway.converter.read import read_drawing
-from clearway.converter.roles import ROLE_OPTION_NAMES, Roles
+from clearway.converter.roles import ROLE_OPTION_NAMES, Roles, opening_kind
 from clearway.converter.units import UNITS_TO_M, decide_units
 
 #: Coordinates are snapped to this grid, metres (0.1 mm), so shared edges match exactly.
@@ -75,7 +76,8 @@ def _check_options(roles, units, limits, **lengths):
 
 def _read(path, units, chord_tolerance, limits):
     """Read the drawing and decide its unit: (content, (units, m_per_unit, note, warnings))."""
-    content = read_drawing(path, chord_tolerance=chord_tolerance, units=units, limits=limits)
+    content = read_drawing(path, chord_tolerance=chord_tolerance, units=units, limits=limits,
+                           block_kind=opening_kind)
     extents = [parts.extents() for parts in content.parts.values() if len(parts)]
     span = 0.0
     if extents:
@@ -197,22 +199,37 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
         if layer in visible and roles.role_of(layer) not in (None, "station"):
             warnings.append(f"{source}: {count} {dxftype} on layer {layer!r} skipped (not plan geometry)")
 
-    def scaled(role):
-        parts = Parts.concat([content.parts[name] for name in by_role[role] if name in content.parts])
+    def scaled_layers(names):
+        parts = Parts.concat([content.parts[name] for name in names if name in content.parts])
         return parts.scaled(factor, grid=SNAP_M)
+
+    def scaled(role):
+        return scaled_layers(by_role[role])
 
     def geometry(role):
         return scaled(role).geometries()
 
+    texts = plan_texts(content, visible, factor)
     common = {"gap_tolerance": gap_tolerance}
     wall_parts = scaled("wall")
-    walls, enclosed = wall_regions(*wall_parts.geometries(), arcs=wall_parts.arcs(),
-                                   max_wall_thickness=max_wall_thickness,
-                                   nominal_wall_thickness=nominal_wall_thickness, **common)
-    regions = {"wall": walls}
+    openings = _opening_linework(content, by_role["opening"], scaled_layers)
+    unmapped = [name for name in visible if roles.role_of(name) is None]
+    swing_arcs = np.concatenate([wall_parts.arcs(), openings.pop("arcs"),
+                                 scaled_layers(unmapped).arcs()])
+    interior = building_interior(*wall_parts.geometries(), wall_parts.arcs(), **openings,
+                                 swing_arcs=swing_arcs,
+                                 texts_xy=np.array([(t.x, t.y) for t in texts]).reshape(-1, 2),
+                                 max_wall_thickness=max_wall_thickness,
+                                 nominal_wall_thickness=nominal_wall_thickness,
+                                 find_envelope=not by_role["boundary"], **common)
+    regions = {"wall": interior.walls}
     for role in ("racking", "keepout", "shared"):
         regions[role] = filled_regions(*geometry(role), nominal_thickness=nominal_wall_thickness,
                                        **common)
+    if by_role["stair"]:  # stairs are impassable: they join the keep-out areas
+        stairs = filled_regions(*geometry("stair"), nominal_thickness=nominal_wall_thickness,
+                                **common)
+        regions["keepout"] = as_multipolygon(shapely.union_all([regions["keepout"], stairs]))
     band, inside = boundary_regions(*geometry("boundary"), nominal_thickness=nominal_wall_thickness,
                                     **common)
     regions["boundary"] = band
@@ -223,11 +240,16 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
                                f"enclose no area; close the outline")
         container = inside
     else:
-        leaks, container = find_leaks(walls, enclosed)
+        leaks, container = interior.leaks, interior.container
+        for opening in interior.openings:
+            if opening.exterior and opening.kind == "open":
+                warnings.append(f"{source}: {opening.width:.2f} m gap with nothing drawn in it in "
+                                f"the exterior walls at ({opening.x:.2f}, {opening.y:.2f}) m, taken "
+                                f"as an exterior opening and closed; draw the wall if it is missing")
         for x, y, width in leaks:
             warnings.append(f"{source}: floor escapes to the outside through a {width:.2f} m gap "
                             f"in the walls at ({x:.2f}, {y:.2f}) m; close it or draw a boundary")
-    free = free_space(container, [regions[role] for role in OBSTACLE_ROLES])
+    free = free_space(container, [regions[role] for role in OBSTACLE_ROLES] + [interior.closures])
     if free.is_empty:
         raise DrawingError(f"{source}: no enclosed floor: the wall layers enclose no free space "
                            f"and no boundary is drawn; check the layer roles with `clearway layers`")
@@ -243,7 +265,8 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
                                  for x, y, width in leaks),
                      warnings=tuple(warnings),
                      extents=tuple(float(value) for value in everything),
-                     drawing_date=content.drawing_date, repairs=tuple(content.repairs))
+                     drawing_date=content.drawing_date, repairs=tuple(content.repairs),
+                     openings=interior.openings, texts=texts)
 
 
 def _check_mapped(content, roles, by_role, source):
@@ -325,3 +348,35 @@ def find_stations(content, layers, factor, label_radius, source):
         seen[label] = (x, y)
         stations.append(Station(label, float(x), float(y)))
     return tuple(sorted(stations, key=lambda station: station.label))
+
+
+def _opening_linework(content, layers, scaled_layers):
+    """Opening linework in metres by what it says it is: door, window or unknown, and arcs.
+
+    Opening layers are sorted by their names (``A-DOOR`` doors, ``A-GLAZ`` windows, others
+    unknown); the contents of door and window blocks are of their block's kind.
+    """
+    sorted_layers = {"door": [], "window": [], None: []}
+    for name in layers:
+        sorted_layers[opening_kind(name)].append(name)
+    for kind in ("door", "window"):
+        sorted_layers[kind].append(BLOCK_OPENING_PREFIX + kind)
+    result, arcs = {}, []
+    for kind, key in (("door", "door_lines"), ("window", "window_lines"), (None, "other_lines")):
+        parts = scaled_layers(sorted_layers[kind])
+        lines, rings, fills = parts.geometries()
+        outlines = shapely.get_parts(shapely.boundary(fills)) if len(fills) else fills
+        result[key] = np.concatenate([lines, rings, outlines])
+        arcs.append(parts.arcs())
+    result["arcs"] = np.concatenate(arcs)
+    return result
+
+
+def plan_texts(content, visible, factor):
+    """Return the visible texts and block attributes as PlanText, metres, in drawing order."""
+    found = []
+    for layer, x, y, text, height in content.texts + content.attribute_texts:
+        if layer in visible and text:
+            found.append(PlanText(text, round(x * factor, 4), round(y * factor, 4),
+                                  round(height * factor, 4), layer))
+    return tuple(found)

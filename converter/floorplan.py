@@ -8,8 +8,10 @@ from typing import Mapping
 
 from shapely.geometry import MultiPolygon
 
-#: Layer roles, in the order a layer's role is decided when patterns overlap.
-ROLES = ("wall", "racking", "keepout", "boundary", "station", "shared")
+#: Layer roles, in the order a layer's role is decided when patterns overlap. Openings
+#: (doors, windows, glazing) are never obstacles themselves: they tell what fills a gap in
+#: the walls. Stairs are impassable and join the keep-out areas.
+ROLES = ("opening", "stair", "wall", "racking", "keepout", "boundary", "station", "shared")
 #: Roles whose geometry is an obstacle for the robot.
 OBSTACLE_ROLES = ("wall", "racking", "keepout", "boundary")
 

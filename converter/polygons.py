@@ -161,46 +161,76 @@ def door_swings(arcs):
     return arcs[keep]
 
 
+#: Closed wall-layer faces up to this wide (metres) with no text inside are solid too: thick
+#: masonry walls drawn as two outlines, shafts and ducts (common practice: masonry and
+#: exterior walls up to about 0.8 m, old buildings more). A room this narrow would carry its
+#: name or number, or join its neighbours through an opening.
+THICK_WALL_MAX = 1.2
+
+
 def wall_regions(lines, rings, fills, *, gap_tolerance, max_wall_thickness, nominal_wall_thickness,
-                 arcs=()):
-    """Return (solid walls, enclosed area) from wall-layer linework, metres.
+                 arcs=(), texts=None):
+    """Return (solid walls, enclosed area, loose wall lines) from wall-layer linework, metres.
 
     Linework stays linework: it is noded and polygonized, and a face whose largest inscribed
     circle has a diameter of at most `max_wall_thickness` is solid (the band between two wall
-    faces, a column drawn as a circle); wider faces are rooms. Edges that bound no solid face
-    (dangling lines, a single-line outline) become bands `nominal_wall_thickness` wide.
-    Filled polygons (hatches, solids, wide polylines) are solid. `arcs` are the ARC entities
-    among `lines`: one that bounds no solid face and looks like a door swing (`door_swings`)
-    is the path of a door leaf, not a wall, and gets no band (it would close the doorway).
+    faces, a column drawn as a circle); so is a face up to THICK_WALL_MAX wide with no text
+    inside (`texts`, (N, 2) points) when texts are given; wider faces are rooms. The two faces
+    of a double-line wall that stop open at an opening are closed first
+    (`openings.close_open_wall_ends`). Edges that bound no solid face (dangling lines, a
+    single-line outline) become bands `nominal_wall_thickness` wide. Filled polygons
+    (hatches, solids, wide polylines) are solid. `arcs` are the ARC entities among `lines`:
+    one that bounds no solid face and looks like a door swing (`door_swings`) is the path of
+    a door leaf, not a wall, and gets no band (it would close the doorway).
 
     Returns
     -------
     solid : MultiPolygon
     enclosed : MultiPolygon
         Everything the linework and fills enclose, holes filled (rooms and walls together).
+    loose : ndarray of LineString
+        The edges that became bands (single-line walls), door swings left out.
 
     Examples
     --------
     >>> outer = shapely.box(0, 0, 10, 8).exterior
     >>> inner = shapely.box(0.3, 0.3, 9.7, 7.7).exterior
-    >>> solid, enclosed = wall_regions([], [outer, inner], [], gap_tolerance=0.01,
+    >>> solid, enclosed, _ = wall_regions([], [outer, inner], [], gap_tolerance=0.01,
     ...     max_wall_thickness=0.6, nominal_wall_thickness=0.05)
     >>> round(solid.area, 6), enclosed.area
     (10.44, 80.0)
     """
+    from clearway.converter.openings import close_open_wall_ends
+
     edges = node_lines(np.concatenate([np.asarray(lines, dtype=object),
                                        np.asarray(rings, dtype=object)]), gap_tolerance=gap_tolerance)
+    if len(edges):
+        caps = close_open_wall_ends(edges, max_thickness=max_wall_thickness)
+        if len(caps):
+            edges = shapely.get_parts(shapely.union_all(np.concatenate([edges, caps])))
     faces = np.empty(0, dtype=object)
     if len(edges):
         faces = shapely.get_parts(shapely.polygonize(edges))
     if len(faces):
         tolerance = max(max_wall_thickness / 100.0, 1e-4)
-        radius = inscribed_radius(faces, tolerance, above=(max_wall_thickness + tolerance) / 2)
-        solid_faces = faces[2.0 * radius <= max_wall_thickness + tolerance]
+        above = (max(max_wall_thickness, THICK_WALL_MAX if texts is not None else 0) + tolerance) / 2
+        radius = inscribed_radius(faces, tolerance, above=above)
+        solid = 2.0 * radius <= max_wall_thickness + tolerance
+        if texts is not None:
+            thick = ~solid & (2.0 * radius <= THICK_WALL_MAX + tolerance)
+            if thick.any() and len(texts):
+                points = shapely.points(np.asarray(texts, dtype=float).reshape(-1, 2))
+                face_index, _ = shapely.STRtree(points).query(faces[thick], predicate="contains")
+                named = np.zeros(int(thick.sum()), bool)
+                named[np.unique(face_index)] = True
+                thick[np.flatnonzero(thick)[named]] = False
+            solid |= thick
+        solid_faces = faces[solid]
     else:
         solid_faces = faces
     fills = np.asarray(fills, dtype=object)
     solid = union_polygons(np.concatenate([solid_faces, fills]))
+    loose = np.empty(0, dtype=object)
     if len(edges):
         loose = edges[~shapely.covered_by(edges, solid)] if not solid.is_empty else edges
         swings = door_swings(arcs)
@@ -211,7 +241,7 @@ def wall_regions(lines, rings, fills, *, gap_tolerance, max_wall_thickness, nomi
             loose = loose[~shapely.is_empty(loose)]
         solid = as_multipolygon(shapely.union_all([solid, bands(loose, nominal_wall_thickness)]))
     enclosed = fill_holes(shapely.union_all(np.concatenate([faces, fills, [solid]])))
-    return solid, enclosed
+    return solid, enclosed, loose
 
 
 def filled_regions(lines, rings, fills, *, gap_tolerance, nominal_thickness):
@@ -237,12 +267,18 @@ def filled_regions(lines, rings, fills, *, gap_tolerance, nominal_thickness):
 
 
 def boundary_regions(lines, rings, fills, *, gap_tolerance, nominal_thickness):
-    """Return (boundary band, area inside the boundary) from boundary-layer linework, metres."""
+    """Return (boundary band, area inside the boundary) from boundary-layer linework, metres.
+
+    Only the outline counts: the faces the linework closes are filled, and the band follows
+    the outline of their union; lines inside it (a floor grid, tile joints, a level change
+    drawn on the same layer) are not obstacles.
+    """
     edges = node_lines(np.concatenate([np.asarray(lines, dtype=object),
                                        np.asarray(rings, dtype=object)]), gap_tolerance=gap_tolerance)
     faces = shapely.get_parts(shapely.polygonize(edges)) if len(edges) else edges
     inside = fill_holes(shapely.union_all(np.concatenate([faces, np.asarray(fills, dtype=object)])))
-    return bands(edges, nominal_thickness), inside
+    outline = shapely.get_parts(shapely.boundary(inside)) if not inside.is_empty else edges[:0]
+    return bands(outline, nominal_thickness), inside
 
 
 def free_space(container, obstacles):

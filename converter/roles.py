@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass, field
 from fnmatch import fnmatchcase
 from types import MappingProxyType
@@ -9,23 +10,91 @@ from typing import Mapping
 
 from clearway.converter.floorplan import ROLES
 
-#: Default glob patterns per role, matched case-insensitively. The wall and outline
-#: patterns follow the AIA / US National CAD Standard layer names (A-WALL, A-COLS,
-#: A-FLOR-OTLN); the others match the words a facility team puts in a layer name.
+#: Default glob patterns per role, matched case-insensitively against the layer name and
+#: against the name left after an external-reference prefix (``SITE$0$A-WALL``,
+#: ``SITE|A-WALL``). They cover the US National CAD Standard / AIA layer names (A-WALL,
+#: A-DOOR, A-GLAZ, A-FLOR-STRS, A-COLS, S-COLS, A-FLOR-OTLN), ISO 13567 names whose element
+#: field holds a CI/SfB code (21/22 walls, 28 frame and columns, 24 stairs, 31/32 openings:
+#: ``A-21...``), and the plain words offices use in English, French, German, Spanish,
+#: Italian and Dutch.
 DEFAULT_ROLE_PATTERNS: Mapping[str, tuple[str, ...]] = MappingProxyType({
-    "wall": ("A-WALL*", "S-WALL*", "A-COLS*", "S-COLS*", "WALL*", "COLUMN*"),
+    "opening": ("*DOOR*", "*GLAZ*", "*WINDOW*", "*-WIND", "*-WIND-*", "*OPNG*", "*OPENING*",
+                "*CURTAIN*", "*TÜR*", "*TUER*", "TUR", "TUR[-_ ]*", "*FENSTER*", "*PORTE*",
+                "*FENETRE*", "*FENÊTRE*", "*PUERTA*", "*VENTANA*", "*FINESTR*", "*DEUR*",
+                "*RAAM*", "*RAMEN*", "A?3[12]*"),
+    "stair": ("*STAIR*", "*STRS*", "*TREPPE*", "*ESCALIER*", "*ESCALERA*", "*SCALA",
+              "*TRAP[-_ ]*", "*TRAPPE*", "A?24*"),
+    "wall": ("*WALL*", "A-COLS*", "S-COLS*", "*COLUMN*", "*-COL", "*-COL-*", "*-COLS-*",
+             "WAND*", "*[-_ ]WAND*", "*WÄNDE*", "*WAENDE*", "*MAUER*", "MUR", "MURS*",
+             "MUR[-_ ]*", "*[-_ ]MUR", "*[-_ ]MURS*", "*[-_ ]MUR[-_ ]*", "MURO*", "*[-_ ]MURO*",
+             "*PARED*", "*PARETE*", "*PARETI*", "*MUUR*", "*MUREN*", "*STÜTZ*", "*STUETZ*",
+             "*POTEAU*", "*PILAR*", "*PILLAR*", "*COLONN*", "A?2[12]*", "A?28*"),
     "racking": ("*RACK*", "*SHELV*", "*PALLET*"),
     "keepout": ("*KEEPOUT*", "*KEEP-OUT*", "*KEEP_OUT*", "*NOGO*", "*NO-GO*"),
-    "boundary": ("A-FLOR-OTLN*", "*BOUNDARY*"),
+    "boundary": ("A-FLOR-OTLN*", "*-OTLN", "*BOUNDARY*"),
     "station": ("*STATION*", "*-STN*", "STN-*"),
     "shared": ("*SHARED*", "*WALKWAY*", "*PEDESTRIAN*"),
 })
 
+#: Layers that the default patterns leave out although a role's word is in their name:
+#: linework above or below the cut plane (overhead, hidden, heads of openings), demolished
+#: work and non-plotting layers. Patterns the user gives are not filtered.
+DEFAULT_IGNORED_PATTERNS = ("*OVHD*", "*OVERHEAD*", "*HIDDEN*", "*HIDD*", "*-HEAD", "*-HEAD-*",
+                            "*-ABOV*", "*-BELO*", "*-DEMO*", "*DEMOL*", "*-NPLT*", "*-IDEN*",
+                            "*-TEXT*", "*-ANNO*", "*-DIMS*", "*-TAG*", "*-NOTE*", "*-ELEV*",
+                            "*-SECT*", "*-SYMB*")
+
+#: Opening blocks and layers by kind: a door swings or slides (passable), a window is glazing
+#: (closed like wall). Block names are matched like layer names; door blocks named by size
+#: in feet and inches (``3068`` = 3'0" x 6'8") are doors too (common practice).
+DOOR_PATTERNS = ("*DOOR*", "*TÜR*", "*TUER*", "TUR", "TUR[-_ ]*", "*PORTE*", "*PUERTA*", "*DEUR*",
+                 "*GATE*", "*-DR-*", "DR[-_ ]*", "[1-9][0-9][6-8][0-9]", "*A?32*")
+WINDOW_PATTERNS = ("*WINDOW*", "*-WIND", "*-WIND-*", "WIN[-_ ]*", "*WDW*", "*GLAZ*", "*CURTAIN*",
+                   "*FENSTER*", "*FENETRE*", "*FENÊTRE*", "*VENTANA*", "*FINESTR*", "*RAAM*",
+                   "*RAMEN*", "*A?31*")
+
 #: Role -> the option / config key that sets it (``--walls``, ``[layers] walls = [...]``).
 ROLE_OPTION_NAMES: Mapping[str, str] = MappingProxyType({
+    "opening": "openings", "stair": "stairs",
     "wall": "walls", "racking": "racking", "keepout": "keepout",
     "boundary": "boundary", "station": "stations", "shared": "shared",
 })
+
+_XREF_PREFIX = re.compile(r"^.*\$\d+\$|^.*\|")
+
+
+def name_candidates(name):
+    """Return the upper-case names a layer or block is matched under: the name itself and,
+    for a bound or attached external reference, the name after its prefix.
+
+    Examples
+    --------
+    >>> name_candidates("SitePlan$0$A-Wall"), name_candidates("plan|Doors")
+    (('SITEPLAN$0$A-WALL', 'A-WALL'), ('PLAN|DOORS', 'DOORS'))
+    """
+    upper = str(name).upper()
+    stripped = _XREF_PREFIX.sub("", upper)
+    return (upper, stripped) if stripped and stripped != upper else (upper,)
+
+
+def _matches(names, patterns):
+    return any(fnmatchcase(name, pattern.upper()) for name in names for pattern in patterns)
+
+
+def opening_kind(name):
+    """Return "door" or "window" for a layer or block name that says which, else None.
+
+    Examples
+    --------
+    >>> opening_kind("A-DOOR"), opening_kind("X$0$A-GLAZ-CURT"), opening_kind("3068"), opening_kind("A-WALL")
+    ('door', 'window', 'door', None)
+    """
+    names = name_candidates(name)
+    if _matches(names, WINDOW_PATTERNS):
+        return "window"
+    if _matches(names, DOOR_PATTERNS):
+        return "door"
+    return None
 
 
 @dataclass(frozen=True)
@@ -44,6 +113,8 @@ class Roles:
     >>> roles = Roles.from_options(racking=["SHELF*"])
     >>> roles.role_of("a-wall-extr"), roles.role_of("Shelf-01"), roles.role_of("A-RACK")
     ('wall', 'racking', None)
+    >>> roles.role_of("SITE$0$Mauer"), roles.role_of("plan|A-DOOR"), roles.role_of("A-WALL-OVHD")
+    ('wall', 'opening', None)
     """
 
     patterns: Mapping[str, tuple[str, ...]] = field(default_factory=lambda: DEFAULT_ROLE_PATTERNS)
@@ -82,9 +153,20 @@ class Roles:
         return cls(patterns, frozenset(explicit))
 
     def role_of(self, layer_name):
-        """Return the role of `layer_name` (case-insensitive), or None when no pattern matches."""
-        name = str(layer_name).upper()
+        """Return the role of `layer_name` (case-insensitive), or None when no pattern matches.
+
+        The name after an external-reference prefix (``XREF$0$NAME``, ``XREF|NAME``) is
+        matched too. A layer that only a default pattern matches is left out when it also
+        matches DEFAULT_IGNORED_PATTERNS (overhead, hidden, demolished, annotation).
+        """
+        names = name_candidates(layer_name)
+        ignored = None
         for role in ROLES:
-            if any(fnmatchcase(name, pattern.upper()) for pattern in self.patterns[role]):
+            if _matches(names, self.patterns[role]):
+                if role not in self.explicit:
+                    if ignored is None:
+                        ignored = _matches(names, DEFAULT_IGNORED_PATTERNS)
+                    if ignored:
+                        continue
                 return role
         return None

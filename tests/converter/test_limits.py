@@ -32,7 +32,7 @@ def _refused(path, key, **options):
     assert message.startswith(path.name + ": ")
     assert f"over the limit {key} = " in message
     assert f"[limits] {key} = " in message                     # how to raise it
-    assert time.perf_counter() - start < 10                    # refused, not worked through
+    assert time.perf_counter() - start < 60                    # refused, not worked through (a hang guard, not a speed test)
     return message
 
 

@@ -44,10 +44,10 @@ def test_round_column_is_solid_and_a_wide_circle_is_a_room(room_drawing):
 def test_face_wider_than_max_wall_thickness_is_a_room():
     # analytic: a 0.5 m band is solid under 0.6 m and a room under 0.4 m
     rings = [shapely.box(0, 0, 10, 10.5).exterior, shapely.box(0.5, 0.5, 9.5, 10).exterior]
-    solid, _ = wall_regions([], rings, [], gap_tolerance=0.01, max_wall_thickness=0.6,
+    solid, _, _ = wall_regions([], rings, [], gap_tolerance=0.01, max_wall_thickness=0.6,
                             nominal_wall_thickness=0.05)
     assert solid.area == pytest.approx(10 * 10.5 - 9 * 9.5)
-    solid, _ = wall_regions([], rings, [], gap_tolerance=0.01, max_wall_thickness=0.4,
+    solid, _, _ = wall_regions([], rings, [], gap_tolerance=0.01, max_wall_thickness=0.4,
                             nominal_wall_thickness=0.05)
     # analytic: only nominal 0.05 m bands along both rings (perimeters 41 m and 37 m)
     assert solid.area == pytest.approx(0.05 * (41 + 37), rel=0.01)
@@ -64,9 +64,10 @@ def test_t_junction_one_millimetre_short_is_closed(room_drawing):
     assert len(areas) == 2
     assert sum(areas) == pytest.approx(9.6 * 7.6 - 0.1 * 7.6, abs=1e-3)
     assert shapely.Point(5.0, 3.0).within(plan.regions["wall"])
-    # without gap closing the partition's faces enclose nothing: two thin lines, not a wall
+    # without gap closing the two faces still end side by side, 0.1 m apart and square to
+    # the segment between their ends: a wall stopping open, closed at its end (a jamb)
     loose = read_floorplan(write(), gap_tolerance=0.0)
-    assert shapely.Point(5.0, 3.0).within(loose.free_space)
+    assert shapely.Point(5.0, 3.0).within(loose.regions["wall"])
 
 
 def test_endpoint_gap_closed_endpoint_to_endpoint():
@@ -86,17 +87,31 @@ def test_duplicated_reversed_and_zero_length_lines_do_no_harm(room_drawing):
     assert read_floorplan(write("b.dxf")).free_space.area == pytest.approx(baseline)
 
 
-def test_leak_is_reported_with_location_and_width(tmp_path):
+def test_open_exterior_gap_is_an_exterior_opening_not_a_leak(tmp_path):
     doc = new_drawing(6)
     wall_with_gap(doc.modelspace(), 0, 0, 20, 12, thickness=0.2, gap=(8.0, 9.2))
     plan = read_floorplan(save(doc, tmp_path))
+    assert plan.leaks == ()
+    [opening] = plan.openings
+    # analytic: the opening spans x 8.0-9.2 in the 0.2 m south wall, nothing drawn in it
+    assert (opening.x, opening.y) == pytest.approx((8.6, 0.1), abs=0.02)
+    assert opening.width == pytest.approx(1.2, abs=0.02)
+    assert (opening.kind, opening.exterior, opening.depth) == ("open", True, pytest.approx(0.2))
+    assert any("1.20 m" in warning and "exterior" in warning for warning in plan.warnings)
+    # the floor is the interior: the exterior opening is closed for the robot
+    assert plan.free_space.area == pytest.approx(19.6 * 11.6, rel=0.01)
+
+
+def test_leak_is_reported_with_location_and_width(tmp_path):
+    doc = new_drawing(6)
+    # 3.0 m with nothing drawn in it: wider than an unexplained doorway, so a leak
+    wall_with_gap(doc.modelspace(), 0, 0, 20, 12, thickness=0.2, gap=(8.0, 11.0))
+    plan = read_floorplan(save(doc, tmp_path))
     assert len(plan.leaks) == 1
     leak = plan.leaks[0]
-    # analytic: the opening spans x 8.0-9.2 in the 0.2 m south wall
-    assert (leak.x, leak.y) == pytest.approx((8.6, 0.1), abs=0.02)
-    assert leak.width == pytest.approx(1.2, abs=0.02)
-    assert any("1.20 m gap" in warning for warning in plan.warnings)
-    # the floor is computed as if the gap were sealed
+    assert (leak.x, leak.y) == pytest.approx((9.5, 0.1), abs=0.02)
+    assert leak.width == pytest.approx(3.0, abs=0.02)
+    assert any("3.00 m gap" in warning for warning in plan.warnings)
     assert plan.free_space.area == pytest.approx(19.6 * 11.6, rel=0.01)
 
 

@@ -1,0 +1,104 @@
+"""The building's interior: solid walls, the openings in them, the envelope and its leaks.
+
+Wall linework becomes solid walls (`polygons.wall_regions`); the gaps between wall ends are
+found and classified (`openings`); windows and closed openings are closed like wall. With
+every opening bridged the walls enclose the building: its envelope. Openings on the envelope
+lead outside: they are closed too and listed as exterior openings, so the navigable floor is
+the interior. A gap that no opening explains and through which the floor still escapes is a
+leak, reported where it is. All lengths in metres.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import shapely
+
+from clearway.converter.floorplan import Opening
+from clearway.converter.openings import (MAX_DOOR_WIDTH, MAX_OPEN_WIDTH, MAX_WINDOW_WIDTH,
+                                         classify_gaps, find_gaps)
+from clearway.converter.polygons import (as_multipolygon, fill_holes, find_leaks, union_polygons,
+                                         wall_regions)
+
+_MAX_WIDTH = {"open": MAX_OPEN_WIDTH, "door": MAX_DOOR_WIDTH, "closed": MAX_DOOR_WIDTH,
+              "window": MAX_WINDOW_WIDTH}
+
+
+@dataclass(frozen=True)
+class Interior:
+    """What the walls make of the floor.
+
+    walls : MultiPolygon, solid walls with windows and closed openings filled in
+    container : MultiPolygon, the floor inside the envelope (or what the leak search sealed)
+    closures : MultiPolygon, exterior doors and open gaps, closed for the robot
+    openings : tuple of Opening
+    leaks : list of (x, y, width)
+    enclosed : bool, the envelope closes once the openings are bridged
+    """
+
+    walls: object
+    container: object
+    closures: object
+    openings: tuple
+    leaks: list
+    enclosed: bool
+
+
+def building_interior(wall_lines, wall_rings, wall_fills, wall_arcs, *, door_lines, window_lines,
+                      other_lines, swing_arcs, texts_xy, gap_tolerance, max_wall_thickness,
+                      nominal_wall_thickness, find_envelope=True):
+    """Return the Interior of a building from its wall linework and opening linework.
+
+    Parameters
+    ----------
+    wall_lines, wall_rings, wall_fills, wall_arcs : arrays of geometry (`Parts.geometries`)
+    door_lines, window_lines, other_lines, swing_arcs : arrays of LineString
+        See `openings.classify_gaps`.
+    texts_xy : (N, 2) array
+        Where texts stand: a narrow closed face with a text inside is a room, not a wall.
+    find_envelope : bool
+        False when a boundary outline is drawn: the envelope is not needed (every opening
+        is then interior unless it lies on the outline, decided by the caller).
+    """
+    solid, enclosed, loose = wall_regions(wall_lines, wall_rings, wall_fills, arcs=wall_arcs,
+                                          texts=texts_xy, gap_tolerance=gap_tolerance,
+                                          max_wall_thickness=max_wall_thickness,
+                                          nominal_wall_thickness=nominal_wall_thickness)
+    gaps = find_gaps(solid, loose, max_thickness=max_wall_thickness)
+    kinds = classify_gaps(gaps, door_lines=door_lines, window_lines=window_lines,
+                          other_lines=other_lines, swing_arcs=swing_arcs)
+    kept = [(gap, kind) for gap, kind in zip(gaps, kinds) if gap.width <= _MAX_WIDTH[kind]]
+    quads = np.array([gap.quad for gap, _ in kept], dtype=object)
+    shut = np.array([gap.quad for gap, kind in kept if kind in ("window", "closed")], dtype=object)
+    walls = union_polygons(np.concatenate([shapely.get_parts(solid), shut])) if len(shut) else solid
+    bridged = union_polygons(np.concatenate([shapely.get_parts(solid), quads])) if len(quads) \
+        else solid
+    base = fill_holes(shapely.union_all([enclosed, bridged]))
+    leaks, container = find_leaks(bridged, base) if find_envelope else ([], base)
+    envelope = fill_holes(container)
+    openings, closures = [], []
+    for gap, kind in kept:
+        exterior = find_envelope and _leads_outside(gap, envelope)
+        openings.append(Opening(
+            x=round(float(gap.middle[0]), 4), y=round(float(gap.middle[1]), 4),
+            width=round(gap.width, 4), kind=kind, exterior=bool(exterior),
+            start=(round(float(gap.start[0]), 4), round(float(gap.start[1]), 4)),
+            end=(round(float(gap.end[0]), 4), round(float(gap.end[1]), 4)),
+            depth=round(gap.depth, 4)))
+        if exterior and kind in ("door", "open"):
+            closures.append(gap.quad)
+    closures = as_multipolygon(shapely.union_all(closures)) if closures else shapely.MultiPolygon()
+    return Interior(walls=walls, container=as_multipolygon(container), closures=closures,
+                    openings=tuple(openings), leaks=leaks,
+                    enclosed=not leaks and not envelope.is_empty)
+
+
+def _leads_outside(gap, envelope):
+    """True when a point just beyond the wall, on either side of the gap, is outside."""
+    direction = (gap.end - gap.start) / max(gap.width, 1e-12)
+    normal = np.array([-direction[1], direction[0]])
+    reach = gap.depth / 2.0 + 0.15
+    probes = np.array([gap.middle + normal * reach, gap.middle - normal * reach])
+    inside = shapely.contains_xy(envelope, probes[:, 0], probes[:, 1])
+    return not bool(np.all(inside))

@@ -1,0 +1,345 @@
+"""Openings in the walls: find the gaps between wall ends that face each other, and say
+what fills each one (a door, a window, a closed opening or nothing).
+
+Walls stop at every door and window; the door leaf, its swing and the glazing are drawn on
+other layers or in blocks. An opening is found from the wall linework alone: a wall end (the
+short face that closes a wall between its two long faces, or the free end of a single-line
+wall) whose outward direction meets another wall face, parallel to it, within a few metres,
+with nothing of the wall in between. What is drawn inside the gap on the opening layers and
+in opening blocks classifies it. All lengths in metres.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import shapely
+
+#: Gaps wider than these are not openings of that kind (metres): an open gap with nothing
+#: drawn in it; a door (single, double, sliding, dock and vehicle doors, common practice
+#: 0.6 to 4.5 m); a window or glazed front.
+MAX_OPEN_WIDTH = 2.6
+MAX_DOOR_WIDTH = 6.0
+MAX_WINDOW_WIDTH = 12.0
+#: Narrowest gap taken for an opening, metres (less is a drafting slit).
+MIN_OPENING_WIDTH = 0.3
+#: A wall piece whose bounding box has a shorter diagonal than this is a column or a pier,
+#: not a wall that an opening interrupts (metres).
+MIN_WALL_PIECE = 1.2
+
+
+@dataclass(frozen=True)
+class Gap:
+    """A gap between two wall faces: from `start` (on a wall end) to `end` along `direction`.
+
+    start, end : (2,) arrays, metres; the middle of the wall at each jamb.
+    depth : the wall's thickness at the jamb (0 for a single-line wall), metres.
+    quad : Polygon, the gap itself (the jamb face swept across to the other side).
+    """
+
+    start: np.ndarray
+    end: np.ndarray
+    depth: float
+    quad: object
+
+    @property
+    def width(self) -> float:
+        return float(np.hypot(*(self.end - self.start)))
+
+    @property
+    def middle(self) -> np.ndarray:
+        return (self.start + self.end) / 2.0
+
+
+def close_open_wall_ends(lines, *, max_thickness, tolerance=0.01):
+    """Return short segments closing double-line walls whose two faces end open.
+
+    A free end of wall linework (reached by one line only) is paired with another free end
+    at most `max_thickness` away when both lines run parallel there and the segment between
+    the ends is square to them: the two faces of one wall stopping at an opening with no
+    jamb line drawn. Closing them lets the wall between the faces become solid.
+
+    Parameters
+    ----------
+    lines : array of LineString, noded (metres)
+
+    Returns
+    -------
+    ndarray of LineString
+    """
+    lines = np.asarray(lines, dtype=object)
+    if len(lines) < 2:
+        return np.empty(0, dtype=object)
+    coords = [np.asarray(line.coords)[:, :2] for line in lines]
+    ends = np.array([c[0] for c in coords] + [c[-1] for c in coords])
+    inward = np.array([c[1] - c[0] for c in coords] + [c[-2] - c[-1] for c in coords])
+    inward /= np.maximum(np.hypot(inward[:, 0], inward[:, 1]), 1e-12)[:, None]
+    key = np.round(ends / tolerance).astype(np.int64)
+    _, inverse, counts = np.unique(key, axis=0, return_inverse=True, return_counts=True)
+    free = np.flatnonzero(counts[inverse.ravel()] == 1)
+    if len(free) < 2:
+        return np.empty(0, dtype=object)
+    from scipy.spatial import cKDTree
+    tree = cKDTree(ends[free])
+    pairs = tree.query_pairs(max_thickness, output_type="ndarray")
+    if not len(pairs):
+        return np.empty(0, dtype=object)
+    a, b = free[pairs[:, 0]], free[pairs[:, 1]]
+    across = ends[b] - ends[a]
+    length = np.hypot(across[:, 0], across[:, 1])
+    ok = length > tolerance
+    unit = across / np.maximum(length, 1e-12)[:, None]
+    parallel = np.abs(np.sum(inward[a] * inward[b], axis=1)) > 0.97
+    same_way = np.sum(inward[a] * inward[b], axis=1) > 0     # both faces run back into the wall
+    square = (np.abs(np.sum(unit * inward[a], axis=1)) < 0.26) & \
+        (np.abs(np.sum(unit * inward[b], axis=1)) < 0.26)
+    keep = ok & parallel & same_way & square
+    a, b, length = a[keep], b[keep], length[keep]
+    # each free end joins its nearest partner only
+    order = np.argsort(length, kind="stable")
+    used, segments = set(), []
+    for index in order:
+        i, j = int(a[index]), int(b[index])
+        if i in used or j in used:
+            continue
+        used.update((i, j))
+        segments.append(shapely.LineString([ends[i], ends[j]]))
+    return np.array(segments, dtype=object)
+
+
+def wall_ends(solid, loose, *, max_thickness):
+    """Return the wall ends: (middle (E, 2), outward direction (E, 2), face length (E,)).
+
+    A wall end is a face of a solid wall no longer than `max_thickness` + 5 cm whose two
+    neighbouring faces turn away from it at about right angles on the same side and run
+    back parallel (the end of a bar), on a wall piece larger than a column; or the free end
+    of a single-line wall (`loose` lines, face length 0).
+    """
+    middles, directions, lengths = [], [], []
+    pieces = shapely.get_parts(solid)
+    if len(pieces):
+        bounds = shapely.bounds(pieces)
+        diagonal = np.hypot(bounds[:, 2] - bounds[:, 0], bounds[:, 3] - bounds[:, 1])
+        pieces = shapely.orient_polygons(shapely.simplify(pieces[diagonal >= MIN_WALL_PIECE], 0.003),
+                                         exterior_cw=False)
+        rings = shapely.get_rings(pieces) if len(pieces) else []
+        for ring in rings:
+            xy = np.asarray(ring.coords)[:-1, :2]
+            if len(xy) < 4:
+                continue
+            edge = np.roll(xy, -1, axis=0) - xy
+            length = np.hypot(edge[:, 0], edge[:, 1])
+            unit = edge / np.maximum(length, 1e-12)[:, None]
+            before, after = np.roll(unit, 1, axis=0), np.roll(unit, -1, axis=0)
+            # material on the left of every edge: a convex corner turns left
+            turn_in = before[:, 0] * unit[:, 1] - before[:, 1] * unit[:, 0]
+            turn_out = unit[:, 0] * after[:, 1] - unit[:, 1] * after[:, 0]
+            antiparallel = np.sum(before * after, axis=1) < -0.9
+            end = (length <= max_thickness + 0.05) & (length >= 0.02) & \
+                (turn_in > 0.9) & (turn_out > 0.9) & antiparallel & \
+                (np.roll(length, 1) > 0.05) & (np.roll(length, -1) > 0.05)
+            for index in np.flatnonzero(end):
+                middles.append(xy[index] + edge[index] / 2.0)
+                directions.append((unit[index, 1], -unit[index, 0]))  # right of the edge: out
+                lengths.append(length[index])
+    loose = np.asarray(loose, dtype=object)
+    if len(loose):
+        coords = [np.asarray(line.coords)[:, :2] for line in loose]
+        ends = np.array([c[0] for c in coords] + [c[-1] for c in coords])
+        outward = np.array([c[0] - c[1] for c in coords] + [c[-1] - c[-2] for c in coords])
+        key = np.round(ends / 0.005).astype(np.int64)
+        _, inverse, counts = np.unique(key, axis=0, return_inverse=True, return_counts=True)
+        free = counts[inverse.ravel()] == 1
+        norm = np.hypot(outward[:, 0], outward[:, 1])
+        free &= norm > 1e-9
+        middles += list(ends[free])
+        directions += list(outward[free] / norm[free][:, None])
+        lengths += [0.0] * int(free.sum())
+    if not middles:
+        return np.empty((0, 2)), np.empty((0, 2)), np.empty(0)
+    return np.array(middles, dtype=float), np.array(directions, dtype=float), np.array(lengths)
+
+
+def find_gaps(solid, loose, *, max_thickness, max_width=MAX_WINDOW_WIDTH):
+    """Find the gaps between wall ends and the wall faces they face.
+
+    From each wall end, rays go out along its direction (from the middle and, on a thick
+    wall, from points a fifth of the face in from each corner). The gap is accepted when all
+    rays meet a wall within `max_width` at nearly the same distance (the face opposite is
+    parallel to the end) and the gap swept between holds no wall. Two ends facing each
+    other give one gap.
+
+    Returns
+    -------
+    list of Gap
+    """
+    middles, directions, lengths = wall_ends(solid, loose, max_thickness=max_thickness)
+    if not len(middles):
+        return []
+    loose = np.asarray(loose, dtype=object)
+    bands = shapely.buffer(loose, 0.005, cap_style="flat") if len(loose) else loose
+    walls = shapely.union_all(np.concatenate([shapely.get_parts(solid), bands]))
+    outline = shapely.boundary(walls)
+    tree_target = shapely.get_parts(outline)
+    if not len(tree_target):
+        return []
+    tree = shapely.STRtree(tree_target)
+    normals = np.c_[-directions[:, 1], directions[:, 0]]
+    offsets = np.array([0.0, -0.3, 0.3])
+    start_eps = 0.002
+    gaps = []
+    for index in range(len(middles)):
+        middle, direction, length = middles[index], directions[index], lengths[index]
+        rays = []
+        for offset in (offsets if length > 0.04 else offsets[:1]):
+            origin = middle + normals[index] * offset * length + direction * start_eps
+            rays.append(shapely.LineString([origin, origin + direction * max_width]))
+        distances = []
+        for ray in rays:
+            candidates = tree.query(ray, predicate="intersects")
+            if not len(candidates):
+                break
+            hits = shapely.intersection(ray, tree_target[candidates])
+            points = shapely.get_coordinates(hits)
+            if not len(points):
+                break
+            origin = np.asarray(ray.coords[0])
+            distances.append(float(np.min((points - origin) @ direction)) + start_eps)
+        if len(distances) != len(rays):
+            continue
+        distance = distances[0]
+        if distance < MIN_OPENING_WIDTH or max(distances) - min(distances) > 0.02 + 0.02 * distance:
+            continue
+        half = normals[index] * (length / 2.0) * 0.98
+        near, far = middle + direction * start_eps * 2, middle + direction * (distance - start_eps * 2)
+        quad = shapely.Polygon([near - half, near + half, far + half, far - half]) if length > 0 \
+            else shapely.LineString([near, far])
+        if shapely.intersects(quad, walls) and shapely.intersection(quad, walls).area > 1e-6:
+            continue
+        quad = shapely.Polygon([middle - half, middle + half,
+                                middle + direction * distance + half,
+                                middle + direction * distance - half]) if length > 0 else \
+            shapely.LineString([middle, middle + direction * distance]).buffer(0.005, cap_style="flat")
+        gaps.append(Gap(middle.copy(), middle + direction * distance, float(length), quad))
+    return _merge_pairs(gaps)
+
+
+def _merge_pairs(gaps):
+    """Keep one gap of each pair found from both of its ends (the one with the deeper jamb)."""
+    if len(gaps) < 2:
+        return gaps
+    middles = np.array([gap.middle for gap in gaps])
+    from scipy.spatial import cKDTree
+    tree = cKDTree(middles)
+    order = sorted(range(len(gaps)), key=lambda i: (-gaps[i].depth, gaps[i].width))
+    kept, dropped = [], set()
+    for index in order:
+        if index in dropped:
+            continue
+        kept.append(gaps[index])
+        for other in tree.query_ball_point(middles[index], 0.05 + 0.05 * gaps[index].width):
+            if other != index and abs(gaps[other].width - gaps[index].width) < 0.05 + 0.05 * gaps[index].width:
+                dropped.add(other)
+    return sorted(kept, key=lambda gap: (round(gap.middle[0], 4), round(gap.middle[1], 4)))
+
+
+def arc_radius(arcs):
+    """Return the radius (metres) and sweep (degrees) of flattened arcs, shape (N,) each.
+
+    From the chord c and the arc length s: c / s = sin(t / 2) / (t / 2) for a sweep t, and
+    the radius is s / t.
+    """
+    arcs = np.asarray(arcs, dtype=object)
+    if not len(arcs):
+        return np.empty(0), np.empty(0)
+    length = shapely.length(arcs)
+    chord = shapely.distance(shapely.get_point(arcs, 0), shapely.get_point(arcs, -1))
+    half = np.linspace(np.pi, 1e-6, 2000)  # half sweep t / 2, decreasing so sinc increases
+    ratio = np.divide(chord, length, out=np.zeros_like(length), where=length > 0)
+    half_sweep = np.interp(ratio, np.sin(half) / half, half)
+    return length / np.maximum(2.0 * half_sweep, 1e-9), np.degrees(2.0 * half_sweep)
+
+
+def classify_gaps(gaps, *, door_lines, window_lines, other_lines, swing_arcs):
+    """Return the kind of each gap: "door", "window", "closed" or "open".
+
+    Parameters
+    ----------
+    gaps : list of Gap
+    door_lines, window_lines, other_lines : arrays of LineString (metres)
+        Linework on door layers and in door blocks, on window layers and in window blocks,
+        and on opening layers that do not say which.
+    swing_arcs : array of LineString
+        Arcs from any layer that may be door swings.
+
+    A swing arc of a radius between 0.35 and 1.2 times the gap's width (one leaf or one of
+    two) next to the gap makes a door; two or more lines along the gap spanning most of it
+    (glazing, sill) or window linework make a window; one line straight across on a door or
+    opening layer makes a closed opening (an overhead or locked door); other door linework
+    (a sliding door's panels) makes a door; nothing makes an open gap.
+    """
+    kinds = []
+    groups = {"door": np.asarray(door_lines, dtype=object),
+              "window": np.asarray(window_lines, dtype=object),
+              "other": np.asarray(other_lines, dtype=object)}
+    trees = {name: shapely.STRtree(lines) for name, lines in groups.items() if len(lines)}
+    arcs = np.asarray(swing_arcs, dtype=object)
+    radius, sweep = arc_radius(arcs)
+    arc_tree = shapely.STRtree(arcs) if len(arcs) else None
+    for gap in gaps:
+        width = gap.width
+        line = shapely.LineString([gap.start, gap.end])
+        zone = line.buffer(max(gap.depth / 2.0, 0.02) + 0.03, cap_style="flat")
+        swing_zone = line.buffer(width * 1.1)
+        found = {}
+        for name, tree in trees.items():
+            near = groups[name][tree.query(zone, predicate="intersects")]
+            found[name] = near
+        is_door = False
+        if arc_tree is not None:
+            near = arc_tree.query(swing_zone, predicate="intersects")
+            if len(near):
+                fits = (radius[near] >= 0.35 * width) & (radius[near] <= 1.2 * width) & \
+                    (sweep[near] >= 30) & (sweep[near] <= 185)
+                # the arc must start or end near the gap (hinged at a jamb, closing on it)
+                ends = np.concatenate([shapely.get_coordinates(shapely.get_point(arcs[near], 0)),
+                                       shapely.get_coordinates(shapely.get_point(arcs[near], -1))])
+                close = shapely.distance(shapely.points(ends), line).reshape(2, -1).min(axis=0) \
+                    <= 0.15 * width + gap.depth
+                is_door = bool(np.any(fits & close))
+        if is_door:
+            kinds.append("door")
+            continue
+        across = {name: _spanning(lines, line, width) for name, lines in found.items()}
+        if len(found.get("window", ())) and across.get("window", 0) >= 1:
+            kinds.append("window")
+        elif sum(across.values()) >= 2:
+            kinds.append("window")
+        elif across.get("door", 0) + across.get("other", 0) == 1 and not len(found.get("window", ())):
+            kinds.append("closed")
+        elif len(found.get("door", ())):
+            kinds.append("door")
+        elif len(found.get("window", ())):
+            kinds.append("window")
+        else:
+            kinds.append("open")
+    return kinds
+
+
+def _spanning(lines, across, width):
+    """Count the lines that run along the gap line `across` over most (75 %) of its width."""
+    if not len(lines):
+        return 0
+    direction = np.subtract(across.coords[1], across.coords[0]) / max(width, 1e-12)
+    count = 0
+    for line in lines:
+        xy = np.asarray(line.coords)[:, :2]
+        segments = np.diff(xy, axis=0)
+        along = np.abs(segments @ direction)
+        total = np.hypot(segments[:, 0], segments[:, 1])
+        straight = along >= 0.97 * total
+        projected = np.sum(along[straight])
+        if projected >= 0.75 * width:
+            count += 1
+    return count
