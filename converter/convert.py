@@ -10,14 +10,14 @@ import shapely
 
 from clearway.errors import ConfigError, DrawingError
 from clearway.limits import Limits
-from clearway.converter.floorplan import OBSTACLE_ROLES, ROLES, FloorPlan, Leak, PlanText, Station
+from clearway.converter.floorplan import OBSTACLE_ROLES, FloorPlan, Leak, PlanText, Station
 from clearway.converter.parts import Parts
 from clearway.converter.inserts import BLOCK_OPENING_PREFIX
 from clearway.converter.interior import building_interior
 from clearway.converter.polygons import as_multipolygon, boundary_regions, filled_regions, free_space
-from clearway.converter.read import read_drawing
+from clearway.converter.mapping import map_drawing
 from clearway.converter.roles import ROLE_OPTION_NAMES, Roles, opening_kind
-from clearway.converter.units import UNITS_TO_M, decide_units
+from clearway.converter.units import UNITS_TO_M
 
 #: Coordinates are snapped to this grid, metres (0.1 mm), so shared edges match exactly.
 SNAP_M = 1e-4
@@ -48,10 +48,16 @@ class LayerTable:
     layers: tuple[LayerRow, ...]
     paperspace: int = 0
     warnings: tuple[str, ...] = ()
+    unit_source: str = "header"
+    unit_evidence: tuple[str, ...] = ()
 
     def to_dict(self):
-        """Return the table as plain data: {"units", "m_per_unit", "layers": [...]}."""
-        return {"units": self.units, "m_per_unit": self.m_per_unit, "layers": [
+        """Return the table as plain data: {"units", "m_per_unit", "unit_source",
+        "unit_evidence", "warnings", "layers": [...]}."""
+        return {"units": self.units, "m_per_unit": self.m_per_unit,
+                "unit_source": self.unit_source, "unit_note": self.unit_note,
+                "unit_evidence": list(self.unit_evidence), "warnings": list(self.warnings),
+                "layers": [
             {"name": row.name, "entities": dict(row.entities),
              "extents": list(row.extents) if row.extents else None,
              "frozen": row.frozen, "off": row.off, "role": row.role} for row in self.layers]}
@@ -72,19 +78,6 @@ def _check_options(roles, units, limits, **lengths):
         if not isinstance(value, (int, float)) or not np.isfinite(value) or value < 0 \
                 or (value == 0 and name in ("chord_tolerance", "max_wall_thickness")):
             raise ConfigError(f"{name} must be a length > 0 m, got {value!r}")
-
-
-def _read(path, units, chord_tolerance, limits):
-    """Read the drawing and decide its unit: (content, (units, m_per_unit, note, warnings))."""
-    content = read_drawing(path, chord_tolerance=chord_tolerance, units=units, limits=limits,
-                           block_kind=opening_kind)
-    extents = [parts.extents() for parts in content.parts.values() if len(parts)]
-    span = 0.0
-    if extents:
-        box = np.array(extents)
-        with np.errstate(over="ignore", invalid="ignore"):  # refused later by the limits
-            span = float(np.max(box[:, 2:].max(axis=0) - box[:, :2].min(axis=0)))
-    return content, decide_units(content.insunits, units, span, source=content.source)
 
 
 def list_layers(path, *, roles=None, units=None, limits=None):
@@ -109,7 +102,9 @@ def list_layers(path, *, roles=None, units=None, limits=None):
     """
     _check_options(roles, units, limits)
     roles = roles or Roles()
-    content, (unit, factor, note, warnings) = _read(path, units, 0.001, limits or Limits())
+    mapping = map_drawing(path, roles=roles, units=units, chord_tolerance=0.001,
+                          limits=limits or Limits())
+    content, unit, factor, note = mapping.content, mapping.units, mapping.m_per_unit, mapping.unit_note
     rows = []
     for name in sorted(content.layer_states, key=str.upper):
         frozen, off = content.layer_states[name]
@@ -126,9 +121,10 @@ def list_layers(path, *, roles=None, units=None, limits=None):
                             (*box[:, :2].min(axis=0), *box[:, 2:].max(axis=0)))
         closed, open_ = content.closed_open.get(name, (0, 0))
         rows.append(LayerRow(name, tuple(sorted(content.counts.get(name, {}).items())),
-                             closed, open_, extents, bool(frozen), bool(off), roles.role_of(name)))
+                             closed, open_, extents, bool(frozen), bool(off),
+                             mapping.role_of.get(name)))
     return LayerTable(content.source, unit, factor, note, tuple(rows), content.paperspace,
-                      tuple(content.warnings) + tuple(warnings))
+                      tuple(mapping.warnings), mapping.unit_source, mapping.unit_evidence)
 
 
 def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_tolerance=0.01,
@@ -177,26 +173,18 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
                    nominal_wall_thickness=nominal_wall_thickness, label_radius=label_radius)
     roles = roles or Roles()
     limits = limits or Limits()
-    content, (unit, factor, note, unit_warnings) = _read(path, units, chord_tolerance, limits)
+    mapping = map_drawing(path, roles=roles, units=units, chord_tolerance=chord_tolerance,
+                          limits=limits)
+    content, unit, factor, note = mapping.content, mapping.units, mapping.m_per_unit, mapping.unit_note
     source = content.source
     if not any(content.counts.values()):
         raise DrawingError(f"{source}: model space is empty")
-    warnings = list(content.warnings) + list(unit_warnings)
-    visible = {name for name, (frozen, off) in content.layer_states.items() if not (frozen or off)}
-    by_role = {role: [] for role in ROLES}
-    for name in sorted(content.layer_states):
-        role = roles.role_of(name)
-        if role is None or not (content.counts.get(name) or name in content.parts):
-            continue
-        if name not in visible:
-            if content.counts.get(name):
-                warnings.append(f"{source}: layer {name!r} ({role}) is frozen or off; ignored")
-            continue
-        by_role[role].append(name)
+    warnings = list(mapping.warnings)
+    visible, by_role = mapping.visible, mapping.by_role
     _check_mapped(content, roles, by_role, source)
     _check_size(content, by_role, factor, unit, limits)
     for (layer, dxftype), count in sorted(content.skipped.items()):
-        if layer in visible and roles.role_of(layer) not in (None, "station"):
+        if layer in visible and mapping.role_of.get(layer) not in (None, "station", "opening"):
             warnings.append(f"{source}: {count} {dxftype} on layer {layer!r} skipped (not plan geometry)")
 
     def scaled_layers(names):
@@ -213,7 +201,7 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
     common = {"gap_tolerance": gap_tolerance}
     wall_parts = scaled("wall")
     openings = _opening_linework(content, by_role["opening"], scaled_layers)
-    unmapped = [name for name in visible if roles.role_of(name) is None]
+    unmapped = [name for name in visible if mapping.role_of.get(name) is None]
     swing_arcs = np.concatenate([wall_parts.arcs(), openings.pop("arcs"),
                                  scaled_layers(unmapped).arcs()])
     interior = building_interior(*wall_parts.geometries(), wall_parts.arcs(), **openings,
@@ -266,7 +254,8 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
                      warnings=tuple(warnings),
                      extents=tuple(float(value) for value in everything),
                      drawing_date=content.drawing_date, repairs=tuple(content.repairs),
-                     openings=interior.openings, texts=texts)
+                     openings=interior.openings, texts=texts, unit_source=mapping.unit_source,
+                     unit_evidence=tuple(mapping.unit_evidence))
 
 
 def _check_mapped(content, roles, by_role, source):

@@ -155,13 +155,15 @@ class Roles:
     def role_of(self, layer_name):
         """Return the role of `layer_name` (case-insensitive), or None when no pattern matches.
 
+        Roles whose patterns the user gave are tried first, then the others in ROLES order.
         The name after an external-reference prefix (``XREF$0$NAME``, ``XREF|NAME``) is
         matched too. A layer that only a default pattern matches is left out when it also
         matches DEFAULT_IGNORED_PATTERNS (overhead, hidden, demolished, annotation).
         """
         names = name_candidates(layer_name)
         ignored = None
-        for role in ROLES:
+        # the user's own patterns first: a layer they named wins over any default
+        for role in sorted(ROLES, key=lambda role: role not in self.explicit):
             if _matches(names, self.patterns[role]):
                 if role not in self.explicit:
                     if ignored is None:

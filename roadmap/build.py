@@ -8,6 +8,7 @@ import numpy as np
 import shapely
 from scipy.sparse.csgraph import connected_components
 from scipy.spatial import cKDTree
+from shapely.ops import polylabel  # shapely.polylabel exists only from shapely 2.1
 
 from clearway.roadmap import checks
 from clearway.roadmap.gvd import medial_axis
@@ -59,7 +60,7 @@ def _fragments(vertices, clearance, edges, regions, field, c):
     if extra_edges:
         edges = np.unique(np.vstack([edges, np.asarray(extra_edges)]), axis=0)
     seeds = [i for i in range(len(regions)) if i not in set(fragment_region.tolist())]
-    new_points = np.array([shapely.get_coordinates(shapely.polylabel(regions[i], 0.01))[0]
+    new_points = np.array([shapely.get_coordinates(polylabel(regions[i], 0.01))[0]
                            for i in seeds]).reshape(-1, 2)
     vertices = np.vstack([vertices, new_points])
     clearance = np.r_[clearance, field.at(new_points)]

@@ -72,8 +72,20 @@ def polylines(coordinates) -> np.ndarray:
 
 
 def polygon_parts(geometry) -> np.ndarray:
-    """Return the non-empty polygons of `geometry` as an object array, shape (P,)."""
+    """Return the non-empty polygons of `geometry` as an object array, shape (P,).
+
+    Nested collections are opened too (``make_valid`` returns a GeometryCollection that
+    may hold a MultiPolygon).
+
+    Examples
+    --------
+    >>> nested = shapely.GeometryCollection([shapely.MultiPolygon([shapely.box(0, 0, 1, 1)])])
+    >>> len(polygon_parts(nested))
+    1
+    """
     parts = shapely.get_parts(np.atleast_1d(np.asarray(geometry, dtype=object)))
+    while np.isin(shapely.get_type_id(parts), (4, 5, 6, 7)).any():
+        parts = shapely.get_parts(parts)
     parts = parts[shapely.get_type_id(parts) == 3]
     return parts[~shapely.is_empty(parts) & (shapely.area(parts) > 0)]
 

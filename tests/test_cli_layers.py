@@ -25,15 +25,18 @@ def test_layer_table_of_a_sample(samples):
     rows = {line.split()[0]: line.split() for line in result.stdout.splitlines()[2:]}
     assert rows["A-EQPM-RACK"][1] == "racking" and rows["A-WALL-EXTR"][1] == "wall"
     assert rows["A-FLOR-OTLN"][1] == "boundary" and rows["A-EQPM-STATION"][1] == "station"
-    assert rows["A-AREA-SHARED"][1] == "shared" and rows["A-DOOR"][1] == "-"
+    assert rows["A-AREA-SHARED"][1] == "shared" and rows["A-DOOR"][1] == "opening"
+    assert rows["A-FLOR-LEVL"][1] == "-"
 
 
 def test_json_has_exactly_the_documented_shape(samples):
     result = run("layers", samples / "clinic.dxf", "--json")
     assert result.exit_code == 0
     data = json.loads(result.stdout)
-    assert list(data) == ["units", "m_per_unit", "layers"]
-    assert (data["units"], data["m_per_unit"]) == ("in", 0.0254)
+    assert list(data) == ["units", "m_per_unit", "unit_source", "unit_note", "unit_evidence",
+                          "warnings", "layers"]
+    assert (data["units"], data["m_per_unit"], data["unit_source"]) == ("in", 0.0254, "header")
+    assert data["warnings"] == []
     for layer in data["layers"]:
         assert list(layer) == ["name", "entities", "extents", "frozen", "off", "role"]
     walls = next(layer for layer in data["layers"] if layer["name"] == "A-WALL-EXTR")
@@ -56,7 +59,7 @@ def test_options_and_config_choose_roles(samples, tmp_path):
                  "--racking", "*RACK*", "--units", "mm")
     data = json.loads(result.stdout)
     roles = {layer["name"]: layer["role"] for layer in data["layers"]}
-    assert roles["A-DOOR"] is None and roles["A-EQPM-RACK"] == "racking"
+    assert roles["A-DOOR"] == "opening" and roles["A-EQPM-RACK"] == "racking"
     assert data["units"] == "mm"
 
 

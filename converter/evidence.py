@@ -1,0 +1,234 @@
+"""What a drawing's content says about its unit, when the header's $INSUNITS may lie.
+
+Headers are often wrong: templates carry the wrong default and drawings pass through several
+programs. Some lengths in a floor plan cannot lie much: door leaves (their swing radius),
+wall thickness, the building's size, and DIMENSION entities whose text gives the length in
+feet and inches or with a unit. Each is measured in drawing units; a unit is plausible for
+a kind of evidence when it puts most of the measurements in the range the trade uses.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+
+import numpy as np
+import shapely
+
+from clearway.converter.openings import arc_radius
+from clearway.converter.units import UNITS_TO_M
+
+#: Units a content judgement may choose between (yards do not occur in floor plans).
+CANDIDATE_UNITS = ("mm", "cm", "m", "in", "ft")
+#: Plausible ranges, metres (common practice): a door leaf, the thickness of a wall, the
+#: larger side of one floor plan.
+DOOR_LEAF_M = (0.6, 1.3)
+WALL_THICKNESS_M = (0.05, 0.8)
+PLAN_SPAN_M = (3.0, 2000.0)
+
+_FEET_INCHES = re.compile(r"""^\s*(?:(\d+(?:\.\d+)?)\s*'\s*-?\s*)?(?:(\d+(?:\.\d+)?)(?:\s+(\d+)/(\d+))?\s*(?:"|''))?\s*$""")
+_WITH_UNIT = re.compile(r"^\s*(\d+(?:[.,]\d+)?)\s*(mm|cm|m)\s*$", re.IGNORECASE)
+
+
+@dataclass(frozen=True)
+class Evidence:
+    """One kind of evidence: its name, the measurements (drawing units) and what each
+    measurement is in metres for a metres-per-unit factor of 1 (the factor it implies, for
+    dimensions), and its weight in the decision."""
+
+    kind: str
+    values: np.ndarray
+    weight: float
+    implied: bool = False   # values are metres per drawing unit (dimension text)
+
+
+def door_swings(arcs):
+    """Radii (drawing units) of the arcs that sweep about a quarter turn (60 to 120 degrees),
+    the way door swings are drawn."""
+    radius, sweep = arc_radius(arcs)
+    return radius[(sweep >= 60) & (sweep <= 120) & (radius > 0)]
+
+
+def wall_thicknesses(lines, *, limit=4000):
+    """Distances (drawing units) between parallel wall lines that overlap along their length:
+    the wall's two faces. Each line contributes its nearest parallel partner."""
+    lines = np.asarray(lines, dtype=object)
+    if len(lines) < 2:
+        return np.empty(0)
+    segments = []
+    for line in lines[:limit]:
+        xy = np.asarray(line.coords)[:, :2]
+        segments.extend(zip(xy[:-1], xy[1:]))
+    if len(segments) < 2:
+        return np.empty(0)
+    a = np.array([s[0] for s in segments])
+    b = np.array([s[1] for s in segments])
+    d = b - a
+    length = np.hypot(d[:, 0], d[:, 1])
+    keep = length > 0
+    a, b, d, length = a[keep], b[keep], d[keep], length[keep]
+    if len(a) < 2:
+        return np.empty(0)
+    unit = d / length[:, None]
+    middle = (a + b) / 2
+    from scipy.spatial import cKDTree
+    tree = cKDTree(middle)
+    reach = float(np.median(length)) * 2 + 1e-9
+    found = []
+    for i, neighbours in enumerate(tree.query_ball_point(middle, reach)):
+        best = None
+        for j in neighbours:
+            if j == i or abs(unit[i] @ unit[j]) < 0.995:
+                continue
+            offset = middle[j] - a[i]
+            gap = abs(unit[i, 0] * offset[1] - unit[i, 1] * offset[0])
+            along = (np.array([a[j] - a[i], b[j] - a[i]]) @ unit[i])
+            overlap = min(max(along), length[i]) - max(min(along), 0.0)
+            if gap > 0 and overlap > 0.5 * min(length[i], length[j]) and (best is None or gap < best):
+                best = gap
+        if best is not None:
+            found.append(best)
+    return np.array(found)
+
+
+def dimension_factors(dimensions):
+    """Metres per drawing unit implied by dimension texts that state a length in feet and
+    inches (``13'-8"``, ``9' 6 1/2"``) or with a metric unit (``3.60 m``)."""
+    factors = []
+    for _, measured, text in dimensions:
+        metres = text_length_m(text)
+        if metres and measured > 0:
+            factors.append(metres / measured)
+    return np.array(factors)
+
+
+def text_length_m(text):
+    """The length a dimension text states, metres, or None when it states no unit.
+
+    Examples
+    --------
+    >>> round(text_length_m("13'-8\\""), 4), round(text_length_m('2\\' 10 1/2"'), 4), text_length_m("3.60 m")
+    (4.1656, 0.8763, 3.6)
+    >>> text_length_m("4150") is None
+    True
+    """
+    text = text.strip().replace("\u2032", "'").replace("\u2033", '"')
+    match = _WITH_UNIT.match(text)
+    if match:
+        return float(match.group(1).replace(",", ".")) * UNITS_TO_M[match.group(2).lower()]
+    if "'" not in text and '"' not in text:
+        return None
+    match = _FEET_INCHES.match(text)
+    if not match or not any(match.groups()):
+        return None
+    feet, inches, numerator, denominator = match.groups()
+    total = float(feet or 0) * 12 + float(inches or 0)
+    if numerator and denominator and float(denominator) > 0:
+        total += float(numerator) / float(denominator)
+    return total * 0.0254 if total > 0 else None
+
+
+def plausibility(evidence, units):
+    """Share (0 to 1) of the measurements that unit `units` makes plausible."""
+    factor = UNITS_TO_M[units]
+    if evidence.implied:
+        # a dimension's factor agrees with a unit within 3 % (rounded dimension text)
+        return float(np.mean(np.abs(evidence.values / factor - 1) <= 0.03))
+    low, high = {"door swings": DOOR_LEAF_M, "wall thickness": WALL_THICKNESS_M,
+                 "extent": PLAN_SPAN_M}[evidence.kind]
+    metres = evidence.values * factor
+    return float(np.mean((metres >= low) & (metres <= high)))
+
+
+def describe(evidence, units):
+    """One phrase: what the evidence measures in `units` ("doors 0.71-0.91 m")."""
+    factor = UNITS_TO_M[units]
+    values = evidence.values
+    if evidence.implied:
+        return f"{len(values)} dimension texts give {np.median(values) / factor:.3g} x this unit"
+    low, high = np.percentile(values * factor, [10, 90])
+    name = {"door swings": "doors", "wall thickness": "walls", "extent": "the plan"}[evidence.kind]
+    if evidence.kind == "extent":
+        return f"the plan {_metres(high)} across"
+    return f"{name} {_metres(low)}-{_metres(high)}" + (" thick" if name == "walls" else " wide")
+
+
+def _metres(value):
+    if value < 0.1:
+        return f"{value * 1000:.0f} mm"
+    return f"{value:.2f} m" if value < 100 else f"{value:.0f} m"
+
+
+def judge_units(evidence):
+    """Score every candidate unit: {unit: weighted plausibility}, the best unit first."""
+    scores = {}
+    for units in CANDIDATE_UNITS:
+        scores[units] = sum(item.weight * plausibility(item, units) for item in evidence)
+    return dict(sorted(scores.items(), key=lambda pair: -pair[1]))
+
+
+def gather_evidence(*, swing_arcs, wall_lines, dimensions, span):
+    """Collect the evidence (drawing units) that is there; a kind with too few samples is
+    left out (one arc is a chair, two doors a plan)."""
+    found = []
+    radii = door_swings(swing_arcs)
+    if len(radii) >= 2:
+        found.append(Evidence("door swings", radii, 2.0))
+    thickness = wall_thicknesses(wall_lines)
+    if len(thickness) >= 4:
+        # the most common thicknesses: the lower three quarters (a room's width is no wall)
+        thickness = np.sort(thickness)[: max(4, int(len(thickness) * 0.75))]
+        found.append(Evidence("wall thickness", thickness, 1.0))
+    factors = dimension_factors(dimensions)
+    if len(factors):
+        found.append(Evidence("dimension text", factors, 3.0, implied=True))
+    if span > 0:
+        found.append(Evidence("extent", np.array([span]), 1.0))
+    return found
+
+
+def decide_from_content(header_unit, override, evidence, *, source):
+    """Decide the unit from the option, the header and the content's evidence.
+
+    Parameters
+    ----------
+    header_unit : str or None
+        The unit the header names (None when it names none clearway knows).
+    override : str or None
+        The user's --units: it always wins.
+    evidence : list of Evidence
+
+    Returns
+    -------
+    (units, unit_source, note, evidence_lines, warnings)
+        `units` None when neither the header nor the content decides (the caller assumes).
+    """
+    scores = judge_units(evidence) if evidence else {}
+    substantive = [item for item in evidence if item.kind != "extent"]
+    # the plan's size alone never decides: every unit makes some building
+    support = judge_units(substantive) if substantive else {}
+    lines = tuple(f"{item.kind}: {', '.join(f'{unit} {plausibility(item, unit):.0%}' for unit in CANDIDATE_UNITS)}"
+                  for item in evidence)
+    if override is not None:
+        return override, "option", None, lines, ()
+    best = next(iter(scores), None)
+    if header_unit is not None:
+        if best and best != header_unit and substantive and \
+                scores[best] - scores.get(header_unit, 0.0) >= 1.5 and \
+                support[best] - support.get(header_unit, 0.0) >= 1.0:
+            said = "; ".join(describe(item, header_unit) for item in evidence)
+            read = "; ".join(describe(item, best) for item in evidence)
+            warning = (f"{source}: header says {header_unit}: {said}; read in {best}: {read}; "
+                       f"pass --units {header_unit} if the header is right")
+            note = (f"Read in {best} from the drawing's content (the header says {header_unit}, "
+                    f"but in {header_unit} {said}; in {best} {read}); pass --units to say otherwise.")
+            return best, "content", note, lines, (warning,)
+        return header_unit, "header", None, lines, ()
+    if best and substantive and scores[best] >= 1.0 and support[best] >= 1.0:
+        read = "; ".join(describe(item, best) for item in evidence)
+        note = (f"Read in {best} from the drawing's content (the header gives no unit): {read}; "
+                f"pass --units to say otherwise.")
+        warning = (f"{source}: drawing has no units in its header; read in {best} from its "
+                   f"content ({read}); pass --units if that is wrong")
+        return best, "content", note, lines, (warning,)
+    return None, "assumed", None, lines, ()

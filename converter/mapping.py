@@ -1,0 +1,134 @@
+"""Map a drawing's layers to roles and decide its unit: what `layers` shows and `build` uses.
+
+Layer names decide roles (`roles.Roles`). When no layer is named as walls or boundary, the
+layer whose content looks most like walls (pairs of parallel lines, then the most linework)
+is taken for walls, and the user is told. The unit comes from --units, else the header
+checked against the content's evidence (`evidence`), else a guess from the plan's size.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from clearway.converter.evidence import decide_from_content, gather_evidence, wall_thicknesses
+from clearway.converter.floorplan import ROLES
+from clearway.converter.inserts import BLOCK_OPENING_PREFIX
+from clearway.converter.parts import Parts
+from clearway.converter.read import read_drawing
+from clearway.converter.roles import Roles, opening_kind
+from clearway.converter.units import INSUNITS_CODES, UNITS_TO_M, decide_units
+
+
+@dataclass
+class LayerMapping:
+    """A read drawing with its layer roles and unit decided (drawing units inside)."""
+
+    content: object
+    visible: set
+    role_of: dict                      # layer -> role or None (guesses included)
+    by_role: dict                      # role -> visible layers holding something
+    units: str
+    m_per_unit: float
+    unit_note: str
+    unit_source: str
+    unit_evidence: tuple
+    warnings: list = field(default_factory=list)
+
+
+def _holds(content, name):
+    return bool(content.counts.get(name)) or name in content.parts
+
+
+def map_drawing(path, *, roles, units, chord_tolerance, limits):
+    """Read `path`, give every layer its role and decide the unit; return a LayerMapping."""
+    content = read_drawing(path, chord_tolerance=chord_tolerance, units=units, limits=limits,
+                           block_kind=opening_kind)
+    source = content.source
+    visible = {name for name, (frozen, off) in content.layer_states.items() if not (frozen or off)}
+    role_of = {name: roles.role_of(name) for name in content.layer_states}
+    warnings = list(content.warnings)
+    wall_like = [name for name in visible if role_of.get(name) in ("wall", "boundary")
+                 and _holds(content, name)]
+    if not wall_like and "wall" not in roles.explicit and "boundary" not in roles.explicit:
+        guess = guess_wall_layer(content, visible, role_of)
+        if guess is not None:
+            name, reason = guess
+            role_of[name] = "wall"
+            warnings.append(f"{source}: no layer is named as walls; took layer {name!r} for walls "
+                            f"({reason}); pass --walls to choose")
+    by_role = {role: [] for role in ROLES}
+    for name in sorted(content.layer_states):
+        role = role_of.get(name)
+        if role is None or not _holds(content, name):
+            continue
+        if name not in visible:
+            if content.counts.get(name):
+                warnings.append(f"{source}: layer {name!r} ({role}) is frozen or off; ignored")
+            continue
+        by_role[role].append(name)
+    decision = _decide_units(content, units, by_role, visible, role_of)
+    unit, factor, note, source_kind, lines, unit_warnings = decision
+    warnings += unit_warnings
+    return LayerMapping(content, visible, role_of, by_role, unit, factor, note, source_kind,
+                        lines, warnings)
+
+
+def guess_wall_layer(content, visible, role_of):
+    """Return (layer, reason) for the unmapped layer that looks most like walls, or None.
+
+    Walls are drawn as two parallel faces: the layer with the most lines that have a
+    parallel partner close by wins; with none, the layer with the most linework.
+    """
+    best, best_key, reason = None, None, ""
+    for name in sorted(visible):
+        if role_of.get(name) is not None or name not in content.parts:
+            continue
+        lines, rings, _ = content.parts[name].geometries()
+        count = len(lines) + len(rings)
+        if count < 8:
+            continue
+        pairs = len(wall_thicknesses(np.concatenate([lines, rings])))
+        key = (pairs, count)
+        if best_key is None or key > best_key:
+            best, best_key = name, key
+            reason = (f"{pairs} of its {count} lines have a parallel partner, as wall faces do"
+                      if pairs else f"it holds the most linework, {count} lines")
+    return None if best is None else (best, reason)
+
+
+def _span(content, layers):
+    boxes = [content.parts[name].extents() for name in layers
+             if name in content.parts and len(content.parts[name])]
+    if not boxes:
+        return 0.0
+    box = np.array(boxes, dtype=float)
+    with np.errstate(over="ignore", invalid="ignore"):  # refused later by the limits
+        span = float(np.max(box[:, 2:].max(axis=0) - box[:, :2].min(axis=0)))
+    return span if np.isfinite(span) else 0.0
+
+
+def _decide_units(content, override, by_role, visible, role_of):
+    """(units, m_per_unit, note, source, evidence lines, warnings) for a drawing."""
+    source = content.source
+    mapped = [name for role in ("wall", "boundary", "racking", "keepout", "opening", "stair")
+              for name in by_role[role]]
+    span = _span(content, mapped or [name for name in visible if name in content.parts])
+    arc_layers = by_role["opening"] + by_role["wall"] + \
+        [BLOCK_OPENING_PREFIX + "door"] + \
+        [name for name in visible if role_of.get(name) is None]
+    arcs = Parts.concat([content.parts[name] for name in arc_layers if name in content.parts]).arcs()
+    wall = Parts.concat([content.parts[name] for name in by_role["wall"] if name in content.parts])
+    lines, rings, _ = wall.geometries()
+    evidence = gather_evidence(swing_arcs=arcs, wall_lines=np.concatenate([lines, rings]),
+                               dimensions=content.dimensions, span=span)
+    header_unit = INSUNITS_CODES.get(content.insunits)
+    unit, unit_source, note, lines, warnings = decide_from_content(
+        header_unit, override, evidence, source=source)
+    if unit_source == "content":
+        return unit, UNITS_TO_M[unit], note, "content", lines, tuple(warnings)
+    chosen, factor, default_note, span_warnings = decide_units(content.insunits, override, span,
+                                                               source=source)
+    kind = "option" if override else "header" if header_unit else "assumed"
+    return chosen, factor, default_note, kind, lines, tuple(span_warnings)
