@@ -75,6 +75,14 @@ def _format_layer_table(table) -> str:
                      f"{row.open:>5}  {extents:<35} {entities}")
     lines.append(f"Model space only; entities on frozen or off layers are ignored; "
                  f"{table.paperspace} paper-space entities ignored.")
+    lines += [f"unit evidence: {line}" for line in table.unit_evidence]
+    if len(table.views) > 1:
+        for view in table.views:
+            x0, y0, x1, y1 = (value * table.m_per_unit for value in view.extents)
+            mark = "built" if view.chosen else "left out"
+            lines.append(f"drawing at ({x0:.1f}, {y0:.1f})-({x1:.1f}, {y1:.1f}) m: {view.parts} "
+                         f"parts, {view.swings} door swings; {mark} (drawing units "
+                         f"{','.join(f'{v:.6g}' for v in view.extents)})")
     lines += [f"warning: {warning}" for warning in table.warnings]
     return "\n".join(lines)
 
@@ -88,13 +96,14 @@ def layers(drawing, as_json, **options):
 
     Counts are model-space entities by DXF type (an INSERT counts once, on its own
     layer); CLOSED and OPEN count closed and open linework; extents are in metres.
-    Use it to choose the patterns for --walls, --racking, --keepout, --boundary,
-    --stations and --shared.
+    Use it to choose the patterns for --openings, --stairs, --walls, --racking,
+    --keepout, --boundary, --stations and --shared. It also tells the unit and what the
+    drawing's content says about it, and the separate drawings found in model space.
     """
     try:
         kwargs = converter_options(options)
         table = list_layers(drawing, roles=kwargs["roles"], units=kwargs["units"],
-                            limits=kwargs["limits"])
+                            limits=kwargs["limits"], region=kwargs.get("region"))
     except ClearwayError as err:
         raise InputError(str(err)) from None
     text = table.to_json() if as_json else "\n".join(

@@ -4,6 +4,7 @@ of every command that reads a drawing or a graph."""
 from __future__ import annotations
 
 import contextlib
+import math
 import os
 import re
 import tempfile
@@ -72,7 +73,11 @@ def drawing_options(command):
                                      f"replaces the default patterns).")
                    for name in ROLE_OPTION_NAMES.values()]
     decorators.append(click.option("--units", type=click.Choice(list(UNITS_TO_M)),
-                                   help="Drawing unit, overriding the header's $INSUNITS."))
+                                   help="Drawing unit, overriding the header's $INSUNITS and "
+                                        "the unit the drawing's content suggests."))
+    decorators.append(click.option("--region", metavar="X0,Y0,X1,Y1",
+                                   help="Build only what lies inside this box (drawing units), "
+                                        "when model space holds several drawings."))
     for decorator in reversed(decorators):
         command = decorator(command)
     return command
@@ -104,12 +109,30 @@ def converter_options(options: dict, config: dict | None = None) -> dict:
     for key in _DRAWING_KEYS:
         if options.get(key) is not None:
             drawing[key] = options[key]
+    region = options.get("region") or drawing.pop("region", None)
+    drawing.pop("region", None)
+    if region is not None:
+        drawing["region"] = parse_region(region, options.get("config"))
     try:
         limits = Limits.from_config(config["limits"])
     except ConfigError as err:
         raise ConfigError(f"{options.get('config')}: {err}") from None
     return {"roles": roles, "units": units, "limits": limits, **drawing}
 
+
+
+def parse_region(value, config=None):
+    """Return (x0, y0, x1, y1) from "X0,Y0,X1,Y1" or a list of four numbers; ConfigError if not."""
+    parts = value.split(",") if isinstance(value, str) else list(value)
+    try:
+        box = tuple(float(part) for part in parts)
+    except (TypeError, ValueError):
+        box = ()
+    if len(box) != 4 or not all(map(math.isfinite, box)) or not (box[0] < box[2] and box[1] < box[3]):
+        where = f"{config}: [drawing] region" if config and not isinstance(value, str) else "--region"
+        raise ConfigError(f"{where} must be X0,Y0,X1,Y1 (drawing units) with X0 < X1 and "
+                          f"Y0 < Y1, got {value!r}")
+    return box
 
 
 def replace_file(path: str, data: bytes) -> None:

@@ -64,7 +64,7 @@ SCHEMA: dict[str, dict[str, type | tuple[type, ...]]] = {
                 "shared")},
     "drawing": {"units": str, "chord_tolerance": (int, float), "gap_tolerance": (int, float),
                 "max_wall_thickness": (int, float), "nominal_wall_thickness": (int, float),
-                "label_radius": (int, float)},
+                "label_radius": (int, float), "region": list},
     "robot": {"radius": (int, float), "length": (int, float), "width": (int, float),
               "margin": (int, float), "kind": str, "centre_offset": list,
               "turn_radius": (int, float), "reverse": bool},

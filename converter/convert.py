@@ -15,7 +15,7 @@ from clearway.converter.parts import Parts
 from clearway.converter.inserts import BLOCK_OPENING_PREFIX
 from clearway.converter.interior import building_interior
 from clearway.converter.polygons import as_multipolygon, boundary_regions, filled_regions, free_space
-from clearway.converter.mapping import map_drawing
+from clearway.converter.mapping import keep_one_view, map_drawing
 from clearway.converter.roles import ROLE_OPTION_NAMES, Roles, opening_kind
 from clearway.converter.units import UNITS_TO_M
 
@@ -50,6 +50,7 @@ class LayerTable:
     warnings: tuple[str, ...] = ()
     unit_source: str = "header"
     unit_evidence: tuple[str, ...] = ()
+    views: tuple = ()
 
     def to_dict(self):
         """Return the table as plain data: {"units", "m_per_unit", "unit_source",
@@ -57,6 +58,9 @@ class LayerTable:
         return {"units": self.units, "m_per_unit": self.m_per_unit,
                 "unit_source": self.unit_source, "unit_note": self.unit_note,
                 "unit_evidence": list(self.unit_evidence), "warnings": list(self.warnings),
+                "views": [{"extents": [round(v * self.m_per_unit, 4) for v in view.extents],
+                           "parts": view.parts, "door_swings": view.swings,
+                           "chosen": view.chosen} for view in self.views],
                 "layers": [
             {"name": row.name, "entities": dict(row.entities),
              "extents": list(row.extents) if row.extents else None,
@@ -80,7 +84,7 @@ def _check_options(roles, units, limits, **lengths):
             raise ConfigError(f"{name} must be a length > 0 m, got {value!r}")
 
 
-def list_layers(path, *, roles=None, units=None, limits=None):
+def list_layers(path, *, roles=None, units=None, limits=None, region=None):
     """Return the LayerTable of a drawing: what each layer holds and the role it gets.
 
     Parameters
@@ -105,6 +109,7 @@ def list_layers(path, *, roles=None, units=None, limits=None):
     mapping = map_drawing(path, roles=roles, units=units, chord_tolerance=0.001,
                           limits=limits or Limits())
     content, unit, factor, note = mapping.content, mapping.units, mapping.m_per_unit, mapping.unit_note
+    views = keep_one_view(mapping, region=region, apply=False)
     rows = []
     for name in sorted(content.layer_states, key=str.upper):
         frozen, off = content.layer_states[name]
@@ -124,12 +129,13 @@ def list_layers(path, *, roles=None, units=None, limits=None):
                              closed, open_, extents, bool(frozen), bool(off),
                              mapping.role_of.get(name)))
     return LayerTable(content.source, unit, factor, note, tuple(rows), content.paperspace,
-                      tuple(mapping.warnings), mapping.unit_source, mapping.unit_evidence)
+                      tuple(mapping.warnings) + tuple(views.warnings), mapping.unit_source,
+                      mapping.unit_evidence, tuple(views.views))
 
 
 def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_tolerance=0.01,
                    max_wall_thickness=0.6, nominal_wall_thickness=0.05, label_radius=3.0,
-                   limits=None):
+                   limits=None, region=None):
     """Read a DXF floor plan into a FloorPlan in metres.
 
     Parameters
@@ -152,6 +158,9 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
         this distance, metres.
     limits : clearway.limits.Limits, optional
         Resource limits (file size, extent, expanded entities, ...); the defaults when None.
+    region : (x0, y0, x1, y1), optional
+        Build only the linework inside this box (drawing units): one of several drawings in
+        model space. By default the floor plan among them is chosen (`views`).
 
     Returns
     -------
@@ -181,6 +190,8 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
         raise DrawingError(f"{source}: model space is empty")
     warnings = list(mapping.warnings)
     visible, by_role = mapping.visible, mapping.by_role
+    views = keep_one_view(mapping, region=region)
+    warnings += views.warnings
     _check_mapped(content, roles, by_role, source)
     _check_size(content, by_role, factor, unit, limits)
     for (layer, dxftype), count in sorted(content.skipped.items()):

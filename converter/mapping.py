@@ -11,14 +11,19 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 import numpy as np
+import shapely
+
+from clearway.errors import DrawingError
 
 from clearway.converter.evidence import decide_from_content, gather_evidence, wall_thicknesses
 from clearway.converter.floorplan import ROLES
 from clearway.converter.inserts import BLOCK_OPENING_PREFIX
+from clearway.converter.openings import arc_radius
 from clearway.converter.parts import Parts
 from clearway.converter.read import read_drawing
 from clearway.converter.roles import Roles, opening_kind
 from clearway.converter.units import INSUNITS_CODES, UNITS_TO_M, decide_units
+from clearway.converter.views import VIEW_GAP, find_views
 
 
 @dataclass
@@ -132,3 +137,82 @@ def _decide_units(content, override, by_role, visible, role_of):
                                                                source=source)
     kind = "option" if override else "header" if header_unit else "assumed"
     return chosen, factor, default_note, kind, lines, tuple(span_warnings)
+
+
+@dataclass
+class ViewChoice:
+    """The drawings found in model space and the warnings about the choice."""
+
+    views: list
+    warnings: list
+
+
+def keep_one_view(mapping, *, region=None, apply=True):
+    """Find the drawings in model space and keep only the floor plan's linework and texts.
+
+    Parameters
+    ----------
+    mapping : LayerMapping
+        Its content is filtered in place when `apply` (parts, points, texts, dimensions).
+    region : (x0, y0, x1, y1), optional
+        Drawing units: keep what lies inside this box instead of the chosen view.
+    """
+    content, factor, source = mapping.content, mapping.m_per_unit, mapping.content.source
+    layers = [name for role in ("wall", "opening", "stair", "racking", "keepout", "boundary")
+              for name in mapping.by_role[role]] + \
+        [BLOCK_OPENING_PREFIX + kind for kind in ("door", "window")]
+    layers = [name for name in layers if name in content.parts]
+    boxes = [content.parts[name].part_bounds() for name in layers]
+    boxes = np.concatenate(boxes) if boxes else np.empty((0, 4))
+    boxes = boxes[np.isfinite(boxes).all(axis=1)]
+    arcs = Parts.concat([content.parts[name] for name in layers]).arcs()
+    if len(arcs):
+        _, sweep = arc_radius(arcs)
+        arcs = arcs[(sweep >= 60) & (sweep <= 120)]
+    points = shapely.get_coordinates(shapely.line_interpolate_point(arcs, 0.5, normalized=True)) \
+        if len(arcs) else np.empty((0, 2))
+    labels, views = find_views(boxes, points, gap=VIEW_GAP / factor)
+    warnings = []
+    if region is not None:
+        box = tuple(float(v) for v in region)
+        if not (box[0] < box[2] and box[1] < box[3]):
+            raise DrawingError(f"{source}: --region must be X0,Y0,X1,Y1 with X0 < X1 and Y0 < Y1, "
+                               f"got {','.join(f'{v:g}' for v in box)}")
+        warnings.append(f"{source}: built the region {_box_text(box, factor)} given with --region")
+    elif len(views) > 1:
+        chosen = views[0]
+        margin = VIEW_GAP / factor / 2
+        box = (chosen.extents[0] - margin, chosen.extents[1] - margin,
+               chosen.extents[2] + margin, chosen.extents[3] + margin)
+        others = "; ".join(_box_text(view.extents, factor) for view in views[1:6])
+        more = f" and {len(views) - 6} more" if len(views) > 6 else ""
+        warnings.append(f"{source}: model space holds {len(views)} separate drawings; built the "
+                        f"one at {_box_text(chosen.extents, factor)} ({chosen.parts} parts, "
+                        f"{chosen.swings} door swings); left out {others}{more}; pass --region "
+                        f"X0,Y0,X1,Y1 (drawing units) to choose another")
+    else:
+        return ViewChoice(views, warnings)
+    if apply:
+        _keep_inside(content, box)
+    return ViewChoice(views, warnings)
+
+
+def _box_text(box, factor):
+    x0, y0, x1, y1 = (value * factor for value in box)
+    return f"({x0:.1f}, {y0:.1f})-({x1:.1f}, {y1:.1f}) m"
+
+
+def _keep_inside(content, box):
+    """Drop from `content` every part, point and text whose middle lies outside `box`."""
+    x0, y0, x1, y1 = box
+
+    def inside(x, y):
+        return (x >= x0) & (x <= x1) & (y >= y0) & (y <= y1)
+
+    for name, parts in list(content.parts.items()):
+        bounds = parts.part_bounds()
+        middle_x, middle_y = (bounds[:, 0] + bounds[:, 2]) / 2, (bounds[:, 1] + bounds[:, 3]) / 2
+        content.parts[name] = parts.select(inside(middle_x, middle_y))
+    content.points = [item for item in content.points if inside(item[1], item[2])]
+    content.texts = [item for item in content.texts if inside(item[1], item[2])]
+    content.attribute_texts = [item for item in content.attribute_texts if inside(item[1], item[2])]

@@ -150,3 +150,32 @@ class Parts:
         if invalid.any():  # self-touching hatch rings, bow-tie solids
             polygons[invalid] = shapely.make_valid(polygons[invalid])
         return polygons
+
+    def part_bounds(self):
+        """Return each part's (xmin, ymin, xmax, ymax), shape (P, 4)."""
+        if not len(self.kinds):
+            return np.empty((0, 4))
+        starts = self.offsets[:-1]
+        counts = np.diff(self.offsets)
+        nonempty = counts > 0
+        result = np.full((len(self.kinds), 4), np.nan)
+        if nonempty.any():
+            low = np.minimum.reduceat(self.coords, starts[nonempty], axis=0)
+            high = np.maximum.reduceat(self.coords, starts[nonempty], axis=0)
+            result[nonempty] = np.hstack([low, high])
+        return result
+
+    def select(self, keep):
+        """Return the parts where boolean `keep` (P,) is True; a hole goes with its shell."""
+        keep = np.asarray(keep, dtype=bool).copy()
+        if not len(self.kinds):
+            return self
+        shell_of = np.maximum.accumulate(np.where(self.kinds == SHELL,
+                                                  np.arange(len(self.kinds)), -1))
+        holes = (self.kinds == HOLE) & (shell_of >= 0)
+        keep[holes] = keep[shell_of[holes]]
+        counts = np.diff(self.offsets)
+        vertex_keep = np.repeat(keep, counts)
+        offsets = np.zeros(int(keep.sum()) + 1, dtype=np.int64)
+        np.cumsum(counts[keep], out=offsets[1:])
+        return Parts(self.coords[vertex_keep], offsets, self.kinds[keep])

@@ -1,0 +1,91 @@
+"""Several drawings in one model space: group the mapped linework by the gaps between them.
+
+Model space often holds a section, elevations or a second floor beside the plan, on the same
+layers. Linework whose bounding boxes come within VIEW_GAP of each other belongs to one
+drawing; the floor plan is the group with door swings in it (plans show doors swinging;
+sections and elevations do not), the largest by area among those, or the largest of all.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+#: Two pieces of linework this close (metres) or closer belong to the same drawing.
+VIEW_GAP = 2.0
+
+
+@dataclass(frozen=True)
+class View:
+    """One group of linework: extents (drawing units), number of parts, door swings in it."""
+
+    extents: tuple[float, float, float, float]
+    parts: int
+    swings: int
+    chosen: bool = False
+
+
+#: Largest raster (cells) the grouping uses; a drawing with far-flung linework gets coarser cells.
+MAX_CELLS = 4_000_000
+
+
+def group_boxes(boxes, gap):
+    """Label boxes (N, 4) into groups that come within `gap` of each other, in a chain.
+
+    The boxes are marked on a raster of `gap`-sized cells (coarser when the extent would need
+    more than MAX_CELLS) and the marked cells grouped with their eight neighbours, so two
+    boxes up to one cell apart join; linear in the number of boxes and cells.
+
+    Examples
+    --------
+    >>> group_boxes([(0, 0, 10, 5), (11, 0, 20, 5), (40, 0, 50, 5)], 2.0).tolist()
+    [0, 0, 1]
+    """
+    from scipy import ndimage
+
+    boxes = np.asarray(boxes, dtype=float).reshape(-1, 4)
+    if not len(boxes):
+        return np.empty(0, dtype=np.int64)
+    low = boxes[:, :2].min(axis=0)
+    span = boxes[:, 2:].max(axis=0) - low
+    cell = max(gap, float(np.sqrt(max(span[0] * span[1], 1e-12) / MAX_CELLS)), 1e-12)
+    shape = (np.floor(span / cell).astype(np.int64) + 2)
+    first = np.floor((boxes[:, :2] - low) / cell).astype(np.int64)
+    last = np.floor((boxes[:, 2:] - low) / cell).astype(np.int64)
+    marks = np.zeros((shape[0] + 1, shape[1] + 1), dtype=np.int64)
+    np.add.at(marks, (first[:, 0], first[:, 1]), 1)
+    np.add.at(marks, (last[:, 0] + 1, first[:, 1]), -1)
+    np.add.at(marks, (first[:, 0], last[:, 1] + 1), -1)
+    np.add.at(marks, (last[:, 0] + 1, last[:, 1] + 1), 1)
+    covered = np.cumsum(np.cumsum(marks, axis=0), axis=1)[:-1, :-1] > 0
+    labels, _ = ndimage.label(covered, structure=np.ones((3, 3), dtype=int))
+    return labels[first[:, 0], first[:, 1]] - 1
+
+
+def find_views(boxes, swing_points, *, gap):
+    """Group part boxes (N, 4) into views; return (labels (N,), views sorted by preference).
+
+    `swing_points` (M, 2) are the middles of door-swing arcs. The first view is the plan.
+    """
+    labels = group_boxes(boxes, gap)
+    if not len(labels):
+        return labels, []
+    views = []
+    swing_points = np.asarray(swing_points, dtype=float).reshape(-1, 2)
+    for label in range(int(labels.max()) + 1):
+        own = boxes[labels == label]
+        low, high = own[:, :2].min(axis=0), own[:, 2:].max(axis=0)
+        inside = np.all((swing_points >= low) & (swing_points <= high), axis=1)
+        views.append((label, View(tuple(float(v) for v in (*low, *high)), int(len(own)),
+                                  int(inside.sum()))))
+    def preference(item):
+        view = item[1]
+        area = (view.extents[2] - view.extents[0]) * (view.extents[3] - view.extents[1])
+        return (view.swings < 2, -area)
+    views.sort(key=preference)
+    order = {label: rank for rank, (label, _) in enumerate(views)}
+    ranked = np.array([order[label] for label in labels])
+    views = [View(view.extents, view.parts, view.swings, chosen=rank == 0)
+             for rank, (_, view) in enumerate(views)]
+    return ranked, views
