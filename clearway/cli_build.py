@@ -11,6 +11,7 @@ import click
 
 from clearway.cli_common import (InputError, converter_options, drawing_options, read_graph,
                                  terminal_text)
+from clearway.diagnosis import check_lanes
 from clearway.config import load_config
 from clearway.errors import ClearwayError
 from clearway.converter import read_floorplan
@@ -239,6 +240,7 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
             personnel_clearance=float(checks.get("personnel_clearance", 0.5)),
             low_clearance_penalty=float(checks.get("low_clearance_penalty", 0.0)),
             progress=lambda *stage: say("  " + " ".join(str(part) for part in stage)))
+        check_lanes(plan, roadmap)
         if previous_graph is not None:
             for warning in site_warnings(previous_graph, roadmap.graph):
                 click.echo(terminal_text(f"warning: --previous {previous}: {warning}"), err=True)

@@ -63,17 +63,26 @@ def wall_thicknesses(lines, *, limit=4000):
         return np.empty(0)
     a = np.array([s[0] for s in segments])
     b = np.array([s[1] for s in segments])
-    d = b - a
-    length = np.hypot(d[:, 0], d[:, 1])
+    with np.errstate(over="ignore", invalid="ignore"):
+        d = b - a
+        length = np.hypot(d[:, 0], d[:, 1])
     keep = length > 0
+    with np.errstate(over="ignore", invalid="ignore"):
+        keep &= np.isfinite(length) & np.isfinite(a).all(axis=1) & np.isfinite(b).all(axis=1)
     a, b, d, length = a[keep], b[keep], d[keep], length[keep]
     if len(a) < 2:
         return np.empty(0)
     unit = d / length[:, None]
-    middle = (a + b) / 2
+    middle = a / 2 + b / 2
+    finite = np.isfinite(middle).all(axis=1)
+    if finite.sum() < 2:
+        return np.empty(0)
+    a, b, unit, middle, length = a[finite], b[finite], unit[finite], middle[finite], length[finite]
     from scipy.spatial import cKDTree
     tree = cKDTree(middle)
     reach = float(np.median(length)) * 2 + 1e-9
+    if not np.isfinite(reach) or np.abs(middle).max() > 1e15:
+        return np.empty(0)  # absurd coordinates: refused by the limits later, not measured here
     found = []
     for i, neighbours in enumerate(tree.query_ball_point(middle, reach)):
         best = None

@@ -217,6 +217,7 @@ def find_gaps(solid, loose, *, max_thickness, max_width=MAX_WINDOW_WIDTH):
             else shapely.LineString([near, far])
         if shapely.intersects(quad, walls) and shapely.intersection(quad, walls).area > 1e-6:
             continue
+        half = normals[index] * (length / 2.0)
         quad = shapely.Polygon([middle - half, middle + half,
                                 middle + direction * distance + half,
                                 middle + direction * distance - half]) if length > 0 else \

@@ -48,7 +48,10 @@ def group_boxes(boxes, gap):
     if not len(boxes):
         return np.empty(0, dtype=np.int64)
     low = boxes[:, :2].min(axis=0)
-    span = boxes[:, 2:].max(axis=0) - low
+    with np.errstate(over="ignore", invalid="ignore"):
+        span = boxes[:, 2:].max(axis=0) - low
+    if not np.isfinite(span).all() or not np.isfinite(low).all():
+        return np.zeros(len(boxes), dtype=np.int64)  # absurd extents: the limits refuse them
     cell = max(gap, float(np.sqrt(max(span[0] * span[1], 1e-12) / MAX_CELLS)), 1e-12)
     shape = (np.floor(span / cell).astype(np.int64) + 2)
     first = np.floor((boxes[:, :2] - low) / cell).astype(np.int64)

@@ -220,10 +220,115 @@ def clinic():
     return doc
 
 
+def _door_block(doc, name, width):
+    """A door block as offices draw it: leaf and quarter-circle swing on layer 0, hinge at
+    the origin, closed along +x, opening towards +y (block units: mm)."""
+    block = doc.blocks.new(name)
+    block.add_lwpolyline([(0, 0), (-40, 0), (-40, width), (0, width)], close=True)  # leaf, open
+    block.add_arc((0, 0), width, 0, 90)
+
+
+def _window_block(doc, name):
+    """A window block 1000 mm long across a 300 mm wall: frame lines and two glazing lines
+    (stretched along x to the opening's width when inserted)."""
+    block = doc.blocks.new(name)
+    for y in (0, 130, 170, 300):
+        block.add_line((0, y), (1000, y))
+
+
+def office_ground_floor():
+    """A small office ground floor as an architect's office sends it, millimetres.
+
+    The habits on purpose: the header says inches ($INSUNITS 1) though every length is in
+    mm; the architecture came in as a bound external reference (layers ``ARCH$0$...``), the
+    glazing through an attached one (``ARCH|A-GLAZ``); walls are closed outlines stopping at
+    every opening (300 mm exterior, 100 mm partitions, a 750 mm masonry wall drawn as two
+    outlines); doors and windows are blocks on their own layers; room names are texts; a
+    stair; and a building section drawn beside the plan on the same layers.
+    """
+    import shapely
+
+    doc = ezdxf.new("R2010", units=1)                        # the header lies: inches
+    wall, door, glass = "ARCH$0$A-WALL", "ARCH$0$A-DOOR", "ARCH|A-GLAZ"
+    stair, text = "ARCH$0$A-FLOR-STRS", "ARCH$0$A-ANNO-TEXT"
+    for name, colour in ((wall, 1), (door, 3), (glass, 4), (stair, 8), (text, 7),
+                         (STATIONS, 2)):
+        doc.layers.add(name, color=colour)
+    station_block(doc, 150)
+    for width in (800, 1000):
+        _door_block(doc, f"DOOR-{width}", width)
+    _window_block(doc, "WIN-STD")
+    msp = doc.modelspace()
+
+    # walls as solids: the building 24 m x 14 m, exterior 300 mm; a corridor 2.0 m wide
+    # along y 6000-8000 with 100 mm partitions; a 750 mm masonry wall at x 12000
+    box = shapely.box
+    walls = box(0, 0, 24000, 14000).difference(box(300, 300, 23700, 13700))
+    walls = walls.union(box(300, 5950, 23700, 6050)).union(box(300, 7950, 23700, 8050))
+    for x in (6000, 18000):
+        walls = walls.union(box(x - 50, 300, x + 50, 5950)).union(box(x - 50, 8050, x + 50, 13700))
+    walls = walls.union(box(11625, 300, 12375, 5950)).union(box(11625, 8050, 12375, 13700))
+    doors = [  # doors from the corridor into the rooms, mm (the archive's 800 is too narrow)
+        ((2500, 5950), 1000), ((8000, 5950), 1000), ((14000, 5950), 800), ((20000, 5950), 1000),
+        ((2500, 7950), 1000), ((8000, 7950), 1000), ((14000, 7950), 1000), ((20000, 7950), 1000)]
+    cuts = []
+    for (x, y), width in doors:
+        cuts.append(box(x, y - 1, x + width, y + 101))
+    cuts.append(box(-1, 6300, 301, 7700))                    # 1.4 m double door, west wall
+    windows = [(x, 0) for x in (2000, 8000, 14500, 20000)] + [(x, 13700) for x in (2000, 8000, 14500, 20000)]
+    for x, y in windows:
+        cuts.append(box(x, y - 1, x + 1500, y + 301))
+    for cut in cuts:
+        walls = walls.difference(cut)
+    for polygon in shapely.get_parts(shapely.set_precision(walls, 1.0)):
+        for ring in (polygon.exterior, *polygon.interiors):
+            msp.add_lwpolyline(list(ring.coords)[:-1], close=True, dxfattribs={"layer": wall})
+
+    for (x, y), width in doors:
+        # on the south side of the corridor the leaf swings into the room below (-y)
+        south = y < 7000
+        msp.add_blockref(f"DOOR-{width}", (x, y + (0 if south else 100)),
+                         dxfattribs={"layer": door, "yscale": -1 if south else 1})
+    for hinge_y, scale in ((6300, 1), (7700, -1)):            # the entrance's two leaves
+        msp.add_blockref("DOOR-800", (300, hinge_y), dxfattribs={
+            "layer": door, "rotation": 90, "yscale": scale, "xscale": 700 / 800})
+    for x, y in windows:
+        msp.add_blockref("WIN-STD", (x, y), dxfattribs={"layer": glass, "xscale": 1.5})
+
+    # a stair in the north-east room: outline and treads (impassable)
+    msp.add_lwpolyline(rectangle(21000, 10500, 23500, 13500), close=True, dxfattribs={"layer": stair})
+    for k in range(1, 11):
+        msp.add_line((21000, 10500 + 280 * k), (23500, 10500 + 280 * k), dxfattribs={"layer": stair})
+
+    for name, x, y in (("1.01 RECEPTION", 3000, 3000), ("1.02 OFFICE", 9000, 3000),
+                       ("1.03 ARCHIVE", 15000, 3000), ("1.04 STORE", 21000, 3000),
+                       ("1.05 MEETING", 3000, 11000), ("1.06 OFFICE", 9000, 11000),
+                       ("1.07 LAB", 15000, 11000), ("1.08 STAIR", 19500, 11000),
+                       ("CORRIDOR", 10000, 7000)):
+        msp.add_text(name, height=250, dxfattribs={"layer": text}).set_placement(
+            (x, y), align=TextEntityAlignment.LEFT)
+
+    add_station(msp, "CHARGER", 1500, 7000, labelled_block=True, text_height=150)
+    add_station(msp, "DOCK-A", 3000, 1500, labelled_block=True, text_height=150)
+    add_station(msp, "DOCK-B", 15000, 1500, labelled_block=True, text_height=150)
+    add_station(msp, "LAB", 15000, 12000, labelled_block=True, text_height=150)
+
+    # section A-A beside the plan on the same wall layer: ground, two floors, roof
+    x0 = 30000
+    for y in (0, 3500, 7000):
+        msp.add_lwpolyline(rectangle(x0, y, x0 + 24000, y + 300), close=True, dxfattribs={"layer": wall})
+    for x in (x0, x0 + 23700, x0 + 11625):
+        msp.add_lwpolyline(rectangle(x, 300, x + 300, 7000), close=True, dxfattribs={"layer": wall})
+    msp.add_lwpolyline([(x0 - 500, 7300), (x0 + 12000, 9500), (x0 + 24500, 7300)],
+                       dxfattribs={"layer": wall})
+    return doc
+
+
 #: The invented issue date of each drawing, written as its $TDUPDATE (last saved).
 ISSUED = {"distribution_centre.dxf": datetime.datetime(2026, 10, 5, 9, 30),
           "distribution_centre_rev_b.dxf": datetime.datetime(2026, 11, 16, 14, 0),
-          "clinic.dxf": datetime.datetime(2026, 9, 21, 11, 0)}
+          "clinic.dxf": datetime.datetime(2026, 9, 21, 11, 0),
+          "office_ground_floor.dxf": datetime.datetime(2026, 11, 30, 16, 45)}
 
 
 def _date_drawing(doc, issued):
@@ -249,6 +354,7 @@ def write_samples(folder=HERE):
             "distribution_centre.dxf": distribution_centre(),
             "distribution_centre_rev_b.dxf": distribution_centre(revision_b=True),
             "clinic.dxf": clinic(),
+            "office_ground_floor.dxf": office_ground_floor(),
         }
         paths = []
         for name, doc in drawings.items():

@@ -34,7 +34,7 @@ def test_json_has_exactly_the_documented_shape(samples):
     assert result.exit_code == 0
     data = json.loads(result.stdout)
     assert list(data) == ["units", "m_per_unit", "unit_source", "unit_note", "unit_evidence",
-                          "warnings", "layers"]
+                          "warnings", "views", "layers"]
     assert (data["units"], data["m_per_unit"], data["unit_source"]) == ("in", 0.0254, "header")
     assert data["warnings"] == []
     for layer in data["layers"]:

@@ -186,10 +186,13 @@ def test_terminal_output_spells_out_controls_and_bidi_marks(built):
     text = table.stdout.decode("utf-8")
     assert_safe_on_a_terminal(text)
     assert 'A-WALL <&"\'>\\u202e\\u200f\\x07' in text               # WALL_LAYER, spelled out
-    # one line per layer and per warning, plus head, column titles and foot: none broken
+    # one line per layer, per warning and per kind of unit evidence, plus head, column
+    # titles and foot: none broken
     table = json.loads(clearway("layers", "--json", drawing.name, cwd=drawing.parent).stdout)
     warnings = [line for line in text.splitlines() if line.startswith("warning: ")]
-    assert len(text.splitlines()) == len(table["layers"]) + len(warnings) + 3
+    assert len(warnings) == len(table["warnings"])
+    assert len(text.splitlines()) == len(table["layers"]) + len(warnings) + \
+        len(table["unit_evidence"]) + 3
 
 
 def test_refused_hostile_file_name_is_one_safe_line(tmp_path):

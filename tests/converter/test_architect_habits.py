@@ -1,0 +1,207 @@
+"""Drawings as architects send them: openings as blocks, lying unit headers, xref-bound layer
+names, a section beside the plan, thick masonry, grids on the outline layer.
+
+The bundled office_ground_floor.dxf carries all of these habits at once; its true geometry
+is known from sample_drawings/make_samples.py, which drew it in millimetres.
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import ezdxf
+import networkx as nx
+import pytest
+import shapely
+from click.testing import CliRunner
+
+from clearway.cli import main
+from clearway.converter import Roles, read_floorplan
+from clearway.converter.evidence import text_length_m
+from clearway.converter.roles import opening_kind
+
+from conftest import new_drawing, save
+
+OFFICE = Path(__file__).resolve().parents[2] / "sample_drawings" / "office_ground_floor.dxf"
+
+
+@pytest.fixture(scope="module")
+def office():
+    return read_floorplan(OFFICE)
+
+
+def test_the_content_overrules_a_lying_unit_header(office):
+    # make_samples.py: every length in mm, $INSUNITS = 1 (inches)
+    assert (office.units, office.unit_source) == ("mm", "content")
+    assert any("header says in" in warning and "doors 0.75 m-1.00 m wide" in warning
+               for warning in office.warnings)
+    assert "--units" in office.unit_note
+
+
+def test_openings_found_with_their_widths_and_kinds(office):
+    kinds = sorted((o.kind, o.exterior, round(o.width, 3)) for o in office.openings)
+    # analytic (make_samples.py): eight doors off the corridor, seven 1000 mm and one 800 mm
+    # between jambs; a 1400 mm double entrance door in the west wall; eight 1500 mm windows
+    assert kinds.count(("door", False, 1.0)) == 7
+    assert kinds.count(("door", False, 0.8)) == 1
+    assert kinds.count(("door", True, 1.4)) == 1
+    assert kinds.count(("window", True, 1.5)) == 8
+    assert len(kinds) == 17
+    archive = next(o for o in office.openings if o.width == pytest.approx(0.8))
+    # analytic: the archive door spans x 14.0-14.8 m in the corridor's south wall, y 5.95-6.05
+    assert (archive.x, archive.y, archive.depth) == pytest.approx((14.4, 6.0, 0.1), abs=0.01)
+
+
+def test_exterior_openings_are_closed_and_the_section_is_left_out(office):
+    # the interior only: nothing outside the 24 m x 14 m building, not the section at x >= 30 m
+    xmin, ymin, xmax, ymax = office.free_space.bounds
+    assert xmin >= 0.3 - 1e-6 and xmax <= 23.7 + 1e-6 and ymax <= 13.7 + 1e-6
+    assert any("2 separate drawings" in warning for warning in office.warnings)
+    # analytic: the entrance doorway (x 0-0.3 m, y 6.3-7.7 m) is closed, not floor
+    assert not office.free_space.contains(shapely.Point(0.15, 7.0))
+
+
+def test_thick_masonry_wall_and_stair_are_obstacles(office):
+    obstacles = shapely.union_all(list(office.obstacles.values()))
+    # analytic: the 750 mm masonry wall x 11.625-12.375 m; the stair x 21-23.5, y 10.5-13.5
+    for x, y in ((12.0, 3.0), (12.0, 11.0), (22.0, 12.0)):
+        assert obstacles.contains(shapely.Point(x, y)), (x, y)
+        assert not office.free_space.contains(shapely.Point(x, y))
+
+
+def test_built_graph_reaches_rooms_behind_wide_doors_only(tmp_path):
+    result = CliRunner().invoke(main, ["build", str(OFFICE), "-o", str(tmp_path), "--quiet"])
+    assert result.exit_code == 0, result.output
+    report = json.loads((tmp_path / "report.json").read_text(encoding="utf-8"))
+    reach = {station["label"]: station["reachable"] for station in report["stations"]}
+    # 0.35 m + 0.10 m robot needs 0.90 m: the 1.0 m doors pass, the archive's 0.8 m does not
+    assert reach == {"CHARGER": True, "DOCK-A": True, "DOCK-B": False, "LAB": True}
+    graph = nx.read_graphml(tmp_path / "roadmap.graphml", force_multigraph=True)
+    main_part = max(nx.connected_components(graph), key=len)
+    lanes = shapely.union_all([shapely.from_wkt(data["geometry"]) for u, v, data
+                               in graph.edges(data=True) if u in main_part])
+    # points in the middle of rooms the robot enters (room centres from make_samples.py)
+    for x, y in ((3.0, 3.0), (9.0, 3.0), (21.0, 3.0), (3.0, 11.0), (9.0, 11.0), (15.0, 11.0),
+                 (10.0, 7.0)):
+        assert lanes.distance(shapely.Point(x, y)) <= 1.5, (x, y)
+    # inside walls, the stair, outside the building: no lane near
+    for x, y in ((12.0, 3.0), (22.3, 12.0), (-3.0, 7.0), (40.0, 3.0), (0.15, 3.0)):
+        assert lanes.distance(shapely.Point(x, y)) > 0.3, (x, y)
+
+
+def test_xref_prefixes_and_plain_language_layer_names():
+    roles = Roles()
+    # common practice: bound xrefs rename layers XREF$0$NAME, attached ones show XREF|NAME
+    assert roles.role_of("SITEPLAN$0$A-WALL") == "wall"
+    assert roles.role_of("SITEPLAN|A-WALL") == "wall"
+    assert roles.role_of("house$0$Doors") == "opening"
+    for name in ("Wall", "Walls", "MURS", "Mauer", "Wände", "A-WALL-FULL", "S-COLS", "A-221-W"):
+        assert roles.role_of(name) == "wall", name
+    for name in ("A-DOOR", "Tür", "Fenster", "A-GLAZ-CURT", "PORTES"):
+        assert roles.role_of(name) == "opening", name
+    for name in ("A-FLOR-STRS", "Treppe", "ESCALIER", "Stairs"):
+        assert roles.role_of(name) == "stair", name
+    # overhead and annotation layers stay out, unless the user names them
+    assert roles.role_of("A-WALL-OVHD") is None and roles.role_of("A-DOOR-IDEN") is None
+    assert Roles.from_options(walls=["A-WALL-OVHD"]).role_of("A-WALL-OVHD") == "wall"
+    assert opening_kind("3068") == "door"      # common practice: 3'0" x 6'8" door block
+
+
+def test_dimension_texts_in_feet_and_inches():
+    # exact by definition: 1 in = 0.0254 m, 1 ft = 12 in
+    assert text_length_m("13'-8\"") == pytest.approx((13 * 12 + 8) * 0.0254)
+    assert text_length_m("2' 10 1/2\"") == pytest.approx(34.5 * 0.0254)
+    assert text_length_m("36\"") == pytest.approx(0.9144)
+    assert text_length_m("4150") is None and text_length_m("3,60 m") == pytest.approx(3.6)
+
+
+def test_inch_plan_with_a_millimetre_header_is_read_in_inches(tmp_path):
+    # a 40 ft x 30 ft room in inches, 6 in walls, three 36 in doors with swings, header mm
+    doc = new_drawing(4)
+    msp = doc.modelspace()
+    outline = shapely.box(0, 0, 480, 360).difference(shapely.box(6, 6, 474, 354))
+    cuts = [shapely.box(x, 354 - 1, x + 36, 361) for x in (60, 200, 340)]
+    walls = outline.difference(shapely.union_all(cuts))
+    for ring in shapely.get_rings(shapely.get_parts(walls)):
+        msp.add_lwpolyline(list(ring.coords)[:-1], close=True, dxfattribs={"layer": "A-WALL"})
+    for x in (60, 200, 340):
+        msp.add_arc((x, 354), 36, 270, 360, dxfattribs={"layer": "A-DOOR"})
+    dim = msp.add_linear_dim(base=(0, -24), p1=(0, 0), p2=(480, 0), text="40'-0\"",
+                             dxfattribs={"layer": "A-DIMS"})
+    dim.render()
+    plan = read_floorplan(save(doc, tmp_path))
+    assert (plan.units, plan.unit_source) == ("in", "content")
+    # exact by definition: 480 in = 12.192 m
+    assert plan.extents[2] - plan.extents[0] == pytest.approx(12.192, abs=0.06)
+    widths = sorted(o.width for o in plan.openings)
+    assert widths == pytest.approx([0.9144] * 3, abs=0.005)   # 36 in
+    assert {o.kind for o in plan.openings} == {"door"}
+
+
+def test_boundary_grid_lines_are_not_obstacles(tmp_path):
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    msp.add_lwpolyline([(0, 0), (20, 0), (20, 10), (0, 10)], close=True,
+                       dxfattribs={"layer": "A-FLOR-OTLN"})
+    for x in range(2, 20, 2):  # a floor tile grid on the outline layer
+        msp.add_line((x, 0), (x, 10), dxfattribs={"layer": "A-FLOR-OTLN"})
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: the floor is the 20 m x 10 m outline less a 0.025 m band inside its edge
+    assert plan.free_space.area == pytest.approx(19.95 * 9.95, rel=1e-3)
+    assert plan.free_space.contains(shapely.Point(4.0, 5.0))
+
+
+def test_no_lane_anywhere_is_exit_2_with_a_diagnosis(tmp_path):
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    msp.add_lwpolyline([(0, 0), (3, 0), (3, 0.8), (0, 0.8)], close=True,
+                       dxfattribs={"layer": "A-FLOR-OTLN"})
+    result = CliRunner().invoke(main, ["build", str(save(doc, tmp_path)), "-o",
+                                       str(tmp_path / "out"), "--quiet"])
+    assert result.exit_code == 2
+    line = result.stderr.strip()
+    assert "\n" not in line and "no lane" in line and "needs 0.90 m" in line
+    assert "--units" in line
+    assert not (tmp_path / "out").exists() or not any((tmp_path / "out").iterdir())
+
+
+def test_no_wall_layer_named_takes_the_layer_that_looks_like_walls(tmp_path):
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    outline = shapely.box(0, 0, 12, 8).difference(shapely.box(0.2, 0.2, 11.8, 7.8))
+    for ring in shapely.get_rings(shapely.get_parts(outline)):
+        xy = list(ring.coords)
+        for start, end in zip(xy[:-1], xy[1:]):
+            msp.add_line(start, end, dxfattribs={"layer": "0"})
+    msp.add_line((1, 1), (2, 1), dxfattribs={"layer": "FURNITURE"})
+    plan = read_floorplan(save(doc, tmp_path))
+    assert any("took layer '0' for walls" in warning for warning in plan.warnings)
+    # analytic: 11.6 m x 7.6 m inside the 0.2 m walls
+    assert plan.free_space.area == pytest.approx(11.6 * 7.6, rel=1e-3)
+
+
+def test_layers_json_carries_warnings_views_and_evidence(tmp_path):
+    result = CliRunner().invoke(main, ["layers", str(OFFICE), "--json"])
+    assert result.exit_code == 0, result.output
+    data = json.loads(result.stdout)
+    assert data["unit_source"] == "content" and data["units"] == "mm"
+    assert any("header says in" in warning for warning in data["warnings"])
+    assert [view["chosen"] for view in data["views"]] == [True, False]
+    roles = {layer["name"]: layer["role"] for layer in data["layers"]}
+    assert roles["ARCH$0$A-WALL"] == "wall" and roles["ARCH|A-GLAZ"] == "opening"
+    assert roles["ARCH$0$A-FLOR-STRS"] == "stair"
+
+
+def test_region_picks_the_other_drawing(tmp_path):
+    # the section stands at x 30-54 m (drawing units mm): --region builds it instead
+    plan = read_floorplan(OFFICE, region=(29000, -1000, 55000, 10000))
+    assert plan.free_space.bounds[0] >= 30.0
+    with pytest.raises(Exception):
+        read_floorplan(OFFICE, region=(5, 5, 1, 1))
+
+
+def test_ezdxf_reads_the_sample_back():
+    # the sample is a valid DXF: ezdxf's own auditor finds nothing to fix
+    doc = ezdxf.readfile(OFFICE)
+    assert not doc.audit().has_errors
