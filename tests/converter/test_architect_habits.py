@@ -21,7 +21,7 @@ from clearway.converter import Roles, read_floorplan
 from clearway.converter.evidence import text_length_m
 from clearway.converter.roles import opening_kind
 
-from conftest import new_drawing, save
+from tests.conftest import new_drawing, save
 
 OFFICE = Path(__file__).resolve().parents[2] / "sample_drawings" / "office_ground_floor.dxf"
 

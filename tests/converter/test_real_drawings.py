@@ -1,0 +1,88 @@
+"""Real floor plans drawn by others, built with default options (tests/data/real/SOURCES.md).
+
+The drawings themselves are not in this repository (fetched files may not be committed; see
+SOURCES.md): the tests look for them in the folder named by CLEARWAY_REAL_DRAWINGS, else in
+``../shared/real_drawings`` beside the repository, and skip the drawings they cannot find.
+Every probe point in probes.json was chosen by hand on the drawing, with the reason beside it
+(room-name text, jamb ticks, dimension strings); coordinates are in drawing units.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+from pathlib import Path
+
+import networkx as nx
+import pytest
+import shapely
+
+from clearway.converter import read_floorplan
+from clearway.roadmap import Robot, build_roadmap
+
+HERE = Path(__file__).resolve().parents[1] / "data" / "real"
+PROBES = json.loads((HERE / "probes.json").read_text(encoding="utf-8"))
+FOLDERS = [Path(os.environ["CLEARWAY_REAL_DRAWINGS"])] if os.environ.get("CLEARWAY_REAL_DRAWINGS") \
+    else [Path(__file__).resolve().parents[3] / "shared" / "real_drawings"]
+#: The robot of the probes: 0.35 m radius and 0.10 m margin need 0.90 m clear openings.
+ROBOT = Robot(radius=0.35, margin=0.10)
+
+
+def _find(name):
+    for folder in FOLDERS:
+        if (folder / name).is_file():
+            return folder / name
+    pytest.skip(f"{name} is not here (set CLEARWAY_REAL_DRAWINGS to the folder holding it)")
+
+
+@pytest.fixture(scope="module", params=sorted(PROBES))
+def built(request):
+    name = request.param
+    plan = read_floorplan(_find(name))
+    roadmap = build_roadmap(plan.obstacles, plan.free_space,
+                            [(s.label, s.x, s.y) for s in plan.stations], robot=ROBOT)
+    return name, PROBES[name], plan, roadmap
+
+
+def _main_lanes(roadmap):
+    graph = roadmap.graph
+    if graph.number_of_edges() == 0:
+        return shapely.GeometryCollection()
+    part = max(nx.connected_components(graph), key=len)
+    return shapely.union_all([data["geometry"] for u, v, data in graph.edges(data=True)
+                              if u in part])
+
+
+def test_unit_is_read_right(built):
+    name, probe, plan, _ = built
+    # source: SOURCES.md, the true unit from dimension text against geometry
+    assert plan.units == probe["unit"], plan.unit_note
+
+
+def test_openings_found_with_the_drawn_widths(built):
+    name, probe, plan, _ = built
+    factor = plan.m_per_unit
+    for x, y, width, why in probe.get("openings", []):
+        near = [o for o in plan.openings
+                if shapely.Point(o.x, o.y).distance(shapely.Point(x * factor, y * factor)) < 0.5]
+        # source: the drawing's own dimension text or jamb ticks (probes.json says which)
+        assert any(abs(o.width - width) <= 0.05 + 0.05 * width for o in near), (x, y, width, why)
+
+
+def test_rooms_the_robot_enters_have_a_lane(built):
+    name, probe, plan, roadmap = built
+    lanes = _main_lanes(roadmap)
+    factor = plan.m_per_unit
+    for x, y, why in probe.get("inside_rooms", []):
+        assert lanes.distance(shapely.Point(x * factor, y * factor)) <= 1.5, (x, y, why)
+
+
+def test_no_lane_in_walls_stairs_or_outside(built):
+    name, probe, plan, roadmap = built
+    graph = roadmap.graph
+    lanes = shapely.union_all([data["geometry"] for *_, data in graph.edges(data=True)]) \
+        if graph.number_of_edges() else shapely.GeometryCollection()
+    factor = plan.m_per_unit
+    for key in ("in_walls", "in_stairs", "outside"):
+        for x, y, why in probe.get(key, []):
+            assert lanes.distance(shapely.Point(x * factor, y * factor)) > 0.3, (key, x, y, why)
