@@ -143,7 +143,7 @@ def wall_ends(solid, loose, *, max_thickness):
                 middles.append(xy[index] + edge[index] / 2.0)
                 directions.append((unit[index, 1], -unit[index, 0]))  # right of the edge: out
                 lengths.append(length[index])
-    loose = np.asarray(loose, dtype=object)
+    loose = _without_ticks(np.asarray(loose, dtype=object))
     if len(loose):
         coords = [np.asarray(line.coords)[:, :2] for line in loose]
         ends = np.array([c[0] for c in coords] + [c[-1] for c in coords])
@@ -159,6 +159,31 @@ def wall_ends(solid, loose, *, max_thickness):
     if not middles:
         return np.empty((0, 2)), np.empty((0, 2)), np.empty(0)
     return np.array(middles, dtype=float), np.array(directions, dtype=float), np.array(lengths)
+
+
+#: Short strokes across a single-line wall mark a jamb (common practice); no longer than this.
+MAX_TICK = 0.35
+
+
+def _without_ticks(lines):
+    """Drop the short strokes that mark jambs across single-line walls: pieces up to MAX_TICK
+    long with a free end, so that the wall line they cross ends free there."""
+    if len(lines) < 2:
+        return lines
+    for _ in range(2):  # a tick crossing the wall is noded into two halves, each with a free end
+        coords = [np.asarray(line.coords)[:, :2] for line in lines]
+        ends = np.array([c[0] for c in coords] + [c[-1] for c in coords])
+        key = np.round(ends / 0.005).astype(np.int64)
+        _, inverse, counts = np.unique(key, axis=0, return_inverse=True, return_counts=True)
+        degree = counts[inverse.ravel()]
+        count = len(lines)
+        free = (degree[:count] == 1) | (degree[count:] == 1)
+        attached = (degree[:count] > 1) | (degree[count:] > 1)
+        tick = free & attached & (shapely.length(lines) <= MAX_TICK)
+        if not tick.any():
+            break
+        lines = lines[~tick]
+    return lines
 
 
 def find_gaps(solid, loose, *, max_thickness, max_width=MAX_WINDOW_WIDTH):
