@@ -15,7 +15,7 @@ from clearway.converter.parts import Parts
 from clearway.converter.inserts import BLOCK_OPENING_PREFIX
 from clearway.converter.interior import building_interior
 from clearway.converter.polygons import as_multipolygon, boundary_regions, filled_regions, free_space
-from clearway.converter.mapping import keep_one_view, map_drawing
+from clearway.converter.mapping import guess_wall_layer, keep_one_view, map_drawing
 from clearway.converter.roles import ROLE_OPTION_NAMES, Roles, opening_kind
 from clearway.converter.units import UNITS_TO_M
 
@@ -250,8 +250,10 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
                             f"in the walls at ({x:.2f}, {y:.2f}) m; close it or draw a boundary")
     free = free_space(container, [regions[role] for role in OBSTACLE_ROLES] + [interior.closures])
     if free.is_empty:
-        raise DrawingError(f"{source}: no enclosed floor: the wall layers enclose no free space "
-                           f"and no boundary is drawn; check the layer roles with `clearway layers`")
+        raise DrawingError(f"{source}: no enclosed floor: the wall layers "
+                           f"({', '.join(by_role['wall'][:4]) or 'none'}) enclose no free space and "
+                           f"no boundary is drawn;{_wall_hint(mapping)} check the layer roles with "
+                           f"`clearway layers`")
     limits.check("max_boundary_length", float(free.boundary.length), subject=source,
                  what="length of the free space's boundary in metres (the roadmap samples it "
                       "every 0.25 to 1 m)")
@@ -281,6 +283,15 @@ def _check_mapped(content, roles, by_role, source):
     if not any(holds(name) for role in ("wall", "boundary") for name in by_role[role]):
         raise DrawingError(f"{source}: no wall or boundary layer holds entities; map layers with "
                            f"--walls or --boundary (see `clearway layers`)")
+
+
+def _wall_hint(mapping):
+    """' layer X looks like walls (why): pass --walls ...;' for an unmapped candidate, or ''."""
+    guess = guess_wall_layer(mapping.content, mapping.visible, mapping.role_of)
+    if guess is None:
+        return ""
+    name, reason = guess
+    return f" layer {name!r} looks like walls ({reason}): add --walls {name!r};"
 
 
 def _check_size(content, by_role, factor, unit, limits):

@@ -56,9 +56,13 @@ def wall_thicknesses(lines, *, limit=4000):
     if len(lines) < 2:
         return np.empty(0)
     segments = []
-    for line in lines[:limit]:
+    for line in lines:
         xy = np.asarray(line.coords)[:, :2]
+        if len(xy) > 12:
+            continue  # a curve flattened to chords (a round column): no wall faces
         segments.extend(zip(xy[:-1], xy[1:]))
+        if len(segments) >= limit:
+            break
     if len(segments) < 2:
         return np.empty(0)
     a = np.array([s[0] for s in segments])

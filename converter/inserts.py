@@ -85,9 +85,12 @@ def _plan_matrix(insert):
     return np.array([x_axis, y_axis, (x, y)], dtype=float)
 
 
-def attribute_label(insert):
-    """Return an INSERT's label attribute (LABEL, NAME, ID, ... or the first non-empty one)."""
-    values = {tag: text for tag, text, _ in attributes(insert)}
+def attribute_label(insert, found=None):
+    """Return an INSERT's label attribute (LABEL, NAME, ID, ... or the first non-empty one).
+
+    `found` is the INSERT's `attributes` when the caller has them already.
+    """
+    values = {tag: text for tag, text, _ in (attributes(insert) if found is None else found)}
     for tag in _LABEL_TAGS:
         if values.get(tag):
             return values[tag]

@@ -21,7 +21,8 @@ from clearway.converter.inserts import BLOCK_OPENING_PREFIX
 from clearway.converter.openings import arc_radius
 from clearway.converter.parts import Parts
 from clearway.converter.read import read_drawing
-from clearway.converter.roles import Roles, opening_kind
+from clearway.converter.roles import (DEFAULT_IGNORED_PATTERNS, Roles, matches_any,
+                                      name_candidates, opening_kind)
 from clearway.converter.units import INSUNITS_CODES, UNITS_TO_M, decide_units
 from clearway.converter.views import VIEW_GAP, find_views
 
@@ -80,6 +81,12 @@ def map_drawing(path, *, roles, units, chord_tolerance, limits):
                         lines, warnings)
 
 
+#: Layers never guessed to be walls: furniture, fittings, annotation, hatching, grids.
+NOT_WALLS = ("*FURN*", "*MOBIL*", "*MÖBEL*", "*MOEBEL*", "*FIXT*", "*EQPM*", "*EQUIP*",
+             "*TEXT*", "*DIM*", "*ANNO*", "*HATCH*", "*PATT*", "*GRID*", "*AXIS*", "*TITLE*",
+             "*VIEWPORT*", "*VPORT*", "DEFPOINTS") + DEFAULT_IGNORED_PATTERNS
+
+
 def guess_wall_layer(content, visible, role_of):
     """Return (layer, reason) for the unmapped layer that looks most like walls, or None.
 
@@ -88,7 +95,8 @@ def guess_wall_layer(content, visible, role_of):
     """
     best, best_key, reason = None, None, ""
     for name in sorted(visible):
-        if role_of.get(name) is not None or name not in content.parts:
+        if role_of.get(name) is not None or name not in content.parts or \
+                matches_any(name_candidates(name), NOT_WALLS):
             continue
         lines, rings, _ = content.parts[name].geometries()
         count = len(lines) + len(rings)

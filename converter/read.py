@@ -167,10 +167,10 @@ def _read_entity(entity, dxftype, layer, tolerance, content, chunks, inserts, li
     """Add one model-space entity to `content`, `chunks` (linework) or `inserts`."""
     if dxftype == "INSERT":
         matrices = insert_matrices(entity, limits=limits, source=content.source)
-        label = attribute_label(entity)
+        found = attributes(entity) if entity.attribs else []
+        label = attribute_label(entity, found)
         name = str(entity.dxf.name)
         inserts[(name, layer)].append(matrices)
-        found = attributes(entity)
         for x, y in matrices[:, 2, :].tolist():
             content.points.append((layer, x, y, label, dxftype))
         x, y = matrices[0, 2, :].tolist()

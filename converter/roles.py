@@ -13,22 +13,23 @@ from clearway.converter.floorplan import ROLES
 #: Default glob patterns per role, matched case-insensitively against the layer name and
 #: against the name left after an external-reference prefix (``SITE$0$A-WALL``,
 #: ``SITE|A-WALL``). They cover the US National CAD Standard / AIA layer names (A-WALL,
-#: A-DOOR, A-GLAZ, A-FLOR-STRS, A-COLS, S-COLS, A-FLOR-OTLN), ISO 13567 names whose element
-#: field holds a CI/SfB code (21/22 walls, 28 frame and columns, 24 stairs, 31/32 openings:
-#: ``A-21...``), and the plain words offices use in English, French, German, Spanish,
-#: Italian and Dutch.
+#: A-DOOR, A-GLAZ, A-FLOR-STRS, A-COLS, S-COLS, A-FLOR-OTLN) and the plain words offices
+#: use in English, French, German, Spanish, Italian and Dutch, which also appear in the
+#: descriptive fields of ISO 13567 and BS 1192 names ("A-325G - Internal Doors"). Numeric
+#: classification codes alone are not matched: schemes number differently (a CI/SfB 32 is
+#: an opening, a Uniclass 320 a partition).
 DEFAULT_ROLE_PATTERNS: Mapping[str, tuple[str, ...]] = MappingProxyType({
     "opening": ("*DOOR*", "*GLAZ*", "*WINDOW*", "*-WIND", "*-WIND-*", "*OPNG*", "*OPENING*",
                 "*CURTAIN*", "*TÜR*", "*TUER*", "TUR", "TUR[-_ ]*", "*FENSTER*", "*PORTE*",
                 "*FENETRE*", "*FENÊTRE*", "*PUERTA*", "*VENTANA*", "*FINESTR*", "*DEUR*",
-                "*RAAM*", "*RAMEN*", "A?3[12]*"),
+                "*RAAM*", "*RAMEN*"),
     "stair": ("*STAIR*", "*STRS*", "*TREPPE*", "*ESCALIER*", "*ESCALERA*", "*SCALA",
-              "*TRAP[-_ ]*", "*TRAPPE*", "A?24*"),
+              "*TRAP[-_ ]*", "*TRAPPE*"),
     "wall": ("*WALL*", "A-COLS*", "S-COLS*", "*COLUMN*", "*-COL", "*-COL-*", "*-COLS-*",
              "WAND*", "*[-_ ]WAND*", "*WÄNDE*", "*WAENDE*", "*MAUER*", "MUR", "MURS*",
              "MUR[-_ ]*", "*[-_ ]MUR", "*[-_ ]MURS*", "*[-_ ]MUR[-_ ]*", "MURO*", "*[-_ ]MURO*",
              "*PARED*", "*PARETE*", "*PARETI*", "*MUUR*", "*MUREN*", "*STÜTZ*", "*STUETZ*",
-             "*POTEAU*", "*PILAR*", "*PILLAR*", "*COLONN*", "A?2[12]*", "A?28*"),
+             "*POTEAU*", "*PILAR*", "*PILLAR*", "*COLONN*", "*PARTITION*", "*CLOISON*"),
     "racking": ("*RACK*", "*SHELV*", "*PALLET*"),
     "keepout": ("*KEEPOUT*", "*KEEP-OUT*", "*KEEP_OUT*", "*NOGO*", "*NO-GO*"),
     "boundary": ("A-FLOR-OTLN*", "*-OTLN", "*BOUNDARY*"),
@@ -48,10 +49,10 @@ DEFAULT_IGNORED_PATTERNS = ("*OVHD*", "*OVERHEAD*", "*HIDDEN*", "*HIDD*", "*-HEA
 #: (closed like wall). Block names are matched like layer names; door blocks named by size
 #: in feet and inches (``3068`` = 3'0" x 6'8") are doors too (common practice).
 DOOR_PATTERNS = ("*DOOR*", "*TÜR*", "*TUER*", "TUR", "TUR[-_ ]*", "*PORTE*", "*PUERTA*", "*DEUR*",
-                 "*GATE*", "*-DR-*", "DR[-_ ]*", "[1-9][0-9][6-8][0-9]", "*A?32*")
+                 "*GATE*", "*-DR-*", "DR[-_ ]*", "[1-9][0-9][6-8][0-9]")
 WINDOW_PATTERNS = ("*WINDOW*", "*-WIND", "*-WIND-*", "WIN[-_ ]*", "*WDW*", "*GLAZ*", "*CURTAIN*",
                    "*FENSTER*", "*FENETRE*", "*FENÊTRE*", "*VENTANA*", "*FINESTR*", "*RAAM*",
-                   "*RAMEN*", "*A?31*")
+                   "*RAMEN*")
 
 #: Role -> the option / config key that sets it (``--walls``, ``[layers] walls = [...]``).
 ROLE_OPTION_NAMES: Mapping[str, str] = MappingProxyType({
@@ -77,7 +78,8 @@ def name_candidates(name):
     return (upper, stripped) if stripped and stripped != upper else (upper,)
 
 
-def _matches(names, patterns):
+def matches_any(names, patterns):
+    """True when any of `names` (upper case) matches any glob of `patterns`."""
     return any(fnmatchcase(name, pattern.upper()) for name in names for pattern in patterns)
 
 
@@ -90,9 +92,9 @@ def opening_kind(name):
     ('door', 'window', 'door', None)
     """
     names = name_candidates(name)
-    if _matches(names, WINDOW_PATTERNS):
+    if matches_any(names, WINDOW_PATTERNS):
         return "window"
-    if _matches(names, DOOR_PATTERNS):
+    if matches_any(names, DOOR_PATTERNS):
         return "door"
     return None
 
@@ -164,10 +166,10 @@ class Roles:
         ignored = None
         # the user's own patterns first: a layer they named wins over any default
         for role in sorted(ROLES, key=lambda role: role not in self.explicit):
-            if _matches(names, self.patterns[role]):
+            if matches_any(names, self.patterns[role]):
                 if role not in self.explicit:
                     if ignored is None:
-                        ignored = _matches(names, DEFAULT_IGNORED_PATTERNS)
+                        ignored = matches_any(names, DEFAULT_IGNORED_PATTERNS)
                     if ignored:
                         continue
                 return role
