@@ -300,10 +300,11 @@ def classify_gaps(gaps, *, door_lines, window_lines, other_lines, swing_arcs):
         Arcs from any layer that may be door swings.
 
     A swing arc of a radius between 0.35 and 1.2 times the gap's width (one leaf or one of
-    two) next to the gap makes a door; two or more lines along the gap spanning most of it
-    (glazing, sill) or window linework make a window; one line straight across on a door or
-    opening layer makes a closed opening (an overhead or locked door); other door linework
-    (a sliding door's panels) makes a door; nothing makes an open gap.
+    two) next to the gap makes a door; window linework along the gap, or two or more lines
+    spanning most of it on an opening layer that does not say which (glazing, sill), make a
+    window; a single straight line across on a door or opening layer and nothing else makes
+    a closed opening (an overhead or locked door); other door linework (a sliding door's
+    panels) makes a door; nothing makes an open gap.
     """
     kinds = []
     groups = {"door": np.asarray(door_lines, dtype=object),
@@ -338,15 +339,20 @@ def classify_gaps(gaps, *, door_lines, window_lines, other_lines, swing_arcs):
             kinds.append("door")
             continue
         across = {name: _spanning(lines, line, width) for name, lines in found.items()}
-        if len(found.get("window", ())) and across.get("window", 0) >= 1:
+        doors, windows = found.get("door", ()), found.get("window", ())
+        if len(windows) and across.get("window", 0) >= 1:
             kinds.append("window")
-        elif sum(across.values()) >= 2:
-            kinds.append("window")
-        elif across.get("door", 0) + across.get("other", 0) == 1 and not len(found.get("window", ())):
+        elif across.get("other", 0) >= 2:
+            kinds.append("window")                      # glazing lines on an opening layer
+        elif len(doors):
+            # one straight line across and nothing else: an overhead or locked door drawn
+            # shut; panels of a sliding door or anything else drawn there: a door
+            single = len(doors) == 1 and across.get("door", 0) == 1 and \
+                len(np.asarray(doors[0].coords)) == 2
+            kinds.append("closed" if single else "door")
+        elif across.get("other", 0) == 1 and len(found.get("other", ())) == 1:
             kinds.append("closed")
-        elif len(found.get("door", ())):
-            kinds.append("door")
-        elif len(found.get("window", ())):
+        elif len(windows):
             kinds.append("window")
         else:
             kinds.append("open")

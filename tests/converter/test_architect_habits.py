@@ -206,3 +206,39 @@ def test_ezdxf_reads_the_sample_back():
     # the sample is a valid DXF: ezdxf's own auditor finds nothing to fix
     doc = ezdxf.readfile(OFFICE)
     assert not doc.audit().has_errors
+
+
+def _partitioned_room(msp, gap):
+    """A 10 m x 8 m room, 0.2 m walls, split by a 0.1 m partition at y = 4 with a gap (x)."""
+    walls = shapely.box(0, 0, 10, 8).difference(shapely.box(0.2, 0.2, 9.8, 7.8))
+    walls = walls.union(shapely.box(0.2, 3.95, 9.8, 4.05)).difference(
+        shapely.box(gap[0], 3.9, gap[1], 4.1))
+    for ring in shapely.get_rings(shapely.get_parts(walls)):
+        msp.add_lwpolyline(list(ring.coords)[:-1], close=True, dxfattribs={"layer": "A-WALL"})
+
+
+@pytest.mark.parametrize("drawn, kind", [
+    ("sliding", "door"),        # common practice: two offset panels drawn in the opening
+    ("shut", "closed"),         # an overhead or locked door: one line straight across
+    ("glazing", "window"),      # two glazing lines on a layer that does not say which
+    ("nothing", "open"),
+])
+def test_what_is_drawn_in_a_gap_decides_its_kind(tmp_path, drawn, kind):
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    _partitioned_room(msp, (4.0, 5.6))
+    if drawn == "sliding":
+        msp.add_lwpolyline(rect := [(4, 3.96), (4.85, 3.96), (4.85, 3.99), (4, 3.99)],
+                           close=True, dxfattribs={"layer": "A-DOOR"})
+        msp.add_lwpolyline([(x + 0.75, y + 0.05) for x, y in rect], close=True,
+                           dxfattribs={"layer": "A-DOOR"})
+    elif drawn == "shut":
+        msp.add_line((4, 4), (5.6, 4), dxfattribs={"layer": "A-DOOR"})
+    elif drawn == "glazing":
+        for y in (3.98, 4.02):
+            msp.add_line((4, y), (5.6, y), dxfattribs={"layer": "A-OPNG"})
+    plan = read_floorplan(save(doc, tmp_path))
+    [opening] = plan.openings
+    # analytic: the gap spans x 4.0-5.6 m in the partition at y = 4
+    assert (opening.kind, opening.width) == (kind, pytest.approx(1.6))
+    assert plan.free_space.contains(shapely.Point(4.8, 4.0)) == (kind in ("door", "open"))
