@@ -16,7 +16,6 @@ from clearway.cli_common import InputError, converter_options, drawing_options, 
 from clearway.cli_graphs import compare, route
 from clearway.cli_view import view
 from clearway.errors import ClearwayError
-from clearway.converter import list_layers
 
 __all__ = ["main", "InputError", "drawing_options", "converter_options"]
 
@@ -100,6 +99,7 @@ def layers(drawing, as_json, **options):
     --keepout, --boundary, --stations and --shared. It also tells the unit and what the
     drawing's content says about it, and the separate drawings found in model space.
     """
+    from clearway.converter import list_layers     # the converter only: no roadmap stage
     try:
         kwargs = converter_options(options)
         table = list_layers(drawing, roles=kwargs["roles"], units=kwargs["units"],

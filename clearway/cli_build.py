@@ -14,12 +14,10 @@ from clearway.cli_common import (InputError, converter_options, drawing_options,
 from clearway.diagnosis import check_lanes
 from clearway.config import load_config
 from clearway.errors import ClearwayError
-from clearway.converter import read_floorplan
-from clearway.exporters import (check_anchor, render_dxf, render_geojson, render_graphml,
-                                render_report, render_svg, render_tables, summarize,
-                                write_outputs)
-from clearway.roadmap import ROBOT_KINDS, Robot, build_roadmap, carry_ids_over, site_warnings
-from clearway.cli_view import html_page
+from clearway.roadmap import ROBOT_KINDS          # a constant: the stages load when build runs
+
+# the stages (numpy, scipy, shapely, ezdxf, ...) are imported inside the functions that call
+# them, not when the command line starts: `clearway --help` stays fast
 
 
 #: The files `build` writes, in the order they are rendered.
@@ -55,6 +53,7 @@ def _centre(value, name: str) -> tuple[float, float]:
 def _build_robot(config: dict, robot_radius, robot_size, margin, kind=None, centre=None,
                  turn_radius=None, reverse=None):
     """The robot from the options, else from [robot] of the config file, else the defaults."""
+    from clearway.roadmap import Robot
     if robot_radius is not None and robot_size is not None:
         raise InputError("--robot-radius and --robot-size exclude each other; pass one")
     section = config.get("robot", {})
@@ -91,6 +90,7 @@ def _build_robot(config: dict, robot_radius, robot_size, margin, kind=None, cent
 
 
 def _parse_anchor(value: str | None):
+    from clearway.exporters import check_anchor
     if value is None:
         return None
     try:
@@ -111,6 +111,7 @@ def _count(number: int, singular: str, plural: str = "") -> str:
 
 
 def _summary(plan, roadmap, outdir: str, names=BUILD_FILES) -> list[str]:
+    from clearway.exporters import summarize
     counts = summarize(plan, roadmap)
     findings = roadmap.findings
     unreachable = [s for s in findings.stations if not s.reachable]
@@ -215,6 +216,12 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
     Exit 0 when built, 1 with --strict when a station is unreachable or free space leaks,
     2 for bad input.
     """
+    from clearway.cli_view import html_page
+    from clearway.converter import read_floorplan
+    from clearway.exporters import (render_dxf, render_geojson, render_graphml, render_report,
+                                    render_svg, render_tables, write_outputs)
+    from clearway.roadmap import build_roadmap, carry_ids_over, site_warnings
+
     def say(message: str) -> None:
         if not quiet:
             click.echo(terminal_text(message), err=True)

@@ -7,7 +7,6 @@ import contextlib
 import math
 import os
 import re
-import tempfile
 
 import click
 
@@ -15,7 +14,6 @@ from clearway.config import load_config
 from clearway.errors import ClearwayError, ConfigError
 from clearway.limits import Limits
 from clearway.converter import ROLE_OPTION_NAMES, UNITS_TO_M, Roles
-from clearway.exporters import finish_interrupted_set, read_graphml
 
 
 #: Characters a terminal acts on instead of showing them: C0 and C1 controls (line breaks
@@ -137,6 +135,7 @@ def parse_region(value, config=None):
 
 def replace_file(path: str, data: bytes) -> None:
     """Write `data` to `path` through a temporary file in the same folder, then rename."""
+    import tempfile
     target = os.path.abspath(path)
     handle, temporary = tempfile.mkstemp(dir=os.path.dirname(target), prefix=".clearway-")
     try:
@@ -151,6 +150,7 @@ def replace_file(path: str, data: bytes) -> None:
 
 def read_graph(path: str):
     """Read a GraphML file, first completing an output set a killed build left beside it."""
+    from clearway.exporters import finish_interrupted_set, read_graphml
     finish_interrupted_set(os.path.dirname(os.path.abspath(path)))
     try:
         return read_graphml(path)

@@ -8,13 +8,10 @@ import os
 import sys
 
 import click
-from networkx import NetworkXNoPath
 
 from clearway.cli_common import InputError, read_graph, replace_file, terminal_text
-from clearway.route_reasons import no_route_reason
-from clearway.exporters import render_compare_svg
-from clearway.roadmap import (ROUTE_METHODS, SAME_PLACE_TOLERANCE, compare_graphs,
-                              distance_matrix, shortest_route, summarize_changes)
+# constants only: networkx and the stages load when a command runs
+from clearway.roadmap import ROUTE_METHODS, SAME_PLACE_TOLERANCE
 
 
 @click.command()
@@ -34,6 +31,8 @@ from clearway.roadmap import (ROUTE_METHODS, SAME_PLACE_TOLERANCE, compare_graph
                    "metres [default: 1 % of the route, at least 0.25 m].")
 def compare(old, new, as_json, svg_path, comfort_clearance, match_tolerance, route_tolerance):
     """Show what changed between the lane graphs OLD.graphml and NEW.graphml."""
+    from clearway.exporters import render_compare_svg
+    from clearway.roadmap import compare_graphs, summarize_changes
     old_graph, new_graph = read_graph(old), read_graph(new)
     try:
         changes = compare_graphs(old_graph, new_graph, comfort_clearance=comfort_clearance,
@@ -84,6 +83,11 @@ def route(graph_file, ends, as_json, avoid, method, matrix, csv_path, show_wkt):
     pairs with no route are marked "unreachable" (null in JSON). Exit code 1 when
     FROM and TO are not connected.
     """
+    from networkx import NetworkXNoPath
+
+    from clearway.roadmap import distance_matrix, shortest_route
+    from clearway.route_reasons import no_route_reason
+
     if matrix == bool(ends) or (ends and len(ends) != 2):
         raise InputError("give FROM and TO, or --matrix (not both)")
     if (csv_path or False) and not matrix:

@@ -41,7 +41,6 @@ Command-line options override the file, key by key.
 from __future__ import annotations
 
 import dataclasses
-import tomllib
 import typing
 from pathlib import Path
 from typing import Any
@@ -85,6 +84,7 @@ def load_config(path: str | Path | None) -> dict[str, dict[str, Any]]:
     config: dict[str, dict[str, Any]] = {section: {} for section in SCHEMA}
     if path is None:
         return config
+    import tomllib                    # only when there is a file: keeps start-up short
     path = Path(path)
     try:
         data = tomllib.loads(path.read_text(encoding="utf-8"))

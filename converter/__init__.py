@@ -1,14 +1,23 @@
 """converter: read a DXF floor plan into obstacle and free-space polygons in metres."""
 
-from clearway.converter.convert import LayerRow, LayerTable, list_layers, read_floorplan
-from clearway.converter.floorplan import (OBSTACLE_ROLES, OPENING_KINDS, ROLES, FloorPlan, Leak,
-                                          Opening, PlanText, Station)
-from clearway.converter.roles import DEFAULT_ROLE_PATTERNS, ROLE_OPTION_NAMES, Roles
-from clearway.converter.units import UNITS_TO_M
+from clearway.lazy import lazy_exports
 
-__all__ = [
-    "read_floorplan", "list_layers", "LayerTable", "LayerRow",
-    "Roles", "DEFAULT_ROLE_PATTERNS", "ROLE_OPTION_NAMES", "UNITS_TO_M",
-    "FloorPlan", "Station", "Leak", "Opening", "PlanText", "ROLES", "OBSTACLE_ROLES",
-    "OPENING_KINDS",
-]
+#: Public name -> the module defining it; imported on first use (see clearway/lazy.py).
+__getattr__, __dir__, __all__ = lazy_exports(__name__, {
+    "read_floorplan": "convert",
+    "list_layers": "convert",
+    "LayerTable": "convert",
+    "LayerRow": "convert",
+    "Roles": "roles",
+    "DEFAULT_ROLE_PATTERNS": "roles",
+    "ROLE_OPTION_NAMES": "roles",
+    "UNITS_TO_M": "units",
+    "FloorPlan": "floorplan",
+    "Station": "floorplan",
+    "Leak": "floorplan",
+    "Opening": "floorplan",
+    "PlanText": "floorplan",
+    "ROLES": "floorplan",
+    "OBSTACLE_ROLES": "floorplan",
+    "OPENING_KINDS": "floorplan",
+})

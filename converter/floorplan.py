@@ -4,9 +4,10 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from types import MappingProxyType
-from typing import Mapping
+from typing import TYPE_CHECKING, Mapping
 
-from shapely.geometry import MultiPolygon
+if TYPE_CHECKING:      # annotations only: the command line reads ROLES without loading shapely
+    from shapely.geometry import MultiPolygon
 
 #: Layer roles, in the order a layer's role is decided when patterns overlap. Openings
 #: (doors, windows, glazing) are never obstacles themselves: they tell what fills a gap in

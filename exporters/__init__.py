@@ -6,32 +6,22 @@ geometries, the findings) and never reach back into the roadmap's internals. ``w
 writes a set of files atomically; ``finish_interrupted_set`` completes one a killed build left.
 """
 
-from clearway.exporters.anchor import check_anchor
-from clearway.exporters.compare_svg import render_compare_svg
-from clearway.exporters.dxf import render_dxf
-from clearway.exporters.files import finish_interrupted_set, write_outputs
-from clearway.exporters.geojson import render_geojson
-from clearway.exporters.graphml import render_graphml
-from clearway.exporters.graphml_read import read_graphml
-from clearway.exporters.html import render_html
-from clearway.exporters.report import render_report, summarize
-from clearway.exporters.svg import render_svg
-from clearway.exporters.tables import render_tables
-from clearway.exporters.text import SAFETY_CAUTION
+from clearway.lazy import lazy_exports
 
-__all__ = [
-    "SAFETY_CAUTION",
-    "check_anchor",
-    "finish_interrupted_set",
-    "read_graphml",
-    "render_compare_svg",
-    "render_dxf",
-    "render_geojson",
-    "render_graphml",
-    "render_html",
-    "render_report",
-    "render_svg",
-    "render_tables",
-    "summarize",
-    "write_outputs",
-]
+#: Public name -> the module defining it; imported on first use (see clearway/lazy.py).
+__getattr__, __dir__, __all__ = lazy_exports(__name__, {
+    "SAFETY_CAUTION": "text",
+    "check_anchor": "anchor",
+    "finish_interrupted_set": "files",
+    "read_graphml": "graphml_read",
+    "render_compare_svg": "compare_svg",
+    "render_dxf": "dxf",
+    "render_geojson": "geojson",
+    "render_graphml": "graphml",
+    "render_html": "html",
+    "render_report": "report",
+    "render_svg": "svg",
+    "render_tables": "tables",
+    "summarize": "report",
+    "write_outputs": "files",
+})

@@ -1,40 +1,33 @@
 """The roadmap stage: from a FloorPlan to the lane graph, routes and revision comparisons."""
 
-from clearway.roadmap.build import build_roadmap
-from clearway.roadmap.compare import (GraphChanges, compare_graphs, site_warnings,
-                                      summarize_changes)
-from clearway.roadmap.ids import SAME_PLACE_TOLERANCE, assign_stable_ids, carry_ids_over
-from clearway.roadmap.gvd import MedialAxis, generalized_voronoi, medial_axis
-from clearway.roadmap.model import (NODE_KINDS, ROBOT_KINDS, BodyShortfall, Findings, NarrowPassage, PersonnelFlag, PinchPoint,
-                           Robot, Roadmap, StationResult)
-from clearway.roadmap.routing import (ROUTE_METHODS, Route, distance_matrix, resolve_node,
-                             shortest_route)
+from clearway.lazy import lazy_exports
 
-__all__ = [
-    "BodyShortfall",
-    "ROBOT_KINDS",
-    "Findings",
-    "MedialAxis",
-    "NODE_KINDS",
-    "NarrowPassage",
-    "PersonnelFlag",
-    "PinchPoint",
-    "Robot",
-    "Roadmap",
-    "StationResult",
-    "build_roadmap",
-    "generalized_voronoi",
-    "medial_axis",
-    "GraphChanges",
-    "ROUTE_METHODS",
-    "SAME_PLACE_TOLERANCE",
-    "Route",
-    "assign_stable_ids",
-    "carry_ids_over",
-    "compare_graphs",
-    "distance_matrix",
-    "resolve_node",
-    "shortest_route",
-    "site_warnings",
-    "summarize_changes",
-]
+#: Public name -> the module defining it; imported on first use (see clearway/lazy.py).
+__getattr__, __dir__, __all__ = lazy_exports(__name__, {
+    "BodyShortfall": "model",
+    "ROBOT_KINDS": "choices",
+    "Findings": "model",
+    "MedialAxis": "gvd",
+    "NODE_KINDS": "model",
+    "NarrowPassage": "model",
+    "PersonnelFlag": "model",
+    "PinchPoint": "model",
+    "Robot": "model",
+    "Roadmap": "model",
+    "StationResult": "model",
+    "build_roadmap": "build",
+    "generalized_voronoi": "gvd",
+    "medial_axis": "gvd",
+    "GraphChanges": "compare",
+    "ROUTE_METHODS": "choices",
+    "SAME_PLACE_TOLERANCE": "choices",
+    "Route": "routing",
+    "assign_stable_ids": "ids",
+    "carry_ids_over": "ids",
+    "compare_graphs": "compare",
+    "distance_matrix": "routing",
+    "resolve_node": "routing",
+    "shortest_route": "routing",
+    "site_warnings": "compare",
+    "summarize_changes": "compare",
+})

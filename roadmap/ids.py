@@ -25,17 +25,11 @@ from scipy.sparse import coo_array
 from scipy.sparse.csgraph import connected_components
 from scipy.spatial import cKDTree
 
+from clearway.roadmap.choices import SAME_PLACE_TOLERANCE
 from clearway.roadmap.model import Roadmap
 from clearway.roadmap.turns import pair_text, parse_turns
 
 _NUMBERED = re.compile(r"^([A-Za-z_]*)(\d+)$")
-
-#: A node within this distance of a node of the other revision (same kind, same label for
-#: stations) stands for the same place, metres: `build --previous` gives it the old id and
-#: `compare` counts it as moved, not as removed and added. One tolerance, one meaning; half
-#: a metre is less than a common robot's width, so a node that moved that far is still on
-#: the same aisle.
-SAME_PLACE_TOLERANCE = 0.5
 
 
 def _node_class(attrs: dict, same_kind: bool) -> tuple[str, str]:

@@ -8,12 +8,11 @@ from dataclasses import dataclass, field
 import networkx as nx
 from shapely.geometry.base import BaseGeometry
 
+from clearway.roadmap.choices import ROBOT_KINDS
+
 #: Node kinds, as written to every export.
 NODE_KINDS = ("junction", "end", "station", "link", "waypoint")
 
-
-#: How a robot changes heading: turns in place, steers like a car, or moves in any direction.
-ROBOT_KINDS = ("differential", "car", "omni")
 
 
 def _check_length(name: str, value: float, *, zero: bool = False) -> float:

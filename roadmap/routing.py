@@ -23,10 +23,8 @@ from scipy.sparse import csr_array
 from scipy.sparse.csgraph import dijkstra
 from shapely.geometry import LineString
 
+from clearway.roadmap.choices import ROUTE_METHODS
 from clearway.roadmap.turns import parse_turns
-
-#: Route search methods.
-ROUTE_METHODS = ("astar", "dijkstra")
 
 
 @dataclass(frozen=True)

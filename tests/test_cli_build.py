@@ -17,7 +17,7 @@ from click.testing import CliRunner
 from lxml import etree
 from shapely.geometry import shape
 
-import clearway.cli_build
+import clearway.exporters
 import clearway.exporters.files
 from clearway.cli import main
 from tests.conftest import SAMPLES, new_drawing, save, wall_with_gap
@@ -179,7 +179,7 @@ def test_a_failing_last_exporter_leaves_the_previous_outputs(built, tmp_path, mo
 
     def broken(plan, roadmap):
         raise RuntimeError("simulated crash in the report exporter")
-    monkeypatch.setattr(clearway.cli_build, "render_report", broken)
+    monkeypatch.setattr(clearway.exporters, "render_report", broken)
     result = run("build", SAMPLES / "clinic.dxf", "-o", tmp_path, "--robot-radius", "0.3")
     assert result.exit_code != 0 and isinstance(result.exception, RuntimeError)
     assert _snapshot(tmp_path) == before              # byte-identical, no temporary files
@@ -188,12 +188,12 @@ def test_a_failing_last_exporter_leaves_the_previous_outputs(built, tmp_path, mo
 def test_sigterm_while_rendering_leaves_the_previous_outputs(tmp_path, monkeypatch):
     result = run("build", SAMPLES / "clinic.dxf", "-o", tmp_path, "--quiet")
     before = _snapshot(tmp_path)
-    real_render = clearway.cli_build.render_svg
+    real_render = clearway.exporters.render_svg
 
     def terminated(plan, roadmap, *, date):
         signal.raise_signal(signal.SIGTERM)          # as `kill PID` would deliver it
         return real_render(plan, roadmap, date=date)
-    monkeypatch.setattr(clearway.cli_build, "render_svg", terminated)
+    monkeypatch.setattr(clearway.exporters, "render_svg", terminated)
     result = run("build", SAMPLES / "clinic.dxf", "-o", tmp_path, "--robot-radius", "0.3",
                  "--quiet")
     assert result.exit_code == 128 + signal.SIGTERM   # common practice: 128 + signal number
