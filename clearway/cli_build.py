@@ -11,7 +11,6 @@ import click
 
 from clearway.cli_common import (InputError, converter_options, drawing_options, read_graph,
                                  terminal_text)
-from clearway.diagnosis import check_lanes
 from clearway.config import load_config
 from clearway.errors import ClearwayError
 from clearway.roadmap import ROBOT_KINDS          # a constant: the stages load when build runs
@@ -218,6 +217,7 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
     """
     from clearway.cli_view import html_page
     from clearway.converter import read_floorplan
+    from clearway.diagnosis import check_lanes
     from clearway.exporters import (render_dxf, render_geojson, render_graphml, render_report,
                                     render_svg, render_tables, write_outputs)
     from clearway.roadmap import build_roadmap, carry_ids_over, site_warnings
