@@ -12,7 +12,9 @@ several runs of each stage:
 - prep, inflate, voronoi, graph, stations, checks: the stages of build_roadmap, timed through
   its progress callback on one plan read once (prep = local frame and validity; inflate =
   drivable region, inflated obstacles and the clearance index);
-- total = read_floorplan + build_roadmap, and total / parse.
+- total = read_floorplan + build_roadmap, and total / parse;
+- rooms: how much longer build_roadmap takes than the same build with rooms switched off
+  (no cuts, no room nodes, no room values), in per cent (issue 10: at most 15 %).
 
 The raster baseline is scipy's Euclidean distance transform plus scikit-image's skeletonize
 of the free space rasterized at 2 cm pixels (the resolution that reaches 2 cm). Rasterizing
@@ -29,6 +31,7 @@ linear growth. The numbers are medians on a shared, noisy machine: compare withi
 
 from __future__ import annotations
 
+import contextlib
 import io
 import json
 import os
@@ -51,7 +54,7 @@ from clearway.converter.document import quiet_library  # noqa: E402
 from clearway.roadmap import Robot, build_roadmap  # noqa: E402
 
 ROBOT = Robot.disc(0.4, margin=0.1)
-STAGES = ("prep", "inflating", "voronoi", "graph", "stations", "checks")
+STAGES = ("prep", "inflating", "voronoi", "rooms", "graph", "stations", "checks")
 PIXEL = 0.02
 #: Side of the square raster window, metres (a 60 m window at 2 cm is 9e6 pixels).
 WINDOW = 60.0
@@ -73,6 +76,24 @@ def timed_build(plan):
     marks.append(("end", time.perf_counter()))
     times = {name: b - a for (name, a), (_, b) in zip(marks[:-1], marks[1:])}
     return result, times
+
+
+@contextlib.contextmanager
+def rooms_off():
+    """build_roadmap as it was before rooms: no cuts, no room nodes, no room values."""
+    from clearway.roadmap import build as stage
+    saved = {name: getattr(stage, name) for name in
+             ("opening_cuts", "narrowings", "split_floor", "room_seeds", "describe_rooms")}
+    stage.opening_cuts = lambda openings, offset: []
+    stage.narrowings = lambda *args, **kwargs: []
+    stage.split_floor = lambda free, cuts: np.empty(0, object)
+    stage.room_seeds = lambda rooms, *args: np.zeros(0, np.int64)
+    stage.describe_rooms = lambda *args: ((), ())
+    try:
+        yield
+    finally:
+        for name, value in saved.items():
+            setattr(stage, name, value)
 
 
 def rasterize(free, bounds):
@@ -127,11 +148,18 @@ def measure(bays, raster_full=False):
         builds.append(time.perf_counter() - start)
         for name in STAGES:
             stages[name].append(times.get(name, 0.0))
+    bare = []
+    with rooms_off():
+        for _ in range(repeats):
+            start = time.perf_counter()
+            build(plan)
+            bare.append(time.perf_counter() - start)
     peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024  # KiB on Linux
     graph = roadmap.graph
     result = {
         "bays": bays, "parse": statistics.median(parse),
         "read": statistics.median(read), "build": statistics.median(builds),
+        "bare": statistics.median(bare),
         "stages": {name: statistics.median(v) for name, v in stages.items()},
         "peak_mib": peak, "nodes": graph.number_of_nodes(), "edges": graph.number_of_edges(),
         "free_m2": float(plan.free_space.area), "size_mb": len(data) / 1e6,
@@ -173,8 +201,9 @@ def main(sizes):
                              capture_output=True, text=True, check=True)
         rows.append(json.loads(out.stdout.strip().splitlines()[-1]))
     head = (f"{'bays':>6} {'MB':>5} {'parse':>6} {'conv':>6} {'prep':>5} {'infl':>5} "
-            f"{'vor':>5} {'graph':>5} {'stat':>5} {'chk':>5} {'total':>6} {'/parse':>6} "
-            f"{'MiB':>5} {'raster':>7} {'speedup':>7} {'nodes':>6}")
+            f"{'vor':>5} {'room':>5} {'graph':>5} {'stat':>5} {'chk':>5} {'total':>6} "
+            f"{'/parse':>6} "
+            f"{'MiB':>5} {'raster':>7} {'speedup':>7} {'nodes':>6} {'rooms%':>6}")
     print(head)
     for row in rows:
         stage = row["stages"]
@@ -183,10 +212,13 @@ def main(sizes):
         row["total"], row["raster"] = total, raster
         print(f"{row['bays']:>6} {row['size_mb']:>5.1f} {row['parse']:>6.3f} "
               f"{row['read'] - row['parse']:>6.3f} {stage['prep']:>5.2f} "
-              f"{stage['inflating']:>5.2f} {stage['voronoi']:>5.2f} {stage['graph']:>5.2f} "
+              f"{stage['inflating']:>5.2f} {stage['voronoi']:>5.2f} {stage['rooms']:>5.2f} "
+              f"{stage['graph']:>5.2f} "
               f"{stage['stations']:>5.2f} {stage['checks']:>5.2f} {total:>6.3f} "
               f"{total / row['parse']:>6.2f} {row['peak_mib']:>5.0f} {raster:>7.1f} "
-              f"{raster / total:>7.1f} {row['nodes']:>6}")
+              f"{raster / total:>7.1f} {row['nodes']:>6} "
+              f"{100 * (row['build'] / row['bare'] - 1):>+6.1f}")
+    print("rooms% = build_roadmap with rooms / without rooms - 1 (target <= 15 %)")
     print("times in seconds; raster = EDT + skeletonize at 2 cm, scaled from a "
           f"{WINDOW:.0f} m window by pixel count")
     for row in rows:

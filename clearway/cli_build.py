@@ -246,6 +246,7 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
             robot=robot, shared_zones=plan.regions["shared"], comfort_clearance=comfort,
             personnel_clearance=float(checks.get("personnel_clearance", 0.5)),
             low_clearance_penalty=float(checks.get("low_clearance_penalty", 0.0)),
+            openings=plan.openings, texts=plan.texts,
             progress=lambda *stage: say("  " + " ".join(str(part) for part in stage)))
         check_lanes(plan, roadmap)
         if previous_graph is not None:

@@ -2,10 +2,12 @@
 
 from __future__ import annotations
 
+from dataclasses import replace
 from typing import Callable, Mapping, Sequence
 
 import numpy as np
 import shapely
+from shapely.ops import polylabel
 from scipy.sparse.csgraph import connected_components
 from scipy.spatial import cKDTree
 from shapely.ops import polylabel  # shapely.polylabel exists only from shapely 2.1
@@ -21,6 +23,8 @@ from clearway.roadmap.body import fit_edges, fit_lanes
 from clearway.roadmap.model import BodyShortfall, Robot, Roadmap
 from clearway.roadmap.turns import check_turns
 from clearway.roadmap.lanes import assemble_graph, refine_lanes
+from clearway.roadmap.rooms import (describe_rooms, locate, narrowings, opening_cuts, room_names,
+                                    room_seeds, split_floor)
 from clearway.roadmap.stations import (REASON_NO_LANE, REASON_NO_LINK, Attachment, link_stations,
                               station_regions)
 
@@ -68,11 +72,11 @@ def _fragments(vertices, clearance, edges, regions, field, c):
     return vertices, clearance, edges, keep, warnings
 
 
-def _lanes(vertices, clearance, edges, isolated, c, field, robot):
+def _lanes(vertices, clearance, edges, isolated, c, field, robot, terminal=None):
     """Lanes as (geometry, ends, isolated, vertices, shortfalls); a rectangular body keeps
     only the lanes it can drive heading along them (dead ends cut back, on a copy of
-    `vertices`)."""
-    chains = chain_lanes(len(vertices), edges)
+    `vertices`). `terminal` (V,) bool vertices end lanes (room nodes, station joins)."""
+    chains = chain_lanes(len(vertices), edges, terminal)
     sequences, _ = split_loops(chains, vertices)
     lines = refine_lanes([vertices[seq] for seq in sequences], field, below=c + 0.02)
     geometry = polylines(lines)
@@ -90,7 +94,7 @@ def _lanes(vertices, clearance, edges, isolated, c, field, robot):
 def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequence[tuple],
                   *, robot: Robot, shared_zones=None, comfort_clearance: float | None = None,
                   personnel_clearance: float = 0.5, low_clearance_penalty: float = 0.0,
-                  sample_step: float = 0.25,
+                  sample_step: float = 0.25, openings: Sequence = (), texts: Sequence = (),
                   progress: Callable[[str], None] | None = None) -> Roadmap:
     """Build the lane graph of maximum clearance for `robot` in `free_space`.
 
@@ -114,8 +118,13 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
         Lanes whose clearance_min is below comfort weigh length * (1 + penalty).
     sample_step : float
         Boundary sampling interval of the Voronoi diagram, metres.
+    openings : sequence of Opening (``FloorPlan.openings``), drawing frame
+        Passable interior openings split the floor into rooms.
+    texts : sequence of PlanText (``FloorPlan.texts``), drawing frame
+        Texts inside a room name it.
     progress : callable, optional
-        Called with "inflating", "voronoi", "graph", "stations", "checks" as each starts.
+        Called with "inflating", "voronoi", "rooms", "graph", "stations", "checks" as each
+        starts.
 
     Returns
     -------
@@ -153,6 +162,13 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
     report("voronoi")
     axis = medial_axis(local, step=sample_step)
 
+    report("rooms")
+    cuts = opening_cuts(openings, offset)
+    narrow = narrowings(axis.vertices, axis.clearance, axis.edges, avoid=cuts)
+    rooms = split_floor(local, cuts + narrow)
+    rooms = rooms[np.lexsort(shapely.bounds(rooms).T[::-1])] if len(rooms) else rooms
+    names = room_names(rooms, texts, offset)
+
     report("graph")
     lane_axis = axis.restrict(axis.clearance >= threshold)
     vertices, clearance, edges = contract_short_edges(lane_axis.vertices, lane_axis.clearance,
@@ -161,10 +177,14 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
                                                             regions, field, c)
     edges = edges[keep[edges].all(axis=1)]
     alone = np.flatnonzero(keep & (np.bincount(edges.ravel(), minlength=len(vertices)) == 0))
-    kept, isolated = prune_spurs(vertices, clearance, edges)
+    # each room's vertex of greatest clearance is kept, and ends a lane: its room node
+    seeds = room_seeds(rooms, vertices, clearance, keep, threshold)
+    room_node = np.zeros(len(vertices), bool)
+    room_node[seeds[seeds >= 0]] = True
+    kept, isolated = prune_spurs(vertices, clearance, edges, protected=room_node)
     isolated = np.union1d(isolated, alone)
     lines, ends, isolated, lane_vertices, short = _lanes(vertices, clearance, kept, isolated,
-                                                         c, field, robot)
+                                                         c, field, robot, room_node)
     lane_region = station_regions(lane_vertices[[a for a, _ in ends]], regions)
 
     report("stations")
@@ -181,18 +201,18 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
         retry = link_stations(station_xy[failed], full_lines,
                               station_regions(vertices[[s[0] for s in full]], regions),
                               regions, field, local, c)
-        protected = np.zeros(len(vertices), bool)
+        protected = room_node.copy()
         for attachment in retry:
             if isinstance(attachment, Attachment):
                 seq = full[attachment.lane]
                 step = np.r_[0, np.cumsum(np.hypot(*np.diff(vertices[seq], axis=0).T))]
                 at = int(np.clip(np.searchsorted(step, attachment.along), 1, len(seq) - 1))
                 protected[seq[at - 1:at + 1]] = True
-        if protected.any():
+        if (protected & ~room_node).any():
             kept, isolated = prune_spurs(vertices, clearance, edges, protected=protected)
             isolated = np.union1d(isolated, alone)
             lines, ends, isolated, lane_vertices, short = _lanes(
-                vertices, clearance, kept, isolated, c, field, robot)
+                vertices, clearance, kept, isolated, c, field, robot, protected)
             lane_region = station_regions(lane_vertices[[a for a, _ in ends]], regions)
             joins = link_stations(station_xy, lines, lane_region, regions, field, local, c)
 
@@ -221,5 +241,20 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
                                  regions=regions, region_of_station=station_regions(
                                      station_xy, regions), offset=offset,
                                  warnings=tuple(warnings), body=body)
+    room_list, passages = describe_rooms(rooms, seeds, names, narrow, openings, graph,
+                                         lane_vertices, regions, offset, c)
+    findings = _stations_in_rooms(findings, room_list)
     return Roadmap(graph=graph, robot=robot, inflated=inflated,
-                   drivable=to_drawing(drivable, offset), findings=findings)
+                   drivable=to_drawing(drivable, offset), findings=findings,
+                   rooms=room_list, passages=passages)
+
+
+def _stations_in_rooms(findings, rooms):
+    """Findings whose station results name the room each station stands in."""
+    if not rooms or not findings.stations:
+        return findings
+    polygons = np.array([room.polygon for room in rooms], dtype=object)
+    owner = locate([(s.x, s.y) for s in findings.stations], polygons, slack=0.01)
+    return replace(findings, stations=tuple(
+        replace(result, room=rooms[k].id if k >= 0 else "")
+        for result, k in zip(findings.stations, owner)))

@@ -9,7 +9,8 @@ Spurs are pruned as in the hierarchical GVG [CB00]_: a leaf lane whose clearance
 steadily towards its free end runs into a concave corner of the free space (at a 90-degree
 corner it falls by sin 45 = 0.71 m per metre); a leaf lane whose clearance stays about constant
 is a dead-end aisle and stays. Pruning repeats, re-chaining each time, until nothing changes;
-a component is never pruned to nothing (its vertex of greatest clearance is kept).
+a component is never pruned to nothing (its longest lane from the vertex of greatest clearance
+is kept, so that no node is left without an edge).
 
 References
 ----------
@@ -145,6 +146,10 @@ def _is_spur(points: np.ndarray, clearance: np.ndarray, slope: float, probe: flo
     return bool(rise >= slope * reach)
 
 
+def _length(points: np.ndarray) -> float:
+    return float(np.hypot(*np.diff(points, axis=0).T).sum())
+
+
 def prune_spurs(vertices, clearance, edges, *, protected=None, slope: float = SPUR_SLOPE,
                 probe: float = SPUR_PROBE, max_rounds: int = 50):
     """Remove leaf lanes that run into concave corners, round after round.
@@ -189,7 +194,18 @@ def prune_spurs(vertices, clearance, edges, *, protected=None, slope: float = SP
         emptied = np.unique(label[alive[dropped, 0]])
         for component in emptied[remaining[emptied] == 0]:
             members = np.flatnonzero(label == component)
-            isolated.append(int(members[np.argmax(clearance[members])]))
+            best = int(members[np.argmax(clearance[members])])
+            # keep the longest doomed lane from the vertex of greatest clearance (a square
+            # room's axis is all spurs), so the component keeps an edge, never a lone node
+            through = [lane for lane in doomed if best in (lane[0], lane[-1])]
+            if not through:
+                isolated.append(best)
+                continue
+            lane = max(through, key=lambda seq: (_length(vertices[seq]), -int(seq[-1])))
+            spared = np.sort(np.stack([lane[:-1], lane[1:]], 1), axis=1)
+            dropped &= ~np.isin(key, spared[:, 0] * count + spared[:, 1])
+            protected = protected.copy()
+            protected[[lane[0], lane[-1]]] = True
         alive = alive[~dropped]
     return alive, np.asarray(sorted(set(isolated)), dtype=np.int64)
 

@@ -131,6 +131,7 @@ class StationResult:
     component: int | None    # graph component index (0 = the one holding most stations)
     reachable: bool
     reason: str = ""         # empty when reachable; else why not, one line
+    room: str = ""           # id of the room it stands in, "" when none
 
 
 @dataclass(frozen=True)
@@ -185,6 +186,51 @@ class BodyShortfall:
 
 
 @dataclass(frozen=True)
+class Passage:
+    """Where two rooms meet: an opening of the drawing or a narrowing of the lanes.
+
+    opening is the index into ``FloorPlan.openings``, -1 for a narrowing. x, y is the
+    middle, width the clear width (metres); start, end the cut line (drawing frame);
+    fits says the robot passes (width above twice the required clearance); rooms are the
+    ids of the rooms either side (one for an exterior opening, none when outside every room).
+    """
+
+    x: float
+    y: float
+    width: float
+    opening: int
+    fits: bool
+    rooms: tuple[str, ...] = ()
+    start: tuple[float, float] = (0.0, 0.0)
+    end: tuple[float, float] = (0.0, 0.0)
+
+
+@dataclass(frozen=True)
+class Room:
+    """A room of the free floor, its names from the drawing and how the robot enters it.
+
+    polygon is in the drawing frame; x, y is the room node (the lane vertex of greatest
+    clearance inside it) or, for a room without one, a point inside. node is the graph node
+    id of the room node ("" when none). passages are indices into ``Roadmap.passages`` on
+    the room's outline. For a room the robot cannot enter, reason says why and blocked_by
+    is the passage that stops it (-1 when none does), blocked_width its clear width.
+    """
+
+    id: str
+    polygon: BaseGeometry
+    names: tuple[str, ...]
+    area: float
+    x: float
+    y: float
+    node: str
+    reachable: bool
+    passages: tuple[int, ...] = ()
+    reason: str = ""
+    blocked_by: int = -1
+    blocked_width: float | None = None
+
+
+@dataclass(frozen=True)
 class Findings:
     stations: tuple[StationResult, ...] = ()
     components: tuple[tuple[str, ...], ...] = ()          # station labels per graph component
@@ -203,7 +249,8 @@ class Roadmap:
 
     graph : networkx.MultiGraph
         Undirected; node ids are strings; node attributes x, y, clearance (float, m),
-        kind (one of NODE_KINDS), label (str, "" unless a station). Edge keys are edge
+        kind (one of NODE_KINDS), label (str, "" unless a station), room (str, the id of the
+        room it stands in, "" outside every room). Edge keys are edge
         ids (str); edge attributes length, weight, clearance_min (float, m) and geometry
         (shapely LineString joining the two end nodes, in either direction).
         Graph attributes: units="m", robot_radius, margin, clearance (floats, m).
@@ -213,6 +260,10 @@ class Roadmap:
     drivable : shapely geometry
         Where the robot's centre may be: free space minus ``inflated``.
     findings : Findings
+    rooms : tuple of Room
+        Sorted by id (``r<k>`` in (x, y) order of the room nodes).
+    passages : tuple of Passage
+        One per opening of the drawing, in its order, then one per narrowing.
     """
 
     graph: nx.MultiGraph
@@ -220,3 +271,5 @@ class Roadmap:
     inflated: BaseGeometry
     drivable: BaseGeometry
     findings: Findings = field(default_factory=Findings)
+    rooms: tuple[Room, ...] = ()
+    passages: tuple[Passage, ...] = ()

@@ -74,13 +74,17 @@ def test_room_corner_spurs_are_pruned():
     assert sorted(xy[[0, -1], 0]) == pytest.approx([2.0, 6.0], abs=1e-3)
 
 
-def test_square_room_keeps_one_node():
+def test_square_room_keeps_its_centre_and_one_half_diagonal():
     obstacles, free = plan((0.0, 0.0, 4.0, 4.0))
     graph = build(obstacles, free).graph
-    # analytic: a square's medial axis is its diagonals; pruned, the centre remains
-    assert graph.number_of_nodes() == 1
-    (_, data), = graph.nodes(data=True)
-    assert (data["x"], data["y"]) == pytest.approx((2.0, 2.0), abs=0.01)
+    # analytic: a square's medial axis is its diagonals, all spurs; the centre and the
+    # longest of them stay (issue 10: no node without an edge)
+    assert (graph.number_of_nodes(), graph.number_of_edges()) == (2, 1)
+    xy = sorted((data["x"], data["y"]) for _, data in graph.nodes(data=True))
+    centre = min(xy, key=lambda p: abs(p[0] - 2.0) + abs(p[1] - 2.0))
+    assert centre == pytest.approx((2.0, 2.0), abs=0.01)
+    (end,) = [p for p in xy if p != centre]
+    assert abs(end[0] - 2.0) == pytest.approx(abs(end[1] - 2.0), abs=0.02)   # on a diagonal
 
 
 def test_ring_around_one_island_has_no_self_loop():

@@ -113,7 +113,7 @@ def test_progress_stages_and_bad_options():
     obstacles, free = corridor(2.0)
     stages = []
     build(obstacles, free, progress=stages.append)
-    assert stages == ["inflating", "voronoi", "graph", "stations", "checks"]
+    assert stages == ["inflating", "voronoi", "rooms", "graph", "stations", "checks"]
     with pytest.raises(ValueError, match="sample_step"):
         build(obstacles, free, sample_step=0)
     # issue 16: the value is quoted as given (it was reported plus one) and 0 is allowed

@@ -1,0 +1,373 @@
+"""Rooms: the free floor split at passable openings and at narrowings of the lanes.
+
+A room is a face of the free floor cut along the jamb-to-jamb line of every passable interior
+opening (a door or an open gap) and, in open plans, along the critical lines of the medial
+axis: where a lane between two obstacles passes a local minimum of clearance that is markedly
+lower than the clearance on both sides [Thr98]_. The cut lines and the floor's outline are
+noded and polygonized, so every point of the free floor lies in exactly one room (up to the
+cut lines themselves). Rooms are named from the texts inside them.
+
+References
+----------
+.. [Thr98] S. Thrun, "Learning metric-topological maps for indoor mobile robot navigation",
+   Artificial Intelligence 99(1), 1998, sec. 3 (critical points and critical lines).
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+
+import numpy as np
+import shapely
+
+from clearway.roadmap.graph import chain_lanes
+from clearway.roadmap.stations import station_regions
+
+#: Cut lines reach this far past each jamb into the wall, metres, so that they cross the
+#: floor's outline even where the jamb is drawn a hair short.
+EXTEND = 0.05
+#: A local minimum of clearance is a narrowing when the lane rises to at least this many
+#: times its clearance on both sides (a doorway 0.9 m wide between rooms at least 1.35 m
+#: wide; from practice with open plans, not a standard).
+NARROWING_RATIO = 1.5
+#: Narrowings with less clearance than this (gaps under 0.2 m) are drafting slivers, metres.
+NARROWING_FLOOR = 0.1
+#: Faces smaller than this (m^2) are slivers of a cut and join their neighbour.
+SLIVER = 1e-3
+#: Layer names that hold annotation (room names and numbers) in common layer conventions.
+ANNOTATION_LAYER = re.compile(r"anno|text|txt|room|raum|name|num|iden|label|tag|space|nplt",
+                              re.IGNORECASE)
+
+
+@dataclass(frozen=True)
+class Cut:
+    """A line along which the floor was split: an opening of the drawing or a narrowing.
+
+    start, end : (2,) metres (local frame); width : clear width, metres;
+    opening : index into the given openings, -1 for a narrowing.
+    """
+
+    start: tuple[float, float]
+    end: tuple[float, float]
+    width: float
+    opening: int
+
+
+def opening_cuts(openings, offset) -> list[Cut]:
+    """Cut lines of the passable interior openings, extended EXTEND into both walls."""
+    cuts = []
+    shift = np.asarray(offset, dtype=float)
+    for index, opening in enumerate(openings):
+        if not opening.passable or opening.exterior:
+            continue
+        start = np.asarray(opening.start, dtype=float) - shift
+        end = np.asarray(opening.end, dtype=float) - shift
+        span = float(np.hypot(*(end - start)))
+        if span <= 0:
+            continue
+        along = (end - start) / span
+        cuts.append(Cut(tuple(start - EXTEND * along), tuple(end + EXTEND * along),
+                        float(opening.width), index))
+    return cuts
+
+
+def _segmented_max(values: np.ndarray, segment: np.ndarray) -> np.ndarray:
+    """Running maximum of `values` restarting at every new `segment` id (ids ascending)."""
+    if len(values) == 0:
+        return values
+    big = float(values.max() - min(values.min(), 0.0) + 1.0)
+    lifted = values + segment * big
+    return np.maximum.accumulate(lifted) - segment * big
+
+
+def narrowings(vertices, clearance, edges, *, avoid=(), ratio: float = NARROWING_RATIO,
+               floor: float = NARROWING_FLOOR) -> list[Cut]:
+    """Critical lines of the medial axis: one per lane at its significant clearance minimum.
+
+    Parameters
+    ----------
+    vertices : (V, 2) metres; clearance : (V,) metres; edges : (E, 2) int
+        The medial axis (local frame).
+    avoid : sequence of Cut
+        Cuts already made (openings); a narrowing within its clearance of one is the same
+        doorway and is skipped.
+
+    Returns
+    -------
+    list of Cut, perpendicular to the lane through the minimum, reaching EXTEND past the
+    two nearest obstacles.
+    """
+    keep = clearance >= floor
+    if not keep.any() or len(edges) == 0:
+        return []
+    index = np.flatnonzero(keep)
+    renumber = np.cumsum(keep) - 1
+    sub_edges = renumber[edges[keep[edges].all(axis=1)]]
+    if len(sub_edges) == 0:
+        return []
+    chains = chain_lanes(len(index), sub_edges)
+    order = index[chains.order]
+    lane = np.repeat(np.arange(len(chains)), np.diff(chains.offsets))
+    values = clearance[order]
+    before = _segmented_max(values, lane)
+    after = _segmented_max(values[::-1], lane[::-1] * -1 + lane.max())[::-1]
+    first = np.zeros(len(order), bool)
+    first[chains.offsets[:-1]] = True
+    last = np.zeros(len(order), bool)
+    last[chains.offsets[1:] - 1] = True
+    interior = ~first & ~last
+    candidate = interior & (before >= ratio * values) & (after >= ratio * values)
+    segments = [np.asarray([c.start, c.end]) for c in avoid]
+    cuts = []
+    for k in np.unique(lane[candidate]):
+        mine = np.flatnonzero(candidate & (lane == k))
+        # the lane's lowest point, its lower (x, y) on ties
+        pick = mine[np.lexsort((vertices[order[mine], 1], vertices[order[mine], 0],
+                                values[mine]))[0]]
+        point, half = vertices[order[pick]], float(values[pick])
+        if any(_segment_distance(point, s) <= half + EXTEND for s in segments):
+            continue
+        direction = vertices[order[pick + 1]] - vertices[order[pick - 1]]
+        length = float(np.hypot(*direction))
+        if length <= 0:
+            continue
+        normal = np.array([-direction[1], direction[0]]) / length
+        reach = half + EXTEND
+        cuts.append(Cut(tuple(point - reach * normal), tuple(point + reach * normal),
+                        2 * half, -1))
+    return cuts
+
+
+def _segment_distance(point, segment) -> float:
+    start, end = segment
+    span = end - start
+    t = np.clip(np.dot(point - start, span) / max(np.dot(span, span), 1e-24), 0.0, 1.0)
+    return float(np.hypot(*(point - start - t * span)))
+
+
+def split_floor(free_space, cuts) -> np.ndarray:
+    """Split `free_space` (local frame) along `cuts`; return the rooms, (R,) Polygon.
+
+    Faces of the noded outline and cut lines that lie in the free floor; slivers under
+    SLIVER m^2 join the neighbour they share the longest border with.
+    """
+    parts = shapely.get_parts(free_space)
+    parts = parts[shapely.area(parts) > 0]
+    if not cuts:
+        return parts
+    lines = shapely.linestrings([[c.start, c.end] for c in cuts])
+    touched = np.zeros(len(parts), bool)
+    _, hit = shapely.STRtree(parts).query(lines, predicate="intersects")
+    touched[hit] = True
+    rooms = list(parts[~touched])
+    for part in parts[touched]:
+        mine = lines[shapely.intersects(lines, part)]
+        noded = shapely.union_all(np.r_[shapely.boundary(part), mine])
+        faces = shapely.get_parts(shapely.polygonize(shapely.get_parts(noded)))
+        inside = shapely.contains_xy(part, *shapely.get_coordinates(
+            shapely.point_on_surface(faces)).T) if len(faces) else np.zeros(0, bool)
+        faces = list(faces[inside])
+        faces = _merge_slivers(faces)
+        rooms.extend(faces if faces else [part])
+    return np.array(rooms, dtype=object)
+
+
+def _merge_slivers(faces: list) -> list:
+    small = [f for f in faces if f.area < SLIVER]
+    large = [f for f in faces if f.area >= SLIVER]
+    if not large:
+        return faces
+    for sliver in small:
+        shared = [shapely.length(shapely.intersection(sliver.boundary, f.boundary))
+                  for f in large]
+        best = int(np.argmax(shared))
+        merged = shapely.union(large[best], sliver)
+        if merged.geom_type == "Polygon":
+            large[best] = merged
+    return large
+
+
+def locate(points, rooms: np.ndarray, *, slack: float = 0.0) -> np.ndarray:
+    """Index of the room holding each point (N, 2), -1 where none; lowest index on borders.
+
+    As ``station_regions`` (1 mm slack); with `slack` > 0, the points still outside every
+    room take the nearest room within `slack` metres.
+    """
+    result = station_regions(points, rooms)
+    rest = np.flatnonzero(result < 0)
+    if slack > 0 and len(rest) and len(rooms):
+        points = np.asarray(points, dtype=float).reshape(-1, 2)
+        found, nearest = shapely.STRtree(rooms).query_nearest(
+            shapely.points(points[rest]), max_distance=slack, all_matches=False)
+        result[rest[found]] = nearest
+    return result
+
+
+def room_names(rooms: np.ndarray, texts, offset) -> list[tuple[str, ...]]:
+    """The texts inside each room: annotation layers first, then by height, largest first.
+
+    Texts of several lines keep their lines joined by a space; empty texts and repeats are
+    left out.
+    """
+    names: list[list] = [[] for _ in range(len(rooms))]
+    texts = [t for t in texts if str(t.text).strip()]
+    if not texts:
+        return [() for _ in rooms]
+    xy = np.array([(t.x, t.y) for t in texts], dtype=float) - np.asarray(offset, dtype=float)
+    owner = locate(xy, rooms)
+    for text, room in zip(texts, owner):
+        if room >= 0:
+            names[room].append(text)
+    result = []
+    for mine in names:
+        mine.sort(key=lambda t: (not ANNOTATION_LAYER.search(t.layer or ""), -float(t.height),
+                                 -float(t.y), float(t.x)))
+        seen: list[str] = []
+        for text in mine:
+            label = " ".join(str(text.text).split())
+            if label not in seen:
+                seen.append(label)
+        result.append(tuple(seen))
+    return result
+
+
+def room_seeds(rooms: np.ndarray, vertices, clearance, usable, threshold: float) -> np.ndarray:
+    """Per room, the usable lane vertex of greatest clearance inside it, -1 where none.
+
+    Ties go to the lower (x, y), so the choice is deterministic.
+    """
+    seeds = np.full(len(rooms), -1, dtype=np.int64)
+    candidates = np.flatnonzero(usable & (clearance >= threshold))
+    if len(candidates) == 0:
+        return seeds
+    owner = locate(vertices[candidates], rooms)
+    order = np.lexsort((vertices[candidates, 1], vertices[candidates, 0],
+                        -clearance[candidates], owner))
+    owner_sorted = owner[order]
+    first = np.r_[True, owner_sorted[1:] != owner_sorted[:-1]]
+    for position in np.flatnonzero(first & (owner_sorted >= 0)):
+        seeds[owner_sorted[position]] = candidates[order[position]]
+    return seeds
+
+
+def _probe_sides(start, end, distance):
+    """Two points `distance` metres either side of the middle of the segment start-end."""
+    start, end = np.asarray(start, float), np.asarray(end, float)
+    span = end - start
+    length = float(np.hypot(*span))
+    middle = (start + end) / 2
+    if length <= 0:
+        return np.vstack([middle, middle])
+    normal = np.array([-span[1], span[0]]) / length
+    return np.vstack([middle - distance * normal, middle + distance * normal])
+
+
+def passage_rooms(openings, narrowing_cuts, rooms, offset) -> list[tuple[int, ...]]:
+    """The rooms either side of each opening (all kinds), then of each narrowing.
+
+    A cut's sides are probed 2 cm off its middle; a closed opening's (a window's) from the
+    faces of its wall, half its depth plus 5 cm off.
+    """
+    shift = np.asarray(offset, dtype=float)
+    probes = []
+    for opening in openings:
+        cut = opening.passable and not opening.exterior
+        distance = 0.02 if cut else float(opening.depth) / 2 + 0.05
+        probes.append(_probe_sides(np.asarray(opening.start) - shift,
+                                   np.asarray(opening.end) - shift, distance))
+    for cut in narrowing_cuts:
+        probes.append(_probe_sides(cut.start, cut.end, 0.02))
+    if not probes:
+        return []
+    owner = locate(np.vstack(probes), rooms, slack=0.1).reshape(-1, 2)
+    return [tuple(sorted({int(r) for r in pair if r >= 0})) for pair in owner]
+
+
+def describe_rooms(rooms, seeds, names, cuts, openings, graph, vertices, regions, offset,
+                   clearance: float):
+    """The Room and Passage values of the roadmap; sets node attribute ``room`` in `graph`.
+
+    Parameters
+    ----------
+    rooms : (R,) Polygon, local frame; seeds : (R,) lane vertex per room, -1 where none
+    names : list of tuple of str per room; cuts : the narrowing cuts (local frame)
+    openings : the drawing's openings (drawing frame)
+    graph : networkx.MultiGraph in the drawing frame, node ids assigned
+    vertices : (V, 2) lane vertices (local frame); regions : (K,) drivable regions (local)
+    clearance : required clearance c, metres
+
+    Returns
+    -------
+    rooms : tuple of Room, sorted by id; passages : tuple of Passage
+    """
+    from clearway.roadmap.inflate import to_drawing
+    from clearway.roadmap.model import Passage, Room
+
+    shift = np.asarray(offset, dtype=float)
+    anchor = np.array([vertices[s] if s >= 0 else shapely.get_coordinates(
+        shapely.point_on_surface(room))[0] for s, room in zip(seeds, rooms)]).reshape(-1, 2)
+    order = np.lexsort((anchor[:, 1], anchor[:, 0]))
+    room_id = np.empty(len(rooms), dtype=object)
+    room_id[order] = [f"r{k}" for k in range(len(rooms))]
+    # which graph node stands at each seed
+    nodes = list(graph.nodes)
+    node_xy = np.array([(graph.nodes[n]["x"], graph.nodes[n]["y"]) for n in nodes],
+                       dtype=float).reshape(-1, 2) - shift
+    owner = locate(node_xy, rooms, slack=0.01)
+    for node, room in zip(nodes, owner):
+        graph.nodes[node]["room"] = room_id[room] if room >= 0 else ""
+    at_node = {tuple(np.round(xy, 6)): n for xy, n in zip(node_xy, nodes)}
+    # the robot enters a room when its node lies in the largest drivable region
+    region_of_seed = station_regions(vertices[np.maximum(seeds, 0)], regions) \
+        if len(regions) else np.full(len(rooms), -1)
+    main = int(np.argmax(shapely.area(regions))) if len(regions) else -1
+    sides = passage_rooms(openings, cuts, rooms, offset)
+    need = 2 * clearance + 2e-6
+    passages = []
+    for index, opening in enumerate(openings):
+        passages.append(Passage(
+            float(opening.x), float(opening.y), float(opening.width), index,
+            bool(opening.passable and opening.width >= need),
+            tuple(sorted(room_id[r] for r in sides[index])),
+            tuple(map(float, opening.start)), tuple(map(float, opening.end))))
+    for k, cut in enumerate(cuts):
+        if len(sides[len(openings) + k]) < 2:
+            continue        # a narrowing that parts nothing (an aisle with a way round)
+        start, end = np.asarray(cut.start) + shift, np.asarray(cut.end) + shift
+        middle = (start + end) / 2
+        passages.append(Passage(float(middle[0]), float(middle[1]), float(cut.width), -1,
+                                bool(cut.width >= need),
+                                tuple(sorted(room_id[r] for r in sides[len(openings) + k])),
+                                tuple(map(float, start)), tuple(map(float, end))))
+    around = [[] for _ in rooms]
+    kept = list(range(len(openings))) + [len(openings) + k for k in range(len(cuts))
+                                         if len(sides[len(openings) + k]) >= 2]
+    for index, side in enumerate(sides[i] for i in kept):
+        if index < len(openings) and not openings[index].passable:
+            continue
+        for r in side:
+            around[r].append(index)
+    result = []
+    for r in order:
+        seed = int(seeds[r])
+        node = at_node.get(tuple(np.round(vertices[seed], 6)), "") if seed >= 0 else ""
+        reachable = bool(seed >= 0 and node and region_of_seed[r] == main)
+        reason, blocked, width = "", -1, None
+        if not reachable:
+            stops = [i for i in around[r] if not passages[i].fits]
+            if stops:
+                blocked = max(stops, key=lambda i: (passages[i].width, -i))
+                width = passages[blocked].width
+                reason = (f"its {'narrowing' if passages[blocked].opening < 0 else 'opening'}"
+                          f" is {width:.2f} m wide, the robot needs {2 * clearance:.2f} m")
+            elif seed < 0:
+                reason = "narrower than the robot needs"
+            else:
+                reason = "not connected to the main floor"
+        polygon = to_drawing(rooms[r], offset)
+        result.append(Room(
+            str(room_id[r]), polygon, tuple(names[r]), float(polygon.area),
+            float(anchor[r, 0] + shift[0]), float(anchor[r, 1] + shift[1]), node, reachable,
+            tuple(around[r]), reason, blocked, width))
+    return tuple(result), tuple(passages)
