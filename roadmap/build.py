@@ -177,11 +177,19 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
                                                             regions, field, c)
     edges = edges[keep[edges].all(axis=1)]
     alone = np.flatnonzero(keep & (np.bincount(edges.ravel(), minlength=len(vertices)) == 0))
-    # each room's vertex of greatest clearance is kept, and ends a lane: its room node
-    seeds = room_seeds(rooms, vertices, clearance, keep, threshold)
+    kept, isolated = prune_spurs(vertices, clearance, edges)
+    # each room's vertex of greatest clearance ends a lane (its room node); where pruning
+    # left the room without one, the spur that leads there is kept
+    seeds = room_seeds(rooms, vertices, clearance, keep, threshold,
+                       degree=np.bincount(edges.ravel(), minlength=len(vertices)),
+                       lane_degree=np.bincount(kept.ravel(), minlength=len(vertices)))
     room_node = np.zeros(len(vertices), bool)
     room_node[seeds[seeds >= 0]] = True
-    kept, isolated = prune_spurs(vertices, clearance, edges, protected=room_node)
+    lane_vertex = np.zeros(len(vertices), bool)
+    lane_vertex[kept.ravel()] = True
+    lane_vertex[isolated] = True
+    if (room_node & ~lane_vertex).any():
+        kept, isolated = prune_spurs(vertices, clearance, edges, protected=room_node)
     isolated = np.union1d(isolated, alone)
     lines, ends, isolated, lane_vertices, short = _lanes(vertices, clearance, kept, isolated,
                                                          c, field, robot, room_node)

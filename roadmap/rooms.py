@@ -232,22 +232,37 @@ def room_names(rooms: np.ndarray, texts, offset) -> list[tuple[str, ...]]:
     return result
 
 
-def room_seeds(rooms: np.ndarray, vertices, clearance, usable, threshold: float) -> np.ndarray:
-    """Per room, the usable lane vertex of greatest clearance inside it, -1 where none.
+def room_seeds(rooms: np.ndarray, vertices, clearance, usable, threshold: float, *,
+               degree, lane_degree, tie: float = 1e-3) -> np.ndarray:
+    """Per room, its room node: a usable lane vertex of greatest clearance inside it.
 
-    Ties go to the lower (x, y), so the choice is deterministic.
+    Vertices within `tie` metres of a room's greatest clearance tie (a room's axis often
+    has a plateau). Among them a vertex already on the pruned lanes (`lane_degree` > 0)
+    wins, a lane's end or junction first, so that a lane that reaches the room is used as
+    it is; then a junction of the whole axis (`degree` >= 3, a room's centre); then the
+    lower (x, y), so the choice is deterministic.
+
+    Returns
+    -------
+    (R,) int ndarray, the vertex of each room, -1 where none is usable
     """
     seeds = np.full(len(rooms), -1, dtype=np.int64)
     candidates = np.flatnonzero(usable & (clearance >= threshold))
+    owner = locate(vertices[candidates], rooms) if len(candidates) else candidates
+    candidates, owner = candidates[owner >= 0], owner[owner >= 0]
     if len(candidates) == 0:
         return seeds
-    owner = locate(vertices[candidates], rooms)
+    best = np.full(len(rooms), -np.inf)
+    np.maximum.at(best, owner, clearance[candidates])
+    near = clearance[candidates] >= best[owner] - tie
+    on_lane = lane_degree[candidates] > 0
+    lane_end = on_lane & (lane_degree[candidates] != 2)
+    junction = degree[candidates] >= 3
     order = np.lexsort((vertices[candidates, 1], vertices[candidates, 0],
-                        -clearance[candidates], owner))
+                        -clearance[candidates], ~junction, ~lane_end, ~on_lane, ~near, owner))
     owner_sorted = owner[order]
     first = np.r_[True, owner_sorted[1:] != owner_sorted[:-1]]
-    for position in np.flatnonzero(first & (owner_sorted >= 0)):
-        seeds[owner_sorted[position]] = candidates[order[position]]
+    seeds[owner_sorted[first]] = candidates[order[first]]
     return seeds
 
 
