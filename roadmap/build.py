@@ -7,7 +7,6 @@ from typing import Callable, Mapping, Sequence
 
 import numpy as np
 import shapely
-from shapely.ops import polylabel
 from scipy.sparse.csgraph import connected_components
 from scipy.spatial import cKDTree
 from shapely.ops import polylabel  # shapely.polylabel exists only from shapely 2.1
