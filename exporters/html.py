@@ -103,9 +103,11 @@ def _graph(roadmap, origin) -> tuple[list, list]:
     nodes = []
     for node_id in sorted(graph.nodes, key=natural_key):
         attrs = graph.nodes[node_id]
+        turns = attrs.get("turns")      # allowed turns (rectangular robots); None: any turn
         nodes.append([json_text(node_id), float(attrs["x"]), float(attrs["y"]),
                       json_text(attrs.get("kind", "")), json_text(attrs.get("label", "")),
-                      finite_or_none(attrs.get("clearance"))])
+                      finite_or_none(attrs.get("clearance")),
+                      None if turns is None else json_text(turns)])
     edges = []
     for edge_id, source, target, attrs, coords in oriented_edges(graph):
         edges.append([json_text(edge_id), json_text(source), json_text(target),

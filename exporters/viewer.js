@@ -84,7 +84,9 @@ function heapPop(heap) {
   }
   return top;
 }
-function before(a, b) { return a[0] < b[0] || (a[0] === b[0] && a[1] < b[1]); }
+function before(a, b) {      // Python tuple order on the leading numbers
+  return a[0] < b[0] || (a[0] === b[0] && (a[1] < b[1] || (a[1] === b[1] && a[2] < b[2])));
+}
 
 /* A* as networkx.astar_path runs it on routing.lightest_edges, so ties break alike. */
 function shortestRoute(source, target) {
@@ -118,11 +120,59 @@ function shortestRoute(source, target) {
   }
   return null;
 }
+/* Allowed turns (node attribute "turns": "EDGE:EDGE ..." pairs, either order; a node
+   without it allows every turn). When any node has them, routes are searched as
+   routing._turn_search does: over (node, lane arrived by) states, lanes in MultiGraph order. */
+var turnRules = null;
+data.nodes.forEach(function (n, index) {
+  if (n[6] === null || n[6] === undefined) return;
+  var allowed = new Set();
+  n[6].split(/\s+/).forEach(function (item) {
+    var cut = item.indexOf(":");
+    if (cut > 0) { allowed.add(item.slice(0, cut) + "\u0000" + item.slice(cut + 1)); allowed.add(item.slice(cut + 1) + "\u0000" + item.slice(0, cut)); }
+  });
+  turnRules = turnRules || new Map();
+  turnRules.set(index, allowed);
+});
+function turnRoute(source, target) {
+  var goalX = nx_[target], goalY = ny_[target], counter = 1;
+  var cost = new Map(), parent = new Map(), start = source + "|";
+  cost.set(start, 0);
+  var heap = [[0, 0, 0, source, -1, start]];         // guess, spent, counter, node, arrived lane
+  while (heap.length) {
+    var item = heapPop(heap), spent = item[1], node = item[3], arrived = item[4], state = item[5];
+    if (spent > (cost.has(state) ? cost.get(state) : Infinity)) continue;
+    if (node === target) {
+      var nodes = [node], lanes = [];
+      while (parent.has(state)) { var back = parent.get(state); state = back[0]; nodes.push(back[1]); lanes.push(back[2]); }
+      return routeOf(nodes.reverse(), lanes.reverse());
+    }
+    var allowed = turnRules.get(node);
+    multi[node].forEach(function (lanesTo, other) {
+      if (other === node) return;
+      lanesTo.forEach(function (lane) {
+        if (arrived !== -1 && allowed !== undefined && !allowed.has(data.edges[arrived][0] + "\u0000" + data.edges[lane][0])) return;
+        var step = other + "|" + lane, total = spent + data.edges[lane][4];
+        if (total < (cost.has(step) ? cost.get(step) : Infinity)) {
+          cost.set(step, total); parent.set(step, [state, node, lane]);
+          var guess = total + heuristicScale * Math.hypot(nx_[other] - goalX, ny_[other] - goalY);
+          heapPush(heap, [guess, total, counter++, other, lane, step]);
+        }
+      });
+    });
+  }
+  return null;
+}
 function makeRoute(path) {
+  var edges = [];
+  for (var k = 0; k + 1 < path.length; k++) edges.push(simple[path[k]].get(path[k + 1]).edge);
+  return routeOf(path, edges);
+}
+function routeOf(path, lanes) {
   var length = 0, narrowest = Infinity, edges = [];
   path.forEach(function (n) { var c = data.nodes[n][5]; if (c !== null && c < narrowest) narrowest = c; });
   for (var k = 0; k + 1 < path.length; k++) {
-    var edge = simple[path[k]].get(path[k + 1]).edge, row = data.edges[edge];
+    var edge = lanes[k], row = data.edges[edge];
     edges.push(edge);
     length += row[3];
     if (row[5] !== null && row[5] < narrowest) narrowest = row[5];
@@ -629,7 +679,7 @@ function updateRoute() {
   if (!a || !b) { result.textContent = a ? "From " + a[0] + ": now choose where to." : ""; request(); return; }
   var bad = [a, b].filter(function (st) { return st[3] === null || !nodeIndex.has(st[3]); });
   if (bad.length) { result.textContent = "No route: " + bad.map(function (st) { return st[0] + " is not on the lane graph (" + st[5] + ")"; }).join("; ") + "."; request(); return; }
-  route = shortestRoute(nodeIndex.get(a[3]), nodeIndex.get(b[3]));
+  route = (turnRules ? turnRoute : shortestRoute)(nodeIndex.get(a[3]), nodeIndex.get(b[3]));
   if (!route) { result.textContent = "No route from " + a[0] + " to " + b[0] + ": they lie on separate parts of the lane graph."; request(); return; }
   result.textContent = a[0] + " \u2192 " + b[0] + ": " + route.length.toFixed(3) + " m, narrowest clearance " +
     (route.clearance === null ? "unknown" : route.clearance.toFixed(3) + " m") + ", " + route.nodes.length + " nodes";

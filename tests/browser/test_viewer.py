@@ -13,6 +13,7 @@ import shutil
 from itertools import combinations
 from pathlib import Path
 
+import networkx as nx
 import numpy as np
 import pytest
 from click.testing import CliRunner
@@ -107,9 +108,20 @@ def test_clicking_two_stations_gives_the_route_of_clearway_route(centre, open_vi
     assert viewer.messages == []
 
 
-def test_every_station_pair_routes_as_the_library_does(centre, open_viewer):
+@pytest.fixture(scope="module")
+def centre_rectangular(tmp_path_factory) -> Path:
+    """The sample for a 1.2 m x 0.7 m robot: nodes carry the turns its body allows."""
+    return _build(tmp_path_factory.mktemp("centre_rect"), "distribution_centre.dxf",
+                  "--robot-size", "1.2x0.7")
+
+
+@pytest.mark.parametrize("folder", ["centre", "centre_rectangular"])
+def test_every_station_pair_routes_as_the_library_does(folder, request, open_viewer):
+    centre = request.getfixturevalue(folder)
     viewer = open_viewer(centre / "roadmap.html")
     graph = read_graphml(centre / "roadmap.graphml")
+    if folder == "centre_rectangular":      # the turn rules are there to be kept
+        assert any(turns is not None for _, turns in graph.nodes(data="turns"))
     labels = [s["label"] for s in _report(centre)["stations"]]
     index = {label: str(i) for i, label in enumerate(labels)}
     pairs = [[index[a], index[b]] for a, b in combinations(labels, 2)]
@@ -123,10 +135,17 @@ def test_every_station_pair_routes_as_the_library_does(centre, open_viewer):
         return [Number(document.getElementById("route-result").dataset.length),
                 document.getElementById("route-nodes").textContent.split(" ")];
     })""", pairs)
+    compared = 0
     for (source, target), (length, nodes) in zip(combinations(labels, 2), answers):
-        expected = shortest_route(graph, source, target)          # A*, as `clearway route`
+        try:
+            expected = shortest_route(graph, source, target)      # A*, as `clearway route`
+        except nx.NetworkXNoPath:
+            assert nodes == [""], (source, target)                # the page finds none either
+            continue
         assert length == expected.length, (source, target)
         assert tuple(nodes) == expected.nodes, (source, target)
+        compared += 1
+    assert compared >= len(answers) // 2
 
 
 def test_clicking_a_problem_centres_it(centre, open_viewer):

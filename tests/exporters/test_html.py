@@ -123,10 +123,10 @@ def test_graph_data_is_the_graph_exactly(plan, roadmap):
     # nodes and lanes in the GraphML's order (natural order of ids), numbers exact
     assert [row[0] for row in data["nodes"]] == ["n1", "n2", "n3"]
     assert [row[0] for row in data["edges"]] == ["e1", "e2", "e3"]
-    for node_id, x, y, kind, label, clearance in data["nodes"]:
+    for node_id, x, y, kind, label, clearance, turns in data["nodes"]:
         attrs = graph.nodes[node_id]
         assert (x, y, kind, label) == (attrs["x"], attrs["y"], attrs["kind"], attrs["label"])
-        assert clearance == attrs["clearance"]
+        assert clearance == attrs["clearance"] and turns is None      # a disc robot turns anywhere
     for edge_id, source, target, length, weight, clearance, coords in data["edges"]:
         (u, v, attrs), = [(u, v, d) for u, v, k, d in graph.edges(keys=True, data=True)
                           if k == edge_id]
@@ -188,3 +188,12 @@ def test_rooms_and_openings_reach_the_page_when_present(plan, roadmap):
     assert door["line"] == [-0.1, 4.4, -0.1, 5.6]
     plain = _data(render_html(plan, roadmap, date="undated"))
     assert plain["rooms"] == [] and plain["openings"] == []
+
+
+def test_allowed_turns_reach_the_page_for_the_route_search(plan, roadmap):
+    graph = roadmap.graph.copy()
+    graph.nodes["n1"]["turns"] = "e1:e2 e3:e3"          # roadmap/turns.py format, EDGE:EDGE
+    changed = type(roadmap)(**{**roadmap.__dict__, "graph": graph})
+    rows = {row[0]: row for row in _data(render_html(plan, changed, date="undated"))["nodes"]}
+    assert rows["n1"][6] == "e1:e2 e3:e3"
+    assert rows["n2"][6] is None                          # no attribute: every turn allowed
