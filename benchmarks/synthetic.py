@@ -69,3 +69,198 @@ def write_warehouse(path, bays=5000, *, runs_across=3):
                                                        "insert": (2.2 * mm, (y + 0.2) * mm)})
     doc.saveas(Path(path))
     return Path(path)
+
+
+# ---------------------------------------------------------------------------------------------
+# The benchmark suite: warehouse styles a new user would try (issue 11).
+
+#: Style name -> one line saying what it adds to a plain grid of double rows.
+STYLES = {
+    "current": "the original benchmark: double rows, columns in the cross aisles",
+    "flue_sealed": "back-to-back rows with a 0.1 m flue, columns in the flue line sealing it",
+    "flue_open": "back-to-back rows with a 0.1 m flue open to the cross aisles at both ends",
+    "dock_columns": "a 30 m deep open dock along the south wall with a row of columns",
+    "dock_open": "the same dock without columns",
+    "angled": "rows at 30 degrees to the walls",
+    "mixed": "racking beside mezzanine-style blocks of small rooms and curved walls",
+}
+FLUE, COLUMN_RADIUS, COLUMN_EVERY, RUN_PITCH = 0.1, 0.2, 5, BAYS_PER_RUN * BAY_LENGTH + CROSS_AISLE
+DOCK_DEPTH, ROOM_W, ROOM_D, DOOR, PARTITION = 30.0, 5.0, 4.0, 1.2, 0.15
+
+
+class _Sheet:
+    """Collects a drawing's entities in metres; writes millimetres."""
+
+    def __init__(self):
+        self.bays, self.circles, self.walls, self.arcs, self.stations = [], [], [], [], []
+
+    def wall_box(self, x0, y0, x1, y1):
+        self.walls.append([(x0, y0), (x1, y0), (x1, y1), (x0, y1)])
+
+    def save(self, path, width, depth):
+        mm = 1000.0
+        doc = ezdxf.new("R2010", units=4)
+        msp = doc.modelspace()
+        block = doc.blocks.new("RACK_BAY")
+        block.add_lwpolyline([(0, 0), (BAY_LENGTH * mm, 0), (BAY_LENGTH * mm, BAY_DEPTH * mm),
+                              (0, BAY_DEPTH * mm)], close=True)
+        for x, y, angle in self.bays:
+            msp.add_blockref("RACK_BAY", (round(x * mm, 1), round(y * mm, 1)),
+                             dxfattribs={"layer": "A-EQPM-RACK", "rotation": angle})
+        for offset in (0.0, 0.3):
+            msp.add_lwpolyline([(-offset * mm, -offset * mm), ((width + offset) * mm, -offset * mm),
+                                ((width + offset) * mm, (depth + offset) * mm),
+                                (-offset * mm, (depth + offset) * mm)],
+                               close=True, dxfattribs={"layer": "A-WALL-EXTR"})
+        for x, y in self.circles:
+            msp.add_circle((round(x * mm, 1), round(y * mm, 1)), COLUMN_RADIUS * mm,
+                           dxfattribs={"layer": "A-COLS"})
+        for ring in self.walls:
+            msp.add_lwpolyline([(round(x * mm, 1), round(y * mm, 1)) for x, y in ring],
+                               close=True, dxfattribs={"layer": "A-WALL-PRTN"})
+        for ring in self.arcs:  # (x, y, bulge) vertices
+            msp.add_lwpolyline([(round(x * mm, 1), round(y * mm, 1), b) for x, y, b in ring],
+                               format="xyb", close=True, dxfattribs={"layer": "A-WALL-PRTN"})
+        for number, (x, y) in enumerate(self.stations, start=1):
+            msp.add_point((x * mm, y * mm), dxfattribs={"layer": "A-EQPM-STATION"})
+            msp.add_text(f"ST-{number:03d}", dxfattribs={"layer": "A-EQPM-STATION",
+                                                         "insert": ((x + 0.2) * mm, (y + 0.2) * mm)})
+        doc.saveas(Path(path))
+        return Path(path)
+
+
+def _grid(bays, pitch):
+    """Runs across and double rows for about `bays` bays on a floor about 1.6 x as wide as deep."""
+    per_cell = 2 * BAYS_PER_RUN
+    runs = max(1, round(math.sqrt(bays * pitch / (1.6 * per_cell * RUN_PITCH))))
+    return runs, max(1, math.ceil(bays / (per_cell * runs)))
+
+
+def _racking(sheet, bays, *, flue, y_start, columns):
+    """Double rows in runs of 20 bays from y_start; return (width, top of the racking)."""
+    pitch = 2 * BAY_DEPTH + flue + AISLE
+    runs, rows = _grid(bays, pitch)
+    placed = 0
+    for row in range(rows):
+        y = y_start + row * pitch
+        for run in range(runs):
+            x0 = 4.0 + run * RUN_PITCH
+            for side, dy in ((0, 0.0), (1, BAY_DEPTH + flue)):
+                for index in range(BAYS_PER_RUN):
+                    if placed < bays:
+                        sheet.bays.append((x0 + index * BAY_LENGTH, y + dy, 0.0))
+                        placed += 1
+            middle = y + BAY_DEPTH + flue / 2
+            if columns == "flue":  # both run ends and every COLUMN_EVERY bays: sealed slots
+                sheet.circles.extend((x0 + k * BAY_LENGTH, middle)
+                                     for k in range(0, BAYS_PER_RUN + 1, COLUMN_EVERY))
+            elif columns == "aisle" and run and row % 2 == 0:
+                sheet.circles.append((x0 - CROSS_AISLE / 2, y + 2 * BAY_DEPTH + flue + AISLE / 2))
+        sheet.stations.append((2.0, y + 2 * BAY_DEPTH + flue + AISLE / 2)) if row % 8 == 0 else None
+    width = 4.0 + runs * RUN_PITCH
+    return width, y_start + rows * pitch
+
+
+def _angled(sheet, bays, angle_deg=30.0):
+    """Rows at `angle_deg` to the walls inside a floor sized for about `bays` bays."""
+    pitch = 2 * BAY_DEPTH + AISLE
+    angle = math.radians(angle_deg)
+    along = np.array([math.cos(angle), math.sin(angle)])
+    across = np.array([-math.sin(angle), math.cos(angle)])
+    corners = np.array([(0, 0), (BAY_LENGTH, 0), (BAY_LENGTH, BAY_DEPTH), (0, BAY_DEPTH)])
+    scale = math.sqrt(bays * RUN_PITCH * pitch / (2 * BAYS_PER_RUN * 1.6) / 0.8)
+    for _ in range(30):  # grow the floor until the bays fit
+        width, depth = 1.6 * scale, scale
+        reach = int((width + depth) / min(RUN_PITCH, pitch)) + 2
+        run, row, index = np.meshgrid(np.arange(-reach, reach), np.arange(-reach, reach),
+                                      np.arange(BAYS_PER_RUN), indexing="ij")
+        run, row, index = run.ravel(), row.ravel(), index.ravel()
+        origins = []
+        for side in (0, 1):
+            u = run * RUN_PITCH + index * BAY_LENGTH
+            v = row * pitch + side * BAY_DEPTH
+            origins.append(u[:, None] * along + v[:, None] * across)
+        origins = np.concatenate(origins)
+        xy = origins[:, None, :] + corners @ np.stack([along, across])
+        inside = ((xy[..., 0] > 4.0) & (xy[..., 0] < width - 4.0) & (xy[..., 1] > 6.0)
+                  & (xy[..., 1] < depth - 3.0)).all(axis=1)
+        if inside.sum() >= bays:
+            break
+        scale *= 1.05
+    chosen = origins[inside]
+    chosen = chosen[np.lexsort((chosen[:, 0], chosen[:, 1]))][:bays]
+    sheet.bays.extend((float(x), float(y), angle_deg) for x, y in chosen)
+    sheet.stations.extend((2.0, float(y)) for y in np.arange(4.0, depth - 2.0, 40.0))
+    return width, depth
+
+
+def _rooms(sheet, x0, y0, columns, rows):
+    """A block of small rooms (ROOM_W x ROOM_D) in pairs facing 3 m corridors, doors DOOR wide."""
+    t = PARTITION
+    pitch = 2 * ROOM_D + 3.0
+    for row in range(rows):
+        yb = y0 + row * pitch
+        for side, (ya, yc) in enumerate(((yb, yb + ROOM_D), (yb + ROOM_D + 3.0, yb + pitch))):
+            door_y = yc if side == 0 else ya  # each room's door faces the corridor
+            back_y = ya if side == 0 else yc
+            xe = x0 + columns * ROOM_W
+            sheet.wall_box(x0, back_y - t / 2, xe, back_y + t / 2)
+            for column in range(columns):
+                xa = x0 + column * ROOM_W
+                sheet.wall_box(xa - t / 2, ya, xa + t / 2, yc)
+                door = xa + ROOM_W / 2
+                sheet.wall_box(xa, door_y - t / 2, door - DOOR / 2, door_y + t / 2)
+                sheet.wall_box(door + DOOR / 2, door_y - t / 2, xa + ROOM_W, door_y + t / 2)
+                if column % 4 == 1 and row % 2 == 0:
+                    sheet.stations.append((door, (ya + yc) / 2))
+            sheet.wall_box(xe - t / 2, ya, xe + t / 2, yc)
+    return x0 + columns * ROOM_W, y0 + rows * pitch
+
+
+def _curved_wall(sheet, cx, cy, radius, start_deg, sweep_deg, thickness=0.2):
+    """A free-standing curved partition: a band between two concentric arcs, as one ring."""
+    a0, a1 = math.radians(start_deg), math.radians(start_deg + sweep_deg)
+    bulge = math.tan(math.radians(sweep_deg) / 4)
+    outer, inner = radius + thickness / 2, radius - thickness / 2
+    sheet.arcs.append([(cx + outer * math.cos(a0), cy + outer * math.sin(a0), bulge),
+                       (cx + outer * math.cos(a1), cy + outer * math.sin(a1), 0.0),
+                       (cx + inner * math.cos(a1), cy + inner * math.sin(a1), -bulge),
+                       (cx + inner * math.cos(a0), cy + inner * math.sin(a0), 0.0)])
+
+
+def write_style(path, style="current", bays=5000):
+    """Write one warehouse of the suite (:data:`STYLES`) with about `bays` bays; return the path.
+
+    Deterministic: the same arguments write the same drawing. Floors keep an aspect of about
+    1.6, so twice the bays is about twice the floor area in every style.
+    """
+    if style not in STYLES:
+        raise ValueError(f"unknown style {style!r}; one of {', '.join(STYLES)}")
+    if style == "current":
+        return write_warehouse(path, bays, runs_across=_grid(bays, 2 * BAY_DEPTH + AISLE)[0])
+    sheet = _Sheet()
+    if style in ("flue_sealed", "flue_open"):
+        width, top = _racking(sheet, bays, flue=FLUE, y_start=6.0,
+                              columns="flue" if style == "flue_sealed" else "aisle")
+        depth = top + 3.0
+    elif style in ("dock_columns", "dock_open"):
+        width, top = _racking(sheet, bays, flue=0.0, y_start=DOCK_DEPTH, columns="aisle")
+        depth = top + 3.0
+        sheet.stations.extend((x, 2.0) for x in np.arange(10.0, width - 5.0, 15.0))
+        if style == "dock_columns":
+            sheet.circles.extend((x, DOCK_DEPTH / 2) for x in np.arange(12.0, width - 6.0, 12.0))
+    elif style == "angled":
+        width, depth = _angled(sheet, bays)
+    else:  # mixed: racking on two thirds of the floor, rooms and curved walls on the rest
+        racked = int(bays * 2 / 3)
+        width, top = _racking(sheet, bays - racked, flue=0.0, y_start=6.0, columns="aisle")
+        _, top = _racking(sheet, racked, flue=FLUE, y_start=top + 8.0, columns="aisle")
+        columns = max(2, int((width - 30.0) / ROOM_W))
+        rooms_top = 6.0
+        _, rooms_top = _rooms(sheet, width + 6.0, 6.0, columns, max(1, int(top / 11.0 / 2)))
+        for k, y in enumerate(np.arange(rooms_top + 20.0, top - 15.0, 40.0)):
+            _curved_wall(sheet, width + 6.0 + (columns * ROOM_W) / 2, float(y), 10.0,
+                         200.0 + 40 * (k % 2), 140.0)
+        width = width + 6.0 + columns * ROOM_W + 6.0
+        depth = top + 3.0
+    return sheet.save(path, width, depth)

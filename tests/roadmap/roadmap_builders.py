@@ -60,6 +60,25 @@ def assert_topology(roadmap):
         assert sub.number_of_edges() - sub.number_of_nodes() + 1 == holes[inside[0]]
 
 
+def assert_cycle_rank_per_component(free_space, lanes, c):
+    """Choset & Burdick 2000: one connected piece of `lanes` (a networkx graph without station
+    links) per component of `free_space` eroded by `c` (shapely; area >= 0.05 m^2), and
+    LaValle 2006, sec. 6.2.3: the roadmap is a deformation retract, E - V + 1 = islands
+    (holes >= 0.01 m^2) of that component."""
+    eroded = shapely.get_parts(shapely.buffer(free_space, -(c + 1e-6), quad_segs=16))
+    regions = [p for p in eroded if p.area >= 0.05]
+    holes = [sum(shapely.Polygon(ring).area >= 0.01 for ring in p.interiors) for p in regions]
+    pieces = list(nx.connected_components(lanes))
+    assert len(pieces) == len(regions)
+    for nodes in pieces:
+        node = lanes.nodes[next(iter(nodes))]
+        inside = [i for i, region in enumerate(regions)
+                  if shapely.dwithin(region, shapely.Point(node["x"], node["y"]), 1e-3)]
+        assert len(inside) == 1
+        sub = lanes.subgraph(nodes)
+        assert sub.number_of_edges() - sub.number_of_nodes() + 1 == holes[inside[0]]
+
+
 def assert_exact_clearances(roadmap, free, tolerance=0.01):
     """Every node's clearance and samples along every edge agree with shapely.distance."""
     graph, boundary = roadmap.graph, free.boundary

@@ -14,7 +14,6 @@ from __future__ import annotations
 import functools
 from pathlib import Path
 
-import networkx as nx
 import numpy as np
 import pytest
 import shapely
@@ -24,6 +23,7 @@ from skimage.morphology import medial_axis
 
 from clearway.converter import read_floorplan
 from clearway.roadmap import Robot, build_roadmap
+from roadmap_builders import assert_cycle_rank_per_component
 
 SAMPLES = Path(__file__).resolve().parents[2] / "sample_drawings"
 # source: sample_drawings/README.md -- the samples are specified for this robot
@@ -130,31 +130,12 @@ def test_lanes_lie_on_scikit_image_skeleton(name):
         assert fall >= 0.3 * reach - 2 * pixel, (name, missed[mine][top], reach, fall)
 
 
-def drivable_holes(plan):
-    """Drivable components (area >= 0.05 m^2) and their islands (>= 0.01 m^2), by shapely."""
-    eroded = shapely.get_parts(shapely.buffer(plan.free_space, -(C + 1e-6), quad_segs=16))
-    eroded = [p for p in eroded if p.area >= 0.05]
-    holes = [sum(shapely.Polygon(ring).area >= 0.01 for ring in p.interiors) for p in eroded]
-    return eroded, holes
-
-
 @pytest.mark.parametrize("name", NAMES)
 def test_cycle_rank_equals_islands_per_component(name):
     plan, roadmap, _, _ = sample(name)
     graph = roadmap.graph
-    lanes = graph.subgraph(n for n in graph if not is_link(graph, n))
-    regions, holes = drivable_holes(plan)
-    pieces = list(nx.connected_components(lanes))
-    # Choset & Burdick 2000: one connected piece of roadmap per free-space component
-    assert len(pieces) == len(regions)
-    for nodes in pieces:
-        node = graph.nodes[next(iter(nodes))]
-        inside = [i for i, region in enumerate(regions)
-                  if shapely.dwithin(region, shapely.Point(node["x"], node["y"]), 1e-3)]
-        assert len(inside) == 1
-        sub = lanes.subgraph(nodes)
-        # LaValle 2006, sec. 6.2.3: the roadmap is a deformation retract, E - V + 1 = holes
-        assert sub.number_of_edges() - sub.number_of_nodes() + 1 == holes[inside[0]]
+    assert_cycle_rank_per_component(plan.free_space,
+                                    graph.subgraph(n for n in graph if not is_link(graph, n)), C)
 
 
 @pytest.mark.parametrize("name", NAMES)
