@@ -17,7 +17,8 @@ from clearway.roadmap.graph import (_adjacency, chain_lanes, contract_short_edge
                            split_loops)
 from clearway.roadmap.clearance import clearance_field
 from clearway.roadmap.inflate import (boundary_segments, drivable_region, inflate_obstacles,
-                             local_offset, polygon_parts, polylines, to_drawing, to_local)
+                             local_offset, polygon_parts, polylines, reached_parts, to_drawing,
+                             to_local)
 from clearway.roadmap.body import fit_edges, fit_lanes
 from clearway.roadmap.model import BodyShortfall, Robot, Roadmap
 from clearway.roadmap.turns import check_turns
@@ -159,7 +160,8 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
     field = clearance_field(boundary_segments(local)[0])
 
     report("voronoi")
-    axis = medial_axis(local, step=sample_step)
+    axis = medial_axis(shapely.MultiPolygon(list(reached_parts(local, regions))),
+                       step=sample_step)
 
     report("rooms")
     cuts = opening_cuts(openings, offset)

@@ -145,3 +145,24 @@ def test_lane_round_a_rack_end_follows_the_parabola():
     # and the aisle lane under the block is its centre line y = 1.5
     aisle = xy[(xy[:, 0] > 10.5) & (xy[:, 0] < 19.5) & (xy[:, 1] < 2.5)]
     assert np.abs(aisle[:, 1] - 1.5).max() < 0.01
+
+
+def test_sealed_slots_leave_the_lanes_unchanged():
+    # two back-to-back rack rows with a 0.1 m flue between, sealed at both ends: the flue is
+    # a component of the free space no disc of radius c = 0.45 m fits in
+    hall = (0.0, 0.0, 30.0, 12.0)
+    rows = [shapely.box(5, 4, 25, 5.1), shapely.box(5, 5.2, 25, 6.3)]
+    sealed = [shapely.box(5, 4, 25, 6.3).difference(shapely.box(5.2, 5.1, 24.8, 5.2))]
+    obstacles, free = plan(hall, *sealed)
+    solid_obstacles, solid_free = plan(hall, shapely.union_all(rows + [shapely.box(5, 5, 25, 5.3)]))
+    assert len(shapely.get_parts(free)) == 2
+    with_slot, without = build(obstacles, free), build(solid_obstacles, solid_free)
+
+    def nodes(roadmap):
+        return np.array(sorted((d["x"], d["y"], d["clearance"])
+                               for _, d in roadmap.graph.nodes(data=True)))
+    # analytic: every point of clearance >= c has the same nearest obstacle points with or
+    # without the slot, so the lanes are the same (to rounding)
+    assert np.abs(nodes(with_slot) - nodes(without)).max() < 1e-9
+    assert with_slot.graph.number_of_edges() == without.graph.number_of_edges()
+    assert_topology(with_slot)
