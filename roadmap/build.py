@@ -160,7 +160,7 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
     field = clearance_field(boundary_segments(local)[0])
 
     report("voronoi")
-    axis = medial_axis(shapely.MultiPolygon(list(reached_parts(local, regions))),
+    axis = medial_axis(shapely.MultiPolygon(list(reached_parts(local, regions, c))),
                        step=sample_step)
 
     report("rooms")

@@ -19,6 +19,10 @@ QUAD_SEGS = 16
 #: Islands (holes of the drivable region) and components smaller than these are ignored, m^2.
 MIN_ISLAND_AREA = 0.01
 MIN_COMPONENT_AREA = 0.05
+#: Distance beyond c + the drivable region at which slivers are cut off, metres.
+REACH_SLACK = 0.05
+#: Pieces of the free space beyond reach are cut off from this area up, m^2.
+SLIVER_AREA = 0.5
 #: Input vertices are snapped to this grid in the local frame, metres (0.1 mm).
 SNAP_GRID = 1e-4
 
@@ -131,31 +135,64 @@ def drivable_region(free_space, clearance: float, *, quad_segs: int = QUAD_SEGS,
     return parts[order]
 
 
-def reached_parts(free_space, regions) -> np.ndarray:
-    """Return the polygons of `free_space` that hold a drivable region, as an object array.
+def reached_parts(free_space, regions, clearance: float, *, slack: float = REACH_SLACK,
+                  sliver_area: float = SLIVER_AREA, quad_segs: int = QUAD_SEGS) -> np.ndarray:
+    """Return the free space that discs of radius `clearance` reach, less its slivers.
 
-    A component of the free space that no disc of the required clearance fits in (a flue
-    slot sealed by columns, a gap between a column and a rack) holds no lane and no narrow
-    passage between regions: its medial axis lies entirely below the clearance. Leaving it
-    out before sampling the boundary moves no lane, and saves its samples.
+    Lanes depend only on the part of the free floor that a disc of the required clearance c
+    reaches (the union of every such disc that fits, the drivable region grown by c): at any
+    point of clearance d >= c the disc of radius d about it is such a union, so its nearest
+    obstacle points are the same for that part and for the whole floor, and any boundary
+    added more than c away from the drivable region is at least d + slack away. Slivers
+    no disc reaches (flue slots, gaps between a column and a rack) can be left out before
+    sampling without moving a lane:
+
+    - a component holding no drivable region is left out whole;
+    - from a component holding one region, the pieces beyond the region grown by c + `slack`
+      of at least `sliver_area` are cut off (smaller pieces, the rounded-off inside corners,
+      stay: cutting them would change the sampling of every corner);
+    - a component holding two or more is kept whole: the medial axis between its regions,
+      below the clearance, locates the narrow passages.
 
     Parameters
     ----------
     free_space : Polygon or MultiPolygon, metres
     regions : (K,) object ndarray of Polygon, from :func:`drivable_region` of `free_space`
+    clearance : float, c, metres
+    slack : float, metres, > 0; more than the arc error of the buffers (under 1 mm).
+
+    Returns
+    -------
+    (P,) object ndarray of Polygon
 
     Examples
     --------
-    >>> hall = shapely.box(0, 0, 10, 4) | shapely.box(0, 5, 10, 5.1)    # a 0.1 m slot
-    >>> [p.bounds for p in reached_parts(hall, drivable_region(hall, 0.5))]
+    >>> hall = shapely.box(0, 0, 10, 4) | shapely.box(0, 5, 10, 5.1)    # a sealed 0.1 m slot
+    >>> hall = hall | shapely.box(9.9, 4, 10, 5)                         # opened at one end
+    >>> [p.bounds for p in reached_parts(hall, drivable_region(hall, 0.5), 0.5)]
     [(0.0, 0.0, 10.0, 4.0)]
     """
     parts = polygon_parts(free_space)
     if len(regions) == 0:
         return parts[:0]
-    inside = shapely.STRtree(parts).query(shapely.point_on_surface(regions),
-                                          predicate="intersects")[1]
-    return parts[np.unique(inside)]
+    region_index, part_index = shapely.STRtree(parts).query(
+        shapely.point_on_surface(regions), predicate="intersects")
+    holding = np.bincount(part_index, minlength=len(parts))
+    single = np.flatnonzero(holding == 1)
+    if len(single):
+        owner = np.empty(len(parts), dtype=np.int64)
+        owner[part_index] = region_index
+        grown = shapely.buffer(regions[owner[single]], clearance + slack, quad_segs=quad_segs)
+        beyond, piece_of = shapely.get_parts(shapely.difference(parts[single], grown),
+                                             return_index=True)
+        large = shapely.area(beyond) >= sliver_area
+        if large.any():
+            parts = parts.copy()
+            for index in np.unique(piece_of[large]):
+                mine = beyond[large & (piece_of == index)]
+                parts[single[index]] = shapely.difference(parts[single[index]],
+                                                          shapely.union_all(mine))
+    return polygon_parts(parts[holding > 0])
 
 
 def inflate_obstacles(obstacles, clearance: float, *, quad_segs: int = QUAD_SEGS):

@@ -9,7 +9,9 @@ import pytest
 import shapely
 from scipy.spatial import cKDTree
 
+from clearway.roadmap import build as build_module
 from clearway.roadmap import generalized_voronoi, medial_axis
+from clearway.roadmap.inflate import polygon_parts
 
 from roadmap_builders import assert_exact_clearances, assert_lanes_clear, assert_topology, build, \
     corridor, plan
@@ -166,3 +168,28 @@ def test_sealed_slots_leave_the_lanes_unchanged():
     assert np.abs(nodes(with_slot) - nodes(without)).max() < 1e-9
     assert with_slot.graph.number_of_edges() == without.graph.number_of_edges()
     assert_topology(with_slot)
+
+
+def test_open_flue_slot_cut_off_leaves_the_lanes_in_place(monkeypatch):
+    # the same rows with the flue open to the west aisle: the slot is part of the floor's one
+    # component; beyond the drivable region grown by c it is cut off before sampling
+    hall = (0.0, 0.0, 30.0, 12.0)
+    slotted = shapely.box(5, 4, 25, 6.3).difference(shapely.box(5, 5.1, 24.8, 5.2))
+    obstacles, free = plan(hall, slotted)
+    assert len(shapely.get_parts(free)) == 1
+    cut = build(obstacles, free)
+    monkeypatch.setattr(build_module, "reached_parts",
+                        lambda free_space, regions, clearance: polygon_parts(free_space))
+    whole = build(obstacles, free)
+    a = np.array([(d["x"], d["y"]) for _, d in cut.graph.nodes(data=True)])
+    b = np.array([(d["x"], d["y"]) for _, d in whole.graph.nodes(data=True)])
+    # analytic: points of clearance >= c keep their nearest obstacle points, so every node
+    # has a twin within 1 mm (the cut changes only the sampling near the slot's mouth)
+    assert len(a) == len(b)
+    assert cKDTree(b).query(a)[0].max() < 1e-3 and cKDTree(a).query(b)[0].max() < 1e-3
+    lanes = [shapely.union_all([d["geometry"] for *_, d in r.graph.edges(data=True)])
+             for r in (cut, whole)]
+    # lanes are simplified with a 5 mm Douglas-Peucker tolerance (roadmap/build.py SIMPLIFY)
+    assert shapely.hausdorff_distance(*lanes, densify=0.05) <= 0.005 + 1e-9
+    assert_lanes_clear(cut)
+    assert_topology(cut)
