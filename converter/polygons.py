@@ -240,7 +240,10 @@ def wall_regions(lines, rings, fills, *, gap_tolerance, max_wall_thickness, nomi
             loose = shapely.get_parts(shapely.difference(loose, swing))
             loose = loose[~shapely.is_empty(loose)]
         solid = as_multipolygon(shapely.union_all([solid, bands(loose, nominal_wall_thickness)]))
-    enclosed = fill_holes(shapely.union_all(np.concatenate([faces, fills, [solid]])))
+    # the faces tile the plane (polygonize): one coverage union, then the fills and the solid
+    # (which holds every solid face again) as a handful of geometries, not face by face
+    tiled = np.array([shapely.coverage_union_all(faces)] if len(faces) else [], dtype=object)
+    enclosed = fill_holes(shapely.union_all(np.concatenate([tiled, fills, [solid]])))
     return solid, enclosed, loose
 
 
