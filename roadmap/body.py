@@ -5,7 +5,8 @@ the lane's tangent. A lane polyline is driven as straight moves along its segmen
 turns in place at its vertices (the Voronoi lanes are dense where they bend, so this follows
 a smooth bend to within the polyline's own deviation from it).
 
-The swept area of each move is covered by convex hulls of footprints:
+The swept area of each move is covered by convex hulls of footprints (a straight move's
+hull is measured as its two end footprints and the band between them, see `move_gaps`):
 
 - a straight move sweeps exactly the convex hull of the footprints at its two ends (the
   Minkowski sum of a convex shape and a segment);
@@ -88,6 +89,63 @@ def gaps(field, geometry) -> np.ndarray:
     return result
 
 
+def reach(robot: Robot) -> tuple[float, float]:
+    """Radii about the rotation centre, metres: the largest disc inside the footprint and
+    the smallest one holding it (the swing radius)."""
+    if robot.length is None:
+        return robot.radius, robot.radius
+    forward, left = robot.centre
+    return (min(robot.length / 2 - abs(forward), robot.width / 2 - abs(left)), robot.swing)
+
+
+def move_gaps(robot: Robot, field, a_xy, a_heading, b_xy, b_heading, *,
+              band=None, alone=None) -> np.ndarray:
+    """Clear distance left beside the body over each move a -> b, metres, shape (M,).
+
+    A turn step or a step along an arc is its hull. A straight move is split, since its long
+    hull reaches many boundary segments: the footprints at both ends, and the band between
+    them, whose distance is the segment's clearance less the body's half-width (exact
+    beside the segment; where the nearest obstacle lies beyond an end, the footprint there
+    is nearer, or the value is on the safe side). `band`, (M,) metres, gives a known lower
+    bound of each segment's clearance instead (a lane's, known from building it); then a
+    turn step whose pivot leaves more room than that is given its lower bound, as it
+    cannot be the smallest gap of its lane. `alone`, (M, 2) bool, says which ends of each straight move need their footprint
+    measured (default both): where a turn step starts or ends there, its hull holds it.
+    """
+    a_xy, b_xy = (np.asarray(v, float).reshape(-1, 2) for v in (a_xy, b_xy))
+    a_heading, b_heading = (np.asarray(v, float).ravel() for v in (a_heading, b_heading))
+    points, grow = core(robot)
+    half = np.abs(points[:, 1]).max()
+    outer = np.hypot(*points.T).max()
+    gap = np.empty(len(a_xy))
+    straight = (a_heading == b_heading) & np.any(a_xy != b_xy, axis=1)
+    other = np.flatnonzero(~straight)
+    if band is not None:
+        # a turn in place keeps the body within `outer` of its pivot: where that leaves
+        # more than the band beside the body, it cannot be the smallest gap; say so
+        turning = other[np.all(a_xy[other] == b_xy[other], axis=1)]
+        low = field.at(a_xy[turning]) - outer
+        roomy = low >= np.broadcast_to(np.asarray(band, float), a_xy.shape[:1])[turning] - half
+        gap[turning[roomy]] = low[roomy]
+        other = np.setdiff1d(other, turning[roomy])
+    gap[other] = gaps(field, hulls(robot, a_xy[other], a_heading[other], b_xy[other],
+                                   b_heading[other]))
+    line = np.flatnonzero(straight)
+    if len(line):
+        xy, heading = np.vstack([a_xy[line], b_xy[line]]), np.r_[a_heading[line],
+                                                                 b_heading[line]]
+        need = np.ones(2 * len(line), bool) if alone is None else \
+            np.asarray(alone, bool)[line].T.ravel()
+        ends = np.full(2 * len(line), np.inf)
+        ends[need] = gaps(field, hulls(robot, xy[need], heading[need], xy[need],
+                                       heading[need]))
+        ends = ends.reshape(2, -1).min(axis=0)
+        side = gaps(field, shapely.linestrings(np.stack([a_xy[line], b_xy[line]], axis=1))) \
+            if band is None else np.broadcast_to(np.asarray(band, float), a_xy.shape[:1])[line]
+        gap[line] = np.minimum(ends, side - half)
+    return gap - (grow - robot.margin)
+
+
 def contact(robot: Robot, field, driven: "Moves", move: int) -> np.ndarray:
     """Where the body of one move comes nearest an obstacle: the obstacle's point, (2,)."""
     hull = hulls(robot, driven.a_xy[move], driven.a_heading[move], driven.b_xy[move],
@@ -159,20 +217,28 @@ def moves(lines: list[np.ndarray]) -> Moves:
                  move_owner[order], at[order])
 
 
-def side_clearance(robot: Robot, field, lines: list[np.ndarray]):
+def side_clearance(robot: Robot, field, lines: list[np.ndarray], *, band=None):
     """The body's side clearance along each polyline driven heading along it.
+
+    `band`, (L,) metres, is a known lower bound of each polyline's clearance (see
+    `move_gaps`); without it every straight move's clearance is measured.
 
     Returns
     -------
     moves : Moves
-    gap : (M,) float, metres; each move's swept core hull's distance to the boundary
-        minus (grow - margin), i.e. the clear distance left beside the body
+    gap : (M,) float, metres; the clear distance left beside the body over each move
+        (see `move_gaps`)
     lowest : (L,) float, metres; per polyline the smallest gap (inf for a point)
     """
     driven = moves(lines)
-    _, grow = core(robot)
-    gap = gaps(field, hulls(robot, driven.a_xy, driven.a_heading, driven.b_xy,
-                            driven.b_heading)) - (grow - robot.margin)
+    # moves come in driving order: a straight move's ends lie in the turn steps before and
+    # after it, except at the polyline's own two ends
+    first = np.r_[True, driven.owner[1:] != driven.owner[:-1]]
+    last = np.r_[driven.owner[1:] != driven.owner[:-1], True]
+    gap = move_gaps(robot, field, driven.a_xy, driven.a_heading, driven.b_xy,
+                    driven.b_heading,
+                    band=None if band is None else np.asarray(band, float)[driven.owner],
+                    alone=np.stack([first, last], axis=1))
     lowest = np.full(len(lines), np.inf)
     np.minimum.at(lowest, driven.owner, gap)
     # a polyline without a move (a station on its node) holds the body heading along
@@ -186,7 +252,7 @@ def side_clearance(robot: Robot, field, lines: list[np.ndarray]):
 
 def _trim(robot: Robot, field, coords: np.ndarray) -> np.ndarray | None:
     """Cut a lane driven from coords[0] back to where the body last fits; None if nowhere."""
-    driven, gap, _ = side_clearance(robot, field, [coords])
+    driven, gap, _ = side_clearance(robot, field, [coords], band=[robot.clearance])
     bad = np.flatnonzero(gap < robot.margin - 1e-9)
     if len(bad) == 0:
         return coords
@@ -202,8 +268,8 @@ def _trim(robot: Robot, field, coords: np.ndarray) -> np.ndarray | None:
         for _ in range(TRIM_STEPS):
             middle = (low + high) / 2
             point = start + middle * (end - start)
-            hull = hulls(robot, start, heading, point, heading)
-            if gaps(field, hull)[0] - (core(robot)[1] - robot.margin) >= robot.margin - 1e-9:
+            if move_gaps(robot, field, start, heading, point, heading,
+                         band=robot.clearance)[0] >= robot.margin - 1e-9:
                 low = middle
             else:
                 high = middle
@@ -221,6 +287,7 @@ class Shortfall:
     x: float
     y: float
     gap: float
+    note: str = ""
 
 
 def fit_lanes(robot: Robot, field, lines, ends, vertices):
@@ -245,7 +312,9 @@ def fit_lanes(robot: Robot, field, lines, ends, vertices):
     coords = [shapely.get_coordinates(line) for line in lines]
     if not coords:
         return lines, ends, []
-    driven, gap, lowest = side_clearance(robot, field, coords)
+    # every lane keeps the clearance c = half-width + margin along it (it was cut there)
+    driven, gap, lowest = side_clearance(robot, field, coords,
+                                         band=np.full(len(coords), robot.clearance))
     degree = np.bincount(np.asarray(ends, dtype=np.int64).ravel(), minlength=len(vertices))
     kept_lines, kept_ends, short = [], [], []
     for index, (u, v) in enumerate(ends):
@@ -290,7 +359,8 @@ def fit_edges(robot: Robot, field, graph, samples, joins, station_nodes, offset)
     edges = list(graph.edges(keys=True, data=True))
     driven, gap, lowest = side_clearance(
         robot, field, [shapely.get_coordinates(data["geometry"]) - shift
-                       for _, _, _, data in edges])
+                       for _, _, _, data in edges],
+        band=[data["clearance_min"] for _, _, _, data in edges])
     station_of = {node: index for index, node in station_nodes.items()}
     joins, shortfalls, dropped, touched = list(joins), [], set(), set()
     for index, (u, v, key, data) in enumerate(edges):
@@ -338,5 +408,5 @@ def pose_limits(robot: Robot) -> float:
         robot.radius + robot.margin
 
 
-__all__ = ["MAX_STEP_ANGLE", "Moves", "Shortfall", "core", "fit_edges", "fit_lanes", "gaps", "hulls",
+__all__ = ["MAX_STEP_ANGLE", "Moves", "Shortfall", "core", "fit_edges", "fit_lanes", "move_gaps", "reach", "gaps", "hulls",
            "moves", "place", "side_clearance", "angle_between", "pose_limits"]
