@@ -21,7 +21,7 @@ from clearway.roadmap.inflate import (boundary_segments, drivable_region, inflat
                              to_local)
 from clearway.roadmap.body import fit_edges, fit_lanes
 from clearway.roadmap.model import BodyShortfall, Robot, Roadmap
-from clearway.roadmap.turns import check_turns
+from clearway.roadmap.turns import car_bends, check_turns
 from clearway.roadmap.lanes import assemble_graph, refine_lanes
 from clearway.roadmap.rooms import (describe_rooms, locate, narrowings, opening_cuts, room_names,
                                     room_seeds, split_floor)
@@ -75,7 +75,8 @@ def _fragments(vertices, clearance, edges, regions, field, c):
 def _lanes(vertices, clearance, edges, isolated, c, field, robot, terminal=None):
     """Lanes as (geometry, ends, isolated, vertices, shortfalls); a rectangular body keeps
     only the lanes it can drive heading along them (dead ends cut back, on a copy of
-    `vertices`). `terminal` (V,) bool vertices end lanes (room nodes, station joins)."""
+    `vertices`), a car only those whose bends it can take. `terminal` (V,) bool vertices
+    end lanes (room nodes, station joins)."""
     chains = chain_lanes(len(vertices), edges, terminal)
     sequences, _ = split_loops(chains, vertices)
     lines = refine_lanes([vertices[seq] for seq in sequences], field, below=c + 0.02)
@@ -88,6 +89,9 @@ def _lanes(vertices, clearance, edges, isolated, c, field, robot, terminal=None)
     if robot.length is not None:
         vertices = vertices.copy()
         geometry, ends, short = fit_lanes(robot, field, geometry, ends, vertices)
+    if robot.kind == "car":
+        geometry, ends, bends = car_bends(robot, field, geometry, ends)
+        short += bends
     return geometry, ends, [int(v) for v in isolated], vertices, short
 
 
@@ -234,8 +238,8 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
     body = []
     if robot.has_body:
         body = [BodyShortfall("lane", s.x + offset[0], s.y + offset[1], robot.margin, s.gap,
-                              note=f"needs {robot.margin:.2f} m beside the body, has "
-                                   f"{max(s.gap, 0.0):.2f} m; lane dropped")
+                              note=s.note or f"needs {robot.margin:.2f} m beside the body, "
+                                             f"has {max(s.gap, 0.0):.2f} m; lane dropped")
                 for s in short]
         samples, joins, links = fit_edges(robot, field, graph, samples, joins, station_nodes,
                                           offset)

@@ -30,7 +30,9 @@ import math
 import numpy as np
 import shapely
 
-from clearway.roadmap.body import MAX_STEP_ANGLE, angle_between, core, gaps, hulls
+from clearway.roadmap.body import (MAX_STEP_ANGLE, Shortfall, angle_between, core, move_gaps,
+                                   reach)
+from clearway.roadmap.inflate import polylines
 from clearway.roadmap.dubins import DubinsPath, shortest_path
 from clearway.roadmap.model import BodyShortfall, Robot
 
@@ -90,9 +92,8 @@ def _point_along(coords: np.ndarray, distance: float) -> tuple[np.ndarray, float
 
 def _clear(robot: Robot, field, a_xy, a_heading, b_xy, b_heading) -> float:
     """Smallest gap beside the body over moves a -> b (arrays), metres."""
-    _, grow = core(robot)
-    return float(gaps(field, hulls(robot, a_xy, a_heading, b_xy, b_heading)).min()
-                 - (grow - robot.margin)) if len(a_xy) else math.inf
+    return float(move_gaps(robot, field, a_xy, a_heading, b_xy, b_heading).min()) \
+        if len(a_xy) else math.inf
 
 
 def _rotation_gap(robot: Robot, field, xy, start: float, turn: float) -> float:
@@ -104,7 +105,22 @@ def _rotation_gap(robot: Robot, field, xy, start: float, turn: float) -> float:
 
 
 def _path_gap(robot: Robot, field, path) -> float:
+    """Smallest gap beside the body along `path`; where the rotation centre's clearance
+    settles the answer (every body point lies within the swing radius of the path, and a
+    disc about the centre inside the footprint), that bound instead of the exact value."""
     poses = path.poses(step=MAX_STEP_ANGLE)
+    room = field.at(poses[:, :2])
+    inner, outer = reach(robot)
+    extra = core(robot)[1] - robot.margin
+    if robot.length is None:
+        inner = outer = 0.0
+    spacing = np.hypot(*np.diff(poses[:, :2], axis=0).T) * (1 + 1e-3)   # arc >= chord
+    low = float((np.minimum(room[:-1], room[1:]) - spacing / 2).min()) - outer - extra
+    if low >= robot.margin:
+        return low
+    high = float(room.min()) - inner - extra
+    if high < robot.margin - 1e-9:
+        return high
     return _clear(robot, field, poses[:-1, :2], poses[:-1, 2], poses[1:, :2], poses[1:, 2])
 
 
@@ -217,3 +233,60 @@ def check_turns(robot: Robot, field, graph, offset) -> list[BodyShortfall]:
         graph.nodes[node]["reverse_only"] = bool(len(keys) == 1 and
                                                  (keys[0], keys[0]) not in allowed)
     return forbidden
+
+
+#: A lane vertex is a bend a car cannot follow where its heading turns faster than
+#: (1 + BEND_SLACK) / R over the two half segments beside it, by more than BEND_ANGLE.
+BEND_SLACK = 0.1
+BEND_ANGLE = 0.02
+
+
+def car_bends(robot: Robot, field, lines, ends):
+    """Keep the lanes a car can drive: where a lane bends faster than 1/R, a manoeuvre
+    (as for a turn at a node) must lead from before the bend to after it.
+
+    Returns the kept lines, their ends, and a Shortfall per dropped lane (local frame).
+    """
+    kept_lines, kept_ends, short = [], [], []
+    for line, (u, v) in zip(lines, ends):
+        coords = shapely.get_coordinates(line)
+        coords = coords[np.r_[True, np.hypot(*np.diff(coords, axis=0).T) > 1e-9]]
+        worst = None
+        if len(coords) >= 3:
+            step = np.diff(coords, axis=0)
+            length = np.hypot(*step.T)
+            heading = np.arctan2(step[:, 1], step[:, 0])
+            turn = np.abs(angle_between(heading[:-1], heading[1:]))
+            span = (length[:-1] + length[1:]) / 2
+            sharp = np.flatnonzero((turn > BEND_ANGLE) &
+                                   (turn > (1 + BEND_SLACK) * span / robot.turn_radius)) + 1
+            for vertex in _bend_middles(sharp, np.r_[0.0, np.cumsum(length)],
+                                        robot.turn_radius):
+                here = coords[vertex]
+                gap = _car_gap(robot, field, here, coords[:vertex + 1][::-1], coords[vertex:])
+                if gap < robot.margin - 1e-9:
+                    worst = (here, gap)
+                    break
+        if worst is None:
+            kept_lines.append(coords)
+            kept_ends.append((u, v))
+        else:
+            short.append(Shortfall(float(worst[0][0]), float(worst[0][1]), float(worst[1]),
+                                   f"bends faster than the {robot.turn_radius:.2f} m turning "
+                                   f"radius and no forward path tried keeps "
+                                   f"{robot.margin:.2f} m beside the body "
+                                   f"(best {max(worst[1], 0.0):.2f} m); lane dropped"))
+    return polylines(kept_lines), kept_ends, short
+
+
+def _bend_middles(sharp, along, radius):
+    """The middle vertex of each run of sharp vertices less than `radius` apart."""
+    middles, run = [], []
+    for vertex in sharp:
+        if run and along[vertex] - along[run[-1]] > radius:
+            middles.append(run[len(run) // 2])
+            run = []
+        run.append(int(vertex))
+    if run:
+        middles.append(run[len(run) // 2])
+    return middles
