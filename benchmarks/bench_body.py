@@ -1,11 +1,13 @@
 """Benchmark: build_roadmap for rectangular and car robots against the disc robot.
 
-    python benchmarks/bench_body.py [BAYS]        (default: 20000, the largest warehouse)
+    python benchmarks/bench_body.py [BAYS] [--car]   (default: 20000, the largest warehouse)
 
 Reads one synthetic warehouse (benchmarks/synthetic.py) once, then builds its roadmap
 alternately for each robot (interleaved, so that a noisy neighbour slows them alike) and
 prints the median build time of each, its ratio to the disc robot's, and what the body
 checks found. Target (issue 14): a rectangular robot at most 1.5 x the disc robot's time.
+``--car`` adds a car robot, whose turn checks (a path per pair of edges at every node, in
+Python) take far longer: minutes at 20,000 bays.
 """
 
 from __future__ import annotations
@@ -26,20 +28,20 @@ ROBOTS = {
     "disc 0.4 m": Robot.disc(0.4, margin=0.1),
     "rect 1.4x0.8 differential": Robot.rectangle(1.4, 0.8, margin=0.1),
     "rect 1.6x1.2 tugger": Robot.rectangle(1.6, 1.2, margin=0.1, centre=(-0.5, 0.0)),
-    "rect 1.4x0.8 car R 1.5": Robot.rectangle(1.4, 0.8, margin=0.1, kind="car",
-                                              centre=(-0.5, 0.0), turn_radius=1.5),
 }
+CAR = {"rect 1.4x0.8 car R 1.5": Robot.rectangle(1.4, 0.8, margin=0.1, kind="car",
+                                                 centre=(-0.5, 0.0), turn_radius=1.5)}
 REPEATS = 3
 
 
-def main(bays: int) -> None:
+def main(bays: int, robots: dict) -> None:
     with tempfile.TemporaryDirectory() as folder:
         plan = read_floorplan(write_warehouse(Path(folder) / "warehouse.dxf", bays))
     stations = [(s.label, s.x, s.y) for s in plan.stations]
-    times = {name: [] for name in ROBOTS}
+    times = {name: [] for name in robots}
     results = {}
     for _ in range(REPEATS):
-        for name, robot in ROBOTS.items():
+        for name, robot in robots.items():
             start = time.perf_counter()
             results[name] = build_roadmap(plan.obstacles, plan.free_space, stations,
                                           robot=robot, shared_zones=plan.regions["shared"])
@@ -61,4 +63,5 @@ def main(bays: int) -> None:
 
 
 if __name__ == "__main__":
-    main(int(sys.argv[1]) if len(sys.argv) > 1 else 20000)
+    numbers = [int(value) for value in sys.argv[1:] if value.isdigit()]
+    main(numbers[0] if numbers else 20000, ROBOTS | (CAR if "--car" in sys.argv else {}))
