@@ -20,7 +20,7 @@ misses at most ``swing * (1 - cos(step / 2))``, an arc of radius R at most
 ``(R + swing) * (1 - cos(step / 2))`` with step = 0.05 rad (0.3 mm per metre).
 The results go on the graph: node attribute ``turns``, the allowed pairs as
 ``"e1:e2 e1:e3"`` (edge ids, each pair once, in natural order; ``e4:e4`` is turning round
-on e4), and ``reverse_only`` on dead ends where the robot cannot turn round.
+on e4; ``"-"`` when no turn is allowed), and ``reverse_only`` on dead ends where the robot cannot turn round.
 """
 
 from __future__ import annotations
@@ -50,16 +50,20 @@ def natural(key: str):
 
 
 def pair_text(pairs) -> str:
-    """The compact ``turns`` attribute for a set of (edge, edge) pairs."""
+    """The compact ``turns`` attribute for a set of (edge, edge) pairs; "-" for none (an
+    empty value could be dropped by a GraphML writer or reader, which would read as no
+    restriction at all)."""
     ordered = sorted({tuple(sorted(pair, key=natural)) for pair in pairs},
                      key=lambda pair: (natural(pair[0]), natural(pair[1])))
-    return " ".join(f"{a}:{b}" for a, b in ordered)
+    return " ".join(f"{a}:{b}" for a, b in ordered) or "-"
 
 
 def parse_turns(text: str) -> set[tuple[str, str]]:
     """Read a ``turns`` attribute back: the allowed pairs, both orders."""
     pairs = set()
     for item in str(text).split():
+        if item == "-":
+            continue
         a, sep, b = item.partition(":")
         if not sep or not a or not b:
             raise ValueError(f"turns entry {item!r} is not EDGE:EDGE")

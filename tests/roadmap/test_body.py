@@ -83,7 +83,7 @@ def test_dead_end_aisle_cut_back_where_the_front_meets_the_margin():
     # aisle gives 0.65 m: the robot backs out of it
     dead_end = max(ends, key=lambda n: roadmap.graph.nodes[n]["x"])
     assert roadmap.graph.nodes[dead_end]["reverse_only"] is True
-    assert roadmap.graph.nodes[dead_end]["turns"] == ""
+    assert roadmap.graph.nodes[dead_end]["turns"] == "-"
     (turn,) = [s for s in roadmap.findings.body if s.node == dead_end]
     assert turn.what == "turn round" and turn.needs == pytest.approx(0.906, abs=5e-4)
     assert turn.has == pytest.approx(0.65, abs=1e-6)

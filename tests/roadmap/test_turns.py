@@ -91,6 +91,7 @@ def test_turns_text_round_trips_and_refuses_garbage():
     text = pair_text(pairs)
     assert text == "e2:e2 e2:e10"                             # natural order, each pair once
     assert parse_turns(text) == pairs | {("e2", "e10")}
+    assert pair_text(set()) == "-" and parse_turns("-") == set()   # never an empty value
     with pytest.raises(ValueError, match="EDGE:EDGE"):
         parse_turns("e1-e2")
 
