@@ -8,7 +8,7 @@ import networkx as nx
 import pytest
 import shapely
 
-from clearway.roadmap import Robot, build_roadmap
+from clearway.roadmap import Robot
 from clearway.roadmap.clearance import clearance_field
 from clearway.roadmap.inflate import boundary_segments
 from clearway.roadmap.turns import check_turns, pair_text, parse_turns
@@ -95,21 +95,3 @@ def test_turns_text_round_trips_and_refuses_garbage():
     with pytest.raises(ValueError, match="EDGE:EDGE"):
         parse_turns("e1-e2")
 
-
-@pytest.mark.parametrize("step, reachable", [(-0.03, True), (0.03, False)])
-def test_car_lane_round_the_corner_is_kept_iff_the_car_can_take_it(step, reachable):
-    # analytic: the closed form of the test above, now on the Voronoi lane itself, which
-    # bends round the corner faster than 1/R (its tightest stretch follows the parabolas
-    # about the reflex corner): the lane stays only where the car's manoeuvre clears. The
-    # lane is a polyline simplified to 5 mm, whose straight runs tilt by milliradians and
-    # move the arc by up to about 2 cm: hence 3 cm either side of W*
-    a, radius, length, margin = 2.0, 2.5, 1.0, 0.1
-    width = 2 * (radius - margin - math.sqrt(2) * (radius - a / 2)) + step
-    robot = Robot.rectangle(length, width, margin=margin, kind="car",
-                            centre=(-length / 2, 0.0), turn_radius=radius, reverse=False)
-    roadmap = build_roadmap({}, corner(a, a), [("E", 10.0, 1.0), ("N", 1.0, 10.0)],
-                            robot=robot)
-    ends = [s.node for s in roadmap.findings.stations]
-    joined = None not in ends and nx.has_path(roadmap.graph, *ends)
-    assert joined is reachable
-    assert any("turning radius" in s.note for s in roadmap.findings.body) is not reachable
