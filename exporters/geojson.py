@@ -9,7 +9,14 @@ Features, in drawing order (areas under lanes under points):
   ``weight``, ``clearance_min`` (metres), as in the GraphML;
 - ``element: "node"`` Points with ``id``, ``kind``, ``label``, ``x``, ``y``, ``clearance``;
 - ``element: "station"`` Points at each station's drawn position with ``label``, ``node``,
-  ``reachable`` and ``reason``.
+  ``reachable``, ``reason`` and ``room``;
+- ``element: "room"`` Polygons with ``id``, ``names`` (texts inside, largest first),
+  ``area`` (m^2), ``reachable``, ``node`` (the room node), ``openings`` (ids of the
+  openings on its outline) and, for a room the robot cannot enter, ``reason``,
+  ``blocked_by`` and ``blocked_width``;
+- ``element: "opening"`` Points with ``id``, ``kind`` (door, window, closed, open, or
+  narrowing between rooms), ``width`` (clear, m), ``exterior``, ``fits`` (the robot
+  passes through the width), ``passable`` (a passable kind and it fits) and ``rooms``.
 
 Coordinates are the drawing's local metres unless an anchor is given (RFC 7946 sec. 4 allows
 another coordinate reference system "by prior arrangement"); the top-level member
@@ -100,8 +107,39 @@ def _station_features(plan, roadmap, project) -> list[dict]:
             "x": float(station.x), "y": float(station.y),
             "node": json_text(result.node) if result and result.node is not None else None,
             "reachable": bool(result.reachable) if result else False,
-            "reason": json_text(result.reason) if result else "not linked to the roadmap"}))
+            "reason": json_text(result.reason) if result else "not linked to the roadmap",
+            "room": json_text(result.room) if result else ""}))
     return features
+
+
+def room_properties(room, passages) -> dict:
+    """A room as plain values (GeoJSON properties and report.json entries)."""
+    blocked = passages[room.blocked_by].id if room.blocked_by >= 0 else None
+    return {"id": json_text(room.id), "names": [json_text(name) for name in room.names],
+            "area": finite_or_none(room.area), "reachable": bool(room.reachable),
+            "node": json_text(room.node) or None, "x": float(room.x), "y": float(room.y),
+            "openings": [json_text(passages[i].id) for i in room.passages],
+            "reason": json_text(room.reason), "blocked_by": blocked,
+            "blocked_width": finite_or_none(room.blocked_width)}
+
+
+def opening_properties(passage) -> dict:
+    """An opening or narrowing between rooms as plain values."""
+    return {"id": json_text(passage.id), "kind": json_text(passage.kind),
+            "width": finite_or_none(passage.width), "exterior": bool(passage.exterior),
+            "fits": bool(passage.fits), "passable": bool(passage.passable),
+            "rooms": [json_text(room) for room in passage.rooms]}
+
+
+def _room_features(roadmap, project) -> tuple[list[dict], list[dict]]:
+    """Room polygons (drawn over the areas) and opening points (drawn last)."""
+    rooms = [_feature(_geometry(room.polygon, project),
+                      {"element": "room", **room_properties(room, roadmap.passages)})
+             for room in roadmap.rooms]
+    openings = [_feature(_geometry(shapely.Point(p.x, p.y), project),
+                         {"element": "opening", **opening_properties(p)})
+                for p in roadmap.passages]
+    return rooms, openings
 
 
 def coordinate_system(anchor=None) -> dict:
@@ -150,8 +188,10 @@ def render_geojson(plan, roadmap, *, anchor=None) -> bytes:
         "robot": {"radius": robot.radius, "margin": robot.margin, "clearance": robot.clearance},
         "caution": SAFETY_CAUTION,
     }
-    features = (_area_features(plan, roadmap, project) + _graph_features(roadmap, project)
-                + _station_features(plan, roadmap, project))
+    rooms, openings = _room_features(roadmap, project)
+    features = (_area_features(plan, roadmap, project) + rooms
+                + _graph_features(roadmap, project) + _station_features(plan, roadmap, project)
+                + openings)
     head = json.dumps(header, ensure_ascii=False, allow_nan=False)[:-1]
     lines = [json.dumps(f, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
              for f in features]

@@ -10,6 +10,7 @@ import json
 
 import networkx as nx
 
+from clearway.exporters.geojson import opening_properties, room_properties
 from clearway.exporters.text import SAFETY_CAUTION, TOOL_VERSION, finite_or_none, json_text, natural_key
 
 #: Version of the report layout; raised when a key changes meaning or disappears.
@@ -69,6 +70,7 @@ def summarize(plan, roadmap) -> dict:
         "label": json_text(s.label), "x": float(s.x), "y": float(s.y),
         "node": None if s.node is None else json_text(s.node),
         "component": None if s.component is None else int(s.component), "reachable": bool(s.reachable), "reason": json_text(s.reason),
+        "room": json_text(s.room),
     } for s in findings.stations]
     return {
         "format": REPORT_FORMAT,
@@ -89,6 +91,9 @@ def summarize(plan, roadmap) -> dict:
         "components": nx.number_connected_components(graph),
         "component_nodes": [len(part) for part in _components(graph)],
         "stations": stations,
+        "rooms": [room_properties(room, roadmap.passages) for room in roadmap.rooms],
+        "openings": [{"x": float(p.x), "y": float(p.y), **opening_properties(p)}
+                     for p in roadmap.passages],
         "unreachable_pairs": [[json_text(a), json_text(b)] for a, b in findings.unreachable_pairs],
         "pinch_points": [{"x": float(p.x), "y": float(p.y),
                           "clearance": finite_or_none(p.clearance),

@@ -150,7 +150,9 @@ def render_svg(plan, roadmap, *, date: str) -> bytes:
 
     floor = etree.SubElement(root, "g", id="floor")
     band = plan.free_space.difference(roadmap.drivable) if not plan.free_space.is_empty else None
-    areas = {"free": plan.free_space, "band": band, **dict(plan.regions)}
+    closed = [room.polygon for room in roadmap.rooms if not room.reachable]
+    areas = {"free": plan.free_space, "band": band,
+             "closed": shapely.union_all(closed) if closed else None, **dict(plan.regions)}
     areas = {role: local(area) for role, area in areas.items() if area is not None}
     for role, style in AREA_STYLE.items():
         geometry = areas.get(role)
@@ -190,6 +192,12 @@ def render_svg(plan, roadmap, *, date: str) -> bytes:
         symbols.append(("station" if reachable else "unreachable", station.x - ox,
                         station.y - oy,
                         station.label if reachable else f"{station.label} (unreachable)"))
+    known = [(p.x, p.y) for p in roadmap.findings.narrow_passages]
+    symbols += [("narrow", p.x - ox, p.y - oy, measure_label("narrow", p.width))
+                for p in roadmap.passages
+                if p.opening >= 0 and p.kind in ("door", "open") and not p.exterior
+                and not p.fits and all(np.hypot(p.x - x, p.y - y) > max(p.width, 0.5)
+                                       for x, y in known)]
     for kind, x, y, _ in symbols:      # every symbol first, so that no label covers one
         lift = 1.3 * font if kind == "personnel" else 0.0
         placer.block(shapely.Point(x, y + lift).buffer(symbol_reach(kind, font), quad_segs=2))
@@ -199,6 +207,11 @@ def render_svg(plan, roadmap, *, date: str) -> bytes:
         at = (placer.place(x, y + lift, label, 0.8 * font, symbol_reach(kind, font),
                            prefer_left=x > right) if label is not None else None)
         add_marker(marks, kind, x, y, font, label, label_at=at)
+    names = etree.SubElement(root, "g", id="room-names")
+    for room in roadmap.rooms:
+        if room.names:
+            add_text(names, room.x - ox, -(room.y - oy), xml_text(room.names[0]), 0.9 * font,
+                     anchor="middle", halo=True, colour="#3A3A3A")
     present = {kind for kind, *_ in symbols}
     drawn = {role for role in AREA_STYLE
              if areas.get(role) is not None and not areas[role].is_empty}
@@ -217,6 +230,12 @@ def _add_pattern(root, font: float) -> None:
                      fill="#D55E00", **{"fill-opacity": "0.18"})
     etree.SubElement(pattern, "line", x1="0", y1="0", x2="0", y2=number(0.8 * font),
                      stroke="#D55E00", **{"stroke-width": number(0.22 * font)})
+    closed = etree.SubElement(defs, "pattern", id="closed-room", patternUnits="userSpaceOnUse",
+                              width=number(0.7 * font), height=number(0.7 * font))
+    for x1, y1, x2, y2 in ((0, 0, 0.7, 0.7), (0, 0.7, 0.7, 0)):
+        etree.SubElement(closed, "line", x1=number(x1 * font), y1=number(y1 * font),
+                         x2=number(x2 * font), y2=number(y2 * font), stroke="#6E6E6E",
+                         **{"stroke-width": number(0.08 * font)})
     shared = etree.SubElement(defs, "pattern", id="shared", patternUnits="userSpaceOnUse",
                               width=number(0.6 * font), height=number(0.6 * font),
                               patternTransform="rotate(-45)")

@@ -42,6 +42,9 @@ def _style(**attrs):
 AREA_STYLE = {
     "free": _style(fill="#FBFBF7"),
     "band": _style(fill=SKY, fill_opacity="0.28"),
+    # rooms the robot cannot enter: a grey cross-hatch with a dotted outline
+    "closed": _style(fill="url(#closed-room)", stroke="#5A5A5A", stroke_width=0.08,
+                     stroke_dasharray=(0.15, 0.25)),
     # a line pattern, not a tint: a tint over the clearance band mixes a colour (olive)
     # that no legend entry shows
     "shared": _style(fill="url(#shared)", stroke="#8A7F00", stroke_width=0.1,
@@ -52,6 +55,7 @@ AREA_STYLE = {
     "keepout": _style(fill="url(#hatch)", stroke=VERMILLION, stroke_width=0.12),
 }
 AREA_NAMES = {"free": "free floor", "band": "clearance band",
+              "closed": "room the robot cannot enter",
               "shared": "shared with people", "wall": "wall", "racking": "racking",
               "keepout": "keep-out", "boundary": "boundary"}
 MARKER_NAMES = {"junction": "junction", "end": "lane end", "station": "station",

@@ -203,6 +203,14 @@ class Passage:
     rooms: tuple[str, ...] = ()
     start: tuple[float, float] = (0.0, 0.0)
     end: tuple[float, float] = (0.0, 0.0)
+    id: str = ""             # "o<k>" for opening k of the drawing, "c<k>" for a narrowing
+    kind: str = "narrowing"  # the opening's kind (door, window, closed, open) or narrowing
+    exterior: bool = False
+
+    @property
+    def passable(self) -> bool:
+        """The robot passes: a door, an open gap or a narrowing, wide enough for it."""
+        return self.kind in ("door", "open", "narrowing") and self.fits
 
 
 @dataclass(frozen=True)
@@ -273,3 +281,8 @@ class Roadmap:
     findings: Findings = field(default_factory=Findings)
     rooms: tuple[Room, ...] = ()
     passages: tuple[Passage, ...] = ()
+
+    @property
+    def openings(self) -> tuple[Passage, ...]:
+        """Every passage: the drawing's openings, then the narrowings between rooms."""
+        return self.passages

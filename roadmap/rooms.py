@@ -345,7 +345,8 @@ def describe_rooms(rooms, seeds, names, cuts, openings, graph, vertices, regions
             float(opening.x), float(opening.y), float(opening.width), index,
             bool(opening.passable and opening.width >= need),
             tuple(sorted(room_id[r] for r in sides[index])),
-            tuple(map(float, opening.start)), tuple(map(float, opening.end))))
+            tuple(map(float, opening.start)), tuple(map(float, opening.end)),
+            f"o{index}", str(opening.kind), bool(opening.exterior)))
     for k, cut in enumerate(cuts):
         if len(sides[len(openings) + k]) < 2:
             continue        # a narrowing that parts nothing (an aisle with a way round)
@@ -354,7 +355,8 @@ def describe_rooms(rooms, seeds, names, cuts, openings, graph, vertices, regions
         passages.append(Passage(float(middle[0]), float(middle[1]), float(cut.width), -1,
                                 bool(cut.width >= need),
                                 tuple(sorted(room_id[r] for r in sides[len(openings) + k])),
-                                tuple(map(float, start)), tuple(map(float, end))))
+                                tuple(map(float, start)), tuple(map(float, end)),
+                                f"c{len(passages) - len(openings)}"))
     around = [[] for _ in rooms]
     kept = list(range(len(openings))) + [len(openings) + k for k in range(len(cuts))
                                          if len(sides[len(openings) + k]) >= 2]
