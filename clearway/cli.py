@@ -13,6 +13,7 @@ import click
 from clearway import __version__
 from clearway.cli_build import build
 from clearway.cli_common import InputError, converter_options, drawing_options, terminal_text
+from clearway.cli_errors import escaped_error
 from clearway.cli_graphs import compare, route
 from clearway.cli_view import view
 from clearway.errors import ClearwayError
@@ -24,7 +25,8 @@ class OneLineErrorGroup(click.Group):
     """A click group whose usage errors, like every input error, print exactly one line.
 
     click's own display adds the usage and a hint (three lines); a script reading stderr
-    wants the cause alone, with exit code 2 as before.
+    wants the cause alone, with exit code 2 as before. An exception a command did not expect
+    is exit 2 when the input caused it and exit 3 otherwise (`clearway.cli_errors`).
     """
 
     def main(self, args=None, prog_name=None, complete_var=None, standalone_mode=True,
@@ -49,10 +51,20 @@ class OneLineErrorGroup(click.Group):
             sys.exit(1)
         sys.exit(result if isinstance(result, int) else 0)
 
+    def invoke(self, ctx):
+        try:
+            return super().invoke(ctx)
+        except (click.ClickException, click.exceptions.Exit, click.Abort):
+            raise
+        except Exception as err:       # KeyboardInterrupt and SystemExit pass untouched
+            raise escaped_error(err, debug=ctx.params.get("debug", False)) from None
+
 
 @click.group(cls=OneLineErrorGroup, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(__version__, prog_name="clearway")
-def main():
+@click.option("--debug", is_flag=True,
+              help="On an internal error (exit 3), print the traceback instead of saving it.")
+def main(debug):
     """Turn a DXF floor plan into a weighted graph of safe robot lanes.
 
     The graph is a planning aid: verify it on site, under ISO 3691-4, the robot

@@ -49,6 +49,14 @@ def _centre(value, name: str) -> tuple[float, float]:
     return forward, left
 
 
+def _factor(name: str, value) -> float:
+    """Parse a config value that is a factor >= 0 (no unit)."""
+    number = float(value)                 # the config file has checked it is a number
+    if not (math.isfinite(number) and number >= 0):
+        raise InputError(f"{name} must be a number >= 0, got {value}")
+    return number
+
+
 def _build_robot(config: dict, robot_radius, robot_size, margin, kind=None, centre=None,
                  turn_radius=None, reverse=None):
     """The robot from the options, else from [robot] of the config file, else the defaults."""
@@ -228,8 +236,11 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
 
     try:
         config = load_config(options.get("config"))
-        robot = _build_robot(config, robot_radius, robot_size, margin, robot_kind,
-                             rotation_centre, turn_radius, reverse)
+        try:
+            robot = _build_robot(config, robot_radius, robot_size, margin, robot_kind,
+                                 rotation_centre, turn_radius, reverse)
+        except ValueError as err:      # Robot's checks of the robot the user described
+            raise InputError(str(err)) from None
         checks = config.get("checks", {})
         comfort = (_metres("--comfort-clearance", comfort_clearance)
                    if comfort_clearance is not None
@@ -244,8 +255,10 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
         roadmap = build_roadmap(
             plan.obstacles, plan.free_space, [(s.label, s.x, s.y) for s in plan.stations],
             robot=robot, shared_zones=plan.regions["shared"], comfort_clearance=comfort,
-            personnel_clearance=float(checks.get("personnel_clearance", 0.5)),
-            low_clearance_penalty=float(checks.get("low_clearance_penalty", 0.0)),
+            personnel_clearance=_metres("[checks] personnel_clearance",
+                                        checks.get("personnel_clearance", 0.5), allow_zero=True),
+            low_clearance_penalty=_factor("[checks] low_clearance_penalty",
+                                          checks.get("low_clearance_penalty", 0.0)),
             openings=plan.openings, texts=plan.texts,
             progress=lambda *stage: say("  " + " ".join(str(part) for part in stage)))
         check_lanes(plan, roadmap)
@@ -264,7 +277,7 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
             files["roadmap.dxf"] = render_dxf(plan, roadmap)
         if with_csv:
             files.update(render_tables(roadmap))
-    except (ClearwayError, ValueError) as err:     # ValueError: a library's bad-value check
+    except ClearwayError as err:         # anything else is a bug: exit 3 (clearway.cli_errors)
         raise InputError(str(err)) from None
     except OSError as err:
         raise InputError(f"{err.filename or drawing}: {err.strerror or err}") from None
