@@ -57,6 +57,26 @@ def _factor(name: str, value) -> float:
     return number
 
 
+def _plausible(robot, given: str, scaled) -> "Robot":
+    """Return `robot`, or refuse one larger than MAX_ROBOT_SIZE across with the likely cause.
+
+    `given` names the option and value as typed; `scaled(factor)` spells the same option
+    with every length divided by `factor` (the suggestion for millimetres or centimetres).
+    """
+    from clearway.roadmap import MAX_ROBOT_SIZE
+    across = (max(robot.length, robot.width) if robot.length is not None
+              else 2 * robot.radius)
+    if across <= MAX_ROBOT_SIZE:
+        return robot
+    hint = "lengths are in metres"
+    for unit, factor in (("millimetres", 1000.0), ("centimetres", 100.0)):
+        if 0.1 <= across / factor <= MAX_ROBOT_SIZE:
+            hint = f"lengths are in metres: for {unit} give {scaled(factor)}"
+            break
+    raise InputError(f"{given}: a robot {across:g} m across is not plausible (over "
+                     f"{MAX_ROBOT_SIZE:g} m); {hint}")
+
+
 def _build_robot(config: dict, robot_radius, robot_size, margin, kind=None, centre=None,
                  turn_radius=None, reverse=None):
     """The robot from the options, else from [robot] of the config file, else the defaults."""
@@ -81,19 +101,24 @@ def _build_robot(config: dict, robot_radius, robot_size, margin, kind=None, cent
         if len(parts) != 2:
             raise InputError(f"--robot-size must be LENGTHxWIDTH in metres (e.g. 1.0x0.6), "
                              f"got {robot_size!r}")
-        return Robot.rectangle(_metres("--robot-size length", parts[0]),
-                               _metres("--robot-size width", parts[1]), margin=margin,
-                               **motion)
+        length, width = (_metres("--robot-size length", parts[0]),
+                         _metres("--robot-size width", parts[1]))
+        return _plausible(Robot.rectangle(length, width, margin=margin, **motion),
+                          f"--robot-size {robot_size}",
+                          lambda f: f"--robot-size {length / f:g}x{width / f:g}")
     if robot_radius is None and "length" in section and "width" in section:
-        return Robot.rectangle(_metres("[robot] length", section["length"]),
-                               _metres("[robot] width", section["width"]), margin=margin,
-                               **motion)
+        length, width = (_metres("[robot] length", section["length"]),
+                         _metres("[robot] width", section["width"]))
+        return _plausible(Robot.rectangle(length, width, margin=margin, **motion),
+                          f"[robot] length {length:g}, width {width:g}",
+                          lambda f: f"length = {length / f:g}, width = {width / f:g}")
     if offset is not None:
         raise InputError("a rotation centre offset needs a rectangular robot (--robot-size)")
-    if robot_radius is not None:
-        return Robot.disc(_metres("--robot-radius", robot_radius), margin=margin, **motion)
-    return Robot.disc(_metres("[robot] radius", section.get("radius", 0.35)), margin=margin,
-                      **motion)
+    name, value = (("--robot-radius", robot_radius) if robot_radius is not None
+                   else ("[robot] radius", section.get("radius", 0.35)))
+    radius = _metres(name, value)
+    return _plausible(Robot.disc(radius, margin=margin, **motion), f"{name} {value}",
+                      lambda f: f"{name} {radius / f:g}")
 
 
 def _parse_anchor(value: str | None):
@@ -208,13 +233,16 @@ def _sigterm_as_exit(command):
                    "the plan in CAD.")
 @click.option("--csv", "with_csv", is_flag=True,
               help="Also write nodes.csv and lanes.csv for spreadsheets.")
+@click.option("--id-sheet", "with_ids", is_flag=True,
+              help="Also write roadmap_ids.svg: the plan with every node and lane id and a "
+                   "coordinate grid.")
 @click.option("--strict", is_flag=True,
               help="Exit 1 (after writing) when a station is unreachable or free space leaks.")
 @click.option("-q", "--quiet", is_flag=True, help="Print only errors.")
 @_sigterm_as_exit
 def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre, turn_radius,
           reverse, margin, comfort_clearance, anchor, previous, no_html, with_dxf, with_csv,
-          strict, quiet, **options):
+          with_ids, strict, quiet, **options):
     """Build the lane graph of DRAWING into OUTDIR.
 
     Writes roadmap.graphml, roadmap.geojson, roadmap.svg, report.json and roadmap.html (the
@@ -226,8 +254,9 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
     from clearway.cli_view import html_page
     from clearway.converter import read_floorplan
     from clearway.diagnosis import check_lanes
-    from clearway.exporters import (render_dxf, render_geojson, render_graphml, render_report,
-                                    render_svg, render_tables, write_outputs)
+    from clearway.exporters import (render_dxf, render_geojson, render_graphml,
+                                    render_id_sheet, render_report, render_svg, render_tables,
+                                    write_outputs)
     from clearway.roadmap import build_roadmap, carry_ids_over, site_warnings
 
     def say(message: str) -> None:
@@ -277,6 +306,10 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
             files["roadmap.dxf"] = render_dxf(plan, roadmap)
         if with_csv:
             files.update(render_tables(roadmap))
+        if with_ids:
+            files["roadmap_ids.svg"] = render_id_sheet(
+                roadmap.graph, title=f"clearway ids \u2014 {plan.source}",
+                areas={**plan.regions, "free": plan.free_space})
     except ClearwayError as err:         # anything else is a bug: exit 3 (clearway.cli_errors)
         raise InputError(str(err)) from None
     except OSError as err:

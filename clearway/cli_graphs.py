@@ -31,6 +31,7 @@ from clearway.roadmap import ROUTE_METHODS, SAME_PLACE_TOLERANCE
                    "metres [default: 1 % of the route, at least 0.25 m].")
 def compare(old, new, as_json, svg_path, comfort_clearance, match_tolerance, route_tolerance):
     """Show what changed between the lane graphs OLD.graphml and NEW.graphml."""
+    from clearway.beside import areas_beside
     from clearway.exporters import render_compare_svg
     from clearway.roadmap import compare_graphs, summarize_changes
     old_graph, new_graph = read_graph(old), read_graph(new)
@@ -39,7 +40,9 @@ def compare(old, new, as_json, svg_path, comfort_clearance, match_tolerance, rou
                                  match_tolerance=match_tolerance,
                                  route_tolerance=route_tolerance)
         picture = (render_compare_svg(old_graph, new_graph, changes,
-                                      title=f"{_short_name(old)} -> {_short_name(new)}")
+                                      title=f"{_short_name(old)} -> {_short_name(new)}",
+                                      floor=areas_beside(new, new_graph),
+                                      floor_old=areas_beside(old, old_graph))
                    if svg_path else None)
     except ValueError as err:
         raise InputError(str(err)) from None
@@ -76,7 +79,9 @@ def _number(value: float) -> str:
 @click.option("--csv", "csv_path", metavar="FILE", help="With --matrix: write it as CSV.")
 @click.option("--wkt", "show_wkt", is_flag=True,
               help="Also print the route's geometry as a WKT LINESTRING (metres).")
-def route(graph_file, ends, as_json, avoid, method, matrix, csv_path, show_wkt):
+@click.option("--svg", "svg_path", metavar="FILE",
+              help="Draw the route on the plan, with every node and lane id and a grid.")
+def route(graph_file, ends, as_json, avoid, method, matrix, csv_path, show_wkt, svg_path):
     """Find the shortest route in GRAPH from FROM to TO (station labels or node ids).
 
     With --matrix, give the route cost in metres between every pair of stations;
@@ -85,6 +90,8 @@ def route(graph_file, ends, as_json, avoid, method, matrix, csv_path, show_wkt):
     """
     from networkx import NetworkXNoPath
 
+    from clearway.beside import areas_beside
+    from clearway.exporters import render_id_sheet
     from clearway.roadmap import distance_matrix, shortest_route
     from clearway.route_reasons import no_route_reason
 
@@ -92,6 +99,8 @@ def route(graph_file, ends, as_json, avoid, method, matrix, csv_path, show_wkt):
         raise InputError("give FROM and TO, or --matrix (not both)")
     if (csv_path or False) and not matrix:
         raise InputError("--csv needs --matrix")
+    if svg_path and matrix:
+        raise InputError("--svg draws one route; give FROM and TO, not --matrix")
     graph = read_graph(graph_file)
     if matrix:
         try:
@@ -126,6 +135,16 @@ def route(graph_file, ends, as_json, avoid, method, matrix, csv_path, show_wkt):
         click.echo(terminal_text(f"{graph_file}: {err}" + (f": {reason}" if reason else "")),
                    err=True)
         sys.exit(1)
+    names = [graph.nodes[node].get("label") or node for node in (found.nodes[0],
+                                                                  found.nodes[-1])]
+    if svg_path:
+        picture = render_id_sheet(graph, areas=areas_beside(graph_file, graph), route=found,
+                                  title=f"route {names[0]} -> {names[1]}, {found.length:.1f} m"
+                                        f" ({_short_name(graph_file)})")
+        try:
+            replace_file(svg_path, picture)
+        except OSError as err:
+            raise InputError(f"{svg_path}: cannot write ({err.strerror})") from None
     clearance = found.clearance_min if math.isfinite(found.clearance_min) else None
     if as_json:
         click.echo(json.dumps({"from": ends[0], "to": ends[1], "reachable": True,
@@ -134,9 +153,9 @@ def route(graph_file, ends, as_json, avoid, method, matrix, csv_path, show_wkt):
                                "cost": found.cost, "clearance_min": clearance,
                                "wkt": found.geometry.wkt}, indent=2))
         return
-    click.echo(f"{ends[0]} -> {ends[1]}: {found.length:.3f} m, clearance_min "
-               + (f"{clearance:.3f} m" if clearance is not None else "unknown")
-               + f", {len(found.nodes)} nodes")
+    click.echo(terminal_text(f"{names[0]} -> {names[1]}: {found.length:.3f} m, clearance_min "
+                             + (f"{clearance:.3f} m" if clearance is not None else "unknown")
+                             + f", {len(found.nodes)} nodes"))
     click.echo("nodes: " + " ".join(found.nodes))
     if show_wkt:
         click.echo(found.geometry.wkt)

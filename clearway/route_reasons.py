@@ -2,30 +2,15 @@
 
 The GraphML file holds the lanes only; the findings that explain a missing route (a station
 cut off by a door narrower than the robot needs, a station in an obstacle's clearance band)
-are in report.json. It is used only when it describes the same drawing (same SHA-256).
+are in report.json (see `clearway.beside`).
 """
 
 from __future__ import annotations
 
-import json
-import os
-
 import networkx as nx
 
+from clearway.beside import report_beside
 from clearway.roadmap import resolve_node, shortest_route
-
-
-def _report_beside(graph_file: str, graph: nx.MultiGraph) -> dict | None:
-    path = os.path.join(os.path.dirname(os.path.abspath(graph_file)), "report.json")
-    try:
-        with open(path, "rb") as file:
-            report = json.loads(file.read(64 * 2**20))
-    except (OSError, ValueError):
-        return None
-    if not isinstance(report, dict) or not graph.graph.get("sha256") or \
-            report.get("sha256") != graph.graph.get("sha256"):
-        return None
-    return report
 
 
 def no_route_reason(graph_file: str, graph: nx.MultiGraph, ends, avoid=()) -> str:
@@ -53,7 +38,7 @@ def no_route_reason(graph_file: str, graph: nx.MultiGraph, ends, avoid=()) -> st
         except (nx.NetworkXNoPath, ValueError):
             pass
     labels = [graph.nodes[node].get("label") or "" for node in nodes]
-    report = _report_beside(graph_file, graph)
+    report = report_beside(graph_file, graph)
     if report is None:
         return ""
     required = graph.graph.get("clearance")

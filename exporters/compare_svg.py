@@ -20,12 +20,21 @@ import networkx as nx
 import numpy as np
 import shapely
 
+from clearway.exporters.svg_parts import nice_length
 from clearway.exporters.text import SAFETY_CAUTION, xml_text
 from clearway.roadmap.compare import GraphChanges
 
 #: Okabe-Ito colours by role.
 COLOURS = {"unchanged": "#999999", "removed": "#D55E00", "added": "#0072B2",
-           "moved": "#000000", "pinch": "#F0E442", "station": "#009E73"}
+           "moved": "#000000", "pinch": "#F0E442", "station": "#009E73",
+           "obstacle": "#CC79A7"}
+#: Floor areas drawn under the lanes: role -> fill.
+FLOOR_FILLS = {"boundary": "#EFEFEF", "shared": "#FBF6CC", "keepout": "#F6DCCB",
+               "racking": "#C9DCEB", "wall": "#9A9A9A"}
+#: Obstacle roles whose changes are outlined.
+OBSTACLE_ROLES = ("wall", "racking", "keepout")
+#: A move shorter than this on the page gets no arrow, pixels.
+MIN_ARROW_PX = 3
 
 
 
@@ -36,7 +45,8 @@ def _text(value: str) -> str:
 
 
 def render_compare_svg(old: nx.MultiGraph, new: nx.MultiGraph, changes: GraphChanges, *,
-                       width: float = 1200.0, title: str = "") -> bytes:
+                       width: float = 1200.0, title: str = "", floor: dict | None = None,
+                       floor_old: dict | None = None) -> bytes:
     """Render both graphs and `changes` as one SVG document.
 
     Parameters
@@ -49,6 +59,10 @@ def render_compare_svg(old: nx.MultiGraph, new: nx.MultiGraph, changes: GraphCha
         Width of the drawing area, pixels (> 0).
     title : str
         Shown above the legend (escaped).
+    floor, floor_old : dict of str to shapely geometry, optional
+        Floor areas by role (wall, racking, keepout, shared, boundary; metres) of the new
+        and the old revision. The new floor is drawn under the lanes; obstacles that only
+        one revision has are outlined, so the change that caused the others shows.
 
     Returns
     -------
@@ -63,6 +77,10 @@ def render_compare_svg(old: nx.MultiGraph, new: nx.MultiGraph, changes: GraphCha
     for graph in (old, new):
         for *_, line in graph.edges(data="geometry"):
             xy.extend(shapely.get_coordinates(line).tolist())
+    for area in (floor or {}).values():
+        if area is not None and not area.is_empty:
+            xmin, ymin, xmax, ymax = area.bounds
+            xy.extend([(xmin, ymin), (xmax, ymax)])
     points = np.asarray(xy, dtype=float).reshape(-1, 2)
     low = points.min(axis=0) if len(points) else np.zeros(2)
     high = points.max(axis=0) if len(points) else np.ones(2)
@@ -70,7 +88,7 @@ def render_compare_svg(old: nx.MultiGraph, new: nx.MultiGraph, changes: GraphCha
     pad, label_room = 30.0, 150.0   # label_room: station labels right of the drawing
     scale = (width - 2 * pad - label_room) / span
     height = float((high[1] - low[1]) * scale + 2 * pad)
-    legend_height = 188.0
+    legend_height = 206.0
 
     def to_px(coords) -> str:
         coords = np.asarray(coords, dtype=float).reshape(-1, 2)
@@ -84,7 +102,7 @@ def render_compare_svg(old: nx.MultiGraph, new: nx.MultiGraph, changes: GraphCha
 
     removed = {change.id for change in changes.edges_removed}
     added = {change.id for change in changes.edges_added}
-    body = []
+    body = _floor(floor, floor_old, to_px)
 
     def lane(line, role: str, style: str, note: str = "") -> str:
         title = f"<title>{_text(note)}</title>" if note else ""
@@ -120,14 +138,14 @@ def render_compare_svg(old: nx.MultiGraph, new: nx.MultiGraph, changes: GraphCha
                     f'</title></circle>')
     for move in changes.nodes_moved:
         (x0, y0), (x1, y1) = node_px(old, move.old_id), node_px(new, move.new_id)
-        pixels = math.hypot(x1 - x0, y1 - y0)
-        if 0 < pixels < 16:   # a short move still gets a visible arrow (not to scale)
-            x1, y1 = x0 + (x1 - x0) * 16 / pixels, y0 + (y1 - y0) * 16 / pixels
         note = f"{move.new_id} moved {move.distance:.3f} m"
+        # to scale: a move too short to see is a ring alone, never a long arrow
+        arrow = (f'<line x1="{x0:.2f}" y1="{y0:.2f}" x2="{x1:.2f}" y2="{y1:.2f}"'
+                 f' stroke="{COLOURS["moved"]}" stroke-width="2" marker-end="url(#arrow)"/>'
+                 if math.hypot(x1 - x0, y1 - y0) >= MIN_ARROW_PX else "")
         body.append(f'<g class="node-moved"><circle cx="{x0:.2f}" cy="{y0:.2f}" r="4" fill="none"'
-                    f' stroke="{COLOURS["moved"]}" stroke-width="1.5"/><line x1="{x0:.2f}"'
-                    f' y1="{y0:.2f}" x2="{x1:.2f}" y2="{y1:.2f}" stroke="{COLOURS["moved"]}"'
-                    f' stroke-width="2" marker-end="url(#arrow)"/><title>{_text(note)}</title></g>')
+                    f' stroke="{COLOURS["moved"]}" stroke-width="1.5"/>{arrow}'
+                    f'<title>{_text(note)}</title></g>')
     for pinch in changes.new_pinch_points:
         x, y = to_px((pinch.x, pinch.y)).split(",")
         x, y = float(x), float(y)
@@ -136,7 +154,7 @@ def render_compare_svg(old: nx.MultiGraph, new: nx.MultiGraph, changes: GraphCha
                     f' fill="{COLOURS["pinch"]}" stroke="#000000" stroke-width="1"/>'
                     f'<text x="{x + 10:.2f}" y="{y + 14:.2f}" font-size="11">'
                     f'{pinch.clearance:.2f} m</text><title>{_text(note)}</title></g>')
-    head = _legend(changes, title, width)
+    head = _legend(changes, title, width) + _scale_bar(scale, width)
     total_height = height + legend_height
     return ("<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n"
             f'<svg xmlns="http://www.w3.org/2000/svg" version="1.1" width="{width:.0f}"'
@@ -159,8 +177,11 @@ def _legend(changes: GraphChanges, title: str, width: float) -> str:
          f"lane added ({len(changes.edges_added)}); dot = node added "
          f"({len(changes.nodes_added)})"),
         ('<line x1="0" y1="0" x2="28" y2="0" stroke="{moved}" stroke-width="2"'
-         ' marker-end="url(#arrow)"/>', f"node moved, ring = old place; short moves drawn "
-         f"longer ({len(changes.nodes_moved)})"),
+         ' marker-end="url(#arrow)"/>', f"node moved, ring = old place, arrow to scale "
+         f"(none when under {MIN_ARROW_PX} px) ({len(changes.nodes_moved)})"),
+        ('<rect x="3" y="-5" width="24" height="10" fill="none" stroke="{obstacle}"'
+         ' stroke-width="3"/>', "obstacle only in the new revision (dotted: only in the "
+         "old); walls and racking of the new revision in grey"),
         ('<path d="M15,-8 l8,8 l-8,8 l-8,-8 z" fill="{pinch}" stroke="#000000"/>',
          f"new pinch point, clearance now ({len(changes.new_pinch_points)})"),
         ('<rect x="11" y="-4" width="8" height="8" fill="{station}"/>',
@@ -182,3 +203,55 @@ def _lengths(changes: GraphChanges) -> str:
     changed = len(changes.routes_changed)
     return (f"lane length {changes.lane_length_before:.1f} m -> {changes.lane_length_after:.1f} m;"
             f" {changed} station route{'s' if changed != 1 else ''} changed")
+
+
+def _path(geometry, to_px) -> str:
+    parts = []
+    for polygon in shapely.get_parts(geometry):
+        if polygon.geom_type != "Polygon" or polygon.is_empty:
+            continue
+        for ring in (polygon.exterior, *polygon.interiors):
+            parts.append("M" + to_px(shapely.get_coordinates(ring)[:-1]).replace(" ", " L")
+                         + "Z")
+    return " ".join(parts)
+
+
+def _floor(floor, floor_old, to_px) -> list[str]:
+    """The new revision's floor, and the obstacles only one revision has, as SVG lines."""
+    if not floor:
+        return []
+    body = []
+    for role, fill in FLOOR_FILLS.items():
+        area = floor.get(role)
+        if area is not None and not area.is_empty:
+            body.append(f'<path class="floor-{role}" d="{_path(area, to_px)}" fill="{fill}"'
+                        ' fill-rule="evenodd" stroke="none"/>')
+    if floor_old:
+        def obstacles(areas):
+            found = [areas[r] for r in OBSTACLE_ROLES if areas.get(r) is not None]
+            return shapely.union_all(found) if found else shapely.Polygon()
+        now, before = obstacles(floor), obstacles(floor_old)
+        # a 2 cm opening removes slivers where the same wall was merely redrawn
+        for role, area, dash in (("obstacle-added", now.difference(before), ""),
+                                 ("obstacle-removed", before.difference(now),
+                                  ' stroke-dasharray="3 3"')):
+            area = area.buffer(-0.01).buffer(0.01)
+            if not area.is_empty:
+                body.append(f'<path class="{role}" d="{_path(area, to_px)}" fill="none"'
+                            f' stroke="{COLOURS["obstacle"]}" stroke-width="3"{dash}/>')
+    return body
+
+
+def _scale_bar(scale: float, width: float) -> str:
+    """A scale bar and the +Y arrow in the legend's top right corner (scale: px per m)."""
+    length = nice_length(150.0 / scale)
+    pixels = length * scale
+    x, y = width - 30 - pixels, 40.0
+    return (f'<g class="scale"><rect x="{x:.2f}" y="{y:.2f}" width="{pixels:.2f}" height="6"'
+            ' fill="#000000"/>'
+            f'<text x="{x:.2f}" y="{y + 20:.2f}" font-size="12">0</text>'
+            f'<text x="{x + pixels:.2f}" y="{y + 20:.2f}" font-size="12"'
+            f' text-anchor="end">{length:g} m</text>'
+            f'<path d="M{x + pixels / 2:.2f},{y + 34:.2f} l8,22 l-8,-6 l-8,6 z" fill="#000000"/>'
+            f'<text x="{x + pixels / 2:.2f}" y="{y + 72:.2f}" font-size="11"'
+            ' text-anchor="middle">+Y (drawing north)</text></g>')

@@ -2,7 +2,8 @@
 
 Features, in drawing order (areas under lanes under points):
 
-- ``element: "area"`` MultiPolygons, ``role`` one of boundary, wall, racking, keepout,
+- ``element: "area"`` MultiPolygons, ``role`` one of boundary (the floor outline the
+  boundary lines enclose), wall, racking, keepout,
   shared (zones shared with people), free (floor not covered by obstacles), drivable
   (where the robot's centre may be: free minus the inflated obstacles);
 - ``element: "edge"`` LineStrings from ``source`` to ``target`` with ``id``, ``length``,
@@ -67,8 +68,31 @@ def _feature(geometry: dict, properties: dict) -> dict:
     return {"type": "Feature", "geometry": geometry, "properties": properties}
 
 
+def floor_outline(band) -> MultiPolygon:
+    """Return the area a boundary band (the boundary lines grown into a thin ribbon) encloses.
+
+    The ribbon runs centred on the drawn lines; filling its holes and shrinking the result by
+    half the ribbon's width (2 x area / perimeter of a thin ribbon) gives the outline as
+    drawn, mitred at the corners.
+
+    Examples
+    --------
+    >>> ribbon = shapely.box(-0.025, -0.025, 10.025, 8.025).difference(
+    ...     shapely.box(0.025, 0.025, 9.975, 7.975))
+    >>> round(floor_outline(ribbon).area, 6)
+    80.0
+    """
+    polygons = [Polygon(part.exterior) for part in shapely.get_parts(band)
+                if isinstance(part, Polygon) and not part.is_empty]
+    if not polygons:
+        return MultiPolygon()
+    half = float(band.area / band.length) if band.length > 0 else 0.0
+    return _as_multipolygon(shapely.union_all(polygons).buffer(-half, join_style="mitre"))
+
+
 def _area_features(plan, roadmap, project) -> list[dict]:
     sources = dict(plan.regions) | {"free": plan.free_space, "drivable": roadmap.drivable}
+    sources["boundary"] = floor_outline(_as_multipolygon(plan.regions.get("boundary")))
     features = []
     for role in AREA_ROLES:
         area = _as_multipolygon(sources.get(role))

@@ -7,6 +7,7 @@ __getattr__, __dir__, __all__ = lazy_exports(__name__, {
     "BodyShortfall": "model",
     "ROBOT_KINDS": "choices",
     "Findings": "model",
+    "MAX_ROBOT_SIZE": "fit",
     "MedialAxis": "gvd",
     "NODE_KINDS": "model",
     "NarrowPassage": "model",

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+from decimal import Decimal
 from dataclasses import dataclass, field
 
 import networkx as nx
@@ -19,6 +20,11 @@ def _check_length(name: str, value: float, *, zero: bool = False) -> float:
     if not (math.isfinite(value) and (value >= 0 if zero else value > 0)):
         raise ValueError(f"robot {name} must be {'>=' if zero else '>'} 0 m, got {value}")
     return float(value)
+
+
+def _decimal_sum(*values: float) -> float:
+    """Sum floats as the decimals they print as (repr), rounded once to the nearest float."""
+    return float(sum(Decimal(repr(float(value))) for value in values))
 
 
 @dataclass(frozen=True)
@@ -95,10 +101,14 @@ class Robot:
     @property
     def clearance(self) -> float:
         """Required lane clearance c, metres: radius + margin, or for a rectangle heading
-        along the lane half its width + the rotation centre's sideways offset + margin."""
+        along the lane half its width + the rotation centre's sideways offset + margin.
+
+        Added in decimal, as a person adds the values typed: 0.35 + 0.1 is 0.45 (binary
+        addition gives 0.44999999999999996, one unit in the last place lower).
+        """
         if self.length is None:
-            return self.radius + self.margin
-        return self.width / 2 + abs(self.centre[1]) + self.margin
+            return _decimal_sum(self.radius, self.margin)
+        return _decimal_sum(self.width / 2, abs(self.centre[1]), self.margin)
 
     @property
     def half_width(self) -> float:
