@@ -205,8 +205,8 @@ def _rooms(plan, roadmap, origin) -> tuple[list, list]:
     ``converter.floorplan.Opening``).
     """
     rooms, openings = [], []
-    for source in (roadmap, plan):
-        for room in getattr(source, "rooms", None) or ():
+    for source in (roadmap, plan):                  # rooms and openings each from the first
+        for room in (getattr(source, "rooms", None) or ()) if not rooms else ():
             geometry = getattr(room, "geometry", None) or getattr(room, "polygon", None)
             names = getattr(room, "names", None)
             if names is None:
@@ -218,7 +218,7 @@ def _rooms(plan, roadmap, origin) -> tuple[list, list]:
                           else float(geometry.area),
                           "reachable": getattr(room, "reachable", None),
                           "polygons": _polygons(geometry, origin)})
-        for opening in getattr(source, "openings", None) or ():
+        for opening in (getattr(source, "openings", None) or ()) if not openings else ():
             ends = [getattr(opening, "start", None), getattr(opening, "end", None)]
             openings.append({"kind": json_text(getattr(opening, "kind", "")),
                              "width": finite_or_none(getattr(opening, "width", None)),
@@ -226,7 +226,7 @@ def _rooms(plan, roadmap, origin) -> tuple[list, list]:
                              "passable": bool(getattr(opening, "passable", True)),
                              "xy": _flat([(opening.x, opening.y)], origin),
                              "line": _flat(ends, origin) if None not in ends else None})
-        if rooms or openings:
+        if rooms and openings:
             break
     return rooms, openings
 

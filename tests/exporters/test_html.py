@@ -197,3 +197,13 @@ def test_allowed_turns_reach_the_page_for_the_route_search(plan, roadmap):
     rows = {row[0]: row for row in _data(render_html(plan, changed, date="undated"))["nodes"]}
     assert rows["n1"][6] == "e1:e2 e3:e3"
     assert rows["n2"][6] is None                          # no attribute: every turn allowed
+
+
+def test_rooms_of_the_roadmap_and_openings_of_the_plan_both_show(plan, roadmap):
+    from types import SimpleNamespace
+    both = plan_with_rooms_and_openings(plan)
+    plan_openings = SimpleNamespace(**{**plan.__dict__, "openings": both.openings})
+    roadmap_rooms = SimpleNamespace(**{**roadmap.__dict__, "rooms": both.rooms})
+    data = _data(render_html(plan_openings, roadmap_rooms, date="undated"))
+    # rooms live on the Roadmap, openings on the FloorPlan: one must not hide the other
+    assert len(data["rooms"]) == 2 and len(data["openings"]) == 2
