@@ -13,7 +13,6 @@ import re
 from dataclasses import dataclass
 
 import numpy as np
-import shapely
 
 from clearway.converter.openings import arc_radius
 from clearway.converter.units import UNITS_TO_M

@@ -21,8 +21,8 @@ from clearway.converter.inserts import BLOCK_OPENING_PREFIX
 from clearway.converter.openings import arc_radius
 from clearway.converter.parts import Parts
 from clearway.converter.read import read_drawing
-from clearway.converter.roles import (DEFAULT_IGNORED_PATTERNS, Roles, matches_any,
-                                      name_candidates, opening_kind)
+from clearway.converter.roles import (DEFAULT_IGNORED_PATTERNS, matches_any, name_candidates,
+                                      opening_kind)
 from clearway.converter.units import INSUNITS_CODES, UNITS_TO_M, decide_units
 from clearway.converter.views import VIEW_GAP, find_views
 
