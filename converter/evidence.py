@@ -224,12 +224,12 @@ def decide_from_content(header_unit, override, evidence, *, source):
     if override is not None:
         return override, "option", None, lines, ()
     best = next(iter(scores), None)
+    read = "; ".join(describe(item, best) for item in evidence) if best else ""
     if header_unit is not None:
         if best and best != header_unit and substantive and \
                 scores[best] - scores.get(header_unit, 0.0) >= 1.5 and \
                 support[best] - support.get(header_unit, 0.0) >= 1.0:
             said = "; ".join(describe(item, header_unit) for item in evidence)
-            read = "; ".join(describe(item, best) for item in evidence)
             warning = (f"{source}: header says {header_unit}: {said}; read in {best}: {read}; "
                        f"pass --units {header_unit} if the header is right")
             note = (f"Read in {best} from the drawing's content (the header says {header_unit}, "
@@ -237,7 +237,6 @@ def decide_from_content(header_unit, override, evidence, *, source):
             return best, "content", note, lines, (warning,)
         return header_unit, "header", None, lines, ()
     if best and substantive and scores[best] >= 1.0 and support[best] >= 1.0:
-        read = "; ".join(describe(item, best) for item in evidence)
         note = (f"Read in {best} from the drawing's content (the header gives no unit): {read}; "
                 f"pass --units to say otherwise.")
         warning = (f"{source}: drawing has no units in its header; read in {best} from its "
