@@ -282,7 +282,8 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
             f"{sum(len(p.geoms) for p in plan.obstacles.values())} obstacle polygons, "
             f"{len(plan.stations)} stations")
         roadmap = build_roadmap(
-            plan.obstacles, plan.free_space, [(s.label, s.x, s.y) for s in plan.stations],
+            plan.obstacles, plan.free_space,
+            [(s.label, s.x, s.y, s.kind, s.heading) for s in plan.stations],
             robot=robot, shared_zones=plan.regions["shared"], comfort_clearance=comfort,
             personnel_clearance=_metres("[checks] personnel_clearance",
                                         checks.get("personnel_clearance", 0.5), allow_zero=True),

@@ -12,7 +12,7 @@ from clearway.errors import ConfigError, DrawingError
 from clearway.limits import Limits
 from clearway.converter.floorplan import OBSTACLE_ROLES, FloorPlan, Leak, PlanText, Station
 from clearway.converter.parts import Parts
-from clearway.converter.inserts import BLOCK_OPENING_PREFIX
+from clearway.converter.inserts import BLOCK_OPENING_PREFIX, KIND_TAGS
 from clearway.converter.interior import building_interior
 from clearway.converter.polygons import as_multipolygon, boundary_regions, filled_regions, free_space
 from clearway.converter.mapping import guess_wall_layer, keep_one_view, map_drawing
@@ -319,8 +319,14 @@ def _check_size(content, by_role, factor, unit, limits):
 def find_stations(content, layers, factor, label_radius, source):
     """Return the stations on `layers`, labelled, sorted by label (metres)."""
     layers = set(layers)
-    points = [(x * factor, y * factor, label) for layer, x, y, label, dxftype in content.points
-              if layer in layers and dxftype in ("POINT", "CIRCLE", "INSERT")]
+    # the block behind each INSERT station, by its layer and insertion point as read
+    blocks = {(layer, x, y): (name, heading, tags)
+              for layer, name, x, y, heading, tags in content.inserts if layer in layers}
+    found = [(x * factor, y * factor, label, blocks.get((layer, x, y)) if dxftype == "INSERT"
+              else None) for layer, x, y, label, dxftype in content.points
+             if layer in layers and dxftype in ("POINT", "CIRCLE", "INSERT")]
+    points = [item[:3] for item in found]
+    placed = [item[3] for item in found]
     texts = [(x * factor, y * factor, text) for layer, x, y, text, _ in content.texts
              if layer in layers and text]
     labels = [label for _, _, label in points]
@@ -350,15 +356,59 @@ def find_stations(content, layers, factor, label_radius, source):
             labels[index] = f"STATION-{number:03d}"
     seen = {}
     stations = []
-    for (x, y, _), label in zip(points, labels):
+    for (x, y, _), label, block in zip(points, labels, placed):
         x, y = round(x / 1e-4) * 1e-4, round(y / 1e-4) * 1e-4
         if label in seen:
             (x0, y0) = seen[label]
             raise DrawingError(f"{source}: two stations are labelled {label!r}, at ({x0:.2f}, "
                                f"{y0:.2f}) m and ({x:.2f}, {y:.2f}) m; give each a unique label")
         seen[label] = (x, y)
-        stations.append(Station(label, float(x), float(y)))
+        kind, heading = station_kind(block, label)
+        stations.append(Station(label, float(x), float(y), kind, heading))
     return tuple(sorted(stations, key=lambda station: station.label))
+
+
+#: Words in a block name or label that say what a station is, and the kind each names.
+STATION_WORDS = (("charger", ("CHARG", "CHG")), ("dock", ("DOCK",)), ("pick", ("PICK",)))
+
+
+def station_kind(block, label: str) -> tuple[str, float | None]:
+    """Return (kind, heading) of a station from its block and label.
+
+    Parameters
+    ----------
+    block : tuple or None
+        (block name, heading in degrees, {tag: text}) of an INSERT; None for a POINT or
+        CIRCLE.
+    label : str
+
+    Returns
+    -------
+    kind : str
+        The block's TYPE (else KIND) attribute as written; else "charger", "dock" or
+        "pick" when the block name, then the label, holds such a word; else the block
+        name ("" for an anonymous block or a point).
+    heading : float or None
+        Degrees counter-clockwise from +X in [0, 360), rounded to 1e-9; None for a point.
+
+    Examples
+    --------
+    >>> station_kind(("CHARGER_PAD", 90.0, {}), "C1")
+    ('charger', 90.0)
+    >>> station_kind(("BAY", 315.0, {"TYPE": "tote drop"}), "B1")
+    ('tote drop', 315.0)
+    >>> station_kind(None, "PICK-7")
+    ('pick', None)
+    """
+    name, heading, tags = block if block is not None else ("", None, {})
+    name = "" if name.startswith("*") else name  # anonymous blocks name nothing
+    written = next((tags[tag] for tag in KIND_TAGS if tags.get(tag)), "")
+    said = [kind for text in (name.upper(), label.upper()) for kind, words in STATION_WORDS
+            if any(word in text for word in words)]
+    kind = written or (said[0] if said else name)
+    if heading is not None:
+        heading = round(float(heading), 9) % 360.0
+    return kind, heading
 
 
 def _opening_linework(content, layers, scaled_layers):

@@ -19,11 +19,20 @@ OBSTACLE_ROLES = ("wall", "racking", "keepout", "boundary")
 
 @dataclass(frozen=True)
 class Station:
-    """A dock, charger or pick station: its label and drawn position, metres."""
+    """A dock, charger or pick station: its label and drawn position, metres.
+
+    kind : what the station is: a TYPE (or KIND) attribute of its block as written, else
+        "dock", "charger" or "pick" when the block name or the label says so, else the
+        block name; "" for a station drawn as a point or circle without such a word.
+    heading : the direction the station's block faces, degrees counter-clockwise from the
+        drawing's +X axis in [0, 360) (the block's rotation); None when not a block.
+    """
 
     label: str
     x: float
     y: float
+    kind: str = ""
+    heading: float | None = None
 
 
 @dataclass(frozen=True)

@@ -20,6 +20,8 @@ from clearway.converter.entities import TEXTS, flatten_entity, lenient
 from clearway.converter.parts import Parts
 
 _LABEL_TAGS = ("LABEL", "NAME", "ID", "STATION", "TAG")
+#: Attribute tags that say what kind of station a block is, never its label.
+KIND_TAGS = ("TYPE", "KIND")
 #: Block contents of INSERTs whose block name marks an opening go to these pseudo-layers
 #: (no DXF layer name can hold a NUL), one per kind of opening block.
 BLOCK_OPENING_PREFIX = "\x00"
@@ -86,7 +88,8 @@ def _plan_matrix(insert):
 
 
 def attribute_label(insert, found=None):
-    """Return an INSERT's label attribute (LABEL, NAME, ID, ... or the first non-empty one).
+    """Return an INSERT's label attribute (LABEL, NAME, ID, ..., else the first non-empty
+    one that is not a KIND_TAGS attribute).
 
     `found` is the INSERT's `attributes` when the caller has them already.
     """
@@ -94,7 +97,8 @@ def attribute_label(insert, found=None):
     for tag in _LABEL_TAGS:
         if values.get(tag):
             return values[tag]
-    return next((value for value in values.values() if value), None)
+    return next((value for tag, value in values.items() if value and tag not in KIND_TAGS),
+                None)
 
 
 def attributes(insert):

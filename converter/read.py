@@ -36,7 +36,8 @@ class DrawingContent:
     points : (layer, x, y, label or None, dxftype) for POINT, CIRCLE centres and INSERTs
     texts : (layer, x, y, text, height) for TEXT and MTEXT
     attribute_texts : the same for the ATTRIBs of INSERTs (room tags)
-    inserts : (layer, block name, x, y, rotation degrees, attributes {tag: text})
+    inserts : (layer, block name, x, y, heading, attributes {tag: text}) per placed copy;
+        heading is where the block's +X axis points, degrees counter-clockwise from +X
     dimensions : (layer, measured length, displayed text) of linear DIMENSIONs
     header : a few header values that speak about units ($MEASUREMENT, $LUNITS, $DIMLUNIT)
     repairs : ezdxf's notices for each repair its recovery made
@@ -173,9 +174,11 @@ def _read_entity(entity, dxftype, layer, tolerance, content, chunks, inserts, li
         inserts[(name, layer)].append(matrices)
         for x, y in matrices[:, 2, :].tolist():
             content.points.append((layer, x, y, label, dxftype))
-        x, y = matrices[0, 2, :].tolist()
-        content.inserts.append((layer, name, x, y, float(entity.dxf.get("rotation", 0.0)),
-                                {tag: text for tag, text, _ in found}))
+        # the way the block's +X axis points in the plan (rotation, mirroring, extrusion)
+        headings = np.degrees(np.arctan2(matrices[:, 0, 1], matrices[:, 0, 0])) % 360.0
+        tags = {tag: text for tag, text, _ in found}
+        for (x, y), heading in zip(matrices[:, 2, :].tolist(), headings.tolist()):
+            content.inserts.append((layer, name, x, y, heading, tags))
         for _, text, attrib in found:
             if text:
                 with contextlib.suppress(*DAMAGE):

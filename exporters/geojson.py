@@ -9,8 +9,9 @@ Features, in drawing order (areas under lanes under points):
 - ``element: "edge"`` LineStrings from ``source`` to ``target`` with ``id``, ``length``,
   ``weight``, ``clearance_min`` (metres), as in the GraphML;
 - ``element: "node"`` Points with ``id``, ``kind``, ``label``, ``x``, ``y``, ``clearance``;
-- ``element: "station"`` Points at each station's drawn position with ``label``, ``node``,
-  ``reachable``, ``reason`` and ``room``;
+- ``element: "station"`` Points at each station's drawn position with ``label``, ``kind``,
+  ``heading`` (degrees counter-clockwise from +X, or null), ``node``, ``reachable``,
+  ``reason`` and ``room``;
 - ``element: "room"`` Polygons with ``id``, ``names`` (texts inside, largest first),
   ``area`` (m^2), ``reachable``, ``node`` (the room node), ``openings`` (ids of the
   openings on its outline) and, for a room the robot cannot enter, ``reason``,
@@ -129,6 +130,7 @@ def _station_features(plan, roadmap, project) -> list[dict]:
         features.append(_feature(_geometry(shapely.Point(station.x, station.y), project), {
             "element": "station", "label": json_text(station.label),
             "x": float(station.x), "y": float(station.y),
+            "kind": json_text(station.kind), "heading": station.heading,
             "node": json_text(result.node) if result and result.node is not None else None,
             "reachable": bool(result.reachable) if result else False,
             "reason": json_text(result.reason) if result else "not linked to the roadmap",

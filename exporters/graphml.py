@@ -50,8 +50,11 @@ KEYS = (
     ("edge", "length", "double"),
     ("edge", "weight", "double"),
 )
-#: Keys written only when the graph carries them: a rectangular or car robot's body checks.
+#: Keys written only when the graph carries them: what a station is and which way it faces,
+#: a rectangular or car robot's body checks.
 BODY_KEYS = (
+    ("node", "heading", "double"),
+    ("node", "station_kind", "string"),
     ("node", "reverse_only", "boolean"),
     ("node", "turns", "string"),
     ("edge", "clearance_body", "double"),

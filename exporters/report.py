@@ -64,10 +64,13 @@ def summarize(plan, roadmap) -> dict:
         JSON-ready; see the README section "report.json" for every key.
     """
     graph, findings = roadmap.graph, roadmap.findings
+    drawn = {station.label: station for station in plan.stations}
     kinds = [data.get("kind") for _, data in graph.nodes(data=True)]
     lane_length = sum(float(data["length"]) for _, _, data in graph.edges(data=True))
     stations = [{
         "label": json_text(s.label), "x": float(s.x), "y": float(s.y),
+        "kind": json_text(drawn[s.label].kind) if s.label in drawn else "",
+        "heading": drawn[s.label].heading if s.label in drawn else None,
         "node": None if s.node is None else json_text(s.node),
         "component": None if s.component is None else int(s.component), "reachable": bool(s.reachable), "reason": json_text(s.reason),
         "room": json_text(s.room),

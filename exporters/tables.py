@@ -2,7 +2,8 @@
 
 RFC 4180 CSV (comma separated, CRLF line ends, fields with commas, quotes or line breaks
 quoted), UTF-8 with no byte-order mark, one header row. Numbers are metres in the drawing
-frame, written exactly (Python's shortest round-trip form); an unknown clearance is empty.
+frame, written exactly (Python's shortest round-trip form); an unknown clearance, and the
+heading of a node that is no block station, is empty.
 A text cell that a spreadsheet would run as a formula (it starts with ``=``, ``+``, ``-``,
 ``@``, a tab or a carriage return) gets a leading apostrophe, as OWASP advises against
 CSV injection; labels come from drawings other people made.
@@ -17,7 +18,7 @@ import math
 from clearway.exporters.graphml import oriented_edges
 from clearway.exporters.text import exact_float, natural_key
 
-NODE_COLUMNS = ("id", "kind", "label", "x", "y", "clearance")
+NODE_COLUMNS = ("id", "kind", "label", "x", "y", "clearance", "station_kind", "heading")
 LANE_COLUMNS = ("id", "source", "target", "length", "weight", "clearance_min")
 _FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
 
@@ -49,7 +50,8 @@ def render_tables(roadmap) -> dict[str, bytes]:
     graph = roadmap.graph
     nodes = [(_text(node), _text(attrs.get("kind", "")), _text(attrs.get("label", "")),
               _number(attrs["x"]), _number(attrs["y"]),
-              _number(attrs.get("clearance", math.nan)))
+              _number(attrs.get("clearance", math.nan)), _text(attrs.get("station_kind", "")),
+              _number(attrs.get("heading", math.nan)))
              for node, attrs in ((n, graph.nodes[n]) for n in sorted(graph, key=natural_key))]
     lanes = [(_text(edge_id), _text(source), _text(target), _number(attrs["length"]),
               _number(attrs["weight"]), _number(attrs.get("clearance_min", math.nan)))

@@ -108,7 +108,9 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
         wall, racking, keepout, boundary; used for the inflated obstacles.
     free_space : Polygon or MultiPolygon, metres
         The navigable floor, one polygon per enclosed component.
-    stations : sequence of (label, x, y), metres
+    stations : sequence of (label, x, y) or (label, x, y, kind, heading), metres
+        A station's kind (str) and heading (degrees counter-clockwise from +X, or None)
+        go onto its node as ``station_kind`` and ``heading``.
     robot : Robot
         Required clearance c = robot.clearance (radius + margin).
     shared_zones : Polygon or MultiPolygon, optional
@@ -235,6 +237,11 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
                                                    refine_below=comfort)
     graph.graph.update(units="m", robot_radius=float(robot.radius),
                        margin=float(robot.margin), clearance=c)
+    for index, node in station_nodes.items():
+        kind, heading = (*stations[index][3:5], "", None)[:2]
+        graph.nodes[node]["station_kind"] = str(kind)
+        if heading is not None:
+            graph.nodes[node]["heading"] = float(heading)
     body = []
     if robot.has_body:
         body = [BodyShortfall("lane", s.x + offset[0], s.y + offset[1], robot.margin, s.gap,

@@ -51,7 +51,8 @@ def test_report_has_every_documented_key_with_analytic_values(plan, roadmap):
 def test_stations_say_where_they_joined_or_why_not(plan, roadmap):
     stations = {s["label"]: s for s in _report(plan, roadmap)["stations"]}
     assert stations["S1"] == {"label": "S1", "x": 1.0, "y": 5.0, "node": "n3", "component": 0,
-                              "reachable": True, "reason": "", "room": ""}
+                              "reachable": True, "reason": "", "room": "",
+                              "kind": "", "heading": None}   # a point: no block, no kind
     hostile = stations[HOSTILE]                      # label intact, control char and all
     assert hostile["reachable"] is False and hostile["node"] is None
     assert hostile["reason"] == "inside the clearance band of keep-out <KO>"

@@ -1,0 +1,111 @@
+"""Issue 15: a station's kind and heading reach report.json, GeoJSON, GraphML and nodes.csv,
+read back by readers of their own (json, GDAL through pyogrio, igraph, networkx, csv)."""
+
+from __future__ import annotations
+
+import csv
+import json
+
+import igraph
+import networkx as nx
+import pyogrio
+import pytest
+from click.testing import CliRunner
+
+from clearway.cli import main
+from tests.conftest import new_drawing, save, walled_room
+
+STATIONS = "A-EQPM-STATION"
+
+# as drawn below: the charger block's name says CHARGER, turned 90 degrees; the bay block's
+# TYPE attribute says "tote drop", turned -45 degrees, which is 315 (DXF group 50: degrees
+# counter-clockwise); the pick station is a POINT with a TEXT: no block, so no heading
+EXPECTED = {"C1": ("charger", 90.0), "B1": ("tote drop", 315.0), "PICK-7": ("pick", None)}
+
+
+def build(folder, *extra):
+    result = CliRunner().invoke(main, ["build", str(folder / "plan.dxf"), "-o",
+                                       str(folder / "out"), "-q", "--no-html", "--csv", *extra])
+    assert result.exit_code == 0, result.output
+    return folder / "out"
+
+
+@pytest.fixture(scope="module")
+def built(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("stations")
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 20, 10)
+    for name in ("CHARGER_PAD", "BAY"):
+        block = doc.blocks.new(name)
+        block.add_circle((0, 0), 0.3)
+        block.add_line((0, 0), (0.3, 0))          # the way the station faces: +X of the block
+        block.add_attdef("LABEL", (0.4, 0.4), dxfattribs={"height": 0.2})
+        block.add_attdef("TYPE", (0.4, 0.0), dxfattribs={"height": 0.2})
+    msp.add_blockref("CHARGER_PAD", (4, 5), dxfattribs={
+        "layer": STATIONS, "rotation": 90}).add_auto_attribs({"LABEL": "C1"})
+    msp.add_blockref("BAY", (10, 5), dxfattribs={
+        "layer": STATIONS, "rotation": -45}).add_auto_attribs({"LABEL": "B1", "TYPE": "tote drop"})
+    msp.add_point((16, 5), dxfattribs={"layer": STATIONS})
+    msp.add_text("PICK-7", height=0.2, dxfattribs={"layer": STATIONS, "insert": (16.2, 5.2)})
+    save(doc, folder)
+    return build(folder)
+
+
+def test_report_carries_kind_and_heading(built):
+    report = json.loads((built / "report.json").read_text(encoding="utf-8"))
+    assert {s["label"]: (s["kind"], s["heading"]) for s in report["stations"]} == EXPECTED
+
+
+def test_gdal_reads_kind_and_heading_from_the_geojson(built):
+    meta, _, _, fields = pyogrio.raw.read(built / "roadmap.geojson")
+    columns = dict(zip(meta["fields"].tolist(), fields))
+    found = {label: (kind, None if heading is None or heading != heading else float(heading))
+             for element, label, kind, heading in zip(columns["element"], columns["label"],
+                                                      columns["kind"], columns["heading"])
+             if element == "station"}
+    assert found == EXPECTED
+
+
+def test_graphml_carries_kind_and_heading_for_two_readers(built):
+    path = built / "roadmap.graphml"
+    graph = nx.read_graphml(path, force_multigraph=True)
+    found = {attrs["label"]: (attrs.get("station_kind"), attrs.get("heading"))
+             for _, attrs in graph.nodes(data=True) if attrs.get("kind") == "station"}
+    assert found == EXPECTED
+    other = igraph.Graph.Read_GraphML(str(path))
+    assert {"station_kind", "heading"} <= set(other.vs.attributes())
+    # igraph gives a node without a value NaN for a double and "" for a string
+    found = {v["label"]: (v["station_kind"], None if v["heading"] != v["heading"] else v["heading"])
+             for v in other.vs if v["kind"] == "station"}
+    assert found == EXPECTED
+    assert all(v["station_kind"] == "" for v in other.vs if v["kind"] != "station")
+
+
+def test_nodes_csv_carries_kind_and_heading(built):
+    with open(built / "nodes.csv", newline="", encoding="utf-8") as file:
+        rows = list(csv.DictReader(file))
+    found = {row["label"]: (row["station_kind"], float(row["heading"]) if row["heading"] else None)
+             for row in rows if row["kind"] == "station"}
+    assert found == EXPECTED
+
+
+def test_ids_carried_over_keep_kind_and_heading(built, tmp_path):
+    folder = built.parent
+    again = CliRunner().invoke(main, ["build", str(folder / "plan.dxf"), "-o", str(tmp_path),
+                                      "-q", "--no-html", "--previous",
+                                      str(built / "roadmap.graphml")])
+    assert again.exit_code == 0, again.output
+    graph = nx.read_graphml(tmp_path / "roadmap.graphml", force_multigraph=True)
+    found = {attrs["label"]: (attrs.get("station_kind"), attrs.get("heading"))
+             for _, attrs in graph.nodes(data=True) if attrs.get("kind") == "station"}
+    assert found == EXPECTED
+
+
+def test_a_plan_without_block_stations_declares_no_heading(tmp_path):
+    doc = new_drawing(6)
+    walled_room(doc.modelspace(), 0, 0, 12, 8)
+    save(doc, tmp_path)
+    out = build(tmp_path)
+    text = (out / "roadmap.graphml").read_text(encoding="utf-8")
+    assert 'attr.name="heading"' not in text and 'attr.name="station_kind"' not in text
