@@ -165,9 +165,31 @@ def _summary(plan, roadmap, outdir: str, names=BUILD_FILES) -> list[str]:
          "lanes short of personnel clearance"),
         (len(plan.warnings) + len(findings.warnings), "warning")))
     lines.append(f"problems: {problems}")
+    lines += _left_out_lines(plan.left_out)
     lines.append(f"files in {outdir}: {', '.join(names)}")
     lines.append("planning aid: verify on site under ISO 3691-4, the robot maker's safety "
                  "manual and local codes, by qualified people")
+    return lines
+
+
+def _left_out_lines(left_out, shown: int = 8) -> list[str]:
+    """The layers no role takes, as summary lines: those without a role, then those the
+    defaults leave out on purpose; each list cut at `shown` names (report.json has all)."""
+    def names(layers):
+        text = "; ".join(f"{layer.name} ({layer.holds}"
+                         + (f", default role {layer.default_role} replaced by "
+                            f"{layer.replaced_by}" if layer.replaced_by else "") + ")"
+                         for layer in layers[:shown])
+        return text + (f"; and {len(layers) - shown} more (report.json lists them)"
+                       if len(layers) > shown else "")
+    lines = []
+    without = [layer for layer in left_out if not layer.ignored]
+    ignored = [layer for layer in left_out if layer.ignored]
+    if without:
+        lines.append(f"left out, no role: {names(without)}")
+    if ignored:
+        lines.append(f"left out on purpose (overhead, hidden, demolished or annotation): "
+                     f"{names(ignored)}")
     return lines
 
 

@@ -268,7 +268,7 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
                      extents=tuple(float(value) for value in everything),
                      drawing_date=content.drawing_date, repairs=tuple(content.repairs),
                      openings=interior.openings, texts=texts, unit_source=mapping.unit_source,
-                     unit_evidence=tuple(mapping.unit_evidence))
+                     unit_evidence=tuple(mapping.unit_evidence), left_out=mapping.left_out)
 
 
 def _check_mapped(content, roles, by_role, source):

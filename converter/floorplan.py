@@ -35,6 +35,58 @@ class Station:
     heading: float | None = None
 
 
+#: Words for DXF entity types in messages ("3 circles"), plural given where "s" is wrong.
+_ENTITY_WORDS = {"LWPOLYLINE": "polyline", "POLYLINE": "polyline", "INSERT": "block",
+                 "MTEXT": "text", "3DFACE": "face"}
+_PLURALS = {"hatch": "hatches", "text": "texts", "mesh": "meshes"}
+
+
+@dataclass(frozen=True)
+class LeftOutLayer:
+    """A visible layer holding linework or points that no role takes: not in the plan.
+
+    Attributes
+    ----------
+    name : str
+    entities : tuple of (str, int)
+        Its model-space entities, (DXF type, count), by type; empty when its linework
+        comes only from inside blocks placed on other layers.
+    default_role : str
+        The role a default pattern names it for ("" when none does).
+    ignored : bool
+        Its name says overhead, hidden, demolished or annotation linework, which the
+        defaults leave out on purpose (``roles.DEFAULT_IGNORED_PATTERNS``), even when a
+        role's word is in it too.
+    replaced_by : str
+        The option whose patterns replaced its default role (``"--walls"``), else "".
+    """
+
+    name: str
+    entities: tuple[tuple[str, int], ...]
+    default_role: str = ""
+    ignored: bool = False
+    replaced_by: str = ""
+
+    @property
+    def holds(self) -> str:
+        """What the layer holds in words, "3 circles and 1 polyline".
+
+        Examples
+        --------
+        >>> LeftOutLayer("A-COLS", (("CIRCLE", 3), ("LWPOLYLINE", 1))).holds
+        '3 circles and 1 polyline'
+        """
+        counts: dict[str, int] = {}
+        for dxftype, count in self.entities:
+            word = _ENTITY_WORDS.get(dxftype, dxftype.lower())
+            counts[word] = counts.get(word, 0) + count
+        words = [f"{count} {word if count == 1 else _PLURALS.get(word, word + 's')}"
+                 for word, count in sorted(counts.items(), key=lambda item: (-item[1], item[0]))]
+        if not words:
+            return "linework inside blocks"
+        return words[0] if len(words) == 1 else ", ".join(words[:-1]) + " and " + words[-1]
+
+
 @dataclass(frozen=True)
 class Leak:
     """A place where free space escapes to the outside of the drawing.
@@ -147,6 +199,8 @@ class FloorPlan:
         Where the unit came from: "option", "header", "content" or "assumed".
     unit_evidence : tuple of str
         What the drawing's content says about its unit, one finding per line.
+    left_out : tuple of LeftOutLayer
+        Visible layers with linework or points that no role takes, by name.
     """
 
     source: str
@@ -166,6 +220,7 @@ class FloorPlan:
     repairs: tuple[str, ...] = ()
     unit_source: str = "header"
     unit_evidence: tuple[str, ...] = ()
+    left_out: tuple[LeftOutLayer, ...] = ()
 
     def __post_init__(self):
         object.__setattr__(self, "regions", MappingProxyType(dict(self.regions)))

@@ -16,12 +16,13 @@ import shapely
 from clearway.errors import DrawingError
 
 from clearway.converter.evidence import decide_from_content, gather_evidence, wall_thicknesses
-from clearway.converter.floorplan import ROLES
+from clearway.converter.floorplan import ROLES, LeftOutLayer
 from clearway.converter.inserts import BLOCK_OPENING_PREFIX
 from clearway.converter.openings import arc_radius
 from clearway.converter.parts import Parts
 from clearway.converter.read import read_drawing
-from clearway.converter.roles import (DEFAULT_IGNORED_PATTERNS, matches_any, name_candidates,
+from clearway.converter.roles import (DEFAULT_IGNORED_PATTERNS, DEFAULT_ROLE_PATTERNS,
+                                      ROLE_OPTION_NAMES, matches_any, name_candidates,
                                       opening_kind)
 from clearway.converter.units import INSUNITS_CODES, UNITS_TO_M, decide_units
 from clearway.converter.views import VIEW_GAP, find_views
@@ -41,6 +42,7 @@ class LayerMapping:
     unit_source: str
     unit_evidence: tuple
     warnings: list = field(default_factory=list)
+    left_out: tuple = ()               # LeftOutLayer per visible layer no role takes
 
 
 def _holds(content, name):
@@ -74,11 +76,53 @@ def map_drawing(path, *, roles, units, chord_tolerance, limits):
                 warnings.append(f"{source}: layer {name!r} ({role}) is frozen or off; ignored")
             continue
         by_role[role].append(name)
+    left_out = left_out_layers(content, visible, role_of, roles)
+    for layer in left_out:
+        if layer.replaced_by:
+            option = layer.replaced_by
+            patterns = " ".join(roles.patterns[layer.default_role])
+            warnings.append(f"{source}: layer {layer.name!r} has {layer.holds} and no role: its "
+                            f"default role {layer.default_role} was replaced by {option} "
+                            f"{patterns!r}; add {option} {layer.name!r} to keep it")
     decision = _decide_units(content, units, by_role, visible, role_of)
     unit, factor, note, source_kind, lines, unit_warnings = decision
     warnings += unit_warnings
     return LayerMapping(content, visible, role_of, by_role, unit, factor, note, source_kind,
-                        lines, warnings)
+                        lines, warnings, left_out)
+
+
+def left_out_layers(content, visible, role_of, roles):
+    """Return a LeftOutLayer for each visible layer with linework or points and no role.
+
+    Parameters
+    ----------
+    content : DrawingContent
+    visible : set of str
+        Layers neither frozen nor off.
+    role_of : mapping of str to str or None
+        Each layer's role as decided (a guessed wall layer included).
+    roles : Roles
+        The patterns in force; a default role the user replaced is named.
+
+    Returns
+    -------
+    tuple of LeftOutLayer, sorted by name (case-insensitive)
+    """
+    found = []
+    for name in sorted(visible, key=str.upper):
+        if role_of.get(name) is not None or name.startswith(BLOCK_OPENING_PREFIX):
+            continue
+        counts = content.counts.get(name, {})
+        if not (len(content.parts.get(name, ())) or counts.get("POINT")):
+            continue
+        names = name_candidates(name)
+        default = next((role for role in ROLES
+                        if matches_any(names, DEFAULT_ROLE_PATTERNS[role])), "")
+        ignored = matches_any(names, DEFAULT_IGNORED_PATTERNS)
+        replaced = default in roles.explicit and not ignored
+        found.append(LeftOutLayer(name, tuple(sorted(counts.items())), default, ignored,
+                                  f"--{ROLE_OPTION_NAMES[default]}" if replaced else ""))
+    return tuple(found)
 
 
 #: Layers never guessed to be walls: furniture, fittings, annotation, hatching, grids.

@@ -112,6 +112,8 @@ def summarize(plan, roadmap) -> dict:
                        "clearance": float(f.clearance),
                        "side_clearance": float(f.side_clearance),
                        "required": float(f.required)} for f in findings.personnel]},
+        "layers_without_role": [_left_out(layer) for layer in plan.left_out if not layer.ignored],
+        "layers_ignored": [_left_out(layer) for layer in plan.left_out if layer.ignored],
         "warnings": [json_text(w) for w in (*plan.warnings, *findings.warnings)],
         "repairs": [json_text(notice) for notice in plan.repairs],
         "caution": SAFETY_CAUTION,
@@ -121,6 +123,13 @@ def summarize(plan, roadmap) -> dict:
         "reverse_only": sorted((json_text(node) for node, flag in
                                 graph.nodes(data="reverse_only") if flag), key=natural_key),
     }} if roadmap.robot.has_body else {})
+
+
+def _left_out(layer) -> dict:
+    """A layer no role takes: its name, entities by DXF type, and the role it missed."""
+    return {"name": json_text(layer.name), "entities": dict(layer.entities),
+            "default_role": layer.default_role or None,
+            "replaced_by": layer.replaced_by or None}
 
 
 def render_report(plan, roadmap) -> bytes:

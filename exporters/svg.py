@@ -82,8 +82,19 @@ def _summary_lines(plan, roadmap, date: str) -> list[str]:
         f"{junctions} junctions  \u00b7  stations reached {reached}/{len(plan.stations)}  "
         f"\u00b7  {pinch}",
         f"{len(findings.narrow_passages)} narrow passages  \u00b7  {len(plan.leaks)} leaks  "
-        f"\u00b7  {len(findings.personnel)} lanes short of personnel clearance",
+        f"\u00b7  {len(findings.personnel)} lanes short of personnel clearance  \u00b7  "
+        f"{_layers_left_out(plan.left_out)}",
     ]
+
+
+def _layers_left_out(left_out) -> str:
+    """'3 layers left out (1 without a role)': the layers with linework no role takes."""
+    without = sum(1 for layer in left_out if not layer.ignored)
+    if not left_out:
+        return "no layer left out"
+    return (f"{len(left_out)} layer{'' if len(left_out) == 1 else 's'} left out"
+            + (f" ({without} without a role)" if without and without < len(left_out) else
+               " (no role)" if without else " (on purpose)"))
 
 
 def _wrap(text: str, width: int) -> list[str]:
