@@ -9,9 +9,9 @@ import threading
 
 import click
 
-from clearway.cli_common import (InputError, converter_options, drawing_options, read_graph,
-                                 terminal_text)
-from clearway.config import load_config
+from clearway.cli_common import (InputError, Metres, converter_options, drawing_options,
+                                 read_graph, setting, terminal_text)
+from clearway.config import COMFORT_ALLOWANCE, DEFAULTS, load_config
 from clearway.errors import ClearwayError
 from clearway.roadmap import ROBOT_KINDS          # a constant: the stages load when build runs
 
@@ -21,19 +21,6 @@ from clearway.roadmap import ROBOT_KINDS          # a constant: the stages load 
 
 #: The files `build` writes, in the order they are rendered.
 BUILD_FILES = ("roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json", "roadmap.html")
-
-
-def _metres(name: str, value, *, allow_zero: bool = False) -> float | None:
-    """Parse an option or config value in metres; None stays None."""
-    if value is None:
-        return None
-    try:
-        number = float(value)
-    except (TypeError, ValueError):
-        raise InputError(f"{name} must be a number of metres, got {value!r}") from None
-    if not (math.isfinite(number) and (number >= 0 if allow_zero else number > 0)):
-        raise InputError(f"{name} must be {'>=' if allow_zero else '>'} 0 m, got {value}")
-    return number
 
 
 def _centre(value, name: str) -> tuple[float, float]:
@@ -83,13 +70,14 @@ def _build_robot(config: dict, robot_radius, robot_size, margin, kind=None, cent
     from clearway.roadmap import Robot
     if robot_radius is not None and robot_size is not None:
         raise InputError("--robot-radius and --robot-size exclude each other; pass one")
-    section = config.get("robot", {})
-    margin = (_metres("--margin", margin, allow_zero=True) if margin is not None
-              else _metres("[robot] margin", section.get("margin", 0.10), allow_zero=True))
+    section = {**DEFAULTS["robot"], **config.get("robot", {})}
+    if margin is None:
+        margin = setting("[robot] margin", section["margin"], Metres(allow_zero=True))
     motion = {"kind": kind or section.get("kind", "differential")}
     if turn_radius is not None or "turn_radius" in section:
-        motion["turn_radius"] = (_metres("--turn-radius", turn_radius) if turn_radius is not None
-                                 else _metres("[robot] turn_radius", section["turn_radius"]))
+        motion["turn_radius"] = (turn_radius if turn_radius is not None
+                                 else setting("[robot] turn_radius", section["turn_radius"],
+                                              Metres()))
     motion["reverse"] = section.get("reverse", True) if reverse is None else reverse
     offset = (_centre(centre, "--rotation-centre") if centre is not None else
               _centre(section["centre_offset"], "[robot] centre_offset")
@@ -101,23 +89,23 @@ def _build_robot(config: dict, robot_radius, robot_size, margin, kind=None, cent
         if len(parts) != 2:
             raise InputError(f"--robot-size must be LENGTHxWIDTH in metres (e.g. 1.0x0.6), "
                              f"got {robot_size!r}")
-        length, width = (_metres("--robot-size length", parts[0]),
-                         _metres("--robot-size width", parts[1]))
+        length = setting("--robot-size length", parts[0], Metres())
+        width = setting("--robot-size width", parts[1], Metres())
         return _plausible(Robot.rectangle(length, width, margin=margin, **motion),
                           f"--robot-size {robot_size}",
                           lambda f: f"--robot-size {length / f:g}x{width / f:g}")
     if robot_radius is None and "length" in section and "width" in section:
-        length, width = (_metres("[robot] length", section["length"]),
-                         _metres("[robot] width", section["width"]))
+        length = setting("[robot] length", section["length"], Metres())
+        width = setting("[robot] width", section["width"], Metres())
         return _plausible(Robot.rectangle(length, width, margin=margin, **motion),
                           f"[robot] length {length:g}, width {width:g}",
                           lambda f: f"length = {length / f:g}, width = {width / f:g}")
     if offset is not None:
         raise InputError("a rotation centre offset needs a rectangular robot (--robot-size)")
-    name, value = (("--robot-radius", robot_radius) if robot_radius is not None
-                   else ("[robot] radius", section.get("radius", 0.35)))
-    radius = _metres(name, value)
-    return _plausible(Robot.disc(radius, margin=margin, **motion), f"{name} {value}",
+    name, radius = (("--robot-radius", robot_radius) if robot_radius is not None
+                    else ("[robot] radius", setting("[robot] radius", section["radius"],
+                                                    Metres())))
+    return _plausible(Robot.disc(radius, margin=margin, **motion), f"{name} {radius:g}",
                       lambda f: f"{name} {radius / f:g}")
 
 
@@ -221,8 +209,9 @@ def _sigterm_as_exit(command):
               help="Folder for roadmap.graphml, roadmap.geojson, roadmap.svg, report.json, roadmap.html "
                    "(created when missing).")
 @drawing_options
-@click.option("--robot-radius", metavar="M",
-              help="Disc robot radius, metres [default 0.35, or [robot] radius].")
+@click.option("--robot-radius", metavar="M", type=Metres(),
+              help=f"Disc robot radius, metres [default {DEFAULTS['robot']['radius']}, or "
+                   "[robot] radius].")
 @click.option("--robot-size", metavar="LxW",
               help="Rectangular robot, length x width in metres; lanes are kept where the "
                    "body fits heading along them, turns are checked where it must turn.")
@@ -232,15 +221,16 @@ def _sigterm_as_exit(command):
 @click.option("--rotation-centre", metavar="FORWARD,LEFT",
               help="Rotation centre (drive axle) of a rectangular robot as an offset from "
                    "its centre, metres [default 0,0].")
-@click.option("--turn-radius", metavar="M",
+@click.option("--turn-radius", metavar="M", type=Metres(),
               help="Car robot: smallest turning radius of the rotation centre, metres.")
 @click.option("--reverse/--no-reverse", default=None,
               help="Car robot: may it back up [default yes].")
-@click.option("--margin", metavar="M",
-              help="Safety margin kept around the robot's body, metres [default 0.10].")
-@click.option("--comfort-clearance", metavar="M",
-              help="Lanes with less clearance are reported as pinch points, metres "
-                   "[default: required clearance + 0.2 m].")
+@click.option("--margin", metavar="M", type=Metres(allow_zero=True),
+              help=f"Safety margin kept around the robot's body, metres "
+                   f"[default {DEFAULTS['robot']['margin']:.2f}].")
+@click.option("--comfort-clearance", metavar="M", type=Metres(),
+              help=f"Lanes with less clearance are reported as pinch points, metres "
+                   f"[default: required clearance + {COMFORT_ALLOWANCE} m].")
 @click.option("--anchor", metavar="LAT,LON,BEARING",
               help="WGS84 position of the drawing origin and bearing of its +Y axis (degrees): "
                    "the GeoJSON gets longitude/latitude instead of local metres.")
@@ -292,10 +282,10 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
                                  rotation_centre, turn_radius, reverse)
         except ValueError as err:      # Robot's checks of the robot the user described
             raise InputError(str(err)) from None
-        checks = config.get("checks", {})
-        comfort = (_metres("--comfort-clearance", comfort_clearance)
-                   if comfort_clearance is not None
-                   else _metres("[checks] comfort_clearance", checks.get("comfort_clearance")))
+        checks = {**DEFAULTS["checks"], **config.get("checks", {})}
+        comfort = (comfort_clearance if comfort_clearance is not None
+                   else setting("[checks] comfort_clearance", checks.get("comfort_clearance"),
+                                Metres()))
         anchor = _parse_anchor(anchor)
         previous_graph = read_graph(previous) if previous else None
         # said once read, so that a drawing refused by the reader gives one line only
@@ -307,10 +297,10 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
             plan.obstacles, plan.free_space,
             [(s.label, s.x, s.y, s.kind, s.heading) for s in plan.stations],
             robot=robot, shared_zones=plan.regions["shared"], comfort_clearance=comfort,
-            personnel_clearance=_metres("[checks] personnel_clearance",
-                                        checks.get("personnel_clearance", 0.5), allow_zero=True),
+            personnel_clearance=setting("[checks] personnel_clearance",
+                                        checks["personnel_clearance"], Metres(allow_zero=True)),
             low_clearance_penalty=_factor("[checks] low_clearance_penalty",
-                                          checks.get("low_clearance_penalty", 0.0)),
+                                          checks["low_clearance_penalty"]),
             openings=plan.openings, texts=plan.texts,
             progress=lambda *stage: say("  " + " ".join(str(part) for part in stage)))
         check_lanes(plan, roadmap)

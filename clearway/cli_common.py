@@ -38,6 +38,44 @@ def terminal_text(text: object) -> str:
         lambda match: match.group().encode("unicode_escape").decode("ascii"), str(text))
 
 
+class Metres(click.FloatRange):
+    """click type for a length in metres: a finite float > 0, or >= 0 with `allow_zero`.
+
+    click's FloatRange lets nan and infinity through (no comparison fails for them); a
+    length must be finite.
+    """
+
+    name = "metres"
+
+    def __init__(self, *, allow_zero: bool = False) -> None:
+        super().__init__(min=0.0, min_open=not allow_zero)
+
+    def convert(self, value, param, ctx):
+        number = super().convert(value, param, ctx)
+        if not math.isfinite(number):
+            self.fail(f"{value!r} is not a finite number of metres", param, ctx)
+        return number
+
+
+def setting(name: str, value, kind: click.ParamType):
+    """Check a config file's `value` with the click type its option uses; None stays None.
+
+    Examples
+    --------
+    >>> setting("[robot] margin", 0.05, Metres(allow_zero=True))
+    0.05
+    >>> setting("[robot] radius", -1, Metres())
+    Traceback (most recent call last):
+    clearway.cli_common.InputError: [robot] radius: -1.0 is not in the range x>0.0.
+    """
+    if value is None:
+        return None
+    try:
+        return kind.convert(value, None, None)
+    except click.BadParameter as err:
+        raise InputError(f"{name}: {err.message}") from None
+
+
 class InputError(click.ClickException):
     """Bad input or usage: exactly one line on stderr, exit code 2.
 

@@ -9,7 +9,8 @@ import sys
 
 import click
 
-from clearway.cli_common import InputError, read_graph, replace_file, terminal_text
+from clearway.cli_common import InputError, Metres, read_graph, replace_file, terminal_text
+from clearway.config import COMFORT_ALLOWANCE, DEFAULT_COMFORT
 # constants only: networkx and the stages load when a command runs
 from clearway.roadmap import ROUTE_METHODS, SAME_PLACE_TOLERANCE
 
@@ -19,14 +20,15 @@ from clearway.roadmap import ROUTE_METHODS, SAME_PLACE_TOLERANCE
 @click.argument("new")
 @click.option("--json", "as_json", is_flag=True, help="Print the changes as JSON on stdout.")
 @click.option("--svg", "svg_path", metavar="FILE", help="Draw both graphs and the changes.")
-@click.option("--comfort-clearance", type=float,
-              help="Clearance below which a lane is a pinch point, metres [default: the "
-                   "new graph's required clearance + 0.2 m, else 0.6 m].")
-@click.option("--match-tolerance", type=float, default=SAME_PLACE_TOLERANCE,
+@click.option("--comfort-clearance", type=Metres(allow_zero=True),
+              help=f"Clearance below which a lane is a pinch point, metres [default: the "
+                   f"new graph's required clearance + {COMFORT_ALLOWANCE} m, else "
+                   f"{DEFAULT_COMFORT:.2f} m].")
+@click.option("--match-tolerance", type=Metres(allow_zero=True), default=SAME_PLACE_TOLERANCE,
               show_default=True,
               help="Farther than this from any old node, a node counts as added, metres "
                    "(the same tolerance build --previous keeps ids within).")
-@click.option("--route-tolerance", type=float,
+@click.option("--route-tolerance", type=Metres(allow_zero=True),
               help="Station-to-station routes that changed less than this are not listed, "
                    "metres [default: 1 % of the route, at least 0.25 m].")
 def compare(old, new, as_json, svg_path, comfort_clearance, match_tolerance, route_tolerance):

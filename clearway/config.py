@@ -72,6 +72,35 @@ SCHEMA: dict[str, dict[str, type | tuple[type, ...]]] = {
     "limits": _limit_types(),
 }
 
+#: The default of every [robot] and [checks] setting that has one, metres (the penalty is a
+#: factor). The only place they are written: build_roadmap's keyword defaults, compare and
+#: the command line's help read them from here.
+DEFAULTS: dict[str, dict[str, float]] = {
+    "robot": {"radius": 0.35, "margin": 0.10},
+    # 0.5 m from memory of ISO 3691-4's clear zone beside driverless trucks
+    "checks": {"personnel_clearance": 0.5, "low_clearance_penalty": 0.0},
+}
+
+#: Default [checks] comfort_clearance above the required clearance (radius + margin), metres.
+COMFORT_ALLOWANCE = 0.2
+
+
+def default_comfort_clearance(required: float) -> float:
+    """Return the default comfort clearance for a required clearance, metres.
+
+    Examples
+    --------
+    >>> default_comfort_clearance(0.45)
+    0.65
+    """
+    return float(required) + COMFORT_ALLOWANCE
+
+
+#: Comfort clearance for a graph that does not state its required clearance: the default
+#: robot's, metres.
+DEFAULT_COMFORT = default_comfort_clearance(DEFAULTS["robot"]["radius"]
+                                            + DEFAULTS["robot"]["margin"])
+
 
 def load_config(path: str | Path | None) -> dict[str, dict[str, Any]]:
     """Read and validate a config file; return {section: {key: value}} (empty for None).

@@ -11,6 +11,7 @@ from scipy.sparse.csgraph import connected_components
 from scipy.spatial import cKDTree
 from shapely.ops import polylabel  # shapely.polylabel exists only from shapely 2.1
 
+from clearway.config import DEFAULTS, default_comfort_clearance
 from clearway.roadmap import checks
 from clearway.roadmap.gvd import medial_axis
 from clearway.roadmap.graph import (_adjacency, chain_lanes, contract_short_edges, prune_spurs,
@@ -97,7 +98,8 @@ def _lanes(vertices, clearance, edges, isolated, c, field, robot, terminal=None)
 
 def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequence[tuple],
                   *, robot: Robot, shared_zones=None, comfort_clearance: float | None = None,
-                  personnel_clearance: float = 0.5, low_clearance_penalty: float = 0.0,
+                  personnel_clearance: float = DEFAULTS["checks"]["personnel_clearance"],
+                  low_clearance_penalty: float = DEFAULTS["checks"]["low_clearance_penalty"],
                   sample_step: float = 0.25, openings: Sequence = (), texts: Sequence = (),
                   progress: Callable[[str], None] | None = None) -> Roadmap:
     """Build the lane graph of maximum clearance for `robot` in `free_space`.
@@ -116,10 +118,12 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
     shared_zones : Polygon or MultiPolygon, optional
         Zones shared with people, for personnel flags.
     comfort_clearance : float, optional
-        Lanes with clearance below it are pinch points (and penalised); default c + 0.2 m.
+        Lanes with clearance below it are pinch points (and penalised); default
+        c + 0.2 m (clearway.config.default_comfort_clearance).
     personnel_clearance : float
-        Side clearance required beside the robot in shared zones, metres; 0.5 m from memory
-        of ISO 3691-4's clear zone beside driverless trucks.
+        Side clearance required beside the robot in shared zones, metres; default 0.5 m
+        (clearway.config.DEFAULTS), from memory of ISO 3691-4's clear zone beside
+        driverless trucks.
     low_clearance_penalty : float
         Lanes whose clearance_min is below comfort weigh length * (1 + penalty).
     sample_step : float
@@ -147,7 +151,8 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
     c = float(robot.clearance)
     # 1 um above c, so a gap of exactly 2c is a wall for lanes and drivable region alike
     threshold = c + 1e-6
-    comfort = c + 0.2 if comfort_clearance is None else float(comfort_clearance)
+    comfort = (default_comfort_clearance(c) if comfort_clearance is None
+               else float(comfort_clearance))
     report = progress or (lambda stage: None)
     parts = polygon_parts(free_space)
     if len(parts) == 0:

@@ -15,15 +15,11 @@ from dataclasses import asdict, dataclass, field
 import networkx as nx
 import numpy as np
 
+from clearway.config import DEFAULT_COMFORT, default_comfort_clearance
 from clearway.roadmap.ids import SAME_PLACE_TOLERANCE, match_edge_pairs, match_nodes
 from clearway.roadmap.routing import distance_matrix, station_nodes
 
 
-#: Comfort clearance above the required one, metres (build_roadmap's default rule).
-COMFORT_ALLOWANCE = 0.2
-#: Comfort clearance when a graph does not state its required clearance, metres
-#: (clearway.config's [checks] comfort_clearance example value).
-DEFAULT_COMFORT = 0.6
 #: Default route tolerance: a route must change by this share of its length, and by at least
 #: ROUTE_TOLERANCE_FLOOR metres, to be listed (measuring noise of a rebuilt lane is a few cm;
 #: a robot's schedule notices a per cent).
@@ -189,7 +185,7 @@ def compare_graphs(old: nx.MultiGraph, new: nx.MultiGraph, *,
     """
     if comfort_clearance is None:
         required = new.graph.get("clearance")
-        comfort_clearance = (float(required) + COMFORT_ALLOWANCE
+        comfort_clearance = (default_comfort_clearance(required)
                              if isinstance(required, float) and math.isfinite(required)
                              else DEFAULT_COMFORT)
     for name, value in (("match_tolerance", match_tolerance), ("move_tolerance", move_tolerance),

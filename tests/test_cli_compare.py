@@ -74,8 +74,8 @@ def test_bad_option_exit_2(tmp_path):
     result = CliRunner().invoke(main, ["compare", str(old), str(new), "--comfort-clearance",
                                        "-1"])
     assert result.exit_code == 2
-    assert result.stderr.strip() == ("Error: comfort_clearance must be a number >= 0 m, "
-                                     "got -1.0")
+    assert result.stderr.strip() == ("Error: main compare: Invalid value for "
+                                     "'--comfort-clearance': -1.0 is not in the range x>=0.0.")
 
 
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_drawings"

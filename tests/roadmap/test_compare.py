@@ -101,7 +101,9 @@ def test_json_is_plain_and_complete():
     data = json.loads(compare_graphs(old, new).to_json())
     assert data["nodes_moved"][0]["distance"] == pytest.approx(0.3)
     assert data["edges_removed"][0]["wkt"] == "LINESTRING (4 0, 8 0, 8 4)"
-    assert data["settings"]["comfort_clearance"] == 0.6
+    # the graph states no required clearance: the default robot's comfort clearance,
+    # radius 0.35 m + margin 0.10 m + 0.2 m (clearway.config)
+    assert data["settings"]["comfort_clearance"] == pytest.approx(0.65, abs=1e-12)
     assert set(data) >= {"nodes_added", "nodes_removed", "edges_added", "edges_removed",
                          "lane_length_before", "lane_length_after", "routes_changed",
                          "new_pinch_points", "stations_added", "stations_removed"}
