@@ -9,6 +9,10 @@ import pytest
 
 SAMPLES = Path(__file__).resolve().parent.parent / "sample_drawings"
 
+#: --doctest-modules (pyproject.toml) would import every conftest.py a second time as a plain
+#: module named `conftest`, and several share that name; pytest loads them as conftests anyway.
+collect_ignore_glob = ["*conftest.py"]
+
 
 def new_drawing(units=6):
     """Return a new R2010 drawing with $INSUNITS = `units` (6 = metres)."""
