@@ -6,6 +6,7 @@ import math
 import re
 
 from clearway import __version__
+from clearway.sorting import natural_key  # noqa: F401  (the exporters' sort key)
 
 #: The tool name and version written into every output.
 TOOL_VERSION = f"clearway {__version__}"
@@ -64,9 +65,3 @@ def finite_or_none(value: float | None) -> float | None:
         return None
     value = float(value)
     return value if math.isfinite(value) else None
-
-
-def natural_key(text: str) -> tuple:
-    """Sort key that orders ``n2`` before ``n10`` (digit runs compare as numbers)."""
-    return tuple((0, int(part), "") if part.isdigit() else (1, 0, part)
-                 for part in re.split(r"(\d+)", str(text)) if part)

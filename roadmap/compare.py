@@ -17,6 +17,7 @@ import numpy as np
 
 from clearway.config import DEFAULT_COMFORT, default_comfort_clearance
 from clearway.roadmap.ids import SAME_PLACE_TOLERANCE, match_edge_pairs, match_nodes
+from clearway.sorting import natural_key
 from clearway.roadmap.routing import distance_matrix, station_nodes
 
 
@@ -212,9 +213,9 @@ def compare_graphs(old: nx.MultiGraph, new: nx.MultiGraph, *,
     return GraphChanges(
         nodes_added=_node_changes(new, set(new) - set(pairs)),
         nodes_removed=_node_changes(old, set(old) - matched_old),
-        nodes_moved=tuple(sorted(moved, key=lambda m: (-m.distance, _natural(m.new_id)))),
+        nodes_moved=tuple(sorted(moved, key=lambda m: (-m.distance, natural_key(m.new_id)))),
         ids_changed=tuple(sorted(((o, n) for n, o in pairs.items() if o != n),
-                                key=lambda pair: _natural(pair[0]))),
+                                key=lambda pair: natural_key(pair[0]))),
         edges_added=_edge_changes(new, lambda key: key not in edge_pairs),
         edges_removed=_edge_changes(old, lambda key: key not in matched_old_edges),
         lane_length_before=_lane_length(old),
@@ -238,12 +239,6 @@ def compare_graphs(old: nx.MultiGraph, new: nx.MultiGraph, *,
     )
 
 
-def _natural(text: str) -> list:
-    """Sort key putting n2 before n10."""
-    return [(0, int(part), "") if part.isdigit() else (1, 0, part)
-            for part in re.split(r"(\d+)", str(text))]
-
-
 def _xy(graph, node) -> tuple[float, float]:
     attrs = graph.nodes[node]
     return float(attrs["x"]), float(attrs["y"])
@@ -264,7 +259,7 @@ def _node_changes(graph, nodes) -> tuple[NodeChange, ...]:
 def _edge_changes(graph, keep) -> tuple[EdgeChange, ...]:
     changes = [EdgeChange(key, u, v, float(attrs["length"]), attrs["geometry"].wkt)
                for u, v, key, attrs in graph.edges(keys=True, data=True) if keep(key)]
-    return tuple(sorted(changes, key=lambda change: _natural(change.id)))
+    return tuple(sorted(changes, key=lambda change: natural_key(change.id)))
 
 
 def _lane_length(graph) -> float:
@@ -318,7 +313,7 @@ def _pinch_changes(old, new, pairs, edge_pairs, comfort, tolerance) -> tuple[Pin
             middle = attrs["geometry"].interpolate(0.5, normalized=True)
             found.append(PinchChange("edge", key, float(middle.x), float(middle.y), now, was,
                                      "below comfort"))
-    return tuple(sorted(found, key=lambda p: (p.element, _natural(p.id))))
+    return tuple(sorted(found, key=lambda p: (p.element, natural_key(p.id))))
 
 
 def site_warnings(old, new) -> tuple[str, ...]:

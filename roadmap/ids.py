@@ -259,3 +259,4 @@ def _match_edges(old, new, mapping) -> dict[str, str]:
     ordered = sorted(new.edges(keys=True), key=lambda e: (
         sorted((mapping[e[0]], mapping[e[1]])), str(e[2])))
     return {key: pairs[key] if key in pairs else next(fresh) for _, _, key in ordered}
+
