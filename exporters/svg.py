@@ -25,6 +25,7 @@ from clearway.exporters.svg_parts import (AREA_STYLE, add_legend, add_marker, ad
                                           add_text, lane_bins, lane_colour, measure_label,
                                           number, path_data, symbol_reach)
 from clearway.exporters.text import SAFETY_CAUTION, TOOL_VERSION, xml_text
+from clearway.roadmap.inflate import local_offset
 
 SVG_NS = "http://www.w3.org/2000/svg"
 _A3 = (420.0, 297.0)   # mm, ISO 216
@@ -47,8 +48,9 @@ def drawing_origin(bounds) -> np.ndarray:
     """Return the point, metres, that the SVG is drawn relative to, shape (2,).
 
     Renderers compute in single precision (24-bit mantissa: 0.5 m steps at 5.4e6 m), so a
-    plan placed at survey coordinates is drawn relative to the whole kilometre nearest its
-    extents' lower left corner; a plan within 10 km of its origin is drawn as is.
+    plan placed at survey coordinates is drawn relative to the origin of the local frame the
+    lanes were computed in (``roadmap.inflate.local_offset``: the whole kilometre nearest its
+    extents' lower left corner); a plan within 10 km of its origin is drawn as is.
 
     Examples
     --------
@@ -59,7 +61,7 @@ def drawing_origin(bounds) -> np.ndarray:
     """
     if max(abs(v) for v in bounds) < 10_000.0:
         return np.zeros(2)
-    return np.round(np.asarray(bounds[:2], dtype=float) / 1000.0) * 1000.0
+    return np.asarray(local_offset(bounds), dtype=float)
 
 
 def _summary_lines(plan, roadmap, date: str) -> list[str]:

@@ -28,7 +28,7 @@ SNAP_GRID = 1e-4
 
 
 def local_offset(bounds) -> tuple[float, float]:
-    """Return the local frame's origin: the bounds' minimum rounded down to 1 km.
+    """Return the local frame's origin: the bounds' minimum rounded to the nearest 1 km.
 
     Computing near the origin keeps drawings at survey coordinates (x ~ 5e5 m,
     y ~ 5.4e6 m) as accurate as drawings at the origin.
@@ -44,12 +44,12 @@ def local_offset(bounds) -> tuple[float, float]:
     Examples
     --------
     >>> local_offset((500123.4, 5400987.0, 500200.0, 5401000.0))
-    (500000.0, 5400000.0)
+    (500000.0, 5401000.0)
     """
     x0, y0 = float(bounds[0]), float(bounds[1])
     if not (math.isfinite(x0) and math.isfinite(y0)):
         return (0.0, 0.0)
-    return (math.floor(x0 / 1000.0) * 1000.0, math.floor(y0 / 1000.0) * 1000.0)
+    return (round(x0 / 1000.0) * 1000.0, round(y0 / 1000.0) * 1000.0)
 
 
 def to_local(geometry, offset, *, grid: float = SNAP_GRID):
