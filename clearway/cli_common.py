@@ -3,7 +3,6 @@ of every command that reads a drawing or a graph."""
 
 from __future__ import annotations
 
-import contextlib
 import math
 import os
 import re
@@ -13,7 +12,7 @@ import click
 from clearway.config import load_config
 from clearway.errors import ClearwayError, ConfigError
 from clearway.limits import Limits
-from clearway.converter import ROLE_OPTION_NAMES, UNITS_TO_M, Roles
+from clearway.converter import ROLE_OPTION_NAMES, UNITS_TO_M, Roles, check_units
 
 
 #: Characters a terminal acts on instead of showing them: C0 and C1 controls (line breaks
@@ -89,11 +88,6 @@ class InputError(click.ClickException):
         super().__init__(terminal_text(message))
 
 
-#: Drawing settings a config file's [drawing] section may hold, passed to read_floorplan.
-_DRAWING_KEYS = ("chord_tolerance", "gap_tolerance", "max_wall_thickness",
-                 "nominal_wall_thickness", "label_radius")
-
-
 def drawing_options(command):
     """Add --config, the layer-role options and --units to a command that reads a drawing."""
     role_help = {"openings": "doors, windows, glazing", "stairs": "stairs (impassable)",
@@ -139,12 +133,10 @@ def converter_options(options: dict, config: dict | None = None) -> dict:
     drawing = dict(config["drawing"])
     file_units = drawing.pop("units", None)
     units = options.get("units") or file_units
-    if units is not None and units not in UNITS_TO_M:
-        raise ConfigError(f"{options.get('config')}: [drawing] units must be one of "
-                          f"{', '.join(UNITS_TO_M)}, got {units!r}")
-    for key in _DRAWING_KEYS:
-        if options.get(key) is not None:
-            drawing[key] = options[key]
+    try:
+        check_units(units)
+    except ConfigError as err:
+        raise ConfigError(f"{options.get('config')}: [drawing] {err}") from None
     region = options.get("region") or drawing.pop("region", None)
     drawing.pop("region", None)
     if region is not None:
@@ -172,18 +164,10 @@ def parse_region(value, config=None):
 
 
 def replace_file(path: str, data: bytes) -> None:
-    """Write `data` to `path` through a temporary file in the same folder, then rename."""
-    import tempfile
+    """Write `data` to `path` atomically, as a set of one file (``write_outputs``)."""
+    from clearway.exporters import write_outputs
     target = os.path.abspath(path)
-    handle, temporary = tempfile.mkstemp(dir=os.path.dirname(target), prefix=".clearway-")
-    try:
-        with os.fdopen(handle, "wb") as file:
-            file.write(data)
-        os.replace(temporary, target)
-    except BaseException:
-        with contextlib.suppress(OSError):
-            os.unlink(temporary)
-        raise
+    write_outputs(os.path.dirname(target), {os.path.basename(target): data})
 
 
 def read_graph(path: str):

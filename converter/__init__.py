@@ -12,6 +12,7 @@ __getattr__, __dir__, __all__ = lazy_exports(__name__, {
     "DEFAULT_ROLE_PATTERNS": "roles",
     "ROLE_OPTION_NAMES": "roles",
     "UNITS_TO_M": "units",
+    "check_units": "units",
     "FloorPlan": "floorplan",
     "Station": "floorplan",
     "Leak": "floorplan",

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from clearway.errors import ConfigError
+
 #: Metres per drawing unit, for every unit a user may name (``--units``).
 #: Inch and foot are exact by definition (international yard and pound agreement, 1959).
 UNITS_TO_M: dict[str, float] = {
@@ -18,6 +20,19 @@ INSUNITS_CODES: dict[int, str] = {1: "in", 2: "ft", 4: "mm", 5: "cm", 6: "m", 10
 
 #: Largest side, metres, of a plausible single floor plan; smallest likewise.
 PLAUSIBLE_SPAN_M = (2.0, 3000.0)
+
+
+def check_units(units: str | None) -> str | None:
+    """Return `units` when it is None or a key of UNITS_TO_M; raise ConfigError otherwise.
+
+    Examples
+    --------
+    >>> check_units("ft")
+    'ft'
+    """
+    if units is not None and units not in UNITS_TO_M:
+        raise ConfigError(f"units must be one of {', '.join(UNITS_TO_M)}, got {units!r}")
+    return units
 
 
 def decide_units(insunits, override, span_drawing, *, source):
@@ -40,8 +55,8 @@ def decide_units(insunits, override, span_drawing, *, source):
 
     Raises
     ------
-    ValueError
-        `override` is not a key of UNITS_TO_M.
+    ConfigError
+        `override` is not a key of UNITS_TO_M (a ValueError).
 
     Examples
     --------
@@ -50,9 +65,7 @@ def decide_units(insunits, override, span_drawing, *, source):
     >>> decide_units(0, None, 60000.0, source="a.dxf")[:2]
     ('mm', 0.001)
     """
-    if override is not None:
-        if override not in UNITS_TO_M:
-            raise ValueError(f"units must be one of {', '.join(UNITS_TO_M)}, got {override!r}")
+    if check_units(override) is not None:
         header = f"$INSUNITS = {insunits}" if insunits is not None else "no $INSUNITS"
         note = f"Read in {override} as requested (--units {override}; the header says {header})."
         return override, UNITS_TO_M[override], note, ()

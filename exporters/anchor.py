@@ -52,11 +52,6 @@ def prime_vertical_radius(latitude_rad):
     return WGS84_A / np.sqrt(1.0 - _E2 * np.sin(latitude_rad) ** 2)
 
 
-def meridian_radius(latitude_rad):
-    """Radius of curvature in the meridian M(phi), metres (WGS84)."""
-    return WGS84_A * (1.0 - _E2) / (1.0 - _E2 * np.sin(latitude_rad) ** 2) ** 1.5
-
-
 def drawing_to_wgs84(xy: np.ndarray, anchor: tuple[float, float, float]) -> np.ndarray:
     """Convert drawing coordinates to WGS84 longitude / latitude.
 

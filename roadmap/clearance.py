@@ -27,18 +27,6 @@ CANDIDATES = 8
 BLOCK = 200_000
 
 
-def segment_distance(points, start, end) -> np.ndarray:
-    """Distance from points (..., 2) to segments start-end (..., 2), metres, shape (...)."""
-    direction = end - start
-    length2 = np.einsum("...i,...i->...", direction, direction)
-    offset = points - start
-    with np.errstate(divide="ignore", invalid="ignore"):
-        t = np.einsum("...i,...i->...", offset, direction) / length2
-    t = np.where(length2 > 0, np.clip(t, 0.0, 1.0), 0.0)
-    gap = offset - t[..., None] * direction
-    return np.sqrt(np.einsum("...i,...i->...", gap, gap))
-
-
 @dataclass(frozen=True)
 class ClearanceField:
     """Exact clearance queries against the boundary of the free space.
