@@ -371,7 +371,7 @@ def fit_edges(robot: Robot, field, graph, samples, joins, station_nodes, offset)
         worst = mine[np.argmin(gap[mine])]
         x, y = contact(robot, field, driven, worst) + shift
         station = next((station_of[n] for n in (u, v) if n in station_of), None)
-        link = key in samples.approach
+        link = key in samples.station_links
         shortfalls.append(BodyShortfall(
             "link" if link else "lane", float(x), float(y), robot.margin, float(gap[worst]),
             (key,), "" if station is None else station_nodes[station],
@@ -398,7 +398,7 @@ def fit_edges(robot: Robot, field, graph, samples, joins, station_nodes, offset)
     gone = np.isin(np.asarray(samples.edge_ids, dtype=object)[samples.owner],
                    list(dropped)) if len(samples.owner) else np.zeros(0, bool)
     samples = EdgeSamples(samples.xy[~gone], samples.owner[~gone], samples.clearance[~gone],
-                          samples.edge_ids, samples.approach)
+                          samples.edge_ids, samples.station_links)
     return samples, joins, shortfalls
 
 

@@ -257,6 +257,7 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
                                           offset)
         body += links
         body += check_turns(robot, field, graph, offset)
+    checks.weigh_edges(graph, comfort, low_clearance_penalty)
     drawn = station_xy + np.asarray(offset)
     findings = checks.run_checks(graph, samples, joins, labels, station_nodes, drawn, axis,
                                  c, comfort,

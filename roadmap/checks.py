@@ -19,11 +19,13 @@ References
 
 from __future__ import annotations
 
+import dataclasses
 import itertools
 
 import networkx as nx
 import numpy as np
 import shapely
+from networkx.utils import UnionFind
 from scipy.sparse.csgraph import connected_components
 
 from clearway.roadmap.graph import _adjacency
@@ -33,21 +35,21 @@ from clearway.roadmap.model import (Findings, NarrowPassage, PersonnelFlag, Pinc
 from clearway.roadmap.stations import station_regions
 
 
-def _find(parent, item):
-    while parent[item] != item:
-        parent[item] = parent[parent[item]]
-        item = parent[item]
-    return item
-
-
-def narrow_passages(axis, clearance: float, regions) -> list[tuple[float, float, float, int, int]]:
-    """Return (x, y, width, region_a, region_b) for each place too narrow between two regions.
+def narrow_passages(axis, clearance: float, regions, offset=(0.0, 0.0)) -> list[NarrowPassage]:
+    """Return each place too narrow for the robot between two drivable regions.
 
     Parameters
     ----------
     axis : MedialAxis of the raw free space (local frame)
     clearance : float, required clearance c, metres
-    regions : (K,) Polygon, the drivable regions
+    regions : (K,) Polygon, the drivable regions (local frame)
+    offset : (x0, y0), metres
+        The local frame's origin: the passages are returned in the drawing frame.
+
+    Returns
+    -------
+    list of NarrowPassage
+        ``regions`` holds the indices of the two regions each joins; ``blocks`` is empty.
     """
     count = len(axis.vertices)
     if count == 0 or len(regions) < 2:
@@ -88,29 +90,33 @@ def narrow_passages(axis, clearance: float, regions) -> list[tuple[float, float,
             low, high = (a, b) if not drivable[a] else (b, a)
             if region[high] >= 0:
                 neighbours[int(low)].append(-1 - int(region[high]))
-        parent: dict[int, int] = {}
-        holds: dict[int, int | None] = {}
+        # merge the axis vertices in falling clearance; a region is the negative id -1 - k.
+        # Where two sets that each reach a region meet, the vertex is a bottleneck.
+        sets = UnionFind()
+        region_of_set: dict[int, int | None] = {}     # set root -> a region it reaches
         for vertex in members[np.argsort(-axis.clearance[members], kind="stable")]:
             vertex = int(vertex)
-            parent[vertex], holds[vertex] = vertex, None
+            region_of_set[sets[vertex]] = None
             for other in neighbours[vertex]:
-                if other < 0 and other not in parent:
-                    parent[other], holds[other] = other, -1 - other
-                if other not in parent:
+                if other < 0 and other not in sets.parents:
+                    region_of_set[sets[other]] = -1 - other
+                if other not in sets.parents:
                     continue
-                ra, rb = _find(parent, vertex), _find(parent, other)
+                ra, rb = sets[vertex], sets[other]
                 if ra == rb:
                     continue
-                if holds[ra] is not None and holds[rb] is not None:
+                a, b = region_of_set[ra], region_of_set[rb]
+                if a is not None and b is not None:
                     x, y = axis.vertices[vertex]
-                    found.append((float(x), float(y), float(2 * axis.clearance[vertex]),
-                                  holds[ra], holds[rb]))
-                parent[ra] = rb
-                holds[rb] = holds[rb] if holds[rb] is not None else holds[ra]
+                    found.append(NarrowPassage(float(x) + offset[0], float(y) + offset[1],
+                                               float(2 * axis.clearance[vertex]),
+                                               regions=(a, b)))
+                sets.union(ra, rb)
+                region_of_set[sets[ra]] = b if b is not None else a
     return found
 
 
-def pinch_points(samples, graph, comfort: float, offset) -> list[PinchPoint]:
+def pinch_points(samples, comfort: float, offset) -> list[PinchPoint]:
     """Lowest point of every run of lane samples whose clearance is below `comfort` metres."""
     result, seen = [], set()
     below = samples.clearance < comfort
@@ -123,7 +129,7 @@ def pinch_points(samples, graph, comfort: float, offset) -> list[PinchPoint]:
         if not below[start]:
             continue
         key = samples.edge_ids[samples.owner[start]]
-        if key in samples.approach:
+        if key in samples.station_links:
             continue  # a station's straight approach, not a lane
         low = start + int(np.argmin(samples.clearance[start:stop]))
         x, y = samples.xy[low] + np.asarray(offset)
@@ -163,10 +169,7 @@ def run_checks(graph: nx.MultiGraph, samples, joins, labels, station_nodes, stat
                clearance: float, comfort: float, *, robot, shared_zones,
                personnel_clearance: float, low_clearance_penalty: float, regions,
                region_of_station, offset, warnings=(), body=()) -> Findings:
-    """Weigh the edges and collect every finding (see the module docstring)."""
-    for _, _, data in graph.edges(data=True):
-        penalty = low_clearance_penalty if data["clearance_min"] < comfort else 0.0
-        data["weight"] = float(data["length"] * (1.0 + penalty))
+    """Collect every finding about the weighed lane graph (see the module docstring)."""
     number = {node: int(node[1:]) for node in graph}
     components = sorted(nx.connected_components(graph),
                         key=lambda nodes: min(number[n] for n in nodes))
@@ -175,7 +178,7 @@ def run_checks(graph: nx.MultiGraph, samples, joins, labels, station_nodes, stat
     order = sorted(range(len(components)), key=lambda i: -station_count[i])
     components = [components[i] for i in order]
     component_of = {node: k for k, nodes in enumerate(components) for node in nodes}
-    passages = narrow_passages(axis, clearance, regions)
+    passages = narrow_passages(axis, clearance, regions, offset)
     main_regions = set()
     if components:
         main_xy = np.array([[graph.nodes[n]["x"], graph.nodes[n]["y"]]
@@ -194,9 +197,9 @@ def run_checks(graph: nx.MultiGraph, samples, joins, labels, station_nodes, stat
             bottleneck = _bottleneck(passages, region_of_station[index], main_regions)
             if bottleneck is not None:
                 blocks.setdefault(bottleneck, []).append(labels[index])
-                px, py, width = passages[bottleneck][:3]
-                reason += (f"; narrowest place {width:.2f} m wide at "
-                           f"({px + offset[0]:.2f}, {py + offset[1]:.2f})")
+                passage = passages[bottleneck]
+                reason += (f"; narrowest place {passage.width:.2f} m wide at "
+                           f"({passage.x:.2f}, {passage.y:.2f})")
         pending.append((index, node, component, reachable, reason))
     stations = tuple(StationResult(labels[i], float(x), float(y), node, component, reachable,
                                    reason)
@@ -209,12 +212,11 @@ def run_checks(graph: nx.MultiGraph, samples, joins, labels, station_nodes, stat
         (a.label, b.label) for a, b in itertools.combinations(
             sorted(stations, key=lambda r: r.label), 2)
         if a.component is None or b.component is None or a.component != b.component)
-    narrow = tuple(NarrowPassage(x + offset[0], y + offset[1], width,
-                                 tuple(sorted(blocks.get(i, ()))))
-                   for i, (x, y, width, _, _) in enumerate(passages))
+    narrow = tuple(dataclasses.replace(passage, blocks=tuple(sorted(blocks.get(i, ()))))
+                   for i, passage in enumerate(passages))
     return Findings(
         stations=stations, components=station_labels, unreachable_pairs=unreachable,
-        pinch_points=tuple(pinch_points(samples, graph, comfort, offset)),
+        pinch_points=tuple(pinch_points(samples, comfort, offset)),
         narrow_passages=narrow,
         personnel=tuple(personnel_flags(samples, shared_zones, offset,
                                         half_width=robot.half_width,
@@ -223,21 +225,25 @@ def run_checks(graph: nx.MultiGraph, samples, joins, labels, station_nodes, stat
         personnel_clearance=float(personnel_clearance))
 
 
+def weigh_edges(graph: nx.MultiGraph, comfort: float, low_clearance_penalty: float) -> None:
+    """Set each edge's weight: its length, times (1 + penalty) when its clearance_min is
+    below `comfort` metres. Changes `graph` in place."""
+    for _, _, data in graph.edges(data=True):
+        penalty = low_clearance_penalty if data["clearance_min"] < comfort else 0.0
+        data["weight"] = float(data["length"] * (1.0 + penalty))
+
+
 def _bottleneck(passages, region, targets):
-    """Index of the narrowest passage on the widest route from `region` to `targets`."""
+    """Index of the narrowest passage on the widest route from `region` to `targets`.
+
+    Kruskal's order on a maximum spanning forest of the regions: the passage that first
+    joins `region` to a target, taking the widest first, is the route's narrowest.
+    """
     if region < 0 or not targets:
         return None
-    parent = {}
-    for index in sorted(range(len(passages)), key=lambda i: -passages[i][2]):
-        a, b = passages[index][3], passages[index][4]
-        for item in (a, b):
-            parent.setdefault(item, item)
-        ra, rb = _find(parent, a), _find(parent, b)
-        if ra != rb:
-            parent[ra] = rb
-        parent.setdefault(region, region)
-        for target in targets:
-            parent.setdefault(target, target)
-            if _find(parent, region) == _find(parent, target):
-                return index
+    sets = UnionFind([region, *targets])
+    for index in sorted(range(len(passages)), key=lambda i: -passages[i].width):
+        sets.union(*passages[index].regions)
+        if any(sets[region] == sets[target] for target in targets):
+            return index
     return None

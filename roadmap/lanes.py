@@ -36,7 +36,7 @@ class EdgeSamples:
     clearance: np.ndarray
     edge_ids: list
     #: edge ids of the straight links from stations to lanes (not lanes themselves)
-    approach: frozenset = frozenset()
+    station_links: frozenset = frozenset()
 
 
 def _cut(coords: np.ndarray, cuts: list[tuple[float, np.ndarray]]):
@@ -162,8 +162,8 @@ def assemble_graph(lines, ends, vertices, isolated, station_xy, labels, joins,
         graph.add_edge(node_id[u], node_id[v], key=key, length=length, weight=length,
                        clearance_min=float(low[index]), geometry=geometry[index])
     stations = {key[1]: node_id[key] for key in keys if key[0] == "s"}
-    approach = frozenset(edge_ids[i] for i, piece in enumerate(pieces) if piece[3])
-    return graph, EdgeSamples(sample_xy, owner, values, edge_ids, approach), stations
+    station_links = frozenset(edge_ids[i] for i, piece in enumerate(pieces) if piece[3])
+    return graph, EdgeSamples(sample_xy, owner, values, edge_ids, station_links), stations
 
 
 def refine_lanes(lines: list[np.ndarray], field: ClearanceField, *, below: float,

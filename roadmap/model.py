@@ -160,6 +160,8 @@ class NarrowPassage:
     y: float
     width: float             # metres, the passage's clear width
     blocks: tuple[str, ...] = ()   # labels of stations this passage cuts off
+    #: indices of the two drivable regions it joins (build-internal; not exported)
+    regions: tuple[int, ...] = field(default=(), repr=False, compare=False)
 
 
 @dataclass(frozen=True)
