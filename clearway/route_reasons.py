@@ -41,7 +41,7 @@ def no_route_reason(graph_file: str, graph: nx.MultiGraph, ends, avoid=()) -> st
     report = report_beside(graph_file, graph)
     if report is None:
         return ""
-    required = graph.graph.get("clearance")
+    required = graph.graph.get("required_clearance")
     for passage in report.get("narrow_passages") or ():
         blocked = [label for label in labels if label and label in (passage.get("blocks") or ())]
         if len(blocked) == 1:

@@ -18,6 +18,7 @@ __getattr__, __dir__, __all__ = lazy_exports(__name__, {
     "render_compare_svg": "compare_svg",
     "render_dxf": "dxf",
     "render_geojson": "geojson",
+    "render_graph": "graphml",
     "render_graphml": "graphml",
     "render_html": "html",
     "render_report": "report",

@@ -3,7 +3,7 @@
 Layout (readers go by ``attr.name``, never by key id)::
 
     <graphml xmlns="http://graphml.graphdrawing.org/xmlns">
-      <key id="g_units" for="graph" attr.name="units" attr.type="string"/>   ... sorted
+      <key id="g_units" for="graph" attr.name="units" attr.type="string"/>   ... KEYS
       <graph id="roadmap" edgedefault="undirected">
         <data key="g_units">m</data> ...
         <node id="n1"><data key="n_x">2.5</data> ...</node>              ... natural order
@@ -14,7 +14,9 @@ Layout (readers go by ``attr.name``, never by key id)::
     </graphml>
 
 Every float is written as Python's shortest round-trip ``repr`` (``float(text) == value``),
-so readers get back exactly the values in the graph. The edge geometry is a WKT LINESTRING in
+so readers get back exactly the values in the graph, and a graph read back by ``read_graphml``
+writes the same bytes. The keys come from one table shared with the reader
+(`clearway.exporters.graphml_keys`). The edge geometry is a WKT LINESTRING in
 metres, drawing frame, oriented from ``source`` to ``target``.
 """
 
@@ -24,46 +26,11 @@ import numpy as np
 import shapely
 from lxml import etree
 
+from clearway.exporters.graphml_keys import (GRAPHML_NS, KEYS, OPTIONAL_KEYS, SCHEMA_LOCATION,
+                                             XSI_NS, key_id)
 from clearway.exporters.text import TOOL_VERSION, exact_float, natural_key, xml_text
 
-GRAPHML_NS = "http://graphml.graphdrawing.org/xmlns"
-_XSI_NS = "http://www.w3.org/2001/XMLSchema-instance"
 _Q = f"{{{GRAPHML_NS}}}"
-_SCHEMA_LOCATION = f"{GRAPHML_NS} http://graphml.graphdrawing.org/xmlns/1.0/graphml.xsd"
-
-#: (domain, attr.name, attr.type) of every key clearway writes.
-KEYS = (
-    ("graph", "clearance", "double"),
-    ("graph", "margin", "double"),
-    ("graph", "robot_radius", "double"),
-    ("graph", "sha256", "string"),
-    ("graph", "source", "string"),
-    ("graph", "tool_version", "string"),
-    ("graph", "units", "string"),
-    ("node", "clearance", "double"),
-    ("node", "kind", "string"),
-    ("node", "label", "string"),
-    ("node", "x", "double"),
-    ("node", "y", "double"),
-    ("edge", "clearance_min", "double"),
-    ("edge", "geometry", "string"),
-    ("edge", "length", "double"),
-    ("edge", "weight", "double"),
-)
-#: Keys written only when the graph carries them: what a station is and which way it faces,
-#: a rectangular or car robot's body checks.
-BODY_KEYS = (
-    ("node", "heading", "double"),
-    ("node", "station_kind", "string"),
-    ("node", "reverse_only", "boolean"),
-    ("node", "turns", "string"),
-    ("edge", "clearance_body", "double"),
-)
-_PREFIX = {"graph": "g", "node": "n", "edge": "e"}
-
-
-def _key_id(domain: str, name: str) -> str:
-    return f"{_PREFIX[domain]}_{name}"
 
 
 def _text(value: object, kind: str) -> str:
@@ -100,8 +67,73 @@ def linestring_wkt(coords: np.ndarray) -> str:
         f"{exact_float(x)} {exact_float(y)}" for x, y in coords.tolist()) + ")"
 
 
+def render_graph(graph) -> bytes:
+    """Return `graph` as GraphML 1.0 bytes (UTF-8), identical for identical graphs.
+
+    Works from the graph alone, as networkx's ``write_graphml`` does: every key of the
+    table in `graphml_keys` is declared (the optional ones when some node or edge holds
+    them), and each graph, node and edge attribute of the table that the graph holds is
+    written. A graph read back by ``read_graphml`` writes the
+    same bytes.
+
+    Parameters
+    ----------
+    graph : networkx.MultiGraph
+        In the in-memory contract (see roadmap.model.Roadmap): node attributes x, y,
+        clearance, kind, label; edge keys are edge ids, edge attributes length, weight,
+        clearance_min, geometry (LineString); graph attributes units, source, sha256,
+        robot_radius, margin, required_clearance, tool_version.
+
+    Returns
+    -------
+    bytes
+        An XML document; see the module docstring for its layout.
+
+    Examples
+    --------
+    >>> import networkx as nx, shapely
+    >>> g = nx.MultiGraph(units="m")
+    >>> g.add_node("n1", x=0.0, y=1.0, clearance=1.0, kind="end", label="")
+    >>> g.add_node("n2", x=4.0, y=1.0, clearance=1.0, kind="end", label="")
+    >>> _ = g.add_edge("n2", "n1", key="e1", length=4.0, weight=4.0, clearance_min=1.0,
+    ...                geometry=shapely.LineString([(4, 1), (0, 1)]))
+    >>> b"LINESTRING (0.0 1.0, 4.0 1.0)" in render_graph(g)
+    True
+    """
+    present = [(domain, name, kind) for domain, name, kind in OPTIONAL_KEYS
+               if any(name in attrs for *_, attrs in (graph.nodes(data=True) if domain == "node"
+                                                     else graph.edges(data=True)))]
+    keys = sorted(KEYS + tuple(present), key=lambda key: ("gne".index(key[0][0]), key[1]))
+    types = {(domain, name): kind for domain, name, kind in keys}
+    root = etree.Element(_Q + "graphml", nsmap={None: GRAPHML_NS, "xsi": XSI_NS})
+    root.set(f"{{{XSI_NS}}}schemaLocation", SCHEMA_LOCATION)
+    for domain, name, kind in keys:
+        etree.SubElement(root, _Q + "key", {"id": key_id(domain, name), "for": domain,
+                                           "attr.name": name, "attr.type": kind})
+    element = etree.SubElement(root, _Q + "graph", {"id": "roadmap",
+                                                    "edgedefault": "undirected"})
+
+    def add_data(parent, domain, values):
+        for name in sorted(values):
+            if (domain, name) in types:
+                data = etree.SubElement(parent, _Q + "data", {"key": key_id(domain, name)})
+                data.text = _text(values[name], types[domain, name])
+
+    add_data(element, "graph", graph.graph)
+    for node_id in sorted(graph.nodes, key=natural_key):
+        node = etree.SubElement(element, _Q + "node", {"id": xml_text(node_id)})
+        add_data(node, "node", {"label": ""} | graph.nodes[node_id])
+    for edge_id, source, target, attrs, coords in oriented_edges(graph):
+        edge = etree.SubElement(element, _Q + "edge", {"id": xml_text(edge_id),
+                                                      "source": xml_text(source),
+                                                      "target": xml_text(target)})
+        add_data(edge, "edge", attrs | {"geometry": linestring_wkt(coords)})
+    return etree.tostring(root, xml_declaration=True, encoding="UTF-8", pretty_print=True)
+
+
 def render_graphml(plan, roadmap) -> bytes:
-    """Return the roadmap as GraphML 1.0 bytes (UTF-8), identical for identical input.
+    """Return the roadmap as GraphML 1.0 bytes: `render_graph` of its graph, with the
+    drawing's file name and SHA-256, the robot and the tool version as graph attributes.
 
     Parameters
     ----------
@@ -113,64 +145,11 @@ def render_graphml(plan, roadmap) -> bytes:
     Returns
     -------
     bytes
-        An XML document; see the module docstring for its layout.
-
-    Examples
-    --------
-    >>> import networkx as nx, shapely
-    >>> from roadmap.model import Robot, Roadmap
-    >>> from converter.floorplan import FloorPlan
-    >>> g = nx.MultiGraph()
-    >>> g.add_node("n1", x=0.0, y=1.0, clearance=1.0, kind="end", label="")
-    >>> g.add_node("n2", x=4.0, y=1.0, clearance=1.0, kind="end", label="")
-    >>> _ = g.add_edge("n2", "n1", key="e1", length=4.0, weight=4.0, clearance_min=1.0,
-    ...                geometry=shapely.LineString([(4, 1), (0, 1)]))
-    >>> empty = shapely.MultiPolygon()
-    >>> plan = FloorPlan("hall.dxf", "0" * 64, "m", 1.0, "", {}, empty, ())
-    >>> rm = Roadmap(g, Robot.disc(0.35, margin=0.1), empty, empty)
-    >>> b"LINESTRING (0.0 1.0, 4.0 1.0)" in render_graphml(plan, rm)
-    True
     """
-    graph = roadmap.graph
     robot = roadmap.robot
-    graph_values = {
+    graph = roadmap.graph.copy(as_view=True)
+    graph.graph = roadmap.graph.graph | {
         "units": "m", "source": plan.source, "sha256": plan.sha256,
-        "robot_radius": robot.radius, "margin": robot.margin, "clearance": robot.clearance,
-        "tool_version": TOOL_VERSION,
-    }
-    body = [(domain, name, kind) for domain, name, kind in BODY_KEYS
-            if any(name in attrs for *_, attrs in (graph.nodes(data=True) if domain == "node"
-                                                  else graph.edges(data=True)))]
-    keys = sorted(KEYS + tuple(body), key=lambda key: ("gne".index(key[0][0]), key[1]))
-    types = {(domain, name): kind for domain, name, kind in keys}
-
-    root = etree.Element(_Q + "graphml", nsmap={None: GRAPHML_NS, "xsi": _XSI_NS})
-    root.set(f"{{{_XSI_NS}}}schemaLocation", _SCHEMA_LOCATION)
-    for domain, name, kind in keys:
-        etree.SubElement(root, _Q + "key", {"id": _key_id(domain, name), "for": domain,
-                                       "attr.name": name, "attr.type": kind})
-    element = etree.SubElement(root, _Q + "graph", {"id": "roadmap", "edgedefault": "undirected"})
-
-    def add_data(parent, domain, values):
-        for name in sorted(values):
-            data = etree.SubElement(parent, _Q + "data", {"key": _key_id(domain, name)})
-            data.text = _text(values[name], types[domain, name])
-
-    add_data(element, "graph", graph_values)
-    for node_id in sorted(graph.nodes, key=natural_key):
-        attrs = graph.nodes[node_id]
-        node = etree.SubElement(element, _Q + "node", {"id": xml_text(node_id)})
-        add_data(node, "node", {name: attrs[name] for name in ("x", "y", "clearance", "kind")}
-                 | {"label": attrs.get("label", "")}
-                 | {name: attrs[name] for domain, name, _ in body
-                    if domain == "node" and name in attrs})
-    for edge_id, source, target, attrs, coords in oriented_edges(graph):
-        edge = etree.SubElement(element, _Q + "edge", {"id": xml_text(edge_id),
-                                                  "source": xml_text(source),
-                                                  "target": xml_text(target)})
-        add_data(edge, "edge", {name: attrs[name] for name in
-                                ("length", "weight", "clearance_min")}
-                 | {"geometry": linestring_wkt(coords)}
-                 | {name: attrs[name] for domain, name, _ in body
-                    if domain == "edge" and name in attrs})
-    return etree.tostring(root, xml_declaration=True, encoding="UTF-8", pretty_print=True)
+        "robot_radius": robot.radius, "margin": robot.margin,
+        "required_clearance": robot.clearance, "tool_version": TOOL_VERSION}
+    return render_graph(graph)

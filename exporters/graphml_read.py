@@ -19,9 +19,7 @@ from lxml import etree
 from shapely.geometry import LineString
 
 from clearway.errors import GraphFileError, LimitError
-
-#: The GraphML 1.0 namespace.
-GRAPHML_NS = "http://graphml.graphdrawing.org/xmlns"
+from clearway.exporters.graphml_keys import GRAPHML_NS, NUMBERS, RENAMED
 
 #: Largest file read by default, bytes (a 20,000-bay warehouse graph is a few MiB).
 MAX_GRAPHML_BYTES = 256 * 2**20
@@ -51,7 +49,9 @@ def read_graphml(source: str | os.PathLike | bytes | BinaryIO, *,
         String node ids with attributes x, y, clearance (float, m; NaN when the file has
         none), kind and label (str); edge key = edge id; edge attributes length, weight,
         clearance_min (float, m) and geometry (LineString from source to target node).
-        Graph attributes as written (units, source, sha256, tool_version, robot_radius, ...).
+        Graph attributes as written (units, source, sha256, tool_version, robot_radius,
+        margin, required_clearance; an older file's ``clearance`` is read as
+        required_clearance).
         Optional attributes missing from older files are filled in: weight = length,
         length = geometry length, geometry = straight segment, label = "", kind from degree.
 
@@ -158,6 +158,9 @@ def _build_graph(name: str, root) -> nx.MultiGraph:
         raise GraphFileError(f"{name}: no node x/y keys; this is not a clearway graph")
     graph = nx.MultiGraph()
     graph.graph.update(_read_data(name, "graph", element, keys))
+    for (domain, old), new in RENAMED.items():     # files written before the rename
+        if domain == "graph" and old in graph.graph:
+            graph.graph.setdefault(new, graph.graph.pop(old))
     units = graph.graph.get("units", "m")
     if units != "m":
         raise GraphFileError(f"{name}: graph units are {units!r}; clearway graphs are in 'm'")
@@ -188,8 +191,7 @@ def _read_keys(name: str, root) -> dict[str, tuple[str, str, str, str | None]]:
 
 def _convert(name: str, where: str, attr: str, kind: str, text: str | None):
     text = "" if text is None else text
-    if attr in ("x", "y", "clearance", "length", "weight", "clearance_min",
-                "robot_radius", "margin") or kind in _NUMBER_TYPES:
+    if attr in NUMBERS or kind in _NUMBER_TYPES:
         try:
             return float(text)
         except ValueError:

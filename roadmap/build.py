@@ -241,7 +241,7 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
                                                    station_xy, labels, joins, field, offset,
                                                    refine_below=comfort)
     graph.graph.update(units="m", robot_radius=float(robot.radius),
-                       margin=float(robot.margin), clearance=c)
+                       margin=float(robot.margin), required_clearance=c)
     for index, node in station_nodes.items():
         kind, heading = (*stations[index][3:5], "", None)[:2]
         graph.nodes[node]["station_kind"] = str(kind)

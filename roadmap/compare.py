@@ -174,7 +174,7 @@ def compare_graphs(old: nx.MultiGraph, new: nx.MultiGraph, *,
         Clearance below which a node or lane is a pinch point, metres (nothing above it
         is ever one). Default, as in
         ``build_roadmap``: the new graph's required clearance (graph attribute
-        ``clearance``) + 0.2 m, or `DEFAULT_COMFORT` when the file does not say.
+        ``required_clearance``) + 0.2 m, or `DEFAULT_COMFORT` when the file does not say.
     narrowing_tolerance : float
         A node below comfort before and after whose clearance fell by more than this and
         is now a strict local minimum of clearance among its neighbours is a new
@@ -185,7 +185,7 @@ def compare_graphs(old: nx.MultiGraph, new: nx.MultiGraph, *,
     GraphChanges
     """
     if comfort_clearance is None:
-        required = new.graph.get("clearance")
+        required = new.graph.get("required_clearance")
         comfort_clearance = (default_comfort_clearance(required)
                              if isinstance(required, float) and math.isfinite(required)
                              else DEFAULT_COMFORT)

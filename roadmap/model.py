@@ -273,7 +273,8 @@ class Roadmap:
         room it stands in, "" outside every room). Edge keys are edge
         ids (str); edge attributes length, weight, clearance_min (float, m) and geometry
         (shapely LineString joining the two end nodes, in either direction).
-        Graph attributes: units="m", robot_radius, margin, clearance (floats, m).
+        Graph attributes: units="m", robot_radius, margin, required_clearance
+        (radius + margin) (floats, m).
     robot : Robot
     inflated : shapely geometry
         The obstacles grown by the required clearance.

@@ -238,7 +238,7 @@ def test_reads_what_the_exporter_writes(shift):
         assert got["geometry"].equals(attrs["geometry"])
         assert (got["length"], got["weight"], got["clearance_min"]) == (
             attrs["length"], attrs["weight"], attrs["clearance_min"])
-    assert back.graph["clearance"] == roadmap.robot.clearance
+    assert back.graph["required_clearance"] == roadmap.robot.clearance
     assert back.graph["source"] == plan.source and back.graph["sha256"] == plan.sha256
 
 

@@ -97,7 +97,7 @@ def assert_exact_clearances(roadmap, free, tolerance=0.01):
 
 def assert_lanes_clear(roadmap, tolerance=1e-3):
     """Every lane keeps the required clearance c (is clear of the inflated obstacles)."""
-    c = roadmap.graph.graph["clearance"]
+    c = roadmap.graph.graph["required_clearance"]
     for _, _, data in roadmap.graph.edges(data=True):
         assert data["clearance_min"] >= c - tolerance
 

@@ -121,7 +121,7 @@ def test_small_moves_are_not_reported_and_bad_options_refused():
 
 def test_comfort_defaults_to_required_clearance_plus_allowance():
     old, new = revisions()
-    new.graph["clearance"] = 0.45          # robot radius 0.35 m + margin 0.1 m
+    new.graph["required_clearance"] = 0.45          # robot radius 0.35 m + margin 0.1 m
     changes = compare_graphs(old, new)
     # comfort 0.45 + 0.2 = 0.65 m: node n4 (0.65 m) is not below it, n6 (0.8 m) neither,
     # lanes e3 (0.5 m) is; e4 (0.55 m) was already below

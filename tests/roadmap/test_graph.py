@@ -21,7 +21,7 @@ def test_graph_contract():
     graph = roadmap.graph
     assert isinstance(graph, nx.MultiGraph) and not graph.is_directed()
     assert nx.number_of_selfloops(graph) == 0
-    assert graph.graph["units"] == "m" and graph.graph["clearance"] == pytest.approx(0.45)
+    assert graph.graph["units"] == "m" and graph.graph["required_clearance"] == pytest.approx(0.45)
     xy = [(d["x"], d["y"]) for _, d in sorted(graph.nodes(data=True),
                                                key=lambda item: int(item[0][1:]))]
     assert xy == sorted(xy)                       # ids follow sorted (x, y)
