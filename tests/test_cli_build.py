@@ -115,6 +115,23 @@ def test_progress_and_summary_on_stderr(built):
     assert any(line.startswith(f"files in {outdir}") for line in lines)
 
 
+def test_builds_in_processes_with_different_hash_seeds_give_identical_files(tmp_path):
+    # sets and dicts of strings iterate in an order that depends on PYTHONHASHSEED, which
+    # differs between processes: two processes, two seeds, one set of bytes
+    import os
+    import subprocess
+    import sys
+    folders = []
+    for seed in ("0", "4021"):
+        folder = tmp_path / f"seed-{seed}"
+        subprocess.run([sys.executable, "-c", "from clearway.cli import main; main()", "build",
+                        str(SAMPLES / "clinic.dxf"), "-o", str(folder), "--quiet"],
+                       env={**os.environ, "PYTHONHASHSEED": seed}, check=True, timeout=300)
+        folders.append(folder)
+    assert set(_snapshot(folders[0])) == FILES
+    assert _snapshot(folders[0]) == _snapshot(folders[1])
+
+
 def test_two_builds_give_byte_identical_files(built, tmp_path):
     _, first = built["clinic.dxf"]
     result = run("build", SAMPLES / "clinic.dxf", "-o", tmp_path, "--quiet")

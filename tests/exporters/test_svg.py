@@ -73,7 +73,7 @@ def test_title_block_has_the_caution_date_source_and_robot(plan, roadmap):
     root = _parse(render_svg(plan, roadmap, date="2026-01-31"))
     (block,) = [g for g in root.iter(f"{SVG}g") if g.get("id") == "title-block"]
     text = " ".join("".join(t.itertext()) for t in block.iter(f"{SVG}text"))
-    # the project's binding safety wording (RULES.md rule 4)
+    # the safety wording every output carries (README "Safety"; exporters/text.py)
     for phrase in ("ISO 3691-4", "robot maker's safety manual", "local codes",
                    "qualified people", "Planning aid"):
         assert phrase in text

@@ -38,11 +38,13 @@ def test_coincident_station_does_not_crash(stations):
 
 def test_duplicate_stations_rectangular_robot():
     # analytic: a 1.0 x 0.6 m robot is inflated by hypot(1.0, 0.6) / 2 = 0.583 m, c = 0.683 m;
-    # the 2 m corridor's lane y = 1 reaches x = 1, so a station at (1, 1) sits on its end.
+    # the 2 m corridor's lane y = 1 reaches x = 1, so stations at (1, 1) sit on its end,
+    # two of them on the same spot
     obstacles, free = corridor(2.0)
     robot = Robot.rectangle(1.0, 0.6, margin=0.1)
-    roadmap = build_roadmap(obstacles, free, [("A", 1.0, 1.0)], robot=robot)
-    assert roadmap.findings.stations[0].reachable
+    roadmap = build_roadmap(obstacles, free, [("A", 1.0, 1.0), ("B", 1.0, 1.0)], robot=robot)
+    assert [s.reachable for s in roadmap.findings.stations] == [True, True]
+    assert nx.is_connected(roadmap.graph)
 
 
 def test_pinch_point_kept_where_station_splits_lane():

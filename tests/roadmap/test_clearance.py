@@ -1,0 +1,69 @@
+"""roadmap/clearance.py: the exact clearance field, checked against shapely (GEOS)."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+import shapely
+
+from clearway.roadmap.clearance import clearance_field
+from clearway.roadmap.inflate import boundary_segments
+
+
+def _room_with_rack():
+    hall = shapely.box(0, 0, 20, 12)
+    return hall.difference(shapely.box(5, 4, 15, 6.2)).difference(
+        shapely.Point(3, 9).buffer(0.4, quad_segs=16))
+
+
+def test_clearance_at_random_points_equals_shapely_distance_to_the_boundary():
+    free = _room_with_rack()
+    field = clearance_field(boundary_segments(free)[0])
+    rng = np.random.default_rng(16)
+    xy = rng.uniform((-2, -2), (22, 14), size=(5000, 2))
+    # independent reference: GEOS's exact point-to-linework distance
+    expected = shapely.distance(shapely.points(xy), free.boundary)
+    assert np.allclose(field.at(xy), expected, rtol=0, atol=1e-9)
+
+
+def test_spacing_does_not_change_the_answer():
+    # the k-d tree of boundary samples only picks candidates; a sparse sampling must fall
+    # back to the exact query where the candidates are in doubt
+    free = _room_with_rack()
+    segments = boundary_segments(free)[0]
+    xy = np.random.default_rng(7).uniform((0, 0), (20, 12), size=(2000, 2))
+    fine, sparse = clearance_field(segments, spacing=0.05), clearance_field(segments, spacing=3.0)
+    assert np.allclose(fine.at(xy), sparse.at(xy), rtol=0, atol=1e-9)
+
+
+def test_along_samples_every_step_and_measures_each_sample():
+    walls = np.array([[[0, 0], [10, 0]], [[0, 2], [10, 2]]], dtype=float)
+    field = clearance_field(walls)
+    line = shapely.LineString([(0, 0.5), (10, 1.5)])
+    xy, owner, clearance = field.along([line], 0.25)
+    # analytic: 10.05 m of line in steps of at most 0.25 m -> at least 41 samples, both ends
+    assert len(xy) >= 41 and (owner == 0).all()
+    assert tuple(xy[0]) == (0, 0.5) and tuple(xy[-1]) == (10, 1.5)
+    assert np.max(np.hypot(*np.diff(xy, axis=0).T)) <= 0.25 + 1e-9
+    # analytic: between walls y = 0 and y = 2 the clearance is min(y, 2 - y)
+    assert np.allclose(clearance, np.minimum(xy[:, 1], 2 - xy[:, 1]), atol=1e-12)
+
+
+def test_no_boundary_means_infinite_clearance():
+    assert clearance_field(np.empty((0, 2, 2))).at([[1.0, 2.0]]).tolist() == [np.inf]
+
+
+@pytest.mark.parametrize("fine", [0.01, 0.03])
+def test_adaptive_sampling_finds_the_minimum_a_coarse_step_misses(fine):
+    # a lane passing a column: coarse samples 1.5 m apart straddle the closest point
+    free = shapely.box(0, 0, 10, 4).difference(shapely.Point(5.0, 1.0).buffer(0.5, 64))
+    field = clearance_field(boundary_segments(free)[0])
+    line = shapely.LineString([(2.0, 2.0), (9.0, 2.0)])   # coarse samples at x = 4.8, 6.2
+    _, _, coarse = field.along([line], 1.5)
+    _, _, adaptive = field.along_adaptive([line], 1.5, fine=fine, tolerance=0.002)
+    dense = shapely.points(shapely.get_coordinates(shapely.segmentize(line, 0.001)))
+    exact = shapely.distance(dense, free.boundary).min()
+    # analytic: the column of radius 0.5 at (5, 1) is 1.0 - 0.5 = 0.5 m from y = 2
+    assert exact == pytest.approx(0.5, abs=2e-3)
+    assert coarse.min() > exact + 0.01                  # the coarse step misses it
+    assert adaptive.min() == pytest.approx(exact, abs=0.002 + fine ** 2)
