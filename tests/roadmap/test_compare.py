@@ -135,7 +135,7 @@ def test_comfort_defaults_to_required_clearance_plus_allowance():
 
 def test_issue_15_no_pinch_point_above_comfort_and_narrowing_below_it():
     old, new = revisions()
-    new.graph["clearance"] = 0.45                 # comfort 0.45 + 0.2 = 0.65 m
+    new.graph["required_clearance"] = 0.45        # comfort 0.45 + 0.2 = 0.65 m
     old.nodes["n2"]["clearance"], new.nodes["n2"]["clearance"] = 2.5, 2.08
     found = {p.id: p.reason for p in compare_graphs(old, new).new_pinch_points}
     assert "n2" not in found                      # 2.08 m against 0.65 m is no pinch point
