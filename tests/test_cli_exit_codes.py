@@ -79,7 +79,7 @@ def test_issue_12_debug_prints_the_traceback_instead(tmp_path, monkeypatch, prev
 @pytest.mark.parametrize("args, message", [
     (lambda d: ["build", d / "absent.dxf", "-o", d / "out"], r"absent\.dxf"),
     (lambda d: ["build", DRAWING, "-o", d / "out", "--robot-radius", "-1"],
-     r"--robot-radius must be > 0 m"),
+     r"'--robot-radius': -1\.0 is not in the range x>0"),
     (lambda d: ["layers", d], r"pytest-"),                    # a folder (tmp_path), not a drawing
     (lambda d: ["route", d / "absent.graphml", "A", "B"], r"absent\.graphml"),
 ])
@@ -97,5 +97,5 @@ def test_a_bad_checks_value_in_the_config_file_is_bad_input_not_a_bug(tmp_path):
     result = run("build", DRAWING, "-o", tmp_path / "out", "-q", "--config", config)
     assert result.exit_code == 2
     assert result.stderr.splitlines() == [
-        "Error: [checks] personnel_clearance must be >= 0 m, got -0.5"]
+        "Error: [checks] personnel_clearance: -0.5 is not in the range x>=0.0."]
     assert not (tmp_path / "out").exists()
