@@ -17,7 +17,9 @@ from __future__ import annotations
 
 import numpy as np
 import shapely
+import shapely.affinity
 from lxml import etree
+from shapely.ops import polylabel  # shapely.polylabel exists only from shapely 2.1
 
 from clearway.exporters.graphml import oriented_edges
 from clearway.exporters.svg_labels import LabelPlacer
@@ -83,10 +85,16 @@ def _summary_lines(plan, roadmap, date: str) -> list[str]:
         f"{graph.number_of_edges()} lanes, {lane_length:.1f} m in total  \u00b7  "
         f"{junctions} junctions  \u00b7  stations reached {reached}/{len(plan.stations)}  "
         f"\u00b7  {pinch}",
-        f"{len(findings.narrow_passages)} narrow passages  \u00b7  {len(plan.leaks)} leaks  "
-        f"\u00b7  {len(findings.personnel)} lanes short of personnel clearance  \u00b7  "
+        f"{_count(len(findings.narrow_passages), 'narrow passage')}  \u00b7  "
+        f"{_count(len(plan.leaks), 'leak')}  \u00b7  "
+        f"{_count(len(findings.personnel), 'lane')} short of personnel clearance  \u00b7  "
         f"{_layers_left_out(plan.left_out)}",
     ]
+
+
+def _count(number: int, singular: str) -> str:
+    """'1 leak', '2 leaks'."""
+    return f"{number} {singular}{'' if number == 1 else 's'}"
 
 
 def _layers_left_out(left_out) -> str:
@@ -94,7 +102,7 @@ def _layers_left_out(left_out) -> str:
     without = sum(1 for layer in left_out if not layer.ignored)
     if not left_out:
         return "no layer left out"
-    return (f"{len(left_out)} layer{'' if len(left_out) == 1 else 's'} left out"
+    return (f"{_count(len(left_out), 'layer')} left out"
             + (f" ({without} without a role)" if without and without < len(left_out) else
                " (no role)" if without else " (on purpose)"))
 
@@ -221,10 +229,14 @@ def render_svg(plan, roadmap, *, date: str) -> bytes:
                            prefer_left=x > right) if label is not None else None)
         add_marker(marks, kind, x, y, font, label, label_at=at)
     names = etree.SubElement(root, "g", id="room-names")
-    for room in roadmap.rooms:
+    for room in roadmap.rooms:       # last: a name moves off lanes, symbols and labels
         if room.names:
-            add_text(names, room.x - ox, -(room.y - oy), xml_text(room.names[0]), 0.9 * font,
-                     anchor="middle", halo=True, colour="#3A3A3A")
+            inside = shapely.affinity.translate(room.polygon, -ox, -oy)
+            largest = max(getattr(inside, "geoms", [inside]), key=lambda part: part.area)
+            centre = shapely.get_coordinates(polylabel(largest, 0.25 * font))[0]
+            x, y, anchor = placer.place(*centre, room.names[0], 0.9 * font, 0.0, within=inside)
+            add_text(names, x, -y, xml_text(room.names[0]), 0.9 * font, anchor=anchor,
+                     halo=True, colour="#3A3A3A")
     present = {kind for kind, *_ in symbols}
     drawn = {role for role in AREA_STYLE
              if areas.get(role) is not None and not areas[role].is_empty}

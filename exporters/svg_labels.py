@@ -48,25 +48,28 @@ class LabelPlacer:
         self._symbols.append(geometry)
         self._symbol_tree = None
 
-    def _cost(self, box) -> float:
+    def _cost(self, box, within=None) -> float:
         if self._symbol_tree is None:
             self._symbol_tree = STRtree(self._symbols)
         clash = _CLASH * (len(self._symbol_tree.query(box, predicate="intersects"))
-                          + sum(1 for taken in self._taken if taken.intersects(box)))
+                          + sum(1 for taken in self._taken if taken.intersects(box))
+                          + (within is not None and not within.covers(box)))
         lanes = self._lane_tree.query(box, predicate="intersects")
         return clash + sum(self._lanes[i].intersection(box).area for i in lanes)
 
     def place(self, x: float, y: float, text: str, size: float, reach: float, *,
-              prefer_left: bool = False) -> tuple[float, float, str]:
+              prefer_left: bool = False, within=None) -> tuple[float, float, str]:
         """Return (x, y, anchor) of the baseline for `text` beside the symbol at (x, y).
 
-        `reach` is the symbol's half-size, metres; positions start just beyond it.
+        `reach` is the symbol's half-size, metres; positions start just beyond it. With
+        `within` (a polygon: the name of an area), the text is first tried centred on
+        (x, y), and a position whose box leaves `within` counts as a clash.
         """
         gap = reach + 0.3 * size
         sides = [("start", gap), ("end", -gap)]
         if prefer_left:
             sides.reverse()
-        candidates = []
+        candidates = [(x, y - 0.35 * size, "middle")] if within is not None else []
         for step in (0.0, 1.0, 2.2):
             for anchor, dx in sides:
                 for dy in (-0.35 * size, 0.9 * size + step * size, -1.6 * size - step * size):
@@ -76,7 +79,7 @@ class LabelPlacer:
         best, best_cost = None, float("inf")
         for cx, cy, anchor in candidates:
             box = text_box(cx, cy, text, size, anchor)
-            cost = self._cost(box)
+            cost = self._cost(box, within)
             if cost < best_cost:
                 best, best_cost = (cx, cy, anchor, box), cost
             if cost == 0:

@@ -4,11 +4,13 @@ lists what occurs, and its colours are told apart (CIEDE2000, computed by scikit
 from __future__ import annotations
 
 import io
+import json
 from pathlib import Path
 
 import numpy as np
 import pytest
 import resvg_py
+import shapely
 from click.testing import CliRunner
 from lxml import etree
 from PIL import Image
@@ -114,8 +116,9 @@ def test_labels_leave_the_lanes_visible(previews, name):
     # lane pixels (where removing the lanes changes the picture) must not change when the
     # labels are drawn
     root = etree.fromstring(previews[name])
-    for text in root.find(f".//{SVG}g[@id='marks']").iter(f"{SVG}text"):
-        text.getparent().remove(text)
+    for group in ("marks", "room-names"):
+        for text in list(root.find(f".//{SVG}g[@id='{group}']").iter(f"{SVG}text")):
+            text.getparent().remove(text)
     without_labels = _render(root)
     lanes = root.find(f".//{SVG}g[@id='lanes']")
     lanes.getparent().remove(lanes)
@@ -125,3 +128,23 @@ def test_labels_leave_the_lanes_visible(previews, name):
     # from memory: anti-aliased glyph and halo edges touch a lane's outermost pixels; a
     # label drawn across a lane changes hundreds of them
     assert covered.sum() <= 0.002 * lane_pixels.sum(), (covered.sum(), lane_pixels.sum())
+
+
+def test_room_names_stay_in_their_rooms(tmp_path):
+    result = CliRunner().invoke(main, ["build", str(SAMPLES / "clinic.dxf"), "-o",
+                                       str(tmp_path), "-q", "--no-html"])
+    assert result.exit_code == 0, result.stderr
+    collection = json.loads((tmp_path / "roadmap.geojson").read_text(encoding="utf-8"))
+    rooms = {f["properties"]["names"][0]: shapely.geometry.shape(f["geometry"])
+             for f in collection["features"]
+             if f["properties"]["element"] == "room" and f["properties"]["names"]}
+    root = etree.parse(str(tmp_path / "roadmap.svg")).getroot()
+    (group,) = [g for g in root.iter(f"{SVG}g") if g.get("id") == "room-names"]
+    placed = {"".join(t.itertext()): (float(t.get("x")), -float(t.get("y")))
+              for t in group.iter(f"{SVG}text")}
+    # every named room of the GeoJSON (another exporter) has its name in the SVG, inside
+    # the room; the clinic lies near the origin, so the SVG draws it unshifted
+    # (svg.drawing_origin) and only flips y
+    assert set(placed) == set(rooms) and rooms
+    for name, (x, y) in placed.items():
+        assert rooms[name].contains(shapely.Point(x, y)), name
