@@ -193,7 +193,9 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
     views = keep_one_view(mapping, region=region)
     warnings += views.warnings
     _check_mapped(content, roles, by_role, source)
-    _check_size(content, by_role, factor, unit, limits)
+    # a limit or an empty floor that the user's --units explains says so first
+    subject = f"{source}: {mapping.unit_doubt}; as read" if mapping.unit_doubt else source
+    _check_size(content, by_role, factor, unit, limits, subject)
     for (layer, dxftype), count in sorted(content.skipped.items()):
         if layer in visible and mapping.role_of.get(layer) not in (None, "station", "opening"):
             warnings.append(f"{source}: {count} {dxftype} on layer {layer!r} skipped (not plan geometry)")
@@ -250,11 +252,11 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
                             f"in the walls at ({x:.2f}, {y:.2f}) m; close it or draw a boundary")
     free = free_space(container, [regions[role] for role in OBSTACLE_ROLES] + [interior.closures])
     if free.is_empty:
-        raise DrawingError(f"{source}: no enclosed floor: the wall layers "
+        raise DrawingError(f"{subject}: no enclosed floor: the wall layers "
                            f"({', '.join(by_role['wall'][:4]) or 'none'}) enclose no free space and "
                            f"no boundary is drawn;{_wall_hint(mapping)} check the layer roles with "
                            f"`clearway layers`")
-    limits.check("max_boundary_length", float(free.boundary.length), subject=source,
+    limits.check("max_boundary_length", float(free.boundary.length), subject=subject,
                  what="length of the free space's boundary in metres (the roadmap samples it "
                       "every 0.25 to 1 m)")
     stations = find_stations(content, by_role["station"], factor, label_radius, source)
@@ -294,8 +296,9 @@ def _wall_hint(mapping):
     return f" layer {name!r} looks like walls ({reason}): add --walls {name!r};"
 
 
-def _check_size(content, by_role, factor, unit, limits):
-    """Refuse mapped geometry whose extent or coordinates exceed the limits (metres)."""
+def _check_size(content, by_role, factor, unit, limits, subject):
+    """Refuse mapped geometry whose extent or coordinates exceed the limits (metres);
+    `subject` begins the message (the file, and why its unit looks wrong)."""
     names = [name for names in by_role.values() for name in names]
     boxes = [content.parts[name].extents() for name in names
              if name in content.parts and len(content.parts[name].coords)]
@@ -309,10 +312,11 @@ def _check_size(content, by_role, factor, unit, limits):
     with np.errstate(over="ignore", invalid="ignore"):
         low, high = box[:, :2].min(axis=0) * factor, box[:, 2:].max(axis=0) * factor
         extent = float(np.max(high - low))
-    hint = f"read in units of {unit}: if the drawing is in another unit, pass --units"
-    limits.check("max_coordinate", float(np.max(np.abs([*low, *high]))), subject=content.source,
+    hint = "" if subject != content.source else \
+        f"read in units of {unit}: if the drawing is in another unit, pass --units"
+    limits.check("max_coordinate", float(np.max(np.abs([*low, *high]))), subject=subject,
                  what="largest coordinate of the mapped layers in metres", hint=hint)
-    limits.check("max_extent", extent, subject=content.source,
+    limits.check("max_extent", extent, subject=subject,
                  what="extent of the mapped layers in metres", hint=hint)
 
 

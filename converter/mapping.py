@@ -15,7 +15,8 @@ import shapely
 
 from clearway.errors import DrawingError
 
-from clearway.converter.evidence import decide_from_content, gather_evidence, wall_thicknesses
+from clearway.converter.evidence import (decide_from_content, describe, gather_evidence,
+                                         wall_thicknesses)
 from clearway.converter.floorplan import ROLES, LeftOutLayer
 from clearway.converter.inserts import BLOCK_OPENING_PREFIX
 from clearway.converter.openings import arc_radius
@@ -43,6 +44,7 @@ class LayerMapping:
     unit_evidence: tuple
     warnings: list = field(default_factory=list)
     left_out: tuple = ()               # LeftOutLayer per visible layer no role takes
+    unit_doubt: str = ""               # why --units looks wrong ("" when it does not)
 
 
 def _holds(content, name):
@@ -85,10 +87,10 @@ def map_drawing(path, *, roles, units, chord_tolerance, limits):
                             f"default role {layer.default_role} was replaced by {option} "
                             f"{patterns!r}; add {option} {layer.name!r} to keep it")
     decision = _decide_units(content, units, by_role, visible, role_of)
-    unit, factor, note, source_kind, lines, unit_warnings = decision
+    unit, factor, note, source_kind, lines, unit_warnings, doubt = decision
     warnings += unit_warnings
     return LayerMapping(content, visible, role_of, by_role, unit, factor, note, source_kind,
-                        lines, warnings, left_out)
+                        lines, warnings, left_out, doubt)
 
 
 def left_out_layers(content, visible, role_of, roles):
@@ -167,7 +169,7 @@ def _span(content, layers):
 
 
 def _decide_units(content, override, by_role, visible, role_of):
-    """(units, m_per_unit, note, source, evidence lines, warnings) for a drawing."""
+    """(units, m_per_unit, note, source, evidence lines, warnings, unit doubt) for a drawing."""
     source = content.source
     mapped = [name for role in ("wall", "boundary", "racking", "keepout", "opening", "stair")
               for name in by_role[role]]
@@ -184,11 +186,42 @@ def _decide_units(content, override, by_role, visible, role_of):
     unit, unit_source, note, lines, warnings = decide_from_content(
         header_unit, override, evidence, source=source)
     if unit_source == "content":
-        return unit, UNITS_TO_M[unit], note, "content", lines, tuple(warnings)
+        return unit, UNITS_TO_M[unit], note, "content", lines, tuple(warnings), ""
     chosen, factor, default_note, span_warnings = decide_units(content.insunits, override, span,
                                                                source=source)
     kind = "option" if override else "header" if header_unit else "assumed"
-    return chosen, factor, default_note, kind, lines, tuple(span_warnings)
+    doubt = unit_doubt(header_unit, override, evidence, source=source)
+    if doubt:
+        span_warnings = (*span_warnings, f"{source}: {doubt}")
+    return chosen, factor, default_note, kind, lines, tuple(span_warnings), doubt
+
+
+def unit_doubt(header_unit, override, evidence, *, source):
+    """Say why --units looks wrong, or "": the header, else the content, decides another unit.
+
+    Parameters
+    ----------
+    header_unit : str or None
+    override : str or None
+        The user's --units.
+    evidence : list of evidence.Evidence
+
+    Returns
+    -------
+    str
+        "read in m as --units says: walls 300 m thick, the plan 60000 m across; in mm, as
+        the header says: walls 0.30 m thick, ...; pass --units mm if that is right", or "".
+    """
+    if override is None or not evidence:
+        return ""
+    natural, kind, *_ = decide_from_content(header_unit, None, evidence, source=source)
+    if natural is None or natural == override:
+        return ""
+    said = ", ".join(describe(item, override) for item in evidence)
+    read = ", ".join(describe(item, natural) for item in evidence)
+    return (f"read in {override} as --units says: {said}; in {natural}, as the "
+            f"{'header' if kind == 'header' else 'content'} says: {read}; pass --units "
+            f"{natural} if that is right")
 
 
 @dataclass
