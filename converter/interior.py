@@ -21,6 +21,9 @@ from clearway.converter.openings import (MAX_DOOR_WIDTH, MAX_OPEN_WIDTH, MAX_WIN
 from clearway.converter.polygons import (as_multipolygon, fill_holes, find_leaks, union_polygons,
                                          wall_regions)
 
+#: Overlap given to a gap where it meets its jambs, metres.
+SEAM = 0.003
+
 _MAX_WIDTH = {"open": MAX_OPEN_WIDTH, "door": MAX_DOOR_WIDTH, "closed": MAX_DOOR_WIDTH,
               "window": MAX_WINDOW_WIDTH}
 
@@ -65,12 +68,18 @@ def building_interior(wall_lines, wall_rings, wall_fills, wall_arcs, *, door_lin
                                           texts=texts_xy, gap_tolerance=gap_tolerance,
                                           max_wall_thickness=max_wall_thickness,
                                           nominal_wall_thickness=nominal_wall_thickness)
-    gaps = find_gaps(solid, loose, max_thickness=max_wall_thickness)
+    hints = np.concatenate([np.asarray(lines, dtype=object) for lines in
+                            (door_lines, window_lines, other_lines, swing_arcs)])
+    gaps = find_gaps(solid, loose, max_thickness=max_wall_thickness, hints=hints)
     kinds = classify_gaps(gaps, door_lines=door_lines, window_lines=window_lines,
                           other_lines=other_lines, swing_arcs=swing_arcs)
-    kept = [(gap, kind) for gap, kind in zip(gaps, kinds) if gap.width <= _MAX_WIDTH[kind]]
-    quads = np.array([gap.quad for gap, _ in kept], dtype=object)
-    shut = np.array([gap.quad for gap, kind in kept if kind in ("window", "closed")], dtype=object)
+    kept = [(gap, kind) for gap, kind in zip(gaps, kinds) if gap.width <= _MAX_WIDTH[kind]
+            and not (gap.minor and kind not in ("door", "window"))]
+    # each gap grown by a few millimetres: a quad that only touches the jambs would leave
+    # hairline slits at its corners, through which the floor escapes
+    quads = shapely.buffer(np.array([gap.quad for gap, _ in kept], dtype=object), SEAM,
+                           join_style="mitre")
+    shut = quads[[kind in ("window", "closed") for _, kind in kept]] if len(kept) else quads
     walls = union_polygons(np.concatenate([shapely.get_parts(solid), shut])) if len(shut) else solid
     bridged = union_polygons(np.concatenate([shapely.get_parts(solid), quads])) if len(quads) \
         else solid
@@ -78,7 +87,7 @@ def building_interior(wall_lines, wall_rings, wall_fills, wall_arcs, *, door_lin
     leaks, container = find_leaks(bridged, base) if find_envelope else ([], base)
     envelope = fill_holes(container)
     openings, closures = [], []
-    for gap, kind in kept:
+    for (gap, kind), quad in zip(kept, quads):
         exterior = find_envelope and _leads_outside(gap, envelope)
         openings.append(Opening(
             x=round(float(gap.middle[0]), 4), y=round(float(gap.middle[1]), 4),
@@ -87,7 +96,7 @@ def building_interior(wall_lines, wall_rings, wall_fills, wall_arcs, *, door_lin
             end=(round(float(gap.end[0]), 4), round(float(gap.end[1]), 4)),
             depth=round(gap.depth, 4)))
         if exterior and kind in ("door", "open"):
-            closures.append(gap.quad)
+            closures.append(quad)
     closures = as_multipolygon(shapely.union_all(closures)) if closures else shapely.MultiPolygon()
     return Interior(walls=walls, container=as_multipolygon(container), closures=closures,
                     openings=tuple(openings), leaks=leaks,

@@ -61,13 +61,19 @@ def map_drawing(path, *, roles, units, chord_tolerance, limits):
     warnings = list(content.warnings)
     wall_like = [name for name in visible if role_of.get(name) in ("wall", "boundary")
                  and _holds(content, name)]
-    if not wall_like and "wall" not in roles.explicit and "boundary" not in roles.explicit:
+    if "wall" not in roles.explicit and "boundary" not in roles.explicit:
         guess = guess_wall_layer(content, visible, role_of)
-        if guess is not None:
+        if guess is not None and not wall_like:
             name, reason = guess
             role_of[name] = "wall"
             warnings.append(f"{source}: no layer is named as walls; took layer {name!r} for walls "
                             f"({reason}); pass --walls to choose")
+        elif guess is not None and _outweighs(content, guess[0], wall_like):
+            name, reason = guess
+            role_of[name] = "wall"
+            warnings.append(f"{source}: the wall layers ({', '.join(sorted(wall_like)[:3])}) hold "
+                            f"few wall faces; layer {name!r} looks more like walls ({reason}) and "
+                            f"was taken for walls too; pass --walls to choose")
     by_role = {role: [] for role in ROLES}
     for name in sorted(content.layer_states):
         role = role_of.get(name)
@@ -155,6 +161,23 @@ def guess_wall_layer(content, visible, role_of):
             reason = (f"{pairs} of its {count} lines have a parallel partner, as wall faces do"
                       if pairs else f"it holds the most linework, {count} lines")
     return None if best is None else (best, reason)
+
+
+#: An unnamed layer is taken for walls beside the named ones when it has this many times
+#: their wall-face pairs, and at least MIN_FACE_PAIRS (a plan imported from PDF or another
+#: program often keeps the structure on a layer named for something else).
+OUTWEIGH_FACTOR = 4
+MIN_FACE_PAIRS = 40
+
+
+def _outweighs(content, name, wall_layers):
+    """True when layer `name` holds far more parallel wall faces than `wall_layers` together."""
+    def pairs(names):
+        geometry = [np.concatenate(content.parts[n].geometries()[:2]) for n in names
+                    if n in content.parts]
+        return len(wall_thicknesses(np.concatenate(geometry))) if geometry else 0
+    found = pairs([name])
+    return found >= MIN_FACE_PAIRS and found >= OUTWEIGH_FACTOR * pairs(wall_layers)
 
 
 def _span(content, layers):

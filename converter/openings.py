@@ -36,12 +36,14 @@ class Gap:
     start, end : (2,) arrays, metres; the middle of the wall at each jamb.
     depth : the wall's thickness at the jamb (0 for a single-line wall), metres.
     quad : Polygon, the gap itself (the jamb face swept across to the other side).
+    minor : found from a pier or column (`wall_ends`): an opening only with a door or window in it.
     """
 
     start: np.ndarray
     end: np.ndarray
     depth: float
     quad: object
+    minor: bool = False
 
     @property
     def width(self) -> float:
@@ -108,41 +110,37 @@ def close_open_wall_ends(lines, *, max_thickness, tolerance=0.01):
     return np.array(segments, dtype=object)
 
 
-def wall_ends(solid, loose, *, max_thickness):
-    """Return the wall ends: (middle (E, 2), outward direction (E, 2), face length (E,)).
+def wall_ends(solid, loose, *, max_thickness, hints=None):
+    """Return the wall ends: (middle (E, 2), outward direction (E, 2), face length (E,), minor (E,)).
 
     A wall end is a face of a solid wall no longer than `max_thickness` + 5 cm whose two
     neighbouring faces turn away from it at about right angles on the same side and run
     back parallel (the end of a bar), on a wall piece larger than a column; or the free end
     of a single-line wall (`loose` lines, face length 0).
+
+    Faces of pieces smaller than a wall (piers between a door and its sidelights, columns)
+    are ends only within 0.3 m of `hints` (opening linework and swing arcs, metres); they
+    are `minor`, and their gaps count only when a door or window is drawn in them.
     """
-    middles, directions, lengths = [], [], []
+    middles, directions, lengths, minor = [], [], [], []
     pieces = shapely.get_parts(solid)
     if len(pieces):
         bounds = shapely.bounds(pieces)
         diagonal = np.hypot(bounds[:, 2] - bounds[:, 0], bounds[:, 3] - bounds[:, 1])
-        pieces = shapely.orient_polygons(shapely.simplify(pieces[diagonal >= MIN_WALL_PIECE], 0.003),
-                                         exterior_cw=False)
-        rings = shapely.get_rings(pieces) if len(pieces) else []
-        for ring in rings:
-            xy = np.asarray(ring.coords)[:-1, :2]
-            if len(xy) < 4:
-                continue
-            edge = np.roll(xy, -1, axis=0) - xy
-            length = np.hypot(edge[:, 0], edge[:, 1])
-            unit = edge / np.maximum(length, 1e-12)[:, None]
-            before, after = np.roll(unit, 1, axis=0), np.roll(unit, -1, axis=0)
-            # material on the left of every edge: a convex corner turns left
-            turn_in = before[:, 0] * unit[:, 1] - before[:, 1] * unit[:, 0]
-            turn_out = unit[:, 0] * after[:, 1] - unit[:, 1] * after[:, 0]
-            antiparallel = np.sum(before * after, axis=1) < -0.9
-            end = (length <= max_thickness + 0.05) & (length >= 0.02) & \
-                (turn_in > 0.9) & (turn_out > 0.9) & antiparallel & \
-                (np.roll(length, 1) > 0.05) & (np.roll(length, -1) > 0.05)
-            for index in np.flatnonzero(end):
-                middles.append(xy[index] + edge[index] / 2.0)
-                directions.append((unit[index, 1], -unit[index, 0]))  # right of the edge: out
-                lengths.append(length[index])
+        small = diagonal < MIN_WALL_PIECE
+        is_minor = np.zeros(len(pieces), dtype=bool)
+        if hints is not None and len(hints) and small.any():
+            near = shapely.STRtree(hints).query(pieces[small], predicate="dwithin", distance=0.3)
+            is_minor[np.flatnonzero(small)[np.unique(near[0])]] = True
+        chosen = ~small | is_minor
+        pieces = shapely.orient_polygons(shapely.simplify(pieces[chosen], 0.003), exterior_cw=False)
+        for piece, piece_minor in zip(pieces, is_minor[chosen]):
+            for ring in shapely.get_rings(piece):
+                found = _bar_ends(np.asarray(ring.coords)[:-1, :2], max_thickness)
+                middles += found[0]
+                directions += found[1]
+                lengths += found[2]
+                minor += [bool(piece_minor)] * len(found[0])
     loose = _without_ticks(np.asarray(loose, dtype=object))
     if len(loose):
         coords = [np.asarray(line.coords)[:, :2] for line in loose]
@@ -156,9 +154,32 @@ def wall_ends(solid, loose, *, max_thickness):
         middles += list(ends[free])
         directions += list(outward[free] / norm[free][:, None])
         lengths += [0.0] * int(free.sum())
+        minor += [False] * int(free.sum())
     if not middles:
-        return np.empty((0, 2)), np.empty((0, 2)), np.empty(0)
-    return np.array(middles, dtype=float), np.array(directions, dtype=float), np.array(lengths)
+        return np.empty((0, 2)), np.empty((0, 2)), np.empty(0), np.empty(0, dtype=bool)
+    return (np.array(middles, dtype=float), np.array(directions, dtype=float), np.array(lengths),
+            np.array(minor, dtype=bool))
+
+
+def _bar_ends(xy, max_thickness):
+    """Ends of bars on one counter-clockwise ring `xy` (open, (N, 2)): (middles, outward, lengths)."""
+    if len(xy) < 4:
+        return [], [], []
+    edge = np.roll(xy, -1, axis=0) - xy
+    length = np.hypot(edge[:, 0], edge[:, 1])
+    unit = edge / np.maximum(length, 1e-12)[:, None]
+    before, after = np.roll(unit, 1, axis=0), np.roll(unit, -1, axis=0)
+    # material on the left of every edge: a convex corner turns left
+    turn_in = before[:, 0] * unit[:, 1] - before[:, 1] * unit[:, 0]
+    turn_out = unit[:, 0] * after[:, 1] - unit[:, 1] * after[:, 0]
+    antiparallel = np.sum(before * after, axis=1) < -0.9
+    end = (length <= max_thickness + 0.05) & (length >= 0.02) & \
+        (turn_in > 0.9) & (turn_out > 0.9) & antiparallel & \
+        (np.roll(length, 1) > 0.05) & (np.roll(length, -1) > 0.05)
+    index = np.flatnonzero(end)
+    middles = list(xy[index] + edge[index] / 2.0)
+    outward = [(unit[i, 1], -unit[i, 0]) for i in index]  # right of the edge: out
+    return middles, outward, list(length[index])
 
 
 #: Short strokes across a single-line wall mark a jamb (common practice); no longer than this.
@@ -186,20 +207,22 @@ def _without_ticks(lines):
     return lines
 
 
-def find_gaps(solid, loose, *, max_thickness, max_width=MAX_WINDOW_WIDTH):
+def find_gaps(solid, loose, *, max_thickness, max_width=MAX_WINDOW_WIDTH, hints=None):
     """Find the gaps between wall ends and the wall faces they face.
 
     From each wall end, rays go out along its direction (from the middle and, on a thick
     wall, from points a fifth of the face in from each corner). The gap is accepted when all
     rays meet a wall within `max_width` at nearly the same distance (the face opposite is
     parallel to the end) and the gap swept between holds no wall. Two ends facing each
-    other give one gap.
+    other give one gap. `hints` (opening linework, metres) lets piers near them have ends
+    (`wall_ends`).
 
     Returns
     -------
     list of Gap
     """
-    middles, directions, lengths = wall_ends(solid, loose, max_thickness=max_thickness)
+    middles, directions, lengths, minor = wall_ends(solid, loose, max_thickness=max_thickness,
+                                                    hints=hints)
     if not len(middles):
         return []
     loose = np.asarray(loose, dtype=object)
@@ -247,7 +270,8 @@ def find_gaps(solid, loose, *, max_thickness, max_width=MAX_WINDOW_WIDTH):
                                 middle + direction * distance + half,
                                 middle + direction * distance - half]) if length > 0 else \
             shapely.LineString([middle, middle + direction * distance]).buffer(0.005, cap_style="flat")
-        gaps.append(Gap(middle.copy(), middle + direction * distance, float(length), quad))
+        gaps.append(Gap(middle.copy(), middle + direction * distance, float(length), quad,
+                        bool(minor[index])))
     return _merge_pairs(gaps)
 
 
@@ -340,11 +364,14 @@ def classify_gaps(gaps, *, door_lines, window_lines, other_lines, swing_arcs):
             continue
         across = {name: _spanning(lines, line, width) for name, lines in found.items()}
         doors, windows = found.get("door", ()), found.get("window", ())
+        # linework that only touches a wide gap at one end (a window beside the wall end
+        # the gap starts from) says nothing about the gap
+        wide = width > MAX_OPEN_WIDTH
         if len(windows) and across.get("window", 0) >= 1:
             kinds.append("window")
         elif across.get("other", 0) >= 2:
             kinds.append("window")                      # glazing lines on an opening layer
-        elif len(doors):
+        elif len(doors) and (not wide or _coverage(doors, line, zone) >= 0.5):
             # one straight line across and nothing else: an overhead or locked door drawn
             # shut; panels of a sliding door or anything else drawn there: a door
             single = len(doors) == 1 and across.get("door", 0) == 1 and \
@@ -352,11 +379,35 @@ def classify_gaps(gaps, *, door_lines, window_lines, other_lines, swing_arcs):
             kinds.append("closed" if single else "door")
         elif across.get("other", 0) == 1 and len(found.get("other", ())) == 1:
             kinds.append("closed")
-        elif len(windows):
+        elif len(windows) and (not wide or _coverage(windows, line, zone) >= 0.5):
             kinds.append("window")
         else:
             kinds.append("open")
     return kinds
+
+
+def _coverage(lines, across, zone):
+    """The share of the gap line `across` that `lines` cover inside `zone`, seen along it."""
+    inside = shapely.intersection(np.asarray(lines, dtype=object), zone)
+    start = np.asarray(across.coords[0])
+    direction = np.subtract(across.coords[1], across.coords[0])
+    width = float(np.hypot(*direction))
+    if width <= 0:
+        return 0.0
+    direction = direction / width
+    spans = []
+    for piece in shapely.get_parts(inside):
+        xy = shapely.get_coordinates(piece)
+        if len(xy) >= 2:
+            along = (xy - start) @ direction
+            spans.append((max(float(along.min()), 0.0), min(float(along.max()), width)))
+    covered, reach = 0.0, 0.0
+    for low, high in sorted(spans):  # union of the intervals
+        low = max(low, reach)
+        if high > low:
+            covered += high - low
+            reach = high
+    return covered / width
 
 
 def _spanning(lines, across, width):

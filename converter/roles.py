@@ -38,19 +38,22 @@ DEFAULT_ROLE_PATTERNS: Mapping[str, tuple[str, ...]] = MappingProxyType({
 })
 
 #: Layers that the default patterns leave out although a role's word is in their name:
-#: linework above or below the cut plane (overhead, hidden, heads of openings), demolished
-#: work and non-plotting layers. Patterns the user gives are not filtered.
+#: linework above or below the cut plane (overhead, hidden, heads of openings, foundations:
+#: a stem wall or footing runs on under every door), demolished work and non-plotting
+#: layers. Patterns the user gives are not filtered.
 DEFAULT_IGNORED_PATTERNS = ("*OVHD*", "*OVERHEAD*", "*HIDDEN*", "*HIDD*", "*-HEAD", "*-HEAD-*",
                             "*-ABOV*", "*-BELO*", "*-DEMO*", "*DEMOL*", "*-NPLT*", "*-IDEN*",
                             "*-TEXT*", "*-ANNO*", "*-DIMS*", "*-TAG*", "*-NOTE*", "*-ELEV*",
-                            "*-SECT*", "*-SYMB*")
+                            "*-SECT*", "*-SYMB*", "*FOOTER*", "*FOOTING*", "*-FTNG*", "*FNDN*",
+                            "*FOUNDATION*", "*STEM-WALL*", "*STEM_WALL*", "*STEM WALL*",
+                            "*STEMWALL*", "*FUNDAMENT*", "*FONDATION*", "*CIMENTACI*")
 
 #: Opening blocks and layers by kind: a door swings or slides (passable), a window is glazing
 #: (closed like wall). Block names are matched like layer names; door blocks named by size
 #: in feet and inches (``3068`` = 3'0" x 6'8") are doors too (common practice).
 DOOR_PATTERNS = ("*DOOR*", "*TÜR*", "*TUER*", "TUR", "TUR[-_ ]*", "*PORTE*", "*PUERTA*", "*DEUR*",
                  "*GATE*", "*-DR-*", "DR[-_ ]*", "[1-9][0-9][6-8][0-9]")
-WINDOW_PATTERNS = ("*WINDOW*", "*-WIND", "*-WIND-*", "WIN[-_ ]*", "*WDW*", "*GLAZ*", "*CURTAIN*",
+WINDOW_PATTERNS = ("*WINDOW*", "*-WIND", "*-WIND-*", "WIN", "WIN[-_ 0-9]*", "*WDW*", "*GLAZ*", "*CURTAIN*",
                    "*FENSTER*", "*FENETRE*", "*FENÊTRE*", "*VENTANA*", "*FINESTR*", "*RAAM*",
                    "*RAMEN*")
 

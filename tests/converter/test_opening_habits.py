@@ -1,0 +1,107 @@
+"""More habits of real plans around openings: piers and sidelights, foundations drawn under
+doors, gaps that only touch a window, structure kept on a layer named for something else.
+
+Each drawing is built here with ezdxf; expected widths and areas follow from its coordinates.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+import shapely
+
+from clearway.converter import read_floorplan
+from clearway.converter.openings import Gap, classify_gaps
+from clearway.converter.roles import Roles, opening_kind
+from tests.conftest import new_drawing, save, walled_room
+
+
+def _door_and_window_blocks(doc):
+    """A 1-unit door (leaf and 90 degree swing about the hinge at the origin) and a
+    1-unit window (two glazing lines), to be scaled to size where inserted."""
+    door = doc.blocks.new("DOOR")
+    door.add_line((0, 0), (0, 1))
+    door.add_arc((0, 0), 1.0, 0, 90)
+    window = doc.blocks.new("WIN6")
+    for y in (-0.05, 0.05):
+        window.add_line((0, y), (1, y))
+
+
+def _entrance_building(tmp_path, *, foundation=False):
+    """A 12 m x 8 m building, 0.2 m walls; its south wall holds an entrance: sidelight
+    (x 3.0-4.0), pier (4.0-4.2), double door (4.2-6.0), pier (6.0-6.2), sidelight (6.2-7.2)."""
+    doc = new_drawing(6)
+    _door_and_window_blocks(doc)
+    msp = doc.modelspace()
+    wall = shapely.box(0, 0, 12, 8).difference(shapely.box(0.2, 0.2, 11.8, 7.8))
+    wall = wall.difference(shapely.box(3.0, -1, 7.2, 1)).union(shapely.box(4.0, 0, 4.2, 0.2)) \
+        .union(shapely.box(6.0, 0, 6.2, 0.2))
+    for ring in shapely.get_rings(shapely.get_parts(wall)):
+        msp.add_lwpolyline(list(ring.coords)[:-1], close=True, dxfattribs={"layer": "A-WALL"})
+    # the two leaves hinge on the piers' faces and swing inwards
+    msp.add_blockref("DOOR", (4.2, 0.1), dxfattribs={"xscale": 0.9, "yscale": 0.9,
+                                                     "layer": "FURNITURE"})
+    msp.add_blockref("DOOR", (6.0, 0.1), dxfattribs={"xscale": -0.9, "yscale": 0.9,
+                                                     "layer": "FURNITURE"})
+    for x in (3.0, 6.2):
+        msp.add_blockref("WIN6", (x, 0.1), dxfattribs={"layer": "FURNITURE"})
+    if foundation:  # the stem wall runs on under the doors and windows
+        for y in (-0.05, 0.25):
+            msp.add_line((-0.05, y), (12.05, y), dxfattribs={"layer": "SITE$0$S-STEM-WALL"})
+    return save(doc, tmp_path)
+
+
+def test_double_door_between_piers_beside_sidelights(tmp_path):
+    plan = read_floorplan(_entrance_building(tmp_path))
+    found = sorted((round(o.x, 3), o.kind, round(o.width, 3)) for o in plan.openings)
+    # analytic: sidelights 1.0 m at x 3.5 and 6.7; the double door 4.2-6.0 m, 1.8 m wide
+    assert found == [(3.5, "window", 1.0), (5.1, "door", 1.8), (6.7, "window", 1.0)]
+    door = next(o for o in plan.openings if o.kind == "door")
+    assert door.exterior
+    # analytic: the floor inside the 0.2 m walls, 11.6 m x 7.6 m, nothing leaks
+    assert plan.free_space.area == pytest.approx(11.6 * 7.6, rel=2e-3)
+    assert not plan.leaks
+
+
+def test_foundation_under_the_doors_is_not_wall(tmp_path):
+    # common practice: NCS S-FNDN / S-FOOT / stem-wall layers show what is below the floor
+    roles = Roles()
+    for name in ("S-STEM-WALL", "X$0$S-FOOTER", "S-FNDN-WALL", "Fundamentwand"):
+        assert roles.role_of(name) is None, name
+    assert roles.role_of("A-WALL") == "wall" and roles.role_of("S-COLS") == "wall"
+    plan = read_floorplan(_entrance_building(tmp_path, foundation=True))
+    assert sorted(o.kind for o in plan.openings) == ["door", "window", "window"]
+
+
+def test_window_blocks_numbered_by_size():
+    # common practice: window blocks named WIN plus a size or type number
+    assert [opening_kind(name) for name in ("WIN6", "WIN-2", "WIN", "WINCH", "WINDOW_900")] == \
+        ["window", "window", "window", None, "window"]
+
+
+def test_a_wide_gap_that_only_touches_a_window_is_open():
+    gap = Gap(np.array([0.0, 0.0]), np.array([5.0, 0.0]), 0.2,
+              shapely.box(0, -0.1, 5, 0.1))
+    beside = [shapely.LineString([(-0.9, y), (0.05, y)]) for y in (-0.05, 0.05)]
+    along = [shapely.LineString([(0, y), (5, y)]) for y in (-0.05, 0.05)]
+    kinds = [classify_gaps([gap], door_lines=[], window_lines=lines, other_lines=[],
+                           swing_arcs=[])[0] for lines in (beside, along)]
+    # analytic: the window beside the wall end covers 1 % of the 5 m gap, the glazing all of it
+    assert kinds == ["open", "window"]
+
+
+def test_structure_on_a_layer_named_for_something_else_is_taken_for_walls(tmp_path):
+    # a plan converted from PDF: nine rooms' walls on "Existing Structure 4", a partition stub
+    # on A-WALL
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    for row in range(3):
+        for column in range(3):
+            x0, y0 = column * 4.5, row * 4.5
+            walled_room(msp, x0, y0, x0 + 4, y0 + 4, layer="Existing Structure 4")
+    msp.add_lwpolyline([(1, 1), (2, 1), (2, 1.2), (1, 1.2)], close=True,
+                       dxfattribs={"layer": "A-WALL"})
+    plan = read_floorplan(save(doc, tmp_path))
+    assert any("'Existing Structure 4' looks more like walls" in w for w in plan.warnings)
+    # analytic: nine rooms of 3.6 m x 3.6 m, less the 1.0 m x 0.2 m stub
+    assert plan.free_space.area == pytest.approx(9 * 3.6 * 3.6 - 0.2, rel=2e-3)
