@@ -133,10 +133,13 @@ def left_out_layers(content, visible, role_of, roles):
     return tuple(found)
 
 
-#: Layers never guessed to be walls: furniture, fittings, annotation, hatching, grids.
+#: Layers never guessed to be walls: furniture, fittings, annotation, hatching, grids, and
+#: the site around the building (planting, trees, contours, paving).
 NOT_WALLS = ("*FURN*", "*MOBIL*", "*MÖBEL*", "*MOEBEL*", "*FIXT*", "*EQPM*", "*EQUIP*",
              "*TEXT*", "*DIM*", "*ANNO*", "*HATCH*", "*PATT*", "*GRID*", "*AXIS*", "*TITLE*",
-             "*VIEWPORT*", "*VPORT*", "DEFPOINTS") + DEFAULT_IGNORED_PATTERNS
+             "*VIEWPORT*", "*VPORT*", "DEFPOINTS", "*PLANT*", "*TREE*", "*VEGET*", "*LANDSCAP*",
+             "*TOPO*", "*CONTOUR*", "*PFLANZ*", "*BAUM*", "*ARBRE*", "*ARBOL*", "*PAVING*",
+             "*TEXTURE*", "*FLOORING*", "*TILE*", "L-*") + DEFAULT_IGNORED_PATTERNS
 
 
 def guess_wall_layer(content, visible, role_of):

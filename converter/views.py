@@ -52,7 +52,11 @@ def group_boxes(boxes, gap):
         span = boxes[:, 2:].max(axis=0) - low
     if not np.isfinite(span).all() or not np.isfinite(low).all():
         return np.zeros(len(boxes), dtype=np.int64)  # absurd extents: the limits refuse them
-    cell = max(gap, float(np.sqrt(max(span[0] * span[1], 1e-12) / MAX_CELLS)), 1e-12)
+    with np.errstate(over="ignore"):
+        area = float(span[0]) * float(span[1])
+    if not np.isfinite(area):
+        return np.zeros(len(boxes), dtype=np.int64)  # absurd extents: the limits refuse them
+    cell = max(gap, float(np.sqrt(max(area, 1e-12) / MAX_CELLS)), 1e-12)
     shape = (np.floor(span / cell).astype(np.int64) + 2)
     first = np.floor((boxes[:, :2] - low) / cell).astype(np.int64)
     last = np.floor((boxes[:, 2:] - low) / cell).astype(np.int64)
@@ -66,12 +70,49 @@ def group_boxes(boxes, gap):
     return labels[first[:, 0], first[:, 1]] - 1
 
 
+def merge_nested(boxes, labels):
+    """Join groups whose extents overlap, until none do; return the new labels (0..G-1).
+
+    Drawings set side by side in model space do not overlap; a column or a free-standing
+    wall standing more than the gap away from the walls around it lies inside their
+    extents, and belongs to the same drawing.
+
+    Examples
+    --------
+    >>> merge_nested([(0, 0, 30, 1), (0, 0, 1, 20), (10, 10, 11, 11), (50, 0, 60, 5)],
+    ...              np.array([0, 0, 1, 2])).tolist()
+    [0, 0, 0, 1]
+    """
+    from scipy.sparse import coo_matrix
+    from scipy.sparse.csgraph import connected_components
+
+    boxes = np.asarray(boxes, dtype=float).reshape(-1, 4)
+    labels = np.asarray(labels, dtype=np.int64)
+    while len(labels):
+        count = int(labels.max()) + 1
+        if count > 4000:       # too many groups to compare pairwise: leave them as they are
+            return labels
+        low = np.full((count, 2), np.inf)
+        high = np.full((count, 2), -np.inf)
+        np.minimum.at(low, labels, boxes[:, :2])
+        np.maximum.at(high, labels, boxes[:, 2:])
+        overlap = np.all((low[:, None, :] < high[None, :, :]) &
+                         (low[None, :, :] < high[:, None, :]), axis=2)
+        rows, columns = np.nonzero(overlap)
+        graph = coo_matrix((np.ones(len(rows)), (rows, columns)), shape=(count, count))
+        merged, joined = connected_components(graph, directed=False)
+        if merged == count:
+            return labels
+        labels = joined[labels]
+    return labels
+
+
 def find_views(boxes, swing_points, *, gap):
     """Group part boxes (N, 4) into views; return (labels (N,), views sorted by preference).
 
     `swing_points` (M, 2) are the middles of door-swing arcs. The first view is the plan.
     """
-    labels = group_boxes(boxes, gap)
+    labels = merge_nested(boxes, group_boxes(boxes, gap))
     if not len(labels):
         return labels, []
     views = []

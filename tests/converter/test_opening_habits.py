@@ -105,3 +105,40 @@ def test_structure_on_a_layer_named_for_something_else_is_taken_for_walls(tmp_pa
     assert any("'Existing Structure 4' looks more like walls" in w for w in plan.warnings)
     # analytic: nine rooms of 3.6 m x 3.6 m, less the 1.0 m x 0.2 m stub
     assert plan.free_space.area == pytest.approx(9 * 3.6 * 3.6 - 0.2, rel=2e-3)
+
+
+def test_a_column_far_from_the_walls_belongs_to_the_plan(tmp_path):
+    # a 20 m hall drawn as single LINEs, a 1 m column in its middle, 9.5 m from every wall;
+    # an elevation of the same wall 30 m to the east on the same layer
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    corners = [(0, 0), (20, 0), (20, 20), (0, 20)]
+    for start, end in zip(corners, corners[1:] + corners[:1]):
+        msp.add_line(start, end, dxfattribs={"layer": "A-WALL"})
+    msp.add_lwpolyline([(9.5, 9.5), (10.5, 9.5), (10.5, 10.5), (9.5, 10.5)], close=True,
+                       dxfattribs={"layer": "A-COLS"})
+    msp.add_lwpolyline([(50, 0), (70, 0), (70, 3), (50, 3)], close=True,
+                       dxfattribs={"layer": "A-WALL"})
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: the hall inside the lines (a single-line wall is given its nominal thickness)
+    # holds the column as an obstacle; the elevation is left out
+    assert not plan.free_space.contains(shapely.Point(10, 10))
+    assert plan.free_space.contains(shapely.Point(5, 5))
+    assert plan.free_space.bounds[2] < 21
+    assert any("2 separate drawings" in warning for warning in plan.warnings)
+
+
+def test_planting_is_never_guessed_to_be_walls(tmp_path):
+    # common practice: planting and landscape layers (L-PLNT, "plants") hold sketchy symbols
+    # whose strokes run in parallel pairs; they are not walls however many there are
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 10, 8)
+    for index in range(60):
+        x = 12 + index * 0.3
+        for dx in (0.0, 0.1):
+            msp.add_line((x + dx, 0), (x + dx, 2), dxfattribs={"layer": "plants"})
+    plan = read_floorplan(save(doc, tmp_path))
+    assert not any("plants" in warning and "walls" in warning for warning in plan.warnings)
+    # analytic: the room inside its 0.2 m walls
+    assert plan.free_space.area == pytest.approx(9.6 * 7.6, rel=2e-3)
