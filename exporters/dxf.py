@@ -12,7 +12,8 @@ CLEARWAY-LANE              one LWPOLYLINE per lane (edge), from source to target
 CLEARWAY-LANE-ID           the edge id (TEXT) at the middle of each lane
 CLEARWAY-NODE              one POINT per node
 CLEARWAY-NODE-ID           the node id (TEXT) beside each node
-CLEARWAY-STATION           a CIRCLE and the label (TEXT) at each reachable station
+CLEARWAY-STATION           a CIRCLE and the label (TEXT) at each reachable station, and
+                           for a block station a LINE from the centre the way it faces
 CLEARWAY-STATION-UNREACH   the same for stations the robot cannot reach
 CLEARWAY-PINCH             POINT and ``clr`` label: lane clearance below comfort
 CLEARWAY-NARROW            POINT and ``gap`` label: an opening too narrow for the robot
@@ -29,6 +30,7 @@ from __future__ import annotations
 
 import contextlib
 import io
+import math
 
 import ezdxf
 import shapely
@@ -93,6 +95,10 @@ def render_dxf(plan, roadmap) -> bytes:
         msp.add_circle(at(station.x, station.y), radius=1.5 * height,
                        dxfattribs={"layer": layer})
         x, y = at(station.x, station.y)
+        if station.heading is not None:     # as long as the circle is wide
+            angle = math.radians(station.heading)
+            msp.add_line((x, y), (x + 3 * height * math.cos(angle),
+                                  y + 3 * height * math.sin(angle)), dxfattribs={"layer": layer})
         msp.add_text(station.label, height=height,
                      dxfattribs={"layer": layer, "insert": (x + 2 * height, y + 0.5 * height)})
     findings = roadmap.findings

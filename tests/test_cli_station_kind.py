@@ -5,11 +5,13 @@ from __future__ import annotations
 
 import csv
 import json
+import math
 
 import igraph
 import networkx as nx
 import pyogrio
 import pytest
+import shapely
 from click.testing import CliRunner
 
 from clearway.cli import main
@@ -25,7 +27,7 @@ EXPECTED = {"C1": ("charger", 90.0), "B1": ("tote drop", 315.0), "PICK-7": ("pic
 
 def build(folder, *extra):
     result = CliRunner().invoke(main, ["build", str(folder / "plan.dxf"), "-o",
-                                       str(folder / "out"), "-q", "--no-html", "--csv", *extra])
+                                       str(folder / "out"), "-q", "--no-html", "--csv", "--dxf", *extra])
     assert result.exit_code == 0, result.output
     return folder / "out"
 
@@ -109,3 +111,23 @@ def test_a_plan_without_block_stations_declares_no_heading(tmp_path):
     out = build(tmp_path)
     text = (out / "roadmap.graphml").read_text(encoding="utf-8")
     assert 'attr.name="heading"' not in text and 'attr.name="station_kind"' not in text
+
+
+def test_dxf_draws_each_block_station_facing_its_heading(built):
+    meta, _, geometry, fields = pyogrio.raw.read(built / "roadmap.dxf")   # GDAL reads it
+    columns = dict(zip(meta["fields"].tolist(), fields))
+    shapes = shapely.from_wkb(geometry)
+    lines = [shape for layer, kind, shape in zip(columns["Layer"], columns["SubClasses"], shapes)
+             if layer.startswith("CLEARWAY-STATION") and kind.endswith("AcDbLine")]
+    report = json.loads((built / "report.json").read_text(encoding="utf-8"))
+    stations = {s["label"]: s for s in report["stations"]}
+    found = {}
+    for line in lines:
+        (x0, y0), (x1, y1) = shapely.get_coordinates(line).tolist()
+        label = next(label for label, s in stations.items()
+                     if math.hypot(s["x"] - x0, s["y"] - y0) < 1e-6)   # from its centre
+        found[label] = math.degrees(math.atan2(y1 - y0, x1 - x0)) % 360.0
+    # one line per block station, none for the point; its direction is the heading
+    assert set(found) == {label for label, (_, heading) in EXPECTED.items() if heading is not None}
+    for label, angle in found.items():
+        assert angle == pytest.approx(EXPECTED[label][1], abs=1e-6), label
