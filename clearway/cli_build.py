@@ -153,6 +153,8 @@ def _summary(plan, roadmap, outdir: str, names=BUILD_FILES) -> list[str]:
          "lanes short of personnel clearance"),
         (len(plan.warnings) + len(findings.warnings), "warning")))
     lines.append(f"problems: {problems}")
+    if plan.unit_doubt:
+        lines.append(f"units: {plan.unit_doubt}")
     lines += _left_out_lines(plan.left_out)
     lines.append(f"files in {outdir}: {', '.join(names)}")
     lines.append("planning aid: verify on site under ISO 3691-4, the robot maker's safety "

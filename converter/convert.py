@@ -270,7 +270,8 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
                      extents=tuple(float(value) for value in everything),
                      drawing_date=content.drawing_date, repairs=tuple(content.repairs),
                      openings=interior.openings, texts=texts, unit_source=mapping.unit_source,
-                     unit_evidence=tuple(mapping.unit_evidence), left_out=mapping.left_out)
+                     unit_evidence=tuple(mapping.unit_evidence), left_out=mapping.left_out,
+                     unit_doubt=mapping.unit_doubt)
 
 
 def _check_mapped(content, roles, by_role, source):

@@ -201,6 +201,9 @@ class FloorPlan:
         What the drawing's content says about its unit, one finding per line.
     left_out : tuple of LeftOutLayer
         Visible layers with linework or points that no role takes, by name.
+    unit_doubt : str
+        Why the unit --units asked for looks wrong (what the drawing measures in it and in
+        the unit its header or content gives), "" when it does not; also in `warnings`.
     """
 
     source: str
@@ -221,6 +224,7 @@ class FloorPlan:
     unit_source: str = "header"
     unit_evidence: tuple[str, ...] = ()
     left_out: tuple[LeftOutLayer, ...] = ()
+    unit_doubt: str = ""
 
     def __post_init__(self):
         object.__setattr__(self, "regions", MappingProxyType(dict(self.regions)))

@@ -45,9 +45,10 @@ def test_a_unit_mistake_is_named_before_the_limit_it_causes(tmp_path, drawing, u
 
 
 def test_a_build_in_a_doubtful_unit_warns(tmp_path):
-    result = run("build", SAMPLES / "clinic.dxf", "-o", tmp_path, "--units", "m", "-q",
-                 "--no-html")
+    result = run("build", SAMPLES / "clinic.dxf", "-o", tmp_path, "--units", "m", "--no-html")
     assert result.exit_code == 0, result.output
+    # the summary says it too, not only report.json
+    assert "units: read in m as --units says: walls 5.00 m-8.00 m thick" in result.stderr
     report = json.loads((tmp_path / "report.json").read_text(encoding="utf-8"))
     # analytic: 60 ft = 720 in read as metres is 720 m
     assert ("clinic.dxf: read in m as --units says: walls 5.00 m-8.00 m thick, the plan 720 m "
