@@ -17,9 +17,9 @@ import shapely
 
 from clearway.converter.floorplan import Opening
 from clearway.converter.openings import (MAX_DOOR_WIDTH, MAX_OPEN_WIDTH, MAX_WINDOW_WIDTH,
-                                         classify_gaps, find_gaps)
-from clearway.converter.polygons import (as_multipolygon, fill_holes, find_leaks, union_polygons,
-                                         wall_regions)
+                                         classify_gaps, find_gaps, open_swept_doorways)
+from clearway.converter.polygons import (as_multipolygon, door_swings, fill_holes, find_leaks,
+                                         union_polygons, wall_regions)
 
 #: Overlap given to a gap where it meets its jambs, metres.
 SEAM = 0.003
@@ -64,13 +64,16 @@ def building_interior(wall_lines, wall_rings, wall_fills, wall_arcs, *, door_lin
         False when a boundary outline is drawn: the envelope is not needed (every opening
         is then interior unless it lies on the outline, decided by the caller).
     """
+    wall_lines, wall_rings, _ = open_swept_doorways(wall_lines, wall_rings,
+                                                    door_swings(np.asarray(swing_arcs, dtype=object)))
     solid, enclosed, loose = wall_regions(wall_lines, wall_rings, wall_fills, arcs=wall_arcs,
                                           texts=texts_xy, gap_tolerance=gap_tolerance,
                                           max_wall_thickness=max_wall_thickness,
                                           nominal_wall_thickness=nominal_wall_thickness)
     hints = np.concatenate([np.asarray(lines, dtype=object) for lines in
                             (door_lines, window_lines, other_lines, swing_arcs)])
-    gaps = find_gaps(solid, loose, max_thickness=max_wall_thickness, hints=hints)
+    gaps = find_gaps(solid, loose, max_thickness=max_wall_thickness, hints=hints,
+                     loose_cap=nominal_wall_thickness / 2.0)
     kinds = classify_gaps(gaps, door_lines=door_lines, window_lines=window_lines,
                           other_lines=other_lines, swing_arcs=swing_arcs)
     kept = [(gap, kind) for gap, kind in zip(gaps, kinds) if gap.width <= _MAX_WIDTH[kind]

@@ -22,6 +22,9 @@ import shapely
 MAX_OPEN_WIDTH = 2.6
 MAX_DOOR_WIDTH = 6.0
 MAX_WINDOW_WIDTH = 12.0
+#: A door swing is drawn from 90 degrees down to about a quarter of that, leaf ajar
+#: (common practice); a shorter arc is something else.
+MIN_SWING_SWEEP = 20.0
 #: Narrowest gap taken for an opening, metres (less is a drafting slit).
 MIN_OPENING_WIDTH = 0.3
 #: A wall piece whose bounding box has a shorter diagonal than this is a column or a pier,
@@ -207,7 +210,7 @@ def _without_ticks(lines):
     return lines
 
 
-def find_gaps(solid, loose, *, max_thickness, max_width=MAX_WINDOW_WIDTH, hints=None):
+def find_gaps(solid, loose, *, max_thickness, max_width=MAX_WINDOW_WIDTH, hints=None, loose_cap=0.0):
     """Find the gaps between wall ends and the wall faces they face.
 
     From each wall end, rays go out along its direction (from the middle and, on a thick
@@ -215,7 +218,8 @@ def find_gaps(solid, loose, *, max_thickness, max_width=MAX_WINDOW_WIDTH, hints=
     rays meet a wall within `max_width` at nearly the same distance (the face opposite is
     parallel to the end) and the gap swept between holds no wall. Two ends facing each
     other give one gap. `hints` (opening linework, metres) lets piers near them have ends
-    (`wall_ends`).
+    (`wall_ends`). A single-line wall's band reaches `loose_cap` beyond the line's end (its
+    round cap): rays from such an end start beyond it.
 
     Returns
     -------
@@ -240,8 +244,9 @@ def find_gaps(solid, loose, *, max_thickness, max_width=MAX_WINDOW_WIDTH, hints=
     for index in range(len(middles)):
         middle, direction, length = middles[index], directions[index], lengths[index]
         rays = []
+        lead = start_eps if length > 0 else start_eps + loose_cap
         for offset in (offsets if length > 0.04 else offsets[:1]):
-            origin = middle + normals[index] * offset * length + direction * start_eps
+            origin = middle + normals[index] * offset * length + direction * lead
             rays.append(shapely.LineString([origin, origin + direction * max_width]))
         distances = []
         for ray in rays:
@@ -253,7 +258,7 @@ def find_gaps(solid, loose, *, max_thickness, max_width=MAX_WINDOW_WIDTH, hints=
             if not len(points):
                 break
             origin = np.asarray(ray.coords[0])
-            distances.append(float(np.min((points - origin) @ direction)) + start_eps)
+            distances.append(float(np.min((points - origin) @ direction)) + lead)
         if len(distances) != len(rays):
             continue
         distance = distances[0]
@@ -352,7 +357,7 @@ def classify_gaps(gaps, *, door_lines, window_lines, other_lines, swing_arcs):
             near = arc_tree.query(swing_zone, predicate="intersects")
             if len(near):
                 fits = (radius[near] >= 0.35 * width) & (radius[near] <= 1.2 * width) & \
-                    (sweep[near] >= 30) & (sweep[near] <= 185)
+                    (sweep[near] >= MIN_SWING_SWEEP) & (sweep[near] <= 185)
                 # the arc must start or end near the gap (hinged at a jamb, closing on it)
                 ends = np.concatenate([shapely.get_coordinates(shapely.get_point(arcs[near], 0)),
                                        shapely.get_coordinates(shapely.get_point(arcs[near], -1))])
@@ -426,3 +431,112 @@ def _spanning(lines, across, width):
         if projected >= 0.75 * width:
             count += 1
     return count
+
+
+def swing_geometry(arc):
+    """Return (hinge (2,), radius, ends (2, 2)) of a flattened circular arc, from the circle
+    through its two ends and its middle.
+
+    Examples
+    --------
+    >>> t = np.radians(np.linspace(0, 90, 17))
+    >>> hinge, radius, ends = swing_geometry(shapely.LineString(np.c_[1 + 0.9 * np.cos(t), 2 + 0.9 * np.sin(t)]))
+    >>> np.round(hinge, 6).tolist(), round(radius, 6)
+    ([1.0, 2.0], 0.9)
+    """
+    xy = np.asarray(arc.coords)[:, :2]
+    a, c = xy[0], xy[-1]
+    b = np.asarray(shapely.line_interpolate_point(arc, 0.5, normalized=True).coords[0])[:2]
+    d = 2.0 * (a[0] * (b[1] - c[1]) + b[0] * (c[1] - a[1]) + c[0] * (a[1] - b[1]))
+    if abs(d) < 1e-12:
+        return None, 0.0, np.array([a, c])
+    sa, sb, sc = a @ a, b @ b, c @ c
+    hinge = np.array([sa * (b[1] - c[1]) + sb * (c[1] - a[1]) + sc * (a[1] - b[1]),
+                      sa * (c[0] - b[0]) + sb * (a[0] - c[0]) + sc * (b[0] - a[0])]) / d
+    return hinge, float(np.hypot(*(a - hinge))), np.array([a, c])
+
+
+def open_swept_doorways(lines, rings, swings, *, tolerance=0.03):
+    """Cut single-line walls drawn on through a doorway, and take the door leaf away.
+
+    Plans drawn with single-line walls often run the wall line straight across a doorway
+    and mark the opening only with jamb ticks, the leaf and its swing (common practice in
+    schematic and evacuation plans). A door swing (`swings`, flattened arcs, metres) whose
+    hinge (the arc's centre) and one end both lie on a wall line marks a doorway there: that
+    stretch of the line is cut out, and the wall linework inside the swept sector (the leaf,
+    a line or a thin rectangle) and the short strokes across the doorway (jamb ticks) go.
+
+    Returns
+    -------
+    (lines, rings, doorways) : the wall linework left and the (hinge, closed end) pairs cut
+    """
+    lines = np.asarray(lines, dtype=object)
+    rings = np.asarray(rings, dtype=object)
+    swings = np.asarray(swings, dtype=object)
+    if not len(swings) or not (len(lines) or len(rings)):
+        return lines, rings, []
+    linework = np.concatenate([lines, rings])
+    is_ring = np.r_[np.zeros(len(lines), bool), np.ones(len(rings), bool)]
+    tree = shapely.STRtree(linework)
+    cuts, sectors, doorways = [], [], []
+    for arc in swings:
+        hinge, radius, ends = swing_geometry(arc)
+        if hinge is None:
+            continue
+        near_hinge = tree.query(shapely.Point(hinge), predicate="dwithin", distance=tolerance)
+        if not len(near_hinge):
+            continue
+        for closed, free in ((ends[0], ends[1]), (ends[1], ends[0])):
+            threshold = shapely.LineString([hinge, closed])
+            band = threshold.buffer(tolerance, cap_style="flat")
+            # a wall line covering the whole threshold, hinge to the closed leaf's tip, and
+            # running on beyond it (a leaf drawn closed ends where the threshold does)
+            if not any(_runs_through(linework[index], band, radius)
+                       for index in near_hinge if not is_ring[index]):
+                continue
+            cuts.append(band)
+            sector = shapely.Polygon(np.vstack([hinge, np.asarray(arc.coords)[:, :2], hinge]))
+            # leaves are drawn loosely: a leaf a tenth longer than its swing is still a leaf
+            sectors.append(shapely.buffer(sector, max(tolerance, 0.12 * radius)))
+            doorways.append((hinge, closed))
+            break
+    if not cuts:
+        return lines, rings, []
+    cut = shapely.union_all(cuts)
+    swept = shapely.union_all(sectors)
+    gone = shapely.covered_by(linework, swept)           # leaves inside their swing
+    kept = shapely.get_parts(shapely.difference(linework[~gone & ~is_ring], cut))
+    kept = kept[~shapely.is_empty(kept)]
+    # strokes across the doorway: jamb ticks, the stop between two leaves (not the bit of
+    # wall line left between a hinge and the wall it runs into)
+    stroke = (shapely.length(kept) <= MAX_TICK) & \
+        shapely.intersects(kept, shapely.buffer(cut, tolerance)) & \
+        ~_along(kept, [door for door in doorways])
+    kept = kept[~stroke]
+    return kept, rings[~gone[is_ring]], doorways
+
+
+def _runs_through(line, band, radius):
+    """True when `line` covers most of the doorway `band` and goes on past it."""
+    inside = shapely.intersection(line, band).length
+    return inside >= 0.9 * radius and line.length - inside >= 0.1
+
+
+def _along(lines, doorways):
+    """True for each line running along (within 30 degrees of) the doorway it touches."""
+    result = np.zeros(len(lines), dtype=bool)
+    for index, line in enumerate(lines):
+        xy = shapely.get_coordinates(line)
+        if len(xy) < 2:
+            continue
+        direction = xy[-1] - xy[0]
+        norm = np.hypot(*direction)
+        if norm <= 0:
+            continue
+        for hinge, closed in doorways:
+            way = np.subtract(closed, hinge)
+            if abs(direction @ way) >= np.cos(np.radians(30)) * norm * np.hypot(*way) and \
+                    shapely.distance(line, shapely.LineString([hinge, closed])) < 0.05:
+                result[index] = True
+                break
+    return result

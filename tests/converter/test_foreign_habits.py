@@ -40,17 +40,22 @@ def test_large_arc_on_the_wall_layer_stays_a_wall(tmp_path):
     assert plan.free_space.area == pytest.approx(50 + 39.27 - 0.89, abs=0.05)
 
 
-def test_leak_width_in_single_line_walls(tmp_path):
+def test_open_gap_in_single_line_walls_is_named_and_closed(tmp_path):
     doc = new_drawing(6)
     msp = doc.modelspace()
     msp.add_lwpolyline([(8, 0), (0, 0), (0, 12), (20, 12), (20, 0), (9.5, 0)],
                        dxfattribs={"layer": WALL})
     plan = read_floorplan(save(doc, tmp_path))
-    # analytic: one 1.5 m opening centred at (8.75, 0); the 0.05 m bands' caps narrow it to 1.45
-    assert len(plan.leaks) == 1
-    leak = plan.leaks[0]
-    assert (leak.x, leak.y) == pytest.approx((8.75, 0.0), abs=0.05)
-    assert 1.4 <= leak.width <= 1.55
+    # analytic: one 1.5 m opening centred at (8.75, 0); the 0.05 m band's cap at the far end
+    # narrows it to 1.475; nothing is drawn in it, so it is an open exterior gap, closed
+    [gap] = plan.openings
+    assert (gap.kind, gap.exterior) == ("open", True)
+    assert (gap.x, gap.y) == pytest.approx((8.75, 0.0), abs=0.05)
+    assert 1.4 <= gap.width <= 1.55
+    assert not plan.leaks
+    assert any("gap with nothing drawn in it" in warning for warning in plan.warnings)
+    # analytic: the floor inside the outline, less the bands' inner halves (0.025 m)
+    assert plan.free_space.area == pytest.approx(19.95 * 11.95, rel=2e-3)
 
 
 def test_door_swing_in_feet(tmp_path):

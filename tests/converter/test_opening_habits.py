@@ -142,3 +142,36 @@ def test_planting_is_never_guessed_to_be_walls(tmp_path):
     assert not any("plants" in warning and "walls" in warning for warning in plan.warnings)
     # analytic: the room inside its 0.2 m walls
     assert plan.free_space.area == pytest.approx(9.6 * 7.6, rel=2e-3)
+
+
+def _single_line_rooms(msp, *, leaf_angle):
+    """Two 5 m x 4 m rooms side by side, single-line walls on layer '0', the partition at
+    x = 5 drawn straight through a 0.9 m doorway (y 1.0-1.9) marked by jamb ticks, with the
+    leaf hinged at (5, 1.0) open `leaf_angle` degrees into the west room and its swing."""
+    for start, end in [((0, 0), (10, 0)), ((10, 0), (10, 4)), ((10, 4), (0, 4)),
+                       ((0, 4), (0, 0)), ((5, 0), (5, 4))]:
+        msp.add_line(start, end)
+    for y in (1.0, 1.9):
+        msp.add_line((4.9, y), (5.1, y))
+    angle = np.radians(90 + leaf_angle)
+    tip = (5 + 0.9 * np.cos(angle), 1.0 + 0.9 * np.sin(angle))
+    msp.add_line((5, 1.0), tip)
+    msp.add_arc((5, 1.0), 0.9, 90, 90 + leaf_angle)
+
+
+@pytest.mark.parametrize("leaf_angle", [30, 90])
+def test_single_line_wall_drawn_through_a_doorway(tmp_path, leaf_angle):
+    # common practice in schematic plans: the wall line runs on across the doorway
+    doc = new_drawing(6)
+    _single_line_rooms(doc.modelspace(), leaf_angle=leaf_angle)
+    plan = read_floorplan(save(doc, tmp_path), nominal_wall_thickness=0.05)
+    [door] = [o for o in plan.openings if o.kind == "door"]
+    # analytic: hinge (5, 1.0) to the closed leaf's tip (5, 1.9), less the round cap of the
+    # far wall end's band (half the 0.05 m nominal thickness)
+    assert door.x == pytest.approx(5.0, abs=0.01)
+    assert door.width == pytest.approx(0.9 - 0.025, abs=0.01)
+    # the leaf and the ticks are gone: the middle of the doorway and the swept sector are floor
+    assert plan.free_space.contains(shapely.Point(5.0, 1.45))
+    assert plan.free_space.contains(shapely.Point(4.7, 1.3))
+    assert len(shapely.get_parts(plan.free_space)) == 1
+
