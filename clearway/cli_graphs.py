@@ -78,38 +78,47 @@ def _number(value: float) -> str:
 @click.option("--method", type=click.Choice(ROUTE_METHODS), default="astar",
               show_default=True, help="Search method; both find the same route cost.")
 @click.option("--matrix", is_flag=True, help="Station-to-station route costs instead.")
+@click.option("--rooms", "by_room", is_flag=True,
+              help="With --matrix: room-to-room costs (room ids as rows and columns).")
 @click.option("--csv", "csv_path", metavar="FILE", help="With --matrix: write it as CSV.")
 @click.option("--wkt", "show_wkt", is_flag=True,
               help="Also print the route's geometry as a WKT LINESTRING (metres).")
 @click.option("--svg", "svg_path", metavar="FILE",
               help="Draw the route on the plan, with every node and lane id and a grid.")
-def route(graph_file, ends, as_json, avoid, method, matrix, csv_path, show_wkt, svg_path):
-    """Find the shortest route in GRAPH from FROM to TO (station labels or node ids).
+def route(graph_file, ends, as_json, avoid, method, matrix, by_room, csv_path, show_wkt,
+          svg_path):
+    """Find the shortest route in GRAPH from FROM to TO (station labels, room names or ids,
+    node ids); a room stands for its room node.
 
-    With --matrix, give the route cost in metres between every pair of stations;
-    pairs with no route are marked "unreachable" (null in JSON). Exit code 1 when
-    FROM and TO are not connected.
+    With --matrix, give the route cost in metres between every pair of stations (of rooms
+    with --rooms); pairs with no route are marked "unreachable" (null in JSON). Exit code 1
+    when FROM and TO are not connected.
     """
     from networkx import NetworkXNoPath
 
     from clearway.beside import areas_beside
     from clearway.exporters import render_id_sheet
-    from clearway.roadmap import distance_matrix, shortest_route
+    from clearway.roadmap import display_name, distance_matrix, room_nodes, shortest_route
     from clearway.route_reasons import no_route_reason
 
     if matrix == bool(ends) or (ends and len(ends) != 2):
         raise InputError("give FROM and TO, or --matrix (not both)")
     if (csv_path or False) and not matrix:
         raise InputError("--csv needs --matrix")
+    if by_room and not matrix:
+        raise InputError("--rooms needs --matrix")
     if svg_path and matrix:
         raise InputError("--svg draws one route; give FROM and TO, not --matrix")
     graph = read_graph(graph_file)
     if matrix:
+        rooms = room_nodes(graph) if by_room else {}
         try:
-            labels, costs = distance_matrix(graph)
+            labels, costs = distance_matrix(graph, [node for node, _ in rooms.values()]
+                                            if by_room else None)
         except ValueError as err:
             raise InputError(f"{graph_file}: {err}") from None
-        rows = [["station", *labels]] + [[label, *map(_number, row)]
+        labels = tuple(rooms) if by_room else labels
+        rows = [["room" if by_room else "station", *labels]] + [[label, *map(_number, row)]
                                          for label, row in zip(labels, costs.tolist())]
         table = "".join(",".join(_csv_cell(cell) for cell in row) + "\r\n" for row in rows)
         if csv_path:
@@ -120,8 +129,9 @@ def route(graph_file, ends, as_json, avoid, method, matrix, csv_path, show_wkt, 
         if as_json:
             cells = [[value if math.isfinite(value) else None for value in row]
                      for row in costs.tolist()]
-            click.echo(json.dumps({"stations": list(labels), "unit": "m", "matrix": cells},
-                                  indent=2))
+            heads = ({"rooms": list(labels), "names": [list(names) for _, names in rooms.values()]}
+                     if by_room else {"stations": list(labels)})
+            click.echo(json.dumps({**heads, "unit": "m", "matrix": cells}, indent=2))
         elif not csv_path:
             click.echo(table, nl=False)
         return
@@ -137,8 +147,7 @@ def route(graph_file, ends, as_json, avoid, method, matrix, csv_path, show_wkt, 
         click.echo(terminal_text(f"{graph_file}: {err}" + (f": {reason}" if reason else "")),
                    err=True)
         sys.exit(1)
-    names = [graph.nodes[node].get("label") or node for node in (found.nodes[0],
-                                                                  found.nodes[-1])]
+    names = [display_name(graph, node) for node in (found.nodes[0], found.nodes[-1])]
     if svg_path:
         picture = render_id_sheet(graph, areas=areas_beside(graph_file, graph), route=found,
                                   title=f"route {names[0]} -> {names[1]}, {found.length:.1f} m"

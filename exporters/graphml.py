@@ -122,7 +122,7 @@ def render_graph(graph) -> bytes:
     add_data(element, "graph", graph.graph)
     for node_id in sorted(graph.nodes, key=natural_key):
         node = etree.SubElement(element, _Q + "node", {"id": xml_text(node_id)})
-        add_data(node, "node", {"label": ""} | graph.nodes[node_id])
+        add_data(node, "node", {"label": "", "room": ""} | graph.nodes[node_id])
     for edge_id, source, target, attrs, coords in oriented_edges(graph):
         edge = etree.SubElement(element, _Q + "edge", {"id": xml_text(edge_id),
                                                       "source": xml_text(source),

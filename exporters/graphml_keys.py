@@ -25,6 +25,7 @@ KEYS: tuple[tuple[str, str, str], ...] = (
     ("node", "clearance", "double"),
     ("node", "kind", "string"),
     ("node", "label", "string"),
+    ("node", "room", "string"),
     ("node", "x", "double"),
     ("node", "y", "double"),
     ("edge", "clearance_min", "double"),
@@ -34,8 +35,11 @@ KEYS: tuple[tuple[str, str, str], ...] = (
 )
 
 #: Keys written only when the graph carries them: what a station is and which way it faces,
-#: a rectangular or car robot's body checks.
+#: the room a room node stands for (its id, and its names one a line), a rectangular or car
+#: robot's body checks.
 OPTIONAL_KEYS: tuple[tuple[str, str, str], ...] = (
+    ("node", "room_names", "string"),
+    ("node", "room_node", "string"),
     ("node", "heading", "double"),
     ("node", "station_kind", "string"),
     ("node", "reverse_only", "boolean"),

@@ -301,7 +301,11 @@ def passage_rooms(openings, narrowing_cuts, rooms, offset) -> list[tuple[int, ..
 
 def describe_rooms(rooms, seeds, names, cuts, openings, graph, vertices, regions, offset,
                    clearance: float):
-    """The Room and Passage values of the roadmap; sets node attribute ``room`` in `graph`.
+    """The Room and Passage values of the roadmap; sets node attributes in `graph`.
+
+    Every node gets ``room`` (the id of the room it stands in, "" outside every room); each
+    room node also ``room_node`` (that room's id) and, when the room has names,
+    ``room_names`` (the names one a line: a name never holds a line break).
 
     Parameters
     ----------
@@ -369,6 +373,10 @@ def describe_rooms(rooms, seeds, names, cuts, openings, graph, vertices, regions
     for r in order:
         seed = int(seeds[r])
         node = at_node.get(tuple(np.round(vertices[seed], 6)), "") if seed >= 0 else ""
+        if node:        # the room node says which room it stands for, and its names
+            graph.nodes[node]["room_node"] = str(room_id[r])
+            if names[r]:
+                graph.nodes[node]["room_names"] = "\n".join(names[r])
         reachable = bool(seed >= 0 and node and region_of_seed[r] == main)
         reason, blocked, width = "", -1, None
         if not reachable:

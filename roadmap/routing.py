@@ -24,6 +24,7 @@ from scipy.sparse.csgraph import dijkstra
 from shapely.geometry import LineString
 
 from clearway.roadmap.choices import ROUTE_METHODS
+from clearway.sorting import natural_key
 from clearway.roadmap.turns import parse_turns
 
 
@@ -48,44 +49,58 @@ class Route:
 
 
 def resolve_node(graph: nx.MultiGraph, name: str) -> str:
-    """Return the node id for `name`, a node id or a station label.
+    """Return the node id for `name`: a node id, a station label, a room id or a room name.
 
-    A node id wins over a label of the same spelling; a label matches exactly first, then
-    ignoring case (``dock-1`` finds ``DOCK-1``). A label shared by several stations is
-    refused as ambiguous. An unknown name is answered with the closest labels ("did you
-    mean") and the full list of stations.
+    A node id wins over a label of the same spelling, a station label over a room; labels
+    and room names match exactly first, then ignoring case (``dock-1`` finds ``DOCK-1``).
+    A room stands for its room node (node attribute ``room_node``). A label shared by
+    several stations, or a name by several rooms, is refused as ambiguous, naming the
+    candidates. An unknown name is answered with the closest labels and room names ("did
+    you mean") and the full list of stations.
 
     Raises
     ------
     ValueError
-        No node and no station is called `name`, or the label is ambiguous.
+        Nothing is called `name`, or the name is ambiguous.
 
     Examples
     --------
     >>> graph = nx.MultiGraph()
     >>> graph.add_node("n0", x=0.0, y=0.0, kind="station", label="DOCK-1")
+    >>> graph.add_node("n1", x=5.0, y=0.0, kind="end", label="", room="r0", room_node="r0",
+    ...                room_names="2.14\\nKITCHEN")
     >>> resolve_node(graph, "DOCK-1"), resolve_node(graph, "n0"), resolve_node(graph, "dock-1")
     ('n0', 'n0', 'n0')
+    >>> resolve_node(graph, "r0"), resolve_node(graph, "2.14"), resolve_node(graph, "kitchen")
+    ('n1', 'n1', 'n1')
     """
     if not isinstance(name, str):
         raise TypeError(f"node name must be a string, got {type(name).__name__}")
     if name in graph:
         return name
     labelled = [(node, label) for node, label in graph.nodes(data="label") if label]
-    matches = sorted(node for node, label in labelled if label == name)
-    if not matches:
-        matches = sorted(node for node, label in labelled
-                         if label.casefold() == name.casefold())
-    if len(matches) == 1:
-        return matches[0]
-    if matches:
-        raise ValueError(f"station {name!r} is ambiguous: nodes {', '.join(matches)}; "
+    found = _named(labelled, name)
+    if len(found) > 1:
+        raise ValueError(f"station {name!r} is ambiguous: nodes {', '.join(found)}; "
                          "give a node id instead")
+    if found:
+        return found[0]
+    rooms = room_nodes(graph)
+    if name in rooms:
+        return rooms[name][0]
+    found = _named([(room, text) for room, (_, names) in rooms.items() for text in names], name)
+    if len(found) > 1:
+        raise ValueError(f"room {name!r} is ambiguous: rooms "
+                         + ", ".join(f"{room} ({' / '.join(rooms[room][1])})" for room in found)
+                         + "; give a room id instead")
+    if found:
+        return rooms[found[0]][0]
     stations = sorted({label for _, label in labelled})
-    folded = {label.casefold(): label for label in stations}
+    folded = {text.casefold(): text for text in
+              sorted({text for _, names in rooms.values() for text in names}) + stations}
     close = [folded[key] for key in
              difflib.get_close_matches(name.casefold(), list(folded), n=3, cutoff=0.6)]
-    message = f"no node or station called {name!r}"
+    message = f"no node{', station or room' if rooms else ' or station'} called {name!r}"
     if close:
         message += f"; did you mean {' or '.join(repr(label) for label in close)}?"
     if stations:
@@ -93,9 +108,31 @@ def resolve_node(graph: nx.MultiGraph, name: str) -> str:
     raise ValueError(message)
 
 
+def _named(pairs, name: str) -> list[str]:
+    """The owners in `pairs` (owner, text) whose text is `name`, else is it ignoring case."""
+    found = sorted({owner for owner, text in pairs if text == name})
+    return found or sorted({owner for owner, text in pairs
+                            if text.casefold() == name.casefold()})
+
+
+def room_nodes(graph: nx.MultiGraph) -> dict[str, tuple[str, tuple[str, ...]]]:
+    """Return {room id: (room node id, room names)} for every room with a room node.
+
+    Room ids in natural order (``r2`` before ``r10``); the names as the node attribute
+    ``room_names`` holds them, one a line.
+    """
+    found = {attrs["room_node"]: (node, tuple(filter(None, str(attrs.get("room_names") or "")
+                                                     .split("\n"))))
+             for node, attrs in graph.nodes(data=True) if attrs.get("room_node")}
+    return dict(sorted(found.items(), key=lambda item: natural_key(item[0])))
+
+
 def display_name(graph: nx.MultiGraph, node: str) -> str:
-    """Return how a person names `node`: its station label, else its node id."""
-    return graph.nodes[node].get("label") or node
+    """Return how a person names `node`: its station label, else its room's first name or
+    id for a room node, else its node id."""
+    attrs = graph.nodes[node]
+    names = str(attrs.get("room_names") or "").split("\n")
+    return attrs.get("label") or names[0] or attrs.get("room_node") or node
 
 
 def lightest_edges(graph: nx.MultiGraph, *, weight: str = "weight") -> nx.Graph:

@@ -24,6 +24,7 @@ EXPECTED_KEYS = {
     ("graph", "required_clearance"): "double", ("graph", "tool_version"): "string",
     ("node", "x"): "double", ("node", "y"): "double", ("node", "clearance"): "double",
     ("node", "kind"): "string", ("node", "label"): "string",
+    ("node", "room"): "string",         # issue 10: the room id, "" outside every room
     ("edge", "length"): "double", ("edge", "weight"): "double",
     ("edge", "clearance_min"): "double", ("edge", "geometry"): "string",
 }
