@@ -1,4 +1,4 @@
-"""The files build wrote beside a graph: report.json (findings) and roadmap.geojson (floor).
+"""The files build wrote beside a graph: report.json (findings), roadmap.geojson (floor, rooms).
 
 `route` and `compare` read a GraphML file, which holds the lanes only. The findings that
 explain a missing route, and the floor areas to draw a route or a change on, are in the
@@ -35,22 +35,35 @@ def report_beside(graph_file: str, graph) -> dict | None:
     return _load_beside(graph_file, graph, "report.json")
 
 
-def areas_beside(graph_file: str, graph) -> dict | None:
-    """Return {role: geometry} of roadmap.geojson beside `graph_file`, metres, or None.
-
-    None when the file is missing, describes another drawing, or is in WGS84 (--anchor).
-    """
+def _local_features(graph_file: str, graph, element: str) -> dict | None:
+    """{id or role: geometry} of roadmap.geojson's `element` features, metres, or None."""
     document = _load_beside(graph_file, graph, "roadmap.geojson")
     if document is None or (document.get("coordinate_system") or {}).get("type") != "local":
         return None
-    areas = {}
+    found = {}
     for feature in document.get("features") or ():
         properties = feature.get("properties") or {}
-        if properties.get("element") != "area":
+        if properties.get("element") != element:
             continue
         try:
             geometry = shapely.geometry.shape(feature["geometry"])
         except (KeyError, TypeError, ValueError, shapely.errors.GEOSException):
             return None
-        areas[str(properties.get("role"))] = geometry
-    return areas
+        found[str(properties.get("role" if element == "area" else "id"))] = geometry
+    return found
+
+
+def areas_beside(graph_file: str, graph) -> dict | None:
+    """Return {role: geometry} of roadmap.geojson beside `graph_file`, metres, or None.
+
+    None when the file is missing, describes another drawing, or is in WGS84 (--anchor).
+    """
+    return _local_features(graph_file, graph, "area")
+
+
+def rooms_beside(graph_file: str, graph) -> dict | None:
+    """Return {room id: polygon} of roadmap.geojson beside `graph_file`, metres, or None.
+
+    None as for `areas_beside`; an empty dict when the drawing had no rooms.
+    """
+    return _local_features(graph_file, graph, "room")

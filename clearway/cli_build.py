@@ -239,7 +239,8 @@ def _sigterm_as_exit(command):
 @click.option("--previous", metavar="OLD.graphml",
               help="Graph of the previous revision: nodes within 0.5 m of an old node of "
                    "the same kind (and label) keep its id, lanes between them keep theirs "
-                   "(compare pairs nodes within the same 0.5 m).")
+                   "(compare pairs nodes within the same 0.5 m); a room holding more than half "
+                   "of an old room keeps its id (rooms from roadmap.geojson beside it).")
 @click.option("--no-html", is_flag=True, help="Leave out roadmap.html, the interactive viewer.")
 @click.option("--dxf", "with_dxf", is_flag=True,
               help="Also write roadmap.dxf: lanes, node and lane ids, stations and findings "
@@ -266,6 +267,7 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
     2 for bad input.
     """
     from clearway.cli_view import html_page
+    from clearway.beside import rooms_beside
     from clearway.converter import read_floorplan
     from clearway.diagnosis import check_lanes
     from clearway.exporters import (render_dxf, render_geojson, render_graphml,
@@ -310,7 +312,12 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
             for warning in site_warnings(previous_graph, roadmap.graph):
                 click.echo(terminal_text(f"warning: --previous {previous}: {warning}"), err=True)
             say(f"  ids carried over from {previous}")
-            roadmap = carry_ids_over(roadmap, previous_graph)
+            previous_rooms = rooms_beside(previous, previous_graph)
+            if previous_rooms is None and roadmap.rooms:
+                click.echo(terminal_text(f"warning: --previous {previous}: no roadmap.geojson "
+                                         "of that build in drawing metres beside it; room ids "
+                                         "start afresh"), err=True)
+            roadmap = carry_ids_over(roadmap, previous_graph, previous_rooms=previous_rooms)
         names = BUILD_FILES[:-1] if no_html else BUILD_FILES
         say(f"rendering {', '.join(names)}")
         files = dict(zip(names, (

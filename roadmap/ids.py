@@ -16,6 +16,7 @@ from __future__ import annotations
 import re
 from collections import defaultdict
 from dataclasses import replace
+from typing import Mapping
 
 import networkx as nx
 import numpy as np
@@ -24,10 +25,12 @@ from scipy.optimize import linear_sum_assignment
 from scipy.sparse import coo_array
 from scipy.sparse.csgraph import connected_components
 from scipy.spatial import cKDTree
+from shapely.geometry.base import BaseGeometry
 
 from clearway.roadmap.choices import SAME_PLACE_TOLERANCE
 from clearway.roadmap.model import Roadmap
 from clearway.roadmap.turns import pair_text, parse_turns
+from clearway.sorting import natural_key
 
 _NUMBERED = re.compile(r"^([A-Za-z_]*)(\d+)$")
 
@@ -195,24 +198,88 @@ def _relabel(graph: nx.MultiGraph, nodes: dict, edges: dict) -> nx.MultiGraph:
 
 
 def carry_ids_over(roadmap: Roadmap, previous_graph: nx.MultiGraph, *,
-                   tolerance: float = SAME_PLACE_TOLERANCE) -> Roadmap:
+                   tolerance: float = SAME_PLACE_TOLERANCE,
+                   previous_rooms: Mapping[str, BaseGeometry] | None = None) -> Roadmap:
     """Return `roadmap` with its graph's ids carried over from `previous_graph`.
 
     The findings follow the new ids too (station nodes, pinch point and personnel edges),
-    so the report and the graph keep agreeing. See `assign_stable_ids`.
+    so the report and the graph keep agreeing. See `assign_stable_ids`. With
+    `previous_rooms` ({room id: polygon}, drawing frame), room ids are carried over as
+    `match_rooms` pairs them; the rooms, passages, stations and nodes follow.
     """
     nodes, edges = stable_id_mapping(roadmap.graph, previous_graph, tolerance=tolerance)
     findings = roadmap.findings
+    rooms = (_room_mapping(roadmap.rooms, previous_rooms) if previous_rooms is not None
+             else {room.id: room.id for room in roadmap.rooms})
     findings = replace(
         findings,
-        stations=tuple(replace(s, node=nodes.get(s.node, s.node)) for s in findings.stations),
+        stations=tuple(replace(s, node=nodes.get(s.node, s.node), room=rooms.get(s.room, s.room))
+                       for s in findings.stations),
         pinch_points=tuple(replace(p, edge=edges.get(p.edge, p.edge))
                            for p in findings.pinch_points),
         personnel=tuple(replace(p, edge=edges.get(p.edge, p.edge)) for p in findings.personnel),
         body=tuple(replace(b, node=nodes.get(b.node, b.node),
                            edges=tuple(edges.get(e, e) for e in b.edges))
                    for b in findings.body))
-    return replace(roadmap, graph=_relabel(roadmap.graph, nodes, edges), findings=findings)
+    graph = _relabel(roadmap.graph, nodes, edges)
+    for _, attrs in graph.nodes(data=True):
+        for name in ("room", "room_node"):
+            if attrs.get(name):
+                attrs[name] = rooms.get(attrs[name], attrs[name])
+    return replace(
+        roadmap, graph=graph, findings=findings,
+        rooms=tuple(sorted((replace(room, id=rooms[room.id], node=nodes.get(room.node, room.node))
+                            for room in roadmap.rooms), key=lambda room: natural_key(room.id))),
+        passages=tuple(replace(p, rooms=tuple(sorted((rooms.get(r, r) for r in p.rooms),
+                                                     key=natural_key)))
+                       for p in roadmap.passages))
+
+
+def match_rooms(old: Mapping[str, BaseGeometry], new) -> dict[int, str]:
+    """Pair new rooms with the old rooms whose area they keep most of.
+
+    Parameters
+    ----------
+    old : mapping
+        {old room id: polygon}, metres.
+    new : sequence of Polygon
+        The new rooms, same frame.
+
+    Returns
+    -------
+    dict
+        {index into `new`: old id}, one-to-one. A new room keeps an old room's id when it
+        holds more than half of that room's area; a room split in two keeps its id in the
+        part holding most of it, and rooms merged into one leave it the id of the one it
+        overlaps most (the larger overlap, then the smaller id, wins).
+
+    Examples
+    --------
+    >>> old = {"r4": shapely.box(0, 0, 4, 4), "r7": shapely.box(4, 0, 8, 4)}
+    >>> match_rooms(old, [shapely.box(0, 0, 6, 4), shapely.box(6, 0, 8, 4)])   # r7 halved
+    {0: 'r4'}
+    """
+    ids = sorted(old, key=natural_key)
+    polygons = np.array([old[room] for room in ids], dtype=object)
+    new = np.asarray(new, dtype=object)
+    if len(polygons) == 0 or len(new) == 0:
+        return {}
+    new_index, old_index = shapely.STRtree(polygons).query(new, predicate="intersects")
+    kept = shapely.area(shapely.intersection(new[new_index], polygons[old_index]))
+    most = kept > 0.5 * shapely.area(polygons[old_index])
+    best: dict[int, tuple[float, int]] = {}
+    for n, o, area in zip(new_index[most], old_index[most], kept[most]):
+        if n not in best or (area, -o) > (best[n][0], -best[n][1]):
+            best[int(n)] = (float(area), int(o))
+    return {n: ids[o] for n, (_, o) in sorted(best.items())}
+
+
+def _room_mapping(rooms, previous_rooms) -> dict[str, str]:
+    """{new room id: id to use}: matched rooms keep the old id, others get fresh ones."""
+    pairs = match_rooms(previous_rooms, [room.polygon for room in rooms])
+    fresh = fresh_ids(previous_rooms, "r")
+    return {room.id: pairs[k] if k in pairs else next(fresh)
+            for k, room in sorted(enumerate(rooms), key=lambda item: natural_key(item[1].id))}
 
 
 def match_edge_pairs(old: nx.MultiGraph, new: nx.MultiGraph,

@@ -26,14 +26,16 @@ RIGHT = shapely.box(6.2, 0.2, 12.0, 5.0) | shapely.box(6.1, 2.0, 6.2, 3.0)
 DOOR = shapely.LineString([(6.1, 2.0), (6.1, 3.0)])
 
 
-def two_rooms(folder, names=("2.14", "KITCHEN"), *, partition_x=6.0, name="plan.dxf"):
-    """Draw the two rooms with one text in each; return the drawing's path."""
+def two_rooms(folder, names=("2.14", "KITCHEN"), *, partitions=(6.0,), name="plan.dxf"):
+    """Draw the rooms (a partition 0.2 m thick from each x in `partitions`, a 1 m gap at
+    y 2.0 .. 3.0 in each) with one text in each of the first two; return the path."""
     doc = new_drawing(6)
     msp = doc.modelspace()
     walled_room(msp, 0, 0, 12.2, 5.2)
-    for y0, y1 in ((0.2, 2.0), (3.0, 5.0)):
-        msp.add_lwpolyline(rectangle(partition_x, y0, partition_x + 0.2, y1), close=True,
-                           dxfattribs={"layer": "A-WALL"})
+    for x in partitions:
+        for y0, y1 in ((0.2, 2.0), (3.0, 5.0)):
+            msp.add_lwpolyline(rectangle(x, y0, x + 0.2, y1), close=True,
+                               dxfattribs={"layer": "A-WALL"})
     for text, x in zip(names, (2.5, 8.5)):
         msp.add_text(text, dxfattribs={"layer": "A-ANNO-TEXT", "height": 0.25,
                                        "insert": (x, 4.0)})
@@ -142,3 +144,48 @@ def test_issue_10_an_ambiguous_room_name_lists_the_rooms(tmp_path):
     assert line == (f"Error: {graph_file}: room 'Office' is ambiguous: rooms "
                     f"{first['id']} ({first['names'][0]}), {second['id']} "
                     f"({second['names'][0]}); give a room id instead")
+
+
+def test_issue_10_room_ids_carried_over_with_previous(built, tmp_path):
+    old = {room["names"][0]: room["id"]
+           for room in json.loads((built / "report.json").read_text())["rooms"]}
+    # revision: a partition at x 2.0 .. 2.2 cuts a small room off the left one
+    revised = two_rooms(tmp_path, names=("2.14", "KITCHEN"), partitions=(6.0, 2.0))
+    out = build(revised, tmp_path / "out", "--previous", built / "roadmap.graphml")
+    rooms = json.loads((out / "report.json").read_text())["rooms"]
+    areas = {room["id"]: room["area"] for room in rooms}
+    by_area = sorted(rooms, key=lambda room: room["area"])
+    small, middle, right = by_area[0], by_area[1], by_area[2]
+    # analytic: small 1.8 x 4.8 + 0.1 = 8.74 m^2 (under half of the old 27.94: a new room);
+    # the middle 3.8 x 4.8 + 2 x 0.1 = 18.44 m^2, all of it inside the old left room, more
+    # than half of that room's 27.94 m^2: it keeps the old id; the right room is unchanged
+    assert (small["area"], middle["area"], right["area"]) == pytest.approx(
+        (8.74, 18.44, ROOM_AREA), abs=1e-6)
+    assert middle["id"] == old["2.14"] and right["id"] == old["KITCHEN"]
+    assert middle["names"] == ["2.14"] and right["names"] == ["KITCHEN"]
+    # a new room's id is above every old one (the previous build had r0 and r1)
+    assert small["id"] == "r2" and sorted(old.values()) == ["r0", "r1"]
+    assert len(areas) == 3
+    # the nodes follow: the room node of each room carries its carried-over id
+    graph = igraph.Graph.Read_GraphML(str(out / "roadmap.graphml"))
+    assert {v["id"]: v["room_node"] for v in graph.vs if v["room_node"]} == {
+        room["node"]: room["id"] for room in rooms}
+    for vertex in graph.vs:
+        point = shapely.Point(vertex["x"], vertex["y"])
+        if vertex["room"] and min(point.distance(DOOR), point.x - 2.0) > 0.2:
+            assert vertex["room"] == (old["KITCHEN"] if point.x > 6.1 else old["2.14"])
+
+
+def test_room_ids_start_afresh_without_the_previous_geojson(built, tmp_path):
+    lone = tmp_path / "old" / "roadmap.graphml"
+    lone.parent.mkdir()
+    lone.write_bytes((built / "roadmap.graphml").read_bytes())
+    revised = two_rooms(tmp_path, partitions=(6.0, 2.0))
+    result = run("build", revised, "-o", tmp_path / "out", "-q", "--no-html",
+                 "--previous", lone)
+    assert result.exit_code == 0, result.output
+    assert "room ids start afresh" in result.stderr
+    rooms = json.loads((tmp_path / "out" / "report.json").read_text())["rooms"]
+    # from left to right, as a first build numbers them
+    assert [room["id"] for room in sorted(rooms, key=lambda room: room["x"])] == [
+        "r0", "r1", "r2"]

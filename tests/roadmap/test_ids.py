@@ -15,7 +15,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from clearway.roadmap import assign_stable_ids
-from clearway.roadmap.ids import SAME_PLACE_TOLERANCE, match_nodes
+from clearway.roadmap.ids import SAME_PLACE_TOLERANCE, match_nodes, match_rooms
 
 from tests.lane_fixtures import lane_graph, grid_graph
 
@@ -227,3 +227,20 @@ def test_sample_revision_b_keeps_every_id_away_from_the_change():
     assert len(kept) == len(far)             # measured share: 43 of 43 nodes (100 %)
     carried_labels = {result.nodes[n]["label"] for n in result if n in old}
     assert {a["label"] for _, a in old.nodes(data=True) if a["label"]} <= carried_labels
+
+
+@pytest.mark.parametrize("new, expected", [
+    # analytic: the same room moved 1 m keeps 3/4 of its 16 m^2
+    ([shapely.box(1, 0, 5, 4)], {0: "r4"}),
+    # analytic: split 3:1, the larger part holds 12 of 16 m^2, the smaller 4
+    ([shapely.box(0, 0, 1, 4), shapely.box(1, 0, 4, 4)], {1: "r4"}),
+    # analytic: split in halves, neither holds more than half
+    ([shapely.box(0, 0, 2, 4), shapely.box(2, 0, 4, 4)], {}),
+    # analytic: r4 and r9 (16 m^2 each) merged: equal overlaps, the smaller id wins
+    ([shapely.box(0, 0, 4, 8)], {0: "r4"}),
+    # analytic: merged with 3/4 of r9 only: r4 overlaps 16, r9 12 m^2
+    ([shapely.box(0, 0, 4, 7), shapely.box(0, 7, 4, 8)], {0: "r4"}),
+])
+def test_a_room_keeps_its_id_when_it_keeps_most_of_its_area(new, expected):
+    old = {"r9": shapely.box(0, 4, 4, 8), "r4": shapely.box(0, 0, 4, 4)}
+    assert match_rooms(old, new) == expected
