@@ -175,3 +175,13 @@ def test_single_line_wall_drawn_through_a_doorway(tmp_path, leaf_angle):
     assert plan.free_space.contains(shapely.Point(4.7, 1.3))
     assert len(shapely.get_parts(plan.free_space)) == 1
 
+
+
+@pytest.mark.parametrize("name, role", [
+    ("Regale", "racking"), ("RAYONNAGES", "racking"), ("Estanterías", "racking"),
+    ("scaffalature", "racking"), ("Stellingen", "racking"), ("X$0$A-EQPM-RACK", "racking"),
+    ("Sperrfläche", "keepout"), ("ZONE INTERDITE", "keepout"), ("exclusion zone", "keepout"),
+])
+def test_racking_and_keep_out_in_the_languages_of_the_walls(name, role):
+    # common practice: the plain words warehouse planners use for racking and no-go areas
+    assert Roles().role_of(name) == role
