@@ -1,18 +1,21 @@
-"""Rooms and openings in the outputs: GeoJSON features, report.json, SVG."""
+"""Rooms and openings in the outputs: GeoJSON features, report.json, SVG, GraphML."""
 
 from __future__ import annotations
 
+import io
 import json
 
 import geojson
+import igraph
+import networkx as nx
 import pytest
 import shapely
 from lxml import etree
 from shapely.geometry import MultiPolygon, shape
 
 from clearway.converter.floorplan import FloorPlan, Opening, PlanText, Station
-from clearway.exporters import render_geojson, render_report, render_svg
-from clearway.roadmap import Robot, build_roadmap
+from clearway.exporters import render_geojson, render_graphml, render_report, render_svg
+from clearway.roadmap import Robot, build_roadmap, resolve_node
 
 #: a room name with markup, quotes, an ampersand, right-to-left marks and a control character
 HOSTILE = '<b>"2.14"</b> & \u202eKITCHEN\u202c \u200f'
@@ -107,3 +110,20 @@ def test_svg_names_rooms_and_marks_the_closed_room(built):
     legend = " ".join(t.text or "" for t in root.iter("{http://www.w3.org/2000/svg}text"))
     assert "room the robot cannot enter" in legend
     assert "gap 0.8" in legend                          # the 0.8 m door the robot cannot pass
+
+
+def test_graphml_room_names_come_back_intact_for_two_readers(built, tmp_path):
+    plan, roadmap = built
+    data = render_graphml(plan, roadmap)
+    room = next(r for r in roadmap.rooms if r.names == (HOSTILE,))
+    # source: XML 1.0 sec. 2.2, Char: the right-to-left marks are legal characters and kept;
+    # "<", "&" and quotes are escaped by the writer and come back as typed
+    other = nx.read_graphml(io.BytesIO(data), force_multigraph=True)
+    assert other.nodes[room.node]["room_names"] == HOSTILE
+    assert other.nodes[room.node]["room_node"] == room.id
+    (tmp_path / "roadmap.graphml").write_bytes(data)
+    vertices = igraph.Graph.Read_GraphML(str(tmp_path / "roadmap.graphml"))
+    (vertex,) = [v for v in vertices.vs if v["room_node"] == room.id]
+    assert vertex["room_names"] == HOSTILE and vertex["id"] == room.node
+    # the name as typed, markup and marks included, finds the room's node
+    assert resolve_node(other, HOSTILE) == room.node
