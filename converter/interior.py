@@ -64,8 +64,9 @@ def building_interior(wall_lines, wall_rings, wall_fills, wall_arcs, *, door_lin
         False when a boundary outline is drawn: the envelope is not needed (every opening
         is then interior unless it lies on the outline, decided by the caller).
     """
-    wall_lines, wall_rings, _ = open_swept_doorways(wall_lines, wall_rings,
-                                                    door_swings(np.asarray(swing_arcs, dtype=object)))
+    wall_lines, wall_rings, _ = open_swept_doorways(
+        wall_lines, wall_rings, door_swings(np.asarray(swing_arcs, dtype=object)),
+        max_thickness=max_wall_thickness)
     solid, enclosed, loose = wall_regions(wall_lines, wall_rings, wall_fills, arcs=wall_arcs,
                                           texts=texts_xy, gap_tolerance=gap_tolerance,
                                           max_wall_thickness=max_wall_thickness,

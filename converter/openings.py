@@ -456,19 +456,23 @@ def swing_geometry(arc):
     return hinge, float(np.hypot(*(a - hinge))), np.array([a, c])
 
 
-def open_swept_doorways(lines, rings, swings, *, tolerance=0.03):
-    """Cut single-line walls drawn on through a doorway, and take the door leaf away.
+def open_swept_doorways(lines, rings, swings, *, max_thickness, tolerance=0.03):
+    """Cut walls drawn on through a doorway, and take the door leaf away.
 
-    Plans drawn with single-line walls often run the wall line straight across a doorway
-    and mark the opening only with jamb ticks, the leaf and its swing (common practice in
-    schematic and evacuation plans). A door swing (`swings`, flattened arcs, metres) whose
-    hinge (the arc's centre) and one end both lie on a wall line marks a doorway there: that
-    stretch of the line is cut out, and the wall linework inside the swept sector (the leaf,
-    a line or a thin rectangle) and the short strokes across the doorway (jamb ticks) go.
+    Plans often run the wall straight across a doorway and mark the opening only with the
+    leaf and its swing: single-line walls with jamb ticks (schematic and evacuation plans),
+    double-line walls with the door block laid over them (its mask hides the wall on paper).
+    A door swing (`swings`, flattened arcs, metres) whose hinge (the arc's centre) and one
+    end both lie along wall linework that runs on past them marks a doorway there. The
+    wall lines parallel to it over that stretch, from the hinge's face back through the
+    wall's thickness (up to `max_thickness`), are cut out; the wall linework inside the
+    swept sector (the leaf, a line or a thin rectangle) and short strokes across the
+    doorway (jamb ticks) go.
 
     Returns
     -------
-    (lines, rings, doorways) : the wall linework left and the (hinge, closed end) pairs cut
+    (lines, rings, doorways) : the wall linework left (a ring cut open becomes lines) and the
+    (hinge, closed end) pairs cut
     """
     lines = np.asarray(lines, dtype=object)
     rings = np.asarray(rings, dtype=object)
@@ -476,50 +480,78 @@ def open_swept_doorways(lines, rings, swings, *, tolerance=0.03):
     if not len(swings) or not (len(lines) or len(rings)):
         return lines, rings, []
     linework = np.concatenate([lines, rings])
-    is_ring = np.r_[np.zeros(len(lines), bool), np.ones(len(rings), bool)]
     tree = shapely.STRtree(linework)
-    cuts, sectors, doorways = [], [], []
+    cuts = {}                     # linework index -> regions cut out of it
+    sectors, regions, doorways = [], [], []
     for arc in swings:
         hinge, radius, ends = swing_geometry(arc)
-        if hinge is None:
-            continue
-        near_hinge = tree.query(shapely.Point(hinge), predicate="dwithin", distance=tolerance)
-        if not len(near_hinge):
+        if hinge is None or not len(tree.query(shapely.Point(hinge), predicate="dwithin",
+                                               distance=max_thickness)):
             continue
         for closed, free in ((ends[0], ends[1]), (ends[1], ends[0])):
-            threshold = shapely.LineString([hinge, closed])
-            band = threshold.buffer(tolerance, cap_style="flat")
-            # a wall line covering the whole threshold, hinge to the closed leaf's tip, and
-            # running on beyond it (a leaf drawn closed ends where the threshold does)
-            if not any(_runs_through(linework[index], band, radius)
-                       for index in near_hinge if not is_ring[index]):
+            region, along = _doorway_region(hinge, closed, free, max_thickness, tolerance)
+            found = [index for index in tree.query(region, predicate="intersects")
+                     if _runs_through(linework[index], region, along, radius)]
+            # the wall runs on through the hinge itself (the face the door hangs on); a wall
+            # merely parallel to a leaf drawn open is not its doorway
+            if not any(shapely.distance(linework[index], shapely.Point(hinge)) <= tolerance
+                       for index in found):
                 continue
-            cuts.append(band)
+            for index in found:
+                cuts.setdefault(index, []).append(region)
             sector = shapely.Polygon(np.vstack([hinge, np.asarray(arc.coords)[:, :2], hinge]))
             # leaves are drawn loosely: a leaf a tenth longer than its swing is still a leaf
             sectors.append(shapely.buffer(sector, max(tolerance, 0.12 * radius)))
+            regions.append(region)
             doorways.append((hinge, closed))
             break
-    if not cuts:
+    if not doorways:
         return lines, rings, []
-    cut = shapely.union_all(cuts)
-    swept = shapely.union_all(sectors)
-    gone = shapely.covered_by(linework, swept)           # leaves inside their swing
-    kept = shapely.get_parts(shapely.difference(linework[~gone & ~is_ring], cut))
-    kept = kept[~shapely.is_empty(kept)]
+    gone = shapely.covered_by(linework, shapely.union_all(sectors))   # leaves in their swing
+    opened = np.zeros(len(linework), dtype=bool)
+    opened[list(cuts)] = True
+    pieces = [shapely.difference(linework[index], shapely.union_all(cuts[index]))
+              for index in sorted(cuts) if not gone[index]]
+    pieces = shapely.get_parts(np.array(pieces, dtype=object)) if pieces else np.empty(0, object)
+    pieces = pieces[~shapely.is_empty(pieces)]
     # strokes across the doorway: jamb ticks, the stop between two leaves (not the bit of
     # wall line left between a hinge and the wall it runs into)
-    stroke = (shapely.length(kept) <= MAX_TICK) & \
-        shapely.intersects(kept, shapely.buffer(cut, tolerance)) & \
-        ~_along(kept, [door for door in doorways])
-    kept = kept[~stroke]
-    return kept, rings[~gone[is_ring]], doorways
+    keep = ~gone & ~opened
+    count = len(lines)
+    loose = np.concatenate([linework[:count][keep[:count]], pieces])
+    doorway = shapely.buffer(shapely.union_all(regions), tolerance)
+    stroke = (shapely.length(loose) <= MAX_TICK) & shapely.intersects(loose, doorway) & \
+        ~_along(loose, doorways)
+    return loose[~stroke], linework[count:][keep[count:]], doorways
 
 
-def _runs_through(line, band, radius):
-    """True when `line` covers most of the doorway `band` and goes on past it."""
-    inside = shapely.intersection(line, band).length
-    return inside >= 0.9 * radius and line.length - inside >= 0.1
+def _doorway_region(hinge, closed, free, max_thickness, tolerance):
+    """The strip a doorway cuts through its wall: from `hinge` to `closed` along the wall,
+    a little in front of the hinge on the swing's side (`free` is the swing's open end) and
+    `max_thickness` behind it. Returns (Polygon, unit vector along the doorway)."""
+    along = np.subtract(closed, hinge)
+    along = along / max(float(np.hypot(*along)), 1e-12)
+    normal = np.array([-along[1], along[0]])
+    if normal @ np.subtract(free, hinge) > 0:
+        normal = -normal                                  # away from the swing
+    front, back = normal * -(0.05 + tolerance), normal * (max_thickness + tolerance)
+    return shapely.Polygon([hinge + front, closed + front, closed + back, hinge + back]), along
+
+
+def _runs_through(geometry, region, along, radius):
+    """True when wall linework runs parallel to the doorway over most of it (within `region`)
+    and goes on past it (a leaf drawn closed ends where the doorway does)."""
+    inside = shapely.intersection(geometry, region)
+    if inside.is_empty or geometry.length - inside.length < 0.1:
+        return False
+    covered = 0.0
+    for part in shapely.get_parts(inside):
+        xy = shapely.get_coordinates(part)
+        steps = np.diff(xy, axis=0)
+        lengths = np.hypot(steps[:, 0], steps[:, 1])
+        parallel = np.abs(steps @ along) >= 0.97 * lengths
+        covered += float(lengths[parallel].sum())
+    return covered >= 0.9 * radius
 
 
 def _along(lines, doorways):

@@ -185,3 +185,24 @@ def test_single_line_wall_drawn_through_a_doorway(tmp_path, leaf_angle):
 def test_racking_and_keep_out_in_the_languages_of_the_walls(name, role):
     # common practice: the plain words warehouse planners use for racking and no-go areas
     assert Roles().role_of(name) == role
+
+
+def test_door_laid_over_a_double_line_wall_drawn_through(tmp_path):
+    # common practice: the partition's two faces run on unbroken and the door block (its mask
+    # hides them on paper) sits on top: hinge on the east face at y = 2.0, 0.9 m leaf open
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 10, 8)
+    for x in (4.95, 5.05):
+        msp.add_line((x, 0.2), (x, 7.8), dxfattribs={"layer": "A-WALL"})
+    door = doc.blocks.new("DOOR-900")
+    door.add_line((0, 0), (0.9, 0))
+    door.add_arc((0, 0), 0.9, 0, 90)
+    msp.add_blockref("DOOR-900", (5.05, 2.0), dxfattribs={"layer": "A-DOOR"})
+    plan = read_floorplan(save(doc, tmp_path))
+    [door] = [o for o in plan.openings if o.kind == "door"]
+    # analytic: the doorway runs from the hinge (y 2.0) to the closed leaf's tip (y 2.9)
+    assert (door.x, door.y, door.width) == pytest.approx((5.0, 2.45, 0.9), abs=0.01)
+    # analytic: one floor, 9.6 m x 7.6 m less the partition (0.1 m x 6.7 m left of it)
+    assert len(shapely.get_parts(plan.free_space)) == 1
+    assert plan.free_space.area == pytest.approx(9.6 * 7.6 - 0.1 * 6.7, rel=2e-3)
