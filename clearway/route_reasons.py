@@ -1,4 +1,4 @@
-"""Why two stations have no route: told from the report.json that build wrote beside the graph.
+"""Why two stations or rooms have no route, told from the report.json written beside the graph.
 
 The GraphML file holds the lanes only; the findings that explain a missing route (a station
 cut off by a door narrower than the robot needs, a station in an obstacle's clearance band)
@@ -10,7 +10,7 @@ from __future__ import annotations
 import networkx as nx
 
 from clearway.beside import report_beside
-from clearway.roadmap import resolve_node, shortest_route
+from clearway.roadmap import display_name, resolve_node, shortest_route
 
 
 def no_route_reason(graph_file: str, graph: nx.MultiGraph, ends, avoid=()) -> str:
@@ -53,4 +53,8 @@ def no_route_reason(graph_file: str, graph: nx.MultiGraph, ends, avoid=()) -> st
         if station.get("label") in labels and not station.get("reachable") and \
                 station.get("reason"):
             return f"{station['label']}: {station['reason']}"
+    rooms = {graph.nodes[node].get("room_node"): node for node in nodes}
+    for room in report.get("rooms") or ():
+        if room.get("id") in rooms and not room.get("reachable") and room.get("reason"):
+            return f"{display_name(graph, rooms[room['id']])}: {room['reason']}"
     return ""

@@ -189,3 +189,15 @@ def test_room_ids_start_afresh_without_the_previous_geojson(built, tmp_path):
     # from left to right, as a first build numbers them
     assert [room["id"] for room in sorted(rooms, key=lambda room: room["x"])] == [
         "r0", "r1", "r2"]
+
+
+def test_no_route_into_a_room_says_which_opening_stops_the_robot(tmp_path):
+    # the partition at x 7.0 leaves the right room (KITCHEN) the smaller drivable region
+    out = build(two_rooms(tmp_path, partitions=(7.0,)), tmp_path / "out",
+                "--robot-radius", "0.5")
+    result = run("route", out / "roadmap.graphml", "2.14", "KITCHEN")
+    assert result.exit_code == 1
+    # analytic: the robot needs 2 x (0.5 + 0.1) = 1.2 m; the gap is 1.0 m wide
+    assert result.stderr.splitlines() == [
+        f"{out / 'roadmap.graphml'}: no route from 2.14 to KITCHEN: KITCHEN: its opening is "
+        "1.00 m wide, the robot needs 1.20 m"]
