@@ -87,8 +87,8 @@ def rooms_off():
     stage.opening_cuts = lambda openings, offset: []
     stage.narrowings = lambda *args, **kwargs: []
     stage.split_floor = lambda free, cuts: np.empty(0, object)
-    stage.room_seeds = lambda rooms, *args: np.zeros(0, np.int64)
-    stage.describe_rooms = lambda *args: ((), ())
+    stage.room_seeds = lambda rooms, *args, **kwargs: np.zeros(0, np.int64)
+    stage.describe_rooms = lambda *args, **kwargs: ((), ())
     try:
         yield
     finally:
