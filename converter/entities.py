@@ -21,7 +21,7 @@ from clearway.converter.document import DAMAGE
 from clearway.converter.curves import bulge_polyline, widened_polyline
 from clearway.converter.parts import ARC, CLOSED, HOLE, OPEN, SHELL
 
-LINEWORK = ("LINE", "LWPOLYLINE", "POLYLINE", "ARC", "CIRCLE", "ELLIPSE", "SPLINE")
+LINEWORK = ("LINE", "LWPOLYLINE", "POLYLINE", "ARC", "CIRCLE", "ELLIPSE", "SPLINE", "MLINE")
 TEXTS = ("TEXT", "MTEXT")
 
 
@@ -134,11 +134,24 @@ def _solid(entity, tolerance, limit):
     return [(xy, SHELL)] if len(np.unique(xy, axis=0)) >= 3 else []
 
 
+def _mline(entity, tolerance, limit):
+    """A multiline (walls drawn as parallel lines in one entity): the lines and arcs its
+    style draws, from ezdxf's explosion of it; its fill, if any, is left to the faces."""
+    found = []
+    for part in entity.virtual_entities():
+        kind = part.dxftype()
+        if kind == "LINE":
+            found += _line(part, tolerance, limit)
+        elif kind == "ARC":
+            found += _arc_or_circle(part, tolerance, limit)
+    return found
+
+
 #: Entity type -> reader(entity, tolerance, max_vertices) -> [(xy, kind), ...] or None.
 READERS = {
     "LINE": _line, "LWPOLYLINE": _lwpolyline, "POLYLINE": _polyline,
     "ARC": _arc_or_circle, "CIRCLE": _arc_or_circle, "ELLIPSE": _curve, "SPLINE": _curve,
-    "HATCH": _hatch, "SOLID": _solid, "TRACE": _solid, "3DFACE": _solid,
+    "HATCH": _hatch, "SOLID": _solid, "TRACE": _solid, "3DFACE": _solid, "MLINE": _mline,
 }
 
 

@@ -206,3 +206,24 @@ def test_door_laid_over_a_double_line_wall_drawn_through(tmp_path):
     # analytic: one floor, 9.6 m x 7.6 m less the partition (0.1 m x 6.7 m left of it)
     assert len(shapely.get_parts(plan.free_space)) == 1
     assert plan.free_space.area == pytest.approx(9.6 * 7.6 - 0.1 * 6.7, rel=2e-3)
+
+
+def test_walls_drawn_as_multilines(tmp_path):
+    # common practice in older drafting: a wall is one MLINE (two parallel lines, capped);
+    # ezdxf's default multiline style draws its two lines 1 unit apart, scaled by scale_factor
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    outline = msp.add_mline([(0, 0), (10, 0), (10, 8), (0, 8)], close=True,
+                            dxfattribs={"layer": "A-WALL"})
+    outline.dxf.scale_factor = 0.2
+    outline.dxf.justification = 1         # DXF reference, MLINE group 70: 1 = zero (centred)
+    outline.update_geometry()
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: the multiline's lines run 0.1 m either side of the 10 m x 8 m centre line, so
+    # the floor inside is 9.8 m x 7.8 m
+    assert plan.free_space.area == pytest.approx(9.8 * 7.8, rel=2e-3)
+    assert plan.regions["wall"].area == pytest.approx(10.2 * 8.2 - 9.8 * 7.8, rel=2e-3)
+    # independent: ezdxf's own explosion of the entity holds the inner face's corners
+    inner = {(round(e.dxf.start.x, 6), round(e.dxf.start.y, 6))
+             for e in outline.virtual_entities() if e.dxftype() == "LINE"}
+    assert (0.1, 0.1) in inner or (9.9, 7.9) in inner
