@@ -39,8 +39,10 @@ def _find(name):
 def built(request):
     name = request.param
     plan = read_floorplan(_find(name))
+    # as `clearway build` does: the openings split the floor into rooms, texts name them
     roadmap = build_roadmap(plan.obstacles, plan.free_space,
-                            [(s.label, s.x, s.y) for s in plan.stations], robot=ROBOT)
+                            [(s.label, s.x, s.y) for s in plan.stations], robot=ROBOT,
+                            openings=plan.openings, texts=plan.texts)
     return name, PROBES[name], plan, roadmap
 
 
@@ -86,3 +88,16 @@ def test_no_lane_in_walls_stairs_or_outside(built):
     for key in ("in_walls", "in_stairs", "outside"):
         for x, y, why in probe.get(key, []):
             assert lanes.distance(shapely.Point(x * factor, y * factor)) > 0.3, (key, x, y, why)
+
+
+def test_rooms_carry_the_names_printed_in_them(built):
+    name, probe, plan, roadmap = built
+    factor = plan.m_per_unit
+    for x, y, printed in probe.get("rooms", []):
+        point = shapely.Point(x * factor, y * factor)
+        holding = [room for room in roadmap.rooms if room.polygon.covers(point)]
+        if not holding:
+            continue                       # a room the plan does not hold as floor (a wall bay)
+        # source: the room-name text printed at that point (probes.json)
+        assert any(printed.casefold() in " ".join(room.names).casefold() for room in holding), \
+            (x, y, printed, [room.names for room in holding])
