@@ -204,14 +204,29 @@ def locate(points, rooms: np.ndarray, *, slack: float = 0.0) -> np.ndarray:
     return result
 
 
-def room_names(rooms: np.ndarray, texts, offset) -> list[tuple[str, ...]]:
+#: A door tag giving width and height in feet and inches (3068 = 3'0" x 6'8", 16070 = a
+#: 16'0" x 7'0" overhead door; common practice in US plans).
+DOOR_TAG = re.compile(r"^(?:[1-9]|1\d)\d[6-8]\d$")
+
+
+def room_names(rooms: np.ndarray, texts, offset, openings=()) -> list[tuple[str, ...]]:
     """The texts inside each room: annotation layers first, then by height, largest first.
 
     Texts of several lines keep their lines joined by a space; empty texts and repeats are
-    left out.
+    left out, and so are door tags (`DOOR_TAG`) standing within 1.5 m of a door among
+    `openings` (drawing frame, like the texts).
+
+    Examples
+    --------
+    >>> [bool(DOOR_TAG.match(text)) for text in ("3068", "2468", "16070", "101", "2.14", "1204")]
+    [True, True, True, False, False, False]
     """
     names: list[list] = [[] for _ in range(len(rooms))]
     texts = [t for t in texts if str(t.text).strip()]
+    doors = np.array([(o.x, o.y) for o in openings if o.kind == "door"], dtype=float).reshape(-1, 2)
+    if len(doors):
+        texts = [t for t in texts if not (DOOR_TAG.match(str(t.text).strip()) and
+                                           np.hypot(*(doors - (t.x, t.y)).T).min() <= 1.5)]
     if not texts:
         return [() for _ in rooms]
     xy = np.array([(t.x, t.y) for t in texts], dtype=float) - np.asarray(offset, dtype=float)

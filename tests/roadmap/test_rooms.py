@@ -227,6 +227,19 @@ def test_room_names_annotation_layers_first_then_largest_height():
     assert "\u202e" in names[1][0] and "<b>" in names[1][0]
 
 
+def test_door_tags_beside_doors_are_not_room_names():
+    # common practice (US plans): a door is tagged with its size in feet and inches, 3068 =
+    # 3'0" x 6'8"; beside the door it names the door, away from doors it may be a room number
+    rooms = np.array([shapely.box(0, 0, 5, 5)], dtype=object)
+    door = Opening(x=5.0, y=2.0, width=0.914, kind="door", exterior=False, start=(5.0, 1.543),
+                   end=(5.0, 2.457))
+    texts = [PlanText("3068", 4.5, 2.2, 0.2, "A-TEXT"), PlanText("BEDROOM", 2, 3, 0.2, "A-TEXT"),
+             PlanText("2668", 1.0, 4.0, 0.2, "A-TEXT")]
+    # equal heights: top to bottom
+    assert room_names(rooms, texts, (0.0, 0.0), [door]) == [("2668", "BEDROOM")]
+    assert room_names(rooms, texts, (0.0, 0.0)) == [("2668", "BEDROOM", "3068")]
+
+
 def test_a_station_report_names_its_room(robot):
     obstacles, free, openings = corridor_with_rooms([1.0, 1.0])
     roadmap = build(obstacles, free, [("dock", 1.7, 4.5), ("hall", 3.0, 1.1)], robot=robot,
