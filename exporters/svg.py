@@ -23,9 +23,10 @@ from shapely.ops import polylabel  # shapely.polylabel exists only from shapely 
 
 from clearway.exporters.graphml import oriented_edges
 from clearway.exporters.svg_labels import LabelPlacer
-from clearway.exporters.svg_parts import (AREA_STYLE, add_legend, add_marker, add_scale_and_arrow,
-                                          add_text, lane_bins, lane_colour, measure_label,
-                                          number, path_data, symbol_reach)
+from clearway.exporters.svg_parts import (AREA_STYLE, add_heading, add_legend, add_marker,
+                                          add_scale_and_arrow, add_text, heading_end, lane_bins,
+                                          lane_colour, measure_label, number, path_data,
+                                          symbol_reach)
 from clearway.exporters.text import SAFETY_CAUTION, TOOL_VERSION, xml_text
 from clearway.roadmap.inflate import local_offset
 
@@ -222,6 +223,11 @@ def render_svg(plan, roadmap, *, date: str) -> bytes:
     for kind, x, y, _ in symbols:      # every symbol first, so that no label covers one
         lift = 1.3 * font if kind == "personnel" else 0.0
         placer.block(shapely.Point(x, y + lift).buffer(symbol_reach(kind, font), quad_segs=2))
+    facing = [(s.x - ox, s.y - oy, s.heading) for s in plan.stations if s.heading is not None]
+    for x, y, heading in facing:       # under the station's square
+        placer.block(shapely.LineString([(x, y), heading_end(x, y, heading, font)]).buffer(
+            0.1 * font, quad_segs=2))
+        add_heading(marks, x, -y, heading, font)
     right = xmin + 0.75 * width       # labels of marks beyond this prefer the left
     for kind, x, y, label in symbols:
         lift = 1.3 * font if kind == "personnel" else 0.0
@@ -238,6 +244,8 @@ def render_svg(plan, roadmap, *, date: str) -> bytes:
             add_text(names, x, -y, xml_text(room.names[0]), 0.9 * font, anchor=anchor,
                      halo=True, colour="#3A3A3A")
     present = {kind for kind, *_ in symbols}
+    if facing:                          # the legend's station shows its heading line
+        present = (present - {"station"}) | {"facing"}
     drawn = {role for role in AREA_STYLE
              if areas.get(role) is not None and not areas[role].is_empty}
 

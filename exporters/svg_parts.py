@@ -59,6 +59,7 @@ AREA_NAMES = {"free": "free floor", "band": "clearance band",
               "shared": "shared with people", "wall": "wall", "racking": "racking",
               "keepout": "keep-out", "boundary": "boundary"}
 MARKER_NAMES = {"junction": "junction", "end": "lane end", "station": "station",
+                "facing": "station; line: way it faces",
                 "unreachable": "unreachable station", "pinch": "pinch point",
                 "narrow": "narrow passage", "personnel": "personnel clearance short",
                 "leak": "leak to outside"}
@@ -77,7 +78,7 @@ def measure_label(kind: str, metres: float) -> str:
 
 def symbol_reach(kind: str, font: float) -> float:
     """Half-size of symbol `kind` drawn for text of height `font`, metres."""
-    return {"junction": 0.42, "end": 0.34, "station": 0.64, "unreachable": 0.64,
+    return {"junction": 0.42, "end": 0.34, "station": 0.64, "facing": 0.64, "unreachable": 0.64,
             "pinch": 0.75, "narrow": 0.75, "personnel": 0.6, "leak": 0.72}[kind] * font
 
 
@@ -126,6 +127,23 @@ def add_text(parent, x, y, text, size, *, weight=None, colour=BLACK, anchor=None
     return element
 
 
+def heading_end(x: float, y: float, heading: float, font: float,
+                length: float = 1.5) -> tuple[float, float]:
+    """End of a station's heading line, `length` font sizes from drawing point (x, y)."""
+    angle = math.radians(heading)
+    return x + length * font * math.cos(angle), y + length * font * math.sin(angle)
+
+
+def add_heading(parent, x: float, y: float, heading: float, font: float,
+                length: float = 1.5) -> None:
+    """Draw the way a station faces: a line from SVG position (x, y) (already flipped),
+    `heading` degrees counter-clockwise from the drawing's +X (so up on the page)."""
+    end_x, end_y = heading_end(x, -y, heading, font, length)
+    etree.SubElement(parent, "line", {"class": "heading"}, x1=number(x), y1=number(y),
+                     x2=number(end_x), y2=number(-end_y), stroke=BLACK,
+                     **{"stroke-width": number(0.2 * font), "stroke-linecap": "round"})
+
+
 def _symbol(parent, kind: str, x: float, y: float, font: float) -> None:
     """Draw symbol `kind` centred on SVG position (x, y)."""
     s = font
@@ -135,6 +153,9 @@ def _symbol(parent, kind: str, x: float, y: float, font: float) -> None:
         sub(parent, "circle", cx=number(x), cy=number(y), r=number(0.36 * s if kind ==
             "junction" else 0.28 * s), fill=fill, stroke=stroke,
             **{"stroke-width": number(0.12 * s)})
+    elif kind == "facing":           # the legend's station with its heading line
+        add_heading(parent, x, y, 0.0, s, length=1.0)
+        _symbol(parent, "station", x, y, s)
     elif kind in ("station", "unreachable"):
         half = 0.55 * s
         fill, stroke = (GREEN, "#ffffff") if kind == "station" else ("#ffffff", VERMILLION)

@@ -13,6 +13,7 @@ import pyogrio
 import pytest
 import shapely
 from click.testing import CliRunner
+from lxml import etree
 
 from clearway.cli import main
 from tests.conftest import new_drawing, save, walled_room
@@ -23,6 +24,7 @@ STATIONS = "A-EQPM-STATION"
 # TYPE attribute says "tote drop", turned -45 degrees, which is 315 (DXF group 50: degrees
 # counter-clockwise); the pick station is a POINT with a TEXT: no block, so no heading
 EXPECTED = {"C1": ("charger", 90.0), "B1": ("tote drop", 315.0), "PICK-7": ("pick", None)}
+STATION_XY = {"C1": (4.0, 5.0), "B1": (10.0, 5.0), "PICK-7": (16.0, 5.0)}    # as drawn
 
 
 def build(folder, *extra):
@@ -111,6 +113,29 @@ def test_a_plan_without_block_stations_declares_no_heading(tmp_path):
     out = build(tmp_path)
     text = (out / "roadmap.graphml").read_text(encoding="utf-8")
     assert 'attr.name="heading"' not in text and 'attr.name="station_kind"' not in text
+    svg = (out / "roadmap.svg").read_text(encoding="utf-8")
+    assert 'class="heading"' not in svg and "way it faces" not in svg
+
+
+def test_svg_draws_each_block_station_facing_its_heading(built):
+    root = etree.parse(str(built / "roadmap.svg")).getroot()
+    svg = "{http://www.w3.org/2000/svg}"
+    (marks,) = [g for g in root.iter(f"{svg}g") if g.get("id") == "marks"]
+    found = {}
+    for line in marks.iter(f"{svg}line"):
+        if line.get("class") != "heading":
+            continue
+        x1, y1, x2, y2 = (float(line.get(name)) for name in ("x1", "y1", "x2", "y2"))
+        # the plan lies near the origin, drawn unshifted with y flipped (svg.drawing_origin)
+        label = next(label for label, (x, y) in STATION_XY.items()
+                     if math.hypot(x - x1, y + y1) < 1e-3)       # SVG keeps 1 mm
+        found[label] = math.degrees(math.atan2(-(y2 - y1), x2 - x1)) % 360.0
+    assert set(found) == {label for label, (_, heading) in EXPECTED.items() if heading is not None}
+    for label, angle in found.items():
+        # the line's ends are rounded to 1 mm over its 1.5 font sizes (> 0.3 m): 0.5 degrees
+        assert abs((angle - EXPECTED[label][1] + 180) % 360 - 180) < 0.5, label
+    legend = " ".join("".join(t.itertext()) for t in root.iter(f"{svg}text"))
+    assert "station; line: way it faces" in legend
 
 
 def test_dxf_draws_each_block_station_facing_its_heading(built):
