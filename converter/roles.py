@@ -15,21 +15,24 @@ from clearway.converter.floorplan import ROLES
 #: ``SITE|A-WALL``). They cover the US National CAD Standard / AIA layer names (A-WALL,
 #: A-DOOR, A-GLAZ, A-FLOR-STRS, A-COLS, S-COLS, A-FLOR-OTLN) and the plain words offices
 #: use in English, French, German, Spanish, Italian and Dutch, which also appear in the
-#: descriptive fields of ISO 13567 and BS 1192 names ("A-325G - Internal Doors"). Numeric
+#: descriptive fields of ISO 13567 and BS 1192 names ("A-325G - Internal Doors"), and the
+#: Chinese, Japanese and Korean words for wall, column, door, window and stair. Numeric
 #: classification codes alone are not matched: schemes number differently (a CI/SfB 32 is
 #: an opening, a Uniclass 320 a partition).
 DEFAULT_ROLE_PATTERNS: Mapping[str, tuple[str, ...]] = MappingProxyType({
     "opening": ("*DOOR*", "*GLAZ*", "*WINDOW*", "*-WIND", "*-WIND-*", "*OPNG*", "*OPENING*",
                 "*CURTAIN*", "*TÜR*", "*TUER*", "TUR", "TUR[-_ ]*", "*FENSTER*", "*PORTE*",
                 "*FENETRE*", "*FENÊTRE*", "*PUERTA*", "*VENTANA*", "*FINESTR*", "*DEUR*",
-                "*RAAM*", "*RAMEN*"),
+                "*RAAM*", "*RAMEN*", "*门*", "*窗*", "*幕墙*", "*建具*", "*ドア*", "*窓*",
+                "*창호*"),
     "stair": ("*STAIR*", "*STRS*", "*TREPPE*", "*ESCALIER*", "*ESCALERA*", "*SCALA",
-              "*TRAP[-_ ]*", "*TRAPPE*"),
+              "*TRAP[-_ ]*", "*TRAPPE*", "*楼梯*", "*階段*", "*계단*"),
     "wall": ("*WALL*", "A-COLS*", "S-COLS*", "*COLUMN*", "*-COL", "*-COL-*", "*-COLS-*",
              "WAND*", "*[-_ ]WAND*", "*WÄNDE*", "*WAENDE*", "*MAUER*", "MUR", "MURS*",
              "MUR[-_ ]*", "*[-_ ]MUR", "*[-_ ]MURS*", "*[-_ ]MUR[-_ ]*", "MURO*", "*[-_ ]MURO*",
              "*PARED*", "*PARETE*", "*PARETI*", "*MUUR*", "*MUREN*", "*STÜTZ*", "*STUETZ*",
-             "*POTEAU*", "*PILAR*", "*PILLAR*", "*COLONN*", "*PARTITION*", "*CLOISON*"),
+             "*POTEAU*", "*PILAR*", "*PILLAR*", "*COLONN*", "*PARTITION*", "*CLOISON*",
+             "*墙*", "*牆*", "*柱*", "*壁*", "*벽*", "*기둥*"),
     "racking": ("*RACK*", "*SHELV*", "*PALLET*", "*REGAL*", "*RAYONNAGE*", "*ESTANTER*",
                 "*SCAFFAL*", "*STELLING*"),
     "keepout": ("*KEEPOUT*", "*KEEP-OUT*", "*KEEP_OUT*", "*NOGO*", "*NO-GO*", "*EXCLUSION*",
@@ -52,12 +55,16 @@ DEFAULT_IGNORED_PATTERNS = ("*OVHD*", "*OVERHEAD*", "*HIDDEN*", "*HIDD*", "*-HEA
 
 #: Opening blocks and layers by kind: a door swings or slides (passable), a window is glazing
 #: (closed like wall). Block names are matched like layer names; door blocks named by size
-#: in feet and inches (``3068`` = 3'0" x 6'8") are doors too (common practice).
+#: in feet and inches (``3068`` = 3'0" x 6'8") are doors too, and so are the door (M0921,
+#: FM1021: 900 or 1000 wide, 2100 high) and window (C1518) codes of Chinese drawings
+#: (common practice).
 DOOR_PATTERNS = ("*DOOR*", "*TÜR*", "*TUER*", "TUR", "TUR[-_ ]*", "*PORTE*", "*PUERTA*", "*DEUR*",
-                 "*GATE*", "*-DR-*", "DR[-_ ]*", "[1-9][0-9][6-8][0-9]")
+                 "*GATE*", "*-DR-*", "DR[-_ ]*", "[1-9][0-9][6-8][0-9]",
+                 "M[0-9][0-9][0-9][0-9]*", "FM*[0-9][0-9][0-9][0-9]*", "*门*", "*ドア*",
+                 "*扉*")
 WINDOW_PATTERNS = ("*WINDOW*", "*-WIND", "*-WIND-*", "WIN", "WIN[-_ 0-9]*", "*WDW*", "*GLAZ*", "*CURTAIN*",
                    "*FENSTER*", "*FENETRE*", "*FENÊTRE*", "*VENTANA*", "*FINESTR*", "*RAAM*",
-                   "*RAMEN*")
+                   "*RAMEN*", "C[0-9][0-9][0-9][0-9]*", "*窗*", "*窓*", "*幕墙*")
 
 #: Role -> the option / config key that sets it (``--walls``, ``[layers] walls = [...]``).
 ROLE_OPTION_NAMES: Mapping[str, str] = MappingProxyType({

@@ -227,3 +227,20 @@ def test_walls_drawn_as_multilines(tmp_path):
     inner = {(round(e.dxf.start.x, 6), round(e.dxf.start.y, 6))
              for e in outline.virtual_entities() if e.dxftype() == "LINE"}
     assert (0.1, 0.1) in inner or (9.9, 7.9) in inner
+
+
+@pytest.mark.parametrize("name, role", [
+    ("墙体", "wall"), ("柱子", "wall"), ("门窗", "opening"), ("楼梯", "stair"), ("幕墙", "opening"),
+    ("壁", "wall"), ("建具", "opening"), ("階段", "stair"), ("벽체", "wall"), ("계단", "stair"),
+    ("문자", None),                                  # Korean "text": not a door
+])
+def test_wall_door_window_and_stair_words_of_east_asian_drawings(name, role):
+    # common practice: plain-word layer names in Chinese, Japanese and Korean offices
+    assert Roles().role_of(name) == role
+
+
+def test_east_asian_door_and_window_block_codes():
+    # common practice in Chinese drawings: M = door, FM = fire door, C = window, then width
+    # and height in decimetres (M0921 = 900 x 2100)
+    assert [opening_kind(name) for name in ("M0921", "FM1021", "C1518", "门", "MTEXT1", "C12")] \
+        == ["door", "door", "window", "door", None, None]
