@@ -9,9 +9,10 @@ drawing, N times in turn (default 3): a bare parse process (``python -c "ezdxf.r
 and a whole ``python -m clearway build`` process, measured side by side. The build's stage
 times come from its own progress lines on stderr, time-stamped as they arrive:
 
-- start: interpreter start-up and imports (a ``python -m clearway --help`` run beside it);
+- start: interpreter start-up and every import the build makes (a process importing the
+  modules a build of the first drawing left loaded, run beside each build);
 - conv: the rest of the time until the drawing is read (``read_floorplan``);
-- prep, infl, vor, graph, stat, chk: the stages of build_roadmap;
+- prep, infl, vor, rooms, graph, stat, chk: the stages of build_roadmap;
 - out: rendering and writing the four outputs, to the process's exit.
 
 It prints the medians, total / parse, the peak memory of the build process (its RSS
@@ -39,11 +40,21 @@ sys.path.insert(0, str(ROOT))
 from benchmarks.synthetic import STYLES, write_style  # noqa: E402
 
 PARSE = "import sys, ezdxf; ezdxf.readfile(sys.argv[1])"
+#: A build that writes the names of the modules it loaded to argv[1] (the rest: build's arguments).
+LOADED = ("import atexit, json, runpy, sys; out = sys.argv.pop(1); "
+          "atexit.register(lambda: json.dump(sorted(sys.modules), open(out, 'w'))); "
+          "sys.argv[0] = 'clearway'; runpy.run_module('clearway', run_name='__main__')")
+#: Imports the modules named in the file argv[1]: the build's start-up without its work.
+IMPORTS = ("import importlib, json, sys\n"
+           "for name in json.load(open(sys.argv[1])):\n"
+           "    if not name.endswith('__main__'):\n"
+           "        try: importlib.import_module(name)\n"
+           "        except Exception: pass")
 #: Progress lines of `clearway build` that start a stage, in order, and the stage they start.
 MARKS = (("read ", "prep"), ("  inflating", "infl"), ("  voronoi", "vor"),
-         ("  graph", "graph"), ("  stations", "stat"), ("  checks", "chk"),
+         ("  rooms", "rooms"), ("  graph", "graph"), ("  stations", "stat"), ("  checks", "chk"),
          ("rendering ", "out"))
-COLUMNS = ("start", "conv", "prep", "infl", "vor", "graph", "stat", "chk", "out")
+COLUMNS = ("start", "conv", "prep", "infl", "vor", "rooms", "graph", "stat", "chk", "out")
 
 
 def run_process(command, env=None):
@@ -71,19 +82,32 @@ def stage_times(seconds, lines, startup):
         for prefix, name in MARKS:
             if line.startswith(prefix) and name not in stamps:
                 stamps[name] = at
-    order = [name for _, name in MARKS]
+    stamps["end"] = seconds
+    order = [name for _, name in MARKS] + ["end"]
+    for name, following in reversed(list(zip(order, order[1:]))):
+        stamps.setdefault(name, stamps[following])      # a stage not printed took no time
     times = {"start": startup, "conv": stamps["prep"] - startup}
-    for name, following in zip(order, order[1:] + ["end"]):
-        times[name] = stamps.get(following, seconds) - stamps[name]
+    for name, following in zip(order, order[1:]):
+        times[name] = stamps[following] - stamps[name]
     return times
 
 
-def measure(path, outdir, repeats):
-    """Medians of parse, total and stage times and the peak memory for one drawing."""
+def loaded_modules(path, outdir, listing):
+    """Build `path` once, writing the names of the modules the build loaded to `listing`."""
+    run_process([sys.executable, "-c", LOADED, str(listing), "build", str(path),
+                 "-o", str(outdir)])
+    return listing
+
+
+def measure(path, outdir, repeats, modules):
+    """Medians of parse, total and stage times and the peak memory for one drawing.
+
+    modules: a file naming the modules a build loads (:func:`loaded_modules`).
+    """
     parses, totals, peaks, stages = [], [], [], {name: [] for name in COLUMNS}
     parse_cpu, total_cpu = [], []
     for _ in range(repeats):
-        startup = run_process([sys.executable, "-m", "clearway", "--help"])[0]
+        startup = run_process([sys.executable, "-c", IMPORTS, str(modules)])[0]
         seconds, _, _, cpu = run_process([sys.executable, "-c", PARSE, str(path)])
         parses.append(seconds)
         parse_cpu.append(cpu)
@@ -115,13 +139,16 @@ def main(argv=None):
     head = (f"{'style':<13}{'bays':>6}{'MB':>5}{'parse':>6}" + "".join(f"{c:>6}" for c in COLUMNS)
             + f"{'total':>7}{'/parse':>7}{'cpu/p':>6}{'MiB':>5}")
     print(head)
-    rows = {}
+    rows, modules = {}, None
     for style in styles:
         for bays in args.sizes:
             path = folder / f"{style}_{bays}.dxf"
             if not path.exists():
                 write_style(path, style, bays)
-            row = measure(path, folder / f"{style}_{bays}", args.repeats)
+            if modules is None:
+                modules = loaded_modules(path, folder / f"{style}_{bays}",
+                                         folder / "modules.json")
+            row = measure(path, folder / f"{style}_{bays}", args.repeats, modules)
             rows[style, bays] = row
             print(f"{style:<13}{bays:>6}{row['size_mb']:>5.1f}{row['parse']:>6.2f}"
                   + "".join(f"{row['stages'][c]:>6.2f}" for c in COLUMNS)

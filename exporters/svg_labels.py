@@ -9,6 +9,7 @@ common glyphs of a sans-serif face are about 0.62 em wide.
 
 from __future__ import annotations
 
+import numpy as np
 import shapely
 from shapely.strtree import STRtree
 
@@ -41,19 +42,26 @@ class LabelPlacer:
         self._lane_tree = STRtree(self._lanes)
         self._symbols: list = []
         self._symbol_tree = None
-        self._taken: list = []
+        self._taken = np.empty((0, 4))       # bounds of the labels placed, one a row
 
     def block(self, geometry) -> None:
         """Keep labels off `geometry` (a symbol's outline); call before the first `place`."""
         self._symbols.append(geometry)
         self._symbol_tree = None
 
-    def _cost(self, box, within=None) -> float:
+    def _cost(self, box, within=None, beat=float("inf")) -> float:
+        """Cost of placing `box`; any value not below `beat` when it cannot be below it."""
         if self._symbol_tree is None:
             self._symbol_tree = STRtree(self._symbols)
+        # labels are axis-aligned boxes: two touch when their bounds overlap, edges included
+        x0, y0, x1, y1 = box.bounds
+        taken = self._taken
         clash = _CLASH * (len(self._symbol_tree.query(box, predicate="intersects"))
-                          + sum(1 for taken in self._taken if taken.intersects(box))
+                          + int(np.count_nonzero((taken[:, 0] <= x1) & (taken[:, 2] >= x0)
+                                                 & (taken[:, 1] <= y1) & (taken[:, 3] >= y0)))
                           + (within is not None and not within.covers(box)))
+        if clash >= beat:           # the covered lane only adds to it
+            return clash
         lanes = self._lane_tree.query(box, predicate="intersects")
         return clash + sum(self._lanes[i].intersection(box).area for i in lanes)
 
@@ -79,11 +87,11 @@ class LabelPlacer:
         best, best_cost = None, float("inf")
         for cx, cy, anchor in candidates:
             box = text_box(cx, cy, text, size, anchor)
-            cost = self._cost(box, within)
+            cost = self._cost(box, within, best_cost)
             if cost < best_cost:
                 best, best_cost = (cx, cy, anchor, box), cost
             if cost == 0:
                 break
         cx, cy, anchor, box = best
-        self._taken.append(box)
+        self._taken = np.vstack([self._taken, box.bounds])
         return cx, cy, anchor

@@ -118,16 +118,15 @@ def narrowings(vertices, clearance, edges, *, avoid=(), ratio: float = NARROWING
     last[chains.offsets[1:] - 1] = True
     interior = ~first & ~last
     candidate = interior & (before >= ratio * values) & (after >= ratio * values)
-    segments = [np.asarray([c.start, c.end]) for c in avoid]
+    # each lane's lowest candidate, its lower (x, y) on ties
+    mine = np.flatnonzero(candidate)
+    mine = mine[np.lexsort((vertices[order[mine], 1], vertices[order[mine], 0], values[mine],
+                            lane[mine]))]
+    picks = mine[np.r_[True, lane[mine][1:] != lane[mine][:-1]]] if len(mine) else mine
+    near = _near_any(vertices[order[picks]], values[picks] + EXTEND, avoid)
     cuts = []
-    for k in np.unique(lane[candidate]):
-        mine = np.flatnonzero(candidate & (lane == k))
-        # the lane's lowest point, its lower (x, y) on ties
-        pick = mine[np.lexsort((vertices[order[mine], 1], vertices[order[mine], 0],
-                                values[mine]))[0]]
+    for pick in picks[~near]:
         point, half = vertices[order[pick]], float(values[pick])
-        if any(_segment_distance(point, s) <= half + EXTEND for s in segments):
-            continue
         direction = vertices[order[pick + 1]] - vertices[order[pick - 1]]
         length = float(np.hypot(*direction))
         if length <= 0:
@@ -139,11 +138,17 @@ def narrowings(vertices, clearance, edges, *, avoid=(), ratio: float = NARROWING
     return cuts
 
 
-def _segment_distance(point, segment) -> float:
-    start, end = segment
-    span = end - start
-    t = np.clip(np.dot(point - start, span) / max(np.dot(span, span), 1e-24), 0.0, 1.0)
-    return float(np.hypot(*(point - start - t * span)))
+def _near_any(points: np.ndarray, reach: np.ndarray, cuts) -> np.ndarray:
+    """(P,) bool: whether each of `points` (P, 2) lies within its `reach` of any of `cuts`."""
+    near = np.zeros(len(points), bool)
+    for cut in cuts:
+        start, end = np.asarray(cut.start, float), np.asarray(cut.end, float)
+        span = end - start
+        offset = points - start
+        t = np.clip((offset[:, 0] * span[0] + offset[:, 1] * span[1])
+                    / max(float(span @ span), 1e-24), 0.0, 1.0)
+        near |= np.hypot(offset[:, 0] - t * span[0], offset[:, 1] - t * span[1]) <= reach
+    return near
 
 
 def split_floor(free_space, cuts) -> np.ndarray:
