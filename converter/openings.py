@@ -363,7 +363,12 @@ def classify_gaps(gaps, *, door_lines, window_lines, other_lines, swing_arcs):
                                        shapely.get_coordinates(shapely.get_point(arcs[near], -1))])
                 close = shapely.distance(shapely.points(ends), line).reshape(2, -1).min(axis=0) \
                     <= 0.15 * width + gap.depth
-                is_door = bool(np.any(fits & close))
+                candidates = near[fits & close]
+                # and the leaf closes along the gap: from its hinge, one end of the swing
+                # lies in the gap's direction (a swing beside the gap, of a door in the wall
+                # the gap starts from, does not)
+                is_door = any(_closes_along(arcs[index], line, width, gap.depth)
+                              for index in candidates)
         if is_door:
             kinds.append("door")
             continue
@@ -389,6 +394,20 @@ def classify_gaps(gaps, *, door_lines, window_lines, other_lines, swing_arcs):
         else:
             kinds.append("open")
     return kinds
+
+
+def _closes_along(arc, line, width, depth):
+    """True when a swing arc's hinge is by the gap `line` and one of its ends lies from the
+    hinge along the gap (within about 30 degrees)."""
+    hinge, _, ends = swing_geometry(arc)
+    if hinge is None:
+        return False
+    if shapely.distance(shapely.Point(hinge), line) > 0.15 * width + depth:
+        return False
+    direction = np.subtract(line.coords[1], line.coords[0])[:2] / max(width, 1e-12)
+    way = ends - hinge
+    norms = np.maximum(np.hypot(way[:, 0], way[:, 1]), 1e-12)
+    return bool(np.any(np.abs(way @ direction) / norms >= 0.85))
 
 
 def _coverage(lines, across, zone):

@@ -244,3 +244,22 @@ def test_east_asian_door_and_window_block_codes():
     # and height in decimetres (M0921 = 900 x 2100)
     assert [opening_kind(name) for name in ("M0921", "FM1021", "C1518", "门", "MTEXT1", "C12")] \
         == ["door", "door", "window", "door", None, None]
+
+
+def test_a_swing_near_a_gap_that_closes_another_way_is_not_its_door():
+    # gap along x from (0, 0) to (1.8, 0), 0.1 m deep; a 0.7 m swing hinged 0.35 m off it,
+    # sweeping from -130 to -60 degrees, has both ends within reach of the gap line, but
+    # neither lies from its hinge along the gap (the door of another wall); a swing of the
+    # same size hinged on the gap and closing along it is this gap's door
+    gap = Gap(np.array([0.0, 0.0]), np.array([1.8, 0.0]), 0.1, shapely.box(0, -0.05, 1.8, 0.05))
+
+    def swing(hinge, start, stop):
+        t = np.radians(np.linspace(start, stop, 33))
+        return shapely.LineString(np.c_[hinge[0] + 0.7 * np.cos(t), hinge[1] + 0.7 * np.sin(t)])
+
+    kinds = [classify_gaps([gap], door_lines=[], window_lines=[], other_lines=[],
+                           swing_arcs=[arc])[0]
+             for arc in (swing((0.5, 0.35), -130, -60), swing((0.0, 0.0), 0, 90))]
+    # analytic: from (0.5, 0.35) the ends lie at -130 and -60 degrees, |cos| 0.64 and 0.5,
+    # both under cos 30 degrees; from (0, 0) the end at 0 degrees lies along the gap
+    assert kinds == ["open", "door"]
