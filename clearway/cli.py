@@ -6,6 +6,7 @@ The group `main` and `layers` live here; `build` (clearway.cli_build), `route` a
 
 from __future__ import annotations
 
+import signal
 import sys
 
 import click
@@ -33,6 +34,9 @@ class OneLineErrorGroup(click.Group):
              **extra):
         if not standalone_mode:
             return super().main(args, prog_name, complete_var, standalone_mode=False, **extra)
+        previous = signal.getsignal(signal.SIGINT)
+        if previous is signal.default_int_handler:
+            signal.signal(signal.SIGINT, _note_interrupt)
         try:
             result = super().main(args, prog_name, complete_var, standalone_mode=False,
                                   **extra)
@@ -49,6 +53,9 @@ class OneLineErrorGroup(click.Group):
         except click.Abort:
             click.echo("Aborted.", err=True)
             sys.exit(1)
+        finally:
+            if previous is signal.default_int_handler:
+                signal.signal(signal.SIGINT, previous)
         sys.exit(result if isinstance(result, int) else 0)
 
     def invoke(self, ctx):
@@ -57,7 +64,21 @@ class OneLineErrorGroup(click.Group):
         except (click.ClickException, click.exceptions.Exit, click.Abort):
             raise
         except Exception as err:       # KeyboardInterrupt and SystemExit pass untouched
+            if _INTERRUPTED:
+                # an interrupt inside a compiled module's import comes back as an
+                # ImportError with no trace of it: it is still an interrupt, not a bug
+                raise KeyboardInterrupt from None
             raise escaped_error(err, debug=ctx.params.get("debug", False)) from None
+
+
+#: Set once Ctrl-C (SIGINT) has reached a command run from the terminal.
+_INTERRUPTED: list[int] = []
+
+
+def _note_interrupt(signum, frame):
+    """Python's own SIGINT behaviour (raise KeyboardInterrupt), remembering that it came."""
+    _INTERRUPTED.append(signum)
+    raise KeyboardInterrupt
 
 
 @click.group(cls=OneLineErrorGroup, context_settings={"help_option_names": ["-h", "--help"]})

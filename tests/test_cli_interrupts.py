@@ -177,3 +177,27 @@ def test_two_builds_into_one_folder_leave_one_whole_set(tmp_path, drawings, sets
         assert stated["roadmap.svg"] == (source,)
         landed[source] += 1
     print(f"\nconcurrent rounds: {sum(landed.values())}, last set to land: {dict(landed)}")
+
+
+def test_an_interrupt_turned_import_error_is_an_interrupt(monkeypatch):
+    # a SIGINT that lands while a compiled module is being imported surfaces as an
+    # ImportError ("numpy._core.multiarray failed to import") with no trace of the interrupt;
+    # once Ctrl-C has come it is reported as interrupted (exit 1), not as an internal error
+    import click
+    from click.testing import CliRunner
+
+    from clearway import cli
+
+    @click.command("interrupted-import")
+    def interrupted_import():
+        cli._INTERRUPTED.append(signal.SIGINT)
+        raise ImportError("numpy._core.multiarray failed to import")
+
+    monkeypatch.setattr(cli, "_INTERRUPTED", [])
+    cli.main.add_command(interrupted_import)
+    try:
+        result = CliRunner().invoke(cli.main, ["interrupted-import"])
+    finally:
+        cli.main.commands.pop("interrupted-import")
+    assert result.exit_code == 1, result.output
+    assert "internal error" not in result.output and "Aborted." in result.output
