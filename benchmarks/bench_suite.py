@@ -37,9 +37,15 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from benchmarks.synthetic import STYLES, write_style  # noqa: E402
+from benchmarks.synthetic import STYLES  # noqa: E402
 
 PARSE = "import sys, ezdxf; ezdxf.readfile(sys.argv[1])"
+#: Writes one suite drawing (argv: path, style, bays) in a process of its own: on Linux a child
+#: starts with the peak memory of its parent, so drawings written here would inflate every
+#: build's peak after them.
+WRITE = (f"import sys; sys.path.insert(0, {str(ROOT)!r}); "
+         "from benchmarks.synthetic import write_style; "
+         "write_style(sys.argv[1], sys.argv[2], int(sys.argv[3]))")
 #: A build that writes the names of the modules it loaded to argv[1] (the rest: build's arguments).
 LOADED = ("import atexit, json, runpy, sys; out = sys.argv.pop(1); "
           "atexit.register(lambda: json.dump(sorted(sys.modules), open(out, 'w'))); "
@@ -143,8 +149,8 @@ def main(argv=None):
     for style in styles:
         for bays in args.sizes:
             path = folder / f"{style}_{bays}.dxf"
-            if not path.exists():
-                write_style(path, style, bays)
+            if not path.exists():      # in a child: the peak memory children report
+                run_process([sys.executable, "-c", WRITE, str(path), style, str(bays)])
             if modules is None:
                 modules = loaded_modules(path, folder / f"{style}_{bays}",
                                          folder / "modules.json")
