@@ -131,8 +131,8 @@ def _count(number: int, singular: str, plural: str = "") -> str:
 
 
 def _summary(plan, roadmap, outdir: str, names=BUILD_FILES) -> list[str]:
-    from clearway.exporters import summarize
-    counts = summarize(plan, roadmap)
+    from clearway.exporters import report_data
+    counts = report_data(plan, roadmap)
     findings = roadmap.findings
     unreachable = [s for s in findings.stations if not s.reachable]
     lines = [f"{plan.source}: {counts['counts']['edges']} lanes, "

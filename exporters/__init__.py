@@ -24,6 +24,6 @@ __getattr__, __dir__, __all__ = lazy_exports(__name__, {
     "render_report": "report",
     "render_svg": "svg",
     "render_tables": "tables",
-    "summarize": "report",
+    "report_data": "report",
     "write_outputs": "files",
 })

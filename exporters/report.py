@@ -50,7 +50,7 @@ def _components(graph) -> list[list[str]]:
     return sorted(parts, key=lambda part: (-len(part), natural_key(part[0])))
 
 
-def summarize(plan, roadmap) -> dict:
+def report_data(plan, roadmap) -> dict:
     """Return the report as a dict of plain values (what ``render_report`` writes).
 
     Parameters
@@ -144,5 +144,5 @@ def render_report(plan, roadmap) -> bytes:
     -------
     bytes
     """
-    text = json.dumps(summarize(plan, roadmap), ensure_ascii=False, indent=2, allow_nan=False)
+    text = json.dumps(report_data(plan, roadmap), ensure_ascii=False, indent=2, allow_nan=False)
     return (text + "\n").encode("utf-8")

@@ -27,7 +27,7 @@ from clearway.roadmap.lanes import assemble_graph, refine_lanes
 from clearway.roadmap.rooms import (describe_rooms, locate, narrowings, opening_cuts, room_names,
                                     room_seeds, split_floor)
 from clearway.roadmap.stations import (REASON_NO_LANE, REASON_NO_LINK, Attachment, link_stations,
-                              station_regions)
+                              containing_region)
 
 #: Douglas-Peucker tolerance for lanes whose clearance exceeds c by more than twice it, m.
 SIMPLIFY = 0.005
@@ -43,7 +43,7 @@ def _fragments(vertices, clearance, edges, regions, field, c):
     for vertex in np.lexsort((-clearance, label)):
         best.setdefault(int(label[vertex]), vertex)
     representative = np.array([best[k] for k in sorted(best)], dtype=np.int64)
-    fragment_region = station_regions(vertices[representative], regions)
+    fragment_region = containing_region(vertices[representative], regions)
     vertex_region = fragment_region[label] if count else np.zeros(0, dtype=np.int64)
     keep = vertex_region >= 0
     extra_edges = []
@@ -205,7 +205,7 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
     isolated = np.union1d(isolated, alone)
     lines, ends, isolated, lane_vertices, short = _lanes(vertices, clearance, kept, isolated,
                                                          c, field, robot, room_node)
-    lane_region = station_regions(lane_vertices[[a for a, _ in ends]], regions)
+    lane_region = containing_region(lane_vertices[[a for a, _ in ends]], regions)
 
     report("stations")
     labels = [str(s[0]) for s in stations]
@@ -219,7 +219,7 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
         full, _ = split_loops(chains, vertices)
         full_lines = polylines([vertices[s] for s in full])
         retry = link_stations(station_xy[failed], full_lines,
-                              station_regions(vertices[[s[0] for s in full]], regions),
+                              containing_region(vertices[[s[0] for s in full]], regions),
                               regions, field, local, c)
         protected = room_node.copy()
         for attachment in retry:
@@ -233,7 +233,7 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
             isolated = np.union1d(isolated, alone)
             lines, ends, isolated, lane_vertices, short = _lanes(
                 vertices, clearance, kept, isolated, c, field, robot, protected)
-            lane_region = station_regions(lane_vertices[[a for a, _ in ends]], regions)
+            lane_region = containing_region(lane_vertices[[a for a, _ in ends]], regions)
             joins = link_stations(station_xy, lines, lane_region, regions, field, local, c)
 
     report("checks")
@@ -264,7 +264,7 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
                                  robot=robot, shared_zones=shared_zones,
                                  personnel_clearance=personnel_clearance,
                                  low_clearance_penalty=low_clearance_penalty,
-                                 regions=regions, region_of_station=station_regions(
+                                 regions=regions, region_of_station=containing_region(
                                      station_xy, regions), offset=offset,
                                  warnings=tuple(warnings), body=body)
     room_list, passages = describe_rooms(rooms, seeds, names, narrow, openings, graph,

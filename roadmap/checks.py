@@ -32,7 +32,7 @@ from clearway.roadmap.graph import _adjacency
 from clearway.roadmap.inflate import polygon_parts, to_local
 from clearway.roadmap.model import (Findings, NarrowPassage, PersonnelFlag, PinchPoint,
                            StationResult)
-from clearway.roadmap.stations import station_regions
+from clearway.roadmap.stations import containing_region
 
 
 def narrow_passages(axis, clearance: float, regions, offset=(0.0, 0.0)) -> list[NarrowPassage]:
@@ -63,7 +63,7 @@ def narrow_passages(axis, clearance: float, regions, offset=(0.0, 0.0)) -> list[
     for vertex in np.flatnonzero(drivable)[np.argsort(-axis.clearance[drivable],
                                                       kind="stable")]:
         best.setdefault(int(label[vertex]), int(vertex))
-    region_of_fragment = dict(zip(fragments.tolist(), station_regions(
+    region_of_fragment = dict(zip(fragments.tolist(), containing_region(
         axis.vertices[[best[f] for f in fragments]], regions).tolist()))
     region = np.full(count, -1)
     region[drivable] = [region_of_fragment[f] for f in label[drivable]]
@@ -183,7 +183,7 @@ def run_checks(graph: nx.MultiGraph, samples, joins, labels, station_nodes, stat
     if components:
         main_xy = np.array([[graph.nodes[n]["x"], graph.nodes[n]["y"]]
                             for n in components[0]]) - np.asarray(offset)
-        main_regions = set(station_regions(main_xy, regions).tolist()) - {-1}
+        main_regions = set(containing_region(main_xy, regions).tolist()) - {-1}
     blocks: dict[int, list[str]] = {}
     pending = []
     for index, join in enumerate(joins):

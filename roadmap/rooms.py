@@ -22,7 +22,7 @@ import numpy as np
 import shapely
 
 from clearway.roadmap.graph import chain_lanes
-from clearway.roadmap.stations import station_regions
+from clearway.roadmap.stations import containing_region
 
 #: Cut lines reach this far past each jamb into the wall, metres, so that they cross the
 #: floor's outline even where the jamb is drawn a hair short.
@@ -196,10 +196,10 @@ def _merge_slivers(faces: list) -> list:
 def locate(points, rooms: np.ndarray, *, slack: float = 0.0) -> np.ndarray:
     """Index of the room holding each point (N, 2), -1 where none; lowest index on borders.
 
-    As ``station_regions`` (1 mm slack); with `slack` > 0, the points still outside every
+    As ``containing_region`` (1 mm slack); with `slack` > 0, the points still outside every
     room take the nearest room within `slack` metres.
     """
-    result = station_regions(points, rooms)
+    result = containing_region(points, rooms)
     rest = np.flatnonzero(result < 0)
     if slack > 0 and len(rest) and len(rooms):
         points = np.asarray(points, dtype=float).reshape(-1, 2)
@@ -358,7 +358,7 @@ def describe_rooms(rooms, seeds, names, cuts, openings, graph, vertices, regions
         graph.nodes[node]["room"] = room_id[room] if room >= 0 else ""
     at_node = {tuple(np.round(xy, 6)): n for xy, n in zip(node_xy, nodes)}
     # the robot enters a room when its node lies in the largest drivable region
-    region_of_seed = station_regions(vertices[np.maximum(seeds, 0)], regions) \
+    region_of_seed = containing_region(vertices[np.maximum(seeds, 0)], regions) \
         if len(regions) else np.full(len(rooms), -1)
     main = int(np.argmax(shapely.area(regions))) if len(regions) else -1
     sides = passage_rooms(openings, cuts, rooms, offset)

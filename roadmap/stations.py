@@ -47,7 +47,7 @@ class Attachment:
     on_lane: bool
 
 
-def station_regions(points: np.ndarray, regions: np.ndarray) -> np.ndarray:
+def containing_region(points: np.ndarray, regions: np.ndarray) -> np.ndarray:
     """Index of the drivable region holding each point (N, 2), -1 where none (1 mm slack).
 
     Points inside a region are found with prepared point-in-polygon tests (one vectorized
@@ -181,7 +181,7 @@ def link_stations(stations: np.ndarray, lanes: np.ndarray, lane_region: np.ndarr
     station_clearance = field.at(stations)
     shapely.prepare(free_space)
     inside = shapely.contains_xy(free_space, stations[:, 0], stations[:, 1])
-    region = station_regions(stations, regions)
+    region = containing_region(stations, regions)
     results: list[Attachment | str] = []
     for index, here in enumerate(stations):
         if not inside[index]:
