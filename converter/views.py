@@ -11,6 +11,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
+import shapely
 
 #: Two pieces of linework this close (metres) or closer belong to the same drawing.
 VIEW_GAP = 2.0
@@ -90,15 +91,15 @@ def merge_nested(boxes, labels):
     labels = np.asarray(labels, dtype=np.int64)
     while len(labels):
         count = int(labels.max()) + 1
-        if count > 4000:       # too many groups to compare pairwise: leave them as they are
-            return labels
         low = np.full((count, 2), np.inf)
         high = np.full((count, 2), -np.inf)
         np.minimum.at(low, labels, boxes[:, :2])
         np.maximum.at(high, labels, boxes[:, 2:])
-        overlap = np.all((low[:, None, :] < high[None, :, :]) &
-                         (low[None, :, :] < high[:, None, :]), axis=2)
-        rows, columns = np.nonzero(overlap)
+        extents = shapely.box(low[:, 0], low[:, 1], high[:, 0], high[:, 1])
+        rows, columns = shapely.STRtree(extents).query(extents, predicate="intersects")
+        # touching at an edge is not overlapping: keep pairs that share some area
+        inner = (np.minimum(high[rows], high[columns]) > np.maximum(low[rows], low[columns])).all(axis=1)
+        rows, columns = rows[inner], columns[inner]
         graph = coo_matrix((np.ones(len(rows)), (rows, columns)), shape=(count, count))
         merged, joined = connected_components(graph, directed=False)
         if merged == count:

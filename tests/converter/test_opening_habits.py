@@ -263,3 +263,18 @@ def test_a_swing_near_a_gap_that_closes_another_way_is_not_its_door():
     # analytic: from (0.5, 0.35) the ends lie at -130 and -60 degrees, |cos| 0.64 and 0.5,
     # both under cos 30 degrees; from (0, 0) the end at 0 degrees lies along the gap
     assert kinds == ["open", "door"]
+
+
+def test_thousands_of_rack_rows_between_wide_aisles_are_one_drawing():
+    # a hall drawn as four single LINEs, 6,000 racks (2.5 m x 1.0 m) on a 6.5 m x 1.9 m
+    # pitch: 4 m aisles, wider than the 2 m gap that separates drawings, so the racks first
+    # fall into 60 groups; all lie inside the hall's extents, so they are one drawing
+    from clearway.converter.views import group_boxes, merge_nested
+
+    boxes = [(0, 0, 400, 0.1), (0, 200, 400, 200.1), (0, 0, 0.1, 200), (400, 0, 400.1, 200)]
+    boxes += [(5 + i * 6.5, 5 + j * 1.9, 7.5 + i * 6.5, 6 + j * 1.9)
+              for i in range(60) for j in range(100)]
+    # an elevation 50 m east of the hall stays apart
+    boxes.append((450, 0, 500, 10))
+    labels = merge_nested(np.array(boxes), group_boxes(boxes, 2.0))
+    assert len(set(labels[:-1].tolist())) == 1 and labels[-1] != labels[0]
