@@ -18,8 +18,8 @@ import numpy as np
 import shapely
 from scipy.spatial import Delaunay
 
-#: Points per strip; up to twice as many take one Qhull call (about 280 MiB at 400k points).
-STRIP_POINTS = 200_000
+#: Points per strip; up to twice as many take one Qhull call (about 420 MiB at 600k points).
+STRIP_POINTS = 300_000
 #: First margin of each strip, metres.
 MARGIN = 8.0
 
