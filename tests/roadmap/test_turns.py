@@ -5,12 +5,14 @@ from __future__ import annotations
 import math
 
 import networkx as nx
+import numpy as np
 import pytest
 import shapely
 
-from clearway.roadmap import Robot
+from clearway.roadmap import Robot, build_roadmap
 from clearway.roadmap.clearance import clearance_field
 from clearway.roadmap.inflate import boundary_segments
+from clearway.roadmap.routing import shortest_route
 from clearway.roadmap.turns import check_turns, pair_text, parse_turns
 
 
@@ -95,3 +97,106 @@ def test_turns_text_round_trips_and_refuses_garbage():
     with pytest.raises(ValueError, match="EDGE:EDGE"):
         parse_turns("e1-e2")
 
+
+
+# --- round a right-angle corner on a built roadmap ---------------------------------------
+# The tool checks the manoeuvres it tries, so its largest robot is compared with two
+# closed forms: the one of the manoeuvre it searches (it must agree within a stated
+# tolerance) and the bound no motion at all can beat (it must stay below it).
+
+def fits_round_corner(robot: Robot, a: float, b: float) -> bool:
+    """Whether a route from the far end of one corridor to the other exists, respecting
+    the allowed turns, on the roadmap built for `robot`."""
+    roadmap = build_roadmap({}, corner(a, b), [("E", 10.0, a / 2), ("N", b / 2, 10.0)],
+                            robot=robot)
+    ends = [s.node for s in roadmap.findings.stations]
+    if None in ends:
+        return False
+    try:
+        shortest_route(roadmap.graph, *ends)
+    except nx.NetworkXNoPath:
+        return False
+    return True
+
+
+def largest(fits, low: float, high: float, steps: int = 10) -> float:
+    """Bisection for the largest size that `fits` (fits(low) must hold, fits(high) not)."""
+    assert fits(low) and not fits(high)
+    for _ in range(steps):
+        middle = (low + high) / 2
+        low, high = (middle, high) if fits(middle) else (low, middle)
+    return low
+
+
+def free_motion_length(width: float, a: float, b: float) -> float:
+    """The longest rectangle of `width` that any rigid motion carries round the corner.
+
+    from memory (the classic calculus exercise of carrying a table round a corner, the
+    ladder problem when width = 0): with its outer long side at angle t to the corridor of
+    width a, pressed against the inner corner (b, a), the outer side's line
+    x sin t + y cos t = b sin t + a cos t - width meets the outer walls x = 0 and y = 0
+    a length (b sin t + a cos t - width) / (sin t cos t) apart; the rectangle passes iff
+    it is no longer than the smallest of these over 0 < t < pi/2.
+    """
+    t = np.linspace(1e-4, math.pi / 2 - 1e-4, 200001)
+    return float(((b * np.sin(t) + a * np.cos(t) - width) / (np.sin(t) * np.cos(t))).min())
+
+
+@pytest.mark.parametrize("a, b", [(2.0, 2.0), (2.0, 2.6)])
+def test_differential_robot_round_a_corner_between_swing_circle_and_free_motion(a, b):
+    # analytic (derived here): the lanes of the two corridors meet at the centre of the
+    # largest disc in the corner, touching both outer walls and the inner corner (b, a):
+    # centre (r, r) with (b - r)^2 + (a - r)^2 = r^2, so r = a + b - sqrt(2 a b). A robot
+    # turning in place there about its centre sweeps at most the circle of its half
+    # diagonal, so it surely turns where hypot(L/2, W/2) + m <= r:
+    #     L_circle = 2 sqrt((r - m)^2 - (W/2)^2)     (sufficient for the tool's manoeuvre)
+    # and no motion carries the body grown by m (it holds the rectangle (L + 2 m) x W)
+    # round where L + 2 m exceeds free_motion_length(W): L_free (necessary for any robot).
+    # The tool checks the swept footprint exactly (to 0.3 mm per metre of swing), turning
+    # at the lane's vertices where the lane bends into the corner: it may allow a little
+    # more than L_circle (the 90 degree sweep need not cover the whole circle), never less
+    # than L_circle - 2 mm (bisection 1 mm + sweep sagitta), never more than L_free. It is
+    # conservative against L_free by about half, which is the price of turning in place
+    # only: a differential robot that drives into the corner while turning, or shuffles
+    # back and forth, could take a longer body round; the tool does not search for that.
+    width, margin = 0.6, 0.1
+    r = a + b - math.sqrt(2 * a * b)
+    circle = 2 * math.sqrt((r - margin) ** 2 - (width / 2) ** 2)
+    free = free_motion_length(width, a, b) - 2 * margin
+    found = largest(lambda length: fits_round_corner(
+        Robot.rectangle(length, width, margin=margin), a, b), circle - 0.2, circle + 0.8)
+    assert circle - 0.002 <= found <= circle + 0.01 < free
+    assert found < 0.6 * free            # half of what free motion allows, as said above
+
+
+@pytest.mark.parametrize("a, b", [(2.0, 2.0), (2.0, 2.6), (2.6, 2.0)])
+def test_car_round_a_corner_agrees_with_the_arc_between_the_centre_lines(a, b):
+    # analytic (derived here, swept-path reasoning from memory): a car without reversing
+    # whose rotation centre is its rear axle at the rear edge drives down the centre line
+    # x = b/2, along one arc of radius R tangent to both centre lines (centre
+    # C = (b/2 + R, a/2 + R)) and on along y = a/2. Its inner side passes C at R - W/2, so
+    # the inner corner I = (b, a), hypot(R - b/2, R - a/2) from C, must lie inside that by
+    # the margin:   W <= 2 (R - m - hypot(R - a/2, R - b/2));
+    # its front outer corner swings hypot(R + W/2, L) from C towards the far wall y = 0,
+    # a/2 + R from C:   W <= 2 (sqrt((a/2 + R - m)^2 - L^2) - R);   and the corridors
+    # themselves: W <= a - 2 m, W <= b - 2 m. With R = 2.5 m, L = 1 m, m = 0.1 m the inner
+    # corner binds. The tool searches this arc (and the shortest Dubins path) between
+    # poses on the lanes 1, 2 and 3 R from the corner; the lanes are polylines simplified
+    # to SIMPLIFY (5 mm), which moves the arc's centre by up to 5 sqrt(2) mm and so the
+    # largest W by up to 2 x 7 mm: the tool agrees with W* within 0.015 m. It does not
+    # search every forward path: a car swinging wide (in along the outer wall, out along
+    # the other) may take a wider body round than W*; the tool then says no.
+    radius, length, margin = 2.5, 1.0, 0.1
+    bounds = (2 * (radius - margin - math.hypot(radius - a / 2, radius - b / 2)),
+              2 * (math.sqrt((a / 2 + radius - margin) ** 2 - length ** 2) - radius),
+              a - 2 * margin, b - 2 * margin)
+    widest = min(bounds)
+    assert widest == bounds[0]
+
+    def fits(width):
+        return fits_round_corner(Robot.rectangle(length, width, margin=margin, kind="car",
+                                                 centre=(-length / 2, 0.0),
+                                                 turn_radius=radius, reverse=False), a, b)
+
+    found = largest(fits, widest - 0.1, widest + 0.1)
+    assert abs(found - widest) <= 0.015
