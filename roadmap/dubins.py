@@ -89,9 +89,24 @@ def _drive(pose, word: str, lengths, radius: float):
     return x, y, heading
 
 
+def lands(start, goal, word: str, lengths, radius: float) -> bool:
+    """Whether driving `word` with `lengths` (units of R) from `start` ends on `goal`."""
+    x, y, heading = _drive(tuple(start), word, lengths, radius)
+    miss = math.hypot(x - goal[0], y - goal[1]) / radius
+    turn = abs((heading - goal[2] + math.pi) % (2 * math.pi) - math.pi)
+    return miss <= LANDING and turn <= LANDING
+
+
+def check_radius(radius: float) -> None:
+    """Refuse a turning radius that is not a finite number > 0."""
+    if not (math.isfinite(radius) and radius > 0):
+        raise ValueError(f"turning radius must be > 0 m, got {radius}")
+
+
 @dataclass(frozen=True)
 class DubinsPath:
-    """A forward path of curvature <= 1/radius: `word` with `lengths` in units of radius."""
+    """A path of curvature <= 1/radius: `word` with `lengths` in units of radius (negative
+    lengths are driven backwards: Reeds-Shepp paths, see reeds_shepp.py)."""
 
     start: tuple[float, float, float]
     word: str
@@ -101,7 +116,7 @@ class DubinsPath:
     @property
     def length(self) -> float:
         """Driven length, metres."""
-        return self.radius * sum(self.lengths)
+        return self.radius * sum(abs(length) for length in self.lengths)
 
     def poses(self, *, step: float = ARC_STEP) -> np.ndarray:
         """Poses along the path, (N, 3): x, y, heading; arcs every `step` radians at most,
@@ -109,9 +124,9 @@ class DubinsPath:
         x, y, heading = self.start
         rows = [(x, y, heading)]
         for letter, length in zip(self.word, self.lengths):
-            if length <= 0:
+            if length == 0:
                 continue
-            pieces = 1 if letter == "S" else max(1, math.ceil(length / step))
+            pieces = 1 if letter == "S" else max(1, math.ceil(abs(length) / step))
             for k in range(1, pieces + 1):
                 rows.append(_drive((x, y, heading), letter, (length * k / pieces,),
                                    self.radius))
@@ -133,18 +148,14 @@ def shortest_path(start, goal, radius: float) -> DubinsPath:
     >>> path.word[0], round(path.length, 12) == round(math.pi, 12)
     ('L', True)
     """
-    if not (math.isfinite(radius) and radius > 0):
-        raise ValueError(f"turning radius must be > 0 m, got {radius}")
+    check_radius(radius)
     dx, dy = goal[0] - start[0], goal[1] - start[1]
     d = math.hypot(dx, dy) / radius
     phi = math.atan2(dy, dx) if d > 0 else 0.0
     alpha, beta = _mod2pi(start[2] - phi), _mod2pi(goal[2] - phi)
     best = None
     for word, lengths in _candidates(alpha, beta, d):
-        x, y, heading = _drive(tuple(start), word, lengths, radius)
-        miss = math.hypot(x - goal[0], y - goal[1]) / radius
-        turn = abs((heading - goal[2] + math.pi) % (2 * math.pi) - math.pi)
-        if miss > LANDING or turn > LANDING:
+        if not lands(start, goal, word, lengths, radius):
             continue
         if best is None or sum(lengths) < sum(best[1]) - 1e-12:
             best = (word, lengths)

@@ -8,12 +8,13 @@ node) and leaves along another (or the same one: turning round). Whether it can:
   margin from the obstacles. Where the node's clearance holds the whole swept circle,
   swing radius + margin, every turn there is allowed without further work.
 - omni: the same, turning about the footprint's centre.
-- car: a forward path of curvature <= 1/R from a pose on the arriving edge to a pose on
-  the leaving one, 1, 2 or 3 R from the node (as far as the edges reach), whose swept
+- car: a path of curvature <= 1/R from a pose on the arriving edge to a pose on the
+  leaving one, 1, 2 or 3 R from the node (as far as the edges reach), whose swept
   footprint keeps the margin: straight on and one arc of radius R tangent to both edges'
-  lines, or the shortest Dubins path between the two poses. Manoeuvres that back up
-  (Reeds-Shepp) are not searched, so a car that may reverse gets the same, cautious
-  answer: a turn it could make by backing up may be reported as forbidden.
+  lines, or the shortest Dubins path between the two poses; for a car that may reverse
+  (``robot.reverse``) also the shortest Reeds-Shepp path (reeds_shepp.py), which may back
+  up (a three-point turn, say). Only these paths are tried, not every path of bounded
+  curvature: a turn that some other path could make may be reported as forbidden.
 
 Swept footprints are convex hulls of consecutive poses (see body.py): a turn in place
 misses at most ``swing * (1 - cos(step / 2))``, an arc of radius R at most
@@ -33,6 +34,7 @@ import shapely
 from clearway.roadmap.body import (MAX_STEP_ANGLE, Shortfall, angle_between, core, move_gaps,
                                    reach)
 from clearway.roadmap.inflate import polylines
+from clearway.roadmap import reeds_shepp
 from clearway.roadmap.dubins import DubinsPath, shortest_path
 from clearway.roadmap.model import BodyShortfall, Robot
 
@@ -173,8 +175,13 @@ def _car_gap(robot: Robot, field, here, arrive, leave) -> float:
             continue
         start, end = (*start_xy, back + math.pi), (*end_xy, ahead)
         # the stretches of the edges between those poses and the node are not driven
-        for path in (fillet(start, end, robot.turn_radius),
-                     shortest_path(start, end, robot.turn_radius)):
+        paths = [fillet(start, end, robot.turn_radius),
+                 shortest_path(start, end, robot.turn_radius)]
+        if robot.reverse:
+            backing = reeds_shepp.shortest_path(start, end, robot.turn_radius)
+            if backing.word != paths[1].word or backing.lengths != paths[1].lengths:
+                paths.append(backing)
+        for path in paths:
             if path is not None:
                 best = max(best, _path_gap(robot, field, path))
         if best >= robot.margin - 1e-9 or (scale * robot.turn_radius >= reach_in and
@@ -224,7 +231,8 @@ def check_turns(robot: Robot, field, graph, offset) -> list[BodyShortfall]:
                     else:
                         gap = _car_gap(robot, field, here, legs[a][0], legs[b][0])
                     has, needs = gap, robot.margin
-                    note = (f"no forward path of radius {robot.turn_radius:.2f} m tried keeps "
+                    note = (f"no {'' if robot.reverse else 'forward '}path of radius "
+                            f"{robot.turn_radius:.2f} m tried keeps "
                             f"{robot.margin:.2f} m beside the body (the best leaves at most "
                             f"{max(gap, 0):.2f} m)")
                 elif room[index] >= need - 1e-9:
@@ -290,7 +298,8 @@ def car_bends(robot: Robot, field, lines, ends):
         else:
             short.append(Shortfall(float(worst[0][0]), float(worst[0][1]), float(worst[1]),
                                    f"bends faster than the {robot.turn_radius:.2f} m turning "
-                                   f"radius and no forward path tried keeps "
+                                   f"radius and no {'' if robot.reverse else 'forward '}"
+                                   "path tried keeps "
                                    f"{robot.margin:.2f} m beside the body (the best "
                                    f"leaves at most {max(worst[1], 0.0):.2f} m); "
                                    "lane dropped"))

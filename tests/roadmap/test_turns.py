@@ -200,3 +200,24 @@ def test_car_round_a_corner_agrees_with_the_arc_between_the_centre_lines(a, b):
 
     found = largest(fits, widest - 0.1, widest + 0.1)
     assert abs(found - widest) <= 0.015
+
+
+@pytest.mark.parametrize("reverse", [True, False])
+def test_car_that_may_reverse_turns_round_where_a_forward_u_turn_does_not_fit(reverse):
+    # analytic (derived here): turning round on the spot, from (0, 0, 0) to (0, 0, pi),
+    # the shortest forward path (Dubins) is RLR, of length 7 pi R / 3, whose rotation
+    # centre swings R to either side; the shortest path backing up (Reeds-Shepp) is
+    # L+ R- L+ with three arcs of pi / 3 (source: Reeds and Shepp 1990, sec. 8; also
+    # rsplan, see test_reeds_shepp.py), which swings R / 2 to either side. A 0.6 x 0.4 m
+    # body turning about its centre reaches hypot(0.3, 0.2) = 0.36 m beyond its rotation
+    # centre and at least 0.2 m (half its width) beside it. In a corridor 2.4 m wide, with
+    # R = 1 m and a 0.05 m margin: the three-point turn needs at most
+    # 0.5 + 0.36 + 0.05 = 0.91 m <= 1.2 m each side, the forward one at least
+    # 1 + 0.2 + 0.05 = 1.25 m > 1.2 m.
+    robot = Robot.rectangle(0.6, 0.4, margin=0.05, kind="car", turn_radius=1.0,
+                            reverse=reverse)
+    floor = shapely.box(0, -1.2, 12, 1.2)
+    graph = star((6.0, 0.0), (1.0, 0.0), (11.0, 0.0))
+    found = turns_at(robot, floor, graph)
+    assert (("e1", "e1") in found) is reverse and (("e2", "e2") in found) is reverse
+    assert ("e1", "e2") in found                       # straight through, either way
