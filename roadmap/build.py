@@ -256,7 +256,7 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
         samples, joins, links = fit_edges(robot, field, graph, samples, joins, station_nodes,
                                           offset)
         body += links
-        body += check_turns(robot, field, graph, offset)
+        body += check_turns(robot, field, graph, offset, floor=local)
     checks.weigh_edges(graph, comfort, low_clearance_penalty)
     drawn = station_xy + np.asarray(offset)
     findings = checks.run_checks(graph, samples, joins, labels, station_nodes, drawn, axis,

@@ -122,16 +122,27 @@ class DubinsPath:
         """Poses along the path, (N, 3): x, y, heading; arcs every `step` radians at most,
         straight segments by their two ends only."""
         x, y, heading = self.start
-        rows = [(x, y, heading)]
+        rows = [np.array([[x, y, heading]], dtype=float)]
+        radius = self.radius
         for letter, length in zip(self.word, self.lengths):
             if length == 0:
                 continue
             pieces = 1 if letter == "S" else max(1, math.ceil(abs(length) / step))
-            for k in range(1, pieces + 1):
-                rows.append(_drive((x, y, heading), letter, (length * k / pieces,),
-                                   self.radius))
-            x, y, heading = rows[-1]
-        return np.array(rows)
+            part = length * np.arange(1, pieces + 1) / pieces
+            if letter == "S":
+                piece = np.column_stack([x + part * radius * math.cos(heading),
+                                         y + part * radius * math.sin(heading),
+                                         np.full(pieces, heading)])
+            else:
+                side = 1.0 if letter == "L" else -1.0
+                cx = x - side * radius * math.sin(heading)
+                cy = y + side * radius * math.cos(heading)
+                turned = heading + side * part
+                piece = np.column_stack([cx + side * radius * np.sin(turned),
+                                         cy - side * radius * np.cos(turned), turned])
+            rows.append(piece)
+            x, y, heading = (float(v) for v in piece[-1])
+        return np.concatenate(rows)
 
 
 def shortest_path(start, goal, radius: float) -> DubinsPath:
@@ -154,11 +165,10 @@ def shortest_path(start, goal, radius: float) -> DubinsPath:
     phi = math.atan2(dy, dx) if d > 0 else 0.0
     alpha, beta = _mod2pi(start[2] - phi), _mod2pi(goal[2] - phi)
     best = None
-    for word, lengths in _candidates(alpha, beta, d):
-        if not lands(start, goal, word, lengths, radius):
-            continue
-        if best is None or sum(lengths) < sum(best[1]) - 1e-12:
+    for word, lengths in sorted(_candidates(alpha, beta, d), key=lambda item: sum(item[1])):
+        if lands(start, goal, word, lengths, radius):       # the shortest that lands
             best = (word, lengths)
+            break
     if best is None:  # cannot happen for R > 0 (Dubins 1957); kept as a guard
         raise ArithmeticError(f"no Dubins path from {start} to {goal}")
     return DubinsPath(tuple(float(v) for v in start), best[0],

@@ -193,21 +193,26 @@ def shortest_path(start, goal, radius: float) -> DubinsPath:
     >>> path.word, path.lengths
     ('LSL', (0.0, -2.0, 0.0))
     """
-    return all_paths(start, goal, radius)[0]
+    return all_paths(start, goal, radius, first=True)[0]
 
 
-def all_paths(start, goal, radius: float) -> list[DubinsPath]:
-    """Every Reeds-Shepp word that lands on `goal`, shortest first (ties in word order)."""
+def all_paths(start, goal, radius: float, *, first: bool = False) -> list[DubinsPath]:
+    """Every Reeds-Shepp word that lands on `goal`, shortest first (ties in word order);
+    only the shortest with `first`."""
     check_radius(radius)
     dx, dy = (goal[0] - start[0]) / radius, (goal[1] - start[1]) / radius
     c, s = math.cos(start[2]), math.sin(start[2])
     x, y = c * dx + s * dy, -s * dx + c * dy
     phi = goal[2] - start[2]
     found = {}
-    for word, lengths in candidates(x, y, phi):
-        lengths = tuple(float(v) + 0.0 for v in lengths)        # no -0.0
+    tried = sorted(((word, tuple(float(v) + 0.0 for v in lengths))     # no -0.0
+                    for word, lengths in candidates(x, y, phi)),
+                   key=lambda item: sum(abs(v) for v in item[1]))        # stable: word order
+    for word, lengths in tried:
         if lands(start, goal, word, lengths, radius):
             found.setdefault((word, lengths), None)
+            if first:
+                break
     if not found:  # cannot happen for R > 0 (Reeds and Shepp 1990); kept as a guard
         raise ArithmeticError(f"no Reeds-Shepp path from {start} to {goal}")
     paths = [DubinsPath(tuple(float(v) for v in start), word, lengths, float(radius))

@@ -14,7 +14,8 @@ node) and leaves along another (or the same one: turning round). Whether it can:
   lines, or the shortest Dubins path between the two poses; for a car that may reverse
   (``robot.reverse``) also the shortest Reeds-Shepp path (reeds_shepp.py), which may back
   up (a three-point turn, say). Only these paths are tried, not every path of bounded
-  curvature: a turn that some other path could make may be reported as forbidden.
+  curvature: a turn that some other path could make may be reported as forbidden. The
+  paths and how they are judged, all at once and mostly by bounds: manoeuvres.py.
 
 Swept footprints are convex hulls of consecutive poses (see body.py): a turn in place
 misses at most ``swing * (1 - cos(step / 2))``, an arc of radius R at most
@@ -31,17 +32,10 @@ import math
 import numpy as np
 import shapely
 
-from clearway.roadmap.body import (MAX_STEP_ANGLE, Shortfall, angle_between, core, move_gaps,
-                                   reach)
+from clearway.roadmap.body import MAX_STEP_ANGLE, Shortfall, angle_between, move_gaps
 from clearway.roadmap.inflate import polylines
-from clearway.roadmap import reeds_shepp
-from clearway.roadmap.dubins import DubinsPath, shortest_path
+from clearway.roadmap.manoeuvres import car_gaps
 from clearway.roadmap.model import BodyShortfall, Robot
-
-#: Moves of a car's path checked at a time, tightest first.
-PATH_CHUNK = 8
-#: Distances from the node, in turning radii, where a car's manoeuvre starts and ends.
-CAR_REACH = (1.0, 2.0, 3.0)
 
 
 def natural(key: str):
@@ -85,19 +79,6 @@ def _leaving(coords: np.ndarray, at: np.ndarray) -> tuple[np.ndarray, float]:
     return coords, math.atan2(dy, dx)
 
 
-def _point_along(coords: np.ndarray, distance: float) -> tuple[np.ndarray, float]:
-    """Point and heading at `distance` metres along a polyline (clipped to its ends)."""
-    step = np.diff(coords, axis=0)
-    length = np.hypot(*step.T)
-    along = np.r_[0.0, np.cumsum(length)]
-    distance = min(max(distance, 0.0), along[-1])
-    k = int(np.clip(np.searchsorted(along, distance, side="right") - 1, 0, len(step) - 1))
-    while k > 0 and length[k] <= 1e-12:
-        k -= 1
-    fraction = (distance - along[k]) / length[k] if length[k] > 0 else 0.0
-    return coords[k] + fraction * step[k], math.atan2(step[k, 1], step[k, 0])
-
-
 def _clear(robot: Robot, field, a_xy, a_heading, b_xy, b_heading) -> float:
     """Smallest gap beside the body over moves a -> b (arrays), metres."""
     return float(move_gaps(robot, field, a_xy, a_heading, b_xy, b_heading).min()) \
@@ -112,85 +93,7 @@ def _rotation_gap(robot: Robot, field, xy, start: float, turn: float) -> float:
     return _clear(robot, field, where, angles[:-1], where, angles[1:])
 
 
-def _path_gap(robot: Robot, field, path) -> float:
-    """Smallest gap beside the body along `path`; where the rotation centre's clearance
-    settles the answer (every body point lies within the swing radius of the path, and a
-    disc about the centre inside the footprint), that bound instead of the exact value."""
-    poses = path.poses(step=MAX_STEP_ANGLE)
-    room = field.at(poses[:, :2])
-    inner, outer = reach(robot)
-    extra = core(robot)[1] - robot.margin
-    if robot.length is None:
-        inner = outer = 0.0
-    spacing = np.hypot(*np.diff(poses[:, :2], axis=0).T) * (1 + 1e-3)   # arc >= chord
-    low = float((np.minimum(room[:-1], room[1:]) - spacing / 2).min()) - outer - extra
-    if low >= robot.margin:
-        return low
-    high = float(room.min()) - inner - extra
-    if high < robot.margin - 1e-9:
-        return high
-    # the tightest-looking moves first, a few at a time: a path that fails usually fails
-    # at once (its value is then the smallest gap found so far, an upper bound)
-    order = np.argsort(np.minimum(room[:-1], room[1:]), kind="stable")
-    found = math.inf
-    for chunk in range(0, len(order), PATH_CHUNK):
-        mine = order[chunk:chunk + PATH_CHUNK]
-        found = min(found, _clear(robot, field, poses[mine, :2], poses[mine, 2],
-                                  poses[mine + 1, :2], poses[mine + 1, 2]))
-        if found < robot.margin - 1e-9:
-            break
-    return found
-
-
-def fillet(start, end, radius: float) -> DubinsPath | None:
-    """Straight on from `start`, one arc of `radius` tangent to both headings' lines,
-    straight on to `end`; None where the lines do not meet ahead of both poses far enough
-    for the arc (or are parallel)."""
-    turn = float(angle_between(start[2], end[2]))
-    if abs(turn) < 1e-9 or abs(abs(turn) - math.pi) < 1e-9:
-        return None
-    a, b = np.array(start[:2], float), np.array(end[:2], float)
-    u = np.array([math.cos(start[2]), math.sin(start[2])])
-    v = np.array([math.cos(end[2]), math.sin(end[2])])
-    # meeting point a + s u = b - t v
-    matrix = np.column_stack([u, v])
-    s, t = np.linalg.solve(matrix, b - a)
-    cut = radius * math.tan(abs(turn) / 2)
-    if s < cut - 1e-9 or t < cut - 1e-9:
-        return None
-    return DubinsPath(tuple(float(x) for x in start), "SLS" if turn > 0 else "SRS",
-                      (max(s - cut, 0.0) / radius, abs(turn), max(t - cut, 0.0) / radius),
-                      float(radius))
-
-
-def _car_gap(robot: Robot, field, here, arrive, leave) -> float:
-    """Best gap over car manoeuvres from the arriving edge to the leaving one."""
-    best = -math.inf
-    reach_in = float(np.hypot(*np.diff(arrive, axis=0).T).sum())
-    reach_out = float(np.hypot(*np.diff(leave, axis=0).T).sum())
-    for scale in CAR_REACH:
-        start_xy, back = _point_along(arrive, scale * robot.turn_radius)
-        end_xy, ahead = _point_along(leave, scale * robot.turn_radius)
-        if np.allclose(start_xy, here) or np.allclose(end_xy, here):
-            continue
-        start, end = (*start_xy, back + math.pi), (*end_xy, ahead)
-        # the stretches of the edges between those poses and the node are not driven
-        paths = [fillet(start, end, robot.turn_radius),
-                 shortest_path(start, end, robot.turn_radius)]
-        if robot.reverse:
-            backing = reeds_shepp.shortest_path(start, end, robot.turn_radius)
-            if backing.word != paths[1].word or backing.lengths != paths[1].lengths:
-                paths.append(backing)
-        for path in paths:
-            if path is not None:
-                best = max(best, _path_gap(robot, field, path))
-        if best >= robot.margin - 1e-9 or (scale * robot.turn_radius >= reach_in and
-                                           scale * robot.turn_radius >= reach_out):
-            break
-    return best
-
-
-def check_turns(robot: Robot, field, graph, offset) -> list[BodyShortfall]:
+def check_turns(robot: Robot, field, graph, offset, floor=None) -> list[BodyShortfall]:
     """Set ``turns`` and ``reverse_only`` on every node; return the forbidden turns.
 
     Parameters
@@ -198,11 +101,12 @@ def check_turns(robot: Robot, field, graph, offset) -> list[BodyShortfall]:
     robot : Robot with a body (``robot.has_body``)
     field : ClearanceField of the local frame; offset : (x0, y0) of the local frame, m
     graph : networkx.MultiGraph in the drawing frame (edited in place)
+    floor : the free floor in the local frame, optional (see manoeuvres.car_gaps)
     """
     shift = np.asarray(offset, dtype=float)
     need = robot.swing + robot.margin if robot.length is not None else \
         robot.radius + robot.margin
-    forbidden = []
+    forbidden, cars, allowed_at = [], [], {}
     nodes = sorted(graph.nodes, key=natural)
     xy = np.array([[graph.nodes[n]["x"], graph.nodes[n]["y"]] for n in nodes]).reshape(-1, 2)
     room = field.at(xy - shift) if len(nodes) else np.zeros(0)
@@ -227,15 +131,11 @@ def check_turns(robot: Robot, field, graph, offset) -> list[BodyShortfall]:
                 turn = float(angle_between(arrive, legs[b][1])) if a != b else math.pi
                 if robot.kind == "car":
                     if abs(turn) < 1e-9:
-                        gap = math.inf       # straight through: the lanes' own check
-                    else:
-                        gap = _car_gap(robot, field, here, legs[a][0], legs[b][0])
-                    has, needs = gap, robot.margin
-                    note = (f"no {'' if robot.reverse else 'forward '}path of radius "
-                            f"{robot.turn_radius:.2f} m tried keeps "
-                            f"{robot.margin:.2f} m beside the body (the best leaves at most "
-                            f"{max(gap, 0):.2f} m)")
-                elif room[index] >= need - 1e-9:
+                        allowed.add((a, b))  # straight through: the lanes' own check
+                    else:                    # judged below, all manoeuvres at once
+                        cars.append((index, a, b, (here, legs[a][0], legs[b][0])))
+                    continue
+                if room[index] >= need - 1e-9:
                     allowed.add((a, b))          # the whole swept circle is clear
                     continue
                 else:
@@ -254,6 +154,20 @@ def check_turns(robot: Robot, field, graph, offset) -> list[BodyShortfall]:
                 forbidden.append(BodyShortfall("turn round" if a == b else "turn",
                                                float(x), float(y), float(needs), float(has),
                                                (a, b), node, note))
+        allowed_at[node] = (allowed, keys)
+    gaps = car_gaps(robot, field, [c[3] for c in cars], floor)
+    for (index, a, b, _), gap in zip(cars, gaps):
+        if gap >= robot.margin - 1e-9:
+            allowed_at[nodes[index]][0].add((a, b))
+            continue
+        x, y = xy[index]
+        forbidden.append(BodyShortfall(
+            "turn round" if a == b else "turn", float(x), float(y), robot.margin, float(gap),
+            (a, b), nodes[index],
+            f"no {'' if robot.reverse else 'forward '}path of radius {robot.turn_radius:.2f} "
+            f"m tried keeps {robot.margin:.2f} m beside the body (the best leaves at most "
+            f"{max(gap, 0):.2f} m)"))
+    for node, (allowed, keys) in allowed_at.items():
         graph.nodes[node]["turns"] = pair_text(allowed)
         graph.nodes[node]["reverse_only"] = bool(len(keys) == 1 and
                                                  (keys[0], keys[0]) not in allowed)
@@ -266,17 +180,19 @@ BEND_SLACK = 0.1
 BEND_ANGLE = 0.02
 
 
-def car_bends(robot: Robot, field, lines, ends):
+def car_bends(robot: Robot, field, lines, ends, floor=None):
     """Keep the lanes a car can drive: where a lane bends faster than 1/R, a manoeuvre
     (as for a turn at a node) must lead from before the bend to after it.
 
     Returns the kept lines, their ends, and a Shortfall per dropped lane (local frame).
     """
-    kept_lines, kept_ends, short = [], [], []
-    for line, (u, v) in zip(lines, ends):
+    bends, jobs = [], []                 # per lane its bend vertices; the manoeuvres
+    all_coords = []
+    for line in lines:
         coords = shapely.get_coordinates(line)
         coords = coords[np.r_[True, np.hypot(*np.diff(coords, axis=0).T) > 1e-9]]
-        worst = None
+        all_coords.append(coords)
+        mine = []
         if len(coords) >= 3:
             step = np.diff(coords, axis=0)
             length = np.hypot(*step.T)
@@ -287,11 +203,14 @@ def car_bends(robot: Robot, field, lines, ends):
                                    (turn > (1 + BEND_SLACK) * span / robot.turn_radius)) + 1
             for vertex in _bend_middles(sharp, np.r_[0.0, np.cumsum(length)],
                                         robot.turn_radius):
-                here = coords[vertex]
-                gap = _car_gap(robot, field, here, coords[:vertex + 1][::-1], coords[vertex:])
-                if gap < robot.margin - 1e-9:
-                    worst = (here, gap)
-                    break
+                mine.append((vertex, len(jobs)))
+                jobs.append((coords[vertex], coords[:vertex + 1][::-1], coords[vertex:]))
+        bends.append(mine)
+    gaps = car_gaps(robot, field, jobs, floor)
+    kept_lines, kept_ends, short = [], [], []
+    for coords, (u, v), mine in zip(all_coords, ends, bends):
+        worst = next(((coords[vertex], gaps[job]) for vertex, job in mine
+                      if gaps[job] < robot.margin - 1e-9), None)
         if worst is None:
             kept_lines.append(coords)
             kept_ends.append((u, v))

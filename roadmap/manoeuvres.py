@@ -1,0 +1,317 @@
+"""A car's manoeuvres from one lane to another: the paths tried and whether the body clears.
+
+For each manoeuvre (a node or a lane bend, the lane arrived along, the lane left along) the
+paths tried are, from poses on the two lanes 1, 2 and 3 R from the node (as far as they
+reach; the nearer poses first): straight on and one arc of radius R tangent to both lanes'
+lines (`fillet`), the shortest Dubins path, and for a car that may reverse the shortest
+Reeds-Shepp path. A manoeuvre is possible when one path keeps the margin beside the body.
+
+Each path is driven as poses at most MAX_STEP_ANGLE apart and checked as the convex hulls
+of consecutive footprints (body.py), exactly through shapely. That is costly, so all paths
+of all manoeuvres are first judged together by bounds from the clearance field, one query
+per stage, and only the few left undecided are measured:
+
+1. the rotation centre: every body point lies within the swing radius of it and a disc
+   about it lies inside the footprint, so its clearance (less half the chord to the next
+   pose) bounds the gap from below and above;
+2. the footprint: it is covered by discs along its long axis (radius at most COVER_SLACK
+   more than its half-width) and holds its four corners. The hull of two footprints lies
+   within half the largest corner displacement of one of them (a point of the hull is
+   lambda p + (1 - lambda) q with q within that displacement of the first footprint, p of
+   the second), so the smaller disc clearance less that half bounds the hull's gap from
+   below; a corner's clearance bounds it from above.
+
+A path that a bound accepts would be accepted by the exact check too, one it rejects
+rejected, so the answer is that of the exact check on every path; only the figure reported
+for a refused manoeuvre ("the best leaves at most ...") may be a bound rather than the
+exact smallest gap.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import shapely
+
+from clearway.roadmap import reeds_shepp
+from clearway.roadmap.body import MAX_STEP_ANGLE, angle_between, core, move_gaps, place, reach
+from clearway.roadmap.dubins import DubinsPath, shortest_path
+from clearway.roadmap.model import Robot
+
+#: Moves of a path measured exactly at a time, tightest first.
+PATH_CHUNK = 8
+#: Distances from the node, in turning radii, where a car's manoeuvre starts and ends.
+CAR_REACH = (1.0, 2.0, 3.0)
+#: The discs covering the footprint reach at most this far beyond its sides, metres.
+COVER_SLACK = 0.02
+#: At most this many discs cover a footprint.
+COVER_MOST = 24
+#: Moves per group measured at its two ends only, in the first stage.
+GROUP = 8
+#: The tightest moves of each path whose corners are measured first.
+FEW = 4
+
+
+def _measured(coords: np.ndarray, known: dict | None = None):
+    """A polyline's steps (n - 1, 2), their lengths and the distance along to each vertex;
+    kept in `known` by the array's id (the caller keeps the arrays alive meanwhile)."""
+    if known is not None and id(coords) in known:
+        return known[id(coords)]
+    step = np.diff(coords, axis=0)
+    length = np.hypot(*step.T)
+    found = step, length, np.r_[0.0, np.cumsum(length)]
+    if known is not None:
+        known[id(coords)] = found
+    return found
+
+
+def point_along(coords: np.ndarray, distance: float,
+                known: dict | None = None) -> tuple[np.ndarray, float]:
+    """Point and heading at `distance` metres along a polyline (clipped to its ends)."""
+    step, length, along = _measured(coords, known)
+    distance = min(max(distance, 0.0), along[-1])
+    k = int(np.clip(np.searchsorted(along, distance, side="right") - 1, 0, len(step) - 1))
+    while k > 0 and length[k] <= 1e-12:
+        k -= 1
+    fraction = (distance - along[k]) / length[k] if length[k] > 0 else 0.0
+    return coords[k] + fraction * step[k], math.atan2(step[k, 1], step[k, 0])
+
+
+def fillet(start, end, radius: float) -> DubinsPath | None:
+    """Straight on from `start`, one arc of `radius` tangent to both headings' lines,
+    straight on to `end`; None where the lines do not meet ahead of both poses far enough
+    for the arc (or are parallel)."""
+    turn = float(angle_between(start[2], end[2]))
+    if abs(turn) < 1e-9 or abs(abs(turn) - math.pi) < 1e-9:
+        return None
+    a, b = np.array(start[:2], float), np.array(end[:2], float)
+    u = np.array([math.cos(start[2]), math.sin(start[2])])
+    v = np.array([math.cos(end[2]), math.sin(end[2])])
+    # meeting point a + s u = b - t v
+    matrix = np.column_stack([u, v])
+    s, t = np.linalg.solve(matrix, b - a)
+    cut = radius * math.tan(abs(turn) / 2)
+    if s < cut - 1e-9 or t < cut - 1e-9:
+        return None
+    return DubinsPath(tuple(float(x) for x in start), "SLS" if turn > 0 else "SRS",
+                      (max(s - cut, 0.0) / radius, abs(turn), max(t - cut, 0.0) / radius),
+                      float(radius))
+
+
+def _same(a, b) -> bool:
+    """numpy.allclose for two points, without its overhead."""
+    return abs(a[0] - b[0]) <= 1e-8 + 1e-5 * abs(b[0]) and \
+        abs(a[1] - b[1]) <= 1e-8 + 1e-5 * abs(b[1])
+
+
+def paths_tried(robot: Robot, here, arrive, leave, step: int, backing: bool = False,
+                known: dict | None = None) -> list[DubinsPath] | None:
+    """The paths tried from the arriving lane to the leaving one from poses CAR_REACH[step]
+    turning radii from the node (`here`), in the order tried: forward ones, or with
+    `backing` the shortest Reeds-Shepp path where it is not one of those. None where the
+    lanes both end before the previous distance (nothing farther to try)."""
+    radius = robot.turn_radius
+    if step > 0:
+        before = CAR_REACH[step - 1] * radius
+        if before >= _measured(arrive, known)[2][-1] and \
+                before >= _measured(leave, known)[2][-1]:
+            return None
+    start_xy, back = point_along(arrive, CAR_REACH[step] * radius, known)
+    end_xy, ahead = point_along(leave, CAR_REACH[step] * radius, known)
+    if _same(start_xy, here) or _same(end_xy, here):
+        return []
+    # the stretches of the lanes between those poses and the node are not driven
+    start, end = (*start_xy, back + math.pi), (*end_xy, ahead)
+    forward = shortest_path(start, end, radius)
+    if not backing:
+        return [path for path in (fillet(start, end, radius), forward)
+                if path and path.length > 0]
+    path = reeds_shepp.shortest_path(start, end, radius)
+    if path.length > 0 and (path.word, path.lengths) != (forward.word, forward.lengths):
+        return [path]
+    return []
+
+
+def cover(robot: Robot) -> tuple[np.ndarray, float]:
+    """Discs covering the footprint: centres (D, 2) in the body frame, and their radius, m."""
+    if robot.length is None:
+        return np.zeros((1, 2)), robot.radius
+    long, short = max(robot.length, robot.width), min(robot.length, robot.width)
+    half = short / 2
+    count = min(COVER_MOST, max(1, math.ceil(long / (2 * math.sqrt(
+        (half + COVER_SLACK) ** 2 - half ** 2)))))
+    along = -long / 2 + long / count * (np.arange(count) + 0.5)
+    centres = np.zeros((count, 2))
+    centres[:, 0 if robot.length >= robot.width else 1] = along
+    return centres - np.asarray(robot.centre, float), math.hypot(long / (2 * count), half)
+
+
+def _per_path(values: np.ndarray, starts: np.ndarray) -> np.ndarray:
+    """Smallest of `values` in each run beginning at `starts` (runs non-empty)."""
+    return np.minimum.reduceat(values, starts) if len(values) else np.zeros(0)
+
+
+def car_gaps(robot: Robot, field, manoeuvres, floor=None) -> np.ndarray:
+    """For each manoeuvre (here, arriving polyline, leaving polyline; local frame, the
+    polylines leaving `here`), the best gap beside the body over the paths tried, metres:
+    at least the margin where one path clears; otherwise the largest of the paths' gaps or
+    of upper bounds of them (see the module's docstring). -inf where no path is tried.
+    `floor`, the free floor (local frame; shapely geometry), lets paths that leave it be
+    refused at once."""
+    if floor is not None:
+        shapely.prepare(floor)
+    best = np.full(len(manoeuvres), -np.inf)
+    going = list(range(len(manoeuvres)))
+    known = {}                        # the polylines' lengths, measured once
+    # the nearer poses first, for all manoeuvres at once; farther ones where they fail;
+    # at each distance, paths backing up only where the forward ones fail
+    for step, backing in ((step, backing) for step in range(len(CAR_REACH))
+                          for backing in (False, True)[:1 + robot.reverse]):
+        paths, owner, still = [], [], []
+        for index in going:
+            if best[index] >= robot.margin - 1e-9:
+                continue
+            here, arrive, leave = manoeuvres[index]
+            found = paths_tried(robot, np.asarray(here, float), arrive, leave, step, backing,
+                                known)
+            if found is None:
+                continue
+            still.append(index)
+            paths += found
+            owner += [index] * len(found)
+        going = still
+        if paths:
+            _judge(robot, field, paths, np.asarray(owner), best, floor)
+    return best
+
+
+def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
+    """Raise best[owner[k]] to the gap beside the body along paths[k] (or a bound of it,
+    see the module's docstring), skipping exact checks of manoeuvres already possible."""
+    margin = robot.margin - 1e-9
+    poses = [path.poses(step=MAX_STEP_ANGLE) for path in paths]
+    counts = np.array([len(p) for p in poses])
+    first = np.r_[0, np.cumsum(counts)[:-1]]
+    every = np.concatenate(poses)
+    # moves join consecutive poses of one path: move k from pose move[k] to move[k] + 1
+    joined = np.ones(len(every) - 1, bool)
+    joined[first[1:] - 1] = False
+    move = np.flatnonzero(joined)
+    move_first = np.r_[0, np.cumsum(counts - 1)[:-1]]     # each path's first move
+    path_of_move = np.repeat(np.arange(len(paths)), counts - 1)
+    inner, outer = reach(robot)
+    extra = core(robot)[1] - robot.margin
+    circum = outer if robot.length is None else math.hypot(robot.length / 2, robot.width / 2)
+    if robot.length is None:
+        inner = outer = circum = 0.0
+    # two points of the body: every footprint lies within `outer` of its rotation centre
+    # and within `circum` of its own centre; the two together bound each move from below
+    points = (every[:, :2], place(-np.asarray(robot.centre, float)[None], every[:, :2],
+                                  every[:, 2])[:, 0])
+    chords = [np.hypot(*(xy[move + 1] - xy[move]).T) for xy in points]
+    value = np.full(len(paths), np.nan)
+    high = np.full(len(paths), np.inf)
+
+    def measure(at: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Clearance of both points at the poses `at` (sorted, unique)."""
+        found = field.at(np.concatenate([points[0][at], points[1][at]]))
+        np.minimum.at(high, np.searchsorted(first, at, side="right") - 1,
+                      found[:len(at)] - inner - extra)
+        return found[:len(at)], found[len(at):]
+
+    def settle(bound: np.ndarray) -> np.ndarray:
+        """Decide the paths left by `bound` (per move) and `high`; return those left."""
+        left = np.flatnonzero(np.isnan(value) & (best[owner] < margin))
+        low = _per_path(bound, move_first)[left]
+        value[left] = np.where(low >= margin, low,
+                               np.where(high[left] < margin, high[left], np.nan))
+        np.maximum.at(best, owner[left], np.where(np.isnan(value[left]), -np.inf,
+                                                  value[left]))
+        return np.isnan(value) & (best[owner] < margin)
+
+    # stage 1: both points at every GROUP-th pose; a move between two measured poses lies
+    # within half the chords between them (plus one chord) of one of them
+    group = np.arange(len(move)) - move_first[path_of_move]
+    starts = np.flatnonzero(group % GROUP == 0)
+    stops = np.r_[starts[1:] - 1, len(move) - 1]
+    stops = np.where(path_of_move[stops] != path_of_move[starts],
+                     move_first[path_of_move[starts]] + counts[path_of_move[starts]] - 2,
+                     stops)
+    ends = np.unique(np.r_[move[starts], move[stops] + 1])
+    if floor is not None:
+        # a body point off the floor at any pose: the path crosses the floor's edge (it
+        # starts on it), where the gap is nil
+        corners = core(robot)[0]
+        body = np.concatenate([points[1][ends][:, None], place(corners, every[ends, :2],
+                                                               every[ends, 2])], axis=1)
+        off = ~shapely.contains_xy(floor, body.reshape(-1, 2)).reshape(len(ends), -1).all(axis=1)
+        np.minimum.at(high, np.searchsorted(first, ends[off], side="right") - 1, -extra)
+    rooms = measure(ends)
+    bound = np.full(len(move), -np.inf)
+    for (room, chord, radius) in zip(rooms, chords, (outer, circum)):
+        a, b = (room[np.searchsorted(ends, at)] for at in (move[starts], move[stops] + 1))
+        spread = np.add.reduceat(chord, starts) / 2 + np.maximum.reduceat(chord, starts)
+        bound = np.maximum(bound, np.repeat(np.minimum(a, b) - spread - radius,
+                                            stops - starts + 1))
+    bound -= extra
+    left = settle(bound)
+    # stage 1b: both points at each pose of the moves stage 1 did not clear
+    tight = np.flatnonzero(left[path_of_move] & (bound < margin))
+    if not len(tight):
+        return
+    ends, where = np.unique(np.r_[move[tight], move[tight] + 1], return_inverse=True)
+    a_end, b_end = np.split(where.ravel(), 2)
+    for (room, chord, radius) in zip(measure(ends), chords, (outer, circum)):
+        bound[tight] = np.maximum(bound[tight], np.minimum(room[a_end], room[b_end]) -
+                                  chord[tight] * (1 + 1e-3) / 2 - radius - extra)
+    left = settle(bound)
+    # stage 2: the footprint's corners at the tightest few moves of each path left: a path
+    # that fails mostly fails there
+    corners = core(robot)[0]
+    tight = np.flatnonzero(left[path_of_move] & (bound < margin))
+    tight = tight[np.lexsort((bound[tight], path_of_move[tight]))]
+    rank = np.arange(len(tight)) - np.searchsorted(path_of_move[tight],
+                                                   path_of_move[tight])
+    few = np.unique(np.r_[move[tight[rank < FEW]], move[tight[rank < FEW]] + 1])
+    if not len(few):
+        return
+    np.minimum.at(high, np.searchsorted(first, few, side="right") - 1,
+                  field.at(place(corners, every[few, :2], every[few, 2]).reshape(-1, 2))
+                  .reshape(len(few), len(corners)).min(axis=1) - extra)
+    left = settle(bound)
+    # stage 3: discs covering the footprint and its corners, at the poses of the moves
+    # stage 1 did not clear, on the paths left
+    tight = np.flatnonzero(left[path_of_move] & (bound < margin))
+    if not len(tight):
+        return
+    centres, radius = cover(robot)
+    ends, where = np.unique(np.r_[move[tight], move[tight] + 1], return_inverse=True)
+    near = place(np.vstack([centres, corners]), every[ends, :2], every[ends, 2])
+    measured = field.at(near.reshape(-1, 2)).reshape(len(ends), -1)
+    disc_room = measured[:, :len(centres)].min(axis=1) - radius
+    corner_room = measured[:, len(centres):].min(axis=1) - extra
+    a_end, b_end = np.split(where.ravel(), 2)
+    shift = np.hypot(*(near[b_end, len(centres):] - near[a_end, len(centres):])
+                     .transpose(2, 0, 1)).max(axis=1)
+    bound[tight] = np.maximum(bound[tight], np.minimum(disc_room[a_end], disc_room[b_end]) -
+                              shift / 2)
+    np.minimum.at(high, path_of_move[tight], np.minimum(corner_room[a_end],
+                                                        corner_room[b_end]))
+    undecided = np.flatnonzero(settle(bound))
+    # stage 4: the exact hulls, path by path in the order tried, until one clears
+    for path in undecided:
+        if not np.isnan(value[path]) or best[owner[path]] >= margin:
+            continue
+        mine = np.arange(move_first[path], move_first[path] + counts[path] - 1)
+        mine = mine[bound[mine] < margin]          # the others are clear already
+        order = move[mine[np.argsort(bound[mine], kind="stable")]]
+        found = math.inf
+        for chunk in range(0, len(order), PATH_CHUNK):
+            some = order[chunk:chunk + PATH_CHUNK]
+            found = min(found, float(move_gaps(robot, field, every[some, :2], every[some, 2],
+                                               every[some + 1, :2], every[some + 1, 2]).min()))
+            if found < margin:
+                break
+        value[path] = found
+        best[owner[path]] = max(best[owner[path]], found)

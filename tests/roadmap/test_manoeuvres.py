@@ -1,0 +1,93 @@
+"""The car's manoeuvres judged in bulk, by bounds, against measuring every path exactly."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+import shapely
+
+from clearway.roadmap import Robot
+from clearway.roadmap.body import MAX_STEP_ANGLE, move_gaps
+from clearway.roadmap.clearance import clearance_field
+from clearway.roadmap.inflate import boundary_segments
+from clearway.roadmap.manoeuvres import CAR_REACH, car_gaps, cover, paths_tried
+
+
+def exact_best(robot, field, here, arrive, leave):
+    """The largest over every path tried of its smallest hull gap, each move measured."""
+    best = -math.inf
+    for step in range(len(CAR_REACH)):
+        for backing in (False, True)[:1 + robot.reverse]:
+            found = paths_tried(robot, here, arrive, leave, step, backing)
+            for path in found or []:
+                poses = path.poses(step=MAX_STEP_ANGLE)
+                best = max(best, float(move_gaps(robot, field, poses[:-1, :2], poses[:-1, 2],
+                                                 poses[1:, :2], poses[1:, 2]).min()))
+    return best
+
+
+def cluttered_floor(rng):
+    """A 20 m square hall with boxes (racks, columns) in it."""
+    floor = shapely.box(0, 0, 20, 20)
+    for _ in range(12):
+        x, y = rng.uniform(1, 18, 2)
+        floor = floor.difference(shapely.box(x, y, x + rng.uniform(0.3, 2.5),
+                                             y + rng.uniform(0.3, 2.5)))
+    return floor
+
+
+@pytest.mark.parametrize("seed", range(3))
+def test_bulk_judgement_agrees_with_measuring_every_path(seed):
+    # analytic: the bounds only settle a path the exact check would settle the same way
+    # (manoeuvres.py), so the answer must be that of measuring every move of every path
+    rng = np.random.default_rng(seed)
+    floor = cluttered_floor(rng)
+    field = clearance_field(boundary_segments(floor)[0])
+    robots = [Robot.rectangle(1.4, 0.8, margin=0.1, kind="car", centre=(-0.5, 0.0),
+                              turn_radius=2.5, reverse=bool(seed % 2)),
+              Robot.disc(0.4, margin=0.1, kind="car", turn_radius=2.0, reverse=True)]
+    manoeuvres = []
+    for _ in range(2000):
+        if len(manoeuvres) == 16:
+            break
+        # as on lanes, the body fits where the paths start and end, whichever way it heads
+        here = rng.uniform(2, 18, 2)
+        legs = []
+        for heading in rng.uniform(-math.pi, math.pi, 2):
+            far = here + rng.uniform(2, 6) * np.array([math.cos(heading), math.sin(heading)])
+            legs.append(np.array([here, (here + far) / 2, far]))
+        poses = [shapely.line_interpolate_point(shapely.LineString(leg),
+                                                robots[0].turn_radius * np.array(CAR_REACH))
+                 for leg in legs]
+        room = shapely.buffer(shapely.multipoints(np.concatenate(
+            [shapely.get_coordinates(p) for p in poses])), robots[0].swing + robots[0].margin)
+        if floor.contains(room):
+            manoeuvres.append((here, *legs))
+    assert len(manoeuvres) >= 8
+    manoeuvres += [(here, leg, leg) for here, leg, _ in manoeuvres[:6]]       # turning round
+    outcomes = set()
+    for robot in robots:
+        exact_all = [exact_best(robot, field, *manoeuvre) for manoeuvre in manoeuvres]
+        for use_floor in (None, floor):
+            found = car_gaps(robot, field, manoeuvres, use_floor)
+            for gap, exact in zip(found, exact_all):
+                assert bool(gap >= robot.margin - 1e-9) is (exact >= robot.margin - 1e-9)
+                if gap < robot.margin - 1e-9:
+                    # an upper bound when refused, as reported (at least nil)
+                    assert max(gap, 0.0) >= exact - 1e-9
+                outcomes.add(bool(gap >= robot.margin - 1e-9))
+    assert outcomes == {True, False}                      # both kinds of answer tried
+
+
+def test_discs_cover_the_footprint():
+    # analytic: every point of the rectangle lies in a covering disc, and the discs reach
+    # at most COVER_SLACK (2 cm) beyond its long sides
+    robot = Robot.rectangle(1.4, 0.8, margin=0.1, centre=(-0.5, 0.1))
+    centres, radius = cover(robot)
+    grid = np.stack(np.meshgrid(np.linspace(-0.7, 0.7, 57), np.linspace(-0.4, 0.4, 33)),
+                    axis=-1).reshape(-1, 2) - np.array([-0.5, 0.1])
+    nearest = np.hypot(*(grid[:, None] - centres[None]).transpose(2, 0, 1)).min(axis=1)
+    assert nearest.max() <= radius + 1e-12
+    assert radius <= 0.4 + 0.02 + 1e-12
