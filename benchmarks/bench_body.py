@@ -6,8 +6,8 @@ Reads one synthetic warehouse (benchmarks/synthetic.py) once, then builds its ro
 alternately for each robot (interleaved, so that a noisy neighbour slows them alike) and
 prints the median build time of each, its ratio to the disc robot's, and what the body
 checks found. Target (issue 14): a rectangular robot at most 1.5 x the disc robot's time.
-``--car`` adds a car robot, whose turn checks (a path per pair of edges at every node, in
-Python) take far longer: minutes at 20,000 bays.
+``--car`` adds a car robot that may reverse, whose turn checks try up to nine paths per pair
+of edges at every node (manoeuvres.py) and take longer.
 """
 
 from __future__ import annotations
