@@ -247,10 +247,18 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
                                                                every[ends, 2])], axis=1)
         off = ~shapely.contains_xy(floor, body.reshape(-1, 2)).reshape(len(ends), -1).all(axis=1)
         np.minimum.at(high, np.searchsorted(first, ends[off], side="right") - 1, -extra)
+        # those paths are refused: the others only are measured
+        keep = high[np.searchsorted(first, ends, side="right") - 1] >= margin
+        ends = ends[keep]
+    measured = high[path_of_move[starts]] >= margin
+    if not len(ends):                     # every path refused
+        settle(np.full(len(move), -np.inf))
+        return
     rooms = measure(ends)
     bound = np.full(len(move), -np.inf)
     for (room, chord, radius) in zip(rooms, chords, (outer, circum)):
-        a, b = (room[np.searchsorted(ends, at)] for at in (move[starts], move[stops] + 1))
+        a, b = (np.where(measured, room[np.minimum(np.searchsorted(ends, at), len(ends) - 1)],
+                         -np.inf) for at in (move[starts], move[stops] + 1))
         spread = np.add.reduceat(chord, starts) / 2 + np.maximum.reduceat(chord, starts)
         bound = np.maximum(bound, np.repeat(np.minimum(a, b) - spread - radius,
                                             stops - starts + 1))
