@@ -4,27 +4,34 @@ For each manoeuvre (a node or a lane bend, the lane arrived along, the lane left
 paths tried are, from poses on the two lanes 1, 2 and 3 R from the node (as far as they
 reach; the nearer poses first): straight on and one arc of radius R tangent to both lanes'
 lines (`fillet`), the shortest Dubins path, and for a car that may reverse the shortest
-Reeds-Shepp path. A manoeuvre is possible when one path keeps the margin beside the body.
+Reeds-Shepp path (only where the forward ones fail). A manoeuvre is possible when one path
+keeps the margin beside the body.
 
 Each path is driven as poses at most MAX_STEP_ANGLE apart and checked as the convex hulls
 of consecutive footprints (body.py), exactly through shapely. That is costly, so all paths
-of all manoeuvres are first judged together by bounds from the clearance field, one query
-per stage, and only the few left undecided are measured:
+of all manoeuvres are first judged together, a stage at a time, each asking the clearance
+field about many points at once, and only the few left undecided are measured:
 
-1. the rotation centre: every body point lies within the swing radius of it and a disc
-   about it lies inside the footprint, so its clearance (less half the chord to the next
-   pose) bounds the gap from below and above;
-2. the footprint: it is covered by discs along its long axis (radius at most COVER_SLACK
-   more than its half-width) and holds its four corners. The hull of two footprints lies
-   within half the largest corner displacement of one of them (a point of the hull is
-   lambda p + (1 - lambda) q with q within that displacement of the first footprint, p of
-   the second), so the smaller disc clearance less that half bounds the hull's gap from
-   below; a corner's clearance bounds it from above.
+1. off the floor: a body point (centre or corner) outside the free floor at a pose means
+   the path crosses the floor's edge (it starts on a lane, where the body fits): refused;
+2. two points of the body, at every GROUP-th pose, then at each pose of the moves not yet
+   clear: every body point lies within the swing radius of the rotation centre and within
+   the half diagonal of the footprint's centre, so their clearance less that radius (and
+   less half the way to the next measured pose, plus one step) bounds each move's gap
+   from below; a disc about the rotation centre lies inside the footprint, so its
+   clearance bounds the gap from above;
+3. the corners at the tightest FEW moves of each path (a corner's clearance bounds the gap
+   from above), then at every move still tight the corners and discs covering the
+   footprint along its long axis (radius at most COVER_SLACK more than its half-width):
+   the hull of two footprints lies within half the largest corner displacement of one of
+   them (a point of the hull is lambda p + (1 - lambda) q with q within that displacement
+   of the first footprint, p of the second), so the smaller disc clearance less that
+   half bounds the hull's gap from below.
 
-A path that a bound accepts would be accepted by the exact check too, one it rejects
-rejected, so the answer is that of the exact check on every path; only the figure reported
-for a refused manoeuvre ("the best leaves at most ...") may be a bound rather than the
-exact smallest gap.
+A path that a bound accepts would be accepted by the exact check, one it refuses refused
+(`tests/roadmap/test_manoeuvres.py` checks this against measuring every move), so the
+answer is that of the exact check; only the figure reported for a refused manoeuvre ("the
+best leaves at most ...") may be an upper bound rather than the exact smallest gap.
 """
 
 from __future__ import annotations
