@@ -109,12 +109,12 @@ def _format_layer_table(table) -> str:
                  f"{table.paperspace} paper-space entities ignored.")
     lines += [f"unit evidence: {line}" for line in table.unit_evidence]
     if len(table.views) > 1:
-        for view in table.views:
-            x0, y0, x1, y1 = (value * table.m_per_unit for value in view.extents)
-            mark = "built" if view.chosen else "left out"
-            lines.append(f"drawing at ({x0:.1f}, {y0:.1f})-({x1:.1f}, {y1:.1f}) m: {view.parts} "
-                         f"parts, {view.swings} door swings; {mark} (drawing units "
-                         f"{','.join(f'{v:.6g}' for v in view.extents)})")
+        for drawing in table.views:
+            x0, y0, x1, y1 = (value * table.m_per_unit for value in drawing.extents)
+            mark = "built" if drawing.chosen else "left out"
+            lines.append(f"drawing at ({x0:.1f}, {y0:.1f})-({x1:.1f}, {y1:.1f}) m: "
+                         f"{drawing.parts} parts, {drawing.swings} door swings; {mark} "
+                         f"(drawing units {','.join(f'{v:.6g}' for v in drawing.extents)})")
     lines += [f"warning: {warning}" for warning in table.warnings]
     return "\n".join(lines)
 

@@ -44,7 +44,7 @@ def _factor(name: str, value) -> float:
     return number
 
 
-def _plausible(robot, given: str, scaled) -> "Robot":
+def _plausible(robot, given: str, scaled):
     """Return `robot`, or refuse one larger than MAX_ROBOT_SIZE across with the likely cause.
 
     `given` names the option and value as typed; `scaled(factor)` spells the same option

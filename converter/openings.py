@@ -539,8 +539,8 @@ def open_swept_doorways(lines, rings, swings, *, max_thickness, tolerance=0.03):
     count = len(lines)
     loose = np.concatenate([linework[:count][keep[:count]], pieces])
     doorway = shapely.buffer(shapely.union_all(regions), tolerance)
-    stroke = (shapely.length(loose) <= MAX_TICK) & shapely.intersects(loose, doorway) & \
-        ~_along(loose, doorways)
+    stroke = (shapely.length(loose) <= MAX_TICK) & shapely.intersects(loose, doorway)
+    stroke[stroke] = ~_along(loose[stroke], doorways)
     return loose[~stroke], linework[count:][keep[count:]], doorways
 
 

@@ -127,8 +127,8 @@ def _add_note(msp, plan, roadmap, height: float) -> None:
     robot = roadmap.robot
     lines = [f"clearway lanes for {plan.source} ({TOOL_VERSION}), drawing units {plan.units}",
              f"robot radius {robot.radius:g} m, margin {robot.margin:g} m",
-             f"clr = lane centre to nearest obstacle; gap = clear width of an opening; "
-             f"side = room beside the robot; leak = gap to outside",
+             "clr = lane centre to nearest obstacle; gap = clear width of an opening; "
+             "side = room beside the robot; leak = gap to outside",
              SAFETY_CAUTION]
     msp.add_mtext("\\P".join(lines), dxfattribs={
         "layer": "CLEARWAY-NOTE", "char_height": height, "insert": (xmin, ymin - 2 * height),

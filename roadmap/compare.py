@@ -9,7 +9,6 @@ from __future__ import annotations
 
 import json
 import math
-import re
 from dataclasses import asdict, dataclass, field
 
 import networkx as nx
