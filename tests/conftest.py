@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import json
+import os
 from pathlib import Path
 
 import ezdxf
@@ -12,6 +14,17 @@ SAMPLES = Path(__file__).resolve().parent.parent / "sample_drawings"
 #: --doctest-modules (pyproject.toml) would import every conftest.py a second time as a plain
 #: module named `conftest`, and several share that name; pytest loads them as conftests anyway.
 collect_ignore_glob = ["*conftest.py"]
+
+#: Real floor plans drawn by others (tests/data/real/SOURCES.md) cannot be committed; they are
+#: read from the folder named by CLEARWAY_REAL_DRAWINGS, else ``../shared/real_drawings``.
+REAL_DRAWINGS = Path(os.environ["CLEARWAY_REAL_DRAWINGS"]) if os.environ.get("CLEARWAY_REAL_DRAWINGS") \
+    else Path(__file__).resolve().parents[2] / "shared" / "real_drawings"
+REAL_PROBES = json.loads((Path(__file__).resolve().parent / "data" / "real" / "probes.json")
+                         .read_text(encoding="utf-8"))
+#: The real drawings at hand; with none, their tests are not collected (nothing to skip).
+REAL_AT_HAND = sorted(name for name in REAL_PROBES if (REAL_DRAWINGS / name).is_file())
+if not REAL_AT_HAND:
+    collect_ignore_glob.append("converter/test_real_drawings.py")
 
 
 def new_drawing(units=6):

@@ -1,6 +1,6 @@
 """A headless Chromium (Debian's package, driven by Playwright) for the viewer's tests.
 
-`.ci/run` installs the browser; where it is missing these tests are skipped with the reason.
+`.ci/run` installs the browser; where it is missing these tests fail and say how to install it.
 Playwright is used with ``executable_path`` only: it never downloads a browser of its own.
 """
 
@@ -30,10 +30,9 @@ def launch(playwright, user_data_dir, *, width=1400, height=900):
 @pytest.fixture(scope="session")
 def browser_context():
     if not os.access(CHROMIUM, os.X_OK):
-        pytest.skip(f"no Chromium at {CHROMIUM}: install Debian's `chromium` package "
-                    "(.ci/run does) or set CLEARWAY_CHROMIUM")
-    sync_api = pytest.importorskip("playwright.sync_api",
-                                   reason="Playwright for Python is in the [test] extra")
+        pytest.fail(f"no Chromium at {CHROMIUM}: install Debian's `chromium` package "
+                    "(.ci/run does) or set CLEARWAY_CHROMIUM", pytrace=False)
+    from playwright import sync_api   # in the [test] extra
     profile = tempfile.mkdtemp(prefix="clearway-chromium-")
     try:
         with sync_api.sync_playwright() as playwright:

@@ -1,17 +1,14 @@
 """Real floor plans drawn by others, built with default options (tests/data/real/SOURCES.md).
 
 The drawings themselves are not in this repository (fetched files may not be committed; see
-SOURCES.md): the tests look for them in the folder named by CLEARWAY_REAL_DRAWINGS, else in
-``../shared/real_drawings`` beside the repository, and skip the drawings they cannot find.
+SOURCES.md): the tests run on those found in the folder named by CLEARWAY_REAL_DRAWINGS, else in
+``../shared/real_drawings`` beside the repository; with none at hand this module is not
+collected (tests/conftest.py), so nothing is skipped.
 Every probe point in probes.json was chosen by hand on the drawing, with the reason beside it
 (room-name text, jamb ticks, dimension strings); coordinates are in drawing units.
 """
 
 from __future__ import annotations
-
-import json
-import os
-from pathlib import Path
 
 import networkx as nx
 import pytest
@@ -19,31 +16,21 @@ import shapely
 
 from clearway.converter import read_floorplan
 from clearway.roadmap import Robot, build_roadmap
+from tests.conftest import REAL_AT_HAND, REAL_DRAWINGS, REAL_PROBES
 
-HERE = Path(__file__).resolve().parents[1] / "data" / "real"
-PROBES = json.loads((HERE / "probes.json").read_text(encoding="utf-8"))
-FOLDERS = [Path(os.environ["CLEARWAY_REAL_DRAWINGS"])] if os.environ.get("CLEARWAY_REAL_DRAWINGS") \
-    else [Path(__file__).resolve().parents[3] / "shared" / "real_drawings"]
 #: The robot of the probes: 0.35 m radius and 0.10 m margin need 0.90 m clear openings.
 ROBOT = Robot(radius=0.35, margin=0.10)
 
 
-def _find(name):
-    for folder in FOLDERS:
-        if (folder / name).is_file():
-            return folder / name
-    pytest.skip(f"{name} is not here (set CLEARWAY_REAL_DRAWINGS to the folder holding it)")
-
-
-@pytest.fixture(scope="module", params=sorted(PROBES))
+@pytest.fixture(scope="module", params=REAL_AT_HAND)
 def built(request):
     name = request.param
-    plan = read_floorplan(_find(name))
+    plan = read_floorplan(REAL_DRAWINGS / name)
     # as `clearway build` does: the openings split the floor into rooms, texts name them
     roadmap = build_roadmap(plan.obstacles, plan.free_space,
                             [(s.label, s.x, s.y) for s in plan.stations], robot=ROBOT,
                             openings=plan.openings, texts=plan.texts)
-    return name, PROBES[name], plan, roadmap
+    return name, REAL_PROBES[name], plan, roadmap
 
 
 def _main_lanes(roadmap):

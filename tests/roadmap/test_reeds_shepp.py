@@ -1,7 +1,7 @@
 """Reeds-Shepp path lengths against an independent implementation and a numerical drive.
 
-The reference is the registry's `rsplan` (MIT, pure Python; used only here): its own
-transcription of the formulas of Reeds and Shepp (1990) into Python, with its own segment
+The reference is the registry's `rsplan` (MIT, pure Python; used only here): an
+independent coding of the formulas of Reeds and Shepp (1990), with its own segment
 bookkeeping. Its choice among near-equal paths prefers fewer segments, so the shortest of
 all its candidates is compared, not the path it would pick. Every path of ours is also
 driven by scipy's ODE solver (not by the code under test) and must land on the goal.
