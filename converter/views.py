@@ -29,6 +29,9 @@ class View:
 
 #: Largest raster (cells) the grouping uses; a drawing with far-flung linework gets coarser cells.
 MAX_CELLS = 4_000_000
+#: Marked cells up to which the groups are labelled through a graph (no scipy.ndimage import:
+#: about 0.2 us a cell against a 0.05 s import).
+LABEL_BY_GRAPH = 200_000
 
 
 def group_boxes(boxes, gap):
@@ -43,8 +46,6 @@ def group_boxes(boxes, gap):
     >>> group_boxes([(0, 0, 10, 5), (11, 0, 20, 5), (40, 0, 50, 5)], 2.0).tolist()
     [0, 0, 1]
     """
-    from scipy import ndimage
-
     boxes = np.asarray(boxes, dtype=float).reshape(-1, 4)
     if not len(boxes):
         return np.empty(0, dtype=np.int64)
@@ -67,8 +68,56 @@ def group_boxes(boxes, gap):
     np.add.at(marks, (first[:, 0], last[:, 1] + 1), -1)
     np.add.at(marks, (last[:, 0] + 1, last[:, 1] + 1), 1)
     covered = np.cumsum(np.cumsum(marks, axis=0), axis=1)[:-1, :-1] > 0
-    labels, _ = ndimage.label(covered, structure=np.ones((3, 3), dtype=int))
-    return labels[first[:, 0], first[:, 1]] - 1
+    if covered.sum() > LABEL_BY_GRAPH:
+        from scipy import ndimage
+
+        labels, _ = ndimage.label(covered, structure=np.ones((3, 3), dtype=int))
+        return labels[first[:, 0], first[:, 1]] - 1
+    return _label_cells(covered)[first[:, 0], first[:, 1]]
+
+
+def _label_cells(covered):
+    """Label the 8-connected groups of True cells 0, 1, ... in the order a row-major scan meets
+    them (as scipy.ndimage.label numbers them, less one); -1 elsewhere.
+
+    Through scipy.sparse.csgraph, which the roadmap stage loads anyway, so reading a drawing
+    does not import scipy.ndimage (about 0.05 s of every build's start-up); ndimage.label
+    is quicker on rasters of more than LABEL_BY_GRAPH marked cells, and is used there.
+
+    Examples
+    --------
+    >>> _label_cells(np.array([[1, 0, 0, 1], [0, 1, 0, 1], [0, 0, 0, 0], [1, 1, 0, 0]], bool))
+    array([[ 0, -1, -1,  1],
+           [-1,  0, -1,  1],
+           [-1, -1, -1, -1],
+           [ 2,  2, -1, -1]])
+    """
+    from scipy.sparse import coo_array
+    from scipy.sparse.csgraph import connected_components
+
+    rows, cols = covered.shape
+    index = np.full(covered.shape, -1, dtype=np.int64)
+    flat = np.flatnonzero(covered)  # row-major order
+    index.flat[flat] = np.arange(len(flat))
+    heads, tails = [], []
+    # each neighbour pair once: right, down, down-right, down-left
+    for dr, dc in ((0, 1), (1, 0), (1, 1), (1, -1)):
+        start, stop = max(0, -dc), cols - max(0, dc)
+        a = index[: rows - dr, start:stop]
+        b = index[dr:, start + dc: stop + dc]
+        both = (a >= 0) & (b >= 0)
+        heads.append(a[both])
+        tails.append(b[both])
+    heads, tails = np.concatenate(heads), np.concatenate(tails)
+    link = coo_array((np.ones(len(heads), dtype=np.int8), (heads, tails)), shape=(len(flat),) * 2)
+    _, component = connected_components(link, directed=False)
+    # renumber by first cell in scan order (cells are already in that order)
+    first_seen = np.full(component.max() + 1 if len(flat) else 0, len(flat), dtype=np.int64)
+    np.minimum.at(first_seen, component, np.arange(len(flat)))
+    rank = np.empty_like(first_seen)
+    rank[np.argsort(first_seen, kind="stable")] = np.arange(len(first_seen))
+    index.flat[flat] = rank[component]
+    return index
 
 
 def merge_nested(boxes, labels):

@@ -21,7 +21,6 @@ from typing import Mapping
 import networkx as nx
 import numpy as np
 import shapely
-from scipy.optimize import linear_sum_assignment
 from scipy.sparse import coo_array
 from scipy.sparse.csgraph import connected_components
 from scipy.spatial import cKDTree
@@ -84,6 +83,17 @@ def _xy(graph: nx.MultiGraph, nodes: list[str]) -> np.ndarray:
     return np.array([(graph.nodes[n]["x"], graph.nodes[n]["y"]) for n in nodes], dtype=float)
 
 
+def _assignment(cost):
+    """Rows and columns of the least-cost one-to-one assignment ([Kuhn55]).
+
+    scipy.optimize is imported here: only a rebuild against a previous graph needs it, and
+    importing it would cost every build about a tenth of a second.
+    """
+    from scipy.optimize import linear_sum_assignment
+
+    return linear_sum_assignment(cost)
+
+
 def _assign(old, new, old_nodes, new_nodes, tolerance) -> dict[str, str]:
     old_xy, new_xy = _xy(old, old_nodes), _xy(new, new_nodes)
     # query a hair wider, then decide with one distance formula for every pair
@@ -108,7 +118,7 @@ def _assign(old, new, old_nodes, new_nodes, tolerance) -> dict[str, str]:
         forbidden = (tolerance + 1.0) * (len(sub_rows) + len(sub_cols) + 1)
         cost = np.full((len(sub_rows), len(sub_cols)), forbidden)
         cost[row_index, col_index] = distance[chosen]
-        picked_rows, picked_cols = linear_sum_assignment(cost)
+        picked_rows, picked_cols = _assignment(cost)
         for r, c in zip(picked_rows, picked_cols):
             if cost[r, c] < forbidden:
                 pairs[new_nodes[sub_rows[r]]] = old_nodes[sub_cols[c]]
@@ -314,7 +324,7 @@ def match_edge_pairs(old: nx.MultiGraph, new: nx.MultiGraph,
         cost = shapely.hausdorff_distance(np.array(new_lines, dtype=object)[:, None],
                                           np.array(old_lines, dtype=object)[None, :])
         cost = np.nan_to_num(np.asarray(cost, dtype=float), nan=1e9)
-        for r, c in zip(*linear_sum_assignment(cost)):
+        for r, c in zip(*_assignment(cost)):
             pairs[new_edges[r][2]] = old_keys[c]
     return pairs
 
