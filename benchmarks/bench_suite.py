@@ -37,6 +37,7 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
+from benchmarks.bytecode import compile_sources  # noqa: E402
 from benchmarks.synthetic import STYLES  # noqa: E402
 
 PARSE = "import sys, ezdxf; ezdxf.readfile(sys.argv[1])"
@@ -140,6 +141,7 @@ def main(argv=None):
     styles = args.styles.split(",")
     folder = Path(args.keep) if args.keep else Path(tempfile.mkdtemp(prefix="clearway-suite-"))
     folder.mkdir(parents=True, exist_ok=True)
+    compile_sources()
     print(f"machine: {os.cpu_count()} cores, Python {sys.version.split()[0]}; medians of "
           f"{args.repeats} on a shared, noisy machine")
     head = (f"{'style':<13}{'bays':>6}{'MB':>5}{'parse':>6}" + "".join(f"{c:>6}" for c in COLUMNS)
