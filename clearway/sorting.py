@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import re
 
+_DIGIT_RUNS = re.compile(r"(\d+)")
+
 
 def natural_key(text: str) -> tuple:
     """Sort key that orders ``n2`` before ``n10`` (digit runs compare as numbers).
@@ -14,4 +16,4 @@ def natural_key(text: str) -> tuple:
     ['e3', 'n2', 'n10']
     """
     return tuple((0, int(part), "") if part.isdigit() else (1, 0, part)
-                 for part in re.split(r"(\d+)", str(text)) if part)
+                 for part in _DIGIT_RUNS.split(str(text)) if part)

@@ -62,7 +62,37 @@ def _geometry(geometry, project) -> dict:
     geometry = shapely.transform(geometry, project)
     if isinstance(geometry, (Polygon, MultiPolygon)):
         geometry = shapely.orient_polygons(geometry, exterior_cw=False)
+        if not geometry.is_empty:
+            return _polygon_mapping(geometry)
     return mapping(geometry)
+
+
+def _polygon_mapping(geometry) -> dict:
+    """shapely's ``mapping`` of a non-empty (Multi)Polygon, from whole coordinate arrays
+    (mapping walks every vertex as a Python tuple)."""
+    polygons = shapely.get_parts(geometry)
+    rings, polygon_of_ring = shapely.get_rings(polygons, return_index=True)
+    coords, ring_of_coord = shapely.get_coordinates(rings, return_index=True)
+    ends = np.cumsum(np.bincount(ring_of_coord, minlength=len(rings))).tolist()
+    points = coords.tolist()
+    parts = [[] for _ in polygons]
+    for polygon, begin, end in zip(polygon_of_ring.tolist(), [0, *ends[:-1]], ends):
+        parts[polygon].append(points[begin:end])
+    if isinstance(geometry, Polygon):
+        return {"type": "Polygon", "coordinates": parts[0]}
+    return {"type": "MultiPolygon", "coordinates": parts}
+
+
+def _point(x: float, y: float, project) -> dict:
+    """``_geometry`` of a point, without making one."""
+    return {"type": "Point",
+            "coordinates": project(np.array([[x, y]], dtype=float))[0].tolist()}
+
+
+def _line(coords: np.ndarray, project) -> dict:
+    """``_geometry`` of a LineString through (N, 2) `coords`, without making one."""
+    return {"type": "LineString",
+            "coordinates": project(np.ascontiguousarray(coords, dtype=float)).tolist()}
 
 
 def _feature(geometry: dict, properties: dict) -> dict:
@@ -108,14 +138,14 @@ def _graph_features(roadmap, project) -> list[dict]:
     graph = roadmap.graph
     features = []
     for edge_id, source, target, attrs, coords in oriented_edges(graph):
-        features.append(_feature(_geometry(shapely.LineString(coords), project), {
+        features.append(_feature(_line(coords, project), {
             "element": "edge", "id": json_text(edge_id), "source": json_text(source),
             "target": json_text(target), "length": finite_or_none(attrs["length"]),
             "weight": finite_or_none(attrs["weight"]),
             "clearance_min": finite_or_none(attrs["clearance_min"])}))
     for node_id in sorted(graph.nodes, key=natural_key):
         attrs = graph.nodes[node_id]
-        features.append(_feature(_geometry(shapely.Point(attrs["x"], attrs["y"]), project), {
+        features.append(_feature(_point(attrs["x"], attrs["y"], project), {
             "element": "node", "id": json_text(node_id), "kind": json_text(attrs["kind"]),
             "label": json_text(attrs.get("label", "")), "x": float(attrs["x"]),
             "y": float(attrs["y"]), "clearance": finite_or_none(attrs["clearance"])}))
@@ -127,7 +157,7 @@ def _station_features(plan, roadmap, project) -> list[dict]:
     features = []
     for station in plan.stations:
         result = results.get(station.label)
-        features.append(_feature(_geometry(shapely.Point(station.x, station.y), project), {
+        features.append(_feature(_point(station.x, station.y, project), {
             "element": "station", "label": json_text(station.label),
             "x": float(station.x), "y": float(station.y),
             "kind": json_text(station.kind), "heading": station.heading,
@@ -162,7 +192,7 @@ def _room_features(roadmap, project) -> tuple[list[dict], list[dict]]:
     rooms = [_feature(_geometry(room.polygon, project),
                       {"element": "room", **room_properties(room, roadmap.passages)})
              for room in roadmap.rooms]
-    openings = [_feature(_geometry(shapely.Point(p.x, p.y), project),
+    openings = [_feature(_point(p.x, p.y, project),
                          {"element": "opening", **opening_properties(p)})
                 for p in roadmap.passages]
     return rooms, openings

@@ -45,17 +45,31 @@ def oriented_edges(graph) -> list[tuple[str, str, str, dict, np.ndarray]]:
     The source is the end node that sorts first (``n2`` before ``n10``); the coordinates,
     shape (N, 2) in metres, run from source to target. Edges come in natural id order.
     """
-    edges = []
+    rows = []
     for u, v, key, data in graph.edges(keys=True, data=True):
         source, target = sorted((str(u), str(v)), key=natural_key)
-        coords = shapely.get_coordinates(data["geometry"])
-        node = graph.nodes[source]
-        start = np.array([node["x"], node["y"]], dtype=float)
-        if source != target and len(coords) and (
-                np.hypot(*(coords[0] - start)) > np.hypot(*(coords[-1] - start))):
-            coords = coords[::-1]
-        edges.append((str(key), source, target, data, coords))
-    edges.sort(key=lambda edge: natural_key(edge[0]))
+        rows.append((natural_key(str(key)), str(key), source, target, data))
+    rows.sort(key=lambda row: row[0])
+    # every edge's coordinates in one call; an edge is flipped when its last point lies
+    # nearer its source node than its first point does
+    coords, owner = shapely.get_coordinates([row[4]["geometry"] for row in rows],
+                                            return_index=True)
+    counts = np.bincount(owner, minlength=len(rows))
+    stops = np.cumsum(counts)
+    starts = stops - counts
+    nodes = graph.nodes
+    start = np.array([[nodes[row[2]]["x"], nodes[row[2]]["y"]] for row in rows],
+                     dtype=float).reshape(-1, 2)
+    flip = np.zeros(len(rows), dtype=bool)
+    some = np.flatnonzero(counts > 0)
+    first, last = coords[starts[some]] - start[some], coords[stops[some] - 1] - start[some]
+    flip[some] = np.hypot(first[:, 0], first[:, 1]) > np.hypot(last[:, 0], last[:, 1])
+    edges = []
+    for (_, key, source, target, data), begin, end, turn in zip(
+            rows, starts.tolist(), stops.tolist(), flip.tolist()):
+        line = coords[begin:end]
+        edges.append((key, source, target, data,
+                      line[::-1] if turn and source != target else line))
     return edges
 
 
