@@ -153,3 +153,21 @@ def test_inscribed_radius_of_thin_u_and_wide_rooms():
     assert radius[0] == pytest.approx(0.4 * 2 ** 0.5 / (1 + 2 ** 0.5), abs=0.006)
     assert radius[1] > 0.303 + 0.012 and radius[1] <= 6.0 + 1e-9
     assert radius[2] > 0.303 + 0.012 and radius[2] <= 5 * 2 ** 0.5 / (1 + 2 ** 0.5) + 1e-9
+
+
+def test_inscribed_radius_settles_narrow_faces_by_erosion_only_when_they_are_narrower():
+    from clearway.converter.polygons import inscribed_radius
+    band = shapely.box(0, 0, 10, 8).difference(shapely.box(0.3, 0.3, 9.7, 7.7))
+    column = shapely.Point(5, 5).buffer(0.2, quad_segs=10)
+    just_wider = shapely.affinity.rotate(shapely.box(0, 0, 12, 0.56), 30)
+    faces = np.array([band, column, just_wider, shapely.box(0, 0, 30, 12)])
+    radius = inscribed_radius(faces, 0.006, above=0.303, below=0.27)
+    plain = inscribed_radius(faces, 0.006, above=0.303)
+    # analytic: the 0.3 m band's widest circle sits in a corner, 0.3 sqrt(2) / (1 + sqrt(2))
+    # = 0.176 m (as in the U above); the column's is 0.2 m: both under 0.27 m, so erosion
+    # settles them with the bound itself
+    assert radius[:2].tolist() == [0.27, 0.27]
+    assert plain[0] == pytest.approx(0.3 * 2 ** 0.5 / (1 + 2 ** 0.5), abs=0.006) and plain[1] == pytest.approx(0.2, abs=0.006)
+    # analytic: a 0.56 m strip has 0.28 m > 0.27 m, so it gets the fine search's radius
+    assert radius[2] == pytest.approx(0.28, abs=0.006) and radius[2] == plain[2]
+    assert radius[3] == plain[3]
