@@ -240,26 +240,34 @@ def find_gaps(solid, loose, *, max_thickness, max_width=MAX_WINDOW_WIDTH, hints=
     normals = np.c_[-directions[:, 1], directions[:, 0]]
     offsets = np.array([0.0, -0.3, 0.3])
     start_eps = 0.002
+    # every ray at once: one tree query and one intersection over all (ray, face) pairs
+    # (the hits of each ray in the order a query of that ray alone returns them)
+    owner, origins, leads = [], [], []
+    for index in range(len(middles)):
+        middle, direction, length = middles[index], directions[index], lengths[index]
+        lead = start_eps if length > 0 else start_eps + loose_cap
+        for offset in (offsets if length > 0.04 else offsets[:1]):
+            owner.append(index)
+            origins.append(middle + normals[index] * offset * length + direction * lead)
+            leads.append(lead)
+    owner, origins = np.array(owner), np.array(origins)
+    rays = shapely.linestrings(np.stack([origins, origins + directions[owner] * max_width], axis=1))
+    ray_index, target_index = tree.query(rays, predicate="intersects")
+    points, point_hit = shapely.get_coordinates(
+        shapely.intersection(rays[ray_index], tree_target[target_index]), return_index=True)
+    point_ray = ray_index[point_hit]
+    first_point = np.searchsorted(point_ray, np.arange(len(rays) + 1))
+    first_ray = np.searchsorted(owner, np.arange(len(middles) + 1))
     gaps = []
     for index in range(len(middles)):
         middle, direction, length = middles[index], directions[index], lengths[index]
-        rays = []
-        lead = start_eps if length > 0 else start_eps + loose_cap
-        for offset in (offsets if length > 0.04 else offsets[:1]):
-            origin = middle + normals[index] * offset * length + direction * lead
-            rays.append(shapely.LineString([origin, origin + direction * max_width]))
         distances = []
-        for ray in rays:
-            candidates = tree.query(ray, predicate="intersects")
-            if not len(candidates):
+        for ray in range(first_ray[index], first_ray[index + 1]):
+            hits = points[first_point[ray]:first_point[ray + 1]]
+            if not len(hits):
                 break
-            hits = shapely.intersection(ray, tree_target[candidates])
-            points = shapely.get_coordinates(hits)
-            if not len(points):
-                break
-            origin = np.asarray(ray.coords[0])
-            distances.append(float(np.min((points - origin) @ direction)) + lead)
-        if len(distances) != len(rays):
+            distances.append(float(np.min((hits - origins[ray]) @ direction)) + leads[ray])
+        if len(distances) != first_ray[index + 1] - first_ray[index]:
             continue
         distance = distances[0]
         if distance < MIN_OPENING_WIDTH or max(distances) - min(distances) > 0.02 + 0.02 * distance:
