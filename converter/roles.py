@@ -38,7 +38,8 @@ DEFAULT_ROLE_PATTERNS: Mapping[str, tuple[str, ...]] = MappingProxyType({
     "keepout": ("*KEEPOUT*", "*KEEP-OUT*", "*KEEP_OUT*", "*NOGO*", "*NO-GO*", "*EXCLUSION*",
                 "*SPERRFL*", "*INTERDIT*"),
     "boundary": ("A-FLOR-OTLN*", "*-OTLN", "*BOUNDARY*"),
-    "station": ("*STATION*", "*-STN*", "STN-*"),
+    "station": ("*STATION*", "*-STN*", "STN-*", "*CHARGER*", "*CHARGING*", "*CHGR*",
+                "*DOCKING*"),
     "shared": ("*SHARED*", "*WALKWAY*", "*PEDESTRIAN*"),
 })
 

@@ -57,3 +57,25 @@ def test_sample_stations(samples):
                             [f"PICK-{i:02d}" for i in range(1, 5)])
     rev_b = read_floorplan(samples / "distribution_centre_rev_b.dxf")
     assert rev_b.stations == plan.stations
+
+
+@pytest.mark.parametrize("layer", ["CHARGERS", "E-EQPM-CHGR", "AMR Charging Points",
+                                   "DOCKING"])
+def test_charger_and_docking_layers_are_stations_by_default(room_drawing, layer):
+    # common practice: integrators and electrical drafters put the robots' chargers on a
+    # layer named for them rather than for "stations"
+    doc, msp, write = room_drawing
+    doc.layers.add(layer)
+    block = doc.blocks.new("CHARGER-AMR")
+    block.add_lwpolyline([(-0.3, -0.2), (0.3, -0.2), (0.3, 0.2), (-0.3, 0.2)], close=True)
+    msp.add_blockref("CHARGER-AMR", (4, 3), dxfattribs={"layer": layer})
+    plan = read_floorplan(write())
+    assert [(s.kind, s.x, s.y) for s in plan.stations] == [("charger", 4, 3)]
+
+
+def test_a_discharge_layer_is_not_a_station_layer(room_drawing):
+    # a plumbing discharge stack holds the letters of "charge" but no charger
+    doc, msp, write = room_drawing
+    doc.layers.add("P-DISCHARGE")
+    msp.add_circle((4, 3), 0.1, dxfattribs={"layer": "P-DISCHARGE"})
+    assert read_floorplan(write()).stations == ()
