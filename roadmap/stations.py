@@ -15,7 +15,7 @@ from dataclasses import dataclass
 import numpy as np
 import shapely
 
-from clearway.roadmap.clearance import ClearanceField
+from clearway.roadmap.clearance import ClearanceField, sample_lines
 
 #: A station this close to a lane splits the lane itself, metres.
 ON_LANE = 1e-3
@@ -102,10 +102,10 @@ def _visible(here, points, field, clearance):
     if len(far):
         links = shapely.linestrings(
             np.stack([np.broadcast_to(here, points[far].shape), points[far]], 1))
-        _, owner, values = field.along(links, LINK_STEP)
-        low = np.full(len(far), np.inf)
-        np.minimum.at(low, owner, values)
-        result[far] = low >= np.minimum(clearance, field.at(points[far])) - 1e-9
+        xy, owner = sample_lines(links, LINK_STEP)
+        need = np.minimum(clearance, field.at(points[far])) - 1e-9
+        short = ~field.at_least(xy, need[owner])
+        result[far] = np.bincount(owner[short], minlength=len(far)) == 0
     return result
 
 

@@ -26,6 +26,24 @@ def test_clearance_at_random_points_equals_shapely_distance_to_the_boundary():
     assert np.allclose(field.at(xy), expected, rtol=0, atol=1e-9)
 
 
+@pytest.mark.parametrize("spacing", [0.05, 0.25, 3.0])
+def test_at_least_answers_as_the_exact_distance_does(spacing):
+    # independent reference: GEOS's exact point-to-linework distance; the thresholds are
+    # drawn round each point's own distance (within 1 cm, and exactly at it), where a bound
+    # that claimed too much would show
+    free = _room_with_rack()
+    field = clearance_field(boundary_segments(free)[0], spacing=spacing)
+    rng = np.random.default_rng(3)
+    xy = rng.uniform((-2, -2), (22, 14), size=(4000, 2))
+    exact = shapely.distance(shapely.points(xy), free.boundary)
+    for need in (exact + rng.uniform(-0.01, 0.01, len(xy)), exact - 1e-7, exact + 1e-7,
+                 rng.uniform(0, 6, len(xy))):
+        clear = field.at_least(xy, need)
+        decided = np.abs(exact - need) > 1e-9
+        assert (clear[decided] == (exact >= need)[decided]).all()
+        assert (clear == (field.at(xy) >= need)).all()
+
+
 def test_spacing_does_not_change_the_answer():
     # the k-d tree of boundary samples only picks candidates; a sparse sampling must fall
     # back to the exact query where the candidates are in doubt
