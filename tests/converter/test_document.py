@@ -1,0 +1,119 @@
+"""Which files ezdxf's ordinary reader may read (`sound_text`), and that it then reads them as
+ezdxf's recovery reader does: the reference is ezdxf's own recovery path."""
+
+from __future__ import annotations
+
+import io
+
+import ezdxf
+import pytest
+from ezdxf import recover
+
+import clearway.converter.document as document
+from clearway.converter.document import sound_text
+from clearway.converter.read import read_drawing
+from tests.conftest import SAMPLES, new_drawing, walled_room
+
+
+def drawing_bytes(tmp_path, version="R2010"):
+    doc = ezdxf.new(version, units=6) if version != "R2010" else new_drawing()
+    msp = doc.modelspace()
+    if version == "R2010":
+        walled_room(msp, 0, 0, 10, 8)
+    msp.add_line((1, 1), (4, 1), dxfattribs={"layer": "A-WALL"})
+    msp.add_text("OFFICE", dxfattribs={"layer": "A-ANNO"}).set_placement((5, 4))
+    path = tmp_path / "plan.dxf"
+    doc.saveas(path)
+    return path.read_bytes()
+
+
+def contents(path):
+    """What clearway reads from `path`, as comparable plain values."""
+    content = read_drawing(path, chord_tolerance=0.001)
+    parts = {layer: (parts.coords.tobytes(), parts.offsets.tobytes(), parts.kinds.tobytes())
+             for layer, parts in content.parts.items()}
+    return (content.insunits, content.layer_states, {k: dict(v) for k, v in content.counts.items()},
+            parts, content.points, content.texts, content.attribute_texts, content.inserts,
+            content.dimensions, content.header, dict(content.skipped), content.paperspace,
+            content.warnings, content.repairs, content.drawing_date)
+
+
+def recovered_contents(path, monkeypatch):
+    with monkeypatch.context() as patch:
+        patch.setattr(document, "sound_text", lambda data: None)   # recovery for every file
+        return contents(path)
+
+
+@pytest.mark.parametrize("name", sorted(path.name for path in SAMPLES.glob("*.dxf")))
+def test_sample_drawings_take_the_ordinary_reader_and_read_as_recovered(name, monkeypatch):
+    path = SAMPLES / name
+    assert sound_text(path.read_bytes()) is not None
+    assert contents(path) == recovered_contents(path, monkeypatch)
+
+
+def test_crlf_line_ends_are_sound_and_read_alike(tmp_path, monkeypatch):
+    data = drawing_bytes(tmp_path).replace(b"\n", b"\r\n")
+    path = tmp_path / "crlf.dxf"
+    path.write_bytes(data)
+    assert sound_text(data) is not None
+    assert contents(path) == recovered_contents(path, monkeypatch)
+
+
+def _first(data, old, new):
+    assert old in data, old
+    return data.replace(old, new, 1)
+
+
+# source: ezdxf's recover.py and lldxf/repair.py, the repairs its recovery reader makes that
+# the ordinary reader does not (each edit below would be repaired, or read otherwise)
+EDITS = {
+    "non-ASCII text": lambda d: _first(d, b"\nOFFICE\n", "\nBÜRO\n".encode("cp1252")),
+    "unicode escape": lambda d: _first(d, b"\nOFFICE\n", b"\nB\\U+00DCRO\n"),
+    "lower-case entity": lambda d: _first(d, b"\nLINE\n", b"\nline\n"),
+    "lone carriage return": lambda d: _first(d, b"\nOFFICE\n", b"\nOFF\rICE\n"),
+    "LINE end before start": lambda d: _first(d, b" 10\n1.0\n 20\n1.0\n 30\n0.0\n 11\n4.0\n 21\n1.0\n 31\n0.0\n",
+                                              b" 11\n4.0\n 21\n1.0\n 31\n0.0\n 10\n1.0\n 20\n1.0\n 30\n0.0\n"),
+    "y without x": lambda d: _first(d, b"\nLINE\n", b"\nLINE\n 20\n3.0\n"),
+    "handle not hexadecimal": lambda d: _first(d, b"\nLINE\n  5\n", b"\nLINE\n  5\nZZ"),
+    "integer as a float": lambda d: _first(d, b"\n 62\n", b"\n 62\n1.0\n 62\n"),
+    "tags outside a section": lambda d: _first(d, b"ENDSEC\n  0\nSECTION\n",
+                                               b"ENDSEC\n999\nx\n  9\n$X\n  0\nSECTION\n"),
+    "two ENTITIES sections": lambda d: _first(d, b"  0\nEOF", b"  0\nSECTION\n  2\nENTITIES\n  0\nENDSEC\n  0\nEOF"),
+    "APP DATA not closed": lambda d: _first(d, b"\n102\n}\n", b"\n"),
+}
+
+
+@pytest.mark.parametrize("edit", sorted(EDITS))
+def test_files_recovery_would_repair_are_left_to_it(tmp_path, edit):
+    data = drawing_bytes(tmp_path)
+    assert sound_text(data) is not None
+    assert sound_text(EDITS[edit](data)) is None
+
+
+def test_dxf_r12_is_left_to_recovery(tmp_path):
+    # source: ezdxf's recover.py removes subclass markers and R2000 sections from R12 files
+    assert sound_text(drawing_bytes(tmp_path, "R12")) is None
+
+
+@pytest.mark.parametrize("edit", sorted(EDITS))
+def test_edited_files_read_as_recovery_reads_them(tmp_path, edit, monkeypatch):
+    path = tmp_path / "edited.dxf"
+    path.write_bytes(EDITS[edit](drawing_bytes(tmp_path)))
+    try:
+        expected = recovered_contents(path, monkeypatch)
+    except Exception as err:   # recovery refuses it: so must the reading path
+        with pytest.raises(type(err)):
+            contents(path)
+        return
+    assert contents(path) == expected
+
+
+def test_recover_and_ordinary_documents_agree_on_a_sound_file(tmp_path):
+    data = drawing_bytes(tmp_path)
+    ordinary = ezdxf.read(io.StringIO(sound_text(data)))
+    recovered, auditor = recover.read(io.BytesIO(data))
+    assert not auditor.fixes and not auditor.errors and not ordinary.audit().has_fixes
+    def entities(doc):
+        return [(e.dxftype(), e.dxf.handle, e.dxf.layer) for e in doc.modelspace()]
+    assert entities(ordinary) == entities(recovered)
+    assert [layer.dxf.name for layer in ordinary.layers] == [layer.dxf.name for layer in recovered.layers]
