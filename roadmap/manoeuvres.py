@@ -4,8 +4,11 @@ For each manoeuvre (a node or a lane bend, the lane arrived along, the lane left
 paths tried are, from poses on the two lanes 1, 2 and 3 R from the node (as far as they
 reach; the nearer poses first): straight on and one arc of radius R tangent to both lanes'
 lines (`fillet`), the shortest Dubins path, and for a car that may reverse the shortest
-Reeds-Shepp path (only where the forward ones fail). A manoeuvre is possible when one path
-keeps the margin beside the body.
+Reeds-Shepp path. A manoeuvre is possible when one path keeps the margin beside the body.
+At each distance the paths are tried one at a time, the likeliest to clear first (the arc
+where it fits, else the path backing up: most turns round are three-point turns), each
+only where the ones before failed; the order changes neither answer nor figure, since a
+refused manoeuvre has tried them all and each path is judged on its own.
 
 Each path is driven as poses at most MAX_STEP_ANGLE apart and checked as the convex hulls
 of consecutive footprints (body.py), exactly through shapely. That is costly, so all paths
@@ -112,12 +115,11 @@ def _same(a, b) -> bool:
         abs(a[1] - b[1]) <= 1e-8 + 1e-5 * abs(b[1])
 
 
-def paths_tried(robot: Robot, here, arrive, leave, step: int, backing: bool = False,
-                known: dict | None = None) -> list[DubinsPath] | None:
-    """The paths tried from the arriving lane to the leaving one from poses CAR_REACH[step]
-    turning radii from the node (`here`), in the order tried: forward ones, or with
-    `backing` the shortest Reeds-Shepp path where it is not one of those. None where the
-    lanes both end before the previous distance (nothing farther to try)."""
+def _end_poses(robot: Robot, here, arrive, leave, step: int, known: dict | None = None):
+    """The poses CAR_REACH[step] turning radii from the node (`here`) on the arriving and
+    the leaving lane, as ((x, y, heading), (x, y, heading)); () where one of them is the
+    node itself (nothing to try there); None where the lanes both end before the previous
+    distance (nothing farther to try)."""
     radius = robot.turn_radius
     if step > 0:
         before = CAR_REACH[step - 1] * radius
@@ -127,14 +129,55 @@ def paths_tried(robot: Robot, here, arrive, leave, step: int, backing: bool = Fa
     start_xy, back = point_along(arrive, CAR_REACH[step] * radius, known)
     end_xy, ahead = point_along(leave, CAR_REACH[step] * radius, known)
     if _same(start_xy, here) or _same(end_xy, here):
-        return []
+        return ()
     # the stretches of the lanes between those poses and the node are not driven
-    start, end = (*start_xy, back + math.pi), (*end_xy, ahead)
-    forward = shortest_path(start, end, radius)
+    return (*start_xy, back + math.pi), (*end_xy, ahead)
+
+
+def _tries(robot: Robot, start, end):
+    """Yield the paths tried from `start` to `end`, the likeliest to clear first, each made
+    only when asked for: the arc between the lanes where it fits, then the shortest
+    forward path and the shortest one backing up; where no arc fits (turning round, mostly)
+    the one backing up first. The same paths whatever the order (see `paths_tried`)."""
+    radius = robot.turn_radius
+    made = {}
+
+    def forward():
+        if "forward" not in made:
+            made["forward"] = shortest_path(start, end, radius)
+        return made["forward"]
+
+    def backing():
+        path = reeds_shepp.shortest_path(start, end, radius)
+        same = (path.word, path.lengths) == (forward().word, forward().lengths)
+        return None if same else path
+
+    arc = fillet(start, end, radius)
+    order = [lambda: arc, forward, backing] if arc is not None else [backing, forward]
+    for make in order:
+        if make is backing and not robot.reverse:
+            continue
+        path = make()
+        if path is not None and path.length > 0:
+            yield path
+
+
+def paths_tried(robot: Robot, here, arrive, leave, step: int, backing: bool = False,
+                known: dict | None = None) -> list[DubinsPath] | None:
+    """The paths tried from the arriving lane to the leaving one from poses CAR_REACH[step]
+    turning radii from the node (`here`): the forward ones (the arc and the shortest
+    Dubins path), or with `backing` the shortest Reeds-Shepp path where it is not one of
+    those. None where the lanes both end before the previous distance (nothing farther to
+    try)."""
+    poses = _end_poses(robot, here, arrive, leave, step, known)
+    if not poses:
+        return poses if poses is None else []
+    start, end = poses
+    forward = shortest_path(start, end, robot.turn_radius)
     if not backing:
-        return [path for path in (fillet(start, end, radius), forward)
+        return [path for path in (fillet(start, end, robot.turn_radius), forward)
                 if path and path.length > 0]
-    path = reeds_shepp.shortest_path(start, end, radius)
+    path = reeds_shepp.shortest_path(start, end, robot.turn_radius)
     if path.length > 0 and (path.word, path.lengths) != (forward.word, forward.lengths):
         return [path]
     return []
@@ -171,25 +214,36 @@ def car_gaps(robot: Robot, field, manoeuvres, floor=None) -> np.ndarray:
     best = np.full(len(manoeuvres), -np.inf)
     going = list(range(len(manoeuvres)))
     known = {}                        # the polylines' lengths, measured once
-    # the nearer poses first, for all manoeuvres at once; farther ones where they fail;
-    # at each distance, paths backing up only where the forward ones fail
-    for step, backing in ((step, backing) for step in range(len(CAR_REACH))
-                          for backing in (False, True)[:1 + robot.reverse]):
-        paths, owner, still = [], [], []
+    # the nearer poses first, for all manoeuvres at once; farther ones where they fail; at
+    # each distance a round per path, the likeliest first, each where the earlier failed.
+    # A manoeuvre is possible when any path clears, and a refused one has tried them all,
+    # so the order changes neither the answer nor the figure reported (each path's value
+    # is its own, whichever others are judged beside it)
+    for step in range(len(CAR_REACH)):
+        tries, still = {}, []
         for index in going:
             if best[index] >= robot.margin - 1e-9:
                 continue
             here, arrive, leave = manoeuvres[index]
-            found = paths_tried(robot, np.asarray(here, float), arrive, leave, step, backing,
-                                known)
-            if found is None:
+            poses = _end_poses(robot, np.asarray(here, float), arrive, leave, step, known)
+            if poses is None:
                 continue
             still.append(index)
-            paths += found
-            owner += [index] * len(found)
+            if poses:
+                tries[index] = _tries(robot, *poses)
         going = still
-        if paths:
-            _judge(robot, field, paths, np.asarray(owner), best, floor)
+        while tries:
+            paths, owner = [], []
+            for index in list(tries):
+                path = next(tries[index], None) if best[index] < robot.margin - 1e-9 \
+                    else None
+                if path is None:
+                    del tries[index]
+                    continue
+                paths.append(path)
+                owner.append(index)
+            if paths:
+                _judge(robot, field, paths, np.asarray(owner), best, floor)
     return best
 
 
