@@ -24,7 +24,9 @@ field about many points at once, and only the few left undecided are measured:
    from below; a disc about the rotation centre lies inside the footprint, so its
    clearance bounds the gap from above;
 3. the corners at the tightest FEW moves of each path (a corner's clearance bounds the gap
-   from above), then at every move still tight the corners and discs covering the
+   from above), then points OUTLINE_STEP apart on the footprint's outline at each pose of
+   the moves still tight, against the floor (one off it refuses the path, as in stage 1),
+   then at every move still tight the corners and discs covering the
    footprint along its long axis (radius at most COVER_SLACK more than its half-width):
    the hull of two footprints lies within half the largest corner displacement of one of
    them (a point of the hull is lambda p + (1 - lambda) q with q within that displacement
@@ -197,6 +199,21 @@ def cover(robot: Robot) -> tuple[np.ndarray, float]:
     return centres - np.asarray(robot.centre, float), math.hypot(long / (2 * count), half)
 
 
+#: Points on the outline of a rectangular footprint at most this far apart, metres.
+OUTLINE_STEP = 0.25
+
+
+def _outline(robot: Robot) -> np.ndarray:
+    """Points on the footprint's outline, corners included, at most OUTLINE_STEP apart:
+    (K, 2) in the body frame (a rectangle's)."""
+    corners = core(robot)[0]
+    points = []
+    for a, b in zip(corners, np.roll(corners, -1, axis=0)):
+        count = max(1, math.ceil(math.hypot(*(b - a)) / OUTLINE_STEP))
+        points.append(a + (b - a) * (np.arange(count) / count)[:, None])
+    return np.concatenate(points)
+
+
 def _per_path(values: np.ndarray, starts: np.ndarray) -> np.ndarray:
     """Smallest of `values` in each run beginning at `starts` (runs non-empty)."""
     return np.minimum.reduceat(values, starts) if len(values) else np.zeros(0)
@@ -325,8 +342,8 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
                                             stops - starts + 1))
     bound -= extra
     left = settle(bound)
-    # stage 1b: both points at each pose of the moves stage 1 did not clear
     tight = np.flatnonzero(left[path_of_move] & (bound < margin))
+    # stage 1b: both points at each pose of the moves stage 1 did not clear
     if not len(tight):
         return
     ends, where = np.unique(np.r_[move[tight], move[tight] + 1], return_inverse=True)
@@ -349,9 +366,21 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
                   field.at(place(corners, every[few, :2], every[few, 2]).reshape(-1, 2))
                   .reshape(len(few), len(corners)).min(axis=1) - extra)
     left = settle(bound)
+    tight = np.flatnonzero(left[path_of_move] & (bound < margin))
+    if floor is not None and robot.length is not None and len(tight):
+        # stage 3a: points on the footprint's outline at each pose of the moves not yet
+        # clear, against the floor (far cheaper than the clearance field): a point off it
+        # refuses the path, as in stage 1 (a forward U-turn swinging into the racking)
+        outline = _outline(robot)
+        at = np.unique(np.r_[move[tight], move[tight] + 1])
+        at = at[high[np.searchsorted(first, at, side="right") - 1] >= margin]
+        off = ~shapely.contains_xy(floor, place(outline, every[at, :2], every[at, 2])
+                                   .reshape(-1, 2)).reshape(len(at), -1).all(axis=1)
+        np.minimum.at(high, np.searchsorted(first, at[off], side="right") - 1, -extra)
+        left = settle(bound)
+        tight = np.flatnonzero(left[path_of_move] & (bound < margin))
     # stage 3: discs covering the footprint and its corners, at the poses of the moves
     # stage 1 did not clear, on the paths left
-    tight = np.flatnonzero(left[path_of_move] & (bound < margin))
     if not len(tight):
         return
     centres, radius = cover(robot)
