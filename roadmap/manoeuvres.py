@@ -17,8 +17,8 @@ field about many points at once, and only the few left undecided are measured:
 
 1. off the floor: a body point (centre or corner) outside the free floor at a pose means
    the path crosses the floor's edge (it starts on a lane, where the body fits): refused;
-2. two points of the body, at every GROUP-th pose, then at each pose of the moves not yet
-   clear: every body point lies within the swing radius of the rotation centre and within
+2. two points of the body at every GROUP-th pose, then the second at each pose of the
+   moves not yet clear: every body point lies within the swing radius of the rotation centre and within
    the half diagonal of the footprint's centre, so their clearance less that radius (and
    less half the way to the next measured pose, plus one step) bounds each move's gap
    from below; a disc about the rotation centre lies inside the footprint, so its
@@ -343,14 +343,15 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
     bound -= extra
     left = settle(bound)
     tight = np.flatnonzero(left[path_of_move] & (bound < margin))
-    # stage 1b: both points at each pose of the moves stage 1 did not clear
+    # stage 1b: the footprint's centre at each pose of the moves stage 1 did not clear
+    # (the rotation centre, farther from most of the body, hardly ever clears more)
     if not len(tight):
         return
     ends, where = np.unique(np.r_[move[tight], move[tight] + 1], return_inverse=True)
     a_end, b_end = np.split(where.ravel(), 2)
-    for (room, chord, radius) in zip(measure(ends), chords, (outer, circum)):
-        bound[tight] = np.maximum(bound[tight], np.minimum(room[a_end], room[b_end]) -
-                                  chord[tight] * (1 + 1e-3) / 2 - radius - extra)
+    room = field.at(points[1][ends])
+    bound[tight] = np.maximum(bound[tight], np.minimum(room[a_end], room[b_end]) -
+                              chords[1][tight] * (1 + 1e-3) / 2 - circum - extra)
     left = settle(bound)
     # stage 2: the footprint's corners at the tightest few moves of each path left: a path
     # that fails mostly fails there
