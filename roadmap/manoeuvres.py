@@ -136,7 +136,7 @@ def _end_poses(robot: Robot, here, arrive, leave, step: int, known: dict | None 
     return (*start_xy, back + math.pi), (*end_xy, ahead)
 
 
-def _tries(robot: Robot, start, end):
+def _tries(robot: Robot, start, end, known: dict | None = None):
     """Yield the paths tried from `start` to `end`, the likeliest to clear first, each made
     only when asked for: the arc between the lanes where it fits, then the shortest
     forward path and the shortest one backing up; where no arc fits (turning round, mostly)
@@ -150,7 +150,7 @@ def _tries(robot: Robot, start, end):
         return made["forward"]
 
     def backing():
-        path = reeds_shepp.shortest_path(start, end, radius)
+        path = reeds_shepp.shortest_path(start, end, radius, known=known)
         same = (path.word, path.lengths) == (forward().word, forward().lengths)
         return None if same else path
 
@@ -247,7 +247,7 @@ def car_gaps(robot: Robot, field, manoeuvres, floor=None) -> np.ndarray:
                 continue
             still.append(index)
             if poses:
-                tries[index] = _tries(robot, *poses)
+                tries[index] = _tries(robot, *poses, known)
         going = still
         while tries:
             paths, owner = [], []

@@ -182,10 +182,12 @@ def candidates(x: float, y: float, phi: float):
                     yield letters, lengths
 
 
-def shortest_path(start, goal, radius: float) -> DubinsPath:
+def shortest_path(start, goal, radius: float, *, known: dict | None = None) -> DubinsPath:
     """The shortest path of curvature <= 1/`radius` from `start` to `goal`, driving
     forwards and backwards (signed segment lengths; negative is backwards); the
-    parameters are those of `dubins.shortest_path`.
+    parameters are those of `dubins.shortest_path`. `known`, a dict the caller keeps,
+    holds the candidate words of each goal seen from the start, by its exact value (a
+    warehouse's turns round are mostly the same: its aisles run along the axes).
 
     Examples
     --------
@@ -193,21 +195,33 @@ def shortest_path(start, goal, radius: float) -> DubinsPath:
     >>> path.word, path.lengths
     ('LSL', (0.0, -2.0, 0.0))
     """
-    return all_paths(start, goal, radius, first=True)[0]
+    return all_paths(start, goal, radius, first=True, known=known)[0]
 
 
-def all_paths(start, goal, radius: float, *, first: bool = False) -> list[DubinsPath]:
+def _sorted_candidates(x: float, y: float, phi: float):
+    """Every candidate word for goal (x, y, phi), shortest first (ties in word order)."""
+    return sorted(((word, tuple(float(v) + 0.0 for v in lengths))     # no -0.0
+                   for word, lengths in candidates(x, y, phi)),
+                  key=lambda item: sum(abs(v) for v in item[1]))        # stable: word order
+
+
+def all_paths(start, goal, radius: float, *, first: bool = False,
+              known: dict | None = None) -> list[DubinsPath]:
     """Every Reeds-Shepp word that lands on `goal`, shortest first (ties in word order);
-    only the shortest with `first`."""
+    only the shortest with `first`; `known` as in `shortest_path`."""
     check_radius(radius)
     dx, dy = (goal[0] - start[0]) / radius, (goal[1] - start[1]) / radius
     c, s = math.cos(start[2]), math.sin(start[2])
     x, y = c * dx + s * dy, -s * dx + c * dy
     phi = goal[2] - start[2]
+    if known is None:
+        tried = _sorted_candidates(x, y, phi)
+    else:
+        key = ("reeds-shepp", *(float(v).hex() for v in (x, y, phi)))  # -0.0 is not 0.0
+        if key not in known:
+            known[key] = _sorted_candidates(x, y, phi)
+        tried = known[key]
     found = {}
-    tried = sorted(((word, tuple(float(v) + 0.0 for v in lengths))     # no -0.0
-                    for word, lengths in candidates(x, y, phi)),
-                   key=lambda item: sum(abs(v) for v in item[1]))        # stable: word order
     for word, lengths in tried:
         if lands(start, goal, word, lengths, radius):
             found.setdefault((word, lengths), None)

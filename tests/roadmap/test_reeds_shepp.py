@@ -91,3 +91,18 @@ def test_every_candidate_lands_and_has_at_most_two_cusps():
             assert np.hypot(*(end[:2] - goal[:2])) < 1e-6
         poses = shortest_path(start, goal, radius).poses()
         assert np.allclose(poses[-1, :2], goal[:2], atol=1e-9)
+
+
+def test_remembered_candidates_give_the_same_paths():
+    # analytic: the candidate words depend on the goal seen from the start alone, so a
+    # shared memo must give the very path computed afresh, -0.0 apart from 0.0 (atan2
+    # tells them apart); turns round on the axes repeat exactly
+    known = {}
+    cases = [(start, goal, radius) for start, goal, radius in random_poses(30, seed=5)]
+    for heading in (0.0, math.pi / 2, math.pi, -math.pi / 2, 0.3):
+        for x in (0.0, -0.0, 4.0):
+            cases.append(((x, 2.0, heading + math.pi), (x, 2.0, heading), 1.5))
+    for start, goal, radius in cases + cases:
+        assert shortest_path(start, goal, radius, known=known) == \
+            shortest_path(start, goal, radius)
+    assert 0 < len(known) < len(cases)
