@@ -145,6 +145,68 @@ class DubinsPath:
         return np.concatenate(rows)
 
 
+def poses_of(paths, *, step: float = ARC_STEP) -> tuple[np.ndarray, np.ndarray]:
+    """The poses of many paths at once: ``path.poses(step=step)`` of each, the same
+    numbers, one after another in one (N, 3) array; and how many each path has, (P,).
+
+    Each segment's start is worked out path by path as `DubinsPath.poses` does (the same
+    operations, so the same floats); the poses within the segments, most of the work,
+    segment by segment for all paths together.
+    """
+    starts, counts, parts = [], [], []   # per segment: start row, its pieces; per path
+    rows = 0
+    table = []                            # per segment: x, y, heading, cx, cy, cos, length,
+    for path in paths:                    # side (0 straight), radius, pieces, first row
+        x, y, heading = path.start
+        radius = path.radius
+        first = rows
+        starts.append((x, y, heading))
+        rows += 1
+        for letter, length in zip(path.word, path.lengths):
+            if length == 0:
+                continue
+            if letter == "S":
+                cos, sin = math.cos(heading), math.sin(heading)
+                table.append((x, y, heading, 0.0, 0.0, cos, sin, length, 0.0, radius, 1, rows))
+                end = length * 1 / 1 * radius
+                x, y = x + end * cos, y + end * sin
+                rows += 1
+                continue
+            pieces = max(1, math.ceil(abs(length) / step))
+            side = 1.0 if letter == "L" else -1.0
+            cx = x - side * radius * math.sin(heading)
+            cy = y + side * radius * math.cos(heading)
+            table.append((x, y, heading, cx, cy, 0.0, 0.0, length, side, radius, pieces, rows))
+            turned = heading + side * (length * np.arange(pieces, pieces + 1) / pieces)
+            x = float(cx + side * radius * np.sin(turned)[0])
+            y = float(cy - side * radius * np.cos(turned)[0])
+            heading = float(turned[0])
+            rows += pieces
+        counts.append(rows - first)
+    out = np.empty((rows, 3))
+    head = np.r_[0, np.cumsum(counts)[:-1]].astype(int) if counts else np.zeros(0, int)
+    out[head] = np.array(starts, dtype=float).reshape(-1, 3)
+    if table:
+        (x, y, heading, cx, cy, cos, sin, length, side, radius,
+         pieces, row) = (np.array(column) for column in zip(*table))
+        pieces = pieces.astype(int)
+        each = np.repeat(np.arange(len(table)), pieces)
+        k = np.arange(len(each)) - np.repeat(np.cumsum(pieces) - pieces, pieces) + 1
+        part = length[each] * k / pieces[each]
+        at = row[each].astype(int) + k - 1
+        line = side[each] == 0
+        arc = ~line
+        s, a = each[line], each[arc]
+        along = part[line] * radius[s]
+        out[at[line]] = np.column_stack([x[s] + along * cos[s], y[s] + along * sin[s],
+                                         heading[s]])
+        turned = heading[a] + side[a] * part[arc]
+        swing = side[a] * radius[a]
+        out[at[arc]] = np.column_stack([cx[a] + swing * np.sin(turned),
+                                        cy[a] - swing * np.cos(turned), turned])
+    return out, np.array(counts, dtype=int)
+
+
 def shortest_path(start, goal, radius: float) -> DubinsPath:
     """The shortest forward path of curvature <= 1/`radius` from `start` to `goal`.
 

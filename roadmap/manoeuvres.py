@@ -48,7 +48,7 @@ import shapely
 
 from clearway.roadmap import reeds_shepp
 from clearway.roadmap.body import MAX_STEP_ANGLE, angle_between, core, move_gaps, place, reach
-from clearway.roadmap.dubins import DubinsPath, shortest_path
+from clearway.roadmap.dubins import DubinsPath, poses_of, shortest_path
 from clearway.roadmap.model import Robot
 
 #: Moves of a path measured exactly at a time, tightest first.
@@ -268,10 +268,8 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
     """Raise best[owner[k]] to the gap beside the body along paths[k] (or a bound of it,
     see the module's docstring), skipping exact checks of manoeuvres already possible."""
     margin = robot.margin - 1e-9
-    poses = [path.poses(step=MAX_STEP_ANGLE) for path in paths]
-    counts = np.array([len(p) for p in poses])
+    every, counts = poses_of(paths, step=MAX_STEP_ANGLE)
     first = np.r_[0, np.cumsum(counts)[:-1]]
-    every = np.concatenate(poses)
     # moves join consecutive poses of one path: move k from pose move[k] to move[k] + 1
     joined = np.ones(len(every) - 1, bool)
     joined[first[1:] - 1] = False

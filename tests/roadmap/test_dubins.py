@@ -15,7 +15,8 @@ import pytest
 from scipy.integrate import solve_ivp
 from scipy.optimize import least_squares
 
-from clearway.roadmap.dubins import WORDS, shortest_path
+from clearway.roadmap import reeds_shepp
+from clearway.roadmap.dubins import WORDS, poses_of, shortest_path
 
 TURN = {"L": 1.0, "S": 0.0, "R": -1.0}
 
@@ -94,3 +95,20 @@ def test_lengths_match_the_numerical_reference_at_random_poses():
         end = integrate(start, path.word, path.lengths, radius)
         assert end[:2] == pytest.approx(goal[:2], abs=1e-6)
         assert math.cos(end[2] - goal[2]) == pytest.approx(1.0, abs=1e-9)
+
+
+def test_poses_of_many_paths_are_those_of_each():
+    # analytic: the same operations on the same numbers give the same floats, so the
+    # poses of many paths at once equal each path's own, bit for bit, reversing ones too
+    rng = np.random.default_rng(7)
+    paths = []
+    for _ in range(200):
+        start = (*rng.uniform(-20, 20, 2), rng.uniform(-4, 4))
+        goal = (*rng.uniform(-20, 20, 2) * rng.choice([0.02, 1.0]), rng.uniform(-4, 4))
+        radius = rng.uniform(0.5, 3.0)
+        paths += [shortest_path(start, goal, radius),
+                  reeds_shepp.shortest_path(start, goal, radius)]
+    every, counts = poses_of(paths, step=0.05)
+    assert np.array_equal(every, np.concatenate([path.poses(step=0.05) for path in paths]))
+    assert counts.tolist() == [len(path.poses(step=0.05)) for path in paths]
+    assert poses_of([])[0].shape == (0, 3)
