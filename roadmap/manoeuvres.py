@@ -18,11 +18,11 @@ field about many points at once, and only the few left undecided are measured:
 1. off the floor: a body point (centre or corner) outside the free floor at a pose means
    the path crosses the floor's edge (it starts on a lane, where the body fits): refused;
 2. two points of the body at every GROUP-th pose, then the second at each pose of the
-   moves not yet clear: every body point lies within the swing radius of the rotation centre and within
-   the half diagonal of the footprint's centre, so their clearance less that radius (and
-   less half the way to the next measured pose, plus one step) bounds each move's gap
-   from below; a disc about the rotation centre lies inside the footprint, so its
-   clearance bounds the gap from above;
+   moves not yet clear: every body point lies within the swing radius of the rotation
+   centre and within the half diagonal of the footprint's centre, so their clearance less
+   that radius (and less half the way to the next measured pose, plus one step) bounds
+   each move's gap from below; a disc about the rotation centre lies inside the
+   footprint, so its clearance bounds the gap from above;
 3. the corners at the tightest FEW moves of each path (a corner's clearance bounds the gap
    from above), then points OUTLINE_STEP apart on the footprint's outline at each pose of
    the moves still tight, against the floor (one off it refuses the path, as in stage 1),
