@@ -11,6 +11,7 @@ import click
 
 from clearway.cli_common import (InputError, Metres, converter_options, drawing_options,
                                  read_graph, setting, terminal_text)
+from clearway.cli_robot import build_robot
 from clearway.config import COMFORT_ALLOWANCE, DEFAULTS, load_config
 from clearway.errors import ClearwayError
 from clearway.roadmap import ROBOT_KINDS          # a constant: the stages load when build runs
@@ -23,90 +24,12 @@ from clearway.roadmap import ROBOT_KINDS          # a constant: the stages load 
 BUILD_FILES = ("roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json", "roadmap.html")
 
 
-def _centre(value, name: str) -> tuple[float, float]:
-    """Parse a rotation centre offset 'FORWARD,LEFT' (or a config pair) in metres."""
-    parts = value.split(",") if isinstance(value, str) else list(value)
-    try:
-        forward, left = (float(part) for part in parts)
-    except (TypeError, ValueError):
-        raise InputError(f"{name} must be FORWARD,LEFT in metres (e.g. -0.5,0), "
-                         f"got {value!r}") from None
-    if not (math.isfinite(forward) and math.isfinite(left)):
-        raise InputError(f"{name} must be finite, got {value!r}")
-    return forward, left
-
-
 def _factor(name: str, value) -> float:
     """Parse a config value that is a factor >= 0 (no unit)."""
     number = float(value)                 # the config file has checked it is a number
     if not (math.isfinite(number) and number >= 0):
         raise InputError(f"{name} must be a number >= 0, got {value}")
     return number
-
-
-def _plausible(robot, given: str, scaled):
-    """Return `robot`, or refuse one larger than MAX_ROBOT_SIZE across with the likely cause.
-
-    `given` names the option and value as typed; `scaled(factor)` spells the same option
-    with every length divided by `factor` (the suggestion for millimetres or centimetres).
-    """
-    from clearway.roadmap import MAX_ROBOT_SIZE
-    across = (max(robot.length, robot.width) if robot.length is not None
-              else 2 * robot.radius)
-    if across <= MAX_ROBOT_SIZE:
-        return robot
-    hint = "lengths are in metres"
-    for unit, factor in (("millimetres", 1000.0), ("centimetres", 100.0)):
-        if 0.1 <= across / factor <= MAX_ROBOT_SIZE:
-            hint = f"lengths are in metres: for {unit} give {scaled(factor)}"
-            break
-    raise InputError(f"{given}: a robot {across:g} m across is not plausible (over "
-                     f"{MAX_ROBOT_SIZE:g} m); {hint}")
-
-
-def _build_robot(config: dict, robot_radius, robot_size, margin, kind=None, centre=None,
-                 turn_radius=None, reverse=None):
-    """The robot from the options, else from [robot] of the config file, else the defaults."""
-    from clearway.roadmap import Robot
-    if robot_radius is not None and robot_size is not None:
-        raise InputError("--robot-radius and --robot-size exclude each other; pass one")
-    section = {**DEFAULTS["robot"], **config.get("robot", {})}
-    if margin is None:
-        margin = setting("[robot] margin", section["margin"], Metres(allow_zero=True))
-    motion = {"kind": kind or section.get("kind", "differential")}
-    if turn_radius is not None or "turn_radius" in section:
-        motion["turn_radius"] = (turn_radius if turn_radius is not None
-                                 else setting("[robot] turn_radius", section["turn_radius"],
-                                              Metres()))
-    motion["reverse"] = section.get("reverse", True) if reverse is None else reverse
-    offset = (_centre(centre, "--rotation-centre") if centre is not None else
-              _centre(section["centre_offset"], "[robot] centre_offset")
-              if "centre_offset" in section else None)
-    if offset is not None:
-        motion["centre"] = offset
-    if robot_size is not None:
-        parts = robot_size.lower().split("x")
-        if len(parts) != 2:
-            raise InputError(f"--robot-size must be LENGTHxWIDTH in metres (e.g. 1.0x0.6), "
-                             f"got {robot_size!r}")
-        length = setting("--robot-size length", parts[0], Metres())
-        width = setting("--robot-size width", parts[1], Metres())
-        return _plausible(Robot.rectangle(length, width, margin=margin, **motion),
-                          f"--robot-size {robot_size}",
-                          lambda f: f"--robot-size {length / f:g}x{width / f:g}")
-    if robot_radius is None and "length" in section and "width" in section:
-        length = setting("[robot] length", section["length"], Metres())
-        width = setting("[robot] width", section["width"], Metres())
-        return _plausible(Robot.rectangle(length, width, margin=margin, **motion),
-                          f"[robot] length {length:g}, width {width:g}",
-                          lambda f: f"length = {length / f:g}, width = {width / f:g}")
-    if offset is not None:
-        raise InputError("a rotation centre offset needs a rectangular robot (--robot-size)")
-    name, radius = (("--robot-radius", robot_radius) if robot_radius is not None
-                    else ("[robot] radius", setting("[robot] radius", section["radius"],
-                                                    Metres())))
-    return _plausible(Robot.disc(radius, margin=margin, **motion), f"{name} {radius:g}",
-                      lambda f: f"{name} {radius / f:g}")
 
 
 def _parse_anchor(value: str | None):
@@ -282,8 +205,9 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
     try:
         config = load_config(options.get("config"))
         try:
-            robot = _build_robot(config, robot_radius, robot_size, margin, robot_kind,
-                                 rotation_centre, turn_radius, reverse)
+            robot = build_robot(config, robot_radius, robot_size, margin, robot_kind,
+                                rotation_centre, turn_radius, reverse,
+                                source=options.get("config"))
         except ValueError as err:      # Robot's checks of the robot the user described
             raise InputError(str(err)) from None
         checks = {**DEFAULTS["checks"], **config.get("checks", {})}

@@ -50,6 +50,10 @@ class Metres(click.FloatRange):
         super().__init__(min=0.0, min_open=not allow_zero)
 
     def convert(self, value, param, ctx):
+        try:
+            float(value)
+        except (TypeError, ValueError):
+            self.fail(f"{value!r} is not a number of metres", param, ctx)
         number = super().convert(value, param, ctx)
         if not math.isfinite(number):
             self.fail(f"{value!r} is not a finite number of metres", param, ctx)

@@ -64,7 +64,7 @@ class Robot:
             raise ValueError(f"a turn radius is for a car robot, not {self.kind!r}")
         if self.centre != (0.0, 0.0):
             if self.length is None or self.kind == "omni":
-                raise ValueError(f"a {'disc' if self.length is None else 'omni'} robot "
+                raise ValueError(f"{'a disc' if self.length is None else 'an omni'} robot "
                                  "turns about its centre; give no offset")
             forward, left = self.centre
             if not (abs(forward) <= self.length / 2 and abs(left) <= self.width / 2):

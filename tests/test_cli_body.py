@@ -58,12 +58,34 @@ def test_route_on_a_rectangle_graph_keeps_to_the_allowed_turns(tmp_path):
         assert f"{before}:{after}" in turns[node] or f"{after}:{before}" in turns[node]
 
 
+CAR = ["--robot-size", "1.2x0.6", "--robot-kind", "car"]
+
+
 @pytest.mark.parametrize("args, message", [
-    (["--robot-size", "1.2x0.6", "--robot-kind", "car"], r"turn radius must be > 0 m"),
+    (CAR, r"^Error: a car robot needs its smallest turning radius: pass --turn-radius"),
     (["--robot-size", "1.2x0.6", "--rotation-centre", "abc"], r"--rotation-centre must be"),
-    (["--robot-size", "1.2x0.6", "--rotation-centre", "0.9,0"], r"outside the 1\.2 m x 0\.6 m"),
+    (["--robot-size", "1.2x0.6", "--rotation-centre", "0.9,0"],
+     r"--rotation-centre 0\.9,0 lies outside the 1\.2 m x 0\.6 m footprint \(forward within "
+     r"\+-0\.6 m, left within \+-0\.3 m\)"),
     (["--robot-radius", "0.3", "--rotation-centre", "0.1,0"], r"needs a rectangular robot"),
-    (["--robot-size", "1.2x0.6", "--turn-radius", "2"], r"for a car robot"),
+    (["--robot-size", "1.2x0.6", "--turn-radius", "2"],
+     r"--turn-radius is for a car robot \(--robot-kind car\), not a differential one"),
+    (["--robot-size", "1.2x0.6", "--robot-kind", "omni", "--turn-radius", "2"],
+     r"not an omni one"),
+    (["--robot-size", "1.2x0.6", "--robot-kind", "omni", "--rotation-centre", "0.2,0"],
+     r"an omni robot turns about its centre"),
+    (["--robot-size", "1.2x0.6", "--no-reverse"], r"--reverse/--no-reverse is for a car"),
+    (["--robot-size", "0x0.6"], r"--robot-size length: 0\.0 is not in the range x>0"),
+    (["--robot-size", "1.2x-0.6"], r"--robot-size width: -0\.6 is not in the range x>0"),
+    (["--robot-size", "ax0.6"], r"--robot-size length: 'a' is not a number of metres$"),
+    # analytic: 1500 mm typed as metres; 1.5 m is the turning radius meant
+    (CAR + ["--turn-radius", "1500"], r"--turn-radius 1500: a turning radius over 50 m is "
+     r"not plausible; lengths are in metres: for millimetres give --turn-radius 1\.5$"),
+    # analytic: with its rotation centre 0.1 m left of the middle, the 0.6 m wide body
+    # reaches 0.3 + 0.1 = 0.4 m to its right: a 0.35 m turning centre lies under it
+    (CAR + ["--turn-radius", "0.35", "--rotation-centre", "-0.4,0.1"],
+     r"--turn-radius 0\.35: a car's turning centre would lie under its body \(it reaches "
+     r"0\.4 m to the side"),
 ])
 def test_bad_robot_options_exit_2_with_one_line(tmp_path, args, message):
     result = run("build", SAMPLES / "clinic.dxf", "-o", tmp_path / "out", *args)
@@ -74,16 +96,29 @@ def test_bad_robot_options_exit_2_with_one_line(tmp_path, args, message):
 
 
 @pytest.mark.parametrize("body, message", [
-    ('centre_offset = [0.1]', r"centre_offset must be two numbers"),
-    ('reverse = "no"', r"reverse has the wrong type"),
-    ('kind = "tank"', r"kind must be one of differential, car, omni"),
+    ('length = 1.2\nwidth = 0.6\ncentre_offset = [0.1]', r"centre_offset must be two numbers"),
+    ('length = 1.2\nwidth = 0.6\nreverse = "no"', r"reverse has the wrong type"),
+    ('length = 1.2\nwidth = 0.6\nkind = "tank"',
+     r"\[robot\] kind must be one of differential, car, omni, got 'tank'$"),
+    ('length = 1.2', r"\[robot\] length needs width too"),
+    ('radius = 0.4\nlength = 1.2\nwidth = 0.6', r"\[robot\] radius and length, width exclude"),
+    ('length = 1.2\nwidth = 0.6\ncentre_offset = [0.9, 0]',
+     r"\[robot\] centre_offset 0\.9,0 lies outside the 1\.2 m x 0\.6 m footprint"),
+    ('length = 0\nwidth = 0.6', r"\[robot\] length: 0\.0 is not in the range x>0"),
+    ('length = 1.2\nwidth = 0.6\nkind = "car"', r"a car robot needs its smallest turning"),
+    ('length = 1.2\nwidth = 0.6\nkind = "car"\nturn_radius = 150',
+     r"\[robot\] turn_radius 150: .* for millimetres give turn_radius = 0\.15$"),
+    ('length = 1.2\nwidth = 0.6\nreverse = false', r"\[robot\] reverse is for a car robot"),
 ])
-def test_bad_robot_config_exits_2(tmp_path, body, message):
+def test_bad_robot_config_exits_2_naming_the_file(tmp_path, body, message):
     config = tmp_path / "site.toml"
-    config.write_text(f"[robot]\nlength = 1.2\nwidth = 0.6\n{body}\n")
+    config.write_text(f"[robot]\n{body}\n")
     result = run("build", SAMPLES / "clinic.dxf", "-o", tmp_path / "out", "--config", config)
     assert result.exit_code == 2, result.output
-    assert re.search(message, result.stderr.splitlines()[0])
+    lines = result.stderr.splitlines()
+    assert len(lines) == 1 and re.search(message, lines[0]), lines
+    assert "site.toml" in lines[0] or "--turn-radius" in lines[0]
+    assert not (tmp_path / "out").exists()
 
 
 def test_car_from_the_config_file(tmp_path):
