@@ -76,6 +76,16 @@ def _summary(plan, roadmap, outdir: str, names=BUILD_FILES) -> list[str]:
          "lanes short of personnel clearance"),
         (len(plan.warnings) + len(findings.warnings), "warning")))
     lines.append(f"problems: {problems}")
+    if "body" in counts:
+        body = counts["body"]
+        rounds = sum(1 for turn in body["turns"] if turn["what"] == "turn round")
+        lines.append("body: " + ", ".join(_count(*item) for item in (
+            (len(body["lanes"]), "lane or link it cannot drive (dropped)",
+             "lanes or links it cannot drive (dropped)"),
+            (len(body["turns"]) - rounds, "turn forbidden", "turns forbidden"),
+            (rounds, "turn round forbidden", "turns round forbidden"),
+            (len(body["reverse_only"]), "dead end to back out of",
+             "dead ends to back out of"))) + " (report.json lists them)")
     if plan.unit_doubt:
         lines.append(f"units: {plan.unit_doubt}")
     lines += _left_out_lines(plan.left_out)

@@ -132,3 +132,21 @@ def test_car_from_the_config_file(tmp_path):
         == ("car", [-0.4, 0.0], 1.0, False)
     # analytic: the swing radius about the rear axle reaches the front corners
     assert robot["swing_radius"] == pytest.approx((1.0 ** 2 + 0.3 ** 2) ** 0.5, rel=1e-12)
+
+
+def test_build_summary_counts_what_the_body_cannot_do(tmp_path):
+    # the summary's body line counts the report's lists (a car without reversing in the
+    # clinic's corridors meets some of each); a disc robot's summary has no body line
+    result = run("build", SAMPLES / "clinic.dxf", "-o", tmp_path, "--robot-size", "1.2x0.7",
+                 "--robot-kind", "car", "--rotation-centre=-0.4,0", "--turn-radius", "1.2",
+                 "--no-reverse", "--no-html")
+    assert result.exit_code == 0, result.output
+    body = json.loads((tmp_path / "report.json").read_text(encoding="utf-8"))["body"]
+    rounds = sum(1 for turn in body["turns"] if turn["what"] == "turn round")
+    assert 0 < rounds < len(body["turns"]) and body["lanes"] and body["reverse_only"]
+    line = next(line for line in result.stderr.splitlines() if line.startswith("body: "))
+    assert re.match(rf"body: {len(body['lanes'])} lanes? or links? it cannot drive \(dropped\), "
+                    rf"{len(body['turns']) - rounds} turns? forbidden, {rounds} turns? round "
+                    rf"forbidden, {len(body['reverse_only'])} dead ends? to back out of", line)
+    disc = run("build", SAMPLES / "clinic.dxf", "-o", tmp_path / "disc", "--no-html")
+    assert disc.exit_code == 0 and "body: " not in disc.stderr
