@@ -317,12 +317,12 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
     ends = np.unique(np.r_[move[starts], move[stops] + 1])
     if floor is not None:
         # a body point off the floor at any pose: the path crosses the floor's edge (it
-        # starts on it), where the gap is nil
+        # starts on it), where the gap is nil (0.0 - extra: never -0.0, printed "-0.00")
         corners = core(robot)[0]
         body = np.concatenate([points[1][ends][:, None], place(corners, every[ends, :2],
                                                                every[ends, 2])], axis=1)
         off = ~shapely.contains_xy(floor, body.reshape(-1, 2)).reshape(len(ends), -1).all(axis=1)
-        np.minimum.at(high, np.searchsorted(first, ends[off], side="right") - 1, -extra)
+        np.minimum.at(high, np.searchsorted(first, ends[off], side="right") - 1, 0.0 - extra)
         # those paths are refused: the others only are measured
         keep = high[np.searchsorted(first, ends, side="right") - 1] >= margin
         ends = ends[keep]
@@ -375,7 +375,7 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
         at = at[high[np.searchsorted(first, at, side="right") - 1] >= margin]
         off = ~shapely.contains_xy(floor, place(outline, every[at, :2], every[at, 2])
                                    .reshape(-1, 2)).reshape(len(at), -1).all(axis=1)
-        np.minimum.at(high, np.searchsorted(first, at[off], side="right") - 1, -extra)
+        np.minimum.at(high, np.searchsorted(first, at[off], side="right") - 1, 0.0 - extra)
         left = settle(bound)
         tight = np.flatnonzero(left[path_of_move] & (bound < margin))
     # stage 3: discs covering the footprint and its corners, at the poses of the moves
