@@ -2,9 +2,12 @@
 
 Reading a large drawing creates hundreds of thousands of long-lived ezdxf objects; each
 generation-2 pass of the cyclic collector rescans all of them, which costs about a fifth of
-the parse on a 20,000-bay warehouse. Reference counting still frees everything that is not
-in a cycle while the collector is paused, and the collector resumes (if it was running) when
-the stage ends, normally or by an exception.
+the parse on a 20,000-bay warehouse. Rendering the outputs builds millions of small lists,
+dicts and XML elements that live until the file's bytes are made (a coordinate pair is a
+list), so the collector's passes promote and rescan them again and again: a sixth of the
+rendering of the mixed suite drawing at 5,000 and 10,000 bays. Reference counting still
+frees everything that is not in a cycle while the collector is paused, and the collector
+resumes (if it was running) when the stage ends, normally or by an exception.
 """
 
 from __future__ import annotations

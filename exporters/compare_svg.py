@@ -20,6 +20,7 @@ import networkx as nx
 import numpy as np
 import shapely
 
+from clearway.collector import paused_collector
 from clearway.exporters.svg_parts import nice_length
 from clearway.exporters.text import SAFETY_CAUTION, xml_text
 from clearway.roadmap.compare import GraphChanges
@@ -44,6 +45,7 @@ def _text(value: str) -> str:
 
 
 
+@paused_collector()  # many small containers, none in a cycle: see collector.py
 def render_compare_svg(old: nx.MultiGraph, new: nx.MultiGraph, changes: GraphChanges, *,
                        width: float = 1200.0, title: str = "", floor: dict | None = None,
                        floor_old: dict | None = None) -> bytes:

@@ -35,6 +35,7 @@ import math
 import ezdxf
 import shapely
 
+from clearway.collector import paused_collector
 from clearway.converter.units import INSUNITS_CODES
 from clearway.exporters.graphml import oriented_edges
 from clearway.exporters.text import SAFETY_CAUTION, TOOL_VERSION, natural_key
@@ -49,6 +50,7 @@ TEXT_HEIGHT = 0.15
 _UNIT_CODES = {name: code for code, name in INSUNITS_CODES.items()}
 
 
+@paused_collector()  # many small containers, none in a cycle: see collector.py
 def render_dxf(plan, roadmap) -> bytes:
     """Return the roadmap as DXF bytes in the source drawing's unit and frame.
 

@@ -34,6 +34,7 @@ import numpy as np
 import shapely
 from shapely.geometry import MultiPolygon, Polygon, mapping
 
+from clearway.collector import paused_collector
 from clearway.exporters.anchor import check_anchor, drawing_to_wgs84
 from clearway.exporters.graphml import oriented_edges
 from clearway.exporters.text import SAFETY_CAUTION, TOOL_VERSION, finite_or_none, json_text, natural_key
@@ -211,6 +212,7 @@ def coordinate_system(anchor=None) -> dict:
                     "from true north); local tangent plane on the WGS84 ellipsoid."}
 
 
+@paused_collector()  # many small containers, none in a cycle: see collector.py
 def render_geojson(plan, roadmap, *, anchor=None) -> bytes:
     """Return the floor and the roadmap as RFC 7946 GeoJSON bytes (UTF-8, deterministic).
 

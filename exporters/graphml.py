@@ -26,6 +26,7 @@ import numpy as np
 import shapely
 from lxml import etree
 
+from clearway.collector import paused_collector
 from clearway.exporters.graphml_keys import (GRAPHML_NS, KEYS, OPTIONAL_KEYS, SCHEMA_LOCATION,
                                              XSI_NS, key_id)
 from clearway.exporters.text import TOOL_VERSION, exact_float, natural_key, xml_text
@@ -145,6 +146,7 @@ def render_graph(graph) -> bytes:
     return etree.tostring(root, xml_declaration=True, encoding="UTF-8", pretty_print=True)
 
 
+@paused_collector()  # many small containers, none in a cycle: see collector.py
 def render_graphml(plan, roadmap) -> bytes:
     """Return the roadmap as GraphML 1.0 bytes: `render_graph` of its graph, with the
     drawing's file name and SHA-256, the robot and the tool version as graph attributes.

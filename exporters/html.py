@@ -22,6 +22,7 @@ from importlib import resources
 import numpy as np
 import shapely
 
+from clearway.collector import paused_collector
 from clearway.exporters.graphml import oriented_edges
 from clearway.exporters.svg import drawing_origin
 from clearway.exporters.svg_parts import LANE_COLOURS, lane_bins
@@ -276,6 +277,7 @@ def _asset(name: str) -> str:
     return resources.files("clearway.exporters").joinpath(name).read_text(encoding="utf-8")
 
 
+@paused_collector()  # many small containers, none in a cycle: see collector.py
 def render_html(plan, roadmap, *, date: str, changes=None) -> bytes:
     """Return roadmap.html as UTF-8 bytes (deterministic for the same input).
 

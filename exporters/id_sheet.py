@@ -14,6 +14,7 @@ import numpy as np
 import shapely
 from lxml import etree
 
+from clearway.collector import paused_collector
 from clearway.exporters.graphml import oriented_edges
 from clearway.exporters.svg import SVG_NS, drawing_origin
 from clearway.exporters.svg_parts import (AREA_STYLE, BLUE, add_scale_and_arrow, add_text,
@@ -24,6 +25,7 @@ from clearway.exporters.text import SAFETY_CAUTION, natural_key, xml_text
 LANE_GREY, LANE_ID, NODE_ID, GRID, ROUTE = "#7A7A7A", "#5A4A8A", "#000000", "#D6D6D6", BLUE
 
 
+@paused_collector()  # many small containers, none in a cycle: see collector.py
 def render_id_sheet(graph, *, areas=None, route=None, title: str = "") -> bytes:
     """Return the labelled sheet as SVG bytes (deterministic).
 

@@ -10,6 +10,7 @@ import json
 
 import networkx as nx
 
+from clearway.collector import paused_collector
 from clearway.exporters.geojson import opening_properties, room_properties
 from clearway.exporters.text import SAFETY_CAUTION, TOOL_VERSION, finite_or_none, json_text, natural_key
 
@@ -132,6 +133,7 @@ def _left_out(layer) -> dict:
             "replaced_by": layer.replaced_by or None}
 
 
+@paused_collector()  # many small containers, none in a cycle: see collector.py
 def render_report(plan, roadmap) -> bytes:
     """Return report.json bytes (UTF-8, indented, deterministic, no timestamps).
 

@@ -21,6 +21,7 @@ import shapely.affinity
 from lxml import etree
 from shapely.ops import polylabel  # shapely.polylabel exists only from shapely 2.1
 
+from clearway.collector import paused_collector
 from clearway.exporters.graphml import oriented_edges
 from clearway.exporters.svg_labels import LabelPlacer
 from clearway.exporters.svg_parts import (AREA_STYLE, add_heading, add_legend, add_marker,
@@ -119,6 +120,7 @@ def _wrap(text: str, width: int) -> list[str]:
     return lines + [line] if line else lines
 
 
+@paused_collector()  # many small containers, none in a cycle: see collector.py
 def render_svg(plan, roadmap, *, date: str) -> bytes:
     """Return the SVG preview as UTF-8 bytes (deterministic for the same input and date).
 

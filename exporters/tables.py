@@ -15,6 +15,7 @@ import csv
 import io
 import math
 
+from clearway.collector import paused_collector
 from clearway.exporters.graphml import oriented_edges
 from clearway.exporters.text import exact_float, natural_key
 
@@ -41,6 +42,7 @@ def _table(columns, rows) -> bytes:
     return stream.getvalue().encode("utf-8")
 
 
+@paused_collector()  # many small containers, none in a cycle: see collector.py
 def render_tables(roadmap) -> dict[str, bytes]:
     """Return {"nodes.csv": bytes, "lanes.csv": bytes} for the roadmap's graph.
 

@@ -59,37 +59,40 @@ def narrow_passages(axis, clearance: float, regions, offset=(0.0, 0.0)) -> list[
     both = drivable[edges].all(axis=1)
     _, label = connected_components(_adjacency(count, edges[both]), directed=False)
     fragments = np.unique(label[drivable])
-    best = {}
-    for vertex in np.flatnonzero(drivable)[np.argsort(-axis.clearance[drivable],
-                                                      kind="stable")]:
-        best.setdefault(int(label[vertex]), int(vertex))
-    region_of_fragment = dict(zip(fragments.tolist(), containing_region(
-        axis.vertices[[best[f] for f in fragments]], regions).tolist()))
+    # each fragment's region: that of its vertex of most clearance (the first by index)
+    by_clearance = np.flatnonzero(drivable)[np.argsort(-axis.clearance[drivable], kind="stable")]
+    _, first = np.unique(label[by_clearance], return_index=True)
+    fragment_region = containing_region(axis.vertices[by_clearance[first]], regions)
     region = np.full(count, -1)
-    region[drivable] = [region_of_fragment[f] for f in label[drivable]]
+    region[drivable] = fragment_region[np.searchsorted(fragments, label[drivable])]
     low_edges = edges[~drivable[edges].all(axis=1)]
-    _, low_label = connected_components(_adjacency(count, low_edges[
-        ~drivable[low_edges].any(axis=1)]), directed=False)
+    inner_all = low_edges[~drivable[low_edges].any(axis=1)]
+    _, low_label = connected_components(_adjacency(count, inner_all), directed=False)
     mixed = low_edges[drivable[low_edges].any(axis=1)]
     low_end = np.where(drivable[mixed[:, 0]], mixed[:, 1], mixed[:, 0])
     high_end = np.where(drivable[mixed[:, 0]], mixed[:, 0], mixed[:, 1])
-    touched = {}
-    for low, high in zip(low_label[low_end], region[high_end]):
-        if high >= 0:
-            touched.setdefault(int(low), set()).add(int(high))
+    reached = region[high_end] >= 0
+    touched = np.unique(np.column_stack([low_label[low_end], region[high_end]])[reached], axis=0)
+    components, regions_touched = np.unique(touched[:, 0], return_counts=True)
+    # the low vertices, the edges between them and the edges to drivable vertices, grouped
+    # by low component (each group in its original order)
+    low_vertices = np.flatnonzero(~drivable)
+    members_of = _groups(low_label[low_vertices], low_vertices)
+    inner_of = _groups(low_label[inner_all[:, 0]], inner_all)
+    attach_of = _groups(low_label[low_end], mixed)
     found = []
-    for component in sorted(k for k, v in touched.items() if len(v) >= 2):
-        members = np.flatnonzero((low_label == component) & ~drivable)
-        inner = low_edges[np.isin(low_edges, members).all(axis=1)]
-        attach = mixed[np.isin(low_end, members)]
+    for component in components[regions_touched >= 2].tolist():
+        members = members_of(component)
+        inner = inner_of(component)
+        attach = attach_of(component)
         neighbours = {int(v): [] for v in members}
-        for a, b in inner:
-            neighbours[int(a)].append(int(b))
-            neighbours[int(b)].append(int(a))
-        for a, b in attach:
+        for a, b in inner.tolist():
+            neighbours[a].append(b)
+            neighbours[b].append(a)
+        for a, b in attach.tolist():
             low, high = (a, b) if not drivable[a] else (b, a)
             if region[high] >= 0:
-                neighbours[int(low)].append(-1 - int(region[high]))
+                neighbours[low].append(-1 - int(region[high]))
         # merge the axis vertices in falling clearance; a region is the negative id -1 - k.
         # Where two sets that each reach a region meet, the vertex is a bottleneck.
         sets = UnionFind()
@@ -114,6 +117,17 @@ def narrow_passages(axis, clearance: float, regions, offset=(0.0, 0.0)) -> list[
                 sets.union(ra, rb)
                 region_of_set[sets[ra]] = b if b is not None else a
     return found
+
+
+def _groups(keys: np.ndarray, rows: np.ndarray):
+    """Return a function giving the `rows` whose key is k, in their order (keys (N,))."""
+    order = np.argsort(keys, kind="stable")
+    keys = keys[order]
+
+    def rows_of(key):
+        start, stop = np.searchsorted(keys, [key, key + 1])
+        return rows[order[start:stop]]
+    return rows_of
 
 
 def pinch_points(samples, comfort: float, offset) -> list[PinchPoint]:
