@@ -207,7 +207,7 @@ def poses_of(paths, *, step: float = ARC_STEP) -> tuple[np.ndarray, np.ndarray]:
     return out, np.array(counts, dtype=int)
 
 
-def shortest_path(start, goal, radius: float) -> DubinsPath:
+def shortest_path(start, goal, radius: float, *, known: dict | None = None) -> DubinsPath:
     """The shortest forward path of curvature <= 1/`radius` from `start` to `goal`.
 
     Parameters
@@ -220,14 +220,24 @@ def shortest_path(start, goal, radius: float) -> DubinsPath:
     >>> path = shortest_path((0, 0, 0), (0, 2, math.pi), 1.0)   # a U-turn: a half circle
     >>> path.word[0], round(path.length, 12) == round(math.pi, 12)
     ('L', True)
+
+    `known`, a dict the caller keeps, holds the sorted candidate words of each goal seen
+    from the start, by its exact value (see `reeds_shepp.shortest_path`).
     """
     check_radius(radius)
     dx, dy = goal[0] - start[0], goal[1] - start[1]
     d = math.hypot(dx, dy) / radius
     phi = math.atan2(dy, dx) if d > 0 else 0.0
     alpha, beta = _mod2pi(start[2] - phi), _mod2pi(goal[2] - phi)
+    if known is None:
+        tried = sorted(_candidates(alpha, beta, d), key=lambda item: sum(item[1]))
+    else:
+        key = ("dubins", *(float(v).hex() for v in (alpha, beta, d)))  # -0.0 is not 0.0
+        if key not in known:
+            known[key] = sorted(_candidates(alpha, beta, d), key=lambda item: sum(item[1]))
+        tried = known[key]
     best = None
-    for word, lengths in sorted(_candidates(alpha, beta, d), key=lambda item: sum(item[1])):
+    for word, lengths in tried:
         if lands(start, goal, word, lengths, radius):       # the shortest that lands
             best = (word, lengths)
             break

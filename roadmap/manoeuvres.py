@@ -41,6 +41,7 @@ best leaves at most ...") may be an upper bound rather than the exact smallest g
 
 from __future__ import annotations
 
+import bisect
 import math
 
 import numpy as np
@@ -66,28 +67,32 @@ FEW = 4
 
 
 def _measured(coords: np.ndarray, known: dict | None = None):
-    """A polyline's steps (n - 1, 2), their lengths and the distance along to each vertex;
-    kept in `known` by the array's id (the caller keeps the arrays alive meanwhile)."""
+    """A polyline's steps (n - 1, 2), their lengths and the distance along to each vertex,
+    as lists (point_along works on a few numbers at a time, where numpy's calls cost more
+    than the arithmetic); kept in `known` by the array's id (the caller keeps the arrays
+    alive meanwhile)."""
     if known is not None and id(coords) in known:
         return known[id(coords)]
     step = np.diff(coords, axis=0)
     length = np.hypot(*step.T)
-    found = step, length, np.r_[0.0, np.cumsum(length)]
+    found = step.tolist(), length.tolist(), np.r_[0.0, np.cumsum(length)].tolist(), \
+        coords.tolist()
     if known is not None:
         known[id(coords)] = found
     return found
 
 
 def point_along(coords: np.ndarray, distance: float,
-                known: dict | None = None) -> tuple[np.ndarray, float]:
+                known: dict | None = None) -> tuple[tuple[float, float], float]:
     """Point and heading at `distance` metres along a polyline (clipped to its ends)."""
-    step, length, along = _measured(coords, known)
+    step, length, along, points = _measured(coords, known)
     distance = min(max(distance, 0.0), along[-1])
-    k = int(np.clip(np.searchsorted(along, distance, side="right") - 1, 0, len(step) - 1))
+    k = min(max(bisect.bisect_right(along, distance) - 1, 0), len(step) - 1)
     while k > 0 and length[k] <= 1e-12:
         k -= 1
     fraction = (distance - along[k]) / length[k] if length[k] > 0 else 0.0
-    return coords[k] + fraction * step[k], math.atan2(step[k, 1], step[k, 0])
+    (x, y), (dx, dy) = points[k], step[k]
+    return (x + fraction * dx, y + fraction * dy), math.atan2(dy, dx)
 
 
 def fillet(start, end, radius: float) -> DubinsPath | None:
@@ -146,7 +151,7 @@ def _tries(robot: Robot, start, end, known: dict | None = None):
 
     def forward():
         if "forward" not in made:
-            made["forward"] = shortest_path(start, end, radius)
+            made["forward"] = shortest_path(start, end, radius, known=known)
         return made["forward"]
 
     def backing():

@@ -112,3 +112,19 @@ def test_poses_of_many_paths_are_those_of_each():
     assert np.array_equal(every, np.concatenate([path.poses(step=0.05) for path in paths]))
     assert counts.tolist() == [len(path.poses(step=0.05)) for path in paths]
     assert poses_of([])[0].shape == (0, 3)
+
+
+def test_remembered_candidates_give_the_same_path():
+    # analytic: the candidate words depend on the goal seen from the start alone, so a
+    # shared memo gives the very path computed afresh (turns round repeat exactly)
+    known = {}
+    rng = np.random.default_rng(11)
+    cases = [((*rng.uniform(-9, 9, 2), rng.uniform(-4, 4)),
+              (*rng.uniform(-9, 9, 2), rng.uniform(-4, 4)), rng.uniform(0.5, 3))
+             for _ in range(30)]
+    cases += [((x, 1.0, heading + math.pi), (x, 1.0, heading), 1.5)
+              for heading in (0.0, math.pi / 2, -math.pi / 2) for x in (0.0, -0.0, 3.0)]
+    for start, goal, radius in cases + cases:
+        assert shortest_path(start, goal, radius, known=known) == \
+            shortest_path(start, goal, radius)
+    assert 0 < len(known) < len(cases)
