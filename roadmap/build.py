@@ -179,7 +179,8 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
     narrow = narrowings(axis.vertices, axis.clearance, axis.edges, avoid=cuts)
     rooms = split_floor(local, cuts + narrow)
     rooms = rooms[np.lexsort(shapely.bounds(rooms).T[::-1])] if len(rooms) else rooms
-    names = room_names(rooms, texts, offset, openings)
+    names = room_names(rooms, texts, offset, openings,
+                       station_labels=[str(station[0]) for station in stations])
 
     report("graph")
     lane_axis = axis.restrict(axis.clearance >= threshold)

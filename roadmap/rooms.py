@@ -214,12 +214,16 @@ def locate(points, rooms: np.ndarray, *, slack: float = 0.0) -> np.ndarray:
 DOOR_TAG = re.compile(r"^(?:[1-9]|1\d)\d[6-8]\d$")
 
 
-def room_names(rooms: np.ndarray, texts, offset, openings=()) -> list[tuple[str, ...]]:
+def room_names(rooms: np.ndarray, texts, offset, openings=(),
+               station_labels=()) -> list[tuple[str, ...]]:
     """The texts inside each room: annotation layers first, then by height, largest first.
 
     Texts of several lines keep their lines joined by a space; empty texts and repeats are
     left out, and so are door tags (`DOOR_TAG`) standing within 1.5 m of a door among
-    `openings` (drawing frame, like the texts).
+    `openings` (drawing frame, like the texts). A text that reads as one of
+    `station_labels` labels its station: it names a room only that has no other text and
+    no other station label (a charger closet called CHARGER), never a hall of chargers
+    and docks ("C1 C2 D1 D2").
 
     Examples
     --------
@@ -239,6 +243,7 @@ def room_names(rooms: np.ndarray, texts, offset, openings=()) -> list[tuple[str,
     for text, room in zip(texts, owner):
         if room >= 0:
             names[room].append(text)
+    labels = {" ".join(str(label).split()) for label in station_labels}
     result = []
     for mine in names:
         mine.sort(key=lambda t: (not ANNOTATION_LAYER.search(t.layer or ""), -float(t.height),
@@ -248,7 +253,8 @@ def room_names(rooms: np.ndarray, texts, offset, openings=()) -> list[tuple[str,
             label = " ".join(str(text.text).split())
             if label not in seen:
                 seen.append(label)
-        result.append(tuple(seen))
+        named = [label for label in seen if label not in labels]
+        result.append(tuple(named if named or len(seen) > 1 else seen))
     return result
 
 

@@ -267,3 +267,18 @@ def test_every_node_names_the_room_it_stands_in(robot):
     for room in roadmap.rooms:
         joined = label[index[room.node]] == label[index[corridor.node]]
         assert joined == room.reachable, room.id
+
+
+def test_station_labels_name_a_room_only_as_its_one_text():
+    # three 10 m x 10 m rooms side by side
+    rooms = np.array([shapely.box(0, 0, 10, 10), shapely.box(10, 0, 20, 10),
+                      shapely.box(20, 0, 30, 10)])
+    texts = [PlanText("C1", 2, 2, 0.2, "CHARGERS"), PlanText("D1", 8, 2, 0.2, "DOCKING"),
+             PlanText("CHARGER", 15, 5, 0.2, "A-EQPM-STATION"),
+             PlanText("D2", 25, 2, 0.2, "DOCKING"), PlanText("PACKING", 25, 5, 0.5, "A-ANNO-TEXT")]
+    names = room_names(rooms, texts, (0.0, 0.0), station_labels=["C1", "D1", "CHARGER", "D2"])
+    # common practice: a hall of chargers and docks is not named after them; a closet
+    # holding one charger may be; a room's own name beats the label of a dock in it
+    assert names == [(), ("CHARGER",), ("PACKING",)]
+    # without stations every text names its room, as before
+    assert room_names(rooms, texts, (0.0, 0.0)) == [("C1", "D1"), ("CHARGER",), ("PACKING", "D2")]
