@@ -150,3 +150,46 @@ def test_build_summary_counts_what_the_body_cannot_do(tmp_path):
                     rf"forbidden, {len(body['reverse_only'])} dead ends? to back out of", line)
     disc = run("build", SAMPLES / "clinic.dxf", "-o", tmp_path / "disc", "--no-html")
     assert disc.exit_code == 0 and "body: " not in disc.stderr
+
+
+def test_route_for_a_car_detours_round_forbidden_turns_or_says_there_is_none(tmp_path):
+    # the shortest route that ignores the turns (networkx on the lane graph, not the code
+    # under test) takes a turn the car may not; clearway route must keep to the allowed
+    # turns, so it is longer, or exit 1 with one line saying no route keeps to them
+    import networkx as nx
+    assert run("build", SAMPLES / "distribution_centre.dxf", "-o", tmp_path, "--robot-size",
+               "1.2x0.7", "--robot-kind", "car", "--rotation-centre=-0.4,0", "--turn-radius",
+               "1.2", "--no-reverse", "-q", "--no-html").exit_code == 0
+    graph = nx.read_graphml(tmp_path / "roadmap.graphml", force_multigraph=True)
+    allowed = {node: {tuple(item.split(":")) for item in data["turns"].split() if item != "-"}
+               for node, data in graph.nodes(data=True)}
+    allowed = {node: pairs | {(b, a) for a, b in pairs} for node, pairs in allowed.items()}
+    plain = nx.Graph()
+    for u, v, key, data in graph.edges(keys=True, data=True):     # GraphML edge ids: keys
+        if not plain.has_edge(u, v) or plain[u][v]["weight"] > data["weight"]:
+            plain.add_edge(u, v, weight=data["weight"], id=key)
+    tried = detoured = 0
+    for source in sorted(plain)[:40]:
+        lengths, paths = nx.single_source_dijkstra(plain, source)
+        for target, path in sorted(paths.items()):
+            edges = [plain[a][b]["id"] for a, b in zip(path, path[1:])]
+            if all(pair in allowed[node] for node, pair in
+                   zip(path[1:-1], zip(edges, edges[1:]))):
+                continue
+            result = run("route", tmp_path / "roadmap.graphml", source, target, "--json")
+            tried += 1
+            if result.exit_code == 1:
+                lines = result.stderr.splitlines()
+                assert len(lines) == 1 and "with the allowed turns" in lines[0], lines
+                continue
+            assert result.exit_code == 0, result.output
+            route = json.loads(result.stdout)
+            for node, pair in zip(route["nodes"][1:-1], zip(route["edges"], route["edges"][1:])):
+                assert pair in allowed[node]
+            assert route["length"] > lengths[target]
+            detoured += 1
+            if detoured >= 3:
+                break
+        if detoured >= 3 or tried >= 12:
+            break
+    assert detoured >= 1            # counted on this drawing: such detours exist
