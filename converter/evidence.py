@@ -25,6 +25,10 @@ DOOR_LEAF_M = (0.6, 1.3)
 WALL_THICKNESS_M = (0.05, 0.8)
 PLAN_SPAN_M = (3.0, 2000.0)
 
+#: The header's linear unit formats that show lengths in feet and inches, one drawing unit
+#: an inch: $LUNITS 3 (engineering) and 4 (architectural) (DXF reference, HEADER section).
+INCH_FORMATS = {3: "engineering", 4: "architectural"}
+
 _FEET_INCHES = re.compile(r"""^\s*(?:(\d+(?:\.\d+)?)\s*'\s*-?\s*)?(?:(\d+(?:\.\d+)?)(?:\s+(\d+)/(\d+))?\s*(?:"|''))?\s*$""")
 _WITH_UNIT = re.compile(r"^\s*(\d+(?:[.,]\d+)?)\s*(mm|cm|m)\s*$", re.IGNORECASE)
 
@@ -142,8 +146,32 @@ def text_length_m(text):
     return total * 0.0254 if total > 0 else None
 
 
+def header_evidence(header):
+    """Evidence from the header's other unit settings, for a drawing whose $INSUNITS names
+    no unit: a length format in feet and inches ($LUNITS 3 or 4: the unit is an inch) and
+    the imperial measurement system ($MEASUREMENT = 0: inches or feet).
+
+    Examples
+    --------
+    >>> [item.kind for item in header_evidence({"$LUNITS": 4, "$MEASUREMENT": 0})]
+    ['length format', 'measurement']
+    >>> header_evidence({"$LUNITS": 2, "$MEASUREMENT": 1})
+    []
+    """
+    found = []
+    if header.get("$LUNITS") in INCH_FORMATS:
+        found.append(Evidence("length format", np.array([float(header["$LUNITS"])]), 2.0))
+    if header.get("$MEASUREMENT") == 0:
+        found.append(Evidence("measurement", np.array([0.0]), 1.0))
+    return found
+
+
 def plausibility(evidence, units):
     """Share (0 to 1) of the measurements that unit `units` makes plausible."""
+    if evidence.kind == "length format":
+        return float(units == "in")
+    if evidence.kind == "measurement":
+        return float(units in ("in", "ft"))
     factor = UNITS_TO_M[units]
     if evidence.implied:
         # a dimension's factor agrees with a unit within 3 % (rounded dimension text)
@@ -156,6 +184,10 @@ def plausibility(evidence, units):
 
 def describe(evidence, units):
     """One phrase: what the evidence measures in `units` ("doors 0.71-0.91 m")."""
+    if evidence.kind == "length format":
+        return f"$LUNITS = {evidence.values[0]:.0f} ({INCH_FORMATS[int(evidence.values[0])]}: the unit is an inch)"
+    if evidence.kind == "measurement":
+        return "$MEASUREMENT = 0 (imperial)"
     factor = UNITS_TO_M[units]
     values = evidence.values
     if evidence.implied:
@@ -218,9 +250,11 @@ def decide_from_content(header_unit, override, evidence, *, source):
         `units` None when neither the header nor the content decides (the caller assumes).
     """
     scores = judge_units(evidence) if evidence else {}
-    substantive = [item for item in evidence if item.kind != "extent"]
-    # the plan's size alone never decides: every unit makes some building
-    support = judge_units(substantive) if substantive else {}
+    supporting = [item for item in evidence if item.kind != "extent"]
+    # the plan's size alone never decides: every unit makes some building; nor does the
+    # imperial measurement system alone, which leaves inches and feet
+    substantive = [item for item in supporting if item.kind != "measurement"]
+    support = judge_units(supporting) if supporting else {}
     lines = tuple(f"{item.kind}: {', '.join(f'{unit} {plausibility(item, unit):.0%}' for unit in CANDIDATE_UNITS)}"
                   for item in evidence)
     if override is not None:
@@ -239,8 +273,8 @@ def decide_from_content(header_unit, override, evidence, *, source):
             return best, "content", note, lines, (warning,)
         return header_unit, "header", None, lines, ()
     if best and substantive and scores[best] >= 1.0 and support[best] >= 1.0:
-        note = (f"Read in {best} from the drawing's content (the header gives no unit): {read}; "
-                f"pass --units to say otherwise.")
+        note = (f"Read in {best} from the drawing's content (the header's $INSUNITS gives no "
+                f"unit): {read}; pass --units to say otherwise.")
         warning = (f"{source}: drawing has no units in its header; read in {best} from its "
                    f"content ({read}); pass --units if that is wrong")
         return best, "content", note, lines, (warning,)

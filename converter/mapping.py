@@ -16,7 +16,7 @@ import shapely
 from clearway.errors import DrawingError
 
 from clearway.converter.evidence import (decide_from_content, describe, gather_evidence,
-                                         wall_thicknesses)
+                                         header_evidence, wall_thicknesses)
 from clearway.converter.floorplan import ROLES, LeftOutLayer
 from clearway.converter.inserts import BLOCK_OPENING_PREFIX
 from clearway.converter.openings import arc_radius
@@ -211,6 +211,8 @@ def _decide_units(content, override, by_role, visible, role_of):
     evidence = gather_evidence(swing_arcs=arcs, wall_lines=np.concatenate([lines, rings]),
                                dimensions=content.dimensions, span=span)
     header_unit = INSUNITS_CODES.get(content.insunits)
+    if header_unit is None:
+        evidence += header_evidence(content.header)
     unit, unit_source, note, lines, warnings = decide_from_content(
         header_unit, override, evidence, source=source)
     if unit_source == "content":

@@ -2,10 +2,15 @@
 
 import json
 
+import numpy as np
+import pytest
 from click.testing import CliRunner
 
 from clearway.cli import main
-from tests.conftest import new_drawing, save, walled_room
+from clearway.converter import read_floorplan
+from clearway.converter.evidence import (Evidence, decide_from_content, header_evidence,
+                                         plausibility)
+from tests.conftest import new_drawing, rectangle, save, walled_room
 
 
 def test_station_labels_do_not_name_the_hall(tmp_path):
@@ -33,3 +38,49 @@ def test_station_labels_do_not_name_the_hall(tmp_path):
     assert sorted(station["label"] for station in report["stations"]) == ["C1", "D1"]
     # analytic: one closed hall, one room, named by the one text that is no station's label
     assert [room["names"] for room in report["rooms"]] == [["PICKING HALL"]]
+
+
+def _us_warehouse(header):
+    """A 200 ft x 120 ft warehouse drawn in inches with no $INSUNITS: 8 in block walls, the
+    south wall broken by eight 9 ft dock doors 12 ft on centre (3 ft piers between them)."""
+    doc = new_drawing(0)
+    for key, value in header.items():
+        doc.header[key] = value
+    msp = doc.modelspace()
+    width, depth, wall = 2400.0, 1440.0, 8.0
+    edges = [0.0]
+    for k in range(8):
+        edges += [300.0 + 144 * k, 408.0 + 144 * k]
+    edges.append(width)
+    for x0, x1 in zip(edges[0::2], edges[1::2]):
+        msp.add_lwpolyline(rectangle(x0, 0, x1, wall), close=True, dxfattribs={"layer": "WALLS"})
+    msp.add_lwpolyline(rectangle(0, depth - wall, width, depth), close=True,
+                       dxfattribs={"layer": "WALLS"})
+    for x0 in (0.0, width - wall):
+        msp.add_lwpolyline(rectangle(x0, wall, x0 + wall, depth - wall), close=True,
+                           dxfattribs={"layer": "WALLS"})
+    return doc
+
+
+@pytest.mark.parametrize("header", [
+    {"$MEASUREMENT": 0},                 # common practice: a drawing begun on an imperial template
+    {"$LUNITS": 4, "$MEASUREMENT": 1},   # common practice: architectural units, feet and inches
+])
+def test_imperial_header_settings_decide_inches_when_insunits_is_unset(tmp_path, header):
+    plan = read_floorplan(save(_us_warehouse(header), tmp_path))
+    assert plan.units == "in" and plan.unit_source == "content"
+    # exact by definition: 1 in = 0.0254 m, so 2400 in = 60.96 m and 1440 in = 36.576 m
+    x0, y0, x1, y1 = plan.extents
+    assert (x1 - x0, y1 - y0) == pytest.approx((60.96, 36.576))
+
+
+def test_without_an_imperial_setting_8_in_walls_stay_ambiguous():
+    # analytic: 8 units are 0.08 m in cm and 0.2032 m in inches, both wall thicknesses in
+    # the trade's range; nothing else in the header speaks for either
+    thickness = Evidence("wall thickness", np.full(12, 8.0), 1.0)
+    assert plausibility(thickness, "cm") == plausibility(thickness, "in") == 1.0
+    imperial = header_evidence({"$MEASUREMENT": 0, "$LUNITS": 2})
+    assert decide_from_content(None, None, [thickness, *imperial], source="a.dxf")[0] == "in"
+    # the imperial system alone (no measurement of the content) decides nothing
+    extent = Evidence("extent", np.array([2400.0]), 1.0)
+    assert decide_from_content(None, None, [extent, *imperial], source="a.dxf")[0] is None
