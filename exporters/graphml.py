@@ -119,7 +119,10 @@ def render_graph(graph) -> bytes:
                if any(name in attrs for *_, attrs in (graph.nodes(data=True) if domain == "node"
                                                      else graph.edges(data=True)))]
     keys = sorted(KEYS + tuple(present), key=lambda key: ("gne".index(key[0][0]), key[1]))
-    types = {(domain, name): kind for domain, name, kind in keys}
+    # domain -> attribute name -> (key id, attr.type), for the data elements
+    written = {domain: {} for domain in ("graph", "node", "edge")}
+    for domain, name, kind in keys:
+        written[domain][name] = (key_id(domain, name), kind)
     root = etree.Element(_Q + "graphml", nsmap={None: GRAPHML_NS, "xsi": XSI_NS})
     root.set(f"{{{XSI_NS}}}schemaLocation", SCHEMA_LOCATION)
     for domain, name, kind in keys:
@@ -128,11 +131,14 @@ def render_graph(graph) -> bytes:
     element = etree.SubElement(root, _Q + "graph", {"id": "roadmap",
                                                     "edgedefault": "undirected"})
 
+    data_tag = _Q + "data"
+
     def add_data(parent, domain, values):
+        table = written[domain]
         for name in sorted(values):
-            if (domain, name) in types:
-                data = etree.SubElement(parent, _Q + "data", {"key": key_id(domain, name)})
-                data.text = _text(values[name], types[domain, name])
+            entry = table.get(name)
+            if entry is not None:
+                etree.SubElement(parent, data_tag, key=entry[0]).text = _text(values[name], entry[1])
 
     add_data(element, "graph", graph.graph)
     for node_id in sorted(graph.nodes, key=natural_key):

@@ -134,7 +134,8 @@ class LabelPlacer:
     """
 
     def __init__(self, lanes, lane_width: float) -> None:
-        self._lanes = [line.buffer(lane_width / 2, quad_segs=2) for line in lanes]
+        self._lanes = shapely.buffer(np.asarray(lanes, dtype=object).reshape(-1), lane_width / 2,
+                                     quad_segs=2)
         self._lane_tree = STRtree(self._lanes)
         edges, sign, owner = outline_edges(self._lanes)
         order = np.argsort(owner, kind="stable")
