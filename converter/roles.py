@@ -45,14 +45,16 @@ DEFAULT_ROLE_PATTERNS: Mapping[str, tuple[str, ...]] = MappingProxyType({
 
 #: Layers that the default patterns leave out although a role's word is in their name:
 #: linework above or below the cut plane (overhead, hidden, heads of openings, foundations:
-#: a stem wall or footing runs on under every door), demolished work and non-plotting
-#: layers. Patterns the user gives are not filtered.
+#: a stem wall or footing runs on under every door), demolished work, non-plotting layers
+#: and structural grids (``COLUMN-GRID``, ``S-COLS-GRID``: grid lines run across the whole
+#: floor and beyond it; the columns themselves sit on a column layer). Patterns the user
+#: gives are not filtered.
 DEFAULT_IGNORED_PATTERNS = ("*OVHD*", "*OVERHEAD*", "*HIDDEN*", "*HIDD*", "*-HEAD", "*-HEAD-*",
                             "*-ABOV*", "*-BELO*", "*-DEMO*", "*DEMOL*", "*-NPLT*", "*-IDEN*",
                             "*-TEXT*", "*-ANNO*", "*-DIMS*", "*-TAG*", "*-NOTE*", "*-ELEV*",
                             "*-SECT*", "*-SYMB*", "*FOOTER*", "*FOOTING*", "*-FTNG*", "*FNDN*",
                             "*FOUNDATION*", "*STEM-WALL*", "*STEM_WALL*", "*STEM WALL*",
-                            "*STEMWALL*", "*FUNDAMENT*", "*FONDATION*", "*CIMENTACI*")
+                            "*STEMWALL*", "*FUNDAMENT*", "*FONDATION*", "*CIMENTACI*", "*GRID*")
 
 #: Opening blocks and layers by kind: a door swings or slides (passable), a window is glazing
 #: (closed like wall). Block names are matched like layer names; door blocks named by size
@@ -130,6 +132,8 @@ class Roles:
     ('wall', 'racking', None)
     >>> roles.role_of("SITE$0$Mauer"), roles.role_of("plan|A-DOOR"), roles.role_of("A-WALL-OVHD")
     ('wall', 'opening', None)
+    >>> roles.role_of("COLUMN-GRID"), roles.role_of("COLUMNS")
+    (None, 'wall')
     """
 
     patterns: Mapping[str, tuple[str, ...]] = field(default_factory=lambda: DEFAULT_ROLE_PATTERNS)

@@ -3,6 +3,7 @@
 import json
 
 import numpy as np
+import shapely
 import pytest
 from click.testing import CliRunner
 
@@ -84,3 +85,25 @@ def test_without_an_imperial_setting_8_in_walls_stay_ambiguous():
     # the imperial system alone (no measurement of the content) decides nothing
     extent = Evidence("extent", np.array([2400.0]), 1.0)
     assert decide_from_content(None, None, [extent, *imperial], source="a.dxf")[0] is None
+
+
+def test_column_grid_lines_do_not_cut_the_hall_into_cells(tmp_path):
+    """Grid lines on a layer named for the column grid cross the whole hall and run past its
+    walls; as walls they cut a 30 m x 20 m hall into 12 unreachable cells."""
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 30, 20)  # 0.2 m walls
+    for x in range(0, 31, 10):  # common practice: grid lines run past the building
+        msp.add_line((x, -3), (x, 23), dxfattribs={"layer": "COLUMN-GRID"})
+        msp.add_circle((x, 24), 0.8, dxfattribs={"layer": "COLUMN-GRID"})  # grid bubble
+    for y in range(0, 21, 5):
+        msp.add_line((-3, y), (33, y), dxfattribs={"layer": "COLUMN-GRID"})
+    for x, y in ((10, 10), (20, 10)):  # 0.4 m square columns on the column layer
+        msp.add_lwpolyline(rectangle(x - 0.2, y - 0.2, x + 0.2, y + 0.2), close=True,
+                           dxfattribs={"layer": "COLUMNS"})
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: one hall, 29.6 m x 19.6 m inside the walls, less two 0.4 m x 0.4 m columns
+    assert len(shapely.get_parts(plan.free_space)) == 1
+    assert plan.free_space.area == pytest.approx(29.6 * 19.6 - 2 * 0.16, rel=1e-3)
+    assert plan.regions["wall"].contains(shapely.Point(10, 10))
+    assert [layer.name for layer in plan.left_out if layer.ignored] == ["COLUMN-GRID"]
