@@ -1,6 +1,6 @@
 """`python -m clearway`: the same command line as the `clearway` script."""
 
-from clearway.cli import main
+from clearway.cli import script
 
 if __name__ == "__main__":
-    main(prog_name="clearway")
+    script()

@@ -19,7 +19,7 @@ from clearway.cli_graphs import compare, route
 from clearway.cli_view import view
 from clearway.errors import ClearwayError
 
-__all__ = ["main", "InputError", "drawing_options", "converter_options"]
+__all__ = ["main", "script", "InputError", "drawing_options", "converter_options"]
 
 
 class OneLineErrorGroup(click.Group):
@@ -146,3 +146,22 @@ def layers(drawing, as_json, **options):
 
 for _command in (build, route, compare, view):
     main.add_command(_command)
+
+
+def script():
+    """Run the command line as a process of its own: the `clearway` script, `python -m clearway`.
+
+    When the command has finished (its outputs written and closed, its exit code set), the
+    objects still alive are moved out of the cyclic garbage collector's reach
+    (:func:`gc.freeze`): the process ends next, and Python's last full collection would
+    otherwise traverse the objects of a drawing and its roadmap (0.04 to 0.13 s of CPU on
+    the 5,000-bay suite drawings, medians of five) only to free memory the system reclaims.
+    Reference counting still frees them, and the standard streams are still flushed. In
+    process (click's CliRunner, the library) nothing is frozen: call :data:`main` there.
+    """
+    import gc
+
+    try:
+        main(prog_name="clearway")
+    finally:
+        gc.freeze()
