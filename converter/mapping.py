@@ -134,14 +134,16 @@ def left_out_layers(content, visible, role_of, roles):
 
 
 #: Layers never guessed to be walls: furniture, fittings, annotation, hatching, grids and
-#: axes (also in Chinese and Japanese drafting: 轴线, 标注, 文字, 尺寸, 家具, 填充, DOTE), and
-#: the site around the building (planting, trees, contours, paving).
+#: axes (also in Chinese and Japanese drafting: 轴线, 标注, 文字, 尺寸, 家具, 填充, DOTE), the
+#: site around the building (planting, trees, contours, paving), and floor markings (painted
+#: aisle lines and AGV paths come in pairs of parallel lines as walls do).
 NOT_WALLS = ("*FURN*", "*MOBIL*", "*MÖBEL*", "*MOEBEL*", "*FIXT*", "*EQPM*", "*EQUIP*",
              "*TEXT*", "*DIM*", "*ANNO*", "*HATCH*", "*PATT*", "*GRID*", "*AXIS*", "*TITLE*",
              "*VIEWPORT*", "*VPORT*", "DEFPOINTS", "*PLANT*", "*TREE*", "*VEGET*", "*LANDSCAP*",
              "*TOPO*", "*CONTOUR*", "*PFLANZ*", "*BAUM*", "*ARBRE*", "*ARBOL*", "*PAVING*",
              "*TEXTURE*", "*FLOORING*", "*TILE*", "L-*", "DOTE*", "*轴*", "*標註*", "*标注*",
-             "*文字*", "*尺寸*", "*家具*", "*填充*") + DEFAULT_IGNORED_PATTERNS
+             "*文字*", "*尺寸*", "*家具*", "*填充*", "*STRIP*", "*PAINT*", "*MARKING*",
+             "*AGV*") + DEFAULT_IGNORED_PATTERNS
 
 
 def guess_wall_layer(content, visible, role_of):

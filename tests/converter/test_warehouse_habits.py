@@ -107,3 +107,22 @@ def test_column_grid_lines_do_not_cut_the_hall_into_cells(tmp_path):
     assert plan.free_space.area == pytest.approx(29.6 * 19.6 - 2 * 0.16, rel=1e-3)
     assert plan.regions["wall"].contains(shapely.Point(10, 10))
     assert [layer.name for layer in plan.left_out if layer.ignored] == ["COLUMN-GRID"]
+
+
+def test_floor_striping_is_not_guessed_for_walls(tmp_path):
+    """No layer is named for walls; the shell's two faces are on BLDG-SHELL, and painted aisle
+    lines (pairs of lines 0.1 m apart) on STRIPING outnumber them: the shell is the wall."""
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    for ring in (rectangle(0, 0, 50, 30), rectangle(0.25, 0.25, 49.75, 29.75)):
+        for start, end in zip(ring, ring[1:] + ring[:1]):
+            msp.add_line(start, end, dxfattribs={"layer": "BLDG-SHELL"})
+    for y in (4.0, 9.4, 14.8, 20.2):
+        msp.add_lwpolyline(rectangle(6, y, 40, y + 2.4), close=True, dxfattribs={"layer": "RACKS"})
+        for stripe in (y - 0.5, y + 2.9):  # common practice: 100 mm aisle tape, both edges drawn
+            msp.add_line((5, stripe), (41, stripe), dxfattribs={"layer": "STRIPING"})
+            msp.add_line((5, stripe + 0.1), (41, stripe + 0.1), dxfattribs={"layer": "STRIPING"})
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: the hall inside the shell, 49.5 m x 29.5 m, less four 34 m x 2.4 m racks
+    assert plan.free_space.area == pytest.approx(49.5 * 29.5 - 4 * 34 * 2.4, rel=1e-3)
+    assert "STRIPING" in [layer.name for layer in plan.left_out]
