@@ -62,6 +62,11 @@ def _summary(plan, roadmap, outdir: str, names=BUILD_FILES) -> list[str]:
              f"{counts['lane_length']:.1f} m in total, {counts['counts']['junctions']} junctions, "
              f"stations reached {counts['counts']['stations_reachable']}/"
              f"{counts['counts']['stations']}"]
+    if counts["components"] > 1:
+        sizes = counts["component_nodes"]
+        shown = ", ".join(str(size) for size in sizes[:5]) + (", ..." if len(sizes) > 5 else "")
+        lines.append(f"separate lane networks: {counts['components']} ({shown} nodes); "
+                     "no route joins them")
     for station in unreachable:
         lines.append(f"  unreachable: {station.label} ({station.reason or 'no lane reaches it'})")
     if findings.pinch_points:

@@ -115,6 +115,30 @@ def test_progress_and_summary_on_stderr(built):
     assert any(line.startswith(f"files in {outdir}") for line in lines)
 
 
+@pytest.mark.parametrize("divided", [False, True])
+def test_summary_says_when_the_lanes_fall_into_separate_networks(tmp_path, divided):
+    # analytic: a 16 m x 8 m hall is one network; a wall right across it, with no door,
+    # leaves two halves that no lane joins, which a user must hear about in the summary
+    from tests.conftest import walled_room
+
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 16, 8)
+    if divided:
+        msp.add_lwpolyline([(7.9, 0.1), (8.1, 0.1), (8.1, 7.9), (7.9, 7.9)], close=True,
+                           dxfattribs={"layer": "A-WALL"})
+    result = run("build", save(doc, tmp_path), "-o", tmp_path / "out")
+    assert result.exit_code == 0, result.output
+    networks = [line for line in result.stderr.splitlines()
+                if line.startswith("separate lane networks:")]
+    report = json.loads((tmp_path / "out" / "report.json").read_text())
+    assert report["components"] == (2 if divided else 1)
+    if divided:
+        assert len(networks) == 1 and networks[0].startswith("separate lane networks: 2 (")
+    else:
+        assert networks == []
+
+
 def test_builds_in_processes_with_different_hash_seeds_give_identical_files(tmp_path):
     # sets and dicts of strings iterate in an order that depends on PYTHONHASHSEED, which
     # differs between processes: two processes, two seeds, one set of bytes
