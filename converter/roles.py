@@ -47,14 +47,17 @@ DEFAULT_ROLE_PATTERNS: Mapping[str, tuple[str, ...]] = MappingProxyType({
 #: linework above or below the cut plane (overhead, hidden, heads of openings, foundations:
 #: a stem wall or footing runs on under every door), demolished work, non-plotting layers
 #: and structural grids (``COLUMN-GRID``, ``S-COLS-GRID``: grid lines run across the whole
-#: floor and beyond it; the columns themselves sit on a column layer). Patterns the user
+#: floor and beyond it; the columns themselves sit on a column layer); in warehouses, aisle
+#: outlines (``RACK-CLEAR-AISLE``: an aisle is floor), sprinklers and lights named after the
+#: racking they serve (``SPRINKLER-RACK``, ``E-LITE-RACK``: overhead). Patterns the user
 #: gives are not filtered.
 DEFAULT_IGNORED_PATTERNS = ("*OVHD*", "*OVERHEAD*", "*HIDDEN*", "*HIDD*", "*-HEAD", "*-HEAD-*",
                             "*-ABOV*", "*-BELO*", "*-DEMO*", "*DEMOL*", "*-NPLT*", "*-IDEN*",
                             "*-TEXT*", "*-ANNO*", "*-DIMS*", "*-TAG*", "*-NOTE*", "*-ELEV*",
                             "*-SECT*", "*-SYMB*", "*FOOTER*", "*FOOTING*", "*-FTNG*", "*FNDN*",
                             "*FOUNDATION*", "*STEM-WALL*", "*STEM_WALL*", "*STEM WALL*",
-                            "*STEMWALL*", "*FUNDAMENT*", "*FONDATION*", "*CIMENTACI*", "*GRID*")
+                            "*STEMWALL*", "*FUNDAMENT*", "*FONDATION*", "*CIMENTACI*", "*GRID*",
+                            "*AISLE*", "*SPRINK*", "E-LITE*", "*LIGHTING*")
 
 #: Opening blocks and layers by kind: a door swings or slides (passable), a window is glazing
 #: (closed like wall). Block names are matched like layer names; door blocks named by size

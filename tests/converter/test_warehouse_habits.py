@@ -126,3 +126,22 @@ def test_floor_striping_is_not_guessed_for_walls(tmp_path):
     # analytic: the hall inside the shell, 49.5 m x 29.5 m, less four 34 m x 2.4 m racks
     assert plan.free_space.area == pytest.approx(49.5 * 29.5 - 4 * 34 * 2.4, rel=1e-3)
     assert "STRIPING" in [layer.name for layer in plan.left_out]
+
+
+@pytest.mark.parametrize("layer", ["RACK-CLEAR-AISLE", "SPRINKLER-RACK", "E-LITE-RACK",
+                                   "RACK LIGHTING"])
+def test_aisle_outlines_and_overhead_services_named_for_racks_are_not_racking(tmp_path, layer):
+    """A closed outline of the aisle between two rack rows, or sprinkler and light runs above
+    it, on layers whose names hold the word RACK: none is an obstacle on the floor (an aisle
+    is floor; sprinklers and lights hang overhead). common practice"""
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 30, 20)  # 0.2 m walls
+    for y in (4.0, 9.0):  # two rack rows 2.4 m deep, a 2.6 m aisle between them
+        msp.add_lwpolyline(rectangle(5, y, 25, y + 2.4), close=True, dxfattribs={"layer": "RACKS"})
+    msp.add_lwpolyline(rectangle(5, 6.4, 25, 9.0), close=True, dxfattribs={"layer": layer})
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: the hall inside its walls (29.6 m x 19.6 m) less the two rows (20 m x 2.4 m)
+    assert plan.free_space.area == pytest.approx(29.6 * 19.6 - 2 * 20 * 2.4, rel=1e-6)
+    assert plan.free_space.contains(shapely.Point(15, 7.7))  # the middle of the aisle
+    assert [left.name for left in plan.left_out if left.ignored] == [layer]
