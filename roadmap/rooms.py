@@ -35,6 +35,9 @@ NARROWING_RATIO = 1.5
 NARROWING_FLOOR = 0.1
 #: Faces smaller than this (m^2) are slivers of a cut and join their neighbour.
 SLIVER = 1e-3
+#: Largest room, m², that a station's label alone may name: a charger closet or a store
+#: room named by the one station in it, not a hall holding one charger (common practice).
+STATION_ROOM_AREA = 100.0
 #: Layer names that hold annotation (room names and numbers) in common layer conventions.
 ANNOTATION_LAYER = re.compile(r"anno|text|txt|room|raum|name|num|iden|label|tag|space|nplt",
                               re.IGNORECASE)
@@ -222,8 +225,8 @@ def room_names(rooms: np.ndarray, texts, offset, openings=(),
     left out, and so are door tags (`DOOR_TAG`) standing within 1.5 m of a door among
     `openings` (drawing frame, like the texts). A text that reads as one of
     `station_labels` labels its station: it names a room only that has no other text and
-    no other station label (a charger closet called CHARGER), never a hall of chargers
-    and docks ("C1 C2 D1 D2").
+    no other station label and is no larger than STATION_ROOM_AREA (a charger closet called
+    CHARGER), never a hall of chargers and docks ("C1 C2 D1 D2") nor a hall holding one.
 
     Examples
     --------
@@ -244,8 +247,9 @@ def room_names(rooms: np.ndarray, texts, offset, openings=(),
         if room >= 0:
             names[room].append(text)
     labels = {" ".join(str(label).split()) for label in station_labels}
+    small = shapely.area(rooms) <= STATION_ROOM_AREA
     result = []
-    for mine in names:
+    for mine, closet in zip(names, small):
         mine.sort(key=lambda t: (not ANNOTATION_LAYER.search(t.layer or ""), -float(t.height),
                                  -float(t.y), float(t.x)))
         seen: list[str] = []
@@ -254,7 +258,7 @@ def room_names(rooms: np.ndarray, texts, offset, openings=(),
             if label not in seen:
                 seen.append(label)
         named = [label for label in seen if label not in labels]
-        result.append(tuple(named if named or len(seen) > 1 else seen))
+        result.append(tuple(named if named or len(seen) > 1 or not closet else seen))
     return result
 
 

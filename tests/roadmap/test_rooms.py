@@ -282,3 +282,12 @@ def test_station_labels_name_a_room_only_as_its_one_text():
     assert names == [(), ("CHARGER",), ("PACKING",)]
     # without stations every text names its room, as before
     assert room_names(rooms, texts, (0.0, 0.0)) == [("C1", "D1"), ("CHARGER",), ("PACKING", "D2")]
+
+
+def test_a_hall_holding_one_station_is_not_named_after_it():
+    # common practice: a 40 m x 25 m hall with one charger in it is not "CH1"; a 6 m x 5 m
+    # closet holding one charger may be called by its label (rooms.STATION_ROOM_AREA)
+    rooms = np.array([shapely.box(0, 0, 40, 25), shapely.box(40, 0, 46, 5)])
+    texts = [PlanText("CH1", 20, 12, 0.3, "CHARGERS"), PlanText("CH2", 43, 2, 0.3, "CHARGERS")]
+    assert room_names(rooms, texts, (0.0, 0.0), station_labels=["CH1", "CH2"]) == [
+        (), ("CH2",)]
