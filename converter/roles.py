@@ -47,17 +47,21 @@ DEFAULT_ROLE_PATTERNS: Mapping[str, tuple[str, ...]] = MappingProxyType({
 #: linework above or below the cut plane (overhead, hidden, heads of openings, foundations:
 #: a stem wall or footing runs on under every door), demolished work, non-plotting layers
 #: and structural grids (``COLUMN-GRID``, ``S-COLS-GRID``: grid lines run across the whole
-#: floor and beyond it; the columns themselves sit on a column layer); in warehouses, aisle
-#: outlines (``RACK-CLEAR-AISLE``: an aisle is floor), sprinklers and lights named after the
-#: racking they serve (``SPRINKLER-RACK``, ``E-LITE-RACK``: overhead). Patterns the user
+#: floor and beyond it; the columns themselves sit on a column layer). Patterns the user
 #: gives are not filtered.
 DEFAULT_IGNORED_PATTERNS = ("*OVHD*", "*OVERHEAD*", "*HIDDEN*", "*HIDD*", "*-HEAD", "*-HEAD-*",
                             "*-ABOV*", "*-BELO*", "*-DEMO*", "*DEMOL*", "*-NPLT*", "*-IDEN*",
                             "*-TEXT*", "*-ANNO*", "*-DIMS*", "*-TAG*", "*-NOTE*", "*-ELEV*",
                             "*-SECT*", "*-SYMB*", "*FOOTER*", "*FOOTING*", "*-FTNG*", "*FNDN*",
                             "*FOUNDATION*", "*STEM-WALL*", "*STEM_WALL*", "*STEM WALL*",
-                            "*STEMWALL*", "*FUNDAMENT*", "*FONDATION*", "*CIMENTACI*", "*GRID*",
-                            "*AISLE*", "*SPRINK*", "E-LITE*", "*LIGHTING*")
+                            "*STEMWALL*", "*FUNDAMENT*", "*FONDATION*", "*CIMENTACI*", "*GRID*")
+
+#: Layers that the racking patterns leave out although RACK is in their name: aisle outlines
+#: (``RACK-CLEAR-AISLE``: an aisle is floor) and sprinklers and lights named after the racking
+#: they serve (``SPRINKLER-RACK``, ``E-LITE-RACK``: overhead). Only racking: a layer that
+#: another role's word also names (``RACK-AISLE-KEEPOUT``) takes that role, so no keep-out
+#: zone is ever left out by these words.
+NOT_RACKING_PATTERNS = ("*AISLE*", "*SPRINK*", "E-LITE*", "*LIGHTING*")
 
 #: Opening blocks and layers by kind: a door swings or slides (passable), a window is glazing
 #: (closed like wall). Block names are matched like layer names; door blocks named by size
@@ -180,7 +184,8 @@ class Roles:
         Roles whose patterns the user gave are tried first, then the others in ROLES order.
         The name after an external-reference prefix (``XREF$0$NAME``, ``XREF|NAME``) is
         matched too. A layer that only a default pattern matches is left out when it also
-        matches DEFAULT_IGNORED_PATTERNS (overhead, hidden, demolished, annotation).
+        matches DEFAULT_IGNORED_PATTERNS (overhead, hidden, demolished, annotation), and
+        from racking when it matches NOT_RACKING_PATTERNS (aisles, overhead services).
         """
         names = name_candidates(layer_name)
         ignored = None
@@ -190,7 +195,8 @@ class Roles:
                 if role not in self.explicit:
                     if ignored is None:
                         ignored = matches_any(names, DEFAULT_IGNORED_PATTERNS)
-                    if ignored:
+                    if ignored or (role == "racking" and
+                                   matches_any(names, NOT_RACKING_PATTERNS)):
                         continue
                 return role
         return None

@@ -145,3 +145,18 @@ def test_aisle_outlines_and_overhead_services_named_for_racks_are_not_racking(tm
     assert plan.free_space.area == pytest.approx(29.6 * 19.6 - 2 * 20 * 2.4, rel=1e-6)
     assert plan.free_space.contains(shapely.Point(15, 7.7))  # the middle of the aisle
     assert [left.name for left in plan.left_out if left.ignored] == [layer]
+
+
+def test_a_keep_out_zone_named_after_an_aisle_stays_a_keep_out_zone(tmp_path):
+    """The aisle words leave only racking out: a keep-out zone drawn on a layer that names
+    both the racking's aisle and the keep-out keeps its role (a robot must never be routed
+    through it)."""
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 30, 20)  # 0.2 m walls
+    msp.add_lwpolyline(rectangle(10, 5, 20, 10), close=True,
+                       dxfattribs={"layer": "RACK-AISLE-KEEPOUT"})
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: the 10 m x 5 m zone is left out of the free floor
+    assert plan.free_space.area == pytest.approx(29.6 * 19.6 - 50.0, rel=1e-6)
+    assert not plan.free_space.contains(shapely.Point(15, 7.5))
