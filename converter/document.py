@@ -149,8 +149,6 @@ def open_document(path, limits=None):
     return doc, hashlib.sha256(data).hexdigest(), notices
 
 
-
-
 def _read_ascii(data):
     """(document, auditor) of an ASCII DXF: the ordinary reader when `data` is sound, else
     ezdxf's recovery: also when the ordinary reader refuses what the checks let through, and
