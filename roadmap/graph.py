@@ -82,6 +82,20 @@ def contract_short_edges(vertices, clearance, edges, tolerance: float = MERGE_TO
     return merged, merged_clearance, new_edges
 
 
+def _split(count: int, edges: np.ndarray, stop: np.ndarray):
+    """The lanes as components: every vertex in `stop` split into one copy per edge.
+
+    Edge i runs from u[i] to v[i], where an end in `stop` becomes its copy ``count + 2 i``
+    (first end) or ``count + 2 i + 1`` (second end); label holds each split vertex's lane.
+    """
+    ids = np.arange(len(edges))
+    u = np.where(stop[edges[:, 0]], count + 2 * ids, edges[:, 0])
+    v = np.where(stop[edges[:, 1]], count + 2 * ids + 1, edges[:, 1])
+    _, label = connected_components(_adjacency(count + 2 * len(edges), np.stack([u, v], 1)),
+                                    directed=False)
+    return u, v, label
+
+
 def chain_lanes(count: int, edges: np.ndarray, terminal: np.ndarray | None = None) -> Chains:
     """Chain degree-2 runs of the graph (`count` vertices, `edges` (E, 2)) into lanes.
 
@@ -100,13 +114,9 @@ def chain_lanes(count: int, edges: np.ndarray, terminal: np.ndarray | None = Non
     stop = degree != 2
     if terminal is not None:
         stop |= terminal
-    ids = np.arange(len(edges))
-    u = np.where(stop[edges[:, 0]], count + 2 * ids, edges[:, 0])
-    v = np.where(stop[edges[:, 1]], count + 2 * ids + 1, edges[:, 1])
+    u, v, label = _split(count, edges, stop)
     split_count = count + 2 * len(edges)
     original = np.concatenate([np.arange(count), edges.ravel()])
-    _, label = connected_components(_adjacency(split_count, np.stack([u, v], 1)),
-                                    directed=False)
     in_edge = np.zeros(split_count, dtype=bool)
     in_edge[u] = in_edge[v] = True
     # One start per lane: its smallest copy vertex, or its smallest vertex on a closed cycle.
@@ -124,16 +134,13 @@ def chain_lanes(count: int, edges: np.ndarray, terminal: np.ndarray | None = Non
     visit = depth_first_order(graph, root, directed=False, return_predecessors=False)[1:]
     lane_of = label[visit]
     boundaries = np.flatnonzero(np.r_[True, lane_of[1:] != lane_of[:-1], True])
-    closed = ~(visit[boundaries[:-1]] >= count)
-    pieces, offsets = [], [0]
+    start, stop = boundaries[:-1], boundaries[1:]
+    closed = visit[start] < count
     sequence = original[visit]
-    for index, (a, b) in enumerate(zip(boundaries[:-1], boundaries[1:])):
-        piece = sequence[a:b]
-        if closed[index]:
-            piece = np.r_[piece, piece[0]]
-        pieces.append(piece)
-        offsets.append(offsets[-1] + len(piece))
-    return Chains(np.concatenate(pieces), np.asarray(offsets, dtype=np.int64))
+    # a closed lane repeats its first vertex at its end
+    order = np.insert(sequence, stop[closed], sequence[start[closed]])
+    offsets = np.r_[0, np.cumsum(stop - start + closed)]
+    return Chains(order, offsets.astype(np.int64))
 
 
 def _is_spur(points: np.ndarray, clearance: np.ndarray, slope: float, probe: float) -> bool:
@@ -148,6 +155,64 @@ def _is_spur(points: np.ndarray, clearance: np.ndarray, slope: float, probe: flo
 
 def _length(points: np.ndarray) -> float:
     return float(np.hypot(*np.diff(points, axis=0).T).sum())
+
+
+#: Below this margin (metres) the vectorised spur test defers to :func:`_is_spur`; its
+#: own rounding is about 1e-16 of the total lane length (under 1e-10 m on any floor here).
+SPUR_DOUBT = 1e-7
+
+
+def _spur_lanes(chains: Chains, vertices, clearance, leaf, slope: float, probe: float):
+    """Which lanes are spurs (bool per lane): :func:`_is_spur` from either end in `leaf`.
+
+    `leaf` (V,) marks the free ends that may be pruned (degree 1, not protected). One pass
+    over all lanes: the distance along each lane is read off one running sum over the
+    concatenated lanes, and the clearance at `probe` metres from an end is interpolated
+    between the two vertices that straddle it. Lanes within SPUR_DOUBT of the threshold (or
+    of the tolerance on short lanes) are decided by :func:`_is_spur` itself, so the answer
+    is that function's to the bit.
+    """
+    order, offsets = chains.order, chains.offsets
+    first, last = offsets[:-1], offsets[1:] - 1
+    head, tail = order[first], order[last]
+    ends = np.concatenate([np.flatnonzero((head != tail) & leaf[head]),
+                           np.flatnonzero((head != tail) & leaf[tail])])
+    from_head = np.arange(len(ends)) < np.count_nonzero((head != tail) & leaf[head])
+    result = np.zeros(len(chains), dtype=bool)
+    if len(ends) == 0:
+        return result
+    step = np.hypot(*np.diff(vertices[order], axis=0).T)
+    step[last[:-1]] = 0.0  # no step from one lane into the next
+    running = np.r_[0.0, np.cumsum(step)]
+    a, b = first[ends], last[ends]
+    total = running[b] - running[a]
+    reach = np.minimum(probe, total)
+    # the point `reach` along from the free end, as a position on the running sum
+    at = np.where(from_head, running[a] + reach, running[b] - reach)
+    j = np.clip(np.searchsorted(running, at, side="right") - 1, a, np.maximum(b - 1, a))
+    span = running[j + 1] - running[j]
+    c0, c1 = clearance[order[j]], clearance[order[np.minimum(j + 1, b)]]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        there = np.where(span > 0, c0 + (c1 - c0) * (at - running[j]) / span, c0)
+    rise = there - clearance[np.where(from_head, head[ends], tail[ends])]
+    spur = (rise >= slope * reach) | (reach <= MERGE_TOLERANCE)
+    doubt = (np.abs(rise - slope * reach) <= SPUR_DOUBT) | \
+        (np.abs(reach - MERGE_TOLERANCE) <= SPUR_DOUBT) | (np.abs(total - probe) <= SPUR_DOUBT)
+    for k in np.flatnonzero(doubt):
+        lane = chains.lane(ends[k])
+        seq = lane if from_head[k] else lane[::-1]
+        spur[k] = _is_spur(vertices[seq], clearance[seq], slope, probe)
+    result[ends[spur]] = True
+    return result
+
+
+def _lane_edges(chains: Chains, lanes: np.ndarray) -> np.ndarray:
+    """The edges (E, 2) of the given lanes, each as (low, high) vertex."""
+    order, offsets = chains.order, chains.offsets
+    size = offsets[lanes + 1] - offsets[lanes] - 1
+    begin = np.repeat(offsets[lanes], size) + \
+        (np.arange(size.sum()) - np.repeat(np.cumsum(size) - size, size))
+    return np.sort(np.stack([order[begin], order[begin + 1]], 1), axis=1)
 
 
 def prune_spurs(vertices, clearance, edges, *, protected=None, slope: float = SPUR_SLOPE,
@@ -169,24 +234,28 @@ def prune_spurs(vertices, clearance, edges, *, protected=None, slope: float = SP
     protected = np.zeros(count, bool) if protected is None else protected
     alive = np.asarray(edges, dtype=np.int64)  # int64: the edge keys below reach V**2
     isolated = []
+    dirty = None
     for _ in range(max_rounds):
-        chains = chain_lanes(count, alive, protected)
         degree = np.bincount(alive.ravel(), minlength=count)
-        doomed = []
-        for index in range(len(chains)):
-            lane = chains.lane(index)
-            head, tail = lane[0], lane[-1]
-            if head == tail:
-                continue
-            for end, seq in ((head, lane), (tail, lane[::-1])):
-                if degree[end] == 1 and not protected[end] and \
-                        _is_spur(vertices[seq], clearance[seq], slope, probe):
-                    doomed.append(lane)
-                    break
-        if not doomed:
+        if dirty is None:
+            chains = chain_lanes(count, alive, protected)
+        else:
+            # Only lanes through a vertex whose degree or protection changed can differ
+            # from the last round's, and every other lane was no spur then: chain those
+            # lanes alone (a subset keeps the edges' order, so lanes keep their start,
+            # direction and order).
+            stop = (degree != 2) | protected
+            u, _, label = _split(count, alive, stop)
+            lane_of = label[u]
+            redo = np.isin(lane_of, lane_of[dirty[alive[:, 0]] | dirty[alive[:, 1]]])
+            chains = chain_lanes(count, alive[redo], stop)
+        doomed = np.flatnonzero(_spur_lanes(chains, vertices, clearance,
+                                            (degree == 1) & ~protected, slope, probe))
+        if not len(doomed):
             break
-        drop = np.unique(np.concatenate(
-            [np.sort(np.stack([lane[:-1], lane[1:]], 1), axis=1) for lane in doomed]), axis=0)
+        drop = np.unique(_lane_edges(chains, doomed), axis=0)
+        dirty = np.zeros(count, dtype=bool)
+        dirty[drop] = True
         _, label = connected_components(_adjacency(count, alive), directed=False)
         key = alive[:, 0] * count + alive[:, 1]
         dropped = np.isin(key, drop[:, 0] * count + drop[:, 1])
@@ -197,7 +266,7 @@ def prune_spurs(vertices, clearance, edges, *, protected=None, slope: float = SP
             best = int(members[np.argmax(clearance[members])])
             # keep the longest doomed lane from the vertex of greatest clearance (a square
             # room's axis is all spurs), so the component keeps an edge, never a lone node
-            through = [lane for lane in doomed if best in (lane[0], lane[-1])]
+            through = [seq for seq in map(chains.lane, doomed) if best in (seq[0], seq[-1])]
             if not through:
                 isolated.append(best)
                 continue
@@ -206,6 +275,7 @@ def prune_spurs(vertices, clearance, edges, *, protected=None, slope: float = SP
             dropped &= ~np.isin(key, spared[:, 0] * count + spared[:, 1])
             protected = protected.copy()
             protected[[lane[0], lane[-1]]] = True
+            dirty[[lane[0], lane[-1]]] = True
         alive = alive[~dropped]
     return alive, np.asarray(sorted(set(isolated)), dtype=np.int64)
 

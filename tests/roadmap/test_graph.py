@@ -161,3 +161,78 @@ def test_spurs_pruned_on_large_axes_with_int32_edges():
     kept, isolated = prune_spurs(vertices, clearance, edges)
     assert sorted(map(tuple, kept.tolist())) == [(base + i, base + i + 1) for i in range(10)]
     assert len(isolated) == 0
+
+
+def _prune_by_definition(vertices, clearance, edges, protected):
+    """prune_spurs as defined: every round chains the whole graph and tests every leaf lane
+    with _is_spur alone (the slow form the vectorised, incremental rounds must equal)."""
+    from clearway.roadmap.graph import SPUR_PROBE, SPUR_SLOPE, _is_spur, _length
+    from scipy.sparse.csgraph import connected_components
+    from clearway.roadmap.graph import _adjacency
+    count = len(vertices)
+    alive, isolated = np.asarray(edges, dtype=np.int64), []
+    for _ in range(50):
+        chains = chain_lanes(count, alive, protected)
+        degree = np.bincount(alive.ravel(), minlength=count)
+        doomed = []
+        for index in range(len(chains)):
+            lane = chains.lane(index)
+            if lane[0] != lane[-1] and any(
+                    degree[seq[0]] == 1 and not protected[seq[0]] and
+                    _is_spur(vertices[seq], clearance[seq], SPUR_SLOPE, SPUR_PROBE)
+                    for seq in (lane, lane[::-1])):
+                doomed.append(lane)
+        if not doomed:
+            break
+        key = alive[:, 0] * count + alive[:, 1]
+        pairs = np.concatenate([np.sort(np.stack([s[:-1], s[1:]], 1), axis=1) for s in doomed])
+        dropped = np.isin(key, pairs[:, 0] * count + pairs[:, 1])
+        _, label = connected_components(_adjacency(count, alive), directed=False)
+        remaining = np.bincount(label[alive[~dropped, 0]], minlength=label.max() + 1)
+        for component in np.unique(label[alive[dropped, 0]]):
+            if remaining[component]:
+                continue
+            members = np.flatnonzero(label == component)
+            best = int(members[np.argmax(clearance[members])])
+            through = [s for s in doomed if best in (s[0], s[-1])]
+            if not through:
+                isolated.append(best)
+                continue
+            lane = max(through, key=lambda s: (_length(vertices[s]), -int(s[-1])))
+            spared = np.sort(np.stack([lane[:-1], lane[1:]], 1), axis=1)
+            dropped &= ~np.isin(key, spared[:, 0] * count + spared[:, 1])
+            protected = protected.copy()
+            protected[[lane[0], lane[-1]]] = True
+        alive = alive[~dropped]
+    return alive, sorted(set(isolated))
+
+
+@settings(max_examples=60, deadline=None)
+@given(seed=st.integers(0, 2**32 - 1), size=st.integers(3, 120), extra=st.integers(0, 30),
+       steep=st.floats(0.0, 1.0))
+def test_pruning_rounds_equal_the_definition_on_random_trees(seed, size, extra, steep):
+    # The vectorised spur test and the rounds that re-chain only the lanes at changed
+    # vertices must drop exactly what the definition drops. Clearances fall at exactly
+    # SPUR_SLOPE on a share of the edges (grid-aligned unit steps), to hit the threshold.
+    # source: the definition above (_is_spur per leaf lane, full re-chaining every round)
+    from clearway.roadmap.graph import SPUR_SLOPE, prune_spurs
+    rng = np.random.default_rng(seed)
+    vertices = rng.integers(0, 12, (size, 2)).astype(float) * 0.25
+    vertices[:, 0] += np.arange(size) * 1e-3           # distinct points, near-grid steps
+    parent = np.r_[0, [rng.integers(0, i) for i in range(1, size)]]
+    edges = np.stack([parent[1:], np.arange(1, size)], 1)
+    if extra:
+        more = rng.integers(0, size, (extra, 2))
+        edges = np.vstack([edges, more[more[:, 0] != more[:, 1]]])
+    edges = np.unique(np.sort(edges, axis=1), axis=0)
+    depth = np.zeros(size)
+    for child in range(1, size):
+        depth[child] = depth[parent[child]] + np.hypot(*(vertices[child] - vertices[parent[child]]))
+    clearance = np.where(rng.random(size) < steep, 2.0 - SPUR_SLOPE * depth,
+                         rng.uniform(0.3, 2.0, size))
+    protected = rng.random(size) < 0.05
+    kept, isolated = prune_spurs(vertices, clearance, edges, protected=protected)
+    expected_kept, expected_isolated = _prune_by_definition(vertices, clearance, edges,
+                                                            protected)
+    assert kept.tolist() == expected_kept.tolist()
+    assert isolated.tolist() == expected_isolated
