@@ -50,36 +50,43 @@ class Attachment:
 def containing_region(points: np.ndarray, regions: np.ndarray) -> np.ndarray:
     """Index of the drivable region holding each point (N, 2), -1 where none (1 mm slack).
 
-    Points inside a region are found with prepared point-in-polygon tests (one vectorized
-    call per region whose bounds hold points); only the rest take the slower 1 mm
-    distance test.
+    The lowest index wins where regions overlap or share a border. Points inside a region
+    come from one query of an R-tree of the points with every region (each region
+    prepared once, so a test costs a point-in-polygon lookup, not a pass over its
+    vertices); only the rest take the slower 1 mm distance test.
+
+    Examples
+    --------
+    >>> rooms = np.array([shapely.box(0, 0, 2, 2), shapely.box(2, 0, 4, 2)])
+    >>> containing_region(np.array([[1, 1], [2, 1], [4.0005, 1], [5, 1]]), rooms).tolist()
+    [0, 0, 1, -1]
     """
     points = np.asarray(points, dtype=float).reshape(-1, 2)
     result = np.full(len(points), -1, dtype=np.int64)
     if len(regions) == 0 or len(points) == 0:
         return result
-    bounds = shapely.bounds(regions)
-    for index, region in enumerate(regions):
-        xmin, ymin, xmax, ymax = bounds[index]
-        near = np.flatnonzero((result < 0) & (points[:, 0] >= xmin) & (points[:, 0] <= xmax)
-                              & (points[:, 1] >= ymin) & (points[:, 1] <= ymax))
-        if len(near):
-            shapely.prepare(region)
-            inside = shapely.contains_xy(region, points[near, 0], points[near, 1])
-            result[near[inside]] = index
+    geometries = shapely.points(points)
+    region_index, point_index = shapely.STRtree(geometries).query(regions,
+                                                                   predicate="contains")
+    _lowest(result, np.arange(len(points)), point_index, region_index)
     rest = np.flatnonzero(result < 0)
     if len(rest) == 0:
         return result
     tree = shapely.STRtree(regions)
-    point_index, region_index = tree.query(shapely.points(points[rest]), predicate="dwithin",
+    point_index, region_index = tree.query(geometries[rest], predicate="dwithin",
                                            distance=ON_LANE)
+    _lowest(result, rest, point_index, region_index)
+    return result
+
+
+def _lowest(result, rows, point_index, region_index) -> None:
+    """Set result[rows[p]] to the lowest region index paired with each point p."""
     if len(point_index) == 0:
-        return result
+        return
     order = np.lexsort((region_index, point_index))
     point_index, region_index = point_index[order], region_index[order]
     first = np.r_[True, point_index[1:] != point_index[:-1]]
-    result[rest[point_index[first]]] = region_index[first]
-    return result
+    result[rows[point_index[first]]] = region_index[first]
 
 
 def _candidates(point, lanes, chosen, radius):
@@ -121,11 +128,27 @@ def _snap_to_node(here, point, lane_ends, distance, field, clearance):
     return nearest if _visible(here, nearest[None], field, clearance)[0] else point
 
 
+def _nearest_distance(point, lanes, mine, tree) -> float:
+    """Distance from `point` to its nearest lane among `mine` (a boolean mask of lanes).
+
+    The same float as the least ``shapely.distance`` to every lane of `mine`: the lanes of
+    `mine` within 1 um of the nearest lane of all hold the least one when there are any.
+    """
+    _, gap = tree.query_nearest(point, return_distance=True, all_matches=False)
+    near = tree.query(point, predicate="dwithin", distance=float(gap[0]) + 1e-6)
+    near = near[mine[near]]
+    if len(near) == 0:
+        near = np.flatnonzero(mine)
+    return float(shapely.distance(point, lanes[near]).min())
+
+
 def _attach(point, lanes, mine, tree, ends, field, clearance):
     here = shapely.get_coordinates(point)[0]
-    radius = float(shapely.distance(point, lanes[mine]).min()) + 1.0
+    radius = _nearest_distance(point, lanes, mine, tree) + 1.0
+    total = np.count_nonzero(mine)
     while True:
-        chosen = np.intersect1d(tree.query(point, predicate="dwithin", distance=radius), mine)
+        chosen = tree.query(point, predicate="dwithin", distance=radius)
+        chosen = np.unique(chosen[mine[chosen]])
         points, owners = _candidates(point, lanes, chosen, radius)
         distance = np.hypot(*(points - here).T)
         order = np.lexsort((points[:, 1], points[:, 0], distance))
@@ -147,7 +170,7 @@ def _attach(point, lanes, mine, tree, ends, field, clearance):
             return Attachment(int(owners[pick]), float(x), float(y),
                               float(shapely.line_locate_point(line, shapely.Point(x, y))),
                               bool(distance[pick] <= ON_LANE))
-        if len(chosen) == len(mine):
+        if len(chosen) == total:
             return None
         radius *= 3.0
 
@@ -190,8 +213,8 @@ def link_stations(stations: np.ndarray, lanes: np.ndarray, lane_region: np.ndarr
         if station_clearance[index] < clearance - 1e-9:
             results.append(REASON_BAND)
             continue
-        mine = np.flatnonzero(lane_region == region[index]) if region[index] >= 0 else []
-        if len(mine) == 0:
+        mine = lane_region == region[index]
+        if region[index] < 0 or not mine.any():
             results.append(REASON_NO_LANE)
             continue
         found = _attach(shapely.Point(here), lanes, mine, tree, ends, field, clearance)
