@@ -165,12 +165,16 @@ def split_floor(free_space, cuts) -> np.ndarray:
     if not cuts:
         return parts
     lines = shapely.linestrings([[c.start, c.end] for c in cuts])
+    # the parts are the query's side: each is prepared once, however many cuts it meets
+    part_index, line_index = shapely.STRtree(lines).query(parts, predicate="intersects")
+    order = np.lexsort((line_index, part_index))
+    part_index, line_index = part_index[order], line_index[order]
     touched = np.zeros(len(parts), bool)
-    _, hit = shapely.STRtree(parts).query(lines, predicate="intersects")
-    touched[hit] = True
+    touched[part_index] = True
     rooms = list(parts[~touched])
-    for part in parts[touched]:
-        mine = lines[shapely.intersects(lines, part)]
+    for index in np.flatnonzero(touched):
+        part = parts[index]
+        mine = lines[line_index[part_index == index]]
         noded = shapely.union_all(np.r_[shapely.boundary(part), mine])
         faces = shapely.get_parts(shapely.polygonize(shapely.get_parts(noded)))
         inside = shapely.contains_xy(part, *shapely.get_coordinates(
