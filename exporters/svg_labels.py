@@ -122,6 +122,18 @@ def boxed_areas(edges: np.ndarray, sign: np.ndarray, bounds: np.ndarray) -> np.n
     return np.where(steep, 0.0, sign * (u1 - u0) * (inside + above))
 
 
+def _extreme_vertices(geometries) -> np.ndarray:
+    """(G, 4, 2): for each geometry, a vertex of least x, of most x, of least y, of most y
+    (NaN for a geometry without coordinates)."""
+    xy, owner = shapely.get_coordinates(geometries, return_index=True)
+    result = np.full((len(geometries), 4, 2), np.nan)
+    for slot, key in enumerate((xy[:, 0], -xy[:, 0], xy[:, 1], -xy[:, 1])):
+        order = np.lexsort((key, owner))
+        first = order[np.r_[True, owner[order][1:] != owner[order][:-1]]] if len(xy) else order
+        result[owner[first], slot] = xy[first]
+    return result
+
+
 class LabelPlacer:
     """Choose label positions clear of `lanes` and of everything placed before.
 
@@ -152,14 +164,41 @@ class LabelPlacer:
         self._symbols.append(geometry)
         self._symbol_tree = None
 
+    def _symbol_hits(self, boxes, bounds) -> np.ndarray:
+        """Index into `boxes` of each (box, symbol) pair that intersects: the pairs the
+        R-tree's 'intersects' query gives.
+
+        A symbol with one of its extreme vertices in the closed box meets it for certain
+        (that point lies in both); only the other pairs whose bounds overlap ask GEOS, with
+        the box prepared, as the query itself asks.
+        """
+        if self._symbol_tree is None:
+            symbols = np.asarray(self._symbols, dtype=object).reshape(-1)
+            self._symbol_tree = STRtree(symbols)
+            self._symbol_array = symbols
+            self._symbol_extremes = _extreme_vertices(symbols)
+        box, symbol = self._symbol_tree.query(boxes)
+        if len(box) == 0:
+            return box
+        x, y = np.moveaxis(self._symbol_extremes[symbol], 2, 0)          # (P, 4) each
+        left, bottom, right, top = (column[:, None] for column in bounds[box].T)
+        certain = ((x >= left) & (x <= right) & (y >= bottom) & (y <= top)).any(axis=1)
+        doubt = np.flatnonzero(~certain)
+        if len(doubt):
+            shapely.prepare(boxes)
+            certain[doubt] = shapely.intersects(boxes[box[doubt]],
+                                                self._symbol_array[symbol[doubt]])
+        return box[certain]
+
     def _clashes(self, boxes, bounds, within) -> np.ndarray:
         """Number of symbols and labels each box touches (+1 when it leaves `within`)."""
-        if self._symbol_tree is None:
-            self._symbol_tree = STRtree(self._symbols)
-        hits = self._symbol_tree.query(boxes, predicate="intersects")[0]
-        count = np.bincount(hits, minlength=len(boxes))
+        count = np.bincount(self._symbol_hits(boxes, bounds), minlength=len(boxes))
         # labels are axis-aligned boxes: two touch when their bounds overlap, edges included
         taken = self._taken
+        x0, y0, x1, y1 = bounds.T
+        # only labels that touch the bounds of all the boxes can touch one of them
+        taken = taken[(taken[:, 0] <= x1.max()) & (taken[:, 2] >= x0.min())
+                      & (taken[:, 1] <= y1.max()) & (taken[:, 3] >= y0.min())]
         x0, y0, x1, y1 = (column[:, None] for column in bounds.T)
         count += np.count_nonzero((taken[:, 0] <= x1) & (taken[:, 2] >= x0)
                                   & (taken[:, 1] <= y1) & (taken[:, 3] >= y0), axis=1)

@@ -120,3 +120,26 @@ def test_place_breaks_ties_as_the_overlay_does():
         np.testing.assert_allclose(costs, 0.62 * 10 * 1.2, rtol=1e-12)
         expected = _first_cheapest(placer._lanes, [], [], tried[0])
         assert text_box(*at[:2], "gap 0.80 m", 1.0, at[2]).equals(tried[0][expected])
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_symbol_hits_are_the_pairs_geos_finds_intersecting(seed):
+    rng = np.random.default_rng(40 + seed)
+    placer = LabelPlacer([shapely.LineString([(0, 0), (1, 0)])], 0.1)
+    symbols = [shapely.Point(rng.uniform(0, 20, size=2)).buffer(rng.uniform(0.2, 1.5),
+                                                                  quad_segs=2)
+               for _ in range(80)]
+    symbols += [shapely.LineString(rng.uniform(0, 20, size=(3, 2))).buffer(0.1, quad_segs=2)
+                for _ in range(20)]                                   # bent, not convex
+    symbols += [shapely.box(5, 5, 6, 6), shapely.Polygon([(8, 8), (12, 8), (8, 12)])]
+    for symbol in symbols:
+        placer.block(symbol)
+    for _ in range(30):
+        x, y = rng.uniform(-2, 20, size=(2, 24))
+        bounds = np.c_[x, y, x + rng.uniform(0.1, 8, 24), y + rng.uniform(0.1, 2, 24)]
+        # touch a corner, an edge, the hypotenuse; miss a vertex by half a millimetre
+        bounds[:4] = [[6, 6, 7, 7], [3, 5, 5, 5.5], [10, 10, 11, 11], [8.0005, 11.9998, 9, 13]]
+        boxes = shapely.box(*bounds.T)
+        # source: GEOS through shapely's R-tree query with the 'intersects' predicate
+        expected = shapely.STRtree(symbols).query(boxes, predicate="intersects")[0]
+        assert np.array_equal(np.sort(placer._symbol_hits(boxes, bounds)), np.sort(expected))
