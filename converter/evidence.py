@@ -24,6 +24,16 @@ CANDIDATE_UNITS = ("mm", "cm", "m", "in", "ft")
 DOOR_LEAF_M = (0.6, 1.3)
 WALL_THICKNESS_M = (0.05, 0.8)
 PLAN_SPAN_M = (3.0, 2000.0)
+#: With no unit in the header, the content decides with a full weight of support (say, every
+#: door leaf plausible), or with CLEAR_SUPPORT and a lead of CLEAR_LEAD over every other unit:
+#: measured walls always include a few faces that are no wall's two sides.
+CLEAR_SUPPORT = 0.75
+CLEAR_LEAD = 0.25
+#: Most walls are 0.08 to 0.5 m thick (common practice: a stud partition with a board each
+#: side is about 0.1 m, masonry and exterior walls up to 0.5 m); a thickness in the wider
+#: range but outside this one counts half. It separates units a factor 2.54 apart: 8 units
+#: are a block wall in inches (0.20 m) but thinner than most walls in cm (0.08 m).
+TYPICAL_WALL_M = (0.09, 0.5)
 
 #: The header's linear unit formats that show lengths in feet and inches, one drawing unit
 #: an inch: $LUNITS 3 (engineering) and 4 (architectural) (DXF reference, HEADER section).
@@ -179,7 +189,11 @@ def plausibility(evidence, units):
     low, high = {"door swings": DOOR_LEAF_M, "wall thickness": WALL_THICKNESS_M,
                  "extent": PLAN_SPAN_M}[evidence.kind]
     metres = evidence.values * factor
-    return float(np.mean((metres >= low) & (metres <= high)))
+    share = (metres >= low) & (metres <= high)
+    if evidence.kind == "wall thickness":
+        typical = (metres >= TYPICAL_WALL_M[0]) & (metres <= TYPICAL_WALL_M[1])
+        return float(np.mean(np.where(typical, 1.0, 0.5 * share)))
+    return float(np.mean(share))
 
 
 def describe(evidence, units):
@@ -272,10 +286,21 @@ def decide_from_content(header_unit, override, evidence, *, source):
                     f"but in {header_unit} {said}; in {best} {read}); pass --units to say otherwise.")
             return best, "content", note, lines, (warning,)
         return header_unit, "header", None, lines, ()
-    if best and substantive and scores[best] >= 1.0 and support[best] >= 1.0:
+    runner_up = max((value for unit, value in support.items() if unit != best), default=0.0)
+    clear = best in support and (support[best] >= 1.0 or (
+        support[best] >= CLEAR_SUPPORT and support[best] - runner_up >= CLEAR_LEAD))
+    if best and substantive and scores[best] >= 1.0 and clear:
+        # units the content fits exactly as well: the choice among them is the order of
+        # CANDIDATE_UNITS, and the user must hear of the others
+        alike = [unit for unit in scores if unit != best and
+                 abs(scores[unit] - scores[best]) < 1e-9 and
+                 abs(support[unit] - support[best]) < 1e-9]
+        also = "".join(f"; in {unit} it reads just as well: "
+                       f"{'; '.join(describe(item, unit) for item in evidence)}"
+                       for unit in alike)
         note = (f"Read in {best} from the drawing's content (the header's $INSUNITS gives no "
-                f"unit): {read}; pass --units to say otherwise.")
+                f"unit): {read}{also}; pass --units to say otherwise.")
         warning = (f"{source}: drawing has no units in its header; read in {best} from its "
-                   f"content ({read}); pass --units if that is wrong")
+                   f"content ({read}){also}; pass --units if that is wrong")
         return best, "content", note, lines, (warning,)
     return None, "assumed", None, lines, ()

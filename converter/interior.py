@@ -78,7 +78,7 @@ def building_interior(wall_lines, wall_rings, wall_fills, wall_arcs, *, door_lin
     kinds = classify_gaps(gaps, door_lines=door_lines, window_lines=window_lines,
                           other_lines=other_lines, swing_arcs=swing_arcs)
     kept = [(gap, kind) for gap, kind in zip(gaps, kinds) if gap.width <= _MAX_WIDTH[kind]
-            and not (gap.minor and kind not in ("door", "window"))]
+            and not (gap.minor and kind == "open")]
     # each gap grown by a few millimetres: a quad that only touches the jambs would leave
     # hairline slits at its corners, through which the floor escapes
     quads = shapely.buffer(np.array([gap.quad for gap, _ in kept], dtype=object), SEAM,

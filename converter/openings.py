@@ -39,7 +39,7 @@ class Gap:
     start, end : (2,) arrays, metres; the middle of the wall at each jamb.
     depth : the wall's thickness at the jamb (0 for a single-line wall), metres.
     quad : Polygon, the gap itself (the jamb face swept across to the other side).
-    minor : found from a pier or column (`wall_ends`): an opening only with a door or window in it.
+    minor : found from a pier or column (`wall_ends`): an opening only when something fills it.
     """
 
     start: np.ndarray
@@ -123,7 +123,8 @@ def wall_ends(solid, loose, *, max_thickness, hints=None):
 
     Faces of pieces smaller than a wall (piers between a door and its sidelights, columns)
     are ends only within 0.3 m of `hints` (opening linework and swing arcs, metres); they
-    are `minor`, and their gaps count only when a door or window is drawn in them.
+    are `minor`, and their gaps count only when something fills them (a door, a window, or
+    an overhead door drawn shut as one line across).
     """
     middles, directions, lengths, minor = [], [], [], []
     pieces = shapely.get_parts(solid)

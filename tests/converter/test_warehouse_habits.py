@@ -75,16 +75,49 @@ def test_imperial_header_settings_decide_inches_when_insunits_is_unset(tmp_path,
     assert (x1 - x0, y1 - y0) == pytest.approx((60.96, 36.576))
 
 
-def test_without_an_imperial_setting_8_in_walls_stay_ambiguous():
-    # analytic: 8 units are 0.08 m in cm and 0.2032 m in inches, both wall thicknesses in
-    # the trade's range; nothing else in the header speaks for either
+def test_8_unit_walls_read_as_inches_not_centimetres():
+    # 8 units are 0.2032 m in inches (exact by definition), a block wall, and 0.08 m in cm,
+    # thinner than most built walls (common practice: a stud partition with a board each
+    # side is about 0.1 m); both lie in the wide range, so cm counts half
     thickness = Evidence("wall thickness", np.full(12, 8.0), 1.0)
-    assert plausibility(thickness, "cm") == plausibility(thickness, "in") == 1.0
-    imperial = header_evidence({"$MEASUREMENT": 0, "$LUNITS": 2})
-    assert decide_from_content(None, None, [thickness, *imperial], source="a.dxf")[0] == "in"
-    # the imperial system alone (no measurement of the content) decides nothing
+    assert plausibility(thickness, "in") == 1.0 and plausibility(thickness, "cm") == 0.5
     extent = Evidence("extent", np.array([2400.0]), 1.0)
+    assert decide_from_content(None, None, [thickness, extent], source="a.dxf")[0] == "in"
+    # the imperial system alone (no measurement of the content) decides nothing
+    imperial = header_evidence({"$MEASUREMENT": 0, "$LUNITS": 2})
     assert decide_from_content(None, None, [extent, *imperial], source="a.dxf")[0] is None
+
+
+def test_units_the_content_fits_alike_are_named_in_the_warning():
+    # 12-unit walls: 0.12 m in cm and 0.3048 m in inches, both typical; the drawing is
+    # read in the first candidate and the warning says what inches would make of it
+    thickness = Evidence("wall thickness", np.full(12, 12.0), 1.0)
+    extent = Evidence("extent", np.array([2400.0]), 1.0)
+    unit, _, note, _, (warning,) = decide_from_content(None, None, [thickness, extent],
+                                                       source="a.dxf")
+    assert unit == "cm"
+    assert "in in it reads just as well" in warning and "0.30 m" in warning
+    assert "in in it reads just as well" in note
+
+
+def test_us_dock_wall_without_door_swings_is_read_in_inches_and_closed(tmp_path):
+    """The dock wall of _us_warehouse with each overhead door drawn as one line across on a
+    door layer, $MEASUREMENT 1 (a metric template) and no door swing anywhere."""
+    doc = _us_warehouse({"$MEASUREMENT": 1})
+    msp = doc.modelspace()
+    for k in range(8):
+        # common practice: an overhead door drawn shut, one line across the opening
+        msp.add_line((300.0 + 144 * k, 0.0), (408.0 + 144 * k, 0.0),
+                     dxfattribs={"layer": "A-DOOR"})
+    plan = read_floorplan(save(doc, tmp_path))
+    assert plan.units == "in"
+    docks = [o for o in plan.openings if o.exterior]
+    # 9 ft doors between 3 ft piers (0.91 m x 0.20 m, smaller than a wall piece): every
+    # door is an opening closed to the outside, none a leak
+    assert len(docks) == 8 and not plan.leaks
+    assert all(o.kind == "closed" for o in docks)
+    # exact by definition: 108 in = 2.7432 m
+    assert [o.width for o in docks] == pytest.approx([2.7432] * 8, abs=2e-3)
 
 
 def test_column_grid_lines_do_not_cut_the_hall_into_cells(tmp_path):
