@@ -99,7 +99,7 @@ def reach(robot: Robot) -> tuple[float, float]:
 
 
 def move_gaps(robot: Robot, field, a_xy, a_heading, b_xy, b_heading, *,
-              band=None, alone=None) -> np.ndarray:
+              band=None, alone=None, owner=None) -> np.ndarray:
     """Clear distance left beside the body over each move a -> b, metres, shape (M,).
 
     A turn step or a step along an arc is its hull. A straight move is split, since its long
@@ -111,6 +111,17 @@ def move_gaps(robot: Robot, field, a_xy, a_heading, b_xy, b_heading, *,
     turn step whose pivot leaves more room than that is given its lower bound, as it
     cannot be the smallest gap of its lane. `alone`, (M, 2) bool, says which ends of each straight move need their footprint
     measured (default both): where a turn step starts or ends there, its hull holds it.
+
+    With `band`, a rectangle's footprint is first bounded from its centre: every point of
+    it lies within the half diagonal of the centre, so the centre's clearance less that
+    bounds the footprint's gap from below, and the hull of two footprints lies within half
+    the largest corner displacement between them of one of them (see manoeuvres.py). An
+    end footprint whose bound exceeds the band less the half-width is not measured (the
+    band decides that move: the same value). `owner`, (M,) int, the polyline of each move,
+    says that only each polyline's smallest gap is wanted: a turn step whose bound exceeds
+    the smallest gap of its polyline's straight moves (and the margin) gets that bound
+    instead of its exact gap, which is larger still; the smallest gap, which move has it
+    and which moves fall short of the margin stay those of measuring every move.
     """
     a_xy, b_xy = (np.asarray(v, float).reshape(-1, 2) for v in (a_xy, b_xy))
     a_heading, b_heading = (np.asarray(v, float).ravel() for v in (a_heading, b_heading))
@@ -128,22 +139,51 @@ def move_gaps(robot: Robot, field, a_xy, a_heading, b_xy, b_heading, *,
         roomy = low >= np.broadcast_to(np.asarray(band, float), a_xy.shape[:1])[turning] - half
         gap[turning[roomy]] = low[roomy]
         other = np.setdiff1d(other, turning[roomy])
-    gap[other] = gaps(field, hulls(robot, a_xy[other], a_heading[other], b_xy[other],
-                                   b_heading[other]))
+    bounded = band is not None and robot.length is not None
     line = np.flatnonzero(straight)
     if len(line):
         xy, heading = np.vstack([a_xy[line], b_xy[line]]), np.r_[a_heading[line],
                                                                  b_heading[line]]
         need = np.ones(2 * len(line), bool) if alone is None else \
             np.asarray(alone, bool)[line].T.ravel()
+        side = gaps(field, shapely.linestrings(np.stack([a_xy[line], b_xy[line]], axis=1))) \
+            if band is None else np.broadcast_to(np.asarray(band, float), a_xy.shape[:1])[line]
         ends = np.full(2 * len(line), np.inf)
+        if bounded:
+            # a footprint the band leaves no nearer than its bound: min(end, band) is band
+            wanted = np.flatnonzero(need)
+            low = _footprint_bounds(robot, field, xy[wanted], heading[wanted])
+            need[wanted[low > np.r_[side, side][wanted] - half + 1e-9]] = False
         ends[need] = gaps(field, hulls(robot, xy[need], heading[need], xy[need],
                                        heading[need]))
         ends = ends.reshape(2, -1).min(axis=0)
-        side = gaps(field, shapely.linestrings(np.stack([a_xy[line], b_xy[line]], axis=1))) \
-            if band is None else np.broadcast_to(np.asarray(band, float), a_xy.shape[:1])[line]
         gap[line] = np.minimum(ends, side - half)
+    if bounded and owner is not None and len(other):
+        # only each polyline's smallest gap is wanted: its straight moves' smallest bounds
+        # it from above; a turn step bounded above that (and the margin) cannot be it
+        owner = np.asarray(owner)
+        lane = np.full(int(owner.max()) + 1, np.inf)
+        np.minimum.at(lane, owner[line], gap[line])
+        corners = np.concatenate([place(points, a_xy[other], a_heading[other]),
+                                  place(points, b_xy[other], b_heading[other])], axis=1)
+        shift = np.hypot(*(corners[:, len(points):] - corners[:, :len(points)])
+                         .transpose(2, 0, 1)).max(axis=1)
+        low = np.minimum(_footprint_bounds(robot, field, a_xy[other], a_heading[other]),
+                         _footprint_bounds(robot, field, b_xy[other], b_heading[other])) - \
+            shift / 2
+        clear = (low > lane[owner[other]] + 1e-9) & (low >= robot.margin)
+        gap[other[clear]] = low[clear]
+        other = other[~clear]
+    gap[other] = gaps(field, hulls(robot, a_xy[other], a_heading[other], b_xy[other],
+                                   b_heading[other]))
     return gap - (grow - robot.margin)
+
+
+def _footprint_bounds(robot: Robot, field, xy: np.ndarray, heading: np.ndarray) -> np.ndarray:
+    """A lower bound of a rectangular footprint's gap at each pose, metres, shape (N,): the
+    clearance of its centre less its half diagonal."""
+    centre = place(-np.asarray(robot.centre, float)[None], xy, heading)[:, 0]
+    return field.at(centre) - np.hypot(robot.length / 2, robot.width / 2)
 
 
 def contact(robot: Robot, field, driven: "Moves", move: int) -> np.ndarray:
@@ -238,7 +278,8 @@ def side_clearance(robot: Robot, field, lines: list[np.ndarray], *, band=None):
     gap = move_gaps(robot, field, driven.a_xy, driven.a_heading, driven.b_xy,
                     driven.b_heading,
                     band=None if band is None else np.asarray(band, float)[driven.owner],
-                    alone=np.stack([first, last], axis=1))
+                    alone=np.stack([first, last], axis=1),
+                    owner=None if band is None else driven.owner)
     lowest = np.full(len(lines), np.inf)
     np.minimum.at(lowest, driven.owner, gap)
     # a polyline without a move (a station on its node) holds the body heading along

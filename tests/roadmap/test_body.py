@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+from pathlib import Path
 
 import networkx as nx
 import numpy as np
@@ -10,7 +11,7 @@ import pytest
 import shapely
 
 from clearway.roadmap import Robot, build_roadmap
-from clearway.roadmap.body import MAX_STEP_ANGLE, core, hulls, moves, place
+from clearway.roadmap.body import MAX_STEP_ANGLE, core, gaps, hulls, moves, place
 
 MOVER = Robot.rectangle(1.4, 0.8, margin=0.1)   # the pallet mover of issue 14
 
@@ -124,3 +125,59 @@ def test_lane_clearance_of_a_rectangle_is_half_width_plus_offset_plus_margin():
     robot = Robot.rectangle(1.4, 0.8, margin=0.1, centre=(-0.5, 0.05))
     assert robot.clearance == pytest.approx(0.4 + 0.05 + 0.1, rel=1e-15)
     assert robot.swing == pytest.approx(math.hypot(0.7 + 0.5, 0.4 + 0.05), rel=1e-15)
+
+
+def every_move_measured(robot, field, a_xy, a_heading, b_xy, b_heading, *, band=None,
+                        alone=None, owner=None):
+    """body.move_gaps without its shortcuts: every turn step's hull and every end
+    footprint measured by shapely (a straight move is still its end footprints and the
+    band between them, as body.py defines it)."""
+    a_xy, b_xy = (np.asarray(v, float).reshape(-1, 2) for v in (a_xy, b_xy))
+    a_heading, b_heading = (np.asarray(v, float).ravel() for v in (a_heading, b_heading))
+    points, grow = core(robot)
+    half = np.abs(points[:, 1]).max()
+    gap = gaps(field, hulls(robot, a_xy, a_heading, b_xy, b_heading))
+    line = np.flatnonzero((a_heading == b_heading) & np.any(a_xy != b_xy, axis=1))
+    ends = np.stack([gaps(field, hulls(robot, xy[line], heading[line], xy[line],
+                                       heading[line]))
+                     for xy, heading in ((a_xy, a_heading), (b_xy, b_heading))], axis=1)
+    if alone is not None:
+        ends = np.where(np.asarray(alone, bool)[line], ends, np.inf)
+    side = gaps(field, shapely.linestrings(np.stack([a_xy[line], b_xy[line]], axis=1))) \
+        if band is None else np.broadcast_to(np.asarray(band, float), a_xy.shape[:1])[line]
+    gap[line] = np.minimum(ends.min(axis=1), side - half)
+    return gap - (grow - robot.margin)
+
+
+@pytest.mark.parametrize("robot", [MOVER, Robot.rectangle(1.6, 1.2, margin=0.1,
+                                                          centre=(-0.5, 0.0)),
+                                   Robot.rectangle(1.4, 0.8, margin=0.1, kind="car",
+                                                   centre=(-0.5, 0.0), turn_radius=1.5)])
+@pytest.mark.parametrize("drawing", ["distribution_centre.dxf", "dock_columns"])
+def test_lanes_bounded_from_the_footprint_centre_agree_with_measuring_every_move(
+        drawing, robot, tmp_path, monkeypatch):
+    # analytic: a footprint lies within its half diagonal of its centre, and the hull of
+    # two footprints within half the largest corner displacement of one of them, so the
+    # moves body.move_gaps leaves unmeasured cannot be a lane's smallest gap nor fall
+    # short of the margin: the graph, every clearance_body and every shortfall stay those
+    # of measuring every move
+    from benchmarks.synthetic import write_style
+    from clearway.converter import read_floorplan
+    from clearway.roadmap import body
+
+    samples = Path(__file__).resolve().parents[2] / "sample_drawings"
+    plan = read_floorplan(str(samples / drawing)) if drawing.endswith(".dxf") else \
+        read_floorplan(write_style(tmp_path / f"{drawing}.dxf", drawing, 160))
+
+    def answers():
+        roadmap = build_roadmap(plan.obstacles, plan.free_space,
+                                [(s.label, s.x, s.y) for s in plan.stations], robot=robot,
+                                shared_zones=plan.regions["shared"])
+        edges = sorted((key, data["clearance_body"]) for *_, key, data in
+                       roadmap.graph.edges(keys=True, data=True))
+        return edges, sorted(roadmap.findings.body, key=repr)
+
+    fast = answers()
+    monkeypatch.setattr(body, "move_gaps", every_move_measured)
+    assert fast == answers()
+    assert fast[0]                       # lanes the body drives
