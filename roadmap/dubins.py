@@ -149,51 +149,68 @@ def poses_of(paths, *, step: float = ARC_STEP) -> tuple[np.ndarray, np.ndarray]:
     """The poses of many paths at once: ``path.poses(step=step)`` of each, the same
     numbers, one after another in one (N, 3) array; and how many each path has, (P,).
 
-    Each segment's start is worked out path by path as `DubinsPath.poses` does (the same
-    operations, so the same floats); the poses within the segments, most of the work,
-    segment by segment for all paths together.
+    Each segment's start is worked out as `DubinsPath.poses` does (the same operations,
+    so the same floats), for the same segment of every path together: the math module's
+    sine and cosine of each heading, numpy's of each arc's end; the poses within the
+    segments, most of the work, for all segments together.
     """
-    starts, counts, parts = [], [], []   # per segment: start row, its pieces; per path
-    rows = 0
-    table = []                            # per segment: x, y, heading, cx, cy, cos, length,
-    for path in paths:                    # side (0 straight), radius, pieces, first row
-        x, y, heading = path.start
-        radius = path.radius
-        first = rows
-        starts.append((x, y, heading))
-        rows += 1
-        for letter, length in zip(path.word, path.lengths):
-            if length == 0:
-                continue
-            if letter == "S":
-                cos, sin = math.cos(heading), math.sin(heading)
-                table.append((x, y, heading, 0.0, 0.0, cos, sin, length, 0.0, radius, 1, rows))
-                end = length * 1 / 1 * radius
-                x, y = x + end * cos, y + end * sin
-                rows += 1
-                continue
-            pieces = max(1, math.ceil(abs(length) / step))
-            side = 1.0 if letter == "L" else -1.0
-            cx = x - side * radius * math.sin(heading)
-            cy = y + side * radius * math.cos(heading)
-            table.append((x, y, heading, cx, cy, 0.0, 0.0, length, side, radius, pieces, rows))
-            turned = heading + side * (length * np.arange(pieces, pieces + 1) / pieces)
-            x = float(cx + side * radius * np.sin(turned)[0])
-            y = float(cy - side * radius * np.cos(turned)[0])
-            heading = float(turned[0])
-            rows += pieces
-        counts.append(rows - first)
-    out = np.empty((rows, 3))
-    head = np.r_[0, np.cumsum(counts)[:-1]].astype(int) if counts else np.zeros(0, int)
-    out[head] = np.array(starts, dtype=float).reshape(-1, 3)
+    count = len(paths)
+    if count == 0:
+        return np.empty((0, 3)), np.zeros(0, dtype=int)
+    width = max(len(path.word) for path in paths)
+    letters = np.array([path.word.ljust(width) for path in paths], dtype=f"<U{width}")
+    letters = letters.view("<U1").reshape(count, width)
+    lengths = np.zeros((count, width))
+    for index, path in enumerate(paths):
+        lengths[index, :len(path.lengths)] = path.lengths
+    driven = (letters != " ") & (lengths != 0)
+    arc = driven & (letters != "S")
+    pieces = np.where(arc, np.maximum(1, np.ceil(np.abs(lengths) / step)), driven)
+    pieces = pieces.astype(int)
+    counts = 1 + pieces.sum(axis=1)
+    head = np.r_[0, np.cumsum(counts)[:-1]]
+    rows = (head[:, None] + 1 + np.cumsum(pieces, axis=1) - pieces)
+    out = np.empty((int(counts.sum()), 3))
+    x, y, heading = (np.array(column, dtype=float) for column in
+                     zip(*(path.start for path in paths)))
+    radius = np.array([path.radius for path in paths], dtype=float)
+    out[head] = np.column_stack([x, y, heading])
+    table = []                      # per slot: rows of (x, y, heading, cx, cy, cos, sin,
+    for slot in range(width):       # length, side, radius, pieces, first row)
+        line = np.flatnonzero(driven[:, slot] & ~arc[:, slot])
+        if len(line):
+            angle = heading[line].tolist()
+            cos = np.array([math.cos(value) for value in angle])
+            sin = np.array([math.sin(value) for value in angle])
+            length = lengths[line, slot]
+            table.append((x[line], y[line], heading[line], np.zeros(len(line)),
+                          np.zeros(len(line)), cos, sin, length, np.zeros(len(line)),
+                          radius[line], np.ones(len(line), dtype=int), rows[line, slot]))
+            end = length * 1 / 1 * radius[line]
+            x[line] = x[line] + end * cos
+            y[line] = y[line] + end * sin
+        turn = np.flatnonzero(arc[:, slot])
+        if len(turn):
+            angle = heading[turn].tolist()
+            side = np.where(letters[turn, slot] == "L", 1.0, -1.0)
+            swing = side * radius[turn]
+            cx = x[turn] - swing * np.array([math.sin(value) for value in angle])
+            cy = y[turn] + swing * np.array([math.cos(value) for value in angle])
+            length, count_of = lengths[turn, slot], pieces[turn, slot]
+            table.append((x[turn], y[turn], heading[turn], cx, cy, np.zeros(len(turn)),
+                          np.zeros(len(turn)), length, side, radius[turn], count_of,
+                          rows[turn, slot]))
+            turned = heading[turn] + side * (length * count_of / count_of)
+            x[turn] = cx + swing * np.sin(turned)
+            y[turn] = cy - swing * np.cos(turned)
+            heading[turn] = turned
     if table:
         (x, y, heading, cx, cy, cos, sin, length, side, radius,
-         pieces, row) = (np.array(column) for column in zip(*table))
-        pieces = pieces.astype(int)
-        each = np.repeat(np.arange(len(table)), pieces)
+         pieces, row) = (np.concatenate(column) for column in zip(*table))
+        each = np.repeat(np.arange(len(length)), pieces)
         k = np.arange(len(each)) - np.repeat(np.cumsum(pieces) - pieces, pieces) + 1
         part = length[each] * k / pieces[each]
-        at = row[each].astype(int) + k - 1
+        at = row[each] + k - 1
         line = side[each] == 0
         arc = ~line
         s, a = each[line], each[arc]
@@ -204,7 +221,7 @@ def poses_of(paths, *, step: float = ARC_STEP) -> tuple[np.ndarray, np.ndarray]:
         swing = side[a] * radius[a]
         out[at[arc]] = np.column_stack([cx[a] + swing * np.sin(turned),
                                         cy[a] - swing * np.cos(turned), turned])
-    return out, np.array(counts, dtype=int)
+    return out, counts
 
 
 def shortest_path(start, goal, radius: float, *, known: dict | None = None) -> DubinsPath:

@@ -156,6 +156,8 @@ def _tries(robot: Robot, start, end, known: dict | None = None):
 
     def backing():
         path = reeds_shepp.shortest_path(start, end, radius, known=known)
+        if len(path.word) != 3 or min(path.lengths) < 0:
+            return path                   # it backs up: not the forward path (no -0.0)
         same = (path.word, path.lengths) == (forward().word, forward().lengths)
         return None if same else path
 
@@ -350,9 +352,15 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
     # (the rotation centre, farther from most of the body, hardly ever clears more)
     if not len(tight):
         return
+    ends_before = ends
     ends, where = np.unique(np.r_[move[tight], move[tight] + 1], return_inverse=True)
     a_end, b_end = np.split(where.ravel(), 2)
-    room = field.at(points[1][ends])
+    # the poses stage 1 measured keep their values (a point's clearance is its own)
+    room = np.empty(len(ends))
+    found = np.minimum(np.searchsorted(ends_before, ends), len(ends_before) - 1)
+    known = ends_before[found] == ends
+    room[known] = rooms[1][found[known]]
+    room[~known] = field.at(points[1][ends[~known]])
     bound[tight] = np.maximum(bound[tight], np.minimum(room[a_end], room[b_end]) -
                               chords[1][tight] * (1 + 1e-3) / 2 - circum - extra)
     left = settle(bound)
