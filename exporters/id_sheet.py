@@ -18,7 +18,8 @@ from clearway.collector import paused_collector
 from clearway.exporters.graphml import oriented_edges
 from clearway.exporters.svg import SVG_NS, drawing_origin
 from clearway.exporters.svg_parts import (AREA_STYLE, BLUE, add_scale_and_arrow, add_text,
-                                          nice_length, number, path_data)
+                                          nice_length, number, path_data,
+                                          point_list)
 from clearway.exporters.text import SAFETY_CAUTION, natural_key, xml_text
 
 #: Colours: lanes and their ids, node ids, the grid, the route.
@@ -80,7 +81,7 @@ def render_id_sheet(graph, *, areas=None, route=None, title: str = "") -> bytes:
     for edge_id, _, _, _, coords in oriented_edges(graph):
         xy = coords - origin
         etree.SubElement(lanes, "polyline", id=xml_text(f"lane-{edge_id}"),
-                         points=" ".join(f"{number(x)},{number(-y)}" for x, y in xy.tolist()))
+                         points=point_list(xy))
         middle = shapely.LineString(xy).interpolate(0.5, normalized=True)
         add_text(ids, middle.x, -middle.y - 0.2 * font, xml_text(edge_id), 0.7 * font,
                  colour=LANE_ID, anchor="middle", halo=True)
@@ -134,7 +135,7 @@ def _add_route(root, graph, route, origin, font) -> None:
     group = etree.SubElement(root, "g", id="route")
     xy = shapely.get_coordinates(route.geometry) - origin
     etree.SubElement(group, "polyline", fill="none", stroke=ROUTE, opacity="0.6",
-                     points=" ".join(f"{number(x)},{number(-y)}" for x, y in xy.tolist()),
+                     points=point_list(xy),
                      **{"stroke-width": number(0.9 * font), "stroke-linecap": "round",
                         "stroke-linejoin": "round"})
     for end, word in ((route.nodes[0], "FROM"), (route.nodes[-1], "TO")):

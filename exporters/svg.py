@@ -27,7 +27,7 @@ from clearway.exporters.svg_labels import LabelPlacer
 from clearway.exporters.svg_parts import (AREA_STYLE, add_heading, add_legend, add_marker,
                                           add_scale_and_arrow, add_text, heading_end, lane_bins,
                                           lane_colour, measure_label, number, path_data,
-                                          symbol_reach)
+                                          point_list, symbol_reach)
 from clearway.exporters.text import SAFETY_CAUTION, TOOL_VERSION, xml_text
 from clearway.roadmap.inflate import local_offset
 
@@ -192,7 +192,7 @@ def render_svg(plan, roadmap, *, date: str) -> bytes:
     for edge_id, _, _, attrs, coords in edges:
         colour = lane_colour(bins, float(attrs["clearance_min"]))
         etree.SubElement(lanes, "polyline", stroke=colour, id=xml_text(f"lane-{edge_id}"),
-                         points=" ".join(f"{number(x)},{number(-y)}" for x, y in (coords - origin).tolist()))
+                         points=point_list(coords - origin))
 
     marks = etree.SubElement(root, "g", id="marks")
     placer = LabelPlacer([shapely.LineString(coords - origin) for *_, coords in edges
@@ -222,9 +222,12 @@ def render_svg(plan, roadmap, *, date: str) -> bytes:
                 if p.opening >= 0 and p.kind in ("door", "open") and not p.exterior
                 and not p.fits and all(np.hypot(p.x - x, p.y - y) > max(p.width, 0.5)
                                        for x, y in known)]
-    for kind, x, y, _ in symbols:      # every symbol first, so that no label covers one
-        lift = 1.3 * font if kind == "personnel" else 0.0
-        placer.block(shapely.Point(x, y + lift).buffer(symbol_reach(kind, font), quad_segs=2))
+    # every symbol first, so that no label covers one; outlined in one call
+    centres = np.array([(x, y + (1.3 * font if kind == "personnel" else 0.0))
+                        for kind, x, y, _ in symbols], dtype=float).reshape(-1, 2)
+    reaches = np.array([symbol_reach(kind, font) for kind, *_ in symbols], dtype=float)
+    for outline in shapely.buffer(shapely.points(centres), reaches, quad_segs=2).tolist():
+        placer.block(outline)
     facing = [(s.x - ox, s.y - oy, s.heading) for s in plan.stations if s.heading is not None]
     for x, y, heading in facing:       # under the station's square
         placer.block(shapely.LineString([(x, y), heading_end(x, y, heading, font)]).buffer(

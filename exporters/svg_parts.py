@@ -8,6 +8,7 @@ one line of text and sets the size of every symbol. Points are given in drawing 
 from __future__ import annotations
 
 import math
+import re
 
 import numpy as np
 import shapely
@@ -88,6 +89,31 @@ def number(value: float) -> str:
     return "0" if text in ("-0", "") else text
 
 
+#: Zeros that end a number of ``%.3f`` text followed by a separator.
+_TRAILING_ZEROS = re.compile(r"0+(?=[ ,])")
+
+
+def point_list(xy) -> str:
+    """``x,-y x,-y ...`` of the points (N, 2), each number written as ``number`` writes it.
+
+    One format call and a few substitutions over the whole text, not calls per number:
+    ``%.3f`` rounds as ``number`` does; then the zeros ending a number go, the point left
+    bare, and the sign of a negative zero (each x follows a space and precedes a comma,
+    each y the other way round).
+
+    Examples
+    --------
+    >>> point_list(np.array([[1.25, 2.0], [-0.0001, 0.0], [10.5, -100.0]]))
+    '1.25,-2 0,0 10.5,100'
+    """
+    xy = np.asarray(xy, dtype=float).reshape(-1, 2)
+    if len(xy) == 0:
+        return ""
+    text = " " + ("%.3f,%.3f " * len(xy)) % tuple((xy * (1.0, -1.0)).ravel().tolist())
+    text = _TRAILING_ZEROS.sub("", text).replace(". ", " ").replace(".,", ",")
+    return text.replace(" -0,", " 0,").replace(",-0 ", ",0 ")[1:-1]
+
+
 def path_data(geometry) -> str:
     """SVG path data of every polygon ring in `geometry`, y flipped (use fill-rule evenodd)."""
     polygons = [p for p in shapely.get_parts(geometry) if p.geom_type == "Polygon"]
@@ -96,8 +122,7 @@ def path_data(geometry) -> str:
     for ring in rings:
         coords = shapely.get_coordinates(ring)[:-1]
         if len(coords) >= 3:
-            points = " ".join(f"{number(x)},{number(-y)}" for x, y in coords.tolist())
-            parts.append(f"M{points}Z")
+            parts.append(f"M{point_list(coords)}Z")
     return " ".join(parts)
 
 
