@@ -51,9 +51,10 @@ def containing_region(points: np.ndarray, regions: np.ndarray) -> np.ndarray:
     """Index of the drivable region holding each point (N, 2), -1 where none (1 mm slack).
 
     The lowest index wins where regions overlap or share a border. Points inside a region
-    come from one query of an R-tree of the points with every region (each region
-    prepared once, so a test costs a point-in-polygon lookup, not a pass over its
-    vertices); only the rest take the slower 1 mm distance test.
+    are found with prepared point-in-polygon tests, one vectorized call per region on the
+    points within its bounds, which come from the points sorted by x (a slab of the sorted
+    order, then its y range), not from a pass over every point; only the rest take the
+    slower 1 mm distance test.
 
     Examples
     --------
@@ -65,15 +66,24 @@ def containing_region(points: np.ndarray, regions: np.ndarray) -> np.ndarray:
     result = np.full(len(points), -1, dtype=np.int64)
     if len(regions) == 0 or len(points) == 0:
         return result
-    geometries = shapely.points(points)
-    region_index, point_index = shapely.STRtree(geometries).query(regions,
-                                                                   predicate="contains")
-    _lowest(result, np.arange(len(points)), point_index, region_index)
+    bounds = shapely.bounds(regions)
+    by_x = np.argsort(points[:, 0], kind="stable")
+    first = np.searchsorted(points[by_x, 0], bounds[:, 0], "left")
+    stop = np.searchsorted(points[by_x, 0], bounds[:, 2], "right")
+    for index in np.flatnonzero(stop > first).tolist():
+        slab = by_x[first[index]:stop[index]]
+        y = points[slab, 1]
+        near = slab[(result[slab] < 0) & (y >= bounds[index, 1]) & (y <= bounds[index, 3])]
+        if len(near):
+            region = regions[index]
+            shapely.prepare(region)
+            inside = shapely.contains_xy(region, points[near, 0], points[near, 1])
+            result[near[inside]] = index
     rest = np.flatnonzero(result < 0)
     if len(rest) == 0:
         return result
     tree = shapely.STRtree(regions)
-    point_index, region_index = tree.query(geometries[rest], predicate="dwithin",
+    point_index, region_index = tree.query(shapely.points(points[rest]), predicate="dwithin",
                                            distance=ON_LANE)
     _lowest(result, rest, point_index, region_index)
     return result
