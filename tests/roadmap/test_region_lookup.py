@@ -102,3 +102,22 @@ def test_nearest_distance_is_the_least_distance_to_the_regions_lanes(seed):
         # source: shapely.distance to every lane of the region, the least of them, to the bit
         expected = float(shapely.distance(point, lanes[mine]).min())
         assert _nearest_distance(point, lanes, mine, tree) == expected
+
+
+@pytest.mark.parametrize("seed", range(3))
+def test_near_any_matches_shapely_distances(seed):
+    from clearway.roadmap.rooms import Cut, _near_any
+    rng = np.random.default_rng(30 + seed)
+    starts = rng.uniform(0, 50, size=(80, 2))
+    cuts = [Cut(tuple(a), tuple(a + rng.uniform(-3, 3, 2)), 1.0, 0) for a in starts]
+    points = rng.uniform(-2, 52, size=(600, 2))
+    reach = rng.uniform(0.05, 2.0, size=600)
+    # source: shapely (GEOS) distance from each point to each cut segment
+    distance = shapely.distance(shapely.points(points)[:, None],
+                                shapely.linestrings([[c.start, c.end] for c in cuts])[None, :])
+    least = distance.min(axis=1)
+    clear = np.abs(least - reach) > 1e-9            # no point on a reach's rim
+    expected = least <= reach
+    assert np.array_equal(_near_any(points, reach, cuts)[clear], expected[clear])
+    assert expected.any() and (~expected).any()
+    assert not _near_any(points, reach, []).any()
