@@ -48,7 +48,7 @@ import numpy as np
 import shapely
 
 from clearway.roadmap import reeds_shepp
-from clearway.roadmap.body import MAX_STEP_ANGLE, angle_between, core, move_gaps, place, reach
+from clearway.roadmap.body import MAX_STEP_ANGLE, core, move_gaps, place, reach
 from clearway.roadmap.dubins import DubinsPath, poses_of, shortest_path
 from clearway.roadmap.model import Robot
 
@@ -75,7 +75,7 @@ def _measured(coords: np.ndarray, known: dict | None = None):
         return known[id(coords)]
     step = np.diff(coords, axis=0)
     length = np.hypot(*step.T)
-    found = step.tolist(), length.tolist(), np.r_[0.0, np.cumsum(length)].tolist(), \
+    found = step.tolist(), length.tolist(), [0.0, *np.cumsum(length).tolist()], \
         coords.tolist()
     if known is not None:
         known[id(coords)] = found
@@ -99,15 +99,15 @@ def fillet(start, end, radius: float) -> DubinsPath | None:
     """Straight on from `start`, one arc of `radius` tangent to both headings' lines,
     straight on to `end`; None where the lines do not meet ahead of both poses far enough
     for the arc (or are parallel)."""
-    turn = float(angle_between(start[2], end[2]))
+    # angle_between on floats: Python's % is numpy's (a remainder taking the divisor's sign)
+    turn = -((math.pi - (float(end[2]) - float(start[2]))) % (2 * math.pi) - math.pi)
     if abs(turn) < 1e-9 or abs(abs(turn) - math.pi) < 1e-9:
         return None
-    a, b = np.array(start[:2], float), np.array(end[:2], float)
-    u = np.array([math.cos(start[2]), math.sin(start[2])])
-    v = np.array([math.cos(end[2]), math.sin(end[2])])
     # meeting point a + s u = b - t v
-    matrix = np.column_stack([u, v])
-    s, t = np.linalg.solve(matrix, b - a)
+    matrix = np.array([[math.cos(start[2]), math.cos(end[2])],
+                       [math.sin(start[2]), math.sin(end[2])]])
+    s, t = np.linalg.solve(matrix, np.array([float(end[0]) - float(start[0]),
+                                             float(end[1]) - float(start[1])]))
     cut = radius * math.tan(abs(turn) / 2)
     if s < cut - 1e-9 or t < cut - 1e-9:
         return None
