@@ -22,6 +22,9 @@ from clearway.roadmap import ROBOT_KINDS          # a constant: the stages load 
 
 #: The files `build` writes, in the order they are rendered.
 BUILD_FILES = ("roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json", "roadmap.html")
+#: Lanes from which the preview renders in a second process (below, the fork costs about
+#: what it saves; benchmarks/bench_suite.py).
+SIDE_BY_SIDE_EDGES = 1500
 
 
 def _factor(name: str, value) -> float:
@@ -212,6 +215,7 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
                                     render_id_sheet, render_report, render_svg, render_tables,
                                     write_outputs)
     from clearway.roadmap import build_roadmap, carry_ids_over, site_warnings
+    from clearway.side_by_side import forced, render_side_by_side
 
     def say(message: str) -> None:
         if not quiet:
@@ -259,10 +263,16 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
             roadmap = carry_ids_over(roadmap, previous_graph, previous_rooms=previous_rooms)
         names = BUILD_FILES[:-1] if no_html else BUILD_FILES
         say(f"rendering {', '.join(names)}")
-        files = dict(zip(names, (
-            render_graphml(plan, roadmap), render_geojson(plan, roadmap, anchor=anchor),
-            render_svg(plan, roadmap, date=_drawing_date(plan)), render_report(plan, roadmap),
-            *(() if no_html else (html_page(plan, roadmap, _drawing_date(plan), previous_graph),)))))
+        renderers = dict(zip(names, (
+            lambda: render_graphml(plan, roadmap),
+            lambda: render_geojson(plan, roadmap, anchor=anchor),
+            lambda: render_svg(plan, roadmap, date=_drawing_date(plan)),
+            lambda: render_report(plan, roadmap),
+            lambda: html_page(plan, roadmap, _drawing_date(plan), previous_graph))))
+        # the preview takes about as long as the other outputs together: on a large graph
+        # it renders in a second process meanwhile (clearway.side_by_side)
+        large = roadmap.graph.number_of_edges() >= SIDE_BY_SIDE_EDGES or forced()
+        files = render_side_by_side(renderers, aside=["roadmap.svg"] if large else ())
         if with_dxf:
             files["roadmap.dxf"] = render_dxf(plan, roadmap)
         if with_csv:

@@ -1,0 +1,134 @@
+"""Render independent outputs side by side: some in a forked process, the rest in this one.
+
+The five outputs of a build are made from the same finished roadmap and do not depend on
+each other. On a 20,000-bay warehouse the preview (label placement, path text) takes about
+as long as the other four together, so a second process that renders it while this one
+renders the rest shortens the output stage by close to half on two cores. The child is a
+fork: it shares the roadmap copy-on-write and sends back only the rendered bytes (one
+pickle through a pipe). It writes no file and prints nothing; this process writes every
+output, as one set, as before.
+
+A fork is used only where it is safe and pays: on Linux (where fork is the default way to
+start a process), with no other thread running (a fork copies only the calling thread),
+and for enough work (the caller says; CLEARWAY_PROCESSES=2 forks for any work, for tests);
+otherwise, and when CLEARWAY_PROCESSES=1, everything renders here in turn. The bytes are the same either way: the renderers are deterministic functions of the
+roadmap.
+
+An error in the child is raised here as if the renderer had run here (the exception is
+pickled back; one that cannot be pickled arrives as a RuntimeError with its text). If this
+process stops first (an error in its own renderers, Ctrl-C, SIGTERM), the child is killed
+and reaped before the exception goes on.
+"""
+
+from __future__ import annotations
+
+import gc
+import os
+import pickle
+import signal
+import sys
+import threading
+from typing import Callable, Mapping, Sequence
+
+#: Environment variable: "1" renders everything in this process, "2" forks even for a
+#: little work (tests); unset, the caller's measure of the work decides.
+PROCESSES_VARIABLE = "CLEARWAY_PROCESSES"
+
+
+def forced() -> bool:
+    """True when CLEARWAY_PROCESSES=2 asks for the second process whatever the work."""
+    return os.environ.get(PROCESSES_VARIABLE, "").strip() == "2"
+
+
+def can_fork() -> bool:
+    """True where a forked renderer is safe: Linux, one thread, not switched off."""
+    return (sys.platform.startswith("linux") and hasattr(os, "fork")
+            and threading.active_count() == 1
+            and os.environ.get(PROCESSES_VARIABLE, "").strip() != "1")
+
+
+def render_side_by_side(renderers: Mapping[str, Callable[[], bytes]],
+                        aside: Sequence[str] = ()) -> dict[str, bytes]:
+    """Call every renderer; those named in `aside` in a forked child when :func:`can_fork`.
+
+    Parameters
+    ----------
+    renderers : mapping of name -> callable returning bytes
+    aside : names of `renderers` to run in the child (at most about half the work)
+
+    Returns
+    -------
+    dict of name -> bytes, in the order of `renderers`.
+
+    Examples
+    --------
+    >>> render_side_by_side({"a": lambda: b"1", "b": lambda: b"2"}, aside=["b"])
+    {'a': b'1', 'b': b'2'}
+    """
+    aside = [name for name in renderers if name in set(aside)]
+    if not aside or not can_fork():
+        return {name: make() for name, make in renderers.items()}
+    read_end, write_end = os.pipe()
+    gc.freeze()      # the child's collector then leaves the shared objects' pages alone
+    try:
+        pid = os.fork()
+    except OSError:
+        gc.unfreeze()
+        os.close(read_end)
+        os.close(write_end)
+        return {name: make() for name, make in renderers.items()}
+    if pid == 0:     # the child: render, send, leave without running any exit handler
+        os.close(read_end)
+        _child(renderers, aside, write_end)
+    os.close(write_end)
+    gc.unfreeze()
+    reaped = False
+    try:
+        results = {name: make() for name, make in renderers.items() if name not in aside}
+        with os.fdopen(read_end, "rb") as pipe:
+            payload = pipe.read()
+        os.waitpid(pid, 0)
+        reaped = True
+        status, value = pickle.loads(payload) if payload else (
+            "error", RuntimeError("the rendering process ended without a result"))
+        if status != "ok":
+            raise value
+        results.update(value)
+    finally:
+        if not reaped:
+            _stop(pid)
+    return {name: results[name] for name in renderers}
+
+
+def _child(renderers, aside, write_end) -> None:
+    """Run in the forked child: render `aside`, pickle the outcome into the pipe, _exit."""
+    code = 0
+    try:
+        signal.signal(signal.SIGTERM, signal.SIG_DFL)
+        try:
+            outcome = ("ok", {name: renderers[name]() for name in aside})
+        except BaseException as err:  # noqa: BLE001 - every failure goes back to the parent
+            outcome = ("error", err)
+        try:
+            payload = pickle.dumps(outcome, protocol=pickle.HIGHEST_PROTOCOL)
+        except Exception:  # noqa: BLE001 - an exception that cannot be pickled
+            err = outcome[1]
+            payload = pickle.dumps(("error", RuntimeError(f"{type(err).__name__}: {err}")))
+        with os.fdopen(write_end, "wb") as pipe:
+            pipe.write(payload)
+    except BaseException:  # noqa: BLE001 - the parent reports a missing result
+        code = 1
+    finally:
+        os._exit(code)
+
+
+def _stop(pid: int) -> None:
+    """Kill the child `pid` and reap it (it may have ended already)."""
+    try:
+        os.kill(pid, signal.SIGKILL)
+    except ProcessLookupError:
+        pass
+    try:
+        os.waitpid(pid, 0)
+    except ChildProcessError:
+        pass

@@ -1,0 +1,148 @@
+"""Outputs rendered in a forked second process: same bytes, errors and interrupts as in one."""
+
+from __future__ import annotations
+
+import os
+import pickle
+import signal
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pytest
+
+from clearway.errors import ClearwayError
+from clearway.side_by_side import can_fork, render_side_by_side
+
+ROOT = Path(__file__).resolve().parent.parent
+SAMPLE = ROOT / "sample_drawings" / "distribution_centre.dxf"
+
+needs_fork = pytest.mark.skipif(not can_fork(), reason="a second process needs Linux fork "
+                                                       "and a single thread")
+
+
+def _children() -> set[int]:
+    """Processes whose parent is this one (Linux /proc)."""
+    found = set()
+    for entry in os.listdir("/proc"):
+        if entry.isdigit():
+            try:
+                status = Path("/proc", entry, "status").read_text()
+            except OSError:
+                continue
+            ppid = next(line.split()[1] for line in status.splitlines()
+                        if line.startswith("PPid:"))
+            if int(ppid) == os.getpid():
+                found.add(int(entry))
+    return found
+
+
+@needs_fork
+def test_aside_renderers_run_in_another_process_and_keep_the_order():
+    here = os.getpid()
+    result = render_side_by_side({"a": lambda: str(os.getpid()).encode(),
+                                  "b": lambda: str(os.getpid()).encode(),
+                                  "c": lambda: b"c" * 3_000_000},   # larger than a pipe holds
+                                 aside=["b", "c"])
+    assert list(result) == ["a", "b", "c"]
+    assert result["a"] == str(here).encode() and result["b"] != str(here).encode()
+    assert result["c"] == b"c" * 3_000_000
+    assert not _children()
+
+
+@needs_fork
+def test_an_error_in_the_child_is_raised_here_as_itself():
+    def refuse():
+        raise ClearwayError("plan.dxf: no walls")
+    with pytest.raises(ClearwayError, match="plan.dxf: no walls"):
+        render_side_by_side({"a": lambda: b"", "b": refuse}, aside=["b"])
+    assert not _children()
+
+
+class _Unpicklable(Exception):
+    def __reduce__(self):
+        raise pickle.PicklingError("no")
+
+
+@needs_fork
+def test_an_error_that_cannot_travel_arrives_as_its_text():
+    def fail():
+        raise _Unpicklable("lost detail")
+    with pytest.raises(RuntimeError, match="_Unpicklable: lost detail"):
+        render_side_by_side({"a": lambda: b"", "b": fail}, aside=["b"])
+
+
+@needs_fork
+def test_a_child_that_dies_is_reported_and_reaped():
+    with pytest.raises(RuntimeError, match="ended without a result"):
+        render_side_by_side({"a": lambda: b"", "b": lambda: os._exit(7)}, aside=["b"])
+    assert not _children()
+
+
+@needs_fork
+def test_an_error_here_stops_the_child():
+    def slow():
+        time.sleep(30)
+        return b""
+
+    def fail():
+        raise ValueError("here")
+    start = time.monotonic()
+    with pytest.raises(ValueError, match="here"):
+        render_side_by_side({"a": fail, "b": slow}, aside=["b"])
+    assert time.monotonic() - start < 10 and not _children()
+
+
+def test_switched_off_everything_renders_here(monkeypatch):
+    monkeypatch.setenv("CLEARWAY_PROCESSES", "1")
+    assert not can_fork()
+    here = str(os.getpid()).encode()
+    assert render_side_by_side({"a": lambda: str(os.getpid()).encode()}, aside=["a"]) == \
+        {"a": here}
+
+
+def _build(tmp_path, name, processes):
+    out = tmp_path / name
+    env = {**os.environ, "CLEARWAY_PROCESSES": processes}
+    done = subprocess.run([sys.executable, "-m", "clearway", "build", str(SAMPLE), "-o", str(out),
+                           "-q"], env=env, capture_output=True, text=True, timeout=300)
+    assert done.returncode == 0, done.stderr
+    return out
+
+
+@needs_fork
+def test_the_build_writes_the_same_bytes_with_one_process_or_two(tmp_path):
+    one, two = _build(tmp_path, "one", "1"), _build(tmp_path, "two", "2")
+    names = sorted(path.name for path in one.iterdir())
+    assert names == sorted(path.name for path in two.iterdir()) and "roadmap.svg" in names
+    for name in names:
+        assert (one / name).read_bytes() == (two / name).read_bytes(), name
+
+
+@needs_fork
+@pytest.mark.parametrize("signum", [signal.SIGINT, signal.SIGTERM], ids=["SIGINT", "SIGTERM"])
+def test_an_interrupt_while_rendering_leaves_no_second_process(tmp_path, signum):
+    out = tmp_path / "out"
+    env = {**os.environ, "CLEARWAY_PROCESSES": "2"}
+    process = subprocess.Popen([sys.executable, "-m", "clearway", "build", str(SAMPLE), "-o",
+                                str(out)], env=env, stderr=subprocess.PIPE, text=True)
+    for line in process.stderr:
+        if line.startswith("rendering "):
+            break
+    time.sleep(0.05)
+    process.send_signal(signum)
+    process.stderr.read()
+    process.wait(timeout=60)
+    time.sleep(0.2)
+    # the forked child has the build's command line: none may be left running
+    left = []
+    for entry in os.listdir("/proc"):
+        if entry.isdigit():
+            try:
+                command = Path("/proc", entry, "cmdline").read_bytes()
+            except OSError:
+                continue
+            if str(out).encode() in command:
+                left.append(int(entry))
+    assert not left
