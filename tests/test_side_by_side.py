@@ -22,20 +22,23 @@ needs_fork = pytest.mark.skipif(not can_fork(), reason="a second process needs L
                                                        "and a single thread")
 
 
-def _children() -> set[int]:
-    """Processes whose parent is this one (Linux /proc)."""
-    found = set()
+def _processes():
+    """(pid, parent pid, command line bytes) of every process (Linux /proc)."""
     for entry in os.listdir("/proc"):
         if entry.isdigit():
             try:
                 status = Path("/proc", entry, "status").read_text()
+                command = Path("/proc", entry, "cmdline").read_bytes()
             except OSError:
                 continue
             ppid = next(line.split()[1] for line in status.splitlines()
                         if line.startswith("PPid:"))
-            if int(ppid) == os.getpid():
-                found.add(int(entry))
-    return found
+            yield int(entry), int(ppid), command
+
+
+def _children() -> set[int]:
+    """Processes whose parent is this one."""
+    return {pid for pid, ppid, _ in _processes() if ppid == os.getpid()}
 
 
 @needs_fork
@@ -136,13 +139,4 @@ def test_an_interrupt_while_rendering_leaves_no_second_process(tmp_path, signum)
     process.wait(timeout=60)
     time.sleep(0.2)
     # the forked child has the build's command line: none may be left running
-    left = []
-    for entry in os.listdir("/proc"):
-        if entry.isdigit():
-            try:
-                command = Path("/proc", entry, "cmdline").read_bytes()
-            except OSError:
-                continue
-            if str(out).encode() in command:
-                left.append(int(entry))
-    assert not left
+    assert not [pid for pid, _, command in _processes() if str(out).encode() in command]
