@@ -44,19 +44,68 @@ def union_polygons(polygons):
     are snapped), and shapely's coverage union merges such a tiling far faster than a
     general union. Overlapping input falls back to `shapely.union_all`.
     """
+    return union_tiling(polygons)[0]
+
+
+def union_tiling(polygons):
+    """Return (union, tiled) of an array of polygons, as `union_polygons` does.
+
+    tiled : bool
+        True when the polygons tile edge to edge and the coverage union merged them: it only
+        drops the shared edges and computes no new vertex, so every input polygon lies
+        exactly (to the last bit) inside the union.
+    """
     polygons = np.asarray(polygons, dtype=object)
     polygons = polygons[~shapely.is_empty(polygons)]
     if len(polygons) == 0:
-        return _EMPTY
+        return _EMPTY, False
     if len(polygons) > 8:
         try:
             merged = shapely.coverage_union_all(polygons)
             total = float(np.sum(shapely.area(polygons)))
             if merged.is_valid and abs(merged.area - total) <= 1e-9 * max(total, 1.0):
-                return as_multipolygon(merged)
+                return as_multipolygon(merged), True
         except shapely.errors.GEOSException:
             pass
-    return as_multipolygon(shapely.union_all(polygons))
+    return as_multipolygon(shapely.union_all(polygons)), False
+
+
+def covered(geometries, area, *, pieces=None):
+    """Return which of `geometries` `area` covers, shape (N,): ``shapely.covered_by``.
+
+    Testing thousands of wall edges against the union of every wall costs each test about
+    the size of the union (the edges lie on its boundary, so GEOS computes the full
+    relation even with `area` prepared): quadratic growth. `pieces`, polygons each known to
+    lie exactly inside `area` (the tiles of a coverage union, `union_tiling`), settle most
+    edges against one small piece each: covered by a piece means covered by `area`. Only
+    the edges no single piece covers are tested against `area` itself, prepared (an edge
+    partly outside it is rejected from a point outside, without the full relation).
+
+    Examples
+    --------
+    >>> tiles = np.array([shapely.box(0, 0, 2, 3), shapely.box(2, 0, 4, 3)])
+    >>> room = shapely.union_all(tiles)
+    >>> lines = [shapely.LineString([(0, 0), (1, 0)]), shapely.LineString([(1, 1), (3, 1)]),
+    ...          shapely.LineString([(1, 1), (5, 1)])]
+    >>> covered(lines, room, pieces=tiles).tolist()
+    [True, True, False]
+    """
+    geometries = np.asarray(geometries, dtype=object)
+    result = np.zeros(len(geometries), dtype=bool)
+    if pieces is not None and len(pieces) and len(geometries):
+        inside, _ = shapely.STRtree(np.asarray(pieces, dtype=object)).query(
+            geometries, predicate="covered_by")
+        result[inside] = True
+    rest = np.flatnonzero(~result)
+    if len(rest):
+        was_prepared = shapely.is_prepared(area)
+        shapely.prepare(area)
+        try:
+            result[rest] = shapely.covers(area, geometries[rest])
+        finally:
+            if not was_prepared:
+                shapely.destroy_prepared(area)  # no side effect on the caller's geometry
+    return result
 
 
 def node_lines(lines, *, gap_tolerance):
@@ -244,10 +293,12 @@ def wall_regions(lines, rings, fills, *, gap_tolerance, max_wall_thickness, nomi
     else:
         solid_faces = faces
     fills = np.asarray(fills, dtype=object)
-    solid = union_polygons(np.concatenate([solid_faces, fills]))
+    pieces = np.concatenate([solid_faces, fills])
+    solid, tiled = union_tiling(pieces)
     loose = np.empty(0, dtype=object)
     if len(edges):
-        loose = edges[~shapely.covered_by(edges, solid)] if not solid.is_empty else edges
+        loose = edges[~covered(edges, solid, pieces=pieces if tiled else None)] \
+            if not solid.is_empty else edges
         swings = door_swings(arcs)
         if len(loose) and len(swings):
             # merged edges may run on from a swing into its leaf: cut the swing out of them
@@ -274,14 +325,14 @@ def filled_regions(lines, rings, fills, *, gap_tolerance, nominal_thickness):
     area = union_polygons(np.concatenate([polygons, np.asarray(fills, dtype=object)]))
     lines = np.asarray(lines, dtype=object)
     if len(lines) and not area.is_empty:
-        lines = lines[~shapely.covered_by(lines, area)]
+        lines = lines[~covered(lines, area)]
     if not len(lines):
         return area
     edges = node_lines(lines, gap_tolerance=gap_tolerance)
     faces = shapely.get_parts(shapely.polygonize(edges))
-    covered = union_polygons(np.concatenate([faces, [area]]))
-    loose = edges[~shapely.covered_by(edges, covered)]
-    return as_multipolygon(shapely.union_all([covered, bands(loose, nominal_thickness)]))
+    filled = union_polygons(np.concatenate([faces, [area]]))
+    loose = edges[~covered(edges, filled)]
+    return as_multipolygon(shapely.union_all([filled, bands(loose, nominal_thickness)]))
 
 
 def boundary_regions(lines, rings, fills, *, gap_tolerance, nominal_thickness):

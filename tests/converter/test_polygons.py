@@ -171,3 +171,39 @@ def test_inscribed_radius_settles_narrow_faces_by_erosion_only_when_they_are_nar
     # analytic: a 0.56 m strip has 0.28 m > 0.27 m, so it gets the fine search's radius
     assert radius[2] == pytest.approx(0.28, abs=0.006) and radius[2] == plain[2]
     assert radius[3] == plain[3]
+
+
+def test_union_tiling_says_when_the_pieces_lie_exactly_inside():
+    from clearway.converter.polygons import union_tiling
+    # source: shapely's plain union_all is the reference union
+    bays = shapely.set_precision(np.array([shapely.box(x * 2.7, 0, (x + 1) * 2.7, 1.1)
+                                           for x in range(12)]), 1e-4)
+    merged, tiled = union_tiling(bays)
+    assert tiled and merged.equals(shapely.union_all(bays))
+    # exact: a coverage union computes no new vertex, so every bay is covered by the union
+    assert shapely.covered_by(bays, merged).all()
+    overlapping = np.concatenate([bays, [shapely.box(1, 0.5, 30, 2)]])
+    merged, tiled = union_tiling(overlapping)
+    assert not tiled and merged.equals(shapely.union_all(overlapping))
+
+
+def test_covered_agrees_with_shapely_covered_by():
+    from clearway.converter.polygons import covered, union_tiling
+    rng = np.random.default_rng(11)
+    tiles = np.array([shapely.box(x, y, x + 1, y + 1) for x in range(6) for y in range(4)
+                      if (x, y) not in ((2, 1), (3, 2))])           # two holes in the floor
+    area, tiled = union_tiling(tiles)
+    assert tiled
+    grid = rng.integers(0, 7, size=(300, 2, 2)).astype(float)    # lines on the tile edges
+    loose = rng.uniform(-0.5, 6.5, size=(300, 2, 2))             # lines anywhere
+    lines = shapely.linestrings(np.concatenate([grid, loose]))
+    lines = lines[shapely.length(lines) > 0]
+    # source: shapely's plain covered_by on the union is the reference
+    expected = shapely.covered_by(lines, area)
+    assert expected.any() and not expected.all()
+    assert (covered(lines, area, pieces=tiles) == expected).all()
+    assert (covered(lines, area) == expected).all()
+    # a line over two tiles is covered by neither alone, yet by the union
+    across = shapely.LineString([(0.5, 0.5), (1.5, 0.5)])
+    assert covered([across], area, pieces=tiles).tolist() == [True]
+    assert not shapely.is_prepared(area)             # the caller's geometry is left as it was
