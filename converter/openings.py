@@ -57,6 +57,21 @@ class Gap:
         return (self.start + self.end) / 2.0
 
 
+def line_ends(lines):
+    """Return (first, second, last, second last) vertices of each line, four (N, 2) arrays.
+
+    Examples
+    --------
+    >>> first, second, last, before = line_ends([shapely.LineString([(0, 0), (1, 0), (1, 2)])])
+    >>> first.tolist(), second.tolist(), last.tolist(), before.tolist()
+    ([[0.0, 0.0]], [[1.0, 0.0]], [[1.0, 2.0]], [[1.0, 0.0]])
+    """
+    xy, line = shapely.get_coordinates(np.asarray(lines, dtype=object), return_index=True)
+    start = np.searchsorted(line, np.arange(len(lines)))
+    end = np.r_[start[1:], len(xy)] - 1
+    return xy[start], xy[start + 1], xy[end], xy[end - 1]
+
+
 def close_open_wall_ends(lines, *, max_thickness, tolerance=0.01):
     """Return short segments closing double-line walls whose two faces end open.
 
@@ -76,9 +91,9 @@ def close_open_wall_ends(lines, *, max_thickness, tolerance=0.01):
     lines = np.asarray(lines, dtype=object)
     if len(lines) < 2:
         return np.empty(0, dtype=object)
-    coords = [np.asarray(line.coords)[:, :2] for line in lines]
-    ends = np.array([c[0] for c in coords] + [c[-1] for c in coords])
-    inward = np.array([c[1] - c[0] for c in coords] + [c[-2] - c[-1] for c in coords])
+    first, second, last, before = line_ends(lines)
+    ends = np.concatenate([first, last])
+    inward = np.concatenate([second - first, before - last])
     inward /= np.maximum(np.hypot(inward[:, 0], inward[:, 1]), 1e-12)[:, None]
     key = np.round(ends / tolerance).astype(np.int64)
     _, inverse, counts = np.unique(key, axis=0, return_inverse=True, return_counts=True)
@@ -147,9 +162,9 @@ def wall_ends(solid, loose, *, max_thickness, hints=None):
                 minor += [bool(piece_minor)] * len(found[0])
     loose = _without_ticks(np.asarray(loose, dtype=object))
     if len(loose):
-        coords = [np.asarray(line.coords)[:, :2] for line in loose]
-        ends = np.array([c[0] for c in coords] + [c[-1] for c in coords])
-        outward = np.array([c[0] - c[1] for c in coords] + [c[-1] - c[-2] for c in coords])
+        first, second, last, before = line_ends(loose)
+        ends = np.concatenate([first, last])
+        outward = np.concatenate([first - second, last - before])
         key = np.round(ends / 0.005).astype(np.int64)
         _, inverse, counts = np.unique(key, axis=0, return_inverse=True, return_counts=True)
         free = counts[inverse.ravel()] == 1
@@ -196,8 +211,8 @@ def _without_ticks(lines):
     if len(lines) < 2:
         return lines
     for _ in range(2):  # a tick crossing the wall is noded into two halves, each with a free end
-        coords = [np.asarray(line.coords)[:, :2] for line in lines]
-        ends = np.array([c[0] for c in coords] + [c[-1] for c in coords])
+        first, _, last, _ = line_ends(lines)
+        ends = np.concatenate([first, last])
         key = np.round(ends / 0.005).astype(np.int64)
         _, inverse, counts = np.unique(key, axis=0, return_inverse=True, return_counts=True)
         degree = counts[inverse.ravel()]
@@ -234,15 +249,16 @@ def find_gaps(solid, loose, *, max_thickness, max_width=MAX_WINDOW_WIDTH, hints=
     bands = shapely.buffer(loose, 0.005, cap_style="flat") if len(loose) else loose
     walls = shapely.union_all(np.concatenate([shapely.get_parts(solid), bands]))
     outline = shapely.boundary(walls)
-    tree_target = shapely.get_parts(outline)
+    tree_target = _segments(shapely.get_parts(outline))
     if not len(tree_target):
         return []
     tree = shapely.STRtree(tree_target)
     normals = np.c_[-directions[:, 1], directions[:, 0]]
     offsets = np.array([0.0, -0.3, 0.3])
     start_eps = 0.002
-    # every ray at once: one tree query and one intersection over all (ray, face) pairs
-    # (the hits of each ray in the order a query of that ray alone returns them)
+    # every ray at once: one tree query and one intersection over all (ray, segment) pairs
+    # (a segment each, not a whole outline ring: a ring of a large wall network holds
+    # thousands of vertices, and each ray would cost all of them)
     owner, origins, leads = [], [], []
     for index in range(len(middles)):
         middle, direction, length = middles[index], directions[index], lengths[index]
@@ -254,14 +270,16 @@ def find_gaps(solid, loose, *, max_thickness, max_width=MAX_WINDOW_WIDTH, hints=
     owner, origins = np.array(owner), np.array(origins)
     rays = shapely.linestrings(np.stack([origins, origins + directions[owner] * max_width], axis=1))
     ray_index, target_index = tree.query(rays, predicate="intersects")
+    near = _nearest_pairs(origins, directions[owner], tree_target, ray_index, target_index)
+    ray_index, target_index = ray_index[near], target_index[near]
     points, point_hit = shapely.get_coordinates(
         shapely.intersection(rays[ray_index], tree_target[target_index]), return_index=True)
     point_ray = ray_index[point_hit]
     first_point = np.searchsorted(point_ray, np.arange(len(rays) + 1))
     first_ray = np.searchsorted(owner, np.arange(len(middles) + 1))
-    gaps = []
+    found, found_distance = [], []
     for index in range(len(middles)):
-        middle, direction, length = middles[index], directions[index], lengths[index]
+        direction = directions[index]
         distances = []
         for ray in range(first_ray[index], first_ray[index + 1]):
             hits = points[first_point[ray]:first_point[ray + 1]]
@@ -273,20 +291,71 @@ def find_gaps(solid, loose, *, max_thickness, max_width=MAX_WINDOW_WIDTH, hints=
         distance = distances[0]
         if distance < MIN_OPENING_WIDTH or max(distances) - min(distances) > 0.02 + 0.02 * distance:
             continue
-        half = normals[index] * (length / 2.0) * 0.98
-        near, far = middle + direction * start_eps * 2, middle + direction * (distance - start_eps * 2)
-        quad = shapely.Polygon([near - half, near + half, far + half, far - half]) if length > 0 \
-            else shapely.LineString([near, far])
-        if shapely.intersects(quad, walls) and shapely.intersection(quad, walls).area > 1e-6:
-            continue
-        half = normals[index] * (length / 2.0)
-        quad = shapely.Polygon([middle - half, middle + half,
-                                middle + direction * distance + half,
-                                middle + direction * distance - half]) if length > 0 else \
-            shapely.LineString([middle, middle + direction * distance]).buffer(0.005, cap_style="flat")
-        gaps.append(Gap(middle.copy(), middle + direction * distance, float(length), quad,
-                        bool(minor[index])))
+        found.append(index)
+        found_distance.append(distance)
+    if not found:
+        return []
+    found, distance = np.array(found), np.array(found_distance)
+    middle, direction, length = middles[found], directions[found], lengths[found]
+    wide = length > 0
+    # the gap swept between the ends, a little short of both, must hold no wall
+    half = normals[found] * (length / 2.0)[:, None] * 0.98
+    near = middle + direction * start_eps * 2
+    far = middle + direction * (distance - start_eps * 2)[:, None]
+    probes = np.empty(len(found), dtype=object)
+    probes[wide] = shapely.polygons(np.stack([near - half, near + half, far + half, far - half],
+                                             axis=1)[wide])
+    probes[~wide] = shapely.linestrings(np.stack([near, far], axis=1)[~wide])
+    # a probe meets the walls where it meets one of their pieces: one tree query, instead of
+    # a test against every piece of the walls for each probe
+    blocked = np.zeros(len(probes), dtype=bool)
+    pieces = shapely.STRtree(shapely.get_parts(walls))
+    blocked[pieces.query(probes, predicate="intersects")[0]] = True
+    blocked[blocked] = shapely.area(shapely.intersection(probes[blocked], walls)) > 1e-6
+    keep = ~blocked
+    middle, direction, length, distance, wide = (middle[keep], direction[keep], length[keep],
+                                                 distance[keep], wide[keep])
+    half = normals[found[keep]] * (length / 2.0)[:, None]
+    across = middle + direction * distance[:, None]
+    quads = np.empty(len(middle), dtype=object)
+    quads[wide] = shapely.polygons(np.stack([middle - half, middle + half, across + half,
+                                             across - half], axis=1)[wide])
+    quads[~wide] = shapely.buffer(shapely.linestrings(np.stack([middle, across], axis=1)[~wide]),
+                                  0.005, quad_segs=16, cap_style="flat")
+    gaps = [Gap(middle[k].copy(), across[k], float(length[k]), quads[k],
+                bool(minor[found[keep][k]])) for k in range(len(middle))]
     return _merge_pairs(gaps)
+
+
+def _nearest_pairs(origins, directions, segments, ray_index, segment_index, *, slack=1e-6):
+    """Which (ray, segment) pairs may hold a ray's first hit, shape (P,) of bool.
+
+    Only the hit nearest each ray's origin counts, and GEOS's intersection of a ray with a
+    segment costs far more than this estimate of where it lies along the ray (in numpy,
+    within about 1e-10 m unless the two are nearly parallel): a pair whose estimate lies
+    more than `slack` metres beyond the nearest estimate of its ray cannot hold the first
+    hit. Nearly parallel pairs are always kept, and so every ray keeps at least one pair.
+    """
+    xy = shapely.get_coordinates(segments[segment_index]).reshape(-1, 2, 2)
+    start, along = xy[:, 0], xy[:, 1] - xy[:, 0]
+    origin, direction = origins[ray_index], directions[ray_index]
+    cross = direction[:, 0] * along[:, 1] - direction[:, 1] * along[:, 0]
+    reach = np.hypot(along[:, 0], along[:, 1])
+    parallel = np.abs(cross) <= 1e-3 * reach
+    offset = start - origin
+    with np.errstate(divide="ignore", invalid="ignore"):
+        distance = (offset[:, 0] * along[:, 1] - offset[:, 1] * along[:, 0]) / cross
+    distance[parallel] = -np.inf
+    first = np.full(int(ray_index.max()) + 1 if len(ray_index) else 0, np.inf)
+    np.minimum.at(first, ray_index[~parallel], distance[~parallel])
+    return parallel | (distance <= first[ray_index] + slack)
+
+
+def _segments(lines):
+    """Return the straight segments of `lines` as two-point LineStrings, in order."""
+    xy, line = shapely.get_coordinates(np.asarray(lines, dtype=object), return_index=True)
+    same = line[1:] == line[:-1]
+    return shapely.linestrings(np.stack([xy[:-1][same], xy[1:][same]], axis=1))
 
 
 def _merge_pairs(gaps):
@@ -352,18 +421,27 @@ def classify_gaps(gaps, *, door_lines, window_lines, other_lines, swing_arcs):
     arcs = np.asarray(swing_arcs, dtype=object)
     radius, sweep = arc_radius(arcs)
     arc_tree = shapely.STRtree(arcs) if len(arcs) else None
-    for gap in gaps:
+    if not gaps:
+        return kinds
+    # every gap's line, zones and nearby linework at once (buffers and tree queries in one
+    # call each; what is found near a gap does not depend on the order it comes in)
+    spans = np.array([(gap.start, gap.end) for gap in gaps], dtype=float)
+    lines = shapely.linestrings(spans)
+    depths = np.array([gap.depth for gap in gaps], dtype=float)
+    # quad_segs=16: the default of the geometry method these buffers were drawn with before
+    zones = shapely.buffer(lines, np.maximum(depths / 2.0, 0.02) + 0.03, quad_segs=16,
+                           cap_style="flat")
+    widths = np.array([gap.width for gap in gaps], dtype=float)
+    nearby = {name: _split_by_query(tree, zones) for name, tree in trees.items()}
+    near_arcs = _split_by_query(arc_tree, shapely.buffer(lines, widths * 1.1, quad_segs=16)) \
+        if arc_tree is not None else None
+    for number, gap in enumerate(gaps):
         width = gap.width
-        line = shapely.LineString([gap.start, gap.end])
-        zone = line.buffer(max(gap.depth / 2.0, 0.02) + 0.03, cap_style="flat")
-        swing_zone = line.buffer(width * 1.1)
-        found = {}
-        for name, tree in trees.items():
-            near = groups[name][tree.query(zone, predicate="intersects")]
-            found[name] = near
+        line, zone = lines[number], zones[number]
+        found = {name: groups[name][nearby[name][number]] for name in trees}
         is_door = False
-        if arc_tree is not None:
-            near = arc_tree.query(swing_zone, predicate="intersects")
+        if near_arcs is not None:
+            near = near_arcs[number]
             if len(near):
                 fits = (radius[near] >= 0.35 * width) & (radius[near] <= 1.2 * width) & \
                     (sweep[near] >= MIN_SWING_SWEEP) & (sweep[near] <= 185)
@@ -403,6 +481,12 @@ def classify_gaps(gaps, *, door_lines, window_lines, other_lines, swing_arcs):
         else:
             kinds.append("open")
     return kinds
+
+
+def _split_by_query(tree, geometries):
+    """Return, for each of `geometries`, the indices of the tree's geometries it intersects."""
+    index, found = tree.query(geometries, predicate="intersects")
+    return np.split(found, np.searchsorted(index, np.arange(1, len(geometries))))
 
 
 def _closes_along(arc, line, width, depth):
