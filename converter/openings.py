@@ -16,6 +16,8 @@ from dataclasses import dataclass
 import numpy as np
 import shapely
 
+from clearway.converter.polygons import segments
+
 #: Gaps wider than these are not openings of that kind (metres): an open gap with nothing
 #: drawn in it; a door (single, double, sliding, dock and vehicle doors, common practice
 #: 0.6 to 4.5 m); a window or glazed front.
@@ -118,14 +120,14 @@ def close_open_wall_ends(lines, *, max_thickness, tolerance=0.01):
     a, b, length = a[keep], b[keep], length[keep]
     # each free end joins its nearest partner only
     order = np.argsort(length, kind="stable")
-    used, segments = set(), []
+    used, closers = set(), []
     for index in order:
         i, j = int(a[index]), int(b[index])
         if i in used or j in used:
             continue
         used.update((i, j))
-        segments.append(shapely.LineString([ends[i], ends[j]]))
-    return np.array(segments, dtype=object)
+        closers.append(shapely.LineString([ends[i], ends[j]]))
+    return np.array(closers, dtype=object)
 
 
 def wall_ends(solid, loose, *, max_thickness, hints=None):
@@ -249,7 +251,7 @@ def find_gaps(solid, loose, *, max_thickness, max_width=MAX_WINDOW_WIDTH, hints=
     bands = shapely.buffer(loose, 0.005, cap_style="flat") if len(loose) else loose
     walls = shapely.union_all(np.concatenate([shapely.get_parts(solid), bands]))
     outline = shapely.boundary(walls)
-    tree_target = _segments(shapely.get_parts(outline))
+    tree_target = segments(shapely.get_parts(outline))
     if not len(tree_target):
         return []
     tree = shapely.STRtree(tree_target)
@@ -327,8 +329,12 @@ def find_gaps(solid, loose, *, max_thickness, max_width=MAX_WINDOW_WIDTH, hints=
     return _merge_pairs(gaps)
 
 
-def _nearest_pairs(origins, directions, segments, ray_index, segment_index, *, slack=1e-6):
+def _nearest_pairs(origins, directions, targets, ray_index, target_index, *, slack=1e-6):
     """Which (ray, segment) pairs may hold a ray's first hit, shape (P,) of bool.
+
+    `targets` are two-point LineStrings (`polygons.segments`); pair k is ray
+    ``ray_index[k]`` (from ``origins`` along the unit ``directions``) and segment
+    ``targets[target_index[k]]``, pairs sorted by ray.
 
     Only the hit nearest each ray's origin counts, and GEOS's intersection of a ray with a
     segment costs far more than this estimate of where it lies along the ray (in numpy,
@@ -336,7 +342,7 @@ def _nearest_pairs(origins, directions, segments, ray_index, segment_index, *, s
     more than `slack` metres beyond the nearest estimate of its ray cannot hold the first
     hit. Nearly parallel pairs are always kept, and so every ray keeps at least one pair.
     """
-    xy = shapely.get_coordinates(segments[segment_index]).reshape(-1, 2, 2)
+    xy = shapely.get_coordinates(targets[target_index]).reshape(-1, 2, 2)
     start, along = xy[:, 0], xy[:, 1] - xy[:, 0]
     origin, direction = origins[ray_index], directions[ray_index]
     cross = direction[:, 0] * along[:, 1] - direction[:, 1] * along[:, 0]
@@ -349,13 +355,6 @@ def _nearest_pairs(origins, directions, segments, ray_index, segment_index, *, s
     first = np.full(int(ray_index.max()) + 1 if len(ray_index) else 0, np.inf)
     np.minimum.at(first, ray_index[~parallel], distance[~parallel])
     return parallel | (distance <= first[ray_index] + slack)
-
-
-def _segments(lines):
-    """Return the straight segments of `lines` as two-point LineStrings, in order."""
-    xy, line = shapely.get_coordinates(np.asarray(lines, dtype=object), return_index=True)
-    same = line[1:] == line[:-1]
-    return shapely.linestrings(np.stack([xy[:-1][same], xy[1:][same]], axis=1))
 
 
 def _merge_pairs(gaps):
@@ -535,9 +534,9 @@ def _spanning(lines, across, width):
     count = 0
     for line in lines:
         xy = np.asarray(line.coords)[:, :2]
-        segments = np.diff(xy, axis=0)
-        along = np.abs(segments @ direction)
-        total = np.hypot(segments[:, 0], segments[:, 1])
+        steps = np.diff(xy, axis=0)
+        along = np.abs(steps @ direction)
+        total = np.hypot(steps[:, 0], steps[:, 1])
         straight = along >= 0.97 * total
         projected = np.sum(along[straight])
         if projected >= 0.75 * width:

@@ -3,7 +3,8 @@
 import numpy as np
 import shapely
 
-from clearway.converter.openings import _nearest_pairs, _segments, _split_by_query, line_ends
+from clearway.converter.openings import _nearest_pairs, _split_by_query, line_ends
+from clearway.converter import polygons
 
 
 def test_line_ends_match_shapely_get_point():
@@ -16,24 +17,13 @@ def test_line_ends_match_shapely_get_point():
         assert (found == shapely.get_coordinates(shapely.get_point(lines, index))).all()
 
 
-def test_segments_cover_the_lines_they_come_from():
-    rings = shapely.get_exterior_ring(np.array([shapely.box(0, 0, 2, 1),
-                                                shapely.Point(5, 5).buffer(1.0)]))
-    segments = _segments(rings)
-    # source: shapely's union_all and line_merge of the pieces give back each ring
-    merged = shapely.get_parts(shapely.line_merge(shapely.union_all(segments)))
-    assert len(segments) == int(np.sum(shapely.get_num_coordinates(rings))) - 2
-    assert sorted(round(length, 9) for length in shapely.length(merged)) == \
-        sorted(round(length, 9) for length in shapely.length(rings))
-
-
 def test_nearest_pairs_keep_each_rays_first_hit():
     rng = np.random.default_rng(7)
     corners = rng.uniform(0, 20, size=(40, 2))
     sizes = rng.uniform(0.2, 5, size=(40, 2))
     walls = shapely.get_parts(shapely.boundary(shapely.union_all(
         shapely.box(*corners.T, *(corners + sizes).T))))
-    segments = _segments(walls)
+    segments = polygons.segments(walls)
     # a ray along a segment (collinear) and rays from everywhere in every direction
     origins = np.concatenate([[[-1.0, 0.0]], rng.uniform(-2, 22, size=(400, 2))])
     angles = rng.uniform(0, 2 * np.pi, size=len(origins))

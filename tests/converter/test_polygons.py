@@ -5,7 +5,7 @@ import pytest
 import shapely
 
 from clearway.converter import read_floorplan
-from clearway.converter.polygons import node_lines, union_polygons, wall_regions
+from clearway.converter.polygons import node_lines, segments, union_polygons, wall_regions
 from tests.conftest import new_drawing, rectangle, save, wall_with_gap
 
 
@@ -207,3 +207,65 @@ def test_covered_agrees_with_shapely_covered_by():
     across = shapely.LineString([(0.5, 0.5), (1.5, 0.5)])
     assert covered([across], area, pieces=tiles).tolist() == [True]
     assert not shapely.is_prepared(area)             # the caller's geometry is left as it was
+
+
+def test_segments_cover_the_lines_they_come_from():
+    rings = shapely.get_exterior_ring(np.array([shapely.box(0, 0, 2, 1),
+                                                shapely.Point(5, 5).buffer(1.0)]))
+    pieces = segments(rings)
+    # source: shapely's union_all and line_merge of the pieces give back each ring
+    merged = shapely.get_parts(shapely.line_merge(shapely.union_all(pieces)))
+    assert len(pieces) == int(np.sum(shapely.get_num_coordinates(rings))) - 2
+    assert sorted(round(length, 9) for length in shapely.length(merged)) == \
+        sorted(round(length, 9) for length in shapely.length(rings))
+
+
+def test_pieces_near_edge_agree_with_shapely_distance():
+    from clearway.converter.polygons import pieces_near_edge
+    rng = np.random.default_rng(2)
+    hall = shapely.Polygon([(0, 0), (120, 0), (120, 40), (60, 80), (0, 80)])
+    xy = rng.uniform(-5, 125, size=(400, 2))
+    columns = shapely.buffer(shapely.points(xy), 0.2, quad_segs=4)
+    walls = shapely.MultiPolygon(list(shapely.get_parts(shapely.union_all(columns))))
+    kept = pieces_near_edge(walls, hall, 21.0)
+    # source: shapely's plain contains_properly and distance to the hall's outline
+    pieces = shapely.get_parts(walls)
+    expected = ~shapely.contains_properly(hall, pieces) | \
+        (shapely.distance(pieces, hall.exterior) <= 21.0)
+    assert 0 < expected.sum() < len(pieces)
+    assert shapely.get_parts(kept).tolist() == pieces[expected].tolist()
+    assert not shapely.is_prepared(hall)
+    assert pieces_near_edge(walls, shapely.box(-10, -10, 130, 130), 200.0) is None
+
+
+@pytest.mark.parametrize("gap", [0.0, 3.0])
+def test_leak_search_with_columns_deep_inside_matches_the_search_over_every_piece(gap):
+    from clearway.converter.polygons import CLOSING_REACH, find_leaks, pieces_near_edge
+    # a closed 200 x 120 m hall, 0.3 m walls, columns on a 6 m grid (most deeper inside
+    # than the closing reaches), and a 30 x 40 m annex east of it with a gap `gap` wide in
+    # its east wall: the annex's floor escapes through the gap
+    hall, inner = shapely.box(0, 0, 200, 120), shapely.box(0.3, 0.3, 199.7, 119.7)
+    annex = shapely.box(200, 40, 230, 80).difference(shapely.box(199.7, 40.3, 229.7, 79.7))
+    annex = annex.difference(shapely.box(229, 60, 231, 60 + gap))
+    grid = np.array([(x, y) for x in np.arange(6, 195, 6.0) for y in np.arange(6, 115, 6.0)])
+    columns = shapely.buffer(shapely.points(grid), 0.25, quad_segs=4)
+    walls = shapely.union_all([hall.difference(inner), annex, *columns])
+    enclosed = shapely.union_all([inner, walls] + ([shapely.box(200, 40, 230, 80)] if not gap
+                                                   else []))
+    assert pieces_near_edge(walls, enclosed, CLOSING_REACH * 8.0) is not None
+    leaks, sealed = find_leaks(walls, enclosed)
+    # source: the closing over every piece with shapely's plain buffer and union_all
+    closed = shapely.buffer(shapely.buffer(walls, 4.0, join_style="mitre"), -4.0,
+                            join_style="mitre")
+    base = shapely.union_all(shapely.polygons(shapely.get_exterior_ring(
+        shapely.get_parts(enclosed))))
+    filled = shapely.polygons(shapely.get_exterior_ring(shapely.get_parts(
+        shapely.union_all([closed, base]))))
+    escaped = shapely.difference(shapely.union_all(filled), shapely.union_all([closed, base]))
+    assert (escaped.area >= 1.0) == bool(leaks)
+    if gap:
+        # analytic: one leak, in the middle of the 3 m gap in the annex wall at x = 229.7 to 230
+        assert len(leaks) == 1 and leaks[0][1] == pytest.approx(61.5, abs=0.1)
+        assert sealed.area == pytest.approx(200 * 120 + 30 * 40, rel=1e-3)
+    else:
+        assert leaks == [] and sealed.area == pytest.approx(200 * 120 + 30 * 40, rel=1e-9)
