@@ -61,13 +61,98 @@ def union_tiling(polygons):
         return _EMPTY, False
     if len(polygons) > 8:
         try:
-            merged = shapely.coverage_union_all(polygons)
+            merged = coverage_union(polygons)
             total = float(np.sum(shapely.area(polygons)))
             if merged.is_valid and abs(merged.area - total) <= 1e-9 * max(total, 1.0):
                 return as_multipolygon(merged), True
         except shapely.errors.GEOSException:
             pass
     return as_multipolygon(shapely.union_all(polygons)), False
+
+
+def coverage_union(polygons):
+    """Return ``shapely.coverage_union_all(polygons)``, merged group by group where it can.
+
+    The coverage union of a whole warehouse's rack bays costs more than twice as much for
+    twice the bays (GEOS's noding and ring building over every bay at once), while the
+    bays fall apart into many groups (runs of bays) that share no vertex with each other.
+    GEOS builds the union from the bays' edges in input order, and groups that share no
+    vertex share no edge or node: the union of each group alone, its members in input
+    order, gives the same rings, vertex for vertex, and the union of all lists the groups'
+    polygons in the order of their first edges. So when each group merges into one
+    polygon whose outline closes on a segment of its first member's outline (its first edge
+    comes from that member), the groups' polygons in the order of their first
+    members are the union; otherwise, or for few or small groups (nothing to gain), the
+    union is taken whole.
+
+    Examples
+    --------
+    >>> bays = np.array([shapely.box(x, y, x + 2.7, y + 1.1) for y in (0.0, 5.0)
+    ...                  for x in (0.0, 2.7, 5.4)])
+    >>> shapely.to_wkb(coverage_union(bays)) == shapely.to_wkb(shapely.coverage_union_all(bays))
+    True
+    """
+    polygons = np.asarray(polygons, dtype=object)
+    merged = _coverage_union_by_group(polygons)
+    return merged if merged is not None else shapely.coverage_union_all(polygons)
+
+
+def _coverage_union_by_group(polygons, *, min_groups=16, min_size=4):
+    """The coverage union of `polygons` as `coverage_union` describes, or None."""
+    from scipy.sparse import coo_matrix
+    from scipy.sparse.csgraph import connected_components
+
+    count = len(polygons)
+    if count < min_groups * min_size:
+        return None
+    xy, owner = shapely.get_coordinates(polygons, return_index=True)
+    sort = np.lexsort((xy[:, 1], xy[:, 0]))
+    new = np.r_[True, np.any(xy[sort][1:] != xy[sort][:-1], axis=1)]
+    vertex = np.empty(len(xy), dtype=int)
+    vertex[sort] = np.cumsum(new) - 1                    # the same number for the same point
+    nodes = count + int(vertex.max()) + 1
+    links = coo_matrix((np.ones(len(owner)), (owner, count + vertex)), shape=(nodes, nodes))
+    _, label = connected_components(links, directed=False)
+    _, label = np.unique(label[:count], return_inverse=True)
+    label = label.ravel()
+    groups = int(label.max()) + 1
+    if groups < min_groups or count < min_size * groups:
+        return None
+    first_member = np.full(groups, count)
+    np.minimum.at(first_member, label, np.arange(count))
+    rank = np.empty(groups, dtype=int)
+    rank[np.argsort(first_member)] = np.arange(groups)
+    group = rank[label]                                  # groups numbered by first member
+    if groups < min_groups:
+        return None
+    order = np.argsort(group, kind="stable")                         # members in input order
+    start = np.searchsorted(group[order], np.arange(groups + 1))
+    size = np.diff(start)
+    merged = np.empty(groups, dtype=object)
+    bucket = np.ceil(np.log2(size)).astype(int)                      # pad each to a power of 2
+    for level in np.unique(bucket):
+        chosen = np.flatnonzero(bucket == level)
+        table = np.full((len(chosen), int(size[chosen].max())), None, dtype=object)
+        column = np.arange(table.shape[1])
+        filled = column[None, :] < size[chosen][:, None]
+        table[filled] = polygons[order[(start[chosen][:, None] + column[None, :])[filled]]]
+        merged[chosen] = shapely.coverage_union_all(table, axis=1)
+    if not (shapely.get_type_id(merged) == 3).all():
+        return None
+    # each polygon's outline closes on a segment of its group's first member (GEOS starts a
+    # ring at the second point of its first edge, whose first segment so closes the ring)
+    rings = shapely.get_exterior_ring(merged)
+    head = shapely.get_coordinates(shapely.get_point(rings, -2))
+    then = shapely.get_coordinates(shapely.get_point(rings, -1))
+    outline, member = shapely.get_coordinates(
+        shapely.get_exterior_ring(polygons[order[start[:-1]]]), return_index=True)
+    same = member[1:] == member[:-1]
+    tail, tip, member = outline[:-1][same], outline[1:][same], member[1:][same]
+    along = np.all(tail == head[member], axis=1) & np.all(tip == then[member], axis=1)
+    back = np.all(tail == then[member], axis=1) & np.all(tip == head[member], axis=1)
+    if not (np.bincount(member[along | back], minlength=groups) > 0).all():
+        return None
+    return shapely.multipolygons(merged)                 # in the order of the first members
 
 
 def covered(geometries, area, *, pieces=None):

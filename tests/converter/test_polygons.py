@@ -269,3 +269,72 @@ def test_leak_search_with_columns_deep_inside_matches_the_search_over_every_piec
         assert sealed.area == pytest.approx(200 * 120 + 30 * 40, rel=1e-3)
     else:
         assert leaks == [] and sealed.area == pytest.approx(200 * 120 + 30 * 40, rel=1e-9)
+
+
+def _random_runs(rng, runs, *, rows=3):
+    """Runs of rack bays (1 to `rows` rows of 1 to 12 bays, now and then a cell left out: a
+    notch, or a hole in a 3 x 3 block), apart from each other, in shuffled order."""
+    bays = []
+    for run in range(runs):
+        x0, y0 = (run % 8) * 40.0, (run // 8) * 9.0
+        height, length = rng.integers(1, rows + 1), rng.integers(1, 13)
+        if height == 3 and rng.random() < 0.3:
+            length = 3                                   # a ring of 8 bays around a hole
+        skip = (height // 2, length // 2) if rng.random() < 0.4 else None
+        for row in range(height):
+            for index in range(length):
+                if (row, index) != skip:
+                    bays.append(shapely.box(x0 + index * 2.7, y0 + row * 1.1,
+                                            x0 + (index + 1) * 2.7, y0 + (row + 1) * 1.1))
+    bays = shapely.set_precision(np.array(bays), 1e-4)
+    return bays[rng.permutation(len(bays))]
+
+
+@pytest.mark.parametrize("seed", range(16))
+def test_coverage_union_by_group_is_shapelys_coverage_union_to_the_byte(seed):
+    from clearway.converter.polygons import _coverage_union_by_group, coverage_union
+    rng = np.random.default_rng(seed)
+    # two rows at most: every bay lies on its run's outline, so the groups are always used
+    bays = _random_runs(rng, 60, rows=2 if seed % 2 else 3)
+    # source: shapely's plain coverage_union_all (GEOS) of all the bays at once
+    expected = shapely.to_wkb(shapely.coverage_union_all(bays))
+    assert shapely.to_wkb(coverage_union(bays)) == expected
+    grouped = _coverage_union_by_group(bays, min_groups=2, min_size=1)
+    assert grouped is not None or seed % 2 == 0
+    assert grouped is None or shapely.to_wkb(grouped) == expected
+    # and the union itself is right: shapely's union_all covers the same ground
+    assert coverage_union(bays).symmetric_difference(shapely.union_all(bays)).area < 1e-9
+
+
+def test_coverage_union_by_group_declines_what_it_cannot_order():
+    from clearway.converter.polygons import _coverage_union_by_group
+    bays = _random_runs(np.random.default_rng(1), 80, rows=2)
+    grouped = _coverage_union_by_group(bays)
+    assert grouped is not None
+    # source: shapely's plain coverage_union_all of all the bays at once
+    assert shapely.to_wkb(grouped) == shapely.to_wkb(shapely.coverage_union_all(bays))
+    # two squares meeting at a corner merge into two polygons: the union is taken whole
+    corner = np.concatenate([bays, shapely.set_precision(np.array(
+        [shapely.box(400, 400, 401, 401), shapely.box(401, 401, 402, 402)]), 1e-4)])
+    assert _coverage_union_by_group(corner) is None
+    # a block whose first bay lies inside it (no edge on its outline): taken whole
+    block = shapely.set_precision(np.array([shapely.box(500 + x, 500 + y, 501 + x, 501 + y)
+                                            for x, y in [(1, 1)] + [(x, y) for x in range(3)
+                                                                    for y in range(3)
+                                                                    if (x, y) != (1, 1)]]), 1e-4)
+    assert _coverage_union_by_group(np.concatenate([block, bays])) is None
+
+
+def test_coverage_union_by_group_keeps_holes_to_the_byte():
+    from clearway.converter.polygons import _coverage_union_by_group
+    # 20 rings of 8 bays, each around an empty cell (every bay on the ring's outline)
+    rng = np.random.default_rng(4)
+    cells = [(g % 5 * 10.0 + x, g // 5 * 10.0 + y) for g in range(20) for x in range(3)
+             for y in range(3) if (x, y) != (1, 1)]
+    bays = shapely.set_precision(np.array([shapely.box(x, y, x + 1, y + 1) for x, y in cells]),
+                                 1e-4)[rng.permutation(len(cells))]
+    grouped = _coverage_union_by_group(bays)
+    assert grouped is not None
+    assert all(len(polygon.interiors) == 1 for polygon in grouped.geoms)
+    # source: shapely's plain coverage_union_all of all the bays at once
+    assert shapely.to_wkb(grouped) == shapely.to_wkb(shapely.coverage_union_all(bays))
