@@ -118,10 +118,23 @@ def render_dxf(plan, roadmap) -> bytes:
         msp.add_text(label, height=height,
                      dxfattribs={"layer": layer, "insert": (x + height, y - 1.5 * height)})
     _add_note(msp, plan, roadmap, height)
+    _sort_classes(doc)
     stream = io.StringIO()
     with _fixed_metadata():
         doc.write(stream)
     return doc.encode(stream.getvalue())
+
+
+def _sort_classes(doc) -> None:
+    """Give the CLASSES section one order: ezdxf adds a CLASS for each entity type in use by
+    iterating a set, whose order changes with Python's string hash seed. Added here first,
+    they are sorted by name after the ones the document already holds; writing adds none."""
+    held = list(doc.classes.classes)
+    doc.classes.add_required_classes(doc.dxfversion)
+    added = sorted(key for key in doc.classes.classes if key not in set(held))
+    ordered = {key: doc.classes.classes[key] for key in held + added}
+    doc.classes.classes.clear()
+    doc.classes.classes.update(ordered)
 
 
 def _add_note(msp, plan, roadmap, height: float) -> None:

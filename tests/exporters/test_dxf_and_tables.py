@@ -146,3 +146,21 @@ def test_csv_cells_that_would_run_as_formulas_are_defused():
     assert rows[1][2] == "'=HYPERLINK(\"x\")"
     assert rows[2][2] == "A,B \"quoted\"" and rows[2][3] == "-4.0"   # numbers untouched
     assert tables["nodes.csv"].endswith(b"\r\n")                   # source: RFC 4180 sec. 2
+
+
+def test_dxf_bytes_do_not_depend_on_the_string_hash_seed(centre, tmp_path):
+    # ezdxf lists a CLASS per entity type in use in the order of a set; Python randomises
+    # string hashes per process (PYTHONHASHSEED), so two builds of one drawing differed
+    import os
+    import subprocess
+    import sys
+    built = []
+    for seed in ("1", "4"):
+        out = tmp_path / seed
+        done = subprocess.run([sys.executable, "-m", "clearway", "build",
+                               str(SAMPLES / "distribution_centre.dxf"), "-o", str(out), "-q",
+                               "--no-html", "--dxf"], capture_output=True, text=True,
+                              env={**os.environ, "PYTHONHASHSEED": seed}, timeout=300)
+        assert done.returncode == 0, done.stderr
+        built.append((out / "roadmap.dxf").read_bytes())
+    assert built[0] == built[1] == (centre / "roadmap.dxf").read_bytes()
