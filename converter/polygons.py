@@ -211,7 +211,10 @@ def node_lines(lines, *, gap_tolerance):
 
     A free end (a node only one edge reaches) within `gap_tolerance` of other linework is
     joined to its nearest point there: endpoint to endpoint and endpoint to segment
-    (a T-junction drawn a millimetre short).
+    (a T-junction drawn a millimetre short). An overshoot, a piece at most `gap_tolerance`
+    long that runs on past a junction to a free end (a wall face drawn a millimetre too
+    long at a corner), is dropped: left in, it would become a loose band that bulges the
+    wall's end and hides the opening beside it.
 
     Returns
     -------
@@ -228,7 +231,15 @@ def node_lines(lines, *, gap_tolerance):
         return edges
     ends = np.concatenate([shapely.get_coordinates(shapely.get_point(edges, 0)),
                            shapely.get_coordinates(shapely.get_point(edges, -1))])
-    nodes, counts = np.unique(ends, axis=0, return_counts=True)
+    nodes, inverse, counts = np.unique(ends, axis=0, return_inverse=True, return_counts=True)
+    degree = counts[inverse.reshape(2, -1)]
+    overshoot = (shapely.length(edges) <= gap_tolerance) & (
+        ((degree[0] == 1) & (degree[1] >= 3)) | ((degree[1] == 1) & (degree[0] >= 3)))
+    if overshoot.any():
+        edges = edges[~overshoot]
+        counts = counts - np.bincount(inverse.reshape(2, -1)[:, overshoot].ravel(),
+                                      minlength=len(counts))
+        nodes, counts = nodes[counts > 0], counts[counts > 0]
     free = shapely.points(nodes[counts == 1])
     if not len(free):
         return edges

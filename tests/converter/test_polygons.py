@@ -77,6 +77,48 @@ def test_endpoint_gap_closed_endpoint_to_endpoint():
     assert shapely.line_merge(shapely.union_all(edges)).geom_type == "LineString"
 
 
+def test_corner_overshoot_is_dropped():
+    # common practice: wall faces drawn as LINEs run on a millimetre or two past a corner
+    lines = [shapely.LineString([(0, 0), (1.002, 0)]), shapely.LineString([(1, -0.003), (1, 1)])]
+    edges = node_lines(lines, gap_tolerance=0.01)
+    # analytic: what is left is the L from (0, 0) via (1, 0) to (1, 1), 2 m long
+    assert shapely.union_all(edges).length == pytest.approx(2.0)
+    assert shapely.line_merge(shapely.union_all(edges)).geom_type == "LineString"
+    # a short line with both ends free is linework, not an overshoot
+    assert len(node_lines([shapely.LineString([(5, 5), (5.004, 5)])], gap_tolerance=0.01)) == 1
+
+
+@pytest.mark.parametrize("overshoot", [0.001, 0.003])
+def test_wall_lines_overshooting_their_corners_keep_the_opening(tmp_path, overshoot):
+    # common practice (DRAFTING.md, broken linework): every wall face a LINE that runs on past
+    # its corner by a millimetre or a few; before, the overshoots became loose bands that
+    # bulged each wall end, the opening was not found and the building had no floor
+    def walls(msp, extend):
+        t, (g0, g1) = 0.2, (8.0, 9.2)
+        segments = [((g0, 0), (0, 0)), ((0, 0), (0, 12)), ((0, 12), (20, 12)), ((20, 12), (20, 0)),
+                    ((20, 0), (g1, 0)), ((g0, t), (t, t)), ((t, t), (t, 12 - t)),
+                    ((t, 12 - t), (20 - t, 12 - t)), ((20 - t, 12 - t), (20 - t, t)),
+                    ((20 - t, t), (g1, t)), ((g0, 0), (g0, t)), ((g1, 0), (g1, t))]
+        for start, end in segments:
+            a, b = np.asarray(start, float), np.asarray(end, float)
+            step = (b - a) / np.linalg.norm(b - a) * extend
+            msp.add_line(a - step, b + step, dxfattribs={"layer": "A-WALL"})
+
+    plans = []
+    for extend in (0.0, overshoot):
+        doc = new_drawing(6)
+        walls(doc.modelspace(), extend)
+        plans.append(read_floorplan(save(doc, tmp_path, f"plan_{extend}.dxf")))
+    clean, drawn = plans
+    [opening] = drawn.openings
+    # analytic: the opening spans x 8.0-9.2 in the 0.2 m south wall
+    assert (opening.x, opening.y, opening.width) == pytest.approx((8.6, 0.1, 1.2), abs=0.02)
+    assert drawn.leaks == ()
+    assert drawn.free_space.area == pytest.approx(clean.free_space.area, rel=1e-3)
+    # analytic: the floor is the 19.6 m x 11.6 m interior
+    assert drawn.free_space.area == pytest.approx(19.6 * 11.6, rel=0.01)
+
+
 def test_duplicated_reversed_and_zero_length_lines_do_no_harm(room_drawing):
     doc, msp, write = room_drawing
     baseline = read_floorplan(write("a.dxf")).free_space.area
