@@ -96,6 +96,9 @@ def _summary(plan, roadmap, outdir: str, names=BUILD_FILES) -> list[str]:
              "dead ends to back out of"))) + " (report.json lists them)")
     if plan.unit_doubt:
         lines.append(f"units: {plan.unit_doubt}")
+    elif plan.unit_source in ("content", "assumed"):
+        # no unit the header names (or one the content overruled): say how it was chosen
+        lines.append(f"units: {plan.unit_note}")
     lines += _left_out_lines(plan.left_out)
     lines.append(f"files in {outdir}: {', '.join(names)}")
     lines.append("planning aid: verify on site under ISO 3691-4, the robot maker's safety "

@@ -16,7 +16,7 @@ import shapely
 from clearway.errors import DrawingError
 
 from clearway.converter.evidence import (decide_from_content, describe, gather_evidence,
-                                         header_evidence, wall_thicknesses)
+                                         header_evidence, judge_units, wall_thicknesses)
 from clearway.converter.floorplan import ROLES, LeftOutLayer
 from clearway.converter.inserts import BLOCK_OPENING_PREFIX
 from clearway.converter.openings import arc_radius
@@ -176,6 +176,11 @@ def guess_wall_layer(content, visible, role_of):
 #: program often keeps the structure on a layer named for something else).
 OUTWEIGH_FACTOR = 4
 MIN_FACE_PAIRS = 40
+#: The header's unit is doubted (said, not overridden) when the content's measurements
+#: (doors, walls, dimension texts; not the plan's size) give another unit at least this
+#: share of their weight and the header's unit at most HEADER_DOUBT_LEFT of it.
+HEADER_DOUBT_SUPPORT = 0.75
+HEADER_DOUBT_LEFT = 0.25
 
 
 def _outweighs(content, name, wall_layers):
@@ -223,10 +228,40 @@ def _decide_units(content, override, by_role, visible, role_of):
     chosen, factor, default_note, span_warnings = decide_units(content.insunits, override, span,
                                                                source=source)
     kind = "option" if override else "header" if header_unit else "assumed"
-    doubt = unit_doubt(header_unit, override, evidence, source=source)
+    doubt = unit_doubt(header_unit, override, evidence, source=source) or \
+        header_doubt(header_unit, override, evidence)
     if doubt:
         span_warnings = (*span_warnings, f"{source}: {doubt}")
     return chosen, factor, default_note, kind, lines, tuple(span_warnings), doubt
+
+
+def header_doubt(header_unit, override, evidence):
+    """Say why the header's unit looks wrong, or "": it kept the header (the content's lead
+    was short of overriding it), but what the content measures is implausible in it and
+    plausible in another unit (walls 2.5 m thick in cm, 0.25 m in mm).
+
+    Returns
+    -------
+    str
+        "the header says cm: walls 2.50-2.50 m thick, ...; in mm: walls 0.25-0.25 m thick,
+        ...; pass --units mm if the header is wrong", or "".
+    """
+    if override is not None or header_unit is None:
+        return ""
+    substantive = [item for item in evidence if item.kind not in ("extent", "measurement",
+                                                                   "length format")]
+    if not substantive:
+        return ""
+    support = judge_units(substantive)
+    best = next(iter(support))
+    weight = sum(item.weight for item in substantive)
+    if best == header_unit or support[best] < HEADER_DOUBT_SUPPORT * weight or \
+            support.get(header_unit, 0.0) > HEADER_DOUBT_LEFT * weight:
+        return ""
+    said = ", ".join(describe(item, header_unit) for item in evidence)
+    read = ", ".join(describe(item, best) for item in evidence)
+    return (f"the header says {header_unit}: {said}; in {best}: {read}; pass --units {best} "
+            f"if the header is wrong")
 
 
 def unit_doubt(header_unit, override, evidence, *, source):

@@ -193,3 +193,31 @@ def test_a_keep_out_zone_named_after_an_aisle_stays_a_keep_out_zone(tmp_path):
     # analytic: the 10 m x 5 m zone is left out of the free floor
     assert plan.free_space.area == pytest.approx(29.6 * 19.6 - 50.0, rel=1e-6)
     assert not plan.free_space.contains(shapely.Point(15, 7.5))
+
+
+def _rooms_in_mm(tmp_path, insunits):
+    """Three 8 m x 6 m rooms side by side, drawn in mm with 250 mm walls."""
+    doc = new_drawing(insunits)
+    msp = doc.modelspace()
+    for k in range(3):
+        walled_room(msp, k * 8000.0, 0.0, k * 8000.0 + 8000.0, 6000.0, thickness=250.0)
+    return save(doc, tmp_path)
+
+
+def test_a_header_the_walls_contradict_is_kept_but_said(tmp_path):
+    # drawn in mm, the header says cm: 250 units are 2.5 m in cm, thicker than any wall
+    # (common practice: 0.08-0.5 m, masonry up to 0.8 m) and 0.25 m in mm; the walls alone
+    # do not overrule a header, but the build says so
+    path = _rooms_in_mm(tmp_path, 5)
+    plan = read_floorplan(path)
+    assert plan.units == "cm" and plan.unit_source == "header"
+    assert plan.unit_doubt.startswith("the header says cm: walls 2.50 m")
+    assert plan.unit_doubt.endswith("pass --units mm if the header is wrong")
+    result = CliRunner().invoke(main, ["build", str(path), "-o", str(tmp_path / "out")])
+    assert result.exit_code == 0, result.output
+    assert "units: the header says cm" in result.output
+
+
+def test_a_header_the_walls_agree_with_is_not_doubted(tmp_path):
+    plan = read_floorplan(_rooms_in_mm(tmp_path, 4))
+    assert plan.units == "mm" and plan.unit_doubt == ""
