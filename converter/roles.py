@@ -26,7 +26,10 @@ DEFAULT_ROLE_PATTERNS: Mapping[str, tuple[str, ...]] = MappingProxyType({
                 "*RAAM*", "*RAMEN*", "*门*", "*窗*", "*幕墙*", "*建具*", "*ドア*", "*窓*",
                 "*창호*"),
     "stair": ("*STAIR*", "*STRS*", "*TREPPE*", "*ESCALIER*", "*ESCALERA*", "*SCALA",
-              "*TRAP[-_ ]*", "*TRAPPE*", "*楼梯*", "*階段*", "*계단*"),
+              "*TRAP[-_ ]*", "*TRAPPE*", "*楼梯*", "*階段*", "*계단*",
+              # lifts (the car and its shaft are no floor: the robot waits in the lobby)
+              "*EVTR*", "LIFT", "LIFT[-_ ]*", "*[-_ ]LIFT", "*[-_ ]LIFT[-_ ]*", "*AUFZUG*",
+              "*ASCENSEUR*", "*ASCENSOR*", "*电梯*"),
     "wall": ("*WALL*", "A-COLS*", "S-COLS*", "*COLUMN*", "*-COL", "*-COL-*", "*-COLS-*",
              "WAND*", "*[-_ ]WAND*", "*WÄNDE*", "*WAENDE*", "*MAUER*", "MUR", "MURS*",
              "MUR[-_ ]*", "*[-_ ]MUR", "*[-_ ]MURS*", "*[-_ ]MUR[-_ ]*", "MURO*", "*[-_ ]MURO*",

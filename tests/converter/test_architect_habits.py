@@ -109,6 +109,31 @@ def test_xref_prefixes_and_plain_language_layer_names():
     assert opening_kind("3068") == "door"      # common practice: 3'0" x 6'8" door block
 
 
+def test_lift_layers_are_impassable_like_stairs(tmp_path):
+    roles = Roles()
+    # source: US National CAD Standard layer list, A-FLOR-EVTR (elevator); common practice for
+    # the plain words (British lift, German Aufzug, French ascenseur, Spanish ascensor)
+    for name in ("A-FLOR-EVTR", "PLAN$0$A-FLOR-EVTR", "LIFT", "Lift-Core", "Aufzug", "ASCENSEUR",
+                 "Ascensor"):
+        assert roles.role_of(name) == "stair", name
+    # a word that only contains LIFT is no lift
+    assert roles.role_of("FORKLIFT-ROUTE") is None
+    # common practice (DRAFTING.md): a lift is drawn as a box with a cross; it is no floor
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    msp.add_lwpolyline([(0, 0), (10, 0), (10, 8), (0, 8)], close=True, dxfattribs={"layer": "A-WALL"})
+    msp.add_lwpolyline([(0.2, 0.2), (9.8, 0.2), (9.8, 7.8), (0.2, 7.8)], close=True,
+                       dxfattribs={"layer": "A-WALL"})
+    msp.add_lwpolyline([(6, 1), (8.5, 1), (8.5, 3.5), (6, 3.5)], close=True,
+                       dxfattribs={"layer": "A-FLOR-EVTR"})
+    msp.add_line((6, 1), (8.5, 3.5), dxfattribs={"layer": "A-FLOR-EVTR"})
+    msp.add_line((6, 3.5), (8.5, 1), dxfattribs={"layer": "A-FLOR-EVTR"})
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: the 2.5 m x 2.5 m lift box is taken out of the 9.6 m x 7.6 m room
+    assert plan.free_space.area == pytest.approx(9.6 * 7.6 - 2.5 * 2.5, rel=1e-3)
+    assert not plan.free_space.contains(shapely.Point(7.0, 2.0))
+
+
 def test_dimension_texts_in_feet_and_inches():
     # exact by definition: 1 in = 0.0254 m, 1 ft = 12 in
     assert text_length_m("13'-8\"") == pytest.approx((13 * 12 + 8) * 0.0254)
