@@ -233,14 +233,18 @@ def locate(points, rooms: np.ndarray, *, slack: float = 0.0) -> np.ndarray:
 #: A door tag giving width and height in feet and inches (3068 = 3'0" x 6'8", 16070 = a
 #: 16'0" x 7'0" overhead door; common practice in US plans).
 DOOR_TAG = re.compile(r"^(?:[1-9]|1\d)\d[6-8]\d$")
+#: An area label beside a room's name (71.25 m², 18,0 m2, 859 SQ. FT., 859 SF, 859 ft²;
+#: common practice): a measurement, not the room's name.
+AREA_LABEL = re.compile(r"^\s*(?:A\s*=\s*)?\d[\d,.' ]*\s*(?:m²|m2|sq\.?\s*m|sq\.?\s*ft\.?|sf|ft²|ft2)\s*$",
+                        re.IGNORECASE)
 
 
 def room_names(rooms: np.ndarray, texts, offset, openings=(),
                station_labels=()) -> list[tuple[str, ...]]:
     """The texts inside each room: annotation layers first, then by height, largest first.
 
-    Texts of several lines keep their lines joined by a space; empty texts and repeats are
-    left out, and so are door tags (`DOOR_TAG`) standing within 1.5 m of a door among
+    Texts of several lines keep their lines joined by a space; empty texts, repeats and
+    lines that are area labels (`AREA_LABEL`) are left out, and so are door tags (`DOOR_TAG`) standing within 1.5 m of a door among
     `openings` (drawing frame, like the texts). A text that reads as one of
     `station_labels` labels its station: it names a room only that has no other text and
     no other station label and is no larger than STATION_ROOM_AREA (a charger closet called
@@ -250,6 +254,8 @@ def room_names(rooms: np.ndarray, texts, offset, openings=(),
     --------
     >>> [bool(DOOR_TAG.match(text)) for text in ("3068", "2468", "16070", "101", "2.14", "1204")]
     [True, True, True, False, False, False]
+    >>> [bool(AREA_LABEL.match(text)) for text in ("71.25 m²", "859 SQ. FT.", "12 m2", "ROOM 12")]
+    [True, True, True, False]
     """
     names: list[list] = [[] for _ in range(len(rooms))]
     texts = [t for t in texts if str(t.text).strip()]
@@ -272,8 +278,9 @@ def room_names(rooms: np.ndarray, texts, offset, openings=(),
                                  -float(t.y), float(t.x)))
         seen: list[str] = []
         for text in mine:
-            label = " ".join(str(text.text).split())
-            if label not in seen:
+            label = " ".join(" ".join(line for line in str(text.text).splitlines()
+                                      if not AREA_LABEL.match(line)).split())
+            if label and label not in seen:
                 seen.append(label)
         named = [label for label in seen if label not in labels]
         result.append(tuple(named if named or len(seen) > 1 or not closet else seen))

@@ -240,6 +240,18 @@ def test_door_tags_beside_doors_are_not_room_names():
     assert room_names(rooms, texts, (0.0, 0.0)) == [("2668", "BEDROOM", "3068")]
 
 
+def test_area_labels_are_not_room_names():
+    # common practice (DRAFTING.md): an area label (71.25 m², 859 SQ. FT.) sits beside the
+    # room's name, as its own text or as the second line of the name's MTEXT
+    rooms = np.array([shapely.box(0, 0, 5, 5), shapely.box(5, 0, 10, 5)], dtype=object)
+    texts = [PlanText("BED 01\n18.0 m²", 2, 3, 0.25, "A-ANNO-TEXT"),
+             PlanText("71.25 m2", 2, 2, 0.2, "A-ANNO-TEXT"),
+             PlanText("LAB 101", 7, 3, 0.25, "A-ANNO-TEXT"),
+             PlanText("859 SQ. FT.", 7, 2, 0.15, "A-ANNO-TEXT"),
+             PlanText("ROOM 12", 7, 1, 0.15, "A-ANNO-TEXT")]
+    assert room_names(rooms, texts, (0.0, 0.0)) == [("BED 01",), ("LAB 101", "ROOM 12")]
+
+
 def test_a_station_report_names_its_room(robot):
     obstacles, free, openings = corridor_with_rooms([1.0, 1.0])
     roadmap = build(obstacles, free, [("dock", 1.7, 4.5), ("hall", 3.0, 1.1)], robot=robot,
