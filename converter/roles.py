@@ -10,6 +10,12 @@ from typing import Mapping
 
 from clearway.converter.floorplan import ROLES
 
+#: Floor-standing equipment (``A-EQPM``, ``MACHINES``, ``CONVEYOR``) is a keep-out zone by
+#: default: lanes must not run through a machine that nothing else on the plan marks. The
+#: equipment words give way to the station words (``A-EQPM-STATION`` holds docking points,
+#: not machines) and to overhead (``CONVEYOR-OVHD``); keep-out's own words never do.
+EQUIPMENT_PATTERNS = ("*EQPM*", "*EQUIP*", "*MACHIN*", "*MASCHIN*", "*CONVEY*")
+
 #: Default glob patterns per role, matched case-insensitively against the layer name and
 #: against the name left after an external-reference prefix (``SITE$0$A-WALL``,
 #: ``SITE|A-WALL``). They cover the US National CAD Standard / AIA layer names (A-WALL,
@@ -39,10 +45,10 @@ DEFAULT_ROLE_PATTERNS: Mapping[str, tuple[str, ...]] = MappingProxyType({
     "racking": ("*RACK*", "*SHELV*", "*PALLET*", "*REGAL*", "*RAYONNAGE*", "*ESTANTER*",
                 "*SCAFFAL*", "*STELLING*"),
     "keepout": ("*KEEPOUT*", "*KEEP-OUT*", "*KEEP_OUT*", "*NOGO*", "*NO-GO*", "*EXCLUSION*",
-                "*SPERRFL*", "*INTERDIT*"),
+                "*SPERRFL*", "*INTERDIT*", *EQUIPMENT_PATTERNS),
     "boundary": ("A-FLOR-OTLN*", "*-OTLN", "*BOUNDARY*"),
-    "station": ("*STATION*", "*-STN*", "STN-*", "*CHARGER*", "*CHARGING*", "*CHGR*",
-                "*DOCKING*"),
+    "station": ("*STATION*", "*-STN*", "*_STN*", "STN", "STN[-_ ]*", "*CHARGER*",
+                "*CHARGING*", "*CHGR*", "*DOCKING*"),
     "shared": ("*SHARED*", "*WALKWAY*", "*PEDESTRIAN*"),
 })
 
@@ -65,6 +71,7 @@ DEFAULT_IGNORED_PATTERNS = ("*OVHD*", "*OVERHEAD*", "*HIDDEN*", "*HIDD*", "*-HEA
 #: another role's word also names (``RACK-AISLE-KEEPOUT``) takes that role, so no keep-out
 #: zone is ever left out by these words.
 NOT_RACKING_PATTERNS = ("*AISLE*", "*SPRINK*", "E-LITE*", "*LIGHTING*")
+
 
 #: Opening blocks and layers by kind: a door swings or slides (passable), a window is glazing
 #: (closed like wall). Block names are matched like layer names; door blocks named by size
@@ -101,6 +108,13 @@ def name_candidates(name):
     upper = str(name).upper()
     stripped = _XREF_PREFIX.sub("", upper)
     return (upper, stripped) if stripped and stripped != upper else (upper,)
+
+
+def _equipment_only(names, patterns):
+    """True when only an equipment word makes the layer a keep-out zone and a station word
+    names it too (``A-EQPM-STATION``): the station role takes it."""
+    own = tuple(p for p in patterns["keepout"] if p not in EQUIPMENT_PATTERNS)
+    return not matches_any(names, own) and matches_any(names, patterns["station"])
 
 
 def matches_any(names, patterns):
@@ -200,6 +214,8 @@ class Roles:
                         ignored = matches_any(names, DEFAULT_IGNORED_PATTERNS)
                     if ignored or (role == "racking" and
                                    matches_any(names, NOT_RACKING_PATTERNS)):
+                        continue
+                    if role == "keepout" and _equipment_only(names, self.patterns):
                         continue
                 return role
         return None

@@ -221,3 +221,44 @@ def test_a_header_the_walls_contradict_is_kept_but_said(tmp_path):
 def test_a_header_the_walls_agree_with_is_not_doubted(tmp_path):
     plan = read_floorplan(_rooms_in_mm(tmp_path, 4))
     assert plan.units == "mm" and plan.unit_doubt == ""
+
+
+@pytest.mark.parametrize("layer", ["A-EQPM", "MACHINES", "CONVEYOR", "PLAN$0$Q-EQPM-FIXD"])
+def test_machines_on_an_equipment_layer_are_kept_out(tmp_path, layer):
+    # common practice: floor-standing machines drawn as blocks on an equipment layer (US
+    # National CAD Standard A-EQPM) with nothing else marking them; lanes used to run
+    # through them
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 24, 12)
+    machine = doc.blocks.new("CNC-3000x2000")
+    machine.add_lwpolyline(rectangle(0, 0, 3, 2), close=True)
+    machine.add_circle((1.5, 1.0), 0.5)
+    msp.add_blockref("CNC-3000x2000", (10.5, 5.0), dxfattribs={"layer": layer})
+    path = save(doc, tmp_path)
+    plan = read_floorplan(path)
+    # analytic: one 3 m x 2 m machine
+    assert plan.obstacles["keepout"].area == pytest.approx(6.0, abs=1e-6)
+    out = tmp_path / "out"
+    result = CliRunner().invoke(main, ["build", str(path), "-o", str(out), "-q"])
+    assert result.exit_code == 0, result.output
+    lanes = [shapely.geometry.shape(feature["geometry"]) for feature in
+             json.loads((out / "roadmap.geojson").read_text())["features"]
+             if feature["geometry"]["type"] == "LineString"]
+    assert lanes and not any(lane.intersects(shapely.box(10.5, 5.0, 13.5, 7.0)) for lane in lanes)
+
+
+@pytest.mark.parametrize("name, role", [
+    ("A-EQPM-STATION", "station"),      # docking points on an equipment layer stay stations
+    ("A-EQPM-STN", "station"),
+    ("A-EQPM-RACK", "racking"),
+    ("EQUIPMENT-KEEPOUT", "keepout"),
+    ("CONVEYOR-OVHD", None),             # overhead, like every OVHD layer
+    ("STN", "station"),                  # a station layer named by the abbreviation alone
+    ("AMR_STN", "station"),
+    ("DESTN", None),
+])
+def test_equipment_and_station_words(name, role):
+    # source: US National CAD Standard layer names (A-EQPM, -STN) and common practice
+    from clearway.converter.roles import Roles
+    assert Roles().role_of(name) == role
