@@ -52,7 +52,8 @@ def test_options_and_config_choose_roles(samples, tmp_path):
     result = run("layers", samples / "distribution_centre.dxf", "--json", "--config", config)
     data = json.loads(result.stdout)
     roles = {layer["name"]: layer["role"] for layer in data["layers"]}
-    assert roles["A-DOOR"] == "racking" and roles["A-EQPM-RACK"] is None
+    # A-EQPM-RACK leaves racking; its equipment word still makes it a keep-out zone
+    assert roles["A-DOOR"] == "racking" and roles["A-EQPM-RACK"] == "keepout"
     assert data["units"] == "in"
     # options override the file
     result = run("layers", samples / "distribution_centre.dxf", "--json", "--config", config,
