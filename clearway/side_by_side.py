@@ -83,20 +83,20 @@ def render_side_by_side(renderers: Mapping[str, Callable[[], bytes]],
     os.close(write_end)
     gc.unfreeze()
     reaped = False
-    try:
-        results = {name: make() for name, make in renderers.items() if name not in aside}
-        with os.fdopen(read_end, "rb") as pipe:
+    with os.fdopen(read_end, "rb") as pipe:
+        try:
+            results = {name: make() for name, make in renderers.items() if name not in aside}
             payload = pipe.read()
-        os.waitpid(pid, 0)
-        reaped = True
-        status, value = pickle.loads(payload) if payload else (
-            "error", RuntimeError("the rendering process ended without a result"))
-        if status != "ok":
-            raise value
-        results.update(value)
-    finally:
-        if not reaped:
-            _stop(pid)
+            os.waitpid(pid, 0)
+            reaped = True
+        finally:
+            if not reaped:
+                _stop(pid)
+    status, value = pickle.loads(payload) if payload else (
+        "error", RuntimeError("the rendering process ended without a result"))
+    if status != "ok":
+        raise value
+    results.update(value)
     return {name: results[name] for name in renderers}
 
 
