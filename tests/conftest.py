@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 import os
+import signal
 from pathlib import Path
 
 import ezdxf
@@ -82,3 +83,15 @@ def room_drawing(tmp_path):
 def samples():
     """Folder of the bundled sample drawings."""
     return SAMPLES
+
+
+def pytest_sessionstart(session):
+    """Give SIGINT its default handler when the run inherited it ignored.
+
+    A shell without job control starts background commands with SIGINT ignored, and
+    children inherit that: the interrupt tests' builds would then never see the SIGINT they
+    are sent (Python keeps an inherited SIG_IGN), and each injected step would wait out
+    its timeout."""
+    if signal.getsignal(signal.SIGINT) is signal.SIG_IGN:
+        signal.signal(signal.SIGINT, signal.default_int_handler)
+
