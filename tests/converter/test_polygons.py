@@ -235,7 +235,10 @@ def test_covered_agrees_with_shapely_covered_by():
     tiles = np.array([shapely.box(x, y, x + 1, y + 1) for x in range(6) for y in range(4)
                       if (x, y) not in ((2, 1), (3, 2))])           # two holes in the floor
     area, tiled = union_tiling(tiles)
-    assert tiled
+    # GEOS 3.14 merges this coverage; 3.13 (shapely 2.1.0's wheels) leaves a ring touching
+    # itself where the two holes meet at a corner, invalid, and union_tiling falls back to
+    # the plain union (not tiled), whose pieces then prove nothing
+    assert tiled or shapely.geos_version < (3, 14, 0)
     grid = rng.integers(0, 7, size=(300, 2, 2)).astype(float)    # lines on the tile edges
     loose = rng.uniform(-0.5, 6.5, size=(300, 2, 2))             # lines anywhere
     lines = shapely.linestrings(np.concatenate([grid, loose]))
@@ -243,11 +246,12 @@ def test_covered_agrees_with_shapely_covered_by():
     # source: shapely's plain covered_by on the union is the reference
     expected = shapely.covered_by(lines, area)
     assert expected.any() and not expected.all()
-    assert (covered(lines, area, pieces=tiles) == expected).all()
     assert (covered(lines, area) == expected).all()
-    # a line over two tiles is covered by neither alone, yet by the union
-    across = shapely.LineString([(0.5, 0.5), (1.5, 0.5)])
-    assert covered([across], area, pieces=tiles).tolist() == [True]
+    if tiled:
+        assert (covered(lines, area, pieces=tiles) == expected).all()
+        # a line over two tiles is covered by neither alone, yet by the union
+        across = shapely.LineString([(0.5, 0.5), (1.5, 0.5)])
+        assert covered([across], area, pieces=tiles).tolist() == [True]
     assert not shapely.is_prepared(area)             # the caller's geometry is left as it was
 
 
