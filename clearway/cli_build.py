@@ -22,8 +22,10 @@ from clearway.roadmap import ROBOT_KINDS          # a constant: the stages load 
 
 #: The files `build` writes, in the order they are rendered.
 BUILD_FILES = ("roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json", "roadmap.html")
-#: Lanes from which the preview renders in a second process (below, the fork costs about
-#: what it saves; benchmarks/bench_suite.py).
+#: Lanes from which the preview renders in a second process. Chosen, not measured as a
+#: break-even: it takes the suite's 20,000-bay drawings (about 1,700 lanes; `mixed` at 5,000
+#: bays has 2,600) and leaves the other 5,000-bay ones (300 to 550 lanes) and the samples
+#: (under 100) in one process.
 SIDE_BY_SIDE_EDGES = 1500
 
 

@@ -65,7 +65,8 @@ def render_side_by_side(renderers: Mapping[str, Callable[[], bytes]],
     >>> render_side_by_side({"a": lambda: b"1", "b": lambda: b"2"}, aside=["b"])
     {'a': b'1', 'b': b'2'}
     """
-    aside = [name for name in renderers if name in set(aside)]
+    wanted = set(aside)
+    aside = [name for name in renderers if name in wanted]
     if not aside or not can_fork():
         return {name: make() for name, make in renderers.items()}
     read_end, write_end = os.pipe()

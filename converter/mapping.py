@@ -243,8 +243,8 @@ def header_doubt(header_unit, override, evidence):
     Returns
     -------
     str
-        "the header says cm: walls 2.50-2.50 m thick, ...; in mm: walls 0.25-0.25 m thick,
-        ...; pass --units mm if the header is wrong", or "".
+        "the header says cm: walls 2.50 m-3.00 m thick, ...; in mm: walls 0.25 m-0.30 m
+        thick, ...; pass --units mm if the header is wrong", or "".
     """
     if override is not None or header_unit is None:
         return ""

@@ -131,7 +131,7 @@ def _sort_classes(doc) -> None:
     they are sorted by name after the ones the document already holds; writing adds none."""
     held = list(doc.classes.classes)
     doc.classes.add_required_classes(doc.dxfversion)
-    added = sorted(key for key in doc.classes.classes if key not in set(held))
+    added = sorted(set(doc.classes.classes) - set(held))
     ordered = {key: doc.classes.classes[key] for key in held + added}
     doc.classes.classes.clear()
     doc.classes.classes.update(ordered)

@@ -134,12 +134,12 @@ def chain_lanes(count: int, edges: np.ndarray, terminal: np.ndarray | None = Non
     visit = depth_first_order(graph, root, directed=False, return_predecessors=False)[1:]
     lane_of = label[visit]
     boundaries = np.flatnonzero(np.r_[True, lane_of[1:] != lane_of[:-1], True])
-    start, stop = boundaries[:-1], boundaries[1:]
-    closed = visit[start] < count
+    begin, end = boundaries[:-1], boundaries[1:]
+    closed = visit[begin] < count
     sequence = original[visit]
     # a closed lane repeats its first vertex at its end
-    order = np.insert(sequence, stop[closed], sequence[start[closed]])
-    offsets = np.r_[0, np.cumsum(stop - start + closed)]
+    order = np.insert(sequence, end[closed], sequence[begin[closed]])
+    offsets = np.r_[0, np.cumsum(end - begin + closed)]
     return Chains(order, offsets.astype(np.int64))
 
 
@@ -175,9 +175,9 @@ def _spur_lanes(chains: Chains, vertices, clearance, leaf, slope: float, probe: 
     order, offsets = chains.order, chains.offsets
     first, last = offsets[:-1], offsets[1:] - 1
     head, tail = order[first], order[last]
-    ends = np.concatenate([np.flatnonzero((head != tail) & leaf[head]),
-                           np.flatnonzero((head != tail) & leaf[tail])])
-    from_head = np.arange(len(ends)) < np.count_nonzero((head != tail) & leaf[head])
+    at_head = np.flatnonzero((head != tail) & leaf[head])
+    ends = np.concatenate([at_head, np.flatnonzero((head != tail) & leaf[tail])])
+    from_head = np.arange(len(ends)) < len(at_head)
     result = np.zeros(len(chains), dtype=bool)
     if len(ends) == 0:
         return result
