@@ -113,7 +113,8 @@ def _format_layer_table(table) -> str:
             x0, y0, x1, y1 = (value * table.m_per_unit for value in drawing.extents)
             mark = "built" if drawing.chosen else "left out"
             lines.append(f"drawing at ({x0:.1f}, {y0:.1f})-({x1:.1f}, {y1:.1f}) m: "
-                         f"{drawing.parts} parts, {drawing.swings} door swings; {mark} "
+                         f"{drawing.parts} parts, {drawing.swings} door swings"
+                         f"{f', {drawing.faces} wall faces' if drawing.faces else ''}; {mark} "
                          f"(drawing units {','.join(f'{v:.6g}' for v in drawing.extents)})")
     lines += [f"warning: {warning}" for warning in table.warnings]
     return "\n".join(lines)

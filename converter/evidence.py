@@ -65,41 +65,86 @@ def door_swings(arcs):
 def wall_thicknesses(lines, *, limit=4000):
     """Distances (drawing units) between parallel wall lines that overlap along their length:
     the wall's two faces. Each line contributes its nearest parallel partner."""
+    best, _ = nearest_parallel(lines, limit=limit)
+    return best[np.isfinite(best)]
+
+
+def nearest_parallel(lines, *, limit=None):
+    """For every straight segment of `lines`, the distance (drawing units) to the nearest
+    parallel segment that overlaps it along half the shorter one's length: a wall's other face.
+
+    Parameters
+    ----------
+    lines : sequence of shapely LineString or LinearRing
+        Lines of more than 12 vertices (curves flattened to chords) have no faces.
+    limit : int, optional
+        Stop taking segments once this many are taken (lines in their order).
+
+    Returns
+    -------
+    best : (S,) ndarray of float
+        inf where a segment has no partner.
+    line : (S,) ndarray of int
+        The index in `lines` of each segment's line.
+
+    Examples
+    --------
+    >>> import shapely
+    >>> best, line = nearest_parallel([shapely.LineString([(0, 0), (10, 0)]),
+    ...                                shapely.LineString([(0, 3), (10, 3)]),
+    ...                                shapely.LineString([(20, 0), (20, 1)])])
+    >>> best.tolist(), line.tolist()
+    ([3.0, 3.0, inf], [0, 1, 2])
+    """
     lines = np.asarray(lines, dtype=object)
+    none = np.empty(0), np.empty(0, dtype=np.intp)
     if len(lines) < 2:
-        return np.empty(0)
-    segments = []
-    for line in lines:
+        return none
+    segments, owner = [], []
+    for number, line in enumerate(lines):
         xy = np.asarray(line.coords)[:, :2]
         if len(xy) > 12:
             continue  # a curve flattened to chords (a round column): no wall faces
         segments.extend(zip(xy[:-1], xy[1:]))
-        if len(segments) >= limit:
+        owner.extend([number] * (len(xy) - 1))
+        if limit is not None and len(segments) >= limit:
             break
     if len(segments) < 2:
-        return np.empty(0)
+        return none
     a = np.array([s[0] for s in segments])
     b = np.array([s[1] for s in segments])
+    owner = np.array(owner, dtype=np.intp)
+    best = np.full(len(a), np.inf)
+    finite_best, taken = _nearest_parallel(a, b)
+    best[taken] = finite_best
+    return best, owner
+
+
+def _nearest_parallel(a, b):
+    """(best gap per kept segment, indices of the kept segments) for segments a -> b."""
+    empty = np.empty(0), np.empty(0, dtype=np.intp)
+    taken = np.arange(len(a))
     with np.errstate(over="ignore", invalid="ignore"):
         d = b - a
         length = np.hypot(d[:, 0], d[:, 1])
     keep = length > 0
     with np.errstate(over="ignore", invalid="ignore"):
         keep &= np.isfinite(length) & np.isfinite(a).all(axis=1) & np.isfinite(b).all(axis=1)
-    a, b, d, length = a[keep], b[keep], d[keep], length[keep]
+    a, b, d, length, taken = a[keep], b[keep], d[keep], length[keep], taken[keep]
     if len(a) < 2:
-        return np.empty(0)
+        return empty
     unit = d / length[:, None]
     middle = a / 2 + b / 2
     finite = np.isfinite(middle).all(axis=1)
     if finite.sum() < 2:
-        return np.empty(0)
+        return empty
     a, b, unit, middle, length = a[finite], b[finite], unit[finite], middle[finite], length[finite]
+    taken = taken[finite]
     from scipy.spatial import cKDTree
     tree = cKDTree(middle)
     reach = float(np.median(length)) * 2 + 1e-9
     if not np.isfinite(reach) or np.abs(middle).max() > 1e15:
-        return np.empty(0)  # absurd coordinates: refused by the limits later, not measured here
+        return empty  # absurd coordinates: refused by the limits later, not measured here
     # every (segment, neighbour) pair at once: a Python loop over pairs cost a third of a
     # second on a floor of a few thousand wall segments
     neighbours = tree.query_ball_point(middle, reach)
@@ -116,7 +161,7 @@ def wall_thicknesses(lines, *, limit=4000):
     pair = (gap > 0) & (overlap > 0.5 * np.minimum(length[i], length[j]))
     best = np.full(len(middle), np.inf)
     np.minimum.at(best, i[pair], gap[pair])
-    return best[np.isfinite(best)]
+    return best, taken
 
 
 def dimension_factors(dimensions):

@@ -16,11 +16,12 @@ import shapely
 from clearway.errors import DrawingError
 
 from clearway.converter.evidence import (decide_from_content, describe, gather_evidence,
-                                         header_evidence, judge_units, wall_thicknesses)
+                                         header_evidence, judge_units, nearest_parallel,
+                                         wall_thicknesses, WALL_THICKNESS_M)
 from clearway.converter.floorplan import ROLES, LeftOutLayer
 from clearway.converter.inserts import BLOCK_OPENING_PREFIX
 from clearway.converter.openings import arc_radius
-from clearway.converter.parts import Parts
+from clearway.converter.parts import CLOSED, OPEN, Parts
 from clearway.converter.read import read_drawing
 from clearway.converter.roles import (DEFAULT_IGNORED_PATTERNS, DEFAULT_ROLE_PATTERNS,
                                       NOT_RACKING_PATTERNS, ROLE_OPTION_NAMES, matches_any,
@@ -317,7 +318,8 @@ def keep_one_view(mapping, *, region=None, apply=True):
     layers = [name for name in layers if name in content.parts]
     boxes = [content.parts[name].part_bounds() for name in layers]
     boxes = np.concatenate(boxes) if boxes else np.empty((0, 4))
-    boxes = boxes[np.isfinite(boxes).all(axis=1)]
+    finite = np.isfinite(boxes).all(axis=1)
+    boxes = boxes[finite]
     arcs = Parts.concat([content.parts[name] for name in layers]).arcs()
     if len(arcs):
         _, sweep = arc_radius(arcs)
@@ -325,6 +327,14 @@ def keep_one_view(mapping, *, region=None, apply=True):
     points = shapely.get_coordinates(shapely.line_interpolate_point(arcs, 0.5, normalized=True)) \
         if len(arcs) else np.empty((0, 2))
     labels, views = find_views(boxes, points, gap=VIEW_GAP / factor)
+    if len(views) > 1 and views[0].swings < 2:
+        # no drawing shows door swings: count each one's wall faces to find the plan
+        faces = np.concatenate([_wall_faces(content.parts[name], factor)
+                                if name in mapping.by_role["wall"] else
+                                np.zeros(len(content.parts[name]), dtype=np.int64)
+                                for name in layers])
+        faces = faces[finite]
+        labels, views = find_views(boxes, points, gap=VIEW_GAP / factor, faces=faces)
     warnings = []
     if region is not None:
         box = tuple(float(v) for v in region)
@@ -339,15 +349,37 @@ def keep_one_view(mapping, *, region=None, apply=True):
                chosen.extents[2] + margin, chosen.extents[3] + margin)
         others = "; ".join(_box_text(view.extents, factor) for view in views[1:6])
         more = f" and {len(views) - 6} more" if len(views) > 6 else ""
+        faces = f", {chosen.faces} wall faces" if chosen.swings < 2 else ""
         warnings.append(f"{source}: model space holds {len(views)} separate drawings; built the "
                         f"one at {_box_text(chosen.extents, factor)} ({chosen.parts} parts, "
-                        f"{chosen.swings} door swings); left out {others}{more}; pass --region "
-                        f"X0,Y0,X1,Y1 (drawing units) to choose another")
+                        f"{chosen.swings} door swings{faces}); left out {others}{more}; pass "
+                        f"--region X0,Y0,X1,Y1 (drawing units) to choose another")
     else:
         return ViewChoice(views, warnings)
     if apply:
         _keep_inside(content, box)
     return ViewChoice(views, warnings)
+
+
+def _wall_faces(parts, factor):
+    """Count, for each part (P,), its straight segments with a parallel partner at a wall's
+    thickness (WALL_THICKNESS_M): the faces of the walls a floor plan cuts."""
+    counts = np.diff(parts.offsets)
+    kinds = parts.kinds
+    lines = np.isin(kinds, (OPEN, CLOSED)) & (counts >= 2)
+    faces = np.zeros(len(kinds), dtype=np.int64)
+    if lines.sum() < 2:
+        return faces
+    number = np.flatnonzero(lines)
+    geometries = [shapely.linearrings(parts.coords[parts.offsets[i]:parts.offsets[i + 1]])
+                  if kinds[i] == CLOSED and counts[i] >= 3 else
+                  shapely.linestrings(parts.coords[parts.offsets[i]:parts.offsets[i + 1]])
+                  for i in number]
+    best, owner = nearest_parallel(geometries)
+    low, high = (value / factor for value in WALL_THICKNESS_M)
+    paired = (best >= low) & (best <= high)
+    np.add.at(faces, number[owner[paired]], 1)
+    return faces
 
 
 def _box_text(box, factor):

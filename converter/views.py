@@ -3,7 +3,10 @@
 Model space often holds a section, elevations or a second floor beside the plan, on the same
 layers. Linework whose bounding boxes come within VIEW_GAP of each other belongs to one
 drawing; the floor plan is the group with door swings in it (plans show doors swinging;
-sections and elevations do not), the largest by area among those, or the largest of all.
+sections and elevations do not), the largest by area among those. Where no group shows door
+swings (doors drawn as bare gaps, arcs lost in a PDF import), the plan is the group with the
+most wall faces, wall lines with a parallel partner at a wall's thickness: a plan cuts every
+wall, while a site plan beside it, larger by area, draws a few outlines; then the largest.
 """
 
 from __future__ import annotations
@@ -25,6 +28,7 @@ class View:
     parts: int
     swings: int
     chosen: bool = False
+    faces: int = 0        # wall-face segments (counted only where no group shows door swings)
 
 
 #: Largest raster (cells) the grouping uses; a drawing with far-flung linework gets coarser cells.
@@ -157,29 +161,44 @@ def merge_nested(boxes, labels):
     return labels
 
 
-def find_views(boxes, swing_points, *, gap):
+def find_views(boxes, swing_points, *, gap, faces=None):
     """Group part boxes (N, 4) into views; return (labels (N,), views sorted by preference).
 
     `swing_points` (M, 2) are the middles of door-swing arcs. The first view is the plan.
+    `faces` (N,), optional, counts the wall-face segments of each part; among views without
+    door swings the one with the most comes first.
+
+    Examples
+    --------
+    A site plan (a large outline) beside a plan whose walls have faces, no door swings:
+
+    >>> boxes = np.array([(0, 0, 10, 8), (0, 0, 10, 0.2), (30, 0, 60, 40)])
+    >>> find_views(boxes, np.empty((0, 2)), gap=2.0)[0].tolist()
+    [1, 1, 0]
+    >>> find_views(boxes, np.empty((0, 2)), gap=2.0, faces=np.array([4, 2, 0]))[0].tolist()
+    [0, 0, 1]
     """
     labels = merge_nested(boxes, group_boxes(boxes, gap))
     if not len(labels):
         return labels, []
     views = []
     swing_points = np.asarray(swing_points, dtype=float).reshape(-1, 2)
+    faces = np.zeros(len(labels), dtype=np.int64) if faces is None else np.asarray(faces)
     for label in range(int(labels.max()) + 1):
-        own = boxes[labels == label]
+        mine = labels == label
+        own = boxes[mine]
         low, high = own[:, :2].min(axis=0), own[:, 2:].max(axis=0)
         inside = np.all((swing_points >= low) & (swing_points <= high), axis=1)
         views.append((label, View(tuple(float(v) for v in (*low, *high)), int(len(own)),
-                                  int(inside.sum()))))
+                                  int(inside.sum()), faces=int(faces[mine].sum()))))
+
     def preference(item):
         view = item[1]
         area = (view.extents[2] - view.extents[0]) * (view.extents[3] - view.extents[1])
-        return (view.swings < 2, -area)
+        return (view.swings < 2, -view.faces if view.swings < 2 else 0, -area)
     views.sort(key=preference)
     order = {label: rank for rank, (label, _) in enumerate(views)}
     ranked = np.array([order[label] for label in labels])
-    views = [View(view.extents, view.parts, view.swings, chosen=rank == 0)
+    views = [View(view.extents, view.parts, view.swings, chosen=rank == 0, faces=view.faces)
              for rank, (_, view) in enumerate(views)]
     return ranked, views

@@ -21,7 +21,7 @@ from clearway.converter import Roles, read_floorplan
 from clearway.converter.evidence import text_length_m
 from clearway.converter.roles import opening_kind
 
-from tests.conftest import new_drawing, save
+from tests.conftest import new_drawing, rectangle, save, walled_room, wall_with_gap
 
 OFFICE = Path(__file__).resolve().parents[2] / "sample_drawings" / "office_ground_floor.dxf"
 
@@ -225,6 +225,33 @@ def test_region_picks_the_other_drawing(tmp_path):
     assert plan.free_space.bounds[0] >= 30.0
     with pytest.raises(Exception):
         read_floorplan(OFFICE, region=(5, 5, 1, 1))
+
+
+def test_plan_without_door_swings_is_chosen_over_a_larger_site_plan(tmp_path):
+    # doors drawn as bare gaps (no swings, as PDF imports and single-line offices leave
+    # them): the site plan beside the house covers six times its area, so size picked it
+    doc = new_drawing(units=6)
+    msp = doc.modelspace()
+    wall_with_gap(msp, 0, 0, 12, 8, thickness=0.3, gap=(2.0, 3.0))
+    for x0, x1 in ((0.3, 5.0), (6.0, 11.7)):          # a partition at y 4 with a 1 m doorway
+        msp.add_lwpolyline(rectangle(x0, 3.94, x1, 4.06), close=True,
+                           dxfattribs={"layer": "A-WALL"})
+    # the site plan 20 m east: plot line, the house outline once more, parking bays 2.5 m
+    # apart and a road 6 m wide, on a site layer of the wall family (A-WALL-SITE)
+    site = {"layer": "A-WALL-SITE"}
+    msp.add_lwpolyline(rectangle(32, -10, 72, 25), close=True, dxfattribs=site)
+    walled_room(msp, 40, 0, 52, 8, thickness=0.3, layer="A-WALL-SITE")
+    for i in range(8):
+        msp.add_line((55 + 2.5 * i, -8), (55 + 2.5 * i, -3), dxfattribs=site)
+    for y in (20, 26):
+        msp.add_line((28, y), (76, y), dxfattribs=site)
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: the house's floor, 11.4 m x 7.4 m inside 0.3 m walls, less the partition
+    # (10.4 m x 0.12 m), and nothing of the site plan
+    assert plan.free_space.area == pytest.approx(11.4 * 7.4 - 10.4 * 0.12, rel=1e-3)
+    assert plan.free_space.bounds[2] < 12.0
+    chose = next(w for w in plan.warnings if "separate drawings" in w)
+    assert "0 door swings" in chose and "wall faces" in chose, chose
 
 
 def test_ezdxf_reads_the_sample_back():
