@@ -340,6 +340,50 @@ def door_swings(arcs):
 THICK_WALL_MAX = 1.2
 
 
+def crossed_boxes(faces, tolerance):
+    """Mark the faces (F,) that are the four triangles of a box drawn with both diagonals.
+
+    A box with a cross is how plans draw a lift shaft, a duct riser or a void (common
+    practice): no floor, though its triangles are as wide as small rooms and a name ("LIFT")
+    may sit in one. Four triangles meeting at one vertex whose union is a convex
+    quadrilateral are such a box. Vertices added on the box's sides where walls meet them
+    are dropped first (simplified within `tolerance`, metres).
+
+    Examples
+    --------
+    >>> box = shapely.box(0, 0, 2, 3).exterior
+    >>> cross = [shapely.LineString([(0, 0), (2, 3)]), shapely.LineString([(0, 3), (2, 0)])]
+    >>> def faces_of(lines):
+    ...     return shapely.get_parts(shapely.polygonize(shapely.get_parts(shapely.union_all(lines))))
+    >>> crossed_boxes(faces_of([box, *cross]), 1e-3).tolist()
+    [True, True, True, True]
+    >>> crossed_boxes(faces_of([box, cross[0]]), 1e-3).tolist()
+    [False, False]
+    """
+    faces = np.asarray(faces, dtype=object)
+    marked = np.zeros(len(faces), dtype=bool)
+    simple = shapely.simplify(faces, tolerance)
+    triangle = np.flatnonzero((shapely.get_num_interior_rings(simple) == 0) &
+                              (shapely.get_num_coordinates(simple) == 4))
+    if len(triangle) < 4:
+        return marked
+    corners = shapely.get_coordinates(shapely.get_exterior_ring(simple[triangle]))
+    corners = corners.reshape(-1, 4, 2)[:, :3].reshape(-1, 2)
+    # simplifying keeps vertices where they are: the four triangles share the crossing exactly
+    _, vertex, count = np.unique(corners, axis=0, return_inverse=True, return_counts=True)
+    vertex = vertex.ravel()
+    for shared in np.flatnonzero(count == 4):
+        owners = triangle[np.flatnonzero(vertex == shared) // 3]
+        if len(np.unique(owners)) != 4:
+            continue
+        box = shapely.simplify(shapely.union_all(faces[owners]), tolerance)
+        if box.geom_type == "Polygon" and not box.interiors and \
+                len(box.exterior.coords) == 5 and \
+                box.area >= (1 - 1e-6) * box.convex_hull.area:
+            marked[owners] = True
+    return marked
+
+
 def wall_regions(lines, rings, fills, *, gap_tolerance, max_wall_thickness, nominal_wall_thickness,
                  arcs=(), texts=None):
     """Return (solid walls, enclosed area, loose wall lines) from wall-layer linework, metres.
@@ -398,6 +442,7 @@ def wall_regions(lines, rings, fills, *, gap_tolerance, max_wall_thickness, nomi
                 named[np.unique(face_index)] = True
                 thick[np.flatnonzero(thick)[named]] = False
             solid |= thick
+        solid |= crossed_boxes(faces, tolerance)
         solid_faces = faces[solid]
     else:
         solid_faces = faces

@@ -134,6 +134,48 @@ def test_lift_layers_are_impassable_like_stairs(tmp_path):
     assert not plan.free_space.contains(shapely.Point(7.0, 2.0))
 
 
+@pytest.mark.parametrize("size, name", [((2.4, 2.6), "LIFT"), ((2.4, 2.6), None),
+                                        ((6.0, 4.5), "VOID"), ((1.2, 0.9), None)])
+def test_box_with_a_cross_on_the_wall_layer_is_no_floor(tmp_path, size, name):
+    # common practice (DRAFTING.md): lifts, risers and voids are drawn as a box with a cross,
+    # often on the wall layer with the walls; its four triangles are as wide as small rooms,
+    # and a name inside one kept that one as floor
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    wall_with_gap(msp, 0, 0, 12, 8, thickness=0.3, gap=(2.0, 3.2))
+    x1, y1 = 11.7, 7.7                         # the box against the inner wall faces
+    x0, y0 = x1 - size[0], y1 - size[1]
+    wall = {"layer": "A-WALL"}
+    msp.add_lwpolyline(rectangle(x0, y0, x1, y1), close=True, dxfattribs=wall)
+    msp.add_line((x0, y0), (x1, y1), dxfattribs=wall)
+    msp.add_line((x0, y1), (x1, y0), dxfattribs=wall)
+    if name:
+        msp.add_text(name, dxfattribs={"layer": "A-ANNO", "height": 0.25,
+                                       "insert": ((x0 + x1) / 2 - 0.3, y0 + 0.2)})
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: the room inside 0.3 m walls less the box
+    assert plan.free_space.area == pytest.approx(11.4 * 7.4 - size[0] * size[1], rel=1e-3)
+    assert not plan.free_space.intersects(shapely.box(x0 + 0.05, y0 + 0.05, x1 - 0.05, y1 - 0.05))
+
+
+def test_box_with_one_diagonal_or_an_open_cross_stays_floor(tmp_path):
+    # a single diagonal (a ramp or a slope mark) and a cross with no box around it (a
+    # centre mark) close nothing: the floor stays whole
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    wall_with_gap(msp, 0, 0, 12, 8, thickness=0.3, gap=(2.0, 3.2))
+    wall = {"layer": "A-WALL"}
+    msp.add_lwpolyline(rectangle(6.0, 2.0, 9.0, 5.0), close=True, dxfattribs=wall)
+    msp.add_line((6.0, 2.0), (9.0, 5.0), dxfattribs=wall)
+    msp.add_line((1.0, 4.0), (4.0, 6.0), dxfattribs=wall)
+    msp.add_line((1.0, 6.0), (4.0, 4.0), dxfattribs=wall)
+    plan = read_floorplan(save(doc, tmp_path))
+    # the box's two halves are 3 m wide: rooms, not walls (bands of 0.05 m along the lines
+    # take a little)
+    assert plan.free_space.covers(shapely.Point(8.0, 2.8))
+    assert plan.free_space.covers(shapely.Point(7.0, 4.2))
+
+
 def test_dimension_texts_in_feet_and_inches():
     # exact by definition: 1 in = 0.0254 m, 1 ft = 12 in
     assert text_length_m("13'-8\"") == pytest.approx((13 * 12 + 8) * 0.0254)
