@@ -85,3 +85,20 @@ def test_adaptive_sampling_finds_the_minimum_a_coarse_step_misses(fine):
     assert exact == pytest.approx(0.5, abs=2e-3)
     assert coarse.min() > exact + 0.01                  # the coarse step misses it
     assert adaptive.min() == pytest.approx(exact, abs=0.002 + fine ** 2)
+
+
+@pytest.mark.parametrize("spacing", [0.25, 3.0])
+def test_points_in_doubt_get_geos_distance_to_the_nearest_segment_exactly(spacing):
+    # independent reference: GEOS's point-to-segment distance (shapely), the smallest over
+    # every segment; bit for bit, since the points the k-d tree leaves in doubt are answered
+    # with GEOS's arithmetic (a column of many short sides puts points in doubt; points far
+    # outside take the STRtree)
+    free = _room_with_rack().difference(shapely.Point(12, 9).buffer(0.3, quad_segs=64))
+    field = clearance_field(boundary_segments(free)[0], spacing=spacing)
+    rng = np.random.default_rng(11)
+    xy = np.concatenate([rng.uniform((-2, -2), (22, 14), size=(1500, 2)),
+                         rng.uniform((11, 8), (13, 10), size=(1500, 2)),
+                         rng.uniform((-400, -400), (400, 400), size=(100, 2))])
+    lines = shapely.linestrings(field.segments)
+    expected = shapely.distance(shapely.points(xy)[:, None], lines[None]).min(axis=1)
+    assert np.array_equal(field._nearest(xy), expected)
