@@ -26,12 +26,18 @@ field about many points at once, and only the few left undecided are measured:
 3. the corners at the tightest FEW moves of each path (a corner's clearance bounds the gap
    from above), then points OUTLINE_STEP apart on the footprint's outline at each pose of
    the moves still tight, against the floor (one off it refuses the path, as in stage 1),
-   then at every move still tight the corners and discs covering the
-   footprint along its long axis (radius at most COVER_SLACK more than its half-width):
-   the hull of two footprints lies within half the largest corner displacement of one of
-   them (a point of the hull is lambda p + (1 - lambda) q with q within that displacement
-   of the first footprint, p of the second), so the smaller disc clearance less that
-   half bounds the hull's gap from below.
+   then at every move still tight the discs covering the footprint along its long axis
+   (radius at most COVER_SLACK more than its half-width): the hull of two footprints
+   lies within half the largest corner displacement of one of them (a point of the hull
+   is lambda p + (1 - lambda) q with q within that displacement of the first footprint,
+   p of the second), so the smaller disc clearance less that half bounds the hull's gap
+   from below; and the corners where the discs leave less than the margin.
+
+Only two things about a lower bound of a move matter to the stages after the one that
+made it: whether it is below the margin, and if so its exact value (it ranks the moves
+measured next); and of a path's upper bound only a value below the margin. So a stage
+need not measure a point whose bound, passed on from one measured nearby (the distance
+to a set is 1-Lipschitz) or from the discs, already clears the margin.
 
 A path that a bound accepts would be accepted by the exact check, one it refuses refused
 (`tests/roadmap/test_manoeuvres.py` checks this against measuring every move), so the
@@ -226,6 +232,30 @@ def _per_path(values: np.ndarray, starts: np.ndarray) -> np.ndarray:
     return np.minimum.reduceat(values, starts) if len(values) else np.zeros(0)
 
 
+#: Taken off a clearance passed on from a measured point to a nearby one, metres (far
+#: above the rounding of either; see `_nearby`).
+NEARBY_SLACK = 1e-9
+
+
+def _nearby(known: np.ndarray, at: np.ndarray, xy: np.ndarray, room: np.ndarray) -> np.ndarray:
+    """Lower bounds of the clearance at points `xy` (N, 2) of poses `at` (N,), sorted, from
+    the nearest pose measured (`known`, clearance `room`) before and after each within its
+    run of consecutive poses: |c(p) - c(q)| <= |p - q| (the distance to a set is
+    1-Lipschitz), less NEARBY_SLACK for rounding. -inf where no pose of the run is known."""
+    index = np.arange(len(at))
+    run = np.cumsum(np.r_[True, np.diff(at) != 1])
+    result = np.full(len(at), -np.inf)
+    for order in (index, index[::-1]):
+        mark = np.where(known[order], np.arange(len(order)), -1)
+        last = np.maximum.accumulate(mark)
+        source = order[np.maximum(last, 0)]
+        ok = (last >= 0) & (run[source] == run[order])
+        target, source = order[ok], source[ok]
+        result[target] = np.maximum(result[target], room[source] - np.hypot(
+            *(xy[target] - xy[source]).T) - NEARBY_SLACK)
+    return result
+
+
 def car_gaps(robot: Robot, field, manoeuvres, floor=None) -> np.ndarray:
     """For each manoeuvre (here, arriving polyline, leaving polyline; local frame, the
     polylines leaving `here`), the best gap beside the body over the paths tried, metres:
@@ -360,7 +390,20 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
     found = np.minimum(np.searchsorted(ends_before, ends), len(ends_before) - 1)
     known = ends_before[found] == ends
     room[known] = rooms[1][found[known]]
-    room[~known] = field.at(points[1][ends[~known]])
+    # first from those: a point's clearance is at least a measured one's less the
+    # distance between them; where that clears a move, its bound is left at that (only
+    # whether it is below the margin, and the exact values of those that are, matter to
+    # the stages after), and the others' poses are measured
+    guess = np.where(known, room, _nearby(known, ends, points[1][ends], room))
+    fair = np.minimum(guess[a_end], guess[b_end]) - chords[1][tight] * (1 + 1e-3) / 2 - \
+        circum - extra
+    sure = fair >= margin
+    bound[tight[sure]] = np.maximum(bound[tight[sure]], fair[sure])
+    tight, a_end, b_end = tight[~sure], a_end[~sure], b_end[~sure]
+    want = np.zeros(len(ends), bool)
+    want[a_end] = want[b_end] = True
+    want &= ~known
+    room[want] = field.at(points[1][ends[want]])
     bound[tight] = np.maximum(bound[tight], np.minimum(room[a_end], room[b_end]) -
                               chords[1][tight] * (1 + 1e-3) / 2 - circum - extra)
     left = settle(bound)
@@ -398,9 +441,16 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
     centres, radius = cover(robot)
     ends, where = np.unique(np.r_[move[tight], move[tight] + 1], return_inverse=True)
     near = place(np.vstack([centres, corners]), every[ends, :2], every[ends, 2])
-    measured = field.at(near.reshape(-1, 2)).reshape(len(ends), -1)
-    disc_room = measured[:, :len(centres)].min(axis=1) - radius
-    corner_room = measured[:, len(centres):].min(axis=1) - extra
+    disc_room = field.at(near[:, :len(centres)].reshape(-1, 2)).reshape(
+        len(ends), -1).min(axis=1) - radius
+    # the end discs reach the corners, so a corner's clearance less `extra` is at least
+    # disc_room: where that keeps the margin the corner cannot bring a path's upper bound
+    # below it (only such bounds are used), and it is not measured
+    corner_room = np.full(len(ends), np.inf)
+    some = np.flatnonzero(disc_room < margin + NEARBY_SLACK)
+    if len(some):
+        corner_room[some] = field.at(near[some, len(centres):].reshape(-1, 2)).reshape(
+            len(some), -1).min(axis=1) - extra
     a_end, b_end = np.split(where.ravel(), 2)
     shift = np.hypot(*(near[b_end, len(centres):] - near[a_end, len(centres):])
                      .transpose(2, 0, 1)).max(axis=1)
