@@ -261,8 +261,8 @@ def car_gaps(robot: Robot, field, manoeuvres, floor=None) -> np.ndarray:
     polylines leaving `here`), the best gap beside the body over the paths tried, metres:
     at least the margin where one path clears; otherwise the largest of the paths' gaps or
     of upper bounds of them (see the module's docstring). -inf where no path is tried.
-    `floor`, the free floor (local frame; shapely geometry), lets paths that leave it be
-    refused at once."""
+    `floor`, the free floor (local frame; shapely geometry) whose boundary `field`
+    measures, lets paths that leave it be refused at once."""
     if floor is not None:
         shapely.prepare(floor)
     best = np.full(len(manoeuvres), -np.inf)
@@ -325,6 +325,7 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
     chords = [np.hypot(*(xy[move + 1] - xy[move]).T) for xy in points]
     value = np.full(len(paths), np.nan)
     high = np.full(len(paths), np.inf)
+    centre_room = np.full(len(every), -np.inf)     # the footprint centre's, where measured
 
     def measure(at: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """Clearance of both points at the poses `at` (sorted, unique)."""
@@ -358,8 +359,16 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
         corners = core(robot)[0]
         body = np.concatenate([points[1][ends][:, None], place(corners, every[ends, :2],
                                                                every[ends, 2])], axis=1)
-        off = ~shapely.contains_xy(floor, body.reshape(-1, 2)).reshape(len(ends), -1).all(axis=1)
-        np.minimum.at(high, np.searchsorted(first, ends[off], side="right") - 1, 0.0 - extra)
+        # the corners ahead first (most often those swinging off), the rest of the body
+        # only on the paths those leave on the floor: one point off refuses a path
+        path_of_end = np.searchsorted(first, ends, side="right") - 1
+        ahead = np.argsort(-core(robot)[0][:, 0], kind="stable")[:2] + 1
+        inside = np.ones(body.shape[:2], bool)
+        for part in (ahead, np.setdiff1d(np.arange(body.shape[1]), ahead)):
+            some = np.flatnonzero(high[path_of_end] >= margin)
+            inside[some[:, None], part] = shapely.contains_xy(
+                floor, body[some][:, part].reshape(-1, 2)).reshape(len(some), len(part))
+            np.minimum.at(high, path_of_end[~inside.all(axis=1)], 0.0 - extra)
         # those paths are refused: the others only are measured
         keep = high[np.searchsorted(first, ends, side="right") - 1] >= margin
         ends = ends[keep]
@@ -404,6 +413,7 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
     want[a_end] = want[b_end] = True
     want &= ~known
     room[want] = field.at(points[1][ends[want]])
+    centre_room[ends[known | want]] = room[known | want]
     bound[tight] = np.maximum(bound[tight], np.minimum(room[a_end], room[b_end]) -
                               chords[1][tight] * (1 + 1e-3) / 2 - circum - extra)
     left = settle(bound)
@@ -429,9 +439,17 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
         outline = _outline(robot)
         at = np.unique(np.r_[move[tight], move[tight] + 1])
         at = at[high[np.searchsorted(first, at, side="right") - 1] >= margin]
-        off = ~shapely.contains_xy(floor, place(outline, every[at, :2], every[at, 2])
-                                   .reshape(-1, 2)).reshape(len(at), -1).all(axis=1)
-        np.minimum.at(high, np.searchsorted(first, at[off], side="right") - 1, 0.0 - extra)
+        # where the footprint's centre is farther than its half diagonal from the floor's
+        # edge (the field's segments), the whole outline is on the centre's side of it
+        alone = centre_room[at] > circum + NEARBY_SLACK
+        inside = np.empty(len(at), bool)
+        inside[alone] = shapely.contains_xy(floor, points[1][at[alone]])
+        rest = at[~alone]
+        inside[~alone] = shapely.contains_xy(floor, place(outline, every[rest, :2],
+                                                          every[rest, 2]).reshape(-1, 2)) \
+            .reshape(len(rest), len(outline)).all(axis=1)
+        np.minimum.at(high, np.searchsorted(first, at[~inside], side="right") - 1,
+                      0.0 - extra)
         left = settle(bound)
         tight = np.flatnonzero(left[path_of_move] & (bound < margin))
     # stage 3: discs covering the footprint and its corners, at the poses of the moves
