@@ -322,7 +322,7 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
     # and within `circum` of its own centre; the two together bound each move from below
     points = (every[:, :2], place(-np.asarray(robot.centre, float)[None], every[:, :2],
                                   every[:, 2])[:, 0])
-    chords = [np.hypot(*(xy[move + 1] - xy[move]).T) for xy in points]
+    chords = [np.hypot(*np.diff(xy, axis=0)[move].T) for xy in points]
     value = np.full(len(paths), np.nan)
     high = np.full(len(paths), np.inf)
     centre_room = np.full(len(every), -np.inf)     # the footprint centre's, where measured
@@ -427,6 +427,9 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
     few = np.unique(np.r_[move[tight[rank < FEW]], move[tight[rank < FEW]] + 1])
     if not len(few):
         return
+    # a corner is within the half diagonal of the footprint's centre: where that leaves
+    # the margin, it cannot bring the path's upper bound below it, and is not measured
+    few = few[centre_room[few] - circum - extra < margin + NEARBY_SLACK]
     np.minimum.at(high, np.searchsorted(first, few, side="right") - 1,
                   field.at(place(corners, every[few, :2], every[few, 2]).reshape(-1, 2))
                   .reshape(len(few), len(corners)).min(axis=1) - extra)
@@ -465,7 +468,8 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
     # disc_room: where that keeps the margin the corner cannot bring a path's upper bound
     # below it (only such bounds are used), and it is not measured
     corner_room = np.full(len(ends), np.inf)
-    some = np.flatnonzero(disc_room < margin + NEARBY_SLACK)
+    some = np.flatnonzero((disc_room < margin + NEARBY_SLACK) &
+                          (centre_room[ends] - circum - extra < margin + NEARBY_SLACK))
     if len(some):
         corner_room[some] = field.at(near[some, len(centres):].reshape(-1, 2)).reshape(
             len(some), -1).min(axis=1) - extra
