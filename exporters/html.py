@@ -64,15 +64,30 @@ def _flat(coords: np.ndarray, origin: np.ndarray) -> list[float]:
 
 
 def _polygons(geometry, origin) -> list[list[list[float]]]:
-    """Each polygon of `geometry` as a list of flat rings (closing point dropped)."""
+    """Each polygon of `geometry` as a list of flat rings (closing point dropped).
+
+    Rings of fewer than three points are left out (a polygon may so keep no ring). All
+    coordinates are rounded together, as ``_flat`` rounds each ring.
+
+    Examples
+    --------
+    >>> _polygons(shapely.box(0, 0, 2, 1).difference(shapely.box(0.5, 0.25, 1, 0.75)),
+    ...           np.zeros(2))
+    [[[0.0, 0.0, 0.0, 1.0, 2.0, 1.0, 2.0, 0.0], [1.0, 0.75, 0.5, 0.75, 0.5, 0.25, 1.0, 0.25]]]
+    """
     if geometry is None or geometry.is_empty:
         return []
-    polygons = []
-    for part in shapely.get_parts(geometry):
-        if part.geom_type != "Polygon" or part.is_empty:
-            continue
-        rings = [shapely.get_coordinates(ring)[:-1] for ring in (part.exterior, *part.interiors)]
-        polygons.append([_flat(ring, origin) for ring in rings if len(ring) >= 3])
+    parts = shapely.get_parts(geometry)
+    parts = parts[(shapely.get_type_id(parts) == 3) & ~shapely.is_empty(parts)]
+    rings, polygon_of_ring = shapely.get_rings(parts, return_index=True)
+    counts = shapely.get_num_coordinates(rings)
+    values = _flat(shapely.get_coordinates(rings), origin)
+    polygons = [[] for _ in range(len(parts))]
+    start = 0
+    for polygon, count in zip(polygon_of_ring.tolist(), counts.tolist()):
+        if count - 1 >= 3:
+            polygons[polygon].append(values[2 * start:2 * (start + count - 1)])
+        start += count
     return polygons
 
 

@@ -115,15 +115,34 @@ def point_list(xy) -> str:
 
 
 def path_data(geometry) -> str:
-    """SVG path data of every polygon ring in `geometry`, y flipped (use fill-rule evenodd)."""
-    polygons = [p for p in shapely.get_parts(geometry) if p.geom_type == "Polygon"]
-    rings = [ring for polygon in polygons for ring in (polygon.exterior, *polygon.interiors)]
-    parts = []
-    for ring in rings:
-        coords = shapely.get_coordinates(ring)[:-1]
-        if len(coords) >= 3:
-            parts.append(f"M{point_list(coords)}Z")
-    return " ".join(parts)
+    """SVG path data of every polygon ring in `geometry`, y flipped (use fill-rule evenodd).
+
+    Every ring of at least three points (closing point dropped) becomes ``M x,-y ... Z``,
+    the rings joined by spaces. All rings are formatted together, as one ``point_list``
+    text: each number keeps its neighbours (a space or comma before it, a space or comma
+    after), so the text is the one ``point_list`` writes ring by ring.
+
+    Examples
+    --------
+    >>> path_data(shapely.box(0, 0, 2, 1.5).difference(shapely.box(0.5, 0.5, 1, 1)))
+    'M0,0 0,-1.5 2,-1.5 2,0Z M1,-1 0.5,-1 0.5,-0.5 1,-0.5Z'
+    """
+    parts = shapely.get_parts(geometry)
+    polygons = parts[shapely.get_type_id(parts) == 3]
+    rings = shapely.get_rings(polygons)     # each polygon's exterior, then its holes
+    counts = shapely.get_num_coordinates(rings) - 1
+    chosen = counts >= 3
+    rings, counts = rings[chosen], counts[chosen]
+    if not len(rings):
+        return ""
+    xy = shapely.get_coordinates(rings)
+    closing = np.cumsum(counts + 1) - 1
+    xy = np.delete(xy, closing, axis=0)
+    template = " ".join(["M " + "%.3f,%.3f " * count + "Z" for count in counts.tolist()])
+    text = template % tuple((xy * (1.0, -1.0)).ravel().tolist())
+    text = _TRAILING_ZEROS.sub("", text).replace(". ", " ").replace(".,", ",")
+    text = text.replace(" -0,", " 0,").replace(",-0 ", ",0 ")
+    return text.replace("M ", "M").replace(" Z", "Z")
 
 
 def lane_bins(clearance: float) -> np.ndarray:
