@@ -216,7 +216,7 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
     from clearway.beside import rooms_beside
     from clearway.converter import read_floorplan
     from clearway.diagnosis import check_lanes
-    from clearway.exporters import (render_dxf, render_geojson, render_graphml,
+    from clearway.exporters import (clearance_band, render_dxf, render_geojson, render_graphml,
                                     render_id_sheet, render_report, render_svg, render_tables,
                                     write_outputs)
     from clearway.roadmap import build_roadmap, carry_ids_over, site_warnings
@@ -268,12 +268,14 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
             roadmap = carry_ids_over(roadmap, previous_graph, previous_rooms=previous_rooms)
         names = BUILD_FILES[:-1] if no_html else BUILD_FILES
         say(f"rendering {', '.join(names)}")
+        # the preview and the page both draw it: computed once, before any second process
+        band = clearance_band(plan, roadmap)
         renderers = dict(zip(names, (
             lambda: render_graphml(plan, roadmap),
             lambda: render_geojson(plan, roadmap, anchor=anchor),
-            lambda: render_svg(plan, roadmap, date=_drawing_date(plan)),
+            lambda: render_svg(plan, roadmap, date=_drawing_date(plan), band=band),
             lambda: render_report(plan, roadmap),
-            lambda: html_page(plan, roadmap, _drawing_date(plan), previous_graph))))
+            lambda: html_page(plan, roadmap, _drawing_date(plan), previous_graph, band=band))))
         # the preview takes about as long as the other outputs together: on a large graph
         # it renders in a second process meanwhile (clearway.side_by_side)
         large = roadmap.graph.number_of_edges() >= SIDE_BY_SIDE_EDGES or forced()

@@ -12,12 +12,13 @@ from clearway.cli_common import InputError
 PAGE = "roadmap.html"
 
 
-def html_page(plan, roadmap, date: str, previous_graph=None) -> bytes:
-    """roadmap.html for `build`; with the previous revision's graph, its changes as a layer."""
+def html_page(plan, roadmap, date: str, previous_graph=None, band=None) -> bytes:
+    """roadmap.html for `build`; with the previous revision's graph, its changes as a layer
+    (`band`: the clearance band, when the build has it already)."""
     from clearway.exporters import render_html
     from clearway.roadmap import compare_graphs
     changes = compare_graphs(previous_graph, roadmap.graph) if previous_graph is not None else None
-    return render_html(plan, roadmap, date=date, changes=changes)
+    return render_html(plan, roadmap, date=date, changes=changes, band=band)
 
 
 @click.command()

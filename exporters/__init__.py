@@ -12,6 +12,7 @@ from clearway.lazy import lazy_exports
 __getattr__, __dir__, __all__ = lazy_exports(__name__, {
     "SAFETY_CAUTION": "text",
     "check_anchor": "anchor",
+    "clearance_band": "svg_parts",
     "finish_interrupted_set": "files",
     "read_graphml": "graphml_read",
     "render_id_sheet": "id_sheet",

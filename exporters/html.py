@@ -25,7 +25,7 @@ import shapely
 from clearway.collector import paused_collector
 from clearway.exporters.graphml import oriented_edges
 from clearway.exporters.svg import drawing_origin
-from clearway.exporters.svg_parts import LANE_COLOURS, lane_bins
+from clearway.exporters.svg_parts import LANE_COLOURS, clearance_band, lane_bins
 from clearway.exporters.text import (SAFETY_CAUTION, TOOL_VERSION, finite_or_none, json_text,
                                      natural_key)
 
@@ -110,9 +110,9 @@ def _robot_text(robot) -> str:
     return f"{shape}, margin {robot.margin:.2f} m, required clearance {robot.clearance:.2f} m"
 
 
-def _areas(plan, roadmap, origin) -> dict:
+def _areas(plan, roadmap, origin, band=None) -> dict:
     free = plan.free_space
-    band = free.difference(roadmap.drivable) if free is not None and not free.is_empty else None
+    band = clearance_band(plan, roadmap) if band is None else band
     sources = {"free": free, "drivable": roadmap.drivable, "band": band, **dict(plan.regions)}
     polygons = {role: _polygons(area, origin) for role, area in sources.items()}
     return {role: parts for role, parts in polygons.items() if parts}
@@ -251,14 +251,15 @@ def _rooms(plan, roadmap, origin) -> tuple[list, list]:
     return rooms, openings
 
 
-def page_data(plan, roadmap, *, date: str, changes=None) -> dict:
+def page_data(plan, roadmap, *, date: str, changes=None, band=None) -> dict:
     """Return everything the page shows, as plain JSON-ready values.
 
     Drawn geometry is in metres relative to ``origin`` (see ``svg.drawing_origin``), rounded
     to 1 mm; node coordinates, lane lengths and weights are exact, as in the GraphML, so the
     page's route search adds up the same numbers as ``clearway route``. Nodes are listed in
     the GraphML's order and lanes in its order with its source and target, so that the page
-    builds its graph in the order ``read_graphml`` does and breaks ties alike.
+    builds its graph in the order ``read_graphml`` does and breaks ties alike. `band` is
+    ``svg_parts.clearance_band(plan, roadmap)`` when the caller has it already.
     """
     bounds = _bounds(plan, roadmap)
     origin = drawing_origin(bounds)
@@ -277,7 +278,7 @@ def page_data(plan, roadmap, *, date: str, changes=None) -> dict:
         "bounds": _flat([bounds[:2], bounds[2:]], origin),
         "lane_classes": {"bins": [float(b) for b in lane_bins(clearance)],
                          "colours": list(LANE_COLOURS)},
-        "areas": _areas(plan, roadmap, origin),
+        "areas": _areas(plan, roadmap, origin, band),
         "nodes": nodes,
         "edges": edges,
         "stations": _stations(plan, roadmap),
@@ -293,7 +294,7 @@ def _asset(name: str) -> str:
 
 
 @paused_collector()  # many small containers, none in a cycle: see collector.py
-def render_html(plan, roadmap, *, date: str, changes=None) -> bytes:
+def render_html(plan, roadmap, *, date: str, changes=None, band=None) -> bytes:
     """Return roadmap.html as UTF-8 bytes (deterministic for the same input).
 
     Parameters
@@ -304,13 +305,15 @@ def render_html(plan, roadmap, *, date: str, changes=None) -> bytes:
         Shown in the page's heading (the CLI passes the drawing's own date).
     changes : roadmap.compare.GraphChanges, optional
         What changed since the previous revision; drawn as a layer when given.
+    band : shapely geometry, optional
+        ``svg_parts.clearance_band(plan, roadmap)`` when the caller has it already.
 
     Returns
     -------
     bytes
         A complete HTML document with its script, style and data inline.
     """
-    data = page_data(plan, roadmap, date=date, changes=changes)
+    data = page_data(plan, roadmap, date=date, changes=changes, band=band)
     for number in (data["clearance"], *data["bounds"]):
         if not math.isfinite(number):
             raise ValueError(f"{plan.source}: roadmap has a non-finite extent or clearance")

@@ -25,7 +25,8 @@ from clearway.collector import paused_collector
 from clearway.exporters.graphml import oriented_edges
 from clearway.exporters.svg_labels import LabelPlacer
 from clearway.exporters.svg_parts import (AREA_STYLE, add_heading, add_legend, add_marker,
-                                          add_scale_and_arrow, add_text, heading_end, lane_bins,
+                                          add_scale_and_arrow, add_text, clearance_band,
+                                          heading_end, lane_bins,
                                           lane_colour, measure_label, number, path_data,
                                           point_list, symbol_reach)
 from clearway.exporters.text import SAFETY_CAUTION, TOOL_VERSION, xml_text
@@ -121,7 +122,7 @@ def _wrap(text: str, width: int) -> list[str]:
 
 
 @paused_collector()  # many small containers, none in a cycle: see collector.py
-def render_svg(plan, roadmap, *, date: str) -> bytes:
+def render_svg(plan, roadmap, *, date: str, band=None) -> bytes:
     """Return the SVG preview as UTF-8 bytes (deterministic for the same input and date).
 
     Parameters
@@ -131,6 +132,8 @@ def render_svg(plan, roadmap, *, date: str) -> bytes:
     date : str
         Printed in the title block (the CLI passes the drawing's own date, so a rebuild
         of the same drawing gives the same bytes).
+    band : shapely geometry, optional
+        ``svg_parts.clearance_band(plan, roadmap)`` when the caller has it already.
 
     Returns
     -------
@@ -173,7 +176,7 @@ def render_svg(plan, roadmap, *, date: str) -> bytes:
                      height=number(canvas_height), fill="#ffffff")
 
     floor = etree.SubElement(root, "g", id="floor")
-    band = plan.free_space.difference(roadmap.drivable) if not plan.free_space.is_empty else None
+    band = clearance_band(plan, roadmap) if band is None else band
     closed = [room.polygon for room in roadmap.rooms if not room.reachable]
     areas = {"free": plan.free_space, "band": band,
              "closed": shapely.union_all(closed) if closed else None, **dict(plan.regions)}

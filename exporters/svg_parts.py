@@ -145,6 +145,16 @@ def path_data(geometry) -> str:
     return text.replace("M ", "M").replace(" Z", "Z")
 
 
+def clearance_band(plan, roadmap):
+    """The free floor the robot's centre may not enter: free space minus the drivable region.
+
+    None when the plan has no free space. The preview and the viewer page both draw it; a
+    build computes it once and hands it to both (``band=``).
+    """
+    free = plan.free_space
+    return free.difference(roadmap.drivable) if free is not None and not free.is_empty else None
+
+
 def lane_bins(clearance: float) -> np.ndarray:
     """Lower bounds of the lane colour classes, metres, shape (5,)."""
     return clearance + np.asarray(LANE_STEPS)

@@ -232,9 +232,9 @@ def test_sigterm_while_rendering_leaves_the_previous_outputs(tmp_path, monkeypat
     before = _snapshot(tmp_path)
     real_render = clearway.exporters.render_svg
 
-    def terminated(plan, roadmap, *, date):
+    def terminated(plan, roadmap, **options):
         signal.raise_signal(signal.SIGTERM)          # as `kill PID` would deliver it
-        return real_render(plan, roadmap, date=date)
+        return real_render(plan, roadmap, **options)
     monkeypatch.setattr(clearway.exporters, "render_svg", terminated)
     result = run("build", SAMPLES / "clinic.dxf", "-o", tmp_path, "--robot-radius", "0.3",
                  "--quiet")
