@@ -60,18 +60,30 @@ def _project(anchor):
 
 
 def _geometry(geometry, project) -> dict:
-    geometry = shapely.transform(geometry, project)
-    if isinstance(geometry, (Polygon, MultiPolygon)):
-        geometry = shapely.orient_polygons(geometry, exterior_cw=False)
-        if not geometry.is_empty:
-            return _polygon_mapping(geometry)
-    return mapping(geometry)
+    return _geometries([geometry], project)[0]
 
 
-def _polygon_mapping(geometry) -> dict:
-    """shapely's ``mapping`` of a non-empty (Multi)Polygon, from whole coordinate arrays
-    (mapping walks every vertex as a Python tuple)."""
-    polygons = shapely.get_parts(geometry)
+def _geometries(geometries, project) -> list[dict]:
+    """The GeoJSON geometry of each of `geometries`: projected, (Multi)Polygons oriented
+    by the right-hand rule and listed from whole coordinate arrays (shapely's ``mapping``
+    walks every vertex as a Python tuple). All of them at once: `project` and the
+    orientation work point by point and geometry by geometry, so the values are those of
+    one geometry at a time."""
+    moved = shapely.transform(np.asarray(geometries, dtype=object), project)
+    polygonal = np.isin(shapely.get_type_id(moved), (3, 6))
+    moved[polygonal] = shapely.orient_polygons(moved[polygonal], exterior_cw=False)
+    result = [None] * len(moved)
+    listed = np.flatnonzero(polygonal & ~shapely.is_empty(moved))
+    for index, value in zip(listed.tolist(), _polygon_mappings(moved[listed])):
+        result[index] = value
+    for index in np.flatnonzero(~polygonal | shapely.is_empty(moved)).tolist():
+        result[index] = mapping(moved[index])
+    return result
+
+
+def _polygon_mappings(geometries) -> list[dict]:
+    """shapely's ``mapping`` of each non-empty (Multi)Polygon of `geometries`."""
+    polygons, owner = shapely.get_parts(geometries, return_index=True)
     rings, polygon_of_ring = shapely.get_rings(polygons, return_index=True)
     coords, ring_of_coord = shapely.get_coordinates(rings, return_index=True)
     ends = np.cumsum(np.bincount(ring_of_coord, minlength=len(rings))).tolist()
@@ -79,9 +91,12 @@ def _polygon_mapping(geometry) -> dict:
     parts = [[] for _ in polygons]
     for polygon, begin, end in zip(polygon_of_ring.tolist(), [0, *ends[:-1]], ends):
         parts[polygon].append(points[begin:end])
-    if isinstance(geometry, Polygon):
-        return {"type": "Polygon", "coordinates": parts[0]}
-    return {"type": "MultiPolygon", "coordinates": parts}
+    members = [[] for _ in geometries]
+    for geometry, part in zip(owner.tolist(), parts):
+        members[geometry].append(part)
+    return [{"type": "Polygon", "coordinates": found[0]} if isinstance(geometry, Polygon)
+            else {"type": "MultiPolygon", "coordinates": found}
+            for geometry, found in zip(geometries, members)]
 
 
 def _point(x: float, y: float, project) -> dict:
@@ -190,9 +205,9 @@ def opening_properties(passage) -> dict:
 
 def _room_features(roadmap, project) -> tuple[list[dict], list[dict]]:
     """Room polygons (drawn over the areas) and opening points (drawn last)."""
-    rooms = [_feature(_geometry(room.polygon, project),
-                      {"element": "room", **room_properties(room, roadmap.passages)})
-             for room in roadmap.rooms]
+    shapes = _geometries([room.polygon for room in roadmap.rooms], project)
+    rooms = [_feature(shape, {"element": "room", **room_properties(room, roadmap.passages)})
+             for room, shape in zip(roadmap.rooms, shapes)]
     openings = [_feature(_point(p.x, p.y, project),
                          {"element": "opening", **opening_properties(p)})
                 for p in roadmap.passages]

@@ -66,8 +66,7 @@ def _flat(coords: np.ndarray, origin: np.ndarray) -> list[float]:
 def _polygons(geometry, origin) -> list[list[list[float]]]:
     """Each polygon of `geometry` as a list of flat rings (closing point dropped).
 
-    Rings of fewer than three points are left out (a polygon may so keep no ring). All
-    coordinates are rounded together, as ``_flat`` rounds each ring.
+    Rings of fewer than three points are left out (a polygon may so keep no ring).
 
     Examples
     --------
@@ -75,10 +74,21 @@ def _polygons(geometry, origin) -> list[list[list[float]]]:
     ...           np.zeros(2))
     [[[0.0, 0.0, 0.0, 1.0, 2.0, 1.0, 2.0, 0.0], [1.0, 0.75, 0.5, 0.75, 0.5, 0.25, 1.0, 0.25]]]
     """
-    if geometry is None or geometry.is_empty:
-        return []
-    parts = shapely.get_parts(geometry)
-    parts = parts[(shapely.get_type_id(parts) == 3) & ~shapely.is_empty(parts)]
+    return _polygons_each([geometry], origin)[0]
+
+
+def _polygons_each(geometries, origin) -> list[list[list[list[float]]]]:
+    """``_polygons`` of each of `geometries` (None or empty: []), from whole arrays: the
+    coordinates of all of them are rounded together, as ``_flat`` rounds each ring."""
+    present = [index for index, geometry in enumerate(geometries)
+               if geometry is not None and not geometry.is_empty]
+    result = [[] for _ in geometries]
+    if not present:
+        return result
+    parts, owner = shapely.get_parts(np.array([geometries[i] for i in present], dtype=object),
+                                     return_index=True)
+    kept = (shapely.get_type_id(parts) == 3) & ~shapely.is_empty(parts)
+    parts, owner = parts[kept], owner[kept]
     rings, polygon_of_ring = shapely.get_rings(parts, return_index=True)
     counts = shapely.get_num_coordinates(rings)
     values = _flat(shapely.get_coordinates(rings), origin)
@@ -88,7 +98,9 @@ def _polygons(geometry, origin) -> list[list[list[float]]]:
         if count - 1 >= 3:
             polygons[polygon].append(values[2 * start:2 * (start + count - 1)])
         start += count
-    return polygons
+    for geometry, polygon in zip(owner.tolist(), polygons):
+        result[present[geometry]].append(polygon)
+    return result
 
 
 def _bounds(plan, roadmap) -> tuple[float, float, float, float]:
@@ -224,10 +236,11 @@ def _rooms(plan, roadmap, origin) -> tuple[list, list]:
     ``passable`` and, when known, the line ``start``, ``end`` across the gap (as
     ``converter.floorplan.Opening``).
     """
-    rooms, openings = [], []
+    rooms, openings, shapes = [], [], []
     for source in (roadmap, plan):                  # rooms and openings each from the first
         for room in (getattr(source, "rooms", None) or ()) if not rooms else ():
             geometry = getattr(room, "geometry", None) or getattr(room, "polygon", None)
+            shapes.append(geometry)
             names = getattr(room, "names", None)
             if names is None:
                 names = [getattr(room, "name", "") or getattr(room, "label", "")]
@@ -236,8 +249,7 @@ def _rooms(plan, roadmap, origin) -> tuple[list, list]:
                           "names": [json_text(name) for name in names if name],
                           "area": area if area is not None or geometry is None
                           else float(geometry.area),
-                          "reachable": getattr(room, "reachable", None),
-                          "polygons": _polygons(geometry, origin)})
+                          "reachable": getattr(room, "reachable", None)})
         for opening in (getattr(source, "openings", None) or ()) if not openings else ():
             ends = [getattr(opening, "start", None), getattr(opening, "end", None)]
             openings.append({"kind": json_text(getattr(opening, "kind", "")),
@@ -248,6 +260,8 @@ def _rooms(plan, roadmap, origin) -> tuple[list, list]:
                              "line": _flat(ends, origin) if None not in ends else None})
         if rooms and openings:
             break
+    for room, polygons in zip(rooms, _polygons_each(shapes, origin)):
+        room["polygons"] = polygons     # after the other keys, as the page's JSON lists them
     return rooms, openings
 
 
