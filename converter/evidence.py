@@ -24,6 +24,9 @@ CANDIDATE_UNITS = ("mm", "cm", "m", "in", "ft")
 DOOR_LEAF_M = (0.6, 1.3)
 WALL_THICKNESS_M = (0.05, 0.8)
 PLAN_SPAN_M = (3.0, 2000.0)
+#: The depth of one pallet-rack or shelving bay, metres (common practice: a bay holds one
+#: pallet of 0.8 to 1.2 m across its depth; shelving 0.6 m; a few deeper).
+RACK_DEPTH_M = (0.6, 1.6)
 #: With no unit in the header, the content decides with a full weight of support (say, every
 #: door leaf plausible), or with CLEAR_SUPPORT and a lead of CLEAR_LEAD over every other unit:
 #: measured walls always include a few faces that are no wall's two sides.
@@ -164,6 +167,35 @@ def _nearest_parallel(a, b):
     return best, taken
 
 
+def rack_depths(parts, *, limit=4000):
+    """Depths (drawing units) of the rack bays among closed four-cornered parts: the shorter
+    side of each rectangle (opposite sides within 1 %, diagonals too), at most `limit`.
+
+    Examples
+    --------
+    >>> from clearway.converter.parts import CLOSED, Parts
+    >>> bays = Parts.from_list([[(0, 0), (108, 0), (108, 42), (0, 42)],
+    ...                         [(0, 0), (5, 0), (3, 4)]], [CLOSED, CLOSED])
+    >>> rack_depths(bays).tolist()
+    [42.0]
+    """
+    from clearway.converter.parts import CLOSED
+
+    counts = np.diff(parts.offsets)
+    four = np.flatnonzero((parts.kinds == CLOSED) & (counts == 4))[:limit]
+    if not len(four):
+        return np.empty(0)
+    corners = parts.coords[parts.offsets[four][:, None] + np.arange(4)]
+    with np.errstate(over="ignore", invalid="ignore"):
+        sides = np.linalg.norm(np.roll(corners, -1, axis=1) - corners, axis=2)
+        diagonals = np.linalg.norm(corners[:, 2:] - corners[:, :2], axis=2)
+        rectangle = (np.abs(sides[:, 0] - sides[:, 2]) <= 0.01 * sides[:, 0]) & \
+            (np.abs(sides[:, 1] - sides[:, 3]) <= 0.01 * sides[:, 1]) & \
+            (np.abs(diagonals[:, 0] - diagonals[:, 1]) <= 0.01 * diagonals[:, 0]) & \
+            (sides.min(axis=1) > 0) & np.isfinite(sides).all(axis=1)
+    return np.minimum(sides[rectangle, 0], sides[rectangle, 1])
+
+
 def dimension_factors(dimensions):
     """Metres per drawing unit implied by dimension texts that state a length in feet and
     inches (``13'-8"``, ``9' 6 1/2"``) or with a metric unit (``3.60 m``)."""
@@ -232,7 +264,7 @@ def plausibility(evidence, units):
         # a dimension's factor agrees with a unit within 3 % (rounded dimension text)
         return float(np.mean(np.abs(evidence.values / factor - 1) <= 0.03))
     low, high = {"door swings": DOOR_LEAF_M, "wall thickness": WALL_THICKNESS_M,
-                 "extent": PLAN_SPAN_M}[evidence.kind]
+                 "rack bays": RACK_DEPTH_M, "extent": PLAN_SPAN_M}[evidence.kind]
     metres = evidence.values * factor
     share = (metres >= low) & (metres <= high)
     if evidence.kind == "wall thickness":
@@ -252,9 +284,11 @@ def describe(evidence, units):
     if evidence.implied:
         return f"{len(values)} dimension texts give {np.median(values) / factor:.3g} x this unit"
     low, high = np.percentile(values * factor, [10, 90])
-    name = {"door swings": "doors", "wall thickness": "walls", "extent": "the plan"}[evidence.kind]
+    name = {"door swings": "doors", "wall thickness": "walls", "extent": "the plan"}.get(evidence.kind)
     if evidence.kind == "extent":
         return f"the plan {_metres(high)} across"
+    if evidence.kind == "rack bays":
+        return f"rack bays {_metres(low)}-{_metres(high)} deep"
     return f"{name} {_metres(low)}-{_metres(high)}" + (" thick" if name == "walls" else " wide")
 
 
@@ -272,13 +306,16 @@ def judge_units(evidence):
     return dict(sorted(scores.items(), key=lambda pair: -pair[1]))
 
 
-def gather_evidence(*, swing_arcs, wall_lines, dimensions, span):
+def gather_evidence(*, swing_arcs, wall_lines, dimensions, span, rack_bays=()):
     """Collect the evidence (drawing units) that is there; a kind with too few samples is
-    left out (one arc is a chair, two doors a plan)."""
+    left out (one arc is a chair, two doors a plan). `rack_bays` are rack-bay depths
+    (`rack_depths`)."""
     found = []
     radii = door_swings(swing_arcs)
     if len(radii) >= 2:
         found.append(Evidence("door swings", radii, 2.0))
+    if len(rack_bays) >= 4:
+        found.append(Evidence("rack bays", np.asarray(rack_bays, dtype=float), 2.0))
     thickness = wall_thicknesses(wall_lines)
     if len(thickness) >= 4:
         # the most common thicknesses: the lower three quarters (a room's width is no wall)

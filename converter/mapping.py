@@ -16,7 +16,7 @@ import shapely
 from clearway.errors import DrawingError
 
 from clearway.converter.evidence import (decide_from_content, describe, gather_evidence,
-                                         header_evidence, judge_units, nearest_parallel,
+                                         header_evidence, judge_units, nearest_parallel, rack_depths,
                                          wall_thicknesses, WALL_THICKNESS_M)
 from clearway.converter.floorplan import ROLES, LeftOutLayer
 from clearway.converter.inserts import BLOCK_OPENING_PREFIX
@@ -217,8 +217,11 @@ def _decide_units(content, override, by_role, visible, role_of):
     arcs = Parts.concat([content.parts[name] for name in arc_layers if name in content.parts]).arcs()
     wall = Parts.concat([content.parts[name] for name in by_role["wall"] if name in content.parts])
     lines, rings, _ = wall.geometries()
+    racks = Parts.concat([content.parts[name] for name in by_role["racking"]
+                          if name in content.parts])
     evidence = gather_evidence(swing_arcs=arcs, wall_lines=np.concatenate([lines, rings]),
-                               dimensions=content.dimensions, span=span)
+                               dimensions=content.dimensions, span=span,
+                               rack_bays=rack_depths(racks))
     header_unit = INSUNITS_CODES.get(content.insunits)
     if header_unit is None:
         evidence += header_evidence(content.header)

@@ -262,3 +262,32 @@ def test_equipment_and_station_words(name, role):
     # source: US National CAD Standard layer names (A-EQPM, -STN) and common practice
     from clearway.converter.roles import Roles
     assert Roles().role_of(name) == role
+
+
+def test_rack_bays_decide_inches_against_a_millimetre_header(tmp_path):
+    """A US warehouse drawn in inches whose template header says mm: a block wall drawn as a
+    polyline 8 units wide (no wall faces to measure), columns 12 units square, and rows of
+    pallet-rack bays 108 x 42 units. In mm the hall would be 2.9 m long."""
+    doc = new_drawing(units=4)
+    msp = doc.modelspace()
+    hall = rectangle(0, 0, 3600, 2160)                   # 300 ft x 180 ft
+    msp.add_lwpolyline(hall, close=True, dxfattribs={"layer": "A-WALL", "const_width": 8})
+    for i in range(1, 6):
+        x = 600 * i
+        msp.add_lwpolyline(rectangle(x - 6, 1074, x + 6, 1086), close=True,
+                           dxfattribs={"layer": "S-COLS"})
+    for row in range(4):
+        y = 300 + 400 * row
+        for bay in range(24):
+            for side in (0, 48):                          # back to back with a 6 in flue
+                msp.add_lwpolyline(rectangle(400 + 108 * bay, y + side, 508 + 108 * bay,
+                                             y + side + 42), close=True,
+                                   dxfattribs={"layer": "RACKING"})
+    plan = read_floorplan(save(doc, tmp_path))
+    # common practice (from memory): US pallet-rack frames are 36 to 48 in deep, one pallet
+    # of 40 x 48 in; 42 in = 1.07 m. In mm they would be 42 mm, in cm 0.42 m
+    assert plan.units == "in", plan.unit_note
+    assert "rack bays 1.07 m-1.07 m deep" in plan.unit_note
+    # exact by definition (1 in = 0.0254 m): the hall inside the wall's inner edge
+    assert plan.free_space.bounds[2] - plan.free_space.bounds[0] == \
+        pytest.approx((3600 - 8) * 0.0254, abs=0.01)
