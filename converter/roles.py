@@ -44,11 +44,12 @@ DEFAULT_ROLE_PATTERNS: Mapping[str, tuple[str, ...]] = MappingProxyType({
              "*墙*", "*牆*", "*柱*", "*壁*", "*벽*", "*기둥*"),
     "racking": ("*RACK*", "*SHELV*", "*PALLET*", "*REGAL*", "*RAYONNAGE*", "*ESTANTER*",
                 "*SCAFFAL*", "*STELLING*"),
-    "keepout": ("*KEEPOUT*", "*KEEP-OUT*", "*KEEP_OUT*", "*NOGO*", "*NO-GO*", "*EXCLUSION*",
+    "keepout": ("*KEEPOUT*", "*KEEP-OUT*", "*KEEP_OUT*", "*KEEP OUT*", "*NOGO*", "*NO-GO*",
+                "*NO_GO*", "*NO GO*", "*EXCLUSION*",
                 "*SPERRFL*", "*INTERDIT*", *EQUIPMENT_PATTERNS),
     "boundary": ("A-FLOR-OTLN*", "*-OTLN", "*BOUNDARY*"),
     "station": ("*STATION*", "*-STN*", "*_STN*", "STN", "STN[-_ ]*", "*CHARGER*",
-                "*CHARGING*", "*CHGR*", "*DOCKING*"),
+                "*CHARGING*", "*CHGR*", "*CHRG*", "*DOCKING*"),
     "shared": ("*SHARED*", "*WALKWAY*", "*PEDESTRIAN*"),
 })
 

@@ -257,6 +257,9 @@ def test_machines_on_an_equipment_layer_are_kept_out(tmp_path, layer):
     ("STN", "station"),                  # a station layer named by the abbreviation alone
     ("AMR_STN", "station"),
     ("DESTN", None),
+    ("E-EQPM-CHRG", "station"),          # chargers abbreviated CHRG as well as CHGR
+    ("KEEP OUT", "keepout"),             # the words with a space, as typed in plain names
+    ("NO GO ZONE", "keepout"),
 ])
 def test_equipment_and_station_words(name, role):
     # source: US National CAD Standard layer names (A-EQPM, -STN) and common practice
