@@ -24,9 +24,12 @@ CANDIDATE_UNITS = ("mm", "cm", "m", "in", "ft")
 DOOR_LEAF_M = (0.6, 1.3)
 WALL_THICKNESS_M = (0.05, 0.8)
 PLAN_SPAN_M = (3.0, 2000.0)
-#: The depth of one pallet-rack or shelving bay, metres (common practice: a bay holds one
-#: pallet of 0.8 to 1.2 m across its depth; shelving 0.6 m; a few deeper).
-RACK_DEPTH_M = (0.6, 1.6)
+#: The depth of a pallet-rack or shelving bay, metres (common practice: a bay holds one
+#: pallet of 0.8 to 1.2 m across its depth, shelving 0.6 m; two bays back to back drawn as
+#: one rectangle 2.2 to 2.5 m). Only rectangles at most RACK_BAY_ASPECT times as long as
+#: deep count: a whole row drawn as one rectangle says nothing about the unit.
+RACK_DEPTH_M = (0.6, 2.5)
+RACK_BAY_ASPECT = 5.0
 #: With no unit in the header, the content decides with a full weight of support (say, every
 #: door leaf plausible), or with CLEAR_SUPPORT and a lead of CLEAR_LEAD over every other unit:
 #: measured walls always include a few faces that are no wall's two sides.
@@ -169,13 +172,15 @@ def _nearest_parallel(a, b):
 
 def rack_depths(parts, *, limit=4000):
     """Depths (drawing units) of the rack bays among closed four-cornered parts: the shorter
-    side of each rectangle (opposite sides within 1 %, diagonals too), at most `limit`.
+    side of each rectangle (opposite sides within 1 %, diagonals too) at most RACK_BAY_ASPECT
+    times shorter than the longer, at most `limit` of them.
 
     Examples
     --------
     >>> from clearway.converter.parts import CLOSED, Parts
     >>> bays = Parts.from_list([[(0, 0), (108, 0), (108, 42), (0, 42)],
-    ...                         [(0, 0), (5, 0), (3, 4)]], [CLOSED, CLOSED])
+    ...                         [(0, 0), (1200, 0), (1200, 42), (0, 42)],
+    ...                         [(0, 0), (5, 0), (3, 4)]], [CLOSED, CLOSED, CLOSED])
     >>> rack_depths(bays).tolist()
     [42.0]
     """
@@ -193,7 +198,9 @@ def rack_depths(parts, *, limit=4000):
             (np.abs(sides[:, 1] - sides[:, 3]) <= 0.01 * sides[:, 1]) & \
             (np.abs(diagonals[:, 0] - diagonals[:, 1]) <= 0.01 * diagonals[:, 0]) & \
             (sides.min(axis=1) > 0) & np.isfinite(sides).all(axis=1)
-    return np.minimum(sides[rectangle, 0], sides[rectangle, 1])
+    short = np.minimum(sides[rectangle, 0], sides[rectangle, 1])
+    long = np.maximum(sides[rectangle, 0], sides[rectangle, 1])
+    return short[long <= RACK_BAY_ASPECT * short]
 
 
 def dimension_factors(dimensions):

@@ -294,3 +294,19 @@ def test_rack_bays_decide_inches_against_a_millimetre_header(tmp_path):
     # exact by definition (1 in = 0.0254 m): the hall inside the wall's inner edge
     assert plan.free_space.bounds[2] - plan.free_space.bounds[0] == \
         pytest.approx((3600 - 8) * 0.0254, abs=0.01)
+
+
+def test_back_to_back_bays_as_one_rectangle_keep_a_metre_header(tmp_path):
+    """Pairs of bays drawn as one 2.7 m x 2.3 m rectangle in a metre plan: 2.3 units is 0.70 m
+    in feet, a plausible single bay, so the bays must not outvote the header."""
+    doc = new_drawing(units=6)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 60, 40, thickness=0.3)
+    for row in range(5):
+        for bay in range(15):
+            msp.add_lwpolyline(rectangle(5 + 2.7 * bay, 5 + 6 * row, 7.7 + 2.7 * bay,
+                                         7.3 + 6 * row), close=True,
+                               dxfattribs={"layer": "RACKING"})
+    plan = read_floorplan(save(doc, tmp_path))
+    # common practice: two 1.1 m bays and a 0.1 m flue, 2.3 m deep as drawn
+    assert plan.units == "m", plan.unit_note
