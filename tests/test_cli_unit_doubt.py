@@ -20,13 +20,14 @@ def run(*args):
 
 
 # source: sample_drawings/README.md: the distribution centre is 60 m x 40 m in millimetres
-# with 0.1 m partitions and 0.3 m exterior walls, the clinic 60 ft x 40 ft in inches with
-# 5 in partitions and 8 in exterior walls; exact by definition: 1 ft = 0.3048 m, 1 in =
+# with 0.1 m partitions, 0.3 m exterior walls and 2.7 m x 1.1 m rack bays, the clinic
+# 60 ft x 40 ft in inches with 5 in partitions and 8 in exterior walls; exact by definition: 1 ft = 0.3048 m, 1 in =
 # 0.0254 m, so 60 m read as ft is 60000 x 0.3048 = 18288 m and 60 ft read as mm is 0.72 m
 @pytest.mark.parametrize(("drawing", "units", "start", "then"), [
-    ("distribution_centre", "m", "read in m as --units says: walls 100 m-300 m thick, the "
-     "plan 60000 m across; in mm, as the header says: walls 0.10 m-0.30 m thick, the plan "
-     "60.00 m across; pass --units mm if that is right; as read: ", "over the limit max_extent"),
+    ("distribution_centre", "m", "read in m as --units says: rack bays 1100 m-1100 m deep, "
+     "walls 100 m-300 m thick, the plan 60000 m across; in mm, as the header says: rack bays "
+     "1.10 m-1.10 m deep, walls 0.10 m-0.30 m thick, the plan 60.00 m across; pass --units mm "
+     "if that is right; as read: ", "over the limit max_extent"),
     ("distribution_centre", "ft", "read in ft as --units says: walls 30.48 m-91.44 m thick, "
      "the plan 18288 m across; in mm, as the header says", "max_boundary_length"),
     ("clinic", "mm", "read in mm as --units says: walls 5 mm-8 mm thick, the plan 0.72 m "
