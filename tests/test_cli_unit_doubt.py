@@ -28,7 +28,8 @@ def run(*args):
      "walls 100 m-300 m thick, the plan 60000 m across; in mm, as the header says: rack bays "
      "1.10 m-1.10 m deep, walls 0.10 m-0.30 m thick, the plan 60.00 m across; pass --units mm "
      "if that is right; as read: ", "over the limit max_extent"),
-    ("distribution_centre", "ft", "read in ft as --units says: walls 30.48 m-91.44 m thick, "
+    ("distribution_centre", "ft", "read in ft as --units says: rack bays 335 m-335 m deep, "
+     "walls 30.48 m-91.44 m thick, "
      "the plan 18288 m across; in mm, as the header says", "max_boundary_length"),
     ("clinic", "mm", "read in mm as --units says: walls 5 mm-8 mm thick, the plan 0.72 m "
      "across; in in, as the header says: walls 0.13 m-0.20 m thick, the plan 18.29 m across; "
