@@ -74,6 +74,12 @@ def _summary(plan, roadmap, outdir: str, names=BUILD_FILES) -> list[str]:
                      "no route joins them")
     for station in unreachable:
         lines.append(f"  unreachable: {station.label} ({station.reason or 'no lane reaches it'})")
+    standing = [s for s in findings.stations if s.standoff > 0.0]
+    if standing:
+        farthest = max(standing, key=lambda s: s.standoff)
+        lines.append(f"stations standing clear of their blocks: {len(standing)} (up to "
+                     f"{farthest.standoff:.2f} m, {farthest.label}); the move onto the "
+                     f"equipment is the robot's own docking, not checked here")
     if findings.pinch_points:
         pinch = min(findings.pinch_points, key=lambda p: p.clearance)
         lines.append(f"narrowest pinch: {pinch.clearance:.2f} m clearance at "

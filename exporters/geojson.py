@@ -11,7 +11,7 @@ Features, in drawing order (areas under lanes under points):
 - ``element: "node"`` Points with ``id``, ``kind``, ``label``, ``x``, ``y``, ``clearance``;
 - ``element: "station"`` Points at each station's drawn position with ``label``, ``kind``,
   ``heading`` (degrees counter-clockwise from +X, or null), ``node``, ``reachable``,
-  ``reason`` and ``room``;
+  ``reason``, ``room`` and ``standoff`` (metres from the drawn point to its node);
 - ``element: "room"`` Polygons with ``id``, ``names`` (texts inside, largest first),
   ``area`` (m^2), ``reachable``, ``node`` (the room node), ``openings`` (ids of the
   openings on its outline) and, for a room the robot cannot enter, ``reason``,
@@ -180,7 +180,8 @@ def _station_features(plan, roadmap, project) -> list[dict]:
             "node": json_text(result.node) if result and result.node is not None else None,
             "reachable": bool(result.reachable) if result else False,
             "reason": json_text(result.reason) if result else "not linked to the roadmap",
-            "room": json_text(result.room) if result else ""}))
+            "room": json_text(result.room) if result else "",
+            "standoff": float(result.standoff) if result else 0.0}))
     return features
 
 

@@ -74,7 +74,7 @@ def report_data(plan, roadmap) -> dict:
         "heading": drawn[s.label].heading if s.label in drawn else None,
         "node": None if s.node is None else json_text(s.node),
         "component": None if s.component is None else int(s.component), "reachable": bool(s.reachable), "reason": json_text(s.reason),
-        "room": json_text(s.room),
+        "room": json_text(s.room), "standoff": float(s.standoff),
     } for s in findings.stations]
     return {
         "format": REPORT_FORMAT,

@@ -27,7 +27,7 @@ from clearway.roadmap.lanes import assemble_graph, refine_lanes
 from clearway.roadmap.rooms import (describe_rooms, locate, narrowings, opening_cuts, room_names,
                                     room_seeds, split_floor)
 from clearway.roadmap.stations import (REASON_NO_LANE, REASON_NO_LINK, Attachment, link_stations,
-                              containing_region)
+                              containing_region, standing_points)
 
 #: Douglas-Peucker tolerance for lanes whose clearance exceeds c by more than twice it, m.
 SIMPLIFY = 0.005
@@ -210,8 +210,11 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
 
     report("stations")
     labels = [str(s[0]) for s in stations]
-    station_xy = np.array([(float(s[1]), float(s[2])) for s in stations]).reshape(-1, 2) \
+    drawn_xy = np.array([(float(s[1]), float(s[2])) for s in stations]).reshape(-1, 2) \
         - np.asarray(offset)
+    # a block station marks its equipment: the robot stands clear of it (stations.py)
+    station_xy, standoff = standing_points(
+        drawn_xy, [s[4] if len(s) > 4 else None for s in stations], field, local, c)
     joins = link_stations(station_xy, lines, lane_region, regions, field, local, c)
     # a region pruned to one vertex (a square or round room) has no lane left: retry too
     failed = [i for i, j in enumerate(joins) if j in (REASON_NO_LINK, REASON_NO_LANE)]
@@ -259,7 +262,7 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
         body += links
         body += check_turns(robot, field, graph, offset, floor=local)
     checks.weigh_edges(graph, comfort, low_clearance_penalty)
-    drawn = station_xy + np.asarray(offset)
+    drawn = drawn_xy + np.asarray(offset)
     findings = checks.run_checks(graph, samples, joins, labels, station_nodes, drawn, axis,
                                  c, comfort,
                                  robot=robot, shared_zones=shared_zones,
@@ -267,7 +270,7 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
                                  low_clearance_penalty=low_clearance_penalty,
                                  regions=regions, region_of_station=containing_region(
                                      station_xy, regions), offset=offset,
-                                 warnings=tuple(warnings), body=body)
+                                 warnings=tuple(warnings), body=body, standoff=standoff)
     room_list, passages = describe_rooms(rooms, seeds, names, narrow, openings, graph,
                                          lane_vertices, regions, offset, c)
     findings = _stations_in_rooms(findings, room_list)

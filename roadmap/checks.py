@@ -182,7 +182,7 @@ def personnel_flags(samples, shared_zones, offset, *, half_width: float,
 def run_checks(graph: nx.MultiGraph, samples, joins, labels, station_nodes, station_xy, axis,
                clearance: float, comfort: float, *, robot, shared_zones,
                personnel_clearance: float, low_clearance_penalty: float, regions,
-               region_of_station, offset, warnings=(), body=()) -> Findings:
+               region_of_station, offset, warnings=(), body=(), standoff=None) -> Findings:
     """Collect every finding about the weighed lane graph (see the module docstring)."""
     number = {node: int(node[1:]) for node in graph}
     components = sorted(nx.connected_components(graph),
@@ -215,8 +215,10 @@ def run_checks(graph: nx.MultiGraph, samples, joins, labels, station_nodes, stat
                 reason += (f"; narrowest place {passage.width:.2f} m wide at "
                            f"({passage.x:.2f}, {passage.y:.2f})")
         pending.append((index, node, component, reachable, reason))
+    standoff = np.zeros(len(pending)) if standoff is None else standoff
     stations = tuple(StationResult(labels[i], float(x), float(y), node, component, reachable,
-                                   reason)
+                                   reason, standoff=float(standoff[i]) if node is not None
+                                   else 0.0)
                      for (i, node, component, reachable, reason), (x, y) in zip(
                          pending, station_xy))
     station_labels = tuple(tuple(sorted(graph.nodes[n]["label"] for n in nodes

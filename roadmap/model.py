@@ -142,6 +142,8 @@ class StationResult:
     reachable: bool
     reason: str = ""         # empty when reachable; else why not, one line
     room: str = ""           # id of the room it stands in, "" when none
+    #: metres from the drawn point to its node: a block in the clearance band stands clear
+    standoff: float = 0.0
 
 
 @dataclass(frozen=True)

@@ -6,6 +6,14 @@ distances every 2 cm). Where several points are equally near (within 1 mm), an e
 node (a lane's end) wins, then the lower (x, y), which is the lower node id. A link that
 would meet its lane within 0.1 m of an existing node meets that node instead, when the
 longer link stays clear too.
+
+A station drawn as a block marks its equipment (a charger on the wall, a dock leveller, a
+pick table), not where the robot stands. When such a block lies in the clearance band, or a
+little way inside the obstacle it is mounted on, the robot stands at the nearest point ahead
+of it along its heading that keeps the required clearance (`standing_points`), or, when its
+heading leads nowhere clear, at the nearest such point in any direction; the lanes end
+there, and the last stretch onto the equipment is the robot's own docking move, which this
+graph does not check. A station drawn as a point or circle is where the robot stands.
 """
 
 from __future__ import annotations
@@ -29,6 +37,17 @@ CANDIDATE_STEP = 0.1
 #: metres: a lane stub of a few centimetres between a link node and a junction is noise
 #: to fleet software, and the link grows by at most this much.
 NODE_SNAP = 0.1
+
+#: A block station may lie this far inside the obstacle it is mounted on, metres (a charger
+#: inserted on a wall's centre line); its standing point lies at most this much farther out
+#: than the required clearance.
+MOUNT_DEPTH = 0.5
+#: Standing points are searched at this step along each direction, metres, and the nearest
+#: one is then bisected to STANDOFF_TOLERANCE.
+STANDOFF_STEP = 0.01
+STANDOFF_TOLERANCE = 1e-4
+#: Directions tried when the heading leads nowhere clear (every 5 degrees).
+STANDOFF_DIRECTIONS = 72
 
 REASON_BAND = "inside an obstacle's clearance band"
 REASON_OFF_FLOOR = "not on the free floor (drawn inside an obstacle or outside the building)"
@@ -183,6 +202,82 @@ def _attach(point, lanes, mine, tree, ends, field, clearance):
         if len(chosen) == total:
             return None
         radius *= 3.0
+
+
+def standing_points(stations: np.ndarray, headings, field: ClearanceField, free_space,
+                    clearance: float) -> tuple[np.ndarray, np.ndarray]:
+    """Where the robot stands at each station, and how far that is from the drawn point.
+
+    Parameters
+    ----------
+    stations : (N, 2) float ndarray, drawn positions, metres (local frame)
+    headings : sequence of float or None, degrees counter-clockwise from +X; None for a
+        station drawn as a point or circle, which is where the robot stands
+    field : ClearanceField
+    free_space : Polygon or MultiPolygon (prepared or not)
+    clearance : float, required clearance c, metres
+
+    Returns
+    -------
+    (N, 2) float ndarray of standing points and (N,) float ndarray of standoffs, metres. A
+    station on the free floor with clearance c, a point station, and a block with no
+    standing point within c + MOUNT_DEPTH keep their drawn point and a standoff of 0.
+
+    Examples
+    --------
+    >>> from clearway.roadmap.clearance import clearance_field
+    >>> room = shapely.box(0, 0, 4, 3)
+    >>> field = clearance_field(np.array(shapely.get_coordinates(room.boundary))[
+    ...     np.arange(4)[:, None] + [0, 1]])
+    >>> xy, standoff = standing_points(np.array([[0.1, 1.5]]), [0.0], field, room, 0.45)
+    >>> xy.round(4).tolist(), round(float(standoff[0]), 4)
+    ([[0.45, 1.5]], 0.35)
+    """
+    stations = np.asarray(stations, dtype=float).reshape(-1, 2)
+    result, standoff = stations.copy(), np.zeros(len(stations))
+    todo = [i for i, heading in enumerate(headings) if heading is not None]
+    if not todo:
+        return result, standoff
+    shapely.prepare(free_space)
+
+    def clear(xy):
+        xy = xy.reshape(-1, 2)
+        return shapely.contains_xy(free_space, xy[:, 0], xy[:, 1]) & \
+            field.at_least(xy, clearance - 1e-9)
+
+    settled = clear(stations[todo])
+    steps = np.arange(0.0, clearance + MOUNT_DEPTH + STANDOFF_STEP / 2, STANDOFF_STEP)
+    for index in (i for i, ok in zip(todo, settled) if not ok):
+        here = stations[index]
+        angles = np.radians(float(headings[index])
+                            + np.arange(STANDOFF_DIRECTIONS) * 360.0 / STANDOFF_DIRECTIONS)
+        ways = np.column_stack([np.cos(angles), np.sin(angles)])
+        points = here + steps[None, :, None] * ways[:, None, :]
+        inside = shapely.contains_xy(free_space, points[..., 0], points[..., 1])
+        good = inside.copy()
+        good[inside] = field.at_least(points[inside], clearance - 1e-9)
+        found = []
+        for way in range(STANDOFF_DIRECTIONS):
+            entry = int(np.argmax(inside[way]))
+            if not inside[way, entry] or steps[entry] > MOUNT_DEPTH:
+                continue
+            hits = np.flatnonzero(good[way, entry:])
+            if len(hits) == 0 or not inside[way, entry:entry + hits[0] + 1].all():
+                continue
+            found.append((way != 0, entry + int(hits[0]), way, entry))
+        for _, stop, way, entry in sorted(found):
+            low, high = steps[max(stop - 1, entry)], steps[stop]
+            if stop > entry:
+                while high - low > STANDOFF_TOLERANCE:
+                    middle = (low + high) / 2.0
+                    low, high = (low, middle) if clear(here + middle * ways[way])[0] \
+                        else (middle, high)
+            point = here + high * ways[way]
+            if shapely.covers(free_space, shapely.LineString([here + steps[entry] * ways[way],
+                                                              point])):
+                result[index], standoff[index] = point, high
+                break
+    return result, standoff
 
 
 def link_stations(stations: np.ndarray, lanes: np.ndarray, lane_region: np.ndarray,

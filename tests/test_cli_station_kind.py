@@ -156,3 +156,39 @@ def test_dxf_draws_each_block_station_facing_its_heading(built):
     assert set(found) == {label for label, (_, heading) in EXPECTED.items() if heading is not None}
     for label, angle in found.items():
         assert angle == pytest.approx(EXPECTED[label][1], abs=1e-6), label
+
+
+def test_wall_mounted_charger_block_stands_clear_and_says_so(tmp_path):
+    # common practice: a charger is drawn as a block on the wall it hangs on, facing the
+    # room; the robot docks with its contacts on the unit, so its centre is nearer the wall
+    # than any lane may come. The graph ends where the robot keeps its clearance.
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 20, 10)                 # inner wall face at x = 0.2
+    block = doc.blocks.new("WALL_CHARGER")
+    block.add_lwpolyline([(0, -0.3), (0.25, -0.3), (0.25, 0.3), (0, 0.3)], close=True)
+    block.add_attdef("LABEL", (0.4, 0.4), dxfattribs={"height": 0.2})
+    msp.add_blockref("WALL_CHARGER", (0.2, 5), dxfattribs={"layer": STATIONS}) \
+        .add_auto_attribs({"LABEL": "C9"})
+    save(doc, tmp_path)
+    result = CliRunner().invoke(main, ["build", str(tmp_path / "plan.dxf"), "-o",
+                                       str(tmp_path / "out"), "--no-html"])
+    assert result.exit_code == 0, result.output
+    report = json.loads((tmp_path / "out" / "report.json").read_text(encoding="utf-8"))
+    station, = report["stations"]
+    required = report["robot"]["clearance"]
+    assert station["reachable"] and (station["x"], station["y"]) == (0.2, 5.0)
+    # analytic: along the block's +X the clearance is x - 0.2, so the robot stands at
+    # x = 0.2 + c, c away from the drawn point
+    assert station["standoff"] == pytest.approx(required, abs=2e-4)
+    graph = nx.read_graphml(tmp_path / "out" / "roadmap.graphml")
+    node = graph.nodes[station["node"]]
+    assert (float(node["x"]), float(node["y"])) == pytest.approx((0.2 + required, 5.0), abs=2e-4)
+    assert "stations standing clear of their blocks: 1 (up to" in result.output
+    assert "the robot's own docking, not checked" in result.output
+    # source: RFC 7946 §3.2 (a Feature's properties is a JSON object): GDAL reads the same
+    meta, _, _, fields = pyogrio.raw.read(tmp_path / "out" / "roadmap.geojson")
+    columns = dict(zip(meta["fields"].tolist(), fields))
+    standoff, = [value for element, value in zip(columns["element"], columns["standoff"])
+                 if element == "station"]
+    assert float(standoff) == pytest.approx(required, abs=2e-4)

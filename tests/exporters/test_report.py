@@ -52,7 +52,8 @@ def test_stations_say_where_they_joined_or_why_not(plan, roadmap):
     stations = {s["label"]: s for s in _report(plan, roadmap)["stations"]}
     assert stations["S1"] == {"label": "S1", "x": 1.0, "y": 5.0, "node": "n3", "component": 0,
                               "reachable": True, "reason": "", "room": "",
-                              "kind": "", "heading": None}   # a point: no block, no kind
+                              "kind": "", "heading": None,   # a point: no block, no kind
+                              "standoff": 0.0}
     hostile = stations[HOSTILE]                      # label intact, control char and all
     assert hostile["reachable"] is False and hostile["node"] is None
     assert hostile["reason"] == "inside the clearance band of keep-out <KO>"

@@ -61,6 +61,59 @@ def test_station_reasons():
     assert ("by wall", "ok") in roadmap.findings.unreachable_pairs
 
 
+def test_block_station_in_the_band_stands_clear_ahead_of_it():
+    # a 20 m x 6 m hall; c = 0.35 + 0.1 = 0.45 m. Chargers drawn as blocks against the
+    # south wall (y = 0): the robot stands where it keeps c, the docking move is its own
+    hall = (0.0, 0.0, 20.0, 6.0)
+    obstacles, free = plan(hall)
+    stations = [("facing in", 4.0, 0.1, "charger", 90.0),      # heading +Y, into the hall
+                ("at 45 deg", 8.0, 0.0, "charger", 45.0),
+                ("facing the wall", 12.0, 0.2, "charger", 270.0),
+                ("in the wall", 16.0, -0.1, "charger", 90.0),  # inserted inside the wall
+                ("point", 18.0, 0.2)]                          # a point is the pose itself
+    roadmap = build(obstacles, free, stations)
+    by_label = {r.label: r for r in roadmap.findings.stations}
+    graph = roadmap.graph
+
+    def node_xy(label):
+        node = graph.nodes[by_label[label].node]
+        return node["x"], node["y"]
+
+    # analytic: along +Y the clearance is y, so the robot stands at y = c
+    assert node_xy("facing in") == pytest.approx((4.0, 0.45), abs=2e-4)
+    assert by_label["facing in"].standoff == pytest.approx(0.35, abs=2e-4)
+    # analytic: along 45 deg from (8, 0) the clearance is t / sqrt(2): t = c sqrt(2)
+    assert by_label["at 45 deg"].standoff == pytest.approx(0.45 * 2 ** 0.5, abs=2e-4)
+    assert node_xy("at 45 deg") == pytest.approx((8.45, 0.45), abs=2e-4)
+    # analytic: facing the wall leads nowhere clear; the nearest clear point is straight
+    # out from the wall, 0.45 - 0.2 = 0.25 m away
+    assert node_xy("facing the wall") == pytest.approx((12.0, 0.45), abs=2e-4)
+    assert by_label["facing the wall"].standoff == pytest.approx(0.25, abs=2e-4)
+    # analytic: from 0.1 m inside the wall face to y = c: 0.55 m
+    assert node_xy("in the wall") == pytest.approx((16.0, 0.45), abs=2e-4)
+    for label in ("facing in", "at 45 deg", "facing the wall", "in the wall"):
+        assert by_label[label].reachable, label
+        assert (by_label[label].x, by_label[label].y) == (stations[
+            [s[0] for s in stations].index(label)][1:3])   # the drawn point is kept
+    assert by_label["point"].reason == "inside an obstacle's clearance band"
+    assert by_label["point"].standoff == 0.0
+    assert_lanes_clear(roadmap)
+
+
+def test_block_station_deep_in_an_obstacle_or_boxed_in_stays_unreachable():
+    # a rack 2 m deep; a block drawn in its middle is 1 m inside: more than the mounting
+    # depth, so no standing point is invented for it
+    rack = shapely.box(5.0, 2.0, 15.0, 4.0)
+    obstacles, free = plan((0.0, 0.0, 20.0, 6.0), rack)
+    roadmap = build(obstacles, free, [("in the rack", 10.0, 3.0, "pick", 90.0),
+                                      ("at the rack face", 10.0, 4.0, "pick", 90.0)])
+    by_label = {r.label: r for r in roadmap.findings.stations}
+    assert by_label["in the rack"].reason.startswith("not on the free floor")
+    # analytic: the face is y = 4 and the hall's wall y = 6: the standing point is y = 4.45
+    node = roadmap.graph.nodes[by_label["at the rack face"].node]
+    assert (node["x"], node["y"]) == pytest.approx((10.0, 4.45), abs=2e-4)
+
+
 def test_narrow_doorway_is_reported_with_its_width():
     # two rooms joined by a doorway 0.6 m wide in a 0.2 m wall; the robot needs 2c = 0.9 m
     wall = shapely.box(9.9, 0, 10.1, 6).difference(shapely.box(9.9, 2.7, 10.1, 3.3))
