@@ -260,6 +260,8 @@ def test_machines_on_an_equipment_layer_are_kept_out(tmp_path, layer):
     ("E-EQPM-CHRG", "station"),          # chargers abbreviated CHRG as well as CHGR
     ("KEEP OUT", "keepout"),             # the words with a space, as typed in plain names
     ("NO GO ZONE", "keepout"),
+    ("SHELF", "racking"),                # the singular, and its abbreviation: A-FURN-SHLF
+    ("A-FURN-SHLF", "racking"),
 ])
 def test_equipment_and_station_words(name, role):
     # source: US National CAD Standard layer names (A-EQPM, -STN) and common practice
