@@ -102,6 +102,8 @@ def _summary(plan, roadmap, outdir: str, names=BUILD_FILES) -> list[str]:
             (rounds, "turn round forbidden", "turns round forbidden"),
             (len(body["reverse_only"]), "dead end to back out of",
              "dead ends to back out of"))) + " (report.json lists them)")
+    if plan.floor_doubt:
+        lines.append(f"floor: {plan.floor_doubt.split(': ', 1)[-1]}")
     if plan.unit_doubt:
         lines.append(f"units: {plan.unit_doubt}")
     elif plan.unit_source in ("content", "assumed"):

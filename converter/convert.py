@@ -251,6 +251,10 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
             warnings.append(f"{source}: floor escapes to the outside through a {width:.2f} m gap "
                             f"in the walls at ({x:.2f}, {y:.2f}) m; close it or draw a boundary")
     free = free_space(container, [regions[role] for role in OBSTACLE_ROLES] + [interior.closures])
+    floor_doubt = "" if by_role["boundary"] else _floor_doubt(
+        subject, free.area + regions["racking"].area + regions["keepout"].area, interior.walls)
+    if floor_doubt:
+        warnings.append(floor_doubt)
     if free.is_empty:
         raise DrawingError(f"{subject}: no enclosed floor: the wall layers "
                            f"({', '.join(by_role['wall'][:4]) or 'none'}) enclose no free space and "
@@ -271,7 +275,38 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
                      drawing_date=content.drawing_date, repairs=tuple(content.repairs),
                      openings=interior.openings, texts=texts, unit_source=mapping.unit_source,
                      unit_evidence=tuple(mapping.unit_evidence), left_out=mapping.left_out,
-                     unit_doubt=mapping.unit_doubt)
+                     unit_doubt=mapping.unit_doubt, floor_doubt=floor_doubt)
+
+
+#: A floor (racking and all) covering less than this share of the convex hull of the walls
+#: is doubted: the walls of a real building enclose most of their hull (0.7 to 0.99 on the
+#: sample, suite and real drawings whose walls close; an L or U plan about 0.5), while walls
+#: that do not close leave 0.01 to 0.22 of it (gaps wider than the leak search's 8 m,
+#: walls on a layer with no role, a site drawn with the same wall layers).
+MIN_FLOOR_SHARE = 0.35
+
+
+def _floor_doubt(subject, floor, walls) -> str:
+    """Why a floor of `floor` m² (free, racking and keep-out) looks too small for `walls`
+    (MultiPolygon, m), or "" when it does not.
+
+    Examples
+    --------
+    >>> import shapely
+    >>> ring = shapely.box(0, 0, 10, 10).difference(shapely.box(0.2, 0.2, 9.8, 9.8))
+    >>> _floor_doubt("a.dxf", 9.6 * 9.6, ring)
+    ''
+    >>> _floor_doubt("a.dxf", 1.8 * 1.8, ring)[:61]
+    'a.dxf: the floor found (3 m²) covers 3% of the area the walls'
+    """
+    hull = shapely.convex_hull(walls)
+    share = floor / hull.area if hull.area > 0 else 1.0
+    if share >= MIN_FLOOR_SHARE:
+        return ""
+    return (f"{subject}: the floor found ({floor:.0f} m\u00b2) covers {share:.0%} of the "
+            f"area the walls span ({hull.area:.0f} m\u00b2): the walls may not close (a gap "
+            f"wider than 8 m, walls on a layer with no role) or include a site or another "
+            f"drawing; check `clearway layers` and the preview, or draw a boundary")
 
 
 def _check_mapped(content, roles, by_role, source):

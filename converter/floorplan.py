@@ -204,6 +204,9 @@ class FloorPlan:
     unit_doubt : str
         Why the unit --units asked for looks wrong (what the drawing measures in it and in
         the unit its header or content gives), "" when it does not; also in `warnings`.
+    floor_doubt : str
+        Why the floor found looks too small for the walls drawn (they may not close), ""
+        when it does not; also in `warnings`.
     """
 
     source: str
@@ -225,6 +228,7 @@ class FloorPlan:
     unit_evidence: tuple[str, ...] = ()
     left_out: tuple[LeftOutLayer, ...] = ()
     unit_doubt: str = ""
+    floor_doubt: str = ""
 
     def __post_init__(self):
         object.__setattr__(self, "regions", MappingProxyType(dict(self.regions)))

@@ -249,6 +249,31 @@ def test_no_wall_layer_named_takes_the_layer_that_looks_like_walls(tmp_path):
     assert plan.free_space.area == pytest.approx(11.6 * 7.6, rel=1e-3)
 
 
+def test_walls_that_do_not_close_are_doubted_not_built_silently(tmp_path):
+    """A hall 30 m x 20 m whose east wall was never drawn (it sat on a layer the architect
+    kept to themselves): the only floor the walls enclose is a 4 m x 4 m office in its
+    corner. The build must say that the floor is small for the walls drawn."""
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    hall = shapely.box(0, 0, 30, 20).difference(shapely.box(0.3, 0.3, 29.7, 19.7))
+    hall = hall.difference(shapely.box(29, 0.3, 31, 19.7))      # the east wall is missing
+    for part in shapely.get_parts(hall):
+        msp.add_lwpolyline(list(part.exterior.coords), close=True, dxfattribs={"layer": "A-WALL"})
+    walled_room(msp, 0.3, 0.3, 4.5, 4.5, thickness=0.1)          # the office, closed
+    path = save(doc, tmp_path)
+    plan = read_floorplan(path)
+    # analytic: the office's floor is 4.0 m x 4.0 m = 16 m²; the walls' hull 30 m x 20 m
+    assert plan.free_space.area == pytest.approx(16.0, rel=1e-3)
+    assert "covers 3% of the area the walls span (600 m\u00b2)" in plan.floor_doubt
+    assert plan.floor_doubt in plan.warnings
+    result = CliRunner().invoke(main, ["build", str(path), "-o", str(tmp_path / "out"),
+                                       "--no-html"])
+    assert result.exit_code == 0, result.output
+    assert "floor: the floor found (16 m\u00b2) covers 3%" in result.output
+    # a closed plan raises no doubt
+    assert read_floorplan(OFFICE).floor_doubt == ""
+
+
 def test_layers_json_carries_warnings_views_and_evidence(tmp_path):
     result = CliRunner().invoke(main, ["layers", str(OFFICE), "--json"])
     assert result.exit_code == 0, result.output
