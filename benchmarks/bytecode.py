@@ -20,3 +20,7 @@ def compile_sources() -> None:
     """Write the bytecode of every module of the four packages (as `pip install` does)."""
     for package in PACKAGES:
         compileall.compile_dir(ROOT / package, quiet=1)
+
+
+if __name__ == "__main__":
+    compile_sources()
