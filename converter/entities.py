@@ -8,12 +8,14 @@ with no reader is not plan geometry. Curves keep a chord tolerance given in draw
 from __future__ import annotations
 
 import contextlib
+import functools
 import itertools
 import math
 
 import numpy as np
 import shapely
 from ezdxf.entities.boundary_paths import BoundaryPathType, EdgeType
+from ezdxf.math import arc_segment_count
 from ezdxf.path import from_hatch_boundary_path
 
 from clearway.errors import ClearwayError, DrawingError, LimitError
@@ -109,6 +111,41 @@ def _arc_or_circle(entity, tolerance, limit):
     return [(xy, ARC if entity.dxftype() == "ARC" else CLOSED)]
 
 
+def _circle(entity, tolerance, limit):
+    """A CIRCLE in the plan's plane flattened as ezdxf's ``Circle.flattening`` does it: the
+    same segment count and angles, and per vertex the same libm cosine and sine, product and
+    sum (``Vec3.from_deg_angle(angle, radius) + center``), so the same floats, without a
+    Vec3 per vertex (a warehouse's thousands of round columns). Any other extrusion, or a
+    size that is not finite, takes ezdxf's own path."""
+    dxf = entity.dxf
+    extrusion = dxf.get("extrusion", None)
+    radius, center = abs(dxf.radius), dxf.center
+    if (extrusion is not None and tuple(extrusion) != (0.0, 0.0, 1.0)) or not (
+            math.isfinite(radius) and math.isfinite(center.x) and math.isfinite(center.y)):
+        return _arc_or_circle(entity, tolerance, limit)
+    if radius <= 0.0:
+        return [(np.zeros((0, 2)), CLOSED)]
+    count = arc_segment_count(radius, math.tau, tolerance)
+    if limit is not None and count + 1 > limit:
+        raise TooMany(limit)
+    # numpy's product and sum round each element as one float operation does, as ezdxf's
+    xy = _unit_circle(count) * radius + np.array([center.x, center.y])
+    return [(xy, CLOSED)]
+
+
+@functools.lru_cache(maxsize=64)
+def _unit_circle(count):
+    """(count + 1, 2) cosines and sines of ezdxf's angles round a circle (read-only).
+
+    math's, not numpy's, cosine and sine: numpy may take SIMD routines of its own, whose
+    last bit can differ from libm's, which ezdxf's vectors use.
+    """
+    angles = [math.radians(angle) for angle in np.linspace(0.0, 360.0, count + 1).tolist()]
+    unit = np.array([(math.cos(angle), math.sin(angle)) for angle in angles], dtype=float)
+    unit.setflags(write=False)
+    return unit
+
+
 def _curve(entity, tolerance, limit):
     if entity.dxftype() == "SPLINE" and limit is not None and max(
             entity.control_point_count(), entity.fit_point_count()) > limit:
@@ -150,7 +187,7 @@ def _mline(entity, tolerance, limit):
 #: Entity type -> reader(entity, tolerance, max_vertices) -> [(xy, kind), ...] or None.
 READERS = {
     "LINE": _line, "LWPOLYLINE": _lwpolyline, "POLYLINE": _polyline,
-    "ARC": _arc_or_circle, "CIRCLE": _arc_or_circle, "ELLIPSE": _curve, "SPLINE": _curve,
+    "ARC": _arc_or_circle, "CIRCLE": _circle, "ELLIPSE": _curve, "SPLINE": _curve,
     "HATCH": _hatch, "SOLID": _solid, "TRACE": _solid, "3DFACE": _solid, "MLINE": _mline,
 }
 

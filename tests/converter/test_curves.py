@@ -43,6 +43,25 @@ def test_circle_area_is_within_the_chord_tolerance_bound(tmp_path, tolerance):
     assert exact - tolerance * 2 * math.pi * radius - 1e-6 <= area <= exact + 1e-6
 
 
+@settings(max_examples=60, deadline=None)
+@given(x=st.floats(-1e5, 1e5), y=st.floats(-1e5, 1e5), radius=st.floats(-500.0, 500.0),
+       tolerance=st.floats(1e-4, 0.5), extrusion=st.sampled_from([None, (0, 0, 1), (0, 0, -1),
+                                                                  (0, 0, 2.5)]))
+def test_circle_vertices_are_ezdxfs_own_flattening_to_the_bit(x, y, radius, tolerance, extrusion):
+    # source: ezdxf's Circle.flattening (the independent reference the fast reader replaces):
+    # the same vertices, bit for bit, so the outputs of every drawing stay byte-identical
+    import ezdxf
+
+    from clearway.converter.entities import flatten_entity
+
+    attributes = {} if extrusion is None else {"extrusion": extrusion}
+    circle = ezdxf.new().modelspace().add_circle((x, y), radius, dxfattribs=attributes)
+    expected = np.array([(v.x, v.y) for v in circle.flattening(tolerance)]).reshape(-1, 2)
+    [(xy, _)] = flatten_entity(circle, tolerance)
+    assert xy.shape == expected.shape and xy.dtype == np.float64
+    assert np.array_equal(xy, expected)
+
+
 @settings(max_examples=25, deadline=None)
 @given(radius=st.floats(0.05, 200.0), sweep=st.floats(0.1, 2 * math.pi),
        tolerance=st.floats(1e-4, 0.01))
