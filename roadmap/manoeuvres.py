@@ -22,7 +22,9 @@ field about many points at once, and only the few left undecided are measured:
    centre and within the half diagonal of the footprint's centre, so their clearance less
    that radius (and less half the way to the next measured pose, plus one step) bounds
    each move's gap from below; a disc about the rotation centre lies inside the
-   footprint, so its clearance bounds the gap from above;
+   footprint, so its clearance bounds the gap from above. The rotation centre is
+   measured only where the footprint centre's clearance, plus the distance between the
+   two, leaves its bounds in doubt;
 3. the corners at the tightest FEW moves of each path (a corner's clearance bounds the gap
    from above), then points OUTLINE_STEP apart on the footprint's outline at each pose of
    the moves still tight, against the floor (one off it refuses the path, as in stage 1),
@@ -327,13 +329,6 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
     high = np.full(len(paths), np.inf)
     centre_room = np.full(len(every), -np.inf)     # the footprint centre's, where measured
 
-    def measure(at: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """Clearance of both points at the poses `at` (sorted, unique)."""
-        found = field.at(np.concatenate([points[0][at], points[1][at]]))
-        np.minimum.at(high, np.searchsorted(first, at, side="right") - 1,
-                      found[:len(at)] - inner - extra)
-        return found[:len(at)], found[len(at):]
-
     def settle(bound: np.ndarray) -> np.ndarray:
         """Decide the paths left by `bound` (per move) and `high`; return those left."""
         left = np.flatnonzero(np.isnan(value) & (best[owner] < margin))
@@ -376,14 +371,29 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
     if not len(ends):                     # every path refused
         settle(np.full(len(move), -np.inf))
         return
-    rooms = measure(ends)
-    bound = np.full(len(move), -np.inf)
-    for (room, chord, radius) in zip(rooms, chords, (outer, circum)):
-        a, b = (np.where(measured, room[np.minimum(np.searchsorted(ends, at), len(ends) - 1)],
-                         -np.inf) for at in (move[starts], move[stops] + 1))
-        spread = np.add.reduceat(chord, starts) / 2 + np.maximum.reduceat(chord, starts)
-        bound = np.maximum(bound, np.repeat(np.minimum(a, b) - spread - radius,
-                                            stops - starts + 1))
+    # the footprint's centre first; the rotation centre, `apart` from it, only where its
+    # clearance could matter: where it could bring a path's upper bound below the margin,
+    # or give a group of moves a larger bound than the centre's, and one below the margin
+    # (elsewhere the bounds are those of measuring both, or clear the margin either way)
+    group_ends = [np.minimum(np.searchsorted(ends, at), len(ends) - 1)
+                  for at in (move[starts], move[stops] + 1)]
+    spreads = [np.add.reduceat(chord, starts) / 2 + np.maximum.reduceat(chord, starts)
+               for chord in chords]
+    rooms = [np.full(len(ends), -np.inf), field.at(points[1][ends])]
+    lowest = np.minimum(*(rooms[1][at] for at in group_ends))
+    by_centre = np.where(measured, lowest, -np.inf) - spreads[1] - circum
+    apart = math.hypot(*robot.centre) + NEARBY_SLACK
+    over = measured & (lowest + apart - spreads[0] - outer > by_centre) & \
+        (by_centre - extra < margin)
+    want = rooms[1] - apart - inner - extra < margin + NEARBY_SLACK
+    want[group_ends[0][over]] = want[group_ends[1][over]] = True
+    want = np.flatnonzero(want)
+    rooms[0][want] = field.at(points[0][ends[want]])
+    np.minimum.at(high, np.searchsorted(first, ends[want], side="right") - 1,
+                  rooms[0][want] - inner - extra)
+    by_rotation = np.where(over, np.minimum(*(rooms[0][at] for at in group_ends)),
+                           -np.inf) - spreads[0] - outer
+    bound = np.repeat(np.maximum(by_rotation, by_centre), stops - starts + 1)
     bound -= extra
     left = settle(bound)
     tight = np.flatnonzero(left[path_of_move] & (bound < margin))
