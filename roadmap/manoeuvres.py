@@ -50,6 +50,7 @@ best leaves at most ...") may be an upper bound rather than the exact smallest g
 from __future__ import annotations
 
 import bisect
+import itertools
 import math
 
 import numpy as np
@@ -90,6 +91,25 @@ def _measured(coords: np.ndarray, known: dict | None = None):
     return found
 
 
+def _measure_all(polylines, known: dict) -> None:
+    """`_measured` of many polylines (n_i, 2) at once into `known`: the same numbers (numpy's
+    differences and hypot element by element, the running sums in the same order)."""
+    fresh = {id(coords): coords for coords in polylines if id(coords) not in known}
+    if not fresh:
+        return
+    arrays = [np.asarray(coords, dtype=float).reshape(-1, 2) for coords in fresh.values()]
+    sizes = [len(coords) for coords in arrays]
+    every = np.concatenate(arrays)
+    step = every[1:] - every[:-1]
+    steps, lengths, points = step.tolist(), np.hypot(*step.T).tolist(), every.tolist()
+    head = 0
+    for key, size in zip(fresh, sizes):
+        inner = slice(head, head + max(size - 1, 0))
+        known[key] = (steps[inner], lengths[inner],
+                      [0.0, *itertools.accumulate(lengths[inner])], points[head:head + size])
+        head += size
+
+
 def point_along(coords: np.ndarray, distance: float,
                 known: dict | None = None) -> tuple[tuple[float, float], float]:
     """Point and heading at `distance` metres along a polyline (clipped to its ends)."""
@@ -124,10 +144,50 @@ def fillet(start, end, radius: float) -> DubinsPath | None:
                       float(radius))
 
 
+def fillets(starts, ends, radius: float) -> list[DubinsPath | None]:
+    """`fillet` of many pose pairs at once, the same paths: the same arithmetic on arrays
+    (numpy's % is Python's), the math module's sine, cosine and tangent, and one solve of
+    the stack of 2 x 2 systems, which numpy hands to LAPACK one by one as for a single one."""
+    found = [None] * len(starts)
+    if not len(starts):
+        return found
+    start, end = np.array(starts, dtype=float), np.array(ends, dtype=float)
+    turn = -((math.pi - (end[:, 2] - start[:, 2])) % (2 * math.pi) - math.pi)
+    size = np.abs(turn)
+    rows = np.flatnonzero(~((size < 1e-9) | (np.abs(size - math.pi) < 1e-9)))
+    if not len(rows):
+        return found
+    matrices = np.empty((len(rows), 2, 2))
+    for column, heading in enumerate((start[rows, 2].tolist(), end[rows, 2].tolist())):
+        matrices[:, 0, column] = [math.cos(value) for value in heading]
+        matrices[:, 1, column] = [math.sin(value) for value in heading]
+    sides = np.stack([end[rows, 0] - start[rows, 0], end[rows, 1] - start[rows, 1]], axis=1)
+    s, t = np.linalg.solve(matrices, sides[:, :, None])[:, :, 0].T
+    cut = radius * np.array([math.tan(value / 2) for value in size[rows].tolist()])
+    fits = ~((s < cut - 1e-9) | (t < cut - 1e-9))
+    lengths = np.column_stack([np.maximum(s - cut, 0.0) / radius, size[rows],
+                               np.maximum(t - cut, 0.0) / radius])
+    for row, left, three in zip(rows[fits].tolist(), (turn[rows[fits]] > 0).tolist(),
+                                lengths[fits].tolist()):
+        found[row] = DubinsPath(tuple(float(x) for x in starts[row]),
+                                "SLS" if left else "SRS", tuple(three), float(radius))
+    return found
+
+
 def _same(a, b) -> bool:
     """numpy.allclose for two points, without its overhead."""
     return abs(a[0] - b[0]) <= 1e-8 + 1e-5 * abs(b[0]) and \
         abs(a[1] - b[1]) <= 1e-8 + 1e-5 * abs(b[1])
+
+
+def _point_along(coords: np.ndarray, distance: float, known: dict | None = None):
+    """`point_along`, kept in `known` (a lane leaving a node is in several manoeuvres)."""
+    if known is None:
+        return point_along(coords, distance)
+    key = ("along", id(coords), distance)
+    if key not in known:
+        known[key] = point_along(coords, distance, known)
+    return known[key]
 
 
 def _end_poses(robot: Robot, here, arrive, leave, step: int, known: dict | None = None):
@@ -141,19 +201,20 @@ def _end_poses(robot: Robot, here, arrive, leave, step: int, known: dict | None 
         if before >= _measured(arrive, known)[2][-1] and \
                 before >= _measured(leave, known)[2][-1]:
             return None
-    start_xy, back = point_along(arrive, CAR_REACH[step] * radius, known)
-    end_xy, ahead = point_along(leave, CAR_REACH[step] * radius, known)
+    start_xy, back = _point_along(arrive, CAR_REACH[step] * radius, known)
+    end_xy, ahead = _point_along(leave, CAR_REACH[step] * radius, known)
     if _same(start_xy, here) or _same(end_xy, here):
         return ()
     # the stretches of the lanes between those poses and the node are not driven
     return (*start_xy, back + math.pi), (*end_xy, ahead)
 
 
-def _tries(robot: Robot, start, end, known: dict | None = None):
+def _tries(robot: Robot, start, end, known: dict | None = None, arc=False):
     """Yield the paths tried from `start` to `end`, the likeliest to clear first, each made
     only when asked for: the arc between the lanes where it fits, then the shortest
     forward path and the shortest one backing up; where no arc fits (turning round, mostly)
-    the one backing up first. The same paths whatever the order (see `paths_tried`)."""
+    the one backing up first. The same paths whatever the order (see `paths_tried`).
+    `arc`, where given, is ``fillet(start, end, robot.turn_radius)``."""
     radius = robot.turn_radius
     made = {}
 
@@ -169,7 +230,8 @@ def _tries(robot: Robot, start, end, known: dict | None = None):
         same = (path.word, path.lengths) == (forward().word, forward().lengths)
         return None if same else path
 
-    arc = fillet(start, end, radius)
+    if arc is False:
+        arc = fillet(start, end, radius)
     order = [lambda: arc, forward, backing] if arc is not None else [backing, forward]
     for make in order:
         if make is backing and not robot.reverse:
@@ -270,24 +332,31 @@ def car_gaps(robot: Robot, field, manoeuvres, floor=None) -> np.ndarray:
     best = np.full(len(manoeuvres), -np.inf)
     going = list(range(len(manoeuvres)))
     known = {}                        # the polylines' lengths, measured once
+    _measure_all([coords for _, arrive, leave in manoeuvres for coords in (arrive, leave)],
+                 known)
     # the nearer poses first, for all manoeuvres at once; farther ones where they fail; at
     # each distance a round per path, the likeliest first, each where the earlier failed.
     # A manoeuvre is possible when any path clears, and a refused one has tried them all,
     # so the order changes neither the answer nor the figure reported (each path's value
     # is its own, whichever others are judged beside it)
     for step in range(len(CAR_REACH)):
-        tries, still = {}, []
+        still, pairs = [], []
         for index in going:
             if best[index] >= robot.margin - 1e-9:
                 continue
             here, arrive, leave = manoeuvres[index]
-            poses = _end_poses(robot, np.asarray(here, float), arrive, leave, step, known)
+            poses = _end_poses(robot, np.asarray(here, float).tolist(), arrive, leave, step,
+                               known)
             if poses is None:
                 continue
             still.append(index)
             if poses:
-                tries[index] = _tries(robot, *poses, known)
+                pairs.append((index, poses))
         going = still
+        arcs = fillets([poses[0] for _, poses in pairs], [poses[1] for _, poses in pairs],
+                       robot.turn_radius)
+        tries = {index: _tries(robot, *poses, known, arc)
+                 for (index, poses), arc in zip(pairs, arcs)}
         while tries:
             paths, owner = [], []
             for index in list(tries):
