@@ -56,6 +56,7 @@ import math
 import numpy as np
 import shapely
 
+from clearway.collector import paused_collector
 from clearway.roadmap import reeds_shepp
 from clearway.roadmap.body import MAX_STEP_ANGLE, core, move_gaps, place, reach
 from clearway.roadmap.dubins import DubinsPath, poses_of, shortest_path
@@ -320,6 +321,9 @@ def _nearby(known: np.ndarray, at: np.ndarray, xy: np.ndarray, room: np.ndarray)
     return result
 
 
+# tens of thousands of short-lived paths, poses and lists: the cyclic collector's passes
+# would rescan the build's long-lived objects again and again (nothing here makes a cycle)
+@paused_collector()
 def car_gaps(robot: Robot, field, manoeuvres, floor=None) -> np.ndarray:
     """For each manoeuvre (here, arriving polyline, leaving polyline; local frame, the
     polylines leaving `here`), the best gap beside the body over the paths tried, metres:
