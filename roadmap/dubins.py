@@ -116,7 +116,7 @@ class DubinsPath:
     @property
     def length(self) -> float:
         """Driven length, metres."""
-        return self.radius * sum(abs(length) for length in self.lengths)
+        return self.radius * sum(map(abs, self.lengths))
 
     def poses(self, *, step: float = ARC_STEP) -> np.ndarray:
         """Poses along the path, (N, 3): x, y, heading; arcs every `step` radians at most,
