@@ -491,9 +491,11 @@ def wall_regions(lines, rings, fills, *, gap_tolerance, max_wall_thickness, nomi
 def filled_regions(lines, rings, fills, *, gap_tolerance, nominal_thickness):
     """Return the area racking, keep-out or shared-zone linework covers, metres.
 
-    Closed shapes are filled; open lines that together enclose faces fill those faces;
-    open lines that enclose nothing and lie outside every filled area become bands
-    `nominal_thickness` wide.
+    Closed shapes are filled; open lines that together enclose faces, alone or with the
+    outlines of closed shapes they reach, fill those faces (a rack row drawn as two beam
+    lines between upright frames drawn as rectangles: each bay is closed by two beams and
+    two frames); open lines that enclose nothing and lie outside every filled area become
+    bands `nominal_thickness` wide.
     """
     rings = np.asarray(rings, dtype=object)
     polygons = shapely.make_valid(shapely.polygons(rings)) if len(rings) else rings
@@ -503,6 +505,11 @@ def filled_regions(lines, rings, fills, *, gap_tolerance, nominal_thickness):
         lines = lines[~covered(lines, area)]
     if not len(lines):
         return area
+    if len(polygons):
+        _, reached = shapely.STRtree(polygons).query(lines, predicate="dwithin",
+                                                     distance=max(gap_tolerance, 1e-9))
+        outlines = shapely.get_parts(shapely.boundary(polygons[np.unique(reached)]))
+        lines = np.concatenate([lines, outlines])
     edges = node_lines(lines, gap_tolerance=gap_tolerance)
     faces = shapely.get_parts(shapely.polygonize(edges))
     filled = union_polygons(np.concatenate([faces, [area]]))

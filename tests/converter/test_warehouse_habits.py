@@ -312,3 +312,38 @@ def test_back_to_back_bays_as_one_rectangle_keep_a_metre_header(tmp_path):
     plan = read_floorplan(save(doc, tmp_path))
     # common practice: two 1.1 m bays and a 0.1 m flue, 2.3 m deep as drawn
     assert plan.units == "m", plan.unit_note
+
+
+@pytest.mark.parametrize("frames", ["polylines", "blocks"])
+@pytest.mark.parametrize("beams", ["row", "bay"])
+def test_beam_lines_between_upright_frames_fill_the_bays(tmp_path, frames, beams):
+    """Racking drawn as a rack maker draws it: each upright frame a narrow rectangle across the
+    row (0.1 m x 1.1 m, here also as a block), the beams as open lines along both faces, one
+    line per row or one per bay. Every bay is closed by two beams and two frames: it is
+    racking, not a 2.6 m x 1.1 m room of floor inside each row. common practice"""
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 30, 20)  # 0.2 m walls
+    frame = doc.blocks.new("UPRIGHT-FRAME")
+    frame.add_lwpolyline(rectangle(0, 0, 0.1, 1.1), close=True)
+    rows, bays, pitch = (4.0, 9.0, 14.0), 9, 2.7  # 9 bays: 10 frames 2.7 m apart
+    for y in rows:
+        xs = [3.0 + pitch * k for k in range(bays + 1)]
+        for x in xs:
+            if frames == "blocks":
+                msp.add_blockref("UPRIGHT-FRAME", (x, y), dxfattribs={"layer": "RACKING"})
+            else:
+                msp.add_lwpolyline(rectangle(x, y, x + 0.1, y + 1.1), close=True,
+                                   dxfattribs={"layer": "RACKING"})
+        spans = [(xs[0], xs[-1] + 0.1)] if beams == "row" else [
+            (x0 + 0.1, x1) for x0, x1 in zip(xs[:-1], xs[1:])]
+        for x0, x1 in spans:
+            for face in (y, y + 1.1):
+                msp.add_line((x0, face), (x1, face), dxfattribs={"layer": "RACKING"})
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: the hall inside its walls (29.6 m x 19.6 m) less three rows of
+    # (9 x 2.7 + 0.1) m x 1.1 m
+    row = (bays * pitch + 0.1) * 1.1
+    assert plan.free_space.area == pytest.approx(29.6 * 19.6 - len(rows) * row, rel=1e-6)
+    assert not plan.free_space.intersects(shapely.Point(3.0 + 1.4, 4.55))  # mid first bay
+    assert len(shapely.get_parts(plan.free_space)) == 1
