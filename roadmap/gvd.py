@@ -43,6 +43,8 @@ BEND = 0.035
 CORNER_REACH = 0.75
 #: Vertices are merged when they agree to this grid after correction, metres.
 MERGE_GRID = 1e-5
+#: Vertices corrected together; the arithmetic is per vertex, so any chunk gives the same bits.
+CHUNK = 32_768
 
 
 @dataclass(frozen=True)
@@ -170,26 +172,41 @@ def adaptive_samples(segments, previous, following, step: float, *, coarse: floa
     return fine, owner[fine_owner], fine_successor
 
 
-def _nearest_on(points, start, end):
-    """Nearest point on segments start-end (K, 2) to points (K, 2) and its distance."""
-    direction = end - start
-    length2 = (direction * direction).sum(axis=1)
+def _features(segments, previous, following, owner):
+    """The segment `owner` (K,) and its two ring neighbours, as the columns the distance needs.
+
+    Returns three tuples, one per segment: start x, start y, direction x, direction y and
+    squared length, each (K,) float ndarray, metres (m² for the last).
+    """
+    features = []
+    for index in (owner, previous[owner], following[owner]):
+        start = segments[index, 0]
+        direction = segments[index, 1] - start
+        dx, dy = direction[:, 0].copy(), direction[:, 1].copy()
+        features.append((start[:, 0].copy(), start[:, 1].copy(), dx, dy, dx * dx + dy * dy))
+    return features
+
+
+def _nearest_on(px, py, feature):
+    """Nearest point (x, y) on the segments of `feature` (see :func:`_features`) to the
+    points (px, py), each (K,), and its distance (K,)."""
+    sx, sy, dx, dy, length2 = feature
     with np.errstate(divide="ignore", invalid="ignore"):
-        t = np.clip(((points - start) * direction).sum(axis=1) / length2, 0.0, 1.0)
+        t = np.clip(((px - sx) * dx + (py - sy) * dy) / length2, 0.0, 1.0)
     t = np.where(length2 > 0, t, 0.0)
-    nearest = start + t[:, None] * direction
-    return nearest, np.hypot(*(points - nearest).T)
+    nx, ny = sx + t * dx, sy + t * dy
+    return nx, ny, np.hypot(px - nx, py - ny)
 
 
-def _feature_distance(points, segments, previous, following, owner):
-    """Distance from points (K, 2) to the segment `owner` (K,) and its two ring neighbours."""
-    best_point, best = _nearest_on(points, segments[owner, 0], segments[owner, 1])
-    for other in (previous[owner], following[owner]):
-        near, dist = _nearest_on(points, segments[other, 0], segments[other, 1])
+def _feature_distance(px, py, features):
+    """Nearest point (x, y) and distance from the points (px, py) to three `features`."""
+    bx, by, best = _nearest_on(px, py, features[0])
+    for feature in features[1:]:
+        nx, ny, dist = _nearest_on(px, py, feature)
         closer = dist < best
         best = np.where(closer, dist, best)
-        best_point = np.where(closer[:, None], near, best_point)
-    return best_point, best
+        bx, by = np.where(closer, nx, bx), np.where(closer, ny, by)
+    return bx, by, best
 
 
 def _pseudo_inverse(matrices: np.ndarray) -> np.ndarray:
@@ -226,19 +243,34 @@ def correct_vertices(centres, generators, segments, previous, following, *,
     corrected : (K, 2) float ndarray
     clearance : (K,) float ndarray, the smallest of the three feature distances, metres
     """
+    corrected, clearance = np.empty_like(centres), np.empty(len(centres))
+    for low in range(0, len(centres), CHUNK):   # each vertex on its own: chunks stay in cache
+        part = slice(low, low + CHUNK)
+        corrected[part], clearance[part] = _correct(
+            centres[part], [_features(segments, previous, following, generators[part, k])
+                            for k in range(3)], iterations, max_move)
+    return corrected, clearance
+
+
+def _correct(centres, features, iterations, max_move):
+    """correct_vertices on one chunk; `features` per generator from :func:`_features`."""
     current = centres.copy()
     for _ in range(iterations):
-        near, dist = zip(*(_feature_distance(current, segments, previous, following,
-                                             generators[:, k]) for k in range(3)))
-        units = [(current - q) / np.maximum(d, 1e-12)[:, None] for q, d in zip(near, dist)]
+        px, py = current[:, 0].copy(), current[:, 1].copy()
+        near = [_feature_distance(px, py, feature) for feature in features]
+        dist = [d for _, _, d in near]
+        units = []
+        for qx, qy, d in near:
+            scale = np.maximum(d, 1e-12)
+            units.append(np.stack([(px - qx) / scale, (py - qy) / scale], axis=1))
         jacobian = np.stack([units[0] - units[1], units[0] - units[2]], axis=1)
         residual = np.stack([dist[0] - dist[1], dist[0] - dist[2]], axis=1)
         update = np.einsum("kij,kj->ki", _pseudo_inverse(jacobian), residual)
         current = current - np.nan_to_num(update)
     moved = np.hypot(*(current - centres).T)
     current = np.where((moved <= max_move)[:, None], current, centres)
-    _, dist = zip(*(_feature_distance(current, segments, previous, following,
-                                      generators[:, k]) for k in range(3)))
+    px, py = current[:, 0].copy(), current[:, 1].copy()
+    dist = [_feature_distance(px, py, feature)[2] for feature in features]
     return current, np.minimum(np.minimum(dist[0], dist[1]), dist[2])
 
 
