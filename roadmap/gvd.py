@@ -274,6 +274,30 @@ def _correct(centres, features, iterations, max_move):
     return current, np.minimum(np.minimum(dist[0], dist[1]), dist[2])
 
 
+def unique_rows(pairs: np.ndarray):
+    """The first index of each distinct row of `pairs` (N, 2) int, rows in sorted order,
+    and each row's place among them: ``np.unique(pairs, axis=0, return_index=True,
+    return_inverse=True)[1:]``, through one int64 key a row (one 1-D sort, several times
+    faster than sorting rows; the same stable order).
+
+    Examples
+    --------
+    >>> first, inverse = unique_rows(np.array([[2, -1], [0, 5], [2, -1], [0, 4]]))
+    >>> first.tolist(), inverse.tolist()
+    ([3, 1, 0], [2, 1, 2, 0])
+    """
+    pairs = np.asarray(pairs)
+    if len(pairs):
+        low, high = pairs.min(axis=0).tolist(), pairs.max(axis=0).tolist()
+        span = high[1] - low[1] + 1
+        if (high[0] - low[0] + 1) * span < 2 ** 63:
+            key = (pairs[:, 0] - low[0]) * span + (pairs[:, 1] - low[1])
+            _, first, inverse = np.unique(key, return_index=True, return_inverse=True)
+            return first, inverse.ravel()
+    _, first, inverse = np.unique(pairs, axis=0, return_index=True, return_inverse=True)
+    return first, inverse.ravel()
+
+
 def medial_axis(free_space, *, step: float = 0.25, coarse: float | None = None,
                 seed: int = 0) -> MedialAxis:
     """Return the sampled medial axis of `free_space` (every clearance, not yet restricted).
@@ -334,15 +358,14 @@ def medial_axis(free_space, *, step: float = 0.25, coarse: float | None = None,
     corrected, clearance = correct_vertices(centres[used], owner[simplices[used]],
                                             segments, previous, following)
     key = np.round(corrected / MERGE_GRID).astype(np.int64)
-    unique_key, first, merged = np.unique(key, axis=0, return_index=True, return_inverse=True)
-    merged = merged.ravel()
+    first, merged = unique_rows(key)
     compact = np.full(len(simplices), -1, dtype=np.int64)
     compact[used] = merged
     edges = np.sort(np.stack([compact[tri], compact[other]], axis=1), axis=1)
     edges = edges[edges[:, 0] != edges[:, 1]]
-    edges = np.unique(edges, axis=0) if len(edges) else edges.reshape(0, 2)
+    edges = edges[unique_rows(edges)[0]] if len(edges) else edges.reshape(0, 2)
     vertices = corrected[first]
-    best = np.full(len(unique_key), np.inf)
+    best = np.full(len(first), np.inf)
     np.minimum.at(best, merged, clearance)
     return MedialAxis(vertices, best, edges)
 
