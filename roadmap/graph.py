@@ -27,6 +27,8 @@ import numpy as np
 from scipy.sparse import coo_array
 from scipy.sparse.csgraph import connected_components, depth_first_order
 
+from clearway.roadmap.gvd import unique_rows
+
 #: Vertices closer than this are merged, metres.
 MERGE_TOLERANCE = 1e-3
 #: A leaf lane is a spur when its clearance falls by at least SPUR_SLOPE metres per metre
@@ -78,7 +80,8 @@ def contract_short_edges(vertices, clearance, edges, tolerance: float = MERGE_TO
     np.minimum.at(merged_clearance, label, clearance)
     new_edges = np.sort(label[edges], axis=1)
     new_edges = new_edges[new_edges[:, 0] != new_edges[:, 1]]
-    new_edges = np.unique(new_edges, axis=0) if len(new_edges) else new_edges.reshape(0, 2)
+    new_edges = new_edges[unique_rows(new_edges)[0]] if len(new_edges) \
+        else new_edges.reshape(0, 2)
     return merged, merged_clearance, new_edges
 
 
@@ -253,7 +256,8 @@ def prune_spurs(vertices, clearance, edges, *, protected=None, slope: float = SP
                                             (degree == 1) & ~protected, slope, probe))
         if not len(doomed):
             break
-        drop = np.unique(_lane_edges(chains, doomed), axis=0)
+        drop = _lane_edges(chains, doomed)
+        drop = drop[unique_rows(drop)[0]]
         dirty = np.zeros(count, dtype=bool)
         dirty[drop] = True
         _, label = connected_components(_adjacency(count, alive), directed=False)

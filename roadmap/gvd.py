@@ -285,13 +285,17 @@ def unique_rows(pairs: np.ndarray):
     >>> first, inverse = unique_rows(np.array([[2, -1], [0, 5], [2, -1], [0, 4]]))
     >>> first.tolist(), inverse.tolist()
     ([3, 1, 0], [2, 1, 2, 0])
+    >>> unique_rows(np.array([[0, 70000], [70000, 0]], dtype=np.int32))[0].tolist()
+    [0, 1]
     """
     pairs = np.asarray(pairs)
     if len(pairs):
         low, high = pairs.min(axis=0).tolist(), pairs.max(axis=0).tolist()
         span = high[1] - low[1] + 1
         if (high[0] - low[0] + 1) * span < 2 ** 63:
-            key = (pairs[:, 0] - low[0]) * span + (pairs[:, 1] - low[1])
+            # in int64 whatever the rows' type: an int32 product would wrap round
+            key = (pairs[:, 0].astype(np.int64) - low[0]) * span + \
+                (pairs[:, 1].astype(np.int64) - low[1])
             _, first, inverse = np.unique(key, return_index=True, return_inverse=True)
             return first, inverse.ravel()
     _, first, inverse = np.unique(pairs, axis=0, return_index=True, return_inverse=True)
