@@ -22,6 +22,12 @@ from scipy.spatial import Delaunay
 STRIP_POINTS = 300_000
 #: First margin of each strip, metres.
 MARGIN = 8.0
+#: scipy's options for 2-D Delaunay ("Qbb Qc Qz Q12", with "Qt") plus "Q5": Qhull then
+#: skips its last pass, which measures how far each point lies above the facets (the outer
+#: planes; for its precision report and its list of near-coplanar points, none here after
+#: the jitter). The triangles and neighbours are the same, bit for bit, on the suite and
+#: sample drawings; Qhull takes about 15 % less time (433,000 samples: 6.3 -> 5.3 s CPU).
+QHULL_OPTIONS = "Qbb Qc Qz Q12 Qt Q5"
 
 
 def circumcircles(points: np.ndarray, simplices: np.ndarray):
@@ -75,7 +81,7 @@ def triangulate(points: np.ndarray, free_space=None, *, strip_points: int = STRI
         None when `neighbours` is false.
     """
     if len(points) <= 2 * strip_points or free_space is None:
-        triangulation = Delaunay(points)
+        triangulation = Delaunay(points, qhull_options=QHULL_OPTIONS)
         return triangulation.simplices, triangulation.neighbors
     axis = int(np.argmax(np.ptp(points, axis=0)))
     along = points[:, axis]
@@ -86,7 +92,8 @@ def triangulate(points: np.ndarray, free_space=None, *, strip_points: int = STRI
         margin = MARGIN
         while True:
             members = np.flatnonzero((along >= low - margin) & (along <= high + margin))
-            simplices = members[Delaunay(points[members]).simplices]
+            simplices = members[Delaunay(points[members],
+                                               qhull_options=QHULL_OPTIONS).simplices]
             centre, radius = circumcircles(points, simplices)
             mine = (centre[:, axis] >= low) & (centre[:, axis] < high)
             inside_band = (centre[:, axis] - radius >= low - margin) & \
