@@ -80,13 +80,7 @@ def hulls(robot: Robot, a_xy, a_heading, b_xy, b_heading) -> np.ndarray:
 
 def gaps(field, geometry) -> np.ndarray:
     """Exact distance from each geometry to the free space's boundary, metres, shape (N,)."""
-    if len(geometry) == 0:
-        return np.zeros(0)
-    found, distance = field.tree.query_nearest(geometry, return_distance=True,
-                                               all_matches=False)
-    result = np.full(len(geometry), np.inf)
-    result[found[0]] = distance
-    return result
+    return field.distance_to(geometry)
 
 
 def reach(robot: Robot) -> tuple[float, float]:
