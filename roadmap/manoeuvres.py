@@ -524,18 +524,23 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
         # refuses the path, as in stage 1 (a forward U-turn swinging into the racking)
         outline = _outline(robot)
         at = np.unique(np.r_[move[tight], move[tight] + 1])
-        at = at[high[np.searchsorted(first, at, side="right") - 1] >= margin]
+        path_of_at = np.searchsorted(first, at, side="right") - 1
+        at, path_of_at = at[high[path_of_at] >= margin], path_of_at[high[path_of_at] >= margin]
         # where the footprint's centre is farther than its half diagonal from the floor's
         # edge (the field's segments), the whole outline is on the centre's side of it
         alone = centre_room[at] > circum + NEARBY_SLACK
-        inside = np.empty(len(at), bool)
-        inside[alone] = shapely.contains_xy(floor, points[1][at[alone]])
-        rest = at[~alone]
-        inside[~alone] = shapely.contains_xy(floor, place(outline, every[rest, :2],
-                                                          every[rest, 2]).reshape(-1, 2)) \
-            .reshape(len(rest), len(outline)).all(axis=1)
-        np.minimum.at(high, np.searchsorted(first, at[~inside], side="right") - 1,
-                      0.0 - extra)
+        off = np.zeros(len(paths), bool)
+        off[path_of_at[alone][~shapely.contains_xy(floor, points[1][at[alone]])]] = True
+        # the corners first, the rest of the outline only on the paths they leave on the
+        # floor: one point off refuses a path, whichever point it is
+        corner = (outline[:, None] == core(robot)[0][None]).all(axis=2).any(axis=1)
+        for part in (np.flatnonzero(corner), np.flatnonzero(~corner)):
+            some = np.flatnonzero(~alone & ~off[path_of_at])
+            out = ~shapely.contains_xy(floor, place(outline[part], every[at[some], :2],
+                                                    every[at[some], 2]).reshape(-1, 2)) \
+                .reshape(len(some), len(part)).all(axis=1)
+            off[path_of_at[some[out]]] = True
+        np.minimum.at(high, np.flatnonzero(off), 0.0 - extra)
         left = settle(bound)
         tight = np.flatnonzero(left[path_of_move] & (bound < margin))
     # stage 3: discs covering the footprint and its corners, at the poses of the moves
