@@ -41,7 +41,10 @@ class EdgeSamples:
 
 def _cut(coords: np.ndarray, cuts: list[tuple[float, np.ndarray]]):
     """Split polyline `coords` (n, 2) at distances along it; each cut point is given."""
-    along = np.r_[0.0, np.cumsum(np.hypot(*np.diff(coords, axis=0).T))]
+    step = coords[1:] - coords[:-1]
+    along = np.concatenate(([0.0], np.cumsum(np.hypot(step[:, 0], step[:, 1]))))
+    if not cuts and (along[1:] > 0.0).all():
+        return [np.array(coords)]          # what the loop below gives: every point, in order
     pieces, start, current = [], 0.0, coords[:1]
     for distance, point in cuts:
         inner = coords[(along > start) & (along < distance)]
