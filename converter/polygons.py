@@ -581,6 +581,41 @@ def pieces_near_edge(walls, area, reach):
     return shapely.multipolygons(pieces[keep])
 
 
+#: A pocket of the walls' outline that the closing fills whole is floor, not a notch in the
+#: facade, when it is at least POCKET_DEPTH times as deep as its mouths are wide, no wider
+#: than POCKET_MAX_WIDTH, and each mouth spans at least POCKET_MOUTH_SPAN of its width: a
+#: corridor whose end is open with nothing drawn across it. An entrance recess or the bays
+#: between pilasters are shallower, a courtyard is wider, and a space whose openings are
+#: slits at its tapering ends (the wedge under a roof drawn in a section) is no corridor.
+POCKET_DEPTH = 3.0
+POCKET_MAX_WIDTH = 4.0
+POCKET_MOUTH_SPAN = 0.8
+
+
+def _deep_pockets(closed, base, min_area):
+    """Return [(x, y, mouth width), ...] and the pockets of `closed` outside `base` that are
+    deep and narrow like a corridor (POCKET_DEPTH, POCKET_MAX_WIDTH, POCKET_MOUTH_SPAN),
+    metres."""
+    parts = shapely.get_parts(shapely.difference(closed, base))
+    parts = parts[shapely.area(parts) >= min_area]
+    leaks, pockets = [], []
+    for part in parts:
+        near = shapely.intersection(base, shapely.buffer(shapely.envelope(part), 0.01))
+        mouths = shapely.get_parts(shapely.line_merge(shapely.difference(
+            shapely.boundary(part), shapely.buffer(near, 1e-4))))
+        spans = shapely.length(mouths)
+        if not len(mouths) or part.area < POCKET_DEPTH * spans.sum() ** 2:
+            continue
+        width = 2.0 * shapely.maximum_inscribed_circle(part, 1e-3).length
+        if width > POCKET_MAX_WIDTH or spans.min() < POCKET_MOUTH_SPAN * width:
+            continue
+        middles = shapely.line_interpolate_point(mouths, 0.5, normalized=True)
+        leaks += [(float(middle.x), float(middle.y), float(span))
+                  for middle, span in zip(middles, spans)]
+        pockets.append(part)
+    return leaks, pockets
+
+
 def find_leaks(walls, enclosed, *, widths=LEAK_WIDTHS, min_area=1.0):
     """Find gaps in the walls through which the building's floor escapes to the outside.
 
@@ -588,6 +623,8 @@ def find_leaks(walls, enclosed, *, widths=LEAK_WIDTHS, min_area=1.0):
     The area this newly encloses at the largest w is the floor that escaped; the smallest w
     that seals most of it (90 %) finds the gaps: the closing patches touching both that floor
     and the outside. Patches filling the outside corners of the walls touch no floor.
+    Floor the closing fills itself, a pocket deep and narrow like a corridor open at its end
+    (`_deep_pockets`), escaped too: its mouth is a gap.
 
     Returns
     -------
@@ -612,11 +649,11 @@ def find_leaks(walls, enclosed, *, widths=LEAK_WIDTHS, min_area=1.0):
     if outer is not None:
         closed, sealed = sealed_at(widths[-1], outer)[1:]
         if shapely.difference(sealed, shapely.union_all([closed, base])).area < min_area:
-            return [], base
+            return _with_pockets([], base, closed, min_area)
     last_closed, last_sealed = sealed_at(widths[-1])[1:]
     escaped = shapely.difference(last_sealed, shapely.union_all([last_closed, base]))
     if escaped.area < min_area:
-        return [], base
+        return _with_pockets([], base, last_closed, min_area)
     sealed_by_width = [sealed_at(width) for width in widths[:-1]] + \
         [(widths[-1], last_closed, last_sealed)]
     outside = shapely.difference(shapely.envelope(walls).buffer(max(widths) * 2.0), base)
@@ -637,5 +674,13 @@ def find_leaks(walls, enclosed, *, widths=LEAK_WIDTHS, min_area=1.0):
             span = shapely.length(shapely.intersection(grown, inner_edge))
             centre = patch.centroid
             leaks.append((float(centre.x), float(centre.y), float(span)))
-        return sorted(leaks), as_multipolygon(sealed)
-    return [], base
+        return _with_pockets(leaks, as_multipolygon(sealed), last_closed, min_area)
+    return _with_pockets([], base, last_closed, min_area)
+
+
+def _with_pockets(leaks, sealed, closed, min_area):
+    """`leaks` and `sealed` with the deep pockets of `closed` outside `sealed` added."""
+    more, pockets = _deep_pockets(closed, fill_holes(sealed), min_area)
+    if not pockets:
+        return sorted(leaks), sealed
+    return sorted(leaks + more), as_multipolygon(shapely.union_all([sealed, *pockets]))

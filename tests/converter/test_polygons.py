@@ -317,6 +317,73 @@ def test_leak_search_with_columns_deep_inside_matches_the_search_over_every_piec
         assert leaks == [] and sealed.area == pytest.approx(200 * 120 + 30 * 40, rel=1e-9)
 
 
+
+def _corridor_wing(msp, mouths=("west",)):
+    """A 30 x 12 m wing of 0.2 m walls (each wall piece a closed rectangle) with a corridor
+    1.6 m clear from west to east between closed rooms; the corridor's ends named in
+    `mouths` are open to the outside, nothing drawn across them."""
+    pieces = [(0, 0, 30, 0.2), (0, 11.8, 30, 12),
+              (0.2, 4.9, 29.8, 5.1), (0.2, 6.7, 29.8, 6.9)]  # corridor walls
+    for x0, end in ((0, "west"), (29.8, "east")):
+        pieces += [(x0, 0, x0 + 0.2, 5.1), (x0, 6.7, x0 + 0.2, 12)] if end in mouths else [
+            (x0, 0, x0 + 0.2, 12)]
+    for x0, y0, x1, y1 in pieces:
+        msp.add_lwpolyline(rectangle(x0, y0, x1, y1), close=True, dxfattribs={"layer": "A-WALL"})
+
+
+@pytest.mark.parametrize("mouths", [("west",), ("west", "east")])
+def test_a_corridor_open_at_its_end_is_floor_with_its_mouth_a_leak(tmp_path, mouths):
+    """A corridor whose end is left open (an entrance with nothing drawn in it, flush with
+    the corridor's walls) is as narrow as the gap it opens through: every closing that
+    seals the gap fills the corridor too. It is floor, and its mouths are reported."""
+    doc = new_drawing(6)
+    _corridor_wing(doc.modelspace(), mouths)
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: each mouth spans y 5.1 to 6.7 in its end wall's line (x 0 to 0.2, 29.8 to 30)
+    expected = [(0.0, 5.9, 1.6), (30.0, 5.9, 1.6)][:len(mouths)]
+    assert [(leak.x, leak.y, leak.width) for leak in plan.leaks] == [
+        pytest.approx(leak, abs=0.21) for leak in expected]
+    assert plan.free_space.contains(shapely.Point(15.0, 5.9))
+    # analytic: the wing's floor inside its walls, less the two corridor walls, plus each
+    # mouth's 0.2 m x 1.6 m through its wall line (sealed at the wall's outer face)
+    closed = new_drawing(6)
+    _corridor_wing(closed.modelspace(), ())
+    closed = read_floorplan(save(closed, tmp_path, "closed.dxf"))
+    assert closed.leaks == ()
+    floor = 29.6 * 11.6 - 2 * 29.6 * 0.2
+    assert closed.free_space.area == pytest.approx(floor, rel=1e-9)
+    assert plan.free_space.area == pytest.approx(floor + len(mouths) * 0.2 * 1.6, rel=1e-3)
+
+
+@pytest.mark.parametrize("outline", ["pilasters", "entrance recess", "courtyard"])
+def test_notches_in_a_facade_are_not_floor(outline):
+    """What a closing also fills but is outside: the bays between pilasters (0.4 m deep,
+    5.6 m wide), an entrance recess (3 m wide, 2 m deep) and a U-shaped building's
+    courtyard (6 m wide, 20 m deep). None is reported, none joins the floor."""
+    from clearway.converter.polygons import find_leaks
+    outer, inner = shapely.box(0, 0, 40, 30), shapely.box(0.3, 0.3, 39.7, 29.7)
+    if outline == "pilasters":
+        walls = shapely.union_all([outer.difference(inner)] + [
+            shapely.box(x, -0.4, x + 0.4, 0) for x in np.arange(0.0, 40.1, 6.0)])
+    elif outline == "entrance recess":
+        notch = shapely.box(18.5, -0.1, 21.5, 2.0)
+        walls = shapely.union_all([outer.difference(inner).difference(notch),
+                                   notch.buffer(0.3, join_style="mitre").difference(notch)
+                                   .intersection(shapely.box(0, 0, 40, 30))])
+        inner = inner.difference(notch.buffer(0.3, join_style="mitre"))
+    else:
+        court = shapely.box(17, -0.1, 23, 20)
+        walls = shapely.union_all([outer.difference(inner).difference(court),
+                                   court.buffer(0.3, join_style="mitre").difference(court)
+                                   .intersection(shapely.box(0, 0, 40, 30))])
+        inner = inner.difference(court.buffer(0.3, join_style="mitre"))
+    enclosed = shapely.union_all([inner, walls])
+    leaks, sealed = find_leaks(walls, enclosed)
+    assert leaks == []
+    # analytic: the building's own outline, nothing added
+    assert sealed.area == pytest.approx(shapely.union_all([inner, walls]).area, rel=1e-9)
+
+
 def _random_runs(rng, runs, *, rows=3):
     """Runs of rack bays (1 to `rows` rows of 1 to 12 bays, now and then a cell left out: a
     notch, or a hole in a 3 x 3 block), apart from each other, in shuffled order."""
