@@ -525,7 +525,8 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
         outline = _outline(robot)
         at = np.unique(np.r_[move[tight], move[tight] + 1])
         path_of_at = np.searchsorted(first, at, side="right") - 1
-        at, path_of_at = at[high[path_of_at] >= margin], path_of_at[high[path_of_at] >= margin]
+        keep = high[path_of_at] >= margin
+        at, path_of_at = at[keep], path_of_at[keep]
         # where the footprint's centre is farther than its half diagonal from the floor's
         # edge (the field's segments), the whole outline is on the centre's side of it
         alone = centre_room[at] > circum + NEARBY_SLACK
