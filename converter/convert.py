@@ -226,7 +226,7 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
     regions = {"wall": interior.walls}
     for role in ("racking", "keepout", "shared"):
         regions[role] = filled_regions(*geometry(role), nominal_thickness=nominal_wall_thickness,
-                                       **common)
+                                       posts=role == "racking", **common)
     if by_role["stair"]:  # stairs are impassable: they join the keep-out areas
         stairs = filled_regions(*geometry("stair"), nominal_thickness=nominal_wall_thickness,
                                 **common)

@@ -155,6 +155,10 @@ def _coverage_union_by_group(polygons, *, min_groups=16, min_size=4):
     return shapely.multipolygons(merged)                 # in the order of the first members
 
 
+#: Metres; far above the rounding error of a computed midpoint, far below any drawn detail.
+MIDPOINT_SLACK = 1e-6
+
+
 def covered(geometries, area, *, pieces=None):
     """Return which of `geometries` `area` covers, shape (N,): ``shapely.covered_by``.
 
@@ -174,6 +178,10 @@ def covered(geometries, area, *, pieces=None):
     ...          shapely.LineString([(1, 1), (5, 1)])]
     >>> covered(lines, room, pieces=tiles).tolist()
     [True, True, False]
+    >>> along_edge = shapely.LineString([(0, 0), (4, 0)])
+    >>> touching = shapely.LineString([(4, 0), (6, 0)])
+    >>> covered([along_edge, touching], room).tolist()
+    [True, False]
     """
     geometries = np.asarray(geometries, dtype=object)
     result = np.zeros(len(geometries), dtype=bool)
@@ -186,6 +194,15 @@ def covered(geometries, area, *, pieces=None):
         was_prepared = shapely.is_prepared(area)
         shapely.prepare(area)
         try:
+            # a line whose midpoint lies clearly outside is not covered: settled by one point
+            # test (the full relation of a line that only touches `area` costs about its
+            # size); "clearly": a line along the edge of `area` has its computed midpoint a
+            # rounding error off it, perhaps outside
+            line = shapely.get_type_id(geometries[rest]) == 1
+            middle = shapely.line_interpolate_point(geometries[rest[line]], 0.5, normalized=True)
+            outside = np.zeros(len(rest), dtype=bool)
+            outside[line] = ~shapely.dwithin(area, middle, MIDPOINT_SLACK)
+            rest = rest[~outside]
             result[rest] = shapely.covers(area, geometries[rest])
         finally:
             if not was_prepared:
@@ -488,21 +505,146 @@ def wall_regions(lines, rings, fills, *, gap_tolerance, max_wall_thickness, nomi
     return solid, enclosed, loose
 
 
-def filled_regions(lines, rings, fills, *, gap_tolerance, nominal_thickness):
+#: Racking rows drawn as beam lines along both faces with the uprights as small posts
+#: between them and nothing drawn across the row: two parallel beam lines at most this far
+#: apart (metres; single rows are 0.8-1.2 m deep, back-to-back pairs drawn as one 2.2-2.6 m,
+#: common practice) with no racking line between them, and posts standing between them,
+#: fill the strip between them.
+BEAM_PAIR_DEPTH = 2.7
+#: The fewest posts (closed racking shapes that fit between the lines, no more than
+#: POST_SIZE metres across) that make a pair of beam lines a row; a post counts when it
+#: stands between the lines, level with the pair or up to POST_REACH metres beyond it.
+BEAM_PAIR_POSTS = 2
+POST_SIZE = 0.5
+POST_REACH = 0.3
+#: Lines within this angle (radians, 0.5 degree) are parallel.
+PARALLEL = 0.0087
+
+
+def beam_pairs(lines, posts, *, min_depth=0.05):
+    """Return the strips between pairs of parallel beam lines with posts between them.
+
+    A rack row drawn as two beam lines with the uprights as small squares (or circles, or
+    blocks) inside them, and no frame drawn across the row, encloses nothing, so its inside
+    would read as floor open at both ends. A pair of parallel `lines` segments
+    `min_depth` to BEAM_PAIR_DEPTH metres apart with no other segment of `lines` between
+    them, and with at least BEAM_PAIR_POSTS `posts` standing between them (centre inside the
+    band between the lines, within POST_REACH of the pair's common stretch), is a row: the
+    strip over their common stretch is returned. An aisle between two such rows has the
+    posts of both rows outside it and stays floor, however narrow.
+
+    Parameters
+    ----------
+    lines : array of LineString, metres; open racking linework
+    posts : array of Polygon, metres; closed racking shapes
+
+    Returns
+    -------
+    ndarray of Polygon
+
+    Examples
+    --------
+    >>> beams = segments([shapely.LineString([(0, 0), (10, 0)]),
+    ...                   shapely.LineString([(0, 1), (10, 1)])])
+    >>> posts = [shapely.box(x, 0, x + 0.1, 0.1) for x in (0, 5, 9.9)]
+    >>> len(beam_pairs(beams, np.array([shapely.box(4, 3, 5, 4)])))  # no posts between: an aisle
+    0
+    >>> [round(strip.area, 9) for strip in beam_pairs(beams, np.array(posts))]
+    [10.0]
+    """
+    none = np.empty(0, dtype=object)
+    posts = np.asarray(posts, dtype=object)
+    if len(lines) < 2 or not len(posts):
+        return none
+    box = shapely.bounds(posts)
+    small = posts[np.hypot(box[:, 2] - box[:, 0], box[:, 3] - box[:, 1]) <= POST_SIZE * 1.5]
+    if not len(small):
+        return none
+    lines = segments(lines)
+    # a row's beam lines have posts beside them, on one face at least
+    near_post = np.unique(shapely.STRtree(small).query(lines, predicate="dwithin",
+                                                       distance=POST_REACH)[0])
+    if not len(near_post):
+        return none
+    beside_post = np.zeros(len(lines), dtype=bool)
+    beside_post[near_post] = True
+    xy = shapely.get_coordinates(lines).reshape(-1, 2, 2)
+    a, b = xy[:, 0], xy[:, 1]
+    length = np.hypot(*(b - a).T)
+    direction = (b - a) / length[:, None]
+    normal = np.c_[-direction[:, 1], direction[:, 0]]
+    query, right = shapely.STRtree(lines).query(lines[near_post], predicate="dwithin",
+                                                distance=BEAM_PAIR_DEPTH)
+    left = near_post[query]
+    u, v = direction[left], direction[right]
+    keep = (left != right) & (np.abs(u[:, 0] * v[:, 1] - u[:, 1] * v[:, 0]) < PARALLEL)
+    left, right = left[keep], right[keep]
+    # the other line's ends on this line's axis: along (t) and across (d)
+    ta = ((a[right] - a[left]) * direction[left]).sum(axis=1)
+    tb = ((b[right] - a[left]) * direction[left]).sum(axis=1)
+    d = (((a[right] + b[right]) / 2 - a[left]) * normal[left]).sum(axis=1)
+    lo = np.maximum(0.0, np.minimum(ta, tb))
+    hi = np.minimum(length[left], np.maximum(ta, tb))
+    keep = (np.abs(d) >= min_depth) & (np.abs(d) <= BEAM_PAIR_DEPTH) & (hi - lo > POST_SIZE)
+    left, right, d, lo, hi = left[keep], right[keep], d[keep], lo[keep], hi[keep]
+    # a pair is a row only when no other line on the same side runs between over its stretch
+    # (tree queries list each line's partners together: `left` is sorted)
+    start = np.searchsorted(left, left, side="left")
+    count = np.searchsorted(left, left, side="right") - start
+    pair = np.repeat(np.arange(len(left)), count)
+    other = start[pair] + np.arange(len(pair)) - np.repeat(np.cumsum(count) - count, count)
+    inside = ((np.sign(d[other]) == np.sign(d[pair])) & (np.abs(d[other]) < np.abs(d[pair]) - 1e-6)
+              & (hi[other] > lo[pair]) & (lo[other] < hi[pair]))
+    once = (left < right) | ~beside_post[right]      # a pair of two such lines counts once
+    keep = once & (np.bincount(pair[inside], minlength=len(left)) == 0)
+    left, d, lo, hi = left[keep], d[keep], lo[keep], hi[keep]
+    if not len(left):
+        return none
+    origin, along, across = a[left], direction[left], normal[left] * d[:, None]
+    reach = _bands(origin, along, across, lo - POST_REACH, hi + POST_REACH)
+    centres = shapely.centroid(small)
+    band, post = shapely.STRtree(centres).query(reach, predicate="contains_properly")
+    posts_in = np.bincount(band, minlength=len(left))
+    # the strip runs on over the posts at its ends: beams drawn bay by bay between the
+    # posts leave no gap at each frame
+    vertices, owner = shapely.get_coordinates(small, return_index=True)
+    per_post = np.bincount(owner, minlength=len(small))
+    first = np.cumsum(per_post) - per_post
+    hit = np.repeat(np.arange(len(band)), per_post[post])
+    vertex = first[post][hit] + np.arange(len(hit)) - np.repeat(np.cumsum(per_post[post])
+                                                                 - per_post[post], per_post[post])
+    t = ((vertices[vertex] - origin[band[hit]]) * along[band[hit]]).sum(axis=1)
+    t0, t1 = lo.copy(), hi.copy()
+    np.minimum.at(t0, band[hit], t)
+    np.maximum.at(t1, band[hit], t)
+    row = posts_in >= BEAM_PAIR_POSTS
+    return _bands(origin[row], along[row], across[row], t0[row], t1[row])
+
+
+def _bands(origin, along, across, t0, t1):
+    """Rectangles from `t0` to `t1` along the unit vectors `along`, spanning `across`."""
+    start, end = origin + along * t0[:, None], origin + along * t1[:, None]
+    return shapely.polygons(np.stack([start, end, end + across, start + across], axis=1))
+
+
+def filled_regions(lines, rings, fills, *, gap_tolerance, nominal_thickness, posts=False):
     """Return the area racking, keep-out or shared-zone linework covers, metres.
 
     Closed shapes are filled; open lines that together enclose faces, alone or with the
     outlines of closed shapes they reach, fill those faces (a rack row drawn as two beam
     lines between upright frames drawn as rectangles: each bay is closed by two beams and
-    two frames); open lines that enclose nothing and lie outside every filled area become
-    bands `nominal_thickness` wide.
+    two frames); with `posts` (racking), two parallel lines with small closed shapes
+    standing between them fill the strip between them (:func:`beam_pairs`); open lines
+    that enclose nothing and lie outside every filled area become bands
+    `nominal_thickness` wide.
     """
     rings = np.asarray(rings, dtype=object)
     polygons = shapely.make_valid(shapely.polygons(rings)) if len(rings) else rings
-    area = union_polygons(np.concatenate([polygons, np.asarray(fills, dtype=object)]))
+    shapes = np.concatenate([polygons, np.asarray(fills, dtype=object)])
+    area = union_polygons(shapes)
     lines = np.asarray(lines, dtype=object)
     if len(lines) and not area.is_empty:
-        lines = lines[~covered(lines, area)]
+        lines = lines[~covered(lines, area, pieces=shapes)]
     if not len(lines):
         return area
     if len(polygons):
@@ -513,7 +655,13 @@ def filled_regions(lines, rings, fills, *, gap_tolerance, nominal_thickness):
     edges = node_lines(lines, gap_tolerance=gap_tolerance)
     faces = shapely.get_parts(shapely.polygonize(edges))
     filled = union_polygons(np.concatenate([faces, [area]]))
-    loose = edges[~covered(edges, filled)]
+    # each face and shape lies inside `filled`: most edges are settled by one of them
+    loose = edges[~covered(edges, filled, pieces=np.concatenate([faces, shapes]))]
+    if posts and len(loose) > 1 and len(polygons):
+        strips = beam_pairs(loose, polygons)
+        if len(strips):
+            filled = union_polygons(np.concatenate([strips, [filled]]))
+            loose = loose[~covered(loose, filled, pieces=strips)]
     return as_multipolygon(shapely.union_all([filled, bands(loose, nominal_thickness)]))
 
 

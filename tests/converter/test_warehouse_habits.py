@@ -347,3 +347,46 @@ def test_beam_lines_between_upright_frames_fill_the_bays(tmp_path, frames, beams
     assert plan.free_space.area == pytest.approx(29.6 * 19.6 - len(rows) * row, rel=1e-6)
     assert not plan.free_space.intersects(shapely.Point(3.0 + 1.4, 4.55))  # mid first bay
     assert len(shapely.get_parts(plan.free_space)) == 1
+
+
+@pytest.mark.parametrize("posts, beams", [("squares", "row"), ("squares", "bay"),
+                                          ("blocks", "bay"), ("circles", "row")])
+def test_beam_lines_with_upright_posts_between_them_fill_the_row(tmp_path, posts, beams):
+    """Racking drawn as beam lines along both faces with each upright a small post (a 0.1 m
+    square, a block or a round tube) standing inside them, and nothing drawn across the row
+    or at its ends: the strip between the beams is racking, not a 1.1 m corridor open at
+    both ends. A 1.3 m aisle between two such rows stays floor (its posts stand outside it),
+    and so does the 0.1 m flue of a back-to-back pair drawn as four beam lines. common
+    practice"""
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 30, 20)  # 0.2 m walls
+    post = doc.blocks.new("POST")
+    post.add_lwpolyline(rectangle(0, 0, 0.1, 0.1), close=True)
+    # two single rows 1.3 m apart, then a back-to-back pair with a 0.1 m flue
+    faces = [(4.0, 5.1), (6.4, 7.5), (11.0, 12.1), (12.2, 13.3)]
+    xs = [3.0 + 2.7 * k for k in range(10)]  # 10 frames, 9 bays 2.7 m apart
+    for front, back in faces:
+        for x in xs:
+            for y in (front, back - 0.1):
+                if posts == "blocks":
+                    msp.add_blockref("POST", (x, y), dxfattribs={"layer": "RACKING"})
+                elif posts == "circles":
+                    msp.add_circle((x + 0.05, y + 0.05), 0.05, dxfattribs={"layer": "RACKING"})
+                else:
+                    msp.add_lwpolyline(rectangle(x, y, x + 0.1, y + 0.1), close=True,
+                                       dxfattribs={"layer": "RACKING"})
+        spans = [(xs[0], xs[-1] + 0.1)] if beams == "row" else [
+            (x0 + 0.1, x1) for x0, x1 in zip(xs[:-1], xs[1:])]
+        for x0, x1 in spans:
+            for y in (front, back):
+                msp.add_line((x0, y), (x1, y), dxfattribs={"layer": "RACKING"})
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: the hall inside its walls (29.6 m x 19.6 m) less four rows of
+    # (9 x 2.7 + 0.1) m x 1.1 m; the aisle and the flue stay floor
+    row = (9 * 2.7 + 0.1) * 1.1
+    assert plan.free_space.area == pytest.approx(29.6 * 19.6 - 4 * row, rel=1e-6)
+    assert not plan.free_space.intersects(shapely.Point(3.0 + 1.4, 4.55))  # mid first bay
+    assert plan.free_space.contains(shapely.Point(15.0, 5.75))               # mid aisle
+    assert plan.free_space.contains(shapely.Point(15.0, 12.15))              # mid flue
+    assert len(shapely.get_parts(plan.free_space)) == 1
