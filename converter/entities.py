@@ -88,7 +88,13 @@ def _line(entity, tolerance, limit):
 
 
 def _lwpolyline(entity, tolerance, limit):
-    points = np.array(entity.get_points("xyseb"), dtype=float).reshape(-1, 5)
+    # ezdxf keeps the points as an (N, 5) x, y, start width, end width, bulge array, the
+    # values get_points("xyseb") returns one Python tuple at a time
+    values = getattr(getattr(entity, "lwpoints", None), "values", None)
+    if isinstance(values, np.ndarray) and values.ndim == 2 and values.shape[1] == 5:
+        points = np.array(values, dtype=float)
+    else:
+        points = np.array(entity.get_points("xyseb"), dtype=float).reshape(-1, 5)
     return polyline_parts(points, entity.closed, entity.dxf.const_width, entity.ocs(),
                           entity.dxf.elevation, tolerance, limit)
 

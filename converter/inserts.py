@@ -33,18 +33,25 @@ def scale_of(matrices):
     return scale if math.isfinite(scale) and scale > 1e-9 else 1e-9 if scale <= 1e-9 else 1e300
 
 
-def insert_matrices(insert, *, limits=None, source=""):
+def insert_matrices(insert, *, limits=None, source="", base_points=None):
     """Return the (M, 3, 2) row-vector affine matrices of an INSERT (M cells of a MINSERT).
+
+    base_points : dict, optional
+        A cache, block name -> its base point (x, y) or None, shared by the INSERTs of one
+        document: each block is looked up once instead of once per INSERT.
 
     Raises LimitError when a MINSERT has more cells than ``limits.max_entities``.
     """
     limits = limits or Limits()
-    base = _plan_matrix(insert)
+    # the attributes set on the entity, in one copy: each attribute left at its default
+    # costs ezdxf's namespace a failed lookup and a search of the definitions
+    attribs = insert.dxf.all_existing_dxf_attribs()
+    base = _plan_matrix(insert, attribs, base_points)
     if base is None:
         rows = np.array(list(insert.matrix44().rows()), dtype=float)
         base = rows[[0, 1, 3], :2]
-    row_count = max(int(insert.dxf.get("row_count", 1)), 1)
-    column_count = max(int(insert.dxf.get("column_count", 1)), 1)
+    row_count = max(int(attribs.get("row_count", 1)), 1)
+    column_count = max(int(attribs.get("column_count", 1)), 1)
     if row_count * column_count == 1:
         return base[None]
     limits.check("max_entities", row_count * column_count, subject=source,
@@ -63,28 +70,62 @@ def insert_matrices(insert, *, limits=None, source=""):
     return matrices
 
 
-def _plan_matrix(insert):
+#: DXF defaults of the INSERT attributes `_plan_matrix` reads, from ezdxf's definitions
+#: (filled on first use).
+_INSERT_DEFAULTS: dict = {}
+
+
+def _attribute(insert, attribs, key):
+    """The INSERT's attribute `key` as ``insert.dxf.key`` gives it: its value, else the
+    DXF default."""
+    if key in attribs:
+        return attribs[key]
+    if key not in _INSERT_DEFAULTS:
+        _INSERT_DEFAULTS[key] = insert.dxf.dxf_default_value(key)
+    return _INSERT_DEFAULTS[key]
+
+
+def _plan_matrix(insert, attribs, base_points=None):
     """The (3, 2) matrix of an INSERT in the plan's plane (extrusion +Z), as ezdxf's
     ``Insert.matrix44`` gives it (scale, then rotation, block base point moved onto the
-    insertion point) without its 4 x 4 algebra; None for any other extrusion."""
-    dxf = insert.dxf
-    extrusion = dxf.get("extrusion", None)
+    insertion point) without its 4 x 4 algebra; None for any other extrusion.
+
+    attribs : dict, the attributes set on the INSERT (``all_existing_dxf_attribs``)
+    base_points : dict, optional, block name -> base point (x, y) or None (a cache)
+    """
+    extrusion = attribs.get("extrusion", None)
     if extrusion is not None and (extrusion[0] != 0 or extrusion[1] != 0 or extrusion[2] <= 0):
         return None
-    angle = math.radians(dxf.rotation)
+    angle = math.radians(_attribute(insert, attribs, "rotation"))
     cos, sin = math.cos(angle), math.sin(angle)
-    xscale, yscale = float(dxf.xscale), float(dxf.yscale)
+    xscale = float(_attribute(insert, attribs, "xscale"))
+    yscale = float(_attribute(insert, attribs, "yscale"))
     x_axis, y_axis = (xscale * cos, xscale * sin), (-yscale * sin, yscale * cos)
-    x, y = float(dxf.insert[0]), float(dxf.insert[1])
-    block = insert.block()
-    if block is not None:
+    point = _attribute(insert, attribs, "insert")
+    x, y = float(point[0]), float(point[1])
+    base = _base_point(insert, base_points)
+    if base is not None:
         # plain floats, same operations in the same order as on numpy 2-vectors (whose
         # per-call overhead outweighed the arithmetic), so the matrices are bit-identical
-        base_point = block.block.dxf.base_point
-        base_x, base_y = float(base_point[0]), float(base_point[1])
+        base_x, base_y = base
         x -= base_x * x_axis[0] + base_y * y_axis[0]
         y -= base_x * x_axis[1] + base_y * y_axis[1]
     return np.array([x_axis, y_axis, (x, y)], dtype=float)
+
+
+def _base_point(insert, cache):
+    """(x, y) of the base point of the INSERT's block, None without a block."""
+    name = insert.dxf.name
+    if cache is not None and name in cache:
+        return cache[name]
+    block = insert.block()
+    base = None
+    if block is not None:
+        point = block.block.dxf.base_point
+        base = (float(point[0]), float(point[1]))
+    if cache is not None:
+        cache[name] = base
+    return base
 
 
 def attribute_label(insert, found=None):
@@ -120,6 +161,7 @@ class BlockReader:
         self.doc, self.source, self.limits, self.budget = doc, source, limits, budget
         self.block_kind = block_kind or (lambda name: None)
         self.cache, self.active, self.warnings = {}, [], []
+        self.base_points = {}  # block name -> base point, for `insert_matrices`
         self.damaged = Counter()
 
     def block_parts(self, name, tolerance):
@@ -176,7 +218,8 @@ class BlockReader:
 
     def _add(self, entity, dxftype, layer, tolerance, chunks):
         if dxftype == "INSERT":
-            matrices = insert_matrices(entity, limits=self.limits, source=self.source)
+            matrices = insert_matrices(entity, limits=self.limits, source=self.source,
+                                       base_points=self.base_points)
             child = str(entity.dxf.name)
             kind = self.block_kind(child)
             # inline rather than through placed_parts: one frame less per nesting level

@@ -135,6 +135,7 @@ def read_drawing(path, *, chord_tolerance, units=None, limits=None, block_kind=N
     chunks = defaultdict(list)
     inserts = defaultdict(list)
     damaged = Counter()
+    base_points, headings_by_axis = {}, {}
     for entity in doc.modelspace():
         if not entity.is_alive:
             continue
@@ -142,7 +143,8 @@ def read_drawing(path, *, chord_tolerance, units=None, limits=None, block_kind=N
         content.counts[layer][dxftype] += 1
         content.layer_states.setdefault(layer, (False, False))
         with lenient(source, limits, dxftype, layer, damaged, (layer, dxftype)):
-            _read_entity(entity, dxftype, layer, tolerance, content, chunks, inserts, limits, budget)
+            _read_entity(entity, dxftype, layer, tolerance, content, chunks, inserts, limits, budget,
+                         base_points, headings_by_axis)
     for (layer, dxftype), count in sorted(damaged.items()):
         content.warnings.append(f"{source}: {count} damaged {dxftype} on layer {layer!r} skipped")
     for (name, insert_layer), matrix_list in inserts.items():
@@ -165,18 +167,35 @@ def read_drawing(path, *, chord_tolerance, units=None, limits=None, block_kind=N
     return content
 
 
-def _read_entity(entity, dxftype, layer, tolerance, content, chunks, inserts, limits, budget):
-    """Add one model-space entity to `content`, `chunks` (linework) or `inserts`."""
+def _read_entity(entity, dxftype, layer, tolerance, content, chunks, inserts, limits, budget,
+                 base_points=None, headings_by_axis=None):
+    """Add one model-space entity to `content`, `chunks` (linework) or `inserts`.
+
+    base_points, headings_by_axis : dict, optional
+        Caches shared by the entities of one document: block base points
+        (`inserts.insert_matrices`) and INSERT headings by the block's +X axis.
+    """
+    base_points = {} if base_points is None else base_points
+    headings_by_axis = {} if headings_by_axis is None else headings_by_axis
     if dxftype == "INSERT":
-        matrices = insert_matrices(entity, limits=limits, source=content.source)
+        matrices = insert_matrices(entity, limits=limits, source=content.source,
+                                   base_points=base_points)
         found = attributes(entity) if entity.attribs else []
-        label = attribute_label(entity, found)
+        label = attribute_label(entity, found) if found else None
         name = str(entity.dxf.name)
         inserts[(name, layer)].append(matrices)
         for x, y in matrices[:, 2, :].tolist():
             content.points.append((layer, x, y, label, dxftype))
-        # the way the block's +X axis points in the plan (rotation, mirroring, extrusion)
-        headings = np.degrees(np.arctan2(matrices[:, 0, 1], matrices[:, 0, 0])) % 360.0
+        # the way the block's +X axis points in the plan (rotation, mirroring, extrusion):
+        # the same few axes recur across thousands of INSERTs, each computed once
+        if len(matrices) == 1:
+            axis = matrices[0, 0].tobytes()  # bit for bit: -0.0 and 0.0 differ here
+            if axis not in headings_by_axis:
+                headings_by_axis[axis] = (
+                    np.degrees(np.arctan2(matrices[:, 0, 1], matrices[:, 0, 0])) % 360.0)
+            headings = headings_by_axis[axis]
+        else:
+            headings = np.degrees(np.arctan2(matrices[:, 0, 1], matrices[:, 0, 0])) % 360.0
         tags = {tag: text for tag, text, _ in found}
         for (x, y), heading in zip(matrices[:, 2, :].tolist(), headings.tolist()):
             content.inserts.append((layer, name, x, y, heading, tags))

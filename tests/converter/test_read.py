@@ -264,3 +264,51 @@ def test_drawing_date_from_the_header(header, expected):
 def test_floor_plan_carries_the_sample_drawing_date(samples):
     # source: sample_drawings/make_samples.py ISSUED, written as $TDUPDATE
     assert read_floorplan(samples / "distribution_centre_rev_b.dxf").drawing_date == "2026-11-16"
+
+
+def test_insert_matrices_match_ezdxf_bit_for_bit(tmp_path):
+    """The plan matrix read from the attributes set on an INSERT (defaults filled in, each
+    block's base point looked up once) is ezdxf's own ``Insert.matrix44``, to the bit (a
+    zero may differ in sign)."""
+    import ezdxf
+    import numpy as np
+
+    from clearway.converter.inserts import insert_matrices
+
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    bay_block(doc)
+    moved = bay_block(doc, "MOVED")
+    moved.block.dxf.base_point = (0.35, -1.25, 0)
+    placements = [("BAY", (1, 2), {}), ("MOVED", (3.3, -4.1), {}),
+                  ("MOVED", (7, 8), {"rotation": 33.3, "xscale": -1.5, "yscale": 0.7}),
+                  ("BAY", (0.1, 0.2), {"rotation": 90}), ("MOVED", (5, 5), {"yscale": 2})]
+    for name, point, attribs in placements:
+        msp.add_blockref(name, point, dxfattribs=attribs)
+    read = ezdxf.readfile(save(doc, tmp_path, "inserts.dxf"))
+    cache = {}
+    for insert in read.modelspace().query("INSERT"):
+        # source: ezdxf's Insert.matrix44, rows (x axis, y axis, z axis, origin)
+        rows = np.array(list(insert.matrix44().rows()), dtype=float)[[0, 1, 3], :2]
+        assert np.array_equal(insert_matrices(insert, base_points=cache)[0], rows)
+    assert set(cache) == {"BAY", "MOVED"}
+
+
+def test_polyline_points_are_ezdxfs(tmp_path):
+    """A bulged, widened polyline reads the same x, y, widths and bulges as ezdxf's
+    get_points: the arc flattened from them is the one ezdxf's own points give."""
+    import ezdxf
+    import numpy as np
+
+    from clearway.converter.entities import flatten_entity, polyline_parts
+
+    doc = new_drawing(6)
+    points = [(0, 0, 0.1, 0.2, 0.5), (4, 0, 0, 0, 0), (4, 3, 0, 0, -0.25), (0, 3)]
+    doc.modelspace().add_lwpolyline(points, format="xyseb", close=True)
+    polyline = ezdxf.readfile(save(doc, tmp_path, "bulge.dxf")).modelspace().query("LWPOLYLINE")[0]
+    expected = polyline_parts(np.array(polyline.get_points("xyseb"), dtype=float), True,
+                              polyline.dxf.const_width, polyline.ocs(), polyline.dxf.elevation,
+                              1e-3)
+    found = flatten_entity(polyline, 1e-3, None)
+    assert [kind for _, kind in found] == [kind for _, kind in expected]
+    assert all(np.array_equal(a, b) for (a, _), (b, _) in zip(found, expected))
