@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import json
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 import shapely
@@ -14,9 +14,10 @@ from clearway.converter.floorplan import OBSTACLE_ROLES, FloorPlan, Leak, PlanTe
 from clearway.converter.parts import Parts
 from clearway.converter.inserts import BLOCK_OPENING_PREFIX, KIND_TAGS
 from clearway.converter.interior import building_interior
-from clearway.converter.polygons import as_multipolygon, boundary_regions, filled_regions, free_space
-from clearway.converter.mapping import guess_wall_layer, keep_one_view, map_drawing
-from clearway.converter.roles import ROLE_OPTION_NAMES, Roles, opening_kind
+from clearway.converter.polygons import (as_multipolygon, boundary_regions, filled_regions, fill_holes,
+                                        free_space, node_lines)
+from clearway.converter.mapping import NOT_WALLS, guess_wall_layer, keep_one_view, map_drawing
+from clearway.converter.roles import ROLE_OPTION_NAMES, Roles, matches_any, name_candidates, opening_kind
 from clearway.converter.units import UNITS_TO_M
 
 #: Coordinates are snapped to this grid, metres (0.1 mm), so shared edges match exactly.
@@ -182,6 +183,63 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
                    nominal_wall_thickness=nominal_wall_thickness, label_radius=label_radius)
     roles = roles or Roles()
     limits = limits or Limits()
+    options = dict(units=units, chord_tolerance=chord_tolerance, gap_tolerance=gap_tolerance,
+                   max_wall_thickness=max_wall_thickness,
+                   nominal_wall_thickness=nominal_wall_thickness, label_radius=label_radius,
+                   limits=limits, region=region)
+    try:
+        plan, mapping = _read_plan(path, roles=roles, **options)
+    except NoEnclosedFloor as error:
+        plan, mapping, failure = None, error.mapping, error
+    if (plan is None or plan.floor_doubt) and not roles.explicit & {"wall", "boundary"} \
+            and not mapping.by_role["boundary"]:
+        shell = enclosing_layer(mapping, gap_tolerance=gap_tolerance,
+                                reach=max_wall_thickness)
+        if shell is not None:
+            name, held = shell
+            wider = Roles({**roles.patterns, "wall": roles.patterns["wall"] + (_glob_literal(name),)},
+                          roles.explicit)
+            try:
+                retry, _ = _read_plan(path, roles=wider, **options)
+            except NoEnclosedFloor:
+                retry = None
+            if retry is not None and (plan is None or (
+                    not retry.floor_doubt and retry.free_space.area > plan.free_space.area)):
+                walls = ", ".join(mapping.by_role["wall"][:3])
+                found = "no floor" if plan is None else "too little floor"
+                note = (f"{mapping.content.source}: the wall layers ({walls}) enclose {found}; "
+                        f"layer {name!r} surrounds them ({held:.0%} of their lines lie inside its "
+                        f"outline) and was taken for walls too; pass --walls to choose")
+                return replace(retry, warnings=retry.warnings + (note,))
+    if plan is None:
+        raise failure
+    return plan
+
+
+class NoEnclosedFloor(DrawingError):
+    """The walls enclose no free space (`mapping`: the drawing as read)."""
+
+    def __init__(self, message, mapping):
+        super().__init__(message)
+        self.mapping = mapping
+
+
+def _glob_literal(name):
+    """A glob pattern that matches `name` alone: ``[`` ``*`` ``?`` bracketed.
+
+    >>> from fnmatch import fnmatchcase
+    >>> _glob_literal("Walls [old]*"), fnmatchcase("Walls [old]*", _glob_literal("Walls [old]*"))
+    ('Walls [[]old][*]', True)
+    """
+    return "".join(f"[{c}]" if c in "[*?" else c for c in name)
+
+
+def _read_plan(path, *, roles, units, chord_tolerance, gap_tolerance, max_wall_thickness,
+               nominal_wall_thickness, label_radius, limits, region):
+    """read_floorplan with these roles: return (FloorPlan, LayerMapping).
+
+    Raises NoEnclosedFloor, carrying the mapping, when the walls enclose no free space.
+    """
     mapping = map_drawing(path, roles=roles, units=units, chord_tolerance=chord_tolerance,
                           limits=limits)
     content, unit, factor, note = mapping.content, mapping.units, mapping.m_per_unit, mapping.unit_note
@@ -256,10 +314,10 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
     if floor_doubt:
         warnings.append(floor_doubt)
     if free.is_empty:
-        raise DrawingError(f"{subject}: no enclosed floor: the wall layers "
-                           f"({', '.join(by_role['wall'][:4]) or 'none'}) enclose no free space and "
-                           f"no boundary is drawn;{_wall_hint(mapping)} check the layer roles with "
-                           f"`clearway layers`")
+        raise NoEnclosedFloor(f"{subject}: no enclosed floor: the wall layers "
+                              f"({', '.join(by_role['wall'][:4]) or 'none'}) enclose no free space "
+                              f"and no boundary is drawn;{_wall_hint(mapping)} check the layer "
+                              f"roles with `clearway layers`", mapping)
     limits.check("max_boundary_length", float(free.boundary.length), subject=subject,
                  what="length of the free space's boundary in metres (the roadmap samples it "
                       "every 0.25 to 1 m)")
@@ -275,7 +333,7 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
                      drawing_date=content.drawing_date, repairs=tuple(content.repairs),
                      openings=interior.openings, texts=texts, unit_source=mapping.unit_source,
                      unit_evidence=tuple(mapping.unit_evidence), left_out=mapping.left_out,
-                     unit_doubt=mapping.unit_doubt, floor_doubt=floor_doubt)
+                     unit_doubt=mapping.unit_doubt, floor_doubt=floor_doubt), mapping
 
 
 #: A floor (racking and all) covering less than this share of the convex hull of the walls
@@ -307,6 +365,53 @@ def _floor_doubt(subject, floor, walls) -> str:
             f"area the walls span ({hull.area:.0f} m\u00b2): the walls may not close (a gap "
             f"wider than 8 m, walls on a layer with no role) or include a site or another "
             f"drawing; check `clearway layers` and the preview, or draw a boundary")
+
+
+#: Layers never taken for a building's shell: what NOT_WALLS names, and the frames drawn
+#: round a sheet, which surround the walls too.
+NOT_SHELL = NOT_WALLS + ("*BORDER*", "*FRAME*", "*RAHMEN*", "*SHEET*", "*CARTOUCHE*",
+                         "*PLANKOPF*", "*TTLB*", "*MARGIN*")
+#: The share of the wall layers' line length a layer's outline must hold to be their shell.
+SHELL_HOLDS = 0.9
+
+
+def enclosing_layer(mapping, *, gap_tolerance, reach):
+    """Return (layer, share held) for the layer with no role that is the walls' shell, or None.
+
+    The wall layers may hold only part of a building: new partitions on a layer named for
+    walls (``Wand (neu)``), the outer walls drawn as single lines on a layer named for
+    nothing (``Base``). Alone they enclose no floor, or too little. A layer with no role
+    whose outline (the faces its lines close, holes filled) holds at least SHELL_HOLDS of
+    the wall layers' line length, and whose lines come within `reach` metres of them (a
+    frame drawn round the sheet keeps its distance from the plan), is taken for their shell;
+    of several, the tightest outline.
+    """
+    content, factor = mapping.content, mapping.m_per_unit
+
+    def linework(names):
+        parts = Parts.concat([content.parts[name] for name in names if name in content.parts])
+        lines, rings, _ = parts.scaled(factor, grid=SNAP_M).geometries()
+        return np.concatenate([lines, rings])
+
+    walls = shapely.union_all(linework(mapping.by_role["wall"]))
+    if walls.is_empty or walls.length == 0:
+        return None
+    best = None
+    for name in sorted(mapping.visible):
+        if mapping.role_of.get(name) is not None or name not in content.parts or \
+                matches_any(name_candidates(name), NOT_SHELL):
+            continue
+        own = linework([name])
+        if not len(own) or shapely.distance(shapely.union_all(own), walls) > reach:
+            continue
+        faces = shapely.get_parts(shapely.polygonize(node_lines(own, gap_tolerance=gap_tolerance)))
+        if not len(faces):
+            continue
+        outline = fill_holes(shapely.union_all(faces))
+        held = shapely.intersection(walls, outline.buffer(gap_tolerance)).length / walls.length
+        if held >= SHELL_HOLDS and (best is None or outline.area < best[2]):
+            best = (name, held, outline.area)
+    return None if best is None else best[:2]
 
 
 def _check_mapped(content, roles, by_role, source):

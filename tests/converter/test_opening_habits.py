@@ -11,9 +11,10 @@ import pytest
 import shapely
 
 from clearway.converter import read_floorplan
+from clearway.errors import DrawingError
 from clearway.converter.openings import Gap, classify_gaps
 from clearway.converter.roles import Roles, opening_kind
-from tests.conftest import new_drawing, save, walled_room
+from tests.conftest import new_drawing, rectangle, save, walled_room
 
 
 def _door_and_window_blocks(doc):
@@ -105,6 +106,46 @@ def test_structure_on_a_layer_named_for_something_else_is_taken_for_walls(tmp_pa
     assert any("'Existing Structure 4' looks more like walls" in w for w in plan.warnings)
     # analytic: nine rooms of 3.6 m x 3.6 m, less the 1.0 m x 0.2 m stub
     assert plan.free_space.area == pytest.approx(9 * 3.6 * 3.6 - 0.2, rel=2e-3)
+
+
+def _partitions_in_a_shell(shell_layer, *, frame_layer=None, frame_gap=3.0):
+    """A 12 m x 8 m space whose outer walls are single lines on `shell_layer` (as in a fit-out
+    sketch over the existing building); the only layer named for walls holds new 0.1 m
+    partitions: a U of double lines from the north wall enclosing a 3 m x 3 m store, open to
+    the south, so the partitions alone close nothing. With `frame_layer`, a sheet frame
+    `frame_gap` metres outside the plan."""
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    corners = rectangle(0, 0, 12, 8)
+    for start, end in zip(corners, corners[1:] + corners[:1]):
+        msp.add_line(start, end, dxfattribs={"layer": shell_layer})
+    for x in (6.0, 9.1):       # the U's legs, 0.1 m thick, from the north wall down to y = 5
+        msp.add_lwpolyline([(x, 8), (x, 5), (x + 0.1, 5), (x + 0.1, 8)],
+                           dxfattribs={"layer": "Wand (neu)"})
+    if frame_layer:
+        msp.add_lwpolyline(rectangle(-frame_gap, -frame_gap, 12 + frame_gap, 8 + frame_gap),
+                           close=True, dxfattribs={"layer": frame_layer})
+    return doc
+
+
+def test_a_shell_on_a_layer_named_for_nothing_closes_the_partitions(tmp_path):
+    plan = read_floorplan(save(_partitions_in_a_shell("Base"), tmp_path))
+    assert any("layer 'Base' surrounds them" in warning for warning in plan.warnings)
+    # analytic: the space inside the single lines (each given 0.05 m, half inside) less the two
+    # 0.1 m x 3 m legs; 0.025 m of each leg's top lies in the north line's band
+    inside = (12 - 0.05) * (8 - 0.05) - 2 * 0.1 * (3 - 0.025)
+    assert plan.free_space.area == pytest.approx(inside, rel=1e-3)
+
+
+@pytest.mark.parametrize("frame_layer, frame_gap", [("Rahmen", 0.3), ("Layer 7", 3.0)])
+def test_a_sheet_frame_is_not_taken_for_the_shell(tmp_path, frame_layer, frame_gap):
+    # the frame surrounds the partitions: "Rahmen" (frame) is refused by its name, "Layer 7" 3 m
+    # away by its distance; with no shell the partitions enclose no floor
+    doc = _partitions_in_a_shell("Layer 8", frame_layer=frame_layer, frame_gap=frame_gap)
+    for entity in doc.modelspace().query('LINE[layer=="Layer 8"]'):
+        entity.destroy()
+    with pytest.raises(DrawingError, match="no enclosed floor"):
+        read_floorplan(save(doc, tmp_path))
 
 
 def test_a_column_far_from_the_walls_belongs_to_the_plan(tmp_path):
