@@ -91,8 +91,9 @@ def building_interior(wall_lines, wall_rings, wall_fills, wall_arcs, *, door_lin
     leaks, container = find_leaks(bridged, base) if find_envelope else ([], base)
     envelope = fill_holes(container)
     openings, closures = [], []
-    for (gap, kind), quad in zip(kept, quads):
-        exterior = find_envelope and _leads_outside(gap, envelope)
+    outside = _lead_outside([gap for gap, _ in kept], envelope) if find_envelope and kept \
+        else np.zeros(len(kept), dtype=bool)
+    for (gap, kind), quad, exterior in zip(kept, quads, outside.tolist()):
         openings.append(Opening(
             x=round(float(gap.middle[0]), 4), y=round(float(gap.middle[1]), 4),
             width=round(gap.width, 4), kind=kind, exterior=bool(exterior),
@@ -107,11 +108,16 @@ def building_interior(wall_lines, wall_rings, wall_fills, wall_arcs, *, door_lin
                     enclosed=not leaks and not envelope.is_empty)
 
 
-def _leads_outside(gap, envelope):
-    """True when a point just beyond the wall, on either side of the gap, is outside."""
-    direction = (gap.end - gap.start) / max(gap.width, 1e-12)
-    normal = np.array([-direction[1], direction[0]])
-    reach = gap.depth / 2.0 + 0.15
-    probes = np.array([gap.middle + normal * reach, gap.middle - normal * reach])
-    inside = shapely.contains_xy(envelope, probes[:, 0], probes[:, 1])
-    return not bool(np.all(inside))
+def _lead_outside(gaps, envelope):
+    """Which `gaps` lead outside, shape (N,): a point just beyond the wall, on either side
+    of the gap, is outside `envelope` (all gaps' points in one test)."""
+    start = np.array([gap.start for gap in gaps], dtype=float).reshape(-1, 2)
+    end = np.array([gap.end for gap in gaps], dtype=float).reshape(-1, 2)
+    width = np.array([max(gap.width, 1e-12) for gap in gaps], dtype=float)
+    reach = np.array([gap.depth / 2.0 + 0.15 for gap in gaps], dtype=float)
+    direction = (end - start) / width[:, None]
+    normal = np.stack([-direction[:, 1], direction[:, 0]], axis=1)
+    middle = (start + end) / 2.0
+    probes = np.concatenate([middle + normal * reach[:, None], middle - normal * reach[:, None]])
+    inside = shapely.contains_xy(envelope, probes[:, 0], probes[:, 1]).reshape(2, -1)
+    return ~inside.all(axis=0)

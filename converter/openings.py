@@ -261,15 +261,14 @@ def find_gaps(solid, loose, *, max_thickness, max_width=MAX_WINDOW_WIDTH, hints=
     # every ray at once: one tree query and one intersection over all (ray, segment) pairs
     # (a segment each, not a whole outline ring: a ring of a large wall network holds
     # thousands of vertices, and each ray would cost all of them)
-    owner, origins, leads = [], [], []
-    for index in range(len(middles)):
-        middle, direction, length = middles[index], directions[index], lengths[index]
-        lead = start_eps if length > 0 else start_eps + loose_cap
-        for offset in (offsets if length > 0.04 else offsets[:1]):
-            owner.append(index)
-            origins.append(middle + normals[index] * offset * length + direction * lead)
-            leads.append(lead)
-    owner, origins = np.array(owner), np.array(origins)
+    # three rays from an end wider than 4 cm, one from the others, numbered end by end
+    count = np.where(lengths > 0.04, len(offsets), 1)
+    owner = np.repeat(np.arange(len(middles)), count)
+    offset = offsets[np.arange(len(owner)) - np.repeat(np.cumsum(count) - count, count)]
+    lead = np.where(lengths > 0, start_eps, start_eps + loose_cap)[owner]
+    origins = middles[owner] + normals[owner] * offset[:, None] * lengths[owner][:, None] + \
+        directions[owner] * lead[:, None]
+    leads = lead.tolist()
     rays = shapely.linestrings(np.stack([origins, origins + directions[owner] * max_width], axis=1))
     ray_index, target_index = tree.query(rays, predicate="intersects")
     near = _nearest_pairs(origins, directions[owner], tree_target, ray_index, target_index)
