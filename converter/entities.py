@@ -7,7 +7,6 @@ with no reader is not plan geometry. Curves keep a chord tolerance given in draw
 
 from __future__ import annotations
 
-import contextlib
 import functools
 import itertools
 import math
@@ -35,30 +34,42 @@ class NotFinite(Exception):
     """An entity has coordinates that are not finite (the reader refuses the drawing)."""
 
 
-@contextlib.contextmanager
-def lenient(source, limits, dxftype, layer, damaged, key):
+class lenient:  # lower case: used as a context manager, as contextlib.suppress is
     """Be lenient per entity, strict per drawing, around reading one entity.
 
     A damaged entity (ezdxf raised one of DAMAGE) is skipped and counted in
     ``damaged[key]``; a curve over ``limits.max_curve_vertices`` raises LimitError and
-    coordinates that are not finite raise DrawingError, both naming the layer.
+    coordinates that are not finite raise DrawingError, both naming the layer. (A class
+    rather than a generator: it is entered once per entity, tens of thousands of times.)
     """
-    try:
-        yield
-    except ClearwayError:
-        raise
-    except TooMany as err:
-        count = err.args[0]
-        raise LimitError(
-            f"{source}: a {dxftype} on layer {layer!r} flattens to more than {count} vertices, "
-            f"over the limit max_curve_vertices = {limits.max_curve_vertices}; the chord "
-            f"tolerance may be too fine for its size or units; if the drawing really needs "
-            f"it, raise the limit in the --config file: [limits] max_curve_vertices = "
-            f"{10 * count}") from None
-    except NotFinite:
-        raise DrawingError(f"{source}: layer {layer!r} has coordinates that are not finite") from None
-    except DAMAGE:
-        damaged[key] += 1
+
+    __slots__ = ("source", "limits", "dxftype", "layer", "damaged", "key")
+
+    def __init__(self, source, limits, dxftype, layer, damaged, key):
+        self.source, self.limits, self.dxftype = source, limits, dxftype
+        self.layer, self.damaged, self.key = layer, damaged, key
+
+    def __enter__(self):
+        return None
+
+    def __exit__(self, kind, err, traceback):
+        if kind is None or issubclass(kind, ClearwayError):
+            return False
+        if issubclass(kind, TooMany):
+            count = err.args[0]
+            raise LimitError(
+                f"{self.source}: a {self.dxftype} on layer {self.layer!r} flattens to more than "
+                f"{count} vertices, over the limit max_curve_vertices = "
+                f"{self.limits.max_curve_vertices}; the chord tolerance may be too fine for its "
+                f"size or units; if the drawing really needs it, raise the limit in the --config "
+                f"file: [limits] max_curve_vertices = {10 * count}") from None
+        if issubclass(kind, NotFinite):
+            raise DrawingError(f"{self.source}: layer {self.layer!r} has coordinates that are "
+                               f"not finite") from None
+        if issubclass(kind, DAMAGE):
+            self.damaged[self.key] += 1
+            return True
+        return False
 
 
 def text_item(entity, layer):

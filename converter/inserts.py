@@ -47,7 +47,9 @@ def insert_matrices(insert, *, limits=None, source="", base_points=None):
     # costs ezdxf's namespace a failed lookup and a search of the definitions
     attribs = insert.dxf.all_existing_dxf_attribs()
     base = _plan_matrix(insert, attribs, base_points)
-    if base is None:
+    if base is not None:
+        base = np.array(base, dtype=float)
+    else:
         rows = np.array(list(insert.matrix44().rows()), dtype=float)
         base = rows[[0, 1, 3], :2]
     row_count = max(int(attribs.get("row_count", 1)), 1)
@@ -88,7 +90,8 @@ def _attribute(insert, attribs, key):
 def _plan_matrix(insert, attribs, base_points=None):
     """The (3, 2) matrix of an INSERT in the plan's plane (extrusion +Z), as ezdxf's
     ``Insert.matrix44`` gives it (scale, then rotation, block base point moved onto the
-    insertion point) without its 4 x 4 algebra; None for any other extrusion.
+    insertion point) without its 4 x 4 algebra, as three (x, y) tuples of rows; None for
+    any other extrusion.
 
     attribs : dict, the attributes set on the INSERT (``all_existing_dxf_attribs``)
     base_points : dict, optional, block name -> base point (x, y) or None (a cache)
@@ -110,7 +113,22 @@ def _plan_matrix(insert, attribs, base_points=None):
         base_x, base_y = base
         x -= base_x * x_axis[0] + base_y * y_axis[0]
         y -= base_x * x_axis[1] + base_y * y_axis[1]
-    return np.array([x_axis, y_axis, (x, y)], dtype=float)
+    return x_axis, y_axis, (x, y)
+
+
+def single_plan_insert(insert, base_points=None):
+    """The rows (x axis, y axis, origin) of the one matrix `insert_matrices` returns for
+    an INSERT of one cell in the plan's plane, as tuples of floats; None for any other
+    INSERT (a MINSERT of several cells, another extrusion).
+
+    The same values in the same order of work as `insert_matrices`, without its arrays.
+    """
+    attribs = insert.dxf.all_existing_dxf_attribs()
+    rows = _plan_matrix(insert, attribs, base_points)
+    if rows is None or max(int(attribs.get("row_count", 1)), 1) * \
+            max(int(attribs.get("column_count", 1)), 1) != 1:
+        return None
+    return rows
 
 
 def _base_point(insert, cache):

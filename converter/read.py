@@ -11,6 +11,7 @@ from __future__ import annotations
 import contextlib
 import math
 import re
+import struct
 from collections import Counter, defaultdict
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -23,7 +24,8 @@ from clearway.limits import Limits
 from clearway.converter.document import DAMAGE, open_document, saved_date
 from clearway.converter.entities import LINEWORK, TEXTS, flatten_entity, lenient, text_item
 from clearway.converter.inserts import (BLOCK_OPENING_PREFIX, BlockReader, attribute_label,
-                                        attributes, entity_layer, insert_matrices)
+                                        attributes, entity_layer, insert_matrices,
+                                        single_plan_insert)
 from clearway.converter.parts import ARC, OPEN, Parts
 from clearway.converter.units import INSUNITS_CODES, UNITS_TO_M
 
@@ -150,7 +152,7 @@ def read_drawing(path, *, chord_tolerance, units=None, limits=None, block_kind=N
     for (name, insert_layer), matrix_list in inserts.items():
         if content.layer_states.get(insert_layer, (False, False))[0]:
             continue  # an INSERT on a frozen layer hides its whole block
-        matrices = np.concatenate(matrix_list)
+        matrices = _stacked(matrix_list)
         for target, parts in reader.placed_parts(name, matrices, tolerance, insert_layer):
             chunks[target].append(parts)
     content.warnings += reader.warnings
@@ -178,26 +180,30 @@ def _read_entity(entity, dxftype, layer, tolerance, content, chunks, inserts, li
     base_points = {} if base_points is None else base_points
     headings_by_axis = {} if headings_by_axis is None else headings_by_axis
     if dxftype == "INSERT":
-        matrices = insert_matrices(entity, limits=limits, source=content.source,
-                                   base_points=base_points)
+        rows = single_plan_insert(entity, base_points)
+        if rows is None:
+            matrices = insert_matrices(entity, limits=limits, source=content.source,
+                                       base_points=base_points)
+            origins = matrices[:, 2, :].tolist()
+            # the way the block's +X axis points in the plan (rotation, mirroring, extrusion)
+            headings = (np.degrees(np.arctan2(matrices[:, 0, 1], matrices[:, 0, 0])) % 360.0).tolist()
+        else:  # one cell in the plan: its rows as floats, stacked with the others at the end
+            matrices, origins = rows, [rows[2]]
+            # the same few axes recur across thousands of INSERTs, each computed once
+            axis = struct.pack("2d", *rows[0])  # bit for bit: -0.0 and 0.0 differ here
+            if axis not in headings_by_axis:
+                matrix = np.array(rows, dtype=float)[None]
+                headings_by_axis[axis] = (
+                    np.degrees(np.arctan2(matrix[:, 0, 1], matrix[:, 0, 0])) % 360.0).tolist()
+            headings = headings_by_axis[axis]
         found = attributes(entity) if entity.attribs else []
         label = attribute_label(entity, found) if found else None
         name = str(entity.dxf.name)
         inserts[(name, layer)].append(matrices)
-        for x, y in matrices[:, 2, :].tolist():
+        for x, y in origins:
             content.points.append((layer, x, y, label, dxftype))
-        # the way the block's +X axis points in the plan (rotation, mirroring, extrusion):
-        # the same few axes recur across thousands of INSERTs, each computed once
-        if len(matrices) == 1:
-            axis = matrices[0, 0].tobytes()  # bit for bit: -0.0 and 0.0 differ here
-            if axis not in headings_by_axis:
-                headings_by_axis[axis] = (
-                    np.degrees(np.arctan2(matrices[:, 0, 1], matrices[:, 0, 0])) % 360.0)
-            headings = headings_by_axis[axis]
-        else:
-            headings = np.degrees(np.arctan2(matrices[:, 0, 1], matrices[:, 0, 0])) % 360.0
         tags = {tag: text for tag, text, _ in found}
-        for (x, y), heading in zip(matrices[:, 2, :].tolist(), headings.tolist()):
+        for (x, y), heading in zip(origins, headings):
             content.inserts.append((layer, name, x, y, heading, tags))
         for _, text, attrib in found:
             if text:
@@ -227,6 +233,15 @@ def _read_entity(entity, dxftype, layer, tolerance, content, chunks, inserts, li
         parts = Parts.from_list(*zip(*found)) if found else Parts.empty()
         budget.spend(parts, 1, f"{dxftype} on layer {layer!r}")
         chunks[layer].append(parts)
+
+
+def _stacked(matrix_list):
+    """One (M, 3, 2) array of INSERT matrices: (M_i, 3, 2) arrays and single matrices given
+    as three (x, y) tuples of rows (`inserts.single_plan_insert`), in order."""
+    if all(isinstance(item, tuple) for item in matrix_list):
+        return np.array(matrix_list, dtype=float).reshape(-1, 3, 2)
+    return np.concatenate([np.array(item, dtype=float)[None] if isinstance(item, tuple) else item
+                           for item in matrix_list])
 
 
 _MTEXT_CODES = re.compile(r"\\[A-Za-z][^;\\]*;|[{}]|\\P")
