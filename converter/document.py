@@ -24,6 +24,7 @@ from ezdxf.lldxf.tagger import binary_tags_loader
 
 from clearway.errors import DrawingError
 from clearway.limits import Limits
+from clearway.converter.roles import Roles
 from clearway.converter.sound import sound_text
 
 BINARY_SENTINEL = b"AutoCAD Binary DXF\r\n\x1a\x00"
@@ -164,4 +165,67 @@ def _read_ascii(data):
         else:
             if not auditor.fixes and not auditor.errors:
                 return doc, auditor
+    page = guess_code_page(data)
+    if page is not None:
+        data = _with_code_page(data, page)
     return recover.read(io.BytesIO(data))
+
+
+#: Code pages tried, in this order, for the text of a drawing whose header names none: ezdxf's
+#: default (Western European), then Japanese, simplified and traditional Chinese, Korean.
+#: DXF R12 files and other programs' output carry text in the code page of the machine that
+#: wrote them (a Japanese drafting program writes Shift-JIS layer names such as 壁 for walls
+#: and no $DWGCODEPAGE); DXF R2007 and later are UTF-8 and are not guessed.
+CODE_PAGES = (("ANSI_1252", "cp1252"), ("ANSI_932", "cp932"), ("ANSI_936", "gbk"),
+              ("ANSI_950", "cp950"), ("ANSI_949", "cp949"))
+_LAYER_VALUE = re.compile(rb"\n[ \t]*8[ \t]*\r?\n([^\r\n]*)")
+_VERSION = re.compile(rb"\$ACADVER[ \t]*\r?\n[ \t]*1[ \t]*\r?\n[ \t]*AC(\d+)")
+_HEADER = re.compile(rb"\n[ \t]*2[ \t]*\r?\n[ \t]*HEADER[ \t]*\r?\n")
+
+
+def guess_code_page(data):
+    r"""Return the $DWGCODEPAGE value (``ANSI_932``) under which the non-ASCII layer names of
+    `data` read as the most layer roles' words, when the header names no code page and
+    that is not ezdxf's default; else None.
+
+    Each page must decode every such name; ezdxf's default keeps ties.
+
+    Examples
+    --------
+    >>> walls, door = "壁".encode("cp932"), "建具".encode("cp932")
+    >>> guess_code_page(b"  0\nSECTION\n  8\n" + walls + b"\n  8\n" + door + b"\n")
+    'ANSI_932'
+    >>> guess_code_page(b"  0\nSECTION\n  8\n" + "墙体".encode("gbk") + b"\n")
+    'ANSI_936'
+    >>> guess_code_page(b"  0\nSECTION\n  8\n" + "Tür".encode("cp1252") + b"\n") is None
+    True
+    """
+    if b"$DWGCODEPAGE" in data:
+        return None
+    version = _VERSION.search(data)
+    if version is not None and int(version.group(1)) >= 1021:
+        return None
+    names = {name for name in _LAYER_VALUE.findall(data) if not name.isascii()}
+    if not names:
+        return None
+    roles = Roles()
+    best, best_count = None, 0
+    for page, codec in CODE_PAGES:
+        try:
+            decoded = [name.decode(codec) for name in names]
+        except UnicodeDecodeError:
+            continue
+        count = sum(roles.role_of(name) is not None for name in decoded)
+        if count > best_count:
+            best, best_count = page, count
+    return None if best == CODE_PAGES[0][0] else best
+
+
+def _with_code_page(data, page):
+    """`data` with ``$DWGCODEPAGE`` set to `page` at the head of its HEADER section."""
+    header = _HEADER.search(data)
+    if header is None:
+        return data
+    newline = b"\r\n" if b"\r\n" in data[:header.end()] else b"\n"
+    entry = newline.join([b"  9", b"$DWGCODEPAGE", b"  3", page.encode("ascii")]) + newline
+    return data[:header.end()] + entry + data[header.end():]

@@ -118,6 +118,20 @@ def _equipment_only(names, patterns):
     return not matches_any(names, own) and matches_any(names, patterns["station"])
 
 
+def _walls_and_windows(names, patterns):
+    """True when a wall word and only window words among the openings' name the layer
+    (``壁・窓``, ``WALLS AND WINDOWS``): the wall role takes it. Windows are closed like wall,
+    while walls read as openings would leave the building open; door leaves and swings on a
+    wall layer would narrow their doorways, so a door word keeps the opening role, and a
+    curtain wall (``CURTAIN WALL``, ``幕墙``) is glazing: it stays an opening."""
+    return (matches_any(names, patterns["wall"]) and matches_any(names, WINDOW_PATTERNS)
+            and not matches_any(names, DOOR_PATTERNS + CURTAIN_WALL_PATTERNS))
+
+
+#: Curtain walls: glazing named with a wall word.
+CURTAIN_WALL_PATTERNS = ("*CURTAIN*", "*幕墙*")
+
+
 def matches_any(names, patterns):
     """True when any of `names` (upper case) matches any glob of `patterns`."""
     return any(fnmatchcase(name, pattern.upper()) for name in names for pattern in patterns)
@@ -159,6 +173,10 @@ class Roles:
     ('wall', 'opening', None)
     >>> roles.role_of("COLUMN-GRID"), roles.role_of("COLUMNS")
     (None, 'wall')
+    >>> roles.role_of("_0-9_壁__窓"), roles.role_of("Walls and windows"), roles.role_of("WALL-DOOR")
+    ('wall', 'wall', 'opening')
+    >>> roles.role_of("A-CURTAIN-WALL"), roles.role_of("幕墙")
+    ('opening', 'opening')
     """
 
     patterns: Mapping[str, tuple[str, ...]] = field(default_factory=lambda: DEFAULT_ROLE_PATTERNS)
@@ -217,6 +235,8 @@ class Roles:
                                    matches_any(names, NOT_RACKING_PATTERNS)):
                         continue
                     if role == "keepout" and _equipment_only(names, self.patterns):
+                        continue
+                    if role == "opening" and _walls_and_windows(names, self.patterns):
                         continue
                 return role
         return None

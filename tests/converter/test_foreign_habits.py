@@ -1,5 +1,8 @@
 """Drawings made the way other offices draw: door swings on the wall layer, single-line walls."""
 
+import re
+
+import ezdxf
 import pytest
 import shapely
 
@@ -73,3 +76,31 @@ def test_door_swing_in_feet(tmp_path):
     assert plan.units == "ft"
     assert len(plan.free_space.geoms) == 1
     assert shapely.area(plan.free_space) == pytest.approx(19.6 * 11.6 - 2.14, abs=0.02)
+
+
+@pytest.mark.parametrize("codec, wall, window", [("cp932", "壁", "窓"), ("gbk", "墙体", "窗")])
+def test_r12_drawing_with_layer_names_in_a_local_code_page(tmp_path, codec, wall, window):
+    """DXF R12 from a Japanese or Chinese drafting program: layer names in the machine's code
+    page (Shift-JIS, GBK) and no $DWGCODEPAGE in the header, which makes ezdxf read them as
+    Western European text. They are read in the code page under which they name roles, so
+    the walls are found on their own layer and the plan's millimetres are not taken for
+    inches."""
+    doc = ezdxf.new("R12")
+    msp = doc.modelspace()
+    for x0, y0, x1, y1 in ((0, 0, 8000, 6000), (200, 200, 7800, 5800)):  # 0.2 m walls, mm
+        corners = [(x0, y0), (x1, y0), (x1, y1), (x0, y1)]
+        for start, end in zip(corners, corners[1:] + corners[:1]):
+            msp.add_line(start, end, dxfattribs={"layer": wall})
+    msp.add_line((3000, 0), (4200, 0), dxfattribs={"layer": window})       # glazing line
+    msp.add_line((0, 0), (8000, 6000), dxfattribs={"layer": "NOTES"})      # not a wall
+    path = tmp_path / "plan.dxf"
+    doc.saveas(path, encoding=codec)
+    # the header names no code page
+    path.write_bytes(re.sub(rb"  9\r?\n\$DWGCODEPAGE\r?\n  3\r?\n[^\r\n]*\r?\n", b"",
+                            path.read_bytes()))
+    assert b"$DWGCODEPAGE" not in path.read_bytes()
+    plan = read_floorplan(path)
+    # analytic: the room inside 0.2 m walls, in millimetres: 7.6 m x 5.6 m
+    assert plan.units == "mm", plan.unit_note
+    assert plan.free_space.area == pytest.approx(7.6 * 5.6, rel=1e-6)
+    assert not any("no layer is named as walls" in warning for warning in plan.warnings)
