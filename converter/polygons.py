@@ -335,10 +335,10 @@ def inscribed_radius(faces, tolerance, *, above, below=0.0):
     round hundreds of columns needs no search at all.
 
     Narrow faces (wall bands, columns: thousands in a warehouse, each a slow fine search)
-    are settled by erosion: a face that a negative buffer of `below` leaves empty has no
-    point farther than `below` from its edge (up to GEOS's arc approximation and input
-    simplification, below 2 % of `below`), so its radius and the fine search's, which
-    never exceeds it, are at most that.
+    are settled by erosion before any search: a face that a negative buffer of `below`
+    leaves empty has no point farther than `below` from its edge (up to GEOS's arc
+    approximation and input simplification, below 2 % of `below`), so its radius and the
+    searches', which never exceed it, are at most that (`below` lies well under `above`).
 
     Examples
     --------
@@ -363,16 +363,19 @@ def inscribed_radius(faces, tolerance, *, above, below=0.0):
         wide[roomy[proven]] = True
         radius[roomy[proven]] = clear[proven]
     rest = np.flatnonzero(~wide)
+    if below > 0 and len(rest):
+        # eroded first: a face the erosion empties has a radius of about `below` at most,
+        # which the coarse search could only have found unsure (its circle is no larger),
+        # so it needs no search at all (the thousands of wall bands and columns)
+        narrow = shapely.is_empty(shapely.buffer(faces[rest], -below))
+        radius[rest[narrow]] = below
+        rest = rest[~narrow]
     circles = shapely.maximum_inscribed_circle(faces[rest], max(above, tolerance))
     centre = shapely.get_coordinates(shapely.get_point(circles, 0))
     inside = shapely.contains_xy(faces[rest], centre[:, 0], centre[:, 1])
     radius[rest] = np.where(inside, shapely.length(circles), 0.0)
-    unsure = radius <= above + 2.0 * tolerance
-    if below > 0 and unsure.any():
-        narrow = np.zeros(len(faces), bool)
-        narrow[unsure] = shapely.is_empty(shapely.buffer(faces[unsure], -below))
-        radius[narrow] = below
-        unsure &= ~narrow
+    unsure = np.zeros(len(faces), bool)
+    unsure[rest] = radius[rest] <= above + 2.0 * tolerance
     if unsure.any():
         radius[unsure] = shapely.length(shapely.maximum_inscribed_circle(faces[unsure], tolerance))
     return radius
