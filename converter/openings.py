@@ -11,6 +11,7 @@ in opening blocks classifies it. All lengths in metres.
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 
 import numpy as np
@@ -50,11 +51,13 @@ class Gap:
     quad: object
     minor: bool = False
 
-    @property
+    # computed once: sorting, merging, classifying and reporting the gaps of a large
+    # floor ask for them tens of thousands of times
+    @functools.cached_property
     def width(self) -> float:
         return float(np.hypot(*(self.end - self.start)))
 
-    @property
+    @functools.cached_property
     def middle(self) -> np.ndarray:
         return (self.start + self.end) / 2.0
 
