@@ -49,8 +49,9 @@ def pair_text(pairs) -> str:
     """The compact ``turns`` attribute for a set of (edge, edge) pairs; "-" for none (an
     empty value could be dropped by a GraphML writer or reader, which would read as no
     restriction at all)."""
-    ordered = sorted({tuple(sorted(pair, key=natural)) for pair in pairs},
-                     key=lambda pair: (natural(pair[0]), natural(pair[1])))
+    rank = {name: natural(name) for pair in pairs for name in pair}   # each name once
+    ordered = sorted({tuple(sorted(pair, key=rank.__getitem__)) for pair in pairs},
+                     key=lambda pair: (rank[pair[0]], rank[pair[1]]))
     return " ".join(f"{a}:{b}" for a, b in ordered) or "-"
 
 
@@ -71,11 +72,14 @@ def _leaving(coords: np.ndarray, at: np.ndarray) -> tuple[np.ndarray, float]:
     """Orient an edge's coordinates away from `at`; return them and the leaving heading."""
     if np.hypot(*(coords[-1] - at)) < np.hypot(*(coords[0] - at)):
         coords = coords[::-1]
-    step = np.diff(coords, axis=0)
-    moving = np.flatnonzero(np.hypot(*step.T) > 1e-9)
-    if len(moving) == 0:
-        return coords, math.nan
-    dx, dy = step[moving[0]]
+    step = coords[1:2] - coords[:1]           # mostly the first step moves: tested alone
+    if not (len(step) and np.hypot(*step[0]) > 1e-9):
+        step = np.diff(coords, axis=0)
+        moving = np.flatnonzero(np.hypot(*step.T) > 1e-9)
+        if len(moving) == 0:
+            return coords, math.nan
+        step = step[moving[:1]]
+    dx, dy = step[0].tolist()
     return coords, math.atan2(dy, dx)
 
 
@@ -110,14 +114,21 @@ def check_turns(robot: Robot, field, graph, offset, floor=None) -> list[BodyShor
     nodes = sorted(graph.nodes, key=natural)
     xy = np.array([[graph.nodes[n]["x"], graph.nodes[n]["y"]] for n in nodes]).reshape(-1, 2)
     room = field.at(xy - shift) if len(nodes) else np.zeros(0)
+    # each edge's natural sort key and local coordinates, once (an edge meets two nodes)
+    keys_of, geometry = zip(*((key, data["geometry"]) for _, _, key, data in
+                              graph.edges(keys=True, data=True))) or ((), ())
+    rank = {key: natural(key) for key in keys_of}
+    local_of = dict(zip(keys_of, np.split(
+        shapely.get_coordinates(geometry) - shift,
+        np.cumsum(shapely.get_num_coordinates(geometry))[:-1])))
     for index, node in enumerate(nodes):
         here = xy[index] - shift
         incident = sorted(((key, data) for _, _, key, data in graph.edges(node, keys=True,
                                                                         data=True)),
-                          key=lambda item: natural(item[0]))
+                          key=lambda item: rank[item[0]])
         legs = {}
         for key, data in incident:
-            coords, heading = _leaving(shapely.get_coordinates(data["geometry"]) - shift, here)
+            coords, heading = _leaving(local_of[key], here)
             if not math.isnan(heading):
                 legs[key] = (coords, heading)
         allowed = set()
@@ -190,7 +201,7 @@ def car_bends(robot: Robot, field, lines, ends, floor=None):
     all_coords = []
     for line in lines:
         coords = shapely.get_coordinates(line)
-        coords = coords[np.r_[True, np.hypot(*np.diff(coords, axis=0).T) > 1e-9]]
+        coords = coords[np.concatenate([[True], np.hypot(*np.diff(coords, axis=0).T) > 1e-9])]
         all_coords.append(coords)
         mine = []
         if len(coords) >= 3:
@@ -201,7 +212,7 @@ def car_bends(robot: Robot, field, lines, ends, floor=None):
             span = (length[:-1] + length[1:]) / 2
             sharp = np.flatnonzero((turn > BEND_ANGLE) &
                                    (turn > (1 + BEND_SLACK) * span / robot.turn_radius)) + 1
-            for vertex in _bend_middles(sharp, np.r_[0.0, np.cumsum(length)],
+            for vertex in _bend_middles(sharp, np.concatenate([[0.0], np.cumsum(length)]),
                                         robot.turn_radius):
                 mine.append((vertex, len(jobs)))
                 jobs.append((coords[vertex], coords[:vertex + 1][::-1], coords[vertex:]))
