@@ -145,7 +145,7 @@ class DubinsPath:
         return np.concatenate(rows)
 
 
-def poses_of(paths, *, step: float = ARC_STEP) -> tuple[np.ndarray, np.ndarray]:
+def poses_of(paths, *, step: float = ARC_STEP, every: int | None = None):
     """The poses of many paths at once: ``path.poses(step=step)`` of each, the same
     numbers, one after another in one (N, 3) array; and how many each path has, (P,).
 
@@ -153,10 +153,16 @@ def poses_of(paths, *, step: float = ARC_STEP) -> tuple[np.ndarray, np.ndarray]:
     so the same floats), for the same segment of every path together: the math module's
     sine and cosine of each heading, numpy's of each arc's end; the poses within the
     segments, most of the work, for all segments together.
+
+    With `every` (an int > 0), only each path's poses whose index along it is a multiple
+    of `every`, and its last, are made (the same floats: each pose is worked out on its
+    own): returns those poses (N', 3), how many each path has in all (P,), and the index
+    of each of them in the array of all poses (N',).
     """
     count = len(paths)
     if count == 0:
-        return np.empty((0, 3)), np.zeros(0, dtype=int)
+        return (np.empty((0, 3)), np.zeros(0, dtype=int)) + \
+            ((np.zeros(0, dtype=int),) if every else ())
     width = max(len(path.word) for path in paths)
     letters = np.array([path.word.ljust(width) for path in paths], dtype=f"<U{width}")
     letters = letters.view("<U1").reshape(count, width)
@@ -204,11 +210,18 @@ def poses_of(paths, *, step: float = ARC_STEP) -> tuple[np.ndarray, np.ndarray]:
             x[turn] = cx + swing * np.sin(turned)
             y[turn] = cy - swing * np.cos(turned)
             heading[turn] = turned
+    if every:
+        # a path's poses are rows head .. head + counts - 1
+        index = np.arange(int(counts.sum())) - np.repeat(head, counts)
+        wanted = (index % every == 0) | (index == np.repeat(counts - 1, counts))
     if table:
         (x, y, heading, cx, cy, cos, sin, length, side, radius,
          pieces, row) = (np.concatenate(column) for column in zip(*table))
         each = np.repeat(np.arange(len(length)), pieces)
         k = np.arange(len(each)) - np.repeat(np.cumsum(pieces) - pieces, pieces) + 1
+        if every:
+            keep = wanted[row[each] + k - 1]
+            each, k = each[keep], k[keep]
         part = length[each] * k / pieces[each]
         at = row[each] + k - 1
         line = side[each] == 0
@@ -221,6 +234,9 @@ def poses_of(paths, *, step: float = ARC_STEP) -> tuple[np.ndarray, np.ndarray]:
         swing = side[a] * radius[a]
         out[at[arc]] = np.column_stack([cx[a] + swing * np.sin(turned),
                                         cy[a] - swing * np.cos(turned), turned])
+    if every:
+        rows = np.flatnonzero(wanted)
+        return out[rows], counts, rows
     return out, counts
 
 

@@ -16,7 +16,10 @@ of all manoeuvres are first judged together, a stage at a time, each asking the 
 field about many points at once, and only the few left undecided are measured:
 
 1. off the floor: a body point (centre or corner) outside the free floor at a pose means
-   the path crosses the floor's edge (it starts on a lane, where the body fits): refused;
+   the path crosses the floor's edge (it starts on a lane, where the body fits): refused.
+   This test comes first, on the poses stage 1 measures only (`_off_floor`); the other
+   poses are made for the paths it leaves (most of a turn round's forward loops leave
+   the floor, 150 poses each);
 2. two points of the body at every GROUP-th pose, then the second at each pose of the
    moves not yet clear: every body point lies within the swing radius of the rotation
    centre and within the half diagonal of the footprint's centre, so their clearance less
@@ -376,9 +379,51 @@ def car_gaps(robot: Robot, field, manoeuvres, floor=None) -> np.ndarray:
     return best
 
 
+def _off_floor(robot: Robot, paths, floor) -> np.ndarray:
+    """Which paths (P,) put a body point (the footprint's centre or a corner) off the
+    floor at one of the poses stage 1 measures: each path's every GROUP-th pose and its
+    last (the ends of its groups of moves). Only those poses are made (`poses_of` with
+    `every`: the same floats as among all of a path's poses)."""
+    some, counts, rows = poses_of(paths, step=MAX_STEP_ANGLE, every=GROUP)
+    path_of_end = np.searchsorted(np.cumsum(counts), rows, side="right")
+    corners = core(robot)[0]
+    body = np.concatenate([place(-np.asarray(robot.centre, float)[None], some[:, :2],
+                                 some[:, 2]), place(corners, some[:, :2], some[:, 2])],
+                          axis=1)
+    # the corners ahead first (most often those swinging off), the rest of the body only
+    # on the paths those leave on the floor: one point off refuses a path
+    ahead = np.argsort(-corners[:, 0], kind="stable")[:2] + 1
+    off = np.zeros(len(paths), bool)
+    for part in (ahead, np.setdiff1d(np.arange(body.shape[1]), ahead)):
+        rest = np.flatnonzero(~off[path_of_end])
+        inside = shapely.contains_xy(floor, body[rest][:, part].reshape(-1, 2)).reshape(
+            len(rest), len(part)).all(axis=1)
+        off[path_of_end[rest[~inside]]] = True
+    return off
+
+
 def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
     """Raise best[owner[k]] to the gap beside the body along paths[k] (or a bound of it,
     see the module's docstring), skipping exact checks of manoeuvres already possible."""
+    margin = robot.margin - 1e-9
+    extra = core(robot)[1] - robot.margin
+    if floor is not None and 0.0 - extra < margin:
+        # stage 1's floor test first, on its own poses only: a path it refuses has the
+        # gap 0.0 - extra, whatever the others do, and the rest need not make its poses
+        # (most of a turn round's forward loops, 150 poses each, swing off the floor)
+        off = _off_floor(robot, paths, floor)
+        np.maximum.at(best, owner[off], 0.0 - extra)
+        kept = np.flatnonzero(~off)
+        if len(kept):
+            _measure(robot, field, [paths[k] for k in kept], owner[kept], best, floor,
+                     tested=True)
+        return
+    _measure(robot, field, paths, owner, best, floor)
+
+
+def _measure(robot: Robot, field, paths, owner, best, floor=None, tested=False) -> None:
+    """`_judge` after stage 1's floor test where `tested` (the paths passed it), or with
+    it."""
     margin = robot.margin - 1e-9
     every, counts = poses_of(paths, step=MAX_STEP_ANGLE)
     first = np.r_[0, np.cumsum(counts)[:-1]]
@@ -421,7 +466,7 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
                      move_first[path_of_move[starts]] + counts[path_of_move[starts]] - 2,
                      stops)
     ends = np.unique(np.r_[move[starts], move[stops] + 1])
-    if floor is not None:
+    if floor is not None and not tested:
         # a body point off the floor at any pose: the path crosses the floor's edge (it
         # starts on it), where the gap is nil (0.0 - extra: never -0.0, printed "-0.00")
         corners = core(robot)[0]
@@ -570,19 +615,28 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
     np.minimum.at(high, path_of_move[tight], np.minimum(corner_room[a_end],
                                                         corner_room[b_end]))
     undecided = np.flatnonzero(settle(bound))
-    # stage 4: the exact hulls, path by path in the order tried, until one clears
+    # stage 4: the exact hulls of each path's moves, tightest first, PATH_CHUNK at a time
+    # until one falls short of the margin; the paths' chunks are measured together (one
+    # path per manoeuvre here, so none clears for another; each path's moves and values
+    # are its own)
+    orders, found = [], []
     for path in undecided:
-        if not np.isnan(value[path]) or best[owner[path]] >= margin:
-            continue
         mine = np.arange(move_first[path], move_first[path] + counts[path] - 1)
         mine = mine[bound[mine] < margin]          # the others are clear already
-        order = move[mine[np.argsort(bound[mine], kind="stable")]]
-        found = math.inf
-        for chunk in range(0, len(order), PATH_CHUNK):
-            some = order[chunk:chunk + PATH_CHUNK]
-            found = min(found, float(move_gaps(robot, field, every[some, :2], every[some, 2],
-                                               every[some + 1, :2], every[some + 1, 2]).min()))
-            if found < margin:
-                break
-        value[path] = found
-        best[owner[path]] = max(best[owner[path]], found)
+        orders.append(move[mine[np.argsort(bound[mine], kind="stable")]])
+        found.append(math.inf)
+    going = [k for k in range(len(undecided)) if len(orders[k])]
+    chunk = 0
+    while going:
+        some = [orders[k][chunk:chunk + PATH_CHUNK] for k in going]
+        flat = np.concatenate(some)
+        measured = move_gaps(robot, field, every[flat, :2], every[flat, 2],
+                             every[flat + 1, :2], every[flat + 1, 2])
+        lowest = np.minimum.reduceat(measured, np.cumsum([0] + [len(x) for x in some[:-1]]))
+        for k, low in zip(going, lowest.tolist()):
+            found[k] = min(found[k], low)
+        chunk += PATH_CHUNK
+        going = [k for k in going if found[k] >= margin and chunk < len(orders[k])]
+    for path, gap in zip(undecided.tolist(), found):
+        value[path] = gap
+        best[owner[path]] = max(best[owner[path]], gap)

@@ -97,21 +97,43 @@ def test_lengths_match_the_numerical_reference_at_random_poses():
         assert math.cos(end[2] - goal[2]) == pytest.approx(1.0, abs=1e-9)
 
 
-def test_poses_of_many_paths_are_those_of_each():
-    # analytic: the same operations on the same numbers give the same floats, so the
-    # poses of many paths at once equal each path's own, bit for bit, reversing ones too
-    rng = np.random.default_rng(7)
+def random_paths(rng, count):
+    """The shortest forward and the shortest Reeds-Shepp path between `count` random pose
+    pairs, some goals near the start."""
     paths = []
-    for _ in range(200):
+    for _ in range(count):
         start = (*rng.uniform(-20, 20, 2), rng.uniform(-4, 4))
         goal = (*rng.uniform(-20, 20, 2) * rng.choice([0.02, 1.0]), rng.uniform(-4, 4))
         radius = rng.uniform(0.5, 3.0)
         paths += [shortest_path(start, goal, radius),
                   reeds_shepp.shortest_path(start, goal, radius)]
+    return paths
+
+
+def test_poses_of_many_paths_are_those_of_each():
+    # analytic: the same operations on the same numbers give the same floats, so the
+    # poses of many paths at once equal each path's own, bit for bit, reversing ones too
+    paths = random_paths(np.random.default_rng(7), 200)
     every, counts = poses_of(paths, step=0.05)
     assert np.array_equal(every, np.concatenate([path.poses(step=0.05) for path in paths]))
     assert counts.tolist() == [len(path.poses(step=0.05)) for path in paths]
     assert poses_of([])[0].shape == (0, 3)
+
+
+@pytest.mark.parametrize("every", [1, 3, 8])
+def test_poses_of_every_kth_pose_are_those_of_all(every):
+    # analytic: each pose is worked out on its own, so the poses made alone are the rows
+    # of all poses, bit for bit: each path's multiples of `every` along it and its last
+    paths = random_paths(np.random.default_rng(11), 100)
+    full, counts = poses_of(paths, step=0.05)
+    some, some_counts, rows = poses_of(paths, step=0.05, every=every)
+    head = np.cumsum(counts) - counts
+    wanted = [h + j for h, n in zip(head.tolist(), counts.tolist())
+              for j in range(n) if j % every == 0 or j == n - 1]
+    assert rows.tolist() == wanted
+    assert np.array_equal(some, full[rows])
+    assert np.array_equal(some_counts, counts)
+    assert poses_of([], every=every)[2].shape == (0,)
 
 
 def test_remembered_candidates_give_the_same_path():

@@ -9,10 +9,11 @@ import pytest
 import shapely
 
 from clearway.roadmap import Robot
-from clearway.roadmap.body import MAX_STEP_ANGLE, move_gaps
+from clearway.roadmap.body import MAX_STEP_ANGLE, core, move_gaps, place
 from clearway.roadmap.clearance import clearance_field
 from clearway.roadmap.inflate import boundary_segments
-from clearway.roadmap.manoeuvres import CAR_REACH, car_gaps, cover, paths_tried
+from clearway.roadmap.manoeuvres import (CAR_REACH, GROUP, _off_floor, car_gaps, cover,
+                                         paths_tried)
 
 
 def exact_best(robot, field, here, arrive, leave):
@@ -38,6 +39,31 @@ def cluttered_floor(rng):
     return floor
 
 
+def some_manoeuvres(rng, floor, robot, count, turning_round=False):
+    """Up to `count` manoeuvres (node, arriving leg, leaving leg) found in 2,000 tries; as
+    on lanes, the body fits where the paths start and end, whichever way it heads. With
+    `turning_round`, every third one turns round on its arriving leg."""
+    found = []
+    for _ in range(2000):
+        if len(found) == count:
+            break
+        here = rng.uniform(2, 18, 2)
+        legs = []
+        for heading in rng.uniform(-math.pi, math.pi, 2):
+            far = here + rng.uniform(2, 6) * np.array([math.cos(heading), math.sin(heading)])
+            legs.append(np.array([here, (here + far) / 2, far]))
+        if turning_round and len(found) % 3 == 2:
+            legs[1] = legs[0]
+        poses = [shapely.line_interpolate_point(shapely.LineString(leg),
+                                                robot.turn_radius * np.array(CAR_REACH))
+                 for leg in legs]
+        room = shapely.buffer(shapely.multipoints(np.concatenate(
+            [shapely.get_coordinates(p) for p in poses])), robot.swing + robot.margin)
+        if floor.contains(room):
+            found.append((here, *legs))
+    return found
+
+
 @pytest.mark.parametrize("seed", range(3))
 def test_bulk_judgement_agrees_with_measuring_every_path(seed):
     # analytic: the bounds only settle a path the exact check would settle the same way
@@ -48,23 +74,7 @@ def test_bulk_judgement_agrees_with_measuring_every_path(seed):
     robots = [Robot.rectangle(1.4, 0.8, margin=0.1, kind="car", centre=(-0.5, 0.0),
                               turn_radius=2.5, reverse=bool(seed % 2)),
               Robot.disc(0.4, margin=0.1, kind="car", turn_radius=2.0, reverse=True)]
-    manoeuvres = []
-    for _ in range(2000):
-        if len(manoeuvres) == 16:
-            break
-        # as on lanes, the body fits where the paths start and end, whichever way it heads
-        here = rng.uniform(2, 18, 2)
-        legs = []
-        for heading in rng.uniform(-math.pi, math.pi, 2):
-            far = here + rng.uniform(2, 6) * np.array([math.cos(heading), math.sin(heading)])
-            legs.append(np.array([here, (here + far) / 2, far]))
-        poses = [shapely.line_interpolate_point(shapely.LineString(leg),
-                                                robots[0].turn_radius * np.array(CAR_REACH))
-                 for leg in legs]
-        room = shapely.buffer(shapely.multipoints(np.concatenate(
-            [shapely.get_coordinates(p) for p in poses])), robots[0].swing + robots[0].margin)
-        if floor.contains(room):
-            manoeuvres.append((here, *legs))
+    manoeuvres = some_manoeuvres(rng, floor, robots[0], 16)
     assert len(manoeuvres) >= 8
     manoeuvres += [(here, leg, leg) for here, leg, _ in manoeuvres[:6]]       # turning round
     outcomes = set()
@@ -79,6 +89,52 @@ def test_bulk_judgement_agrees_with_measuring_every_path(seed):
                     assert max(gap, 0.0) >= exact - 1e-9
                 outcomes.add(bool(gap >= robot.margin - 1e-9))
     assert outcomes == {True, False}                      # both kinds of answer tried
+
+
+@pytest.mark.parametrize("seed", range(2))
+def test_each_manoeuvre_is_judged_on_its_own(seed):
+    # analytic: a manoeuvre's figure is that of its own paths (manoeuvres.py), so judging
+    # all together gives each the same number, bit for bit, as judging it alone (the
+    # paths the floor test refuses are dropped from the rest, the others' exact hulls are
+    # measured together)
+    rng = np.random.default_rng(20 + seed)
+    floor = cluttered_floor(rng)
+    field = clearance_field(boundary_segments(floor)[0])
+    robot = Robot.rectangle(1.4, 0.8, margin=0.1, kind="car", centre=(-0.5, 0.0),
+                            turn_radius=3.0, reverse=True)
+    manoeuvres = some_manoeuvres(rng, floor, robot, 18, turning_round=True)
+    assert len(manoeuvres) >= 9
+    together = car_gaps(robot, field, manoeuvres, floor)
+    alone = [car_gaps(robot, field, [manoeuvre], floor)[0] for manoeuvre in manoeuvres]
+    assert together.tolist() == alone
+    refused = together < robot.margin - 1e-9
+    assert refused.any() and not refused.all()             # both kinds of answer tried
+
+
+def test_off_floor_is_stage_one_floor_test():
+    # analytic: by definition, a path is off the floor where the footprint's centre or a
+    # corner lies outside it at one of its every GROUP-th poses or its last
+    rng = np.random.default_rng(5)
+    floor = cluttered_floor(rng)
+    robot = Robot.rectangle(1.4, 0.8, margin=0.1, kind="car", centre=(-0.5, 0.0),
+                            turn_radius=2.0, reverse=True)
+    paths = []
+    for here, arrive, leave in some_manoeuvres(rng, floor, robot, 12, turning_round=True):
+        for step in range(len(CAR_REACH)):
+            for backing in (False, True):
+                paths += paths_tried(robot, here, arrive, leave, step, backing) or []
+    expected = []
+    for path in paths:
+        poses = path.poses(step=MAX_STEP_ANGLE)
+        index = np.arange(len(poses))
+        poses = poses[(index % GROUP == 0) | (index == len(poses) - 1)]
+        body = np.concatenate([place(-np.asarray(robot.centre, float)[None], poses[:, :2],
+                                     poses[:, 2]),
+                               place(core(robot)[0], poses[:, :2], poses[:, 2])], axis=1)
+        expected.append(not shapely.contains_xy(floor, body.reshape(-1, 2)).all())
+    found = _off_floor(robot, paths, floor)
+    assert found.tolist() == expected
+    assert 0 < sum(expected) < len(paths)                   # both kinds of path tried
 
 
 def test_discs_cover_the_footprint():
