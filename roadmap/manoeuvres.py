@@ -409,21 +409,22 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
     extra = core(robot)[1] - robot.margin
     if floor is not None and 0.0 - extra < margin:
         # stage 1's floor test first, on its own poses only: a path it refuses has the
-        # gap 0.0 - extra, whatever the others do, and the rest need not make its poses
-        # (most of a turn round's forward loops, 150 poses each, swing off the floor)
+        # gap 0.0 - extra (never -0.0, printed "-0.00"), whatever the others do, and the
+        # rest need not make its poses (most of a turn round's forward loops, 150 poses
+        # each, swing off the floor). Where 0.0 - extra keeps the margin (a rectangle and
+        # no margin) the test could refuse nothing, and is skipped
         off = _off_floor(robot, paths, floor)
         np.maximum.at(best, owner[off], 0.0 - extra)
         kept = np.flatnonzero(~off)
-        if len(kept):
-            _measure(robot, field, [paths[k] for k in kept], owner[kept], best, floor,
-                     tested=True)
-        return
+        if not len(kept):
+            return
+        paths, owner = [paths[k] for k in kept], owner[kept]
     _measure(robot, field, paths, owner, best, floor)
 
 
-def _measure(robot: Robot, field, paths, owner, best, floor=None, tested=False) -> None:
-    """`_judge` after stage 1's floor test where `tested` (the paths passed it), or with
-    it."""
+def _measure(robot: Robot, field, paths, owner, best, floor=None) -> None:
+    """`_judge` from stage 1's clearance queries on, for paths that passed its floor
+    test."""
     margin = robot.margin - 1e-9
     every, counts = poses_of(paths, step=MAX_STEP_ANGLE)
     first = np.r_[0, np.cumsum(counts)[:-1]]
@@ -466,29 +467,6 @@ def _measure(robot: Robot, field, paths, owner, best, floor=None, tested=False) 
                      move_first[path_of_move[starts]] + counts[path_of_move[starts]] - 2,
                      stops)
     ends = np.unique(np.r_[move[starts], move[stops] + 1])
-    if floor is not None and not tested:
-        # a body point off the floor at any pose: the path crosses the floor's edge (it
-        # starts on it), where the gap is nil (0.0 - extra: never -0.0, printed "-0.00")
-        corners = core(robot)[0]
-        body = np.concatenate([points[1][ends][:, None], place(corners, every[ends, :2],
-                                                               every[ends, 2])], axis=1)
-        # the corners ahead first (most often those swinging off), the rest of the body
-        # only on the paths those leave on the floor: one point off refuses a path
-        path_of_end = np.searchsorted(first, ends, side="right") - 1
-        ahead = np.argsort(-core(robot)[0][:, 0], kind="stable")[:2] + 1
-        inside = np.ones(body.shape[:2], bool)
-        for part in (ahead, np.setdiff1d(np.arange(body.shape[1]), ahead)):
-            some = np.flatnonzero(high[path_of_end] >= margin)
-            inside[some[:, None], part] = shapely.contains_xy(
-                floor, body[some][:, part].reshape(-1, 2)).reshape(len(some), len(part))
-            np.minimum.at(high, path_of_end[~inside.all(axis=1)], 0.0 - extra)
-        # those paths are refused: the others only are measured
-        keep = high[np.searchsorted(first, ends, side="right") - 1] >= margin
-        ends = ends[keep]
-    measured = high[path_of_move[starts]] >= margin
-    if not len(ends):                     # every path refused
-        settle(np.full(len(move), -np.inf))
-        return
     # the footprint's centre first; the rotation centre, `apart` from it, only where its
     # clearance could matter: where it could bring a path's upper bound below the margin,
     # or give a group of moves a larger bound than the centre's, and one below the margin
@@ -499,10 +477,9 @@ def _measure(robot: Robot, field, paths, owner, best, floor=None, tested=False) 
                for chord in chords]
     rooms = [np.full(len(ends), -np.inf), field.at(points[1][ends])]
     lowest = np.minimum(*(rooms[1][at] for at in group_ends))
-    by_centre = np.where(measured, lowest, -np.inf) - spreads[1] - circum
+    by_centre = lowest - spreads[1] - circum
     apart = math.hypot(*robot.centre) + NEARBY_SLACK
-    over = measured & (lowest + apart - spreads[0] - outer > by_centre) & \
-        (by_centre - extra < margin)
+    over = (lowest + apart - spreads[0] - outer > by_centre) & (by_centre - extra < margin)
     want = rooms[1] - apart - inner - extra < margin + NEARBY_SLACK
     want[group_ends[0][over]] = want[group_ends[1][over]] = True
     want = np.flatnonzero(want)
