@@ -124,6 +124,52 @@ def _label_cells(covered):
     return index
 
 
+def split_at_gaps(boxes, labels, gap):
+    """Split each group of boxes (N, 4) where a band at least `gap` wide runs across it, in x
+    or in y, with no box in it; again in each part, until none does. Return the new labels.
+
+    The raster of :func:`group_boxes` joins boxes up to two cells apart: two plans of the
+    same floor stacked on a sheet 3.6 m apart (the floor plan above its electrical plan)
+    would be built as one.
+
+    Examples
+    --------
+    >>> split_at_gaps([(0, 0, 10, 8), (0, 11.5, 10, 19.5), (4, 8, 5, 9)], np.array([0, 0, 0]),
+    ...               2.0).tolist()
+    [0, 1, 0]
+    """
+    boxes = np.asarray(boxes, dtype=float).reshape(-1, 4)
+    labels = np.asarray(labels, dtype=np.int64)
+    if not len(labels):
+        return labels
+    groups = [np.flatnonzero(labels == label) for label in range(int(labels.max()) + 1)]
+    done = []
+    while groups:
+        members = groups.pop()
+        beyond = _beyond_a_gap(boxes[members], gap)
+        if beyond is None:
+            done.append(members)
+        else:
+            groups += [members[~beyond], members[beyond]]
+    done.sort(key=lambda members: int(members.min()))
+    split = np.empty_like(labels)
+    for label, members in enumerate(done):
+        split[members] = label
+    return split
+
+
+def _beyond_a_gap(boxes, gap):
+    """Which boxes lie beyond the first empty band at least `gap` wide (x, then y), or None."""
+    for axis in (0, 1):
+        low, high = boxes[:, axis], boxes[:, axis + 2]
+        order = np.argsort(low, kind="stable")
+        reach = np.maximum.accumulate(high[order])
+        wide = np.flatnonzero(low[order][1:] - reach[:-1] >= gap)
+        if len(wide):
+            return low >= low[order][wide[0] + 1]
+    return None
+
+
 def merge_nested(boxes, labels):
     """Join groups whose extents overlap, until none do; return the new labels (0..G-1).
 
@@ -178,7 +224,7 @@ def find_views(boxes, swing_points, *, gap, faces=None):
     >>> find_views(boxes, np.empty((0, 2)), gap=2.0, faces=np.array([4, 2, 0]))[0].tolist()
     [0, 0, 1]
     """
-    labels = merge_nested(boxes, group_boxes(boxes, gap))
+    labels = merge_nested(boxes, split_at_gaps(boxes, group_boxes(boxes, gap), gap))
     if not len(labels):
         return labels, []
     views = []

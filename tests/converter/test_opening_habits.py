@@ -148,6 +148,25 @@ def test_a_sheet_frame_is_not_taken_for_the_shell(tmp_path, frame_layer, frame_g
         read_floorplan(save(doc, tmp_path))
 
 
+@pytest.mark.parametrize("apart", [2.5, 3.6])
+def test_two_plans_of_the_floor_stacked_on_the_sheet_are_two_drawings(tmp_path, apart):
+    # common practice: the floor plan above its electrical plan, the same walls twice, `apart`
+    # metres between them: more than the 2 m that joins linework, less than the two 2 m cells
+    # of the grouping raster; door swings in the lower plan only (a wardrobe's, free of the
+    # walls), so it is the one built
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 10, 8)
+    walled_room(msp, 0, 8 + apart, 10, 16 + apart)
+    msp.add_arc((4, 3), 0.6, 0, 90, dxfattribs={"layer": "A-DOOR"})
+    msp.add_arc((6, 3), 0.6, 90, 180, dxfattribs={"layer": "A-DOOR"})
+    plan = read_floorplan(save(doc, tmp_path))
+    assert any("2 separate drawings" in warning for warning in plan.warnings)
+    # analytic: one room inside 0.2 m walls, 9.6 m x 7.6 m
+    assert plan.free_space.area == pytest.approx(9.6 * 7.6, rel=1e-6)
+    assert plan.free_space.bounds[3] < 8
+
+
 def test_a_column_far_from_the_walls_belongs_to_the_plan(tmp_path):
     # a 20 m hall drawn as single LINEs, a 1 m column in its middle, 9.5 m from every wall;
     # an elevation of the same wall 30 m to the east on the same layer
