@@ -188,19 +188,19 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
                    nominal_wall_thickness=nominal_wall_thickness, label_radius=label_radius,
                    limits=limits, region=region)
     try:
-        plan, mapping = _read_plan(path, roles=roles, **options)
+        plan, mapping, whole = _read_plan(path, roles=roles, **options)
     except NoEnclosedFloor as error:
-        plan, mapping, failure = None, error.mapping, error
+        plan, mapping, whole, failure = None, error.mapping, error.whole, error
     if (plan is None or plan.floor_doubt) and not roles.explicit & {"wall", "boundary"} \
             and not mapping.by_role["boundary"]:
-        shell = enclosing_layer(mapping, gap_tolerance=gap_tolerance,
+        shell = enclosing_layer(mapping, whole, gap_tolerance=gap_tolerance,
                                 reach=max_wall_thickness)
         if shell is not None:
             name, held = shell
             wider = Roles({**roles.patterns, "wall": roles.patterns["wall"] + (_glob_literal(name),)},
                           roles.explicit)
             try:
-                retry, _ = _read_plan(path, roles=wider, **options)
+                retry = _read_plan(path, roles=wider, **options)[0]
             except NoEnclosedFloor:
                 retry = None
             if retry is not None and (plan is None or (
@@ -217,11 +217,11 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
 
 
 class NoEnclosedFloor(DrawingError):
-    """The walls enclose no free space (`mapping`: the drawing as read)."""
+    """The walls enclose no free space (`mapping`, `whole`: as :func:`_read_plan` returns)."""
 
-    def __init__(self, message, mapping):
+    def __init__(self, message, mapping, whole):
         super().__init__(message)
-        self.mapping = mapping
+        self.mapping, self.whole = mapping, whole
 
 
 def _glob_literal(name):
@@ -236,9 +236,11 @@ def _glob_literal(name):
 
 def _read_plan(path, *, roles, units, chord_tolerance, gap_tolerance, max_wall_thickness,
                nominal_wall_thickness, label_radius, limits, region):
-    """read_floorplan with these roles: return (FloorPlan, LayerMapping).
+    """read_floorplan with these roles: return (FloorPlan, LayerMapping, whole), `whole` the
+    drawing's parts by layer before the other drawings in model space were left out.
 
-    Raises NoEnclosedFloor, carrying the mapping, when the walls enclose no free space.
+    Raises NoEnclosedFloor, carrying the mapping and `whole`, when the walls enclose no free
+    space.
     """
     mapping = map_drawing(path, roles=roles, units=units, chord_tolerance=chord_tolerance,
                           limits=limits)
@@ -248,6 +250,7 @@ def _read_plan(path, *, roles, units, chord_tolerance, gap_tolerance, max_wall_t
         raise DrawingError(f"{source}: model space is empty")
     warnings = list(mapping.warnings)
     visible, by_role = mapping.visible, mapping.by_role
+    whole = dict(content.parts)
     views = keep_one_view(mapping, region=region)
     warnings += views.warnings
     _check_mapped(content, roles, by_role, source)
@@ -317,7 +320,7 @@ def _read_plan(path, *, roles, units, chord_tolerance, gap_tolerance, max_wall_t
         raise NoEnclosedFloor(f"{subject}: no enclosed floor: the wall layers "
                               f"({', '.join(by_role['wall'][:4]) or 'none'}) enclose no free space "
                               f"and no boundary is drawn;{_wall_hint(mapping)} check the layer "
-                              f"roles with `clearway layers`", mapping)
+                              f"roles with `clearway layers`", mapping, whole)
     limits.check("max_boundary_length", float(free.boundary.length), subject=subject,
                  what="length of the free space's boundary in metres (the roadmap samples it "
                       "every 0.25 to 1 m)")
@@ -333,7 +336,7 @@ def _read_plan(path, *, roles, units, chord_tolerance, gap_tolerance, max_wall_t
                      drawing_date=content.drawing_date, repairs=tuple(content.repairs),
                      openings=interior.openings, texts=texts, unit_source=mapping.unit_source,
                      unit_evidence=tuple(mapping.unit_evidence), left_out=mapping.left_out,
-                     unit_doubt=mapping.unit_doubt, floor_doubt=floor_doubt), mapping
+                     unit_doubt=mapping.unit_doubt, floor_doubt=floor_doubt), mapping, whole
 
 
 #: A floor (racking and all) covering less than this share of the convex hull of the walls
@@ -375,7 +378,7 @@ NOT_SHELL = NOT_WALLS + ("*BORDER*", "*FRAME*", "*RAHMEN*", "*SHEET*", "*CARTOUC
 SHELL_HOLDS = 0.9
 
 
-def enclosing_layer(mapping, *, gap_tolerance, reach):
+def enclosing_layer(mapping, whole, *, gap_tolerance, reach):
     """Return (layer, share held) for the layer with no role that is the walls' shell, or None.
 
     The wall layers may hold only part of a building: new partitions on a layer named for
@@ -384,12 +387,13 @@ def enclosing_layer(mapping, *, gap_tolerance, reach):
     whose outline (the faces its lines close, holes filled) holds at least SHELL_HOLDS of
     the wall layers' line length, and whose lines come within `reach` metres of them (a
     frame drawn round the sheet keeps its distance from the plan), is taken for their shell;
-    of several, the tightest outline.
+    of several, the tightest outline. `whole`: parts by layer, every drawing in model space
+    (the named walls alone may have been split into drawings of their own).
     """
-    content, factor = mapping.content, mapping.m_per_unit
+    factor = mapping.m_per_unit
 
     def linework(names):
-        parts = Parts.concat([content.parts[name] for name in names if name in content.parts])
+        parts = Parts.concat([whole[name] for name in names if name in whole])
         lines, rings, _ = parts.scaled(factor, grid=SNAP_M).geometries()
         return np.concatenate([lines, rings])
 
@@ -398,7 +402,7 @@ def enclosing_layer(mapping, *, gap_tolerance, reach):
         return None
     best = None
     for name in sorted(mapping.visible):
-        if mapping.role_of.get(name) is not None or name not in content.parts or \
+        if mapping.role_of.get(name) is not None or name not in whole or \
                 matches_any(name_candidates(name), NOT_SHELL):
             continue
         own = linework([name])
