@@ -142,6 +142,10 @@ def split_at_gaps(boxes, labels, gap):
     labels = np.asarray(labels, dtype=np.int64)
     if not len(labels):
         return labels
+    with np.errstate(over="ignore", invalid="ignore"):
+        span = boxes[:, 2:].max(axis=0) - boxes[:, :2].min(axis=0)
+        if not np.isfinite(span[0] * span[1]):
+            return labels            # absurd extents, as group_boxes: the limits refuse them
     groups = [np.flatnonzero(labels == label) for label in range(int(labels.max()) + 1)]
     done = []
     while groups:
