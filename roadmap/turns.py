@@ -115,12 +115,12 @@ def check_turns(robot: Robot, field, graph, offset, floor=None) -> list[BodyShor
     xy = np.array([[graph.nodes[n]["x"], graph.nodes[n]["y"]] for n in nodes]).reshape(-1, 2)
     room = field.at(xy - shift) if len(nodes) else np.zeros(0)
     # each edge's natural sort key and local coordinates, once (an edge meets two nodes)
-    keys_of, geometry = zip(*((key, data["geometry"]) for _, _, key, data in
-                              graph.edges(keys=True, data=True))) or ((), ())
+    keys_of = [key for _, _, key in graph.edges(keys=True)]
+    geometry = [data for _, _, data in graph.edges(data="geometry")]     # the same order
     rank = {key: natural(key) for key in keys_of}
     local_of = dict(zip(keys_of, np.split(
-        shapely.get_coordinates(geometry) - shift,
-        np.cumsum(shapely.get_num_coordinates(geometry))[:-1])))
+        shapely.get_coordinates(geometry).reshape(-1, 2) - shift,
+        np.cumsum(shapely.get_num_coordinates(geometry)).astype(int)[:-1])))
     for index, node in enumerate(nodes):
         here = xy[index] - shift
         incident = sorted(((key, data) for _, _, key, data in graph.edges(node, keys=True,

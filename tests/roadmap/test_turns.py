@@ -221,3 +221,17 @@ def test_car_that_may_reverse_turns_round_where_a_forward_u_turn_does_not_fit(re
     found = turns_at(robot, floor, graph)
     assert (("e1", "e1") in found) is reverse and (("e2", "e2") in found) is reverse
     assert ("e1", "e2") in found                       # straight through, either way
+
+
+@pytest.mark.parametrize("kind", ["differential", "car"])
+def test_a_node_without_lanes_has_no_turn(kind):
+    # analytic: a node no lane meets (a room's only vertex) has no pair of edges to turn
+    # between, so nothing to allow or forbid, and no lane to drive back along
+    walls = np.array([[[0, 0], [10, 0]], [[0, 2], [10, 2]]], dtype=float)
+    graph = nx.MultiGraph()
+    graph.add_node("n0", x=5.0, y=1.0)
+    robot = Robot.rectangle(1.4, 0.8, margin=0.1, kind=kind,
+                            **({"turn_radius": 1.5} if kind == "car" else {}))
+    assert check_turns(robot, clearance_field(walls), graph, (0.0, 0.0)) == []
+    assert graph.nodes["n0"]["turns"] == "-"
+    assert graph.nodes["n0"]["reverse_only"] is False
