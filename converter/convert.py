@@ -191,7 +191,10 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
         plan, mapping, whole = _read_plan(path, roles=roles, **options)
     except NoEnclosedFloor as error:
         plan, mapping, whole, failure = None, error.mapping, error.whole, error
-    if (plan is None or plan.floor_doubt) and not roles.explicit & {"wall", "boundary"} \
+    # only when the walls enclose nothing: where they enclose too little, a layer round them
+    # is as likely the sheet's frame or the site as the building (a house on a slope took
+    # its drawing's frame, and lanes ran round the house outside)
+    if plan is None and not roles.explicit & {"wall", "boundary"} \
             and not mapping.by_role["boundary"]:
         shell = enclosing_layer(mapping, whole, gap_tolerance=gap_tolerance,
                                 reach=max_wall_thickness)
@@ -203,11 +206,9 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
                 retry = _read_plan(path, roles=wider, **options)[0]
             except NoEnclosedFloor:
                 retry = None
-            if retry is not None and (plan is None or (
-                    not retry.floor_doubt and retry.free_space.area > plan.free_space.area)):
+            if retry is not None:
                 walls = ", ".join(mapping.by_role["wall"][:3])
-                found = "no floor" if plan is None else "too little floor"
-                note = (f"{mapping.content.source}: the wall layers ({walls}) enclose {found}; "
+                note = (f"{mapping.content.source}: the wall layers ({walls}) enclose no floor; "
                         f"layer {name!r} surrounds them ({held:.0%} of their lines lie inside its "
                         f"outline) and was taken for walls too; pass --walls to choose")
                 return replace(retry, warnings=retry.warnings + (note,))

@@ -167,6 +167,24 @@ def test_two_plans_of_the_floor_stacked_on_the_sheet_are_two_drawings(tmp_path, 
     assert plan.free_space.bounds[3] < 8
 
 
+def test_a_frame_round_walls_that_enclose_some_floor_is_not_taken(tmp_path):
+    # a 4 m room inside a yard walled on three sides (a 0.2 m U band, 20 m x 10 m, open to
+    # the north): the walls enclose the room, so a layer with no role drawn 0.3 m round
+    # everything is not searched for a shell: it is the sheet's frame, and taking it would
+    # put lanes round the outside (the real-drawing probes hold a house on a slope that did)
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, 10, 2, 14, 6)
+    yard = [(6, 10), (6, 0), (26, 0), (26, 10), (25.8, 10), (25.8, 0.2), (6.2, 0.2), (6.2, 10)]
+    msp.add_lwpolyline(yard, close=True, dxfattribs={"layer": "A-WALL"})
+    msp.add_lwpolyline(rectangle(5.7, -0.3, 26.3, 10.3), close=True,
+                       dxfattribs={"layer": "Layer 7"})
+    plan = read_floorplan(save(doc, tmp_path))
+    assert not any("surrounds them" in warning for warning in plan.warnings)
+    # analytic: the room inside its 0.2 m walls alone
+    assert plan.free_space.area == pytest.approx(3.6 * 3.6, rel=1e-6)
+
+
 def test_a_column_far_from_the_walls_belongs_to_the_plan(tmp_path):
     # a 20 m hall drawn as single LINEs, a 1 m column in its middle, 9.5 m from every wall;
     # an elevation of the same wall 30 m to the east on the same layer
