@@ -13,6 +13,7 @@ import re
 from dataclasses import dataclass
 
 import numpy as np
+import shapely
 
 from clearway.converter.openings import arc_radius
 from clearway.converter.units import UNITS_TO_M
@@ -66,6 +67,50 @@ def door_swings(arcs):
     the way door swings are drawn."""
     radius, sweep = arc_radius(arcs)
     return radius[(sweep >= 60) & (sweep <= 120) & (radius > 0)]
+
+
+#: A door swing hinges on a jamb: its centre lies on the wall's linework or within the wall's
+#: thickness of it, at most this share of its radius (a 0.9 m leaf in a 0.45 m wall; common
+#: practice). Arcs in fittings and symbols (basins, bubbles, arrows) mostly do not.
+HINGE_REACH = 0.5
+
+
+def hinged_on(arcs, lines):
+    """Which flattened `arcs` (drawing units) have their centre within HINGE_REACH of their
+    radius of `lines`, shape (N,).
+
+    Examples
+    --------
+    >>> import shapely
+    >>> wall = [shapely.LineString([(0, 0), (10, 0)])]
+    >>> swing = shapely.LineString([(2.9, 0), (2 + 0.9 * 0.7071, 0.9 * 0.7071), (2, 0.9)])
+    >>> basin = shapely.LineString([(5.3, 3), (5 + 0.3 * 0.7071, 3 + 0.3 * 0.7071), (5, 3.3)])
+    >>> hinged_on([swing, basin], wall).tolist()
+    [True, False]
+    """
+    arcs = np.asarray(arcs, dtype=object)
+    if not len(arcs) or not len(lines):
+        return np.zeros(len(arcs), dtype=bool)
+    xy, index = shapely.get_coordinates(arcs, return_index=True)
+    count = np.bincount(index, minlength=len(arcs))
+    first = np.cumsum(count) - count
+    a, b, c = xy[first], xy[first + count // 2], xy[first + count - 1]
+    # the circumcentre of the arc's ends and middle vertex
+    d = 2 * (a[:, 0] * (b[:, 1] - c[:, 1]) + b[:, 0] * (c[:, 1] - a[:, 1])
+             + c[:, 0] * (a[:, 1] - b[:, 1]))
+    sa, sb, sc = (a ** 2).sum(axis=1), (b ** 2).sum(axis=1), (c ** 2).sum(axis=1)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        x = (sa * (b[:, 1] - c[:, 1]) + sb * (c[:, 1] - a[:, 1]) + sc * (a[:, 1] - b[:, 1])) / d
+        y = (sa * (c[:, 0] - b[:, 0]) + sb * (a[:, 0] - c[:, 0]) + sc * (b[:, 0] - a[:, 0])) / d
+        radius = np.hypot(a[:, 0] - x, a[:, 1] - y)
+    ok = np.isfinite(x) & np.isfinite(y) & np.isfinite(radius) & (count >= 3)
+    near = np.zeros(len(arcs), dtype=bool)
+    if ok.any():
+        tree = shapely.STRtree(np.asarray(lines, dtype=object))
+        centres = shapely.points(x[ok], y[ok])
+        _, distance = tree.query_nearest(centres, return_distance=True, all_matches=False)
+        near[np.flatnonzero(ok)] = distance <= HINGE_REACH * radius[ok]
+    return near
 
 
 def wall_thicknesses(lines, *, limit=4000):

@@ -16,7 +16,7 @@ import shapely
 from clearway.errors import DrawingError
 
 from clearway.converter.evidence import (decide_from_content, describe, gather_evidence,
-                                         header_evidence, judge_units, nearest_parallel, rack_depths,
+                                         header_evidence, hinged_on, judge_units, nearest_parallel, rack_depths,
                                          wall_thicknesses, WALL_THICKNESS_M)
 from clearway.converter.floorplan import ROLES, LeftOutLayer
 from clearway.converter.inserts import BLOCK_OPENING_PREFIX
@@ -205,6 +205,15 @@ def _span(content, layers):
     return span if np.isfinite(span) else 0.0
 
 
+#: Door swings hinged on the walls that are enough to judge the unit by alone.
+MIN_HINGED_SWINGS = 3
+
+
+def _quarter_turns(arcs):
+    _, sweep = arc_radius(arcs)
+    return (sweep >= 60) & (sweep <= 120)
+
+
 def _decide_units(content, override, by_role, visible, role_of):
     """(units, m_per_unit, note, source, evidence lines, warnings, unit doubt) for a drawing."""
     source = content.source
@@ -217,6 +226,12 @@ def _decide_units(content, override, by_role, visible, role_of):
     arcs = Parts.concat([content.parts[name] for name in arc_layers if name in content.parts]).arcs()
     wall = Parts.concat([content.parts[name] for name in by_role["wall"] if name in content.parts])
     lines, rings, _ = wall.geometries()
+    if len(arcs):
+        # door swings hinge on the walls: arcs of fittings and symbols elsewhere (basins,
+        # section bubbles) would speak for another unit; kept all when too few are hinged
+        hinged = hinged_on(arcs, np.concatenate([lines, rings])) & _quarter_turns(arcs)
+        if hinged.sum() >= MIN_HINGED_SWINGS:
+            arcs = arcs[hinged]
     racks = Parts.concat([content.parts[name] for name in by_role["racking"]
                           if name in content.parts])
     evidence = gather_evidence(swing_arcs=arcs, wall_lines=np.concatenate([lines, rings]),

@@ -58,3 +58,24 @@ def test_units_option_overrides_the_header(tmp_path):
     plan = read_floorplan(save(doc, tmp_path), units="mm")
     assert plan.extents == pytest.approx((0, 0, 10, 8), abs=1e-4)
     assert "--units mm" in plan.unit_note
+
+
+def test_door_swings_are_the_arcs_hinged_on_the_walls(tmp_path):
+    """A plan drawn in mm under an inch header, with more small quarter arcs in its fittings
+    (basins, bubbles: 45 units, a door leaf's size in inches) than door swings (900 units,
+    hinged on a jamb). Only arcs centred on the walls' linework speak for doors: the plan is
+    read in mm. common practice"""
+    from tests.conftest import new_drawing, save, walled_room
+    from clearway.converter import read_floorplan
+
+    doc = new_drawing(1)                                  # says inches; drawn in mm
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 12000, 8000, thickness=200)
+    for k in range(4):                                    # leaves hinged on the inner face
+        msp.add_arc((2000 + 2500 * k, 200), 900, 0, 90, dxfattribs={"layer": "A-DOOR"})
+    for k in range(30):                                   # fittings' arcs, 1.5 m from walls
+        x, y = 1700 + 300 * (k % 30), 3000 + 200 * (k % 5)
+        msp.add_arc((x, y), 45, 0, 90, dxfattribs={"layer": "FITTINGS"})
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: 0.9 m leaves and 0.2 m walls in mm; 22.9 m leaves and 5 m walls in inches
+    assert plan.units == "mm", plan.unit_note
