@@ -384,7 +384,7 @@ def enclosing_layer(mapping, whole, *, gap_tolerance, reach):
 
     The wall layers may hold only part of a building: new partitions on a layer named for
     walls (``Wand (neu)``), the outer walls drawn as single lines on a layer named for
-    nothing (``Base``). Alone they enclose no floor, or too little. A layer with no role
+    nothing (``Base``). Alone they enclose no floor at all. A layer with no role
     whose outline (the faces its lines close, holes filled) holds at least SHELL_HOLDS of
     the wall layers' line length, and whose lines come within `reach` metres of them (a
     frame drawn round the sheet keeps its distance from the plan), is taken for their shell;
