@@ -202,7 +202,7 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
             name, held = shell
             wider = Roles({**roles.patterns, "wall": roles.patterns["wall"] + (_glob_literal(name),)},
                           roles.explicit)
-            try:
+            try:        # reads the file again: only drawings that would fail come here
                 retry = _read_plan(path, roles=wider, **options)[0]
             except NoEnclosedFloor:
                 retry = None

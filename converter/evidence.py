@@ -95,7 +95,8 @@ def hinged_on(arcs, lines):
     count = np.bincount(index, minlength=len(arcs))
     first = np.cumsum(count) - count
     a, b, c = xy[first], xy[first + count // 2], xy[first + count - 1]
-    # the circumcentre of the arc's ends and middle vertex
+    # the circumcentre of the arc's ends and middle vertex (roadmap.delaunay.circumcircles
+    # does the same for triangles, but importing it would load scipy.spatial to read a file)
     d = 2 * (a[:, 0] * (b[:, 1] - c[:, 1]) + b[:, 0] * (c[:, 1] - a[:, 1])
              + c[:, 0] * (a[:, 1] - b[:, 1]))
     sa, sb, sc = (a ** 2).sum(axis=1), (b ** 2).sum(axis=1), (c ** 2).sum(axis=1)
