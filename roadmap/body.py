@@ -37,6 +37,10 @@ MAX_STEP_ANGLE = 0.05
 TRIM_STEPS = 20
 #: Trimmed lanes shorter than this are dropped, metres.
 MIN_LANE = 0.05
+#: With no margin, a hull crossing the boundary by more than this is refused, metres; its
+#: gap is CROSSING (below any margin's least gap, and not -0.0, which prints "-0.00").
+OVERLAP = 1e-6
+CROSSING = -1e-6
 
 
 def core(robot: Robot) -> tuple[np.ndarray, float]:
@@ -81,6 +85,24 @@ def hulls(robot: Robot, a_xy, a_heading, b_xy, b_heading) -> np.ndarray:
 def gaps(field, geometry) -> np.ndarray:
     """Exact distance from each geometry to the free space's boundary, metres, shape (N,)."""
     return field.distance_to(geometry)
+
+
+def hull_gaps(robot: Robot, field, hull) -> np.ndarray:
+    """`gaps` of a rectangle's hulls (N,), with CROSSING for each that crosses the boundary
+    where no margin is set.
+
+    GEOS measures 0 whether a hull touches the boundary or crosses it. With a margin both
+    fall short of it; with none, a touch passes and a crossing must not: a hull still
+    within 0 of the boundary when shrunk by OVERLAP crosses it by more than rounding.
+    """
+    gap = gaps(field, hull)
+    if robot.least_gap <= 0 and robot.length is not None:
+        zero = np.flatnonzero(gap <= 0)
+        if len(zero):
+            shrunk = shapely.buffer(np.asarray(hull, dtype=object)[zero], -OVERLAP,
+                                    join_style="mitre")
+            gap[zero[gaps(field, shrunk) <= 0]] = CROSSING
+    return gap
 
 
 def reach(robot: Robot) -> tuple[float, float]:
@@ -148,7 +170,7 @@ def move_gaps(robot: Robot, field, a_xy, a_heading, b_xy, b_heading, *,
             wanted = np.flatnonzero(need)
             low = _footprint_bounds(robot, field, xy[wanted], heading[wanted])
             need[wanted[low > np.r_[side, side][wanted] - half + 1e-9]] = False
-        ends[need] = gaps(field, hulls(robot, xy[need], heading[need], xy[need],
+        ends[need] = hull_gaps(robot, field, hulls(robot, xy[need], heading[need], xy[need],
                                        heading[need]))
         ends = ends.reshape(2, -1).min(axis=0)
         gap[line] = np.minimum(ends, side - half)
@@ -168,7 +190,7 @@ def move_gaps(robot: Robot, field, a_xy, a_heading, b_xy, b_heading, *,
         clear = (low > lane[owner[other]] + 1e-9) & (low >= robot.margin)
         gap[other[clear]] = low[clear]
         other = other[~clear]
-    gap[other] = gaps(field, hulls(robot, a_xy[other], a_heading[other], b_xy[other],
+    gap[other] = hull_gaps(robot, field, hulls(robot, a_xy[other], a_heading[other], b_xy[other],
                                    b_heading[other]))
     return gap - (grow - robot.margin)
 
@@ -288,7 +310,7 @@ def side_clearance(robot: Robot, field, lines: list[np.ndarray], *, band=None):
 def _trim(robot: Robot, field, coords: np.ndarray) -> np.ndarray | None:
     """Cut a lane driven from coords[0] back to where the body last fits; None if nowhere."""
     driven, gap, _ = side_clearance(robot, field, [coords], band=[robot.clearance])
-    bad = np.flatnonzero(gap < robot.margin - 1e-9)
+    bad = np.flatnonzero(gap < robot.least_gap)
     if len(bad) == 0:
         return coords
     first = bad[0]
@@ -304,7 +326,7 @@ def _trim(robot: Robot, field, coords: np.ndarray) -> np.ndarray | None:
             middle = (low + high) / 2
             point = start + middle * (end - start)
             if move_gaps(robot, field, start, heading, point, heading,
-                         band=robot.clearance)[0] >= robot.margin - 1e-9:
+                         band=robot.clearance)[0] >= robot.least_gap:
                 low = middle
             else:
                 high = middle
@@ -353,7 +375,7 @@ def fit_lanes(robot: Robot, field, lines, ends, vertices):
     degree = np.bincount(np.asarray(ends, dtype=np.int64).ravel(), minlength=len(vertices))
     kept_lines, kept_ends, short = [], [], []
     for index, (u, v) in enumerate(ends):
-        if lowest[index] >= robot.margin - 1e-9:
+        if lowest[index] >= robot.least_gap:
             kept_lines.append(coords[index])
             kept_ends.append((u, v))
             continue
@@ -399,7 +421,7 @@ def fit_edges(robot: Robot, field, graph, samples, joins, station_nodes, offset)
     station_of = {node: index for index, node in station_nodes.items()}
     joins, shortfalls, dropped, touched = list(joins), [], set(), set()
     for index, (u, v, key, data) in enumerate(edges):
-        if lowest[index] >= robot.margin - 1e-9:
+        if lowest[index] >= robot.least_gap:
             data["clearance_body"] = float(lowest[index])
             continue
         mine = np.flatnonzero(driven.owner == index)
@@ -410,11 +432,10 @@ def fit_edges(robot: Robot, field, graph, samples, joins, station_nodes, offset)
         shortfalls.append(BodyShortfall(
             "link" if link else "lane", float(x), float(y), robot.margin, float(gap[worst]),
             (key,), "" if station is None else station_nodes[station],
-            f"needs {robot.margin:.2f} m beside the body, has {max(gap[worst], 0.0):.2f} m; "
-            "edge dropped"))
+            f"{robot.short_beside(gap[worst])}; edge dropped"))
         if link and station is not None:
-            joins[station] = (f"the body does not fit along its approach: needs "
-                              f"{robot.margin:.2f} m beside it, has {max(gap[worst], 0):.2f} m")
+            joins[station] = ("the body does not fit along its approach: "
+                              + robot.short_beside(gap[worst]).replace("the body", "it"))
         dropped.add(key)
         touched.update((u, v))
     if not dropped:

@@ -254,8 +254,7 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
     body = []
     if robot.has_body:
         body = [BodyShortfall("lane", s.x + offset[0], s.y + offset[1], robot.margin, s.gap,
-                              note=s.note or f"needs {robot.margin:.2f} m beside the body, "
-                                             f"has {max(s.gap, 0.0):.2f} m; lane dropped")
+                              note=s.note or f"{robot.short_beside(s.gap)}; lane dropped")
                 for s in short]
         samples, joins, links = fit_edges(robot, field, graph, samples, joins, station_nodes,
                                           offset)

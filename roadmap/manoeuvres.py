@@ -61,7 +61,7 @@ import shapely
 
 from clearway.collector import paused_collector
 from clearway.roadmap import reeds_shepp
-from clearway.roadmap.body import MAX_STEP_ANGLE, core, move_gaps, place, reach
+from clearway.roadmap.body import CROSSING, MAX_STEP_ANGLE, core, move_gaps, place, reach
 from clearway.roadmap.dubins import DubinsPath, poses_of, shortest_path
 from clearway.roadmap.model import Robot
 
@@ -349,7 +349,7 @@ def car_gaps(robot: Robot, field, manoeuvres, floor=None) -> np.ndarray:
     for step in range(len(CAR_REACH)):
         still, pairs = [], []
         for index in going:
-            if best[index] >= robot.margin - 1e-9:
+            if best[index] >= robot.least_gap:
                 continue
             here, arrive, leave = manoeuvres[index]
             poses = _end_poses(robot, np.asarray(here, float).tolist(), arrive, leave, step,
@@ -367,7 +367,7 @@ def car_gaps(robot: Robot, field, manoeuvres, floor=None) -> np.ndarray:
         while tries:
             paths, owner = [], []
             for index in list(tries):
-                path = next(tries[index], None) if best[index] < robot.margin - 1e-9 \
+                path = next(tries[index], None) if best[index] < robot.least_gap \
                     else None
                 if path is None:
                     del tries[index]
@@ -405,16 +405,16 @@ def _off_floor(robot: Robot, paths, floor) -> np.ndarray:
 def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
     """Raise best[owner[k]] to the gap beside the body along paths[k] (or a bound of it,
     see the module's docstring), skipping exact checks of manoeuvres already possible."""
-    margin = robot.margin - 1e-9
+    margin = robot.least_gap
     extra = core(robot)[1] - robot.margin
-    if floor is not None and 0.0 - extra < margin:
+    if floor is not None:
         # stage 1's floor test first, on its own poses only: a path it refuses has the
-        # gap 0.0 - extra (never -0.0, printed "-0.00"), whatever the others do, and the
-        # rest need not make its poses (most of a turn round's forward loops, 150 poses
-        # each, swing off the floor). Where 0.0 - extra keeps the margin (a rectangle and
-        # no margin) the test could refuse nothing, and is skipped
+        # gap 0.0 - extra (never -0.0, printed "-0.00"), or CROSSING where that would keep
+        # the margin (a rectangle and no margin), whatever the others do, and the rest need
+        # not make its poses (most of a turn round's forward loops, 150 poses each, swing
+        # off the floor)
         off = _off_floor(robot, paths, floor)
-        np.maximum.at(best, owner[off], 0.0 - extra)
+        np.maximum.at(best, owner[off], 0.0 - extra if 0.0 - extra < margin else CROSSING)
         kept = np.flatnonzero(~off)
         if not len(kept):
             return
@@ -425,7 +425,7 @@ def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
 def _measure(robot: Robot, field, paths, owner, best, floor=None) -> None:
     """`_judge` from stage 1's clearance queries on, for paths that passed its floor
     test."""
-    margin = robot.margin - 1e-9
+    margin = robot.least_gap
     every, counts = poses_of(paths, step=MAX_STEP_ANGLE)
     first = np.r_[0, np.cumsum(counts)[:-1]]
     # moves join consecutive poses of one path: move k from pose move[k] to move[k] + 1

@@ -111,6 +111,30 @@ class Robot:
         return _decimal_sum(self.width / 2, abs(self.centre[1]), self.margin)
 
     @property
+    def least_gap(self) -> float:
+        """The smallest clear distance a move may leave beside the body, metres: the margin
+        less a nanometre for rounding. With no margin a body may touch an obstacle but not
+        cross it: GEOS measures 0 for both, and body.hull_gaps tells them apart."""
+        return self.margin - 1e-9
+
+    def short_beside(self, gap: float) -> str:
+        """What a move whose gap beside the body is `gap` (metres) lacks, for a note:
+        "needs 0.10 m beside the body, has 0.04 m", or with no margin that it meets an
+        obstacle."""
+        if self.margin > 0:
+            return f"needs {self.margin:.2f} m beside the body, has {max(gap, 0.0):.2f} m"
+        return "the body crosses an obstacle (no margin is set)"
+
+    def kept_beside(self, gap: float) -> str:
+        """What no manoeuvre tried keeps, and the best one's gap `gap` (metres), for a note:
+        "0.10 m beside the body (the best leaves at most 0.04 m)", or with no margin "the
+        body clear of the obstacles"."""
+        if self.margin > 0:
+            return (f"{self.margin:.2f} m beside the body (the best leaves at most "
+                    f"{max(gap, 0.0):.2f} m)")
+        return "the body clear of the obstacles"
+
+    @property
     def half_width(self) -> float:
         """Half the robot's width across its direction of travel, metres."""
         return self.width / 2 if self.width is not None else self.radius

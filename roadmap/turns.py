@@ -156,9 +156,10 @@ def check_turns(robot: Robot, field, graph, offset, floor=None) -> list[BodyShor
                                                      -math.copysign(2 * math.pi, turn) + turn))
                     has, needs = float(room[index]), need
                     note = (f"turning in place needs {need:.2f} m clear radius, has "
-                            f"{room[index]:.2f} m; the turn's swept footprint keeps "
-                            f"{max(gap, 0):.2f} m of the {robot.margin:.2f} m margin")
-                if gap >= robot.margin - 1e-9:
+                            f"{room[index]:.2f} m; the turn's swept footprint "
+                            + (f"keeps {max(gap, 0):.2f} m of the {robot.margin:.2f} m margin"
+                               if robot.margin > 0 else "crosses an obstacle"))
+                if gap >= robot.least_gap:
                     allowed.add((a, b))
                     continue
                 x, y = xy[index]
@@ -168,7 +169,7 @@ def check_turns(robot: Robot, field, graph, offset, floor=None) -> list[BodyShor
         allowed_at[node] = (allowed, keys)
     gaps = car_gaps(robot, field, [c[3] for c in cars], floor)
     for (index, a, b, _), gap in zip(cars, gaps):
-        if gap >= robot.margin - 1e-9:
+        if gap >= robot.least_gap:
             allowed_at[nodes[index]][0].add((a, b))
             continue
         x, y = xy[index]
@@ -176,8 +177,7 @@ def check_turns(robot: Robot, field, graph, offset, floor=None) -> list[BodyShor
             "turn round" if a == b else "turn", float(x), float(y), robot.margin, float(gap),
             (a, b), nodes[index],
             f"no {'' if robot.reverse else 'forward '}path of radius {robot.turn_radius:.2f} "
-            f"m tried keeps {robot.margin:.2f} m beside the body (the best leaves at most "
-            f"{max(gap, 0):.2f} m)"))
+            f"m tried keeps {robot.kept_beside(gap)}"))
     for node, (allowed, keys) in allowed_at.items():
         graph.nodes[node]["turns"] = pair_text(allowed)
         graph.nodes[node]["reverse_only"] = bool(len(keys) == 1 and
@@ -221,7 +221,7 @@ def car_bends(robot: Robot, field, lines, ends, floor=None):
     kept_lines, kept_ends, short = [], [], []
     for coords, (u, v), mine in zip(all_coords, ends, bends):
         worst = next(((coords[vertex], gaps[job]) for vertex, job in mine
-                      if gaps[job] < robot.margin - 1e-9), None)
+                      if gaps[job] < robot.least_gap), None)
         if worst is None:
             kept_lines.append(coords)
             kept_ends.append((u, v))
@@ -230,9 +230,7 @@ def car_bends(robot: Robot, field, lines, ends, floor=None):
                                    f"bends faster than the {robot.turn_radius:.2f} m turning "
                                    f"radius and no {'' if robot.reverse else 'forward '}"
                                    "path tried keeps "
-                                   f"{robot.margin:.2f} m beside the body (the best "
-                                   f"leaves at most {max(worst[1], 0.0):.2f} m); "
-                                   "lane dropped"))
+                                   f"{robot.kept_beside(worst[1])}; lane dropped"))
     return polylines(kept_lines), kept_ends, short
 
 

@@ -235,3 +235,42 @@ def test_a_node_without_lanes_has_no_turn(kind):
     assert check_turns(robot, clearance_field(walls), graph, (0.0, 0.0)) == []
     assert graph.nodes["n0"]["turns"] == "-"
     assert graph.nodes["n0"]["reverse_only"] is False
+
+
+@pytest.mark.parametrize("length, allowed", [(1.0, True), (1.4, False)])
+def test_with_no_margin_a_turn_in_place_must_still_keep_the_body_off_the_walls(length,
+                                                                               allowed):
+    # analytic: at the crossing of two 1 m corridors the four wall corners stand at
+    # (+-0.5, +-0.5), sqrt(0.5) = 0.707 m from the centre. Turning in place about its centre
+    # a W = 0.8 m robot sweeps the circle of radius hypot(L/2, 0.4): 0.640 m for L = 1.0 (it
+    # turns clear of them) and 0.806 m for L = 1.4 (its corners swing through them). With no
+    # margin GEOS gives a distance of 0 to a body that crosses a wall as to one that touches
+    # it, and 0 must not pass as "keeps the margin"
+    floor = shapely.union_all([shapely.box(-10, -0.5, 10, 0.5), shapely.box(-0.5, -10, 0.5, 10)])
+    graph = star((0.0, 0.0), (9.0, 0.0), (0.0, 9.0), (-9.0, 0.0), (0.0, -9.0))
+    robot = Robot.rectangle(length, 0.8, margin=0.0)
+    assert (math.hypot(length / 2, 0.4) < math.sqrt(0.5)) is allowed
+    found = turns_at(robot, floor, graph)
+    straight_on = {("e1", "e3"), ("e3", "e1"), ("e2", "e4"), ("e4", "e2")}
+    assert straight_on <= found
+    assert (("e1", "e2") in found) is allowed and (("e1", "e1") in found) is allowed
+    if not allowed:
+        forbidden = check_turns(robot, clearance_field(boundary_segments(floor)[0]), graph,
+                                (0.0, 0.0))
+        assert forbidden and all("crosses an obstacle" in f.note
+                                 for f in forbidden)
+
+
+def test_with_no_margin_a_car_may_not_swing_its_body_through_a_wall():
+    # analytic: a car (R = 2 m, rear-axle centre) cannot turn from one 1 m corridor into the
+    # other at their crossing: its inner side passes the arc's centre at R - W/2 = 1.6 m,
+    # and the wall corner (0.5, 0.5) lies 2.12 m from that centre (2.5, 2.5) (the closed
+    # form of test_car_takes_a_corner_iff_the_arc_clears_the_inner_corner with a = 1 gives
+    # W* = 2 (2 - sqrt(2) * 1.5) < 0): no path of curvature 1/2 m fits a 1 m crossing
+    floor = shapely.union_all([shapely.box(-10, -0.5, 10, 0.5), shapely.box(-0.5, -10, 0.5, 10)])
+    graph = star((0.0, 0.0), (9.0, 0.0), (0.0, 9.0), (-9.0, 0.0), (0.0, -9.0))
+    robot = Robot.rectangle(1.0, 0.4, margin=0.0, kind="car", centre=(-0.5, 0.0),
+                            turn_radius=2.0, reverse=False)
+    assert 2 * (2.0 - math.sqrt(2) * (2.0 - 0.5)) < 0
+    found = turns_at(robot, floor, graph)
+    assert ("e1", "e3") in found and ("e1", "e2") not in found and ("e1", "e4") not in found
