@@ -276,15 +276,15 @@ def _read_plan(path, *, roles, units, chord_tolerance, gap_tolerance, max_wall_t
     common = {"gap_tolerance": gap_tolerance}
     wall_parts = scaled("wall")
     openings = _opening_linework(content, by_role["opening"], scaled_layers)
-    unmapped = [name for name in visible if mapping.role_of.get(name) is None]
-    swing_arcs = np.concatenate([wall_parts.arcs(), openings.pop("arcs"),
-                                 scaled_layers(unmapped).arcs()])
+    unmapped = scaled_layers([name for name in visible if mapping.role_of.get(name) is None])
+    swing_arcs = np.concatenate([wall_parts.arcs(), openings.pop("arcs"), unmapped.arcs()])
     interior = building_interior(*wall_parts.geometries(), wall_parts.arcs(), **openings,
                                  swing_arcs=swing_arcs,
                                  texts_xy=np.array([(t.x, t.y) for t in texts]).reshape(-1, 2),
                                  max_wall_thickness=max_wall_thickness,
                                  nominal_wall_thickness=nominal_wall_thickness,
-                                 find_envelope=not by_role["boundary"], **common)
+                                 find_envelope=not by_role["boundary"],
+                                 loose_lines=np.concatenate(unmapped.geometries()[:2]), **common)
     regions = {"wall": interior.walls}
     for role in ("racking", "keepout", "shared"):
         regions[role] = filled_regions(*geometry(role), nominal_thickness=nominal_wall_thickness,

@@ -17,7 +17,8 @@ import shapely
 
 from clearway.converter.floorplan import Opening
 from clearway.converter.openings import (MAX_DOOR_WIDTH, MAX_OPEN_WIDTH, MAX_WINDOW_WIDTH,
-                                         classify_gaps, find_gaps, open_swept_doorways)
+                                         classify_gaps, find_gaps, loose_glazing,
+                                         open_swept_doorways)
 from clearway.converter.polygons import (as_multipolygon, door_swings, fill_holes, find_leaks,
                                          union_polygons, wall_regions)
 
@@ -50,7 +51,7 @@ class Interior:
 
 def building_interior(wall_lines, wall_rings, wall_fills, wall_arcs, *, door_lines, window_lines,
                       other_lines, swing_arcs, texts_xy, gap_tolerance, max_wall_thickness,
-                      nominal_wall_thickness, find_envelope=True):
+                      nominal_wall_thickness, find_envelope=True, loose_lines=()):
     """Return the Interior of a building from its wall linework and opening linework.
 
     Parameters
@@ -58,6 +59,8 @@ def building_interior(wall_lines, wall_rings, wall_fills, wall_arcs, *, door_lin
     wall_lines, wall_rings, wall_fills, wall_arcs : arrays of geometry (`Parts.geometries`)
     door_lines, window_lines, other_lines, swing_arcs : arrays of LineString
         See `openings.classify_gaps`.
+    loose_lines : array of LineString
+        Linework on layers with no role: see `openings.loose_glazing`.
     texts_xy : (N, 2) array
         Where texts stand: a narrow closed face with a text inside is a room, not a wall.
     find_envelope : bool
@@ -77,22 +80,25 @@ def building_interior(wall_lines, wall_rings, wall_fills, wall_arcs, *, door_lin
                      loose_cap=nominal_wall_thickness / 2.0)
     kinds = classify_gaps(gaps, door_lines=door_lines, window_lines=window_lines,
                           other_lines=other_lines, swing_arcs=swing_arcs)
-    kept = [(gap, kind) for gap, kind in zip(gaps, kinds) if gap.width <= _MAX_WIDTH[kind]
-            and not (gap.minor and kind == "open")]
-    # each gap grown by a few millimetres: a quad that only touches the jambs would leave
-    # hairline slits at its corners, through which the floor escapes
-    quads = shapely.buffer(np.array([gap.quad for gap, _ in kept], dtype=object), SEAM,
-                           join_style="mitre")
-    shut = quads[[kind in ("window", "closed") for _, kind in kept]] if len(kept) else quads
-    walls = union_polygons(np.concatenate([shapely.get_parts(solid), shut])) if len(shut) else solid
-    bridged = union_polygons(np.concatenate([shapely.get_parts(solid), quads])) if len(quads) \
-        else solid
-    base = fill_holes(shapely.union_all([enclosed, bridged]))
-    leaks, container = find_leaks(bridged, base) if find_envelope else ([], base)
-    envelope = fill_holes(container)
+    # a gap too wide to leave open that nothing on an opening layer explains, spanned by
+    # glazing on a layer with no role, is a window where it leads outside; inside, the same
+    # lines are as likely a counter across an open kitchen wall, and the gap stays as it was
+    wide = [k for k, (gap, kind) in enumerate(zip(gaps, kinds))
+            if find_envelope and kind == "open" and gap.width > MAX_OPEN_WIDTH and not gap.minor]
+    glazed = [wide[k] for k in np.flatnonzero(loose_glazing([gaps[k] for k in wide],
+                                                            loose_lines))] if wide else []
+    for k in glazed:
+        kinds[k] = "window"
+    kept, quads, walls, leaks, container, envelope, outside = _enclose(
+        solid, enclosed, gaps, kinds, find_envelope)
+    inner = [k for k in glazed if not outside[kept.index(k)]]
+    if inner:
+        for k in inner:
+            kinds[k] = "open"
+        kept, quads, walls, leaks, container, envelope, outside = _enclose(
+            solid, enclosed, gaps, kinds, find_envelope)
     openings, closures = [], []
-    outside = _lead_outside([gap for gap, _ in kept], envelope) if find_envelope and kept \
-        else np.zeros(len(kept), dtype=bool)
+    kept = [(gaps[k], kinds[k]) for k in kept]
     for (gap, kind), quad, exterior in zip(kept, quads, outside.tolist()):
         openings.append(Opening(
             x=round(float(gap.middle[0]), 4), y=round(float(gap.middle[1]), 4),
@@ -106,6 +112,28 @@ def building_interior(wall_lines, wall_rings, wall_fills, wall_arcs, *, door_lin
     return Interior(walls=walls, container=as_multipolygon(container), closures=closures,
                     openings=tuple(openings), leaks=leaks,
                     enclosed=not leaks and not envelope.is_empty)
+
+
+def _enclose(solid, enclosed, gaps, kinds, find_envelope):
+    """Bridge the gaps of these kinds and find the envelope: return (kept, quads, walls,
+    leaks, container, envelope, outside), `kept` the indices of the gaps bridged, `quads`
+    their quads, `outside` whether each leads outside."""
+    kept = [k for k, (gap, kind) in enumerate(zip(gaps, kinds))
+            if gap.width <= _MAX_WIDTH[kind] and not (gap.minor and kind == "open")]
+    # each gap grown by a few millimetres: a quad that only touches the jambs would leave
+    # hairline slits at its corners, through which the floor escapes
+    quads = shapely.buffer(np.array([gaps[k].quad for k in kept], dtype=object), SEAM,
+                           join_style="mitre")
+    shut = quads[[kinds[k] in ("window", "closed") for k in kept]] if len(kept) else quads
+    walls = union_polygons(np.concatenate([shapely.get_parts(solid), shut])) if len(shut) else solid
+    bridged = union_polygons(np.concatenate([shapely.get_parts(solid), quads])) if len(quads) \
+        else solid
+    base = fill_holes(shapely.union_all([enclosed, bridged]))
+    leaks, container = find_leaks(bridged, base) if find_envelope else ([], base)
+    envelope = fill_holes(container)
+    outside = _lead_outside([gaps[k] for k in kept], envelope) if find_envelope and kept \
+        else np.zeros(len(kept), dtype=bool)
+    return kept, quads, walls, leaks, container, envelope, outside
 
 
 def _lead_outside(gaps, envelope):

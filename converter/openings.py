@@ -484,6 +484,38 @@ def classify_gaps(gaps, *, door_lines, window_lines, other_lines, swing_arcs):
     return kinds
 
 
+def loose_glazing(gaps, loose_lines):
+    """Which `gaps` hold glazing drawn on layers with no role, shape (N,) bool.
+
+    Two lines or more whose parts within the wall's depth each run along most (75 %) of the
+    gap, as glass and sill lines do (layer 0, say). The same lines cross a kitchen run or a
+    counter in an open wall, so the caller takes them for a window only where the gap leads
+    outside (see `interior.building_interior`). A single line across (a threshold, a change
+    of floor finish) says nothing.
+
+    Examples
+    --------
+    >>> gap = Gap(np.array([0.0, 0.0]), np.array([3.0, 0.0]), 0.3, None)
+    >>> glass = [shapely.LineString([(0, y), (3, y)]) for y in (-0.05, 0.05)]
+    >>> loose_glazing([gap], glass).tolist(), loose_glazing([gap], glass[:1]).tolist()
+    ([True], [False])
+    """
+    lines = np.asarray(loose_lines, dtype=object)
+    found = np.zeros(len(gaps), dtype=bool)
+    if not len(gaps) or not len(lines):
+        return found
+    spans = shapely.linestrings(np.array([(gap.start, gap.end) for gap in gaps], dtype=float))
+    depths = np.array([gap.depth for gap in gaps], dtype=float)
+    zones = shapely.buffer(spans, np.maximum(depths / 2.0, 0.02) + 0.03, quad_segs=16,
+                           cap_style="flat")
+    for number, near in enumerate(_split_by_query(shapely.STRtree(lines), zones)):
+        if len(near) >= 2:
+            inside = shapely.get_parts(shapely.intersection(lines[near], zones[number]))
+            found[number] = _spanning(inside[shapely.get_type_id(inside) == 1], spans[number],
+                                      gaps[number].width) >= 2
+    return found
+
+
 def _split_by_query(tree, geometries):
     """Return, for each of `geometries`, the indices of the tree's geometries it intersects."""
     index, found = tree.query(geometries, predicate="intersects")

@@ -377,3 +377,54 @@ def test_view_groups_label_cells_as_scipy_ndimage_does(monkeypatch):
     by_graph = views.group_boxes(boxes, 1.0)
     monkeypatch.setattr(views, "LABEL_BY_GRAPH", 0)
     assert (views.group_boxes(boxes, 1.0) == by_graph).all()
+
+
+def _glazed_on_layer_zero(tmp_path):
+    """A 14 m x 8 m building, 0.2 m walls, split by a wall at x 6.9-7.1 with a 3.2 m opening
+    (y 2.0-5.2). Two lines on layer 0 span each of two wide gaps within the wall's depth:
+    a 3.0 m gap in the south wall (x 1.5-4.5, glass and sill) and the interior opening (a
+    counter's front and back, as an open kitchen is drawn)."""
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    wall = shapely.box(0, 0, 14, 8).difference(shapely.box(0.2, 0.2, 13.8, 7.8)) \
+        .union(shapely.box(6.9, 0.2, 7.1, 7.8))
+    wall = wall.difference(shapely.box(1.5, -1, 4.5, 1)).difference(shapely.box(6, 2.0, 8, 5.2))
+    for ring in shapely.get_rings(shapely.get_parts(wall)):
+        msp.add_lwpolyline(list(ring.coords)[:-1], close=True, dxfattribs={"layer": "A-WALL"})
+    for y in (0.07, 0.13):
+        msp.add_line((1.5, y), (4.5, y), dxfattribs={"layer": "0"})
+    for x in (6.95, 7.05):
+        msp.add_line((x, 2.0), (x, 5.2), dxfattribs={"layer": "0"})
+    return save(doc, tmp_path)
+
+
+def test_glazing_on_a_layer_with_no_role_closes_a_wide_exterior_gap_only(tmp_path):
+    plan = read_floorplan(_glazed_on_layer_zero(tmp_path))
+    # analytic: the south gap is 3.0 m wide, centred at (3.0, 0.1), and leads outside
+    found = [(round(o.x, 3), round(o.y, 3), o.kind, round(o.width, 3), o.exterior)
+             for o in plan.openings]
+    assert found == [(3.0, 0.1, "window", 3.0, True)]
+    assert not plan.leaks
+    # analytic: the floor inside the 0.2 m walls (13.6 m x 7.6 m) less the dividing wall
+    # beside its opening (0.2 m x (7.6 - 3.2) m), in one piece through the opening
+    assert plan.free_space.area == pytest.approx(13.6 * 7.6 - 0.2 * 4.4, rel=2e-3)
+    assert len(shapely.get_parts(plan.free_space)) == 1
+    assert plan.free_space.contains(shapely.Point(7.0, 3.6))
+
+
+def test_one_line_across_a_wide_exterior_gap_is_no_glazing(tmp_path):
+    # a threshold or a change of floor finish: one line says nothing, the gap still leaks
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    wall = shapely.box(0, 0, 10, 8).difference(shapely.box(0.2, 0.2, 9.8, 7.8)) \
+        .difference(shapely.box(1.5, -1, 4.5, 1))
+    for ring in shapely.get_rings(shapely.get_parts(wall)):
+        msp.add_lwpolyline(list(ring.coords)[:-1], close=True, dxfattribs={"layer": "A-WALL"})
+    msp.add_line((1.5, 0.1), (4.5, 0.1), dxfattribs={"layer": "0"})
+    try:
+        plan = read_floorplan(save(doc, tmp_path))
+    except DrawingError as error:
+        assert "no enclosed floor" in str(error)
+    else:
+        assert not any(o.kind == "window" for o in plan.openings)
+        assert plan.leaks or plan.free_space.area < 0.5 * 9.6 * 7.6
