@@ -24,7 +24,8 @@ from clearway.converter.openings import arc_radius
 from clearway.converter.parts import CLOSED, OPEN, Parts
 from clearway.converter.read import read_drawing
 from clearway.converter.roles import (DEFAULT_IGNORED_PATTERNS, DEFAULT_ROLE_PATTERNS,
-                                      NOT_RACKING_PATTERNS, ROLE_OPTION_NAMES, matches_any,
+                                      NOT_RACKING_PATTERNS, ROLE_OPTION_NAMES,
+                                      ignored_by_default, matches_any,
                                       name_candidates, opening_kind)
 from clearway.converter.units import INSUNITS_CODES, UNITS_TO_M, decide_units
 from clearway.converter.views import VIEW_GAP, find_views
@@ -127,7 +128,7 @@ def left_out_layers(content, visible, role_of, roles):
         names = name_candidates(name)
         default = next((role for role in ROLES
                         if matches_any(names, DEFAULT_ROLE_PATTERNS[role])), "")
-        ignored = matches_any(names, DEFAULT_IGNORED_PATTERNS) or (
+        ignored = ignored_by_default(names) or (
             default == "racking" and matches_any(names, NOT_RACKING_PATTERNS))
         replaced = default in roles.explicit and not ignored
         found.append(LeftOutLayer(name, tuple(sorted(counts.items())), default, ignored,

@@ -66,6 +66,23 @@ DEFAULT_IGNORED_PATTERNS = ("*OVHD*", "*OVERHEAD*", "*HIDDEN*", "*HIDD*", "*-HEA
                             "*FOUNDATION*", "*STEM-WALL*", "*STEM_WALL*", "*STEM WALL*",
                             "*STEMWALL*", "*FUNDAMENT*", "*FONDATION*", "*CIMENTACI*", "*GRID*")
 
+#: Overhead doors (sectional and rolling dock doors, ``A-DOOR-OVHD``, ``OVERHEAD DOORS``) are
+#: doors drawn in the cut plane, not linework above it: DEFAULT_IGNORED_PATTERNS do not leave
+#: them out (common practice in US warehouse drawings).
+OVERHEAD_DOOR_PATTERNS = ("*DOOR*OVHD*", "*OVHD*DOOR*", "*DOOR*OVERHEAD*", "*OVERHEAD*DOOR*")
+
+
+def ignored_by_default(names):
+    """Whether a layer named `names` (`name_candidates`) is left out by the default patterns:
+    overhead, hidden, demolished, annotation linework, but not an overhead door.
+
+    >>> [ignored_by_default(name_candidates(n)) for n in ("A-DOOR-OVHD", "A-FLOR-OVHD")]
+    [False, True]
+    """
+    return matches_any(names, DEFAULT_IGNORED_PATTERNS) and \
+        not matches_any(names, OVERHEAD_DOOR_PATTERNS)
+
+
 #: Layers that the racking patterns leave out although RACK is in their name: aisle outlines
 #: (``RACK-CLEAR-AISLE``: an aisle is floor) and sprinklers and lights named after the racking
 #: they serve (``SPRINKLER-RACK``, ``E-LITE-RACK``: overhead). Only racking: a layer that
@@ -230,7 +247,7 @@ class Roles:
             if matches_any(names, self.patterns[role]):
                 if role not in self.explicit:
                     if ignored is None:
-                        ignored = matches_any(names, DEFAULT_IGNORED_PATTERNS)
+                        ignored = ignored_by_default(names)
                     if ignored or (role == "racking" and
                                    matches_any(names, NOT_RACKING_PATTERNS)):
                         continue
