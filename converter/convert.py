@@ -14,7 +14,8 @@ from clearway.converter.floorplan import OBSTACLE_ROLES, FloorPlan, Leak, PlanTe
 from clearway.converter.parts import Parts
 from clearway.converter.inserts import BLOCK_OPENING_PREFIX, KIND_TAGS
 from clearway.converter.interior import building_interior
-from clearway.converter.polygons import (as_multipolygon, boundary_regions, filled_regions, fill_holes,
+from clearway.converter.polygons import (BEAM_PAIR_DEPTH, as_multipolygon, boundary_regions,
+                                        filled_regions, fill_holes,
                                         free_space, node_lines)
 from clearway.converter.mapping import NOT_WALLS, guess_wall_layer, keep_one_view, map_drawing
 from clearway.converter.roles import ROLE_OPTION_NAMES, Roles, matches_any, name_candidates, opening_kind
@@ -287,7 +288,10 @@ def _read_plan(path, *, roles, units, chord_tolerance, gap_tolerance, max_wall_t
                                  loose_lines=np.concatenate(unmapped.geometries()[:2]), **common)
     regions = {"wall": interior.walls}
     for role in ("racking", "keepout", "shared"):
-        regions[role] = filled_regions(*geometry(role), nominal_thickness=nominal_wall_thickness,
+        lines, rings, fills = geometry(role)
+        if role == "racking":
+            rings = np.concatenate([rings, _rack_footprints(content, by_role[role], factor)])
+        regions[role] = filled_regions(lines, rings, fills, nominal_thickness=nominal_wall_thickness,
                                        posts=role == "racking", **common)
     if by_role["stair"]:  # stairs are impassable: they join the keep-out areas
         stairs = filled_regions(*geometry("stair"), nominal_thickness=nominal_wall_thickness,
@@ -559,6 +563,22 @@ def station_kind(block, label: str) -> tuple[str, float | None]:
     if heading is not None:
         heading = round(float(heading), 9) % 360.0
     return kind, heading
+
+
+def _rack_footprints(content, layers, factor):
+    """Rings, metres, of the racking blocks on `layers` whose linework encloses nothing
+    (`inserts.BlockReader.footprint`), where they are a rack's depth: at most
+    BEAM_PAIR_DEPTH across (a bay, a row, or a back-to-back pair). A block wider than that
+    each way may hold aisles inside its hull, and only its own linework counts.
+    """
+    found = [content.footprints[name] for name in layers if name in content.footprints]
+    if not found:
+        return np.empty(0, dtype=object)
+    rings = Parts.concat(found).scaled(factor, grid=SNAP_M).geometries()[1]
+    boxes = shapely.minimum_rotated_rectangle(shapely.polygons(rings))
+    corners = shapely.get_coordinates(shapely.get_exterior_ring(boxes)).reshape(len(boxes), 5, 2)
+    sides = np.hypot(*np.diff(corners[:, :3], axis=1).transpose(2, 0, 1))
+    return rings[sides.min(axis=1) <= BEAM_PAIR_DEPTH]
 
 
 def _opening_linework(content, layers, scaled_layers):

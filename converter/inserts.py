@@ -11,13 +11,14 @@ import math
 from collections import Counter, defaultdict
 
 import numpy as np
+import shapely
 from ezdxf.math import X_AXIS, Y_AXIS
 
 from clearway.errors import DrawingError
 from clearway.limits import Limits
 from clearway.converter.document import DAMAGE
 from clearway.converter.entities import TEXTS, flatten_entity, lenient
-from clearway.converter.parts import Parts
+from clearway.converter.parts import CLOSED, Parts
 
 _LABEL_TAGS = ("LABEL", "NAME", "ID", "STATION", "TAG")
 #: Attribute tags that say what kind of station a block is, never its label.
@@ -218,6 +219,34 @@ class BlockReader:
                                      f"{block_name!r} skipped")
             self.damaged.clear()
         return result
+
+    def footprint(self, name, tolerance):
+        """Return the convex hull of block `name`'s contents as Parts (one closed ring, block
+        units) when its linework encloses nothing of that hull, else None.
+
+        A rack bay drawn as four upright posts and two beam lines, or a whole row of them,
+        leaves the space under its pallets open at both ends: only the block says that the
+        space is the rack's. Opening blocks have none; a block whose closed outlines cover 90 %
+        of its hull (a bay's rectangle, a run of them) already says where it stands.
+        """
+        if self.block_kind(name):
+            return None
+        key = ("footprint", name, tolerance)
+        if key not in self.cache:
+            found = [parts for layer, parts in self.block_parts(name, tolerance).items()
+                     if not layer.startswith(BLOCK_OPENING_PREFIX)]
+            parts = Parts.concat(found)
+            hull = shapely.convex_hull(shapely.multipoints(parts.coords)) \
+                if len(parts.coords) >= 3 else None
+            ring = None
+            if hull is not None and hull.geom_type == "Polygon" and hull.area > 0:
+                _, rings, fills = parts.geometries()
+                closed = np.concatenate([shapely.polygons(rings), fills])
+                if not len(closed) or shapely.union_all(shapely.make_valid(closed)).area < \
+                        0.9 * hull.area:
+                    ring = Parts.from_list([np.asarray(hull.exterior.coords)[:-1]], [CLOSED])
+            self.cache[key] = ring
+        return self.cache[key]
 
     def placed_parts(self, name, matrices, tolerance, insert_layer):
         """Yield (layer, Parts) of block `name` placed by `matrices`, layers resolved.

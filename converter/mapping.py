@@ -413,10 +413,12 @@ def _keep_inside(content, box):
     def inside(x, y):
         return (x >= x0) & (x <= x1) & (y >= y0) & (y <= y1)
 
-    for name, parts in list(content.parts.items()):
-        bounds = parts.part_bounds()
-        middle_x, middle_y = (bounds[:, 0] + bounds[:, 2]) / 2, (bounds[:, 1] + bounds[:, 3]) / 2
-        content.parts[name] = parts.select(inside(middle_x, middle_y))
+    for store in (content.parts, content.footprints):
+        for name, parts in list(store.items()):
+            bounds = parts.part_bounds()
+            middle_x = (bounds[:, 0] + bounds[:, 2]) / 2
+            middle_y = (bounds[:, 1] + bounds[:, 3]) / 2
+            store[name] = parts.select(inside(middle_x, middle_y))
     content.points = [item for item in content.points if inside(item[1], item[2])]
     content.texts = [item for item in content.texts if inside(item[1], item[2])]
     content.attribute_texts = [item for item in content.attribute_texts if inside(item[1], item[2])]

@@ -25,7 +25,7 @@ from clearway.converter.document import DAMAGE, open_document, saved_date
 from clearway.converter.entities import LINEWORK, TEXTS, flatten_entity, lenient, text_item
 from clearway.converter.inserts import (BLOCK_OPENING_PREFIX, BlockReader, attribute_label,
                                         attributes, entity_layer, insert_matrices,
-                                        single_plan_insert)
+                                        scale_of, single_plan_insert)
 from clearway.converter.parts import ARC, OPEN, Parts
 from clearway.converter.units import INSUNITS_CODES, UNITS_TO_M
 
@@ -44,6 +44,8 @@ class DrawingContent:
     dimensions : (layer, measured length, displayed text) of linear DIMENSIONs
     header : a few header values that speak about units ($MEASUREMENT, $LUNITS, $DIMLUNIT)
     repairs : ezdxf's notices for each repair its recovery made
+    footprints : INSERT layer -> Parts, one closed ring per placed copy of a block whose
+        linework encloses nothing: the convex hull of its contents (`BlockReader.footprint`)
     """
 
     source: str
@@ -53,6 +55,7 @@ class DrawingContent:
     counts: dict = field(default_factory=lambda: defaultdict(Counter))
     closed_open: dict = field(default_factory=lambda: defaultdict(lambda: [0, 0]))
     parts: dict = field(default_factory=dict)
+    footprints: dict = field(default_factory=dict)        # INSERT layer -> Parts (rings)
     points: list = field(default_factory=list)
     texts: list = field(default_factory=list)
     attribute_texts: list = field(default_factory=list)
@@ -135,6 +138,7 @@ def read_drawing(path, *, chord_tolerance, units=None, limits=None, block_kind=N
     budget = _Budget(limits, source)
     reader = BlockReader(doc, source, limits, budget, block_kind)
     chunks = defaultdict(list)
+    footprints = defaultdict(list)
     inserts = defaultdict(list)
     damaged = Counter()
     base_points, headings_by_axis = {}, {}
@@ -155,8 +159,12 @@ def read_drawing(path, *, chord_tolerance, units=None, limits=None, block_kind=N
         matrices = _stacked(matrix_list)
         for target, parts in reader.placed_parts(name, matrices, tolerance, insert_layer):
             chunks[target].append(parts)
+        hull = reader.footprint(name, tolerance / scale_of(matrices))
+        if hull is not None:
+            footprints[insert_layer].append(hull.placed(matrices))
     content.warnings += reader.warnings
     content.parts = {layer: Parts.concat(found) for layer, found in chunks.items()}
+    content.footprints = {layer: Parts.concat(found) for layer, found in footprints.items()}
     for layer in content.parts:  # layers used inside blocks need not be in the table
         if not layer.startswith(BLOCK_OPENING_PREFIX):
             content.layer_states.setdefault(layer, (False, False))

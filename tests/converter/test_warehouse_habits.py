@@ -390,3 +390,83 @@ def test_beam_lines_with_upright_posts_between_them_fill_the_row(tmp_path, posts
     assert plan.free_space.contains(shapely.Point(15.0, 5.75))               # mid aisle
     assert plan.free_space.contains(shapely.Point(15.0, 12.15))              # mid flue
     assert len(shapely.get_parts(plan.free_space)) == 1
+
+
+def _bay_block(doc, name="PR-2700"):
+    """A 2.7 m x 1.1 m pallet-rack bay as a block: four 0.08 m upright posts at its corners
+    and a beam along each face through the posts' middles; no frame is drawn across it."""
+    bay = doc.blocks.new(name)
+    for x, y in ((0, 0), (2.62, 0), (0, 1.02), (2.62, 1.02)):
+        bay.add_lwpolyline(rectangle(x, y, x + 0.08, y + 0.08), close=True)
+    for y in (0.04, 1.06):
+        bay.add_line((0.08, y), (2.62, y))
+    return bay
+
+
+@pytest.mark.parametrize("rotation", [0, 90, 33])
+def test_rack_bay_blocks_of_posts_and_beams_are_racking_not_corridors(tmp_path, rotation):
+    """Rack bays inserted as blocks of corner posts and beam lines, bay after bay: the space
+    under the pallets is open at both ends of a row (nothing is drawn across it), and read
+    from the linework alone it is a 0.94 m corridor a robot would be sent along. The block
+    says it is one bay: its footprint is racking. common practice"""
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, -40, -40, 40, 40)  # 0.2 m walls
+    _bay_block(doc)
+    rotate = shapely.affinity.rotate
+    rows = []
+    for y in (0.0, 1.2, 4.2):          # a back-to-back pair (0.1 m flue), a 1.9 m aisle, a row
+        for k in range(8):
+            point = rotate(shapely.Point(-10.8 + 2.7 * k, y), rotation, origin=(0, 0))
+            msp.add_blockref("PR-2700", (point.x, point.y),
+                             dxfattribs={"layer": "A-RACK", "rotation": rotation})
+        rows.append(rotate(shapely.box(-10.8, y, 10.8, y + 1.1), rotation, origin=(0, 0)))
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: the hall inside its walls (79.6 m)^2 less three rows of 8 x 2.7 m x 1.1 m
+    assert plan.free_space.area == pytest.approx(79.6 ** 2 - 3 * 21.6 * 1.1, rel=1e-6)
+    for row in rows:
+        assert not plan.free_space.intersects(row.centroid)            # under the pallets
+    aisle = rotate(shapely.Point(0.0, 3.2), rotation, origin=(0, 0))   # mid aisle
+    flue = rotate(shapely.Point(0.0, 1.15), rotation, origin=(0, 0))   # mid flue
+    assert plan.free_space.contains(aisle) and plan.free_space.contains(flue)
+
+
+def test_a_block_of_several_rows_keeps_its_aisles(tmp_path):
+    """A block holding two rows and the 2.9 m aisle between them is wider than a rack each
+    way: its hull would swallow the aisle, so only its own linework counts (the rows then
+    read as beam pairs with posts on their faces, and the aisle stays floor)."""
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 40, 30)
+    _bay_block(doc)
+    pair = doc.blocks.new("TWO-ROWS")
+    for y in (0.0, 4.0):
+        for k in range(6):
+            pair.add_blockref("PR-2700", (2.7 * k, y))
+    msp.add_blockref("TWO-ROWS", (5.0, 10.0), dxfattribs={"layer": "A-RACK"})
+    plan = read_floorplan(save(doc, tmp_path))
+    assert plan.free_space.contains(shapely.Point(13.0, 12.55))        # mid aisle
+
+
+@pytest.mark.parametrize("layer", ["A-DOOR-OVHD", "OVERHEAD DOORS"])
+def test_overhead_dock_doors_close_their_openings(tmp_path, layer):
+    """Dock doors drawn shut as one line across each gap, on a layer named for overhead
+    doors: they are doors in the cut plane, not linework above it. common practice"""
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    wall = shapely.box(0, 0, 30, 20).difference(shapely.box(0.2, 0.2, 29.8, 19.8))
+    gaps = [(4.0 + 5.0 * k, 6.74 + 5.0 * k) for k in range(3)]   # three 2.74 m (9 ft) doors
+    for x0, x1 in gaps:
+        wall = wall.difference(shapely.box(x0, 19, x1, 21))
+    for ring in shapely.get_rings(shapely.get_parts(wall)):
+        msp.add_lwpolyline(list(ring.coords)[:-1], close=True, dxfattribs={"layer": "A-WALL"})
+    for x0, x1 in gaps:
+        msp.add_line((x0, 19.9), (x1, 19.9), dxfattribs={"layer": layer})
+    plan = read_floorplan(save(doc, tmp_path))
+    found = sorted((round(o.x, 3), o.kind, round(o.width, 3), o.exterior) for o in plan.openings)
+    # analytic: each gap 2.74 m wide, centred 1.37 m past its left jamb, in the outer wall
+    assert found == [(round(x0 + 1.37, 3), "closed", 2.74, True) for x0, _ in gaps]
+    assert not plan.leaks
+    # analytic: the hall inside its walls less the 3 mm seam by which each door's closure
+    # overlaps the floor (interior.SEAM)
+    assert plan.free_space.area == pytest.approx(29.6 * 19.6 - 3 * 2.74 * 0.003, rel=1e-6)
