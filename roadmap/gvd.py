@@ -32,6 +32,7 @@ from scipy.spatial import QhullError
 
 from clearway.roadmap.delaunay import circumcircles, triangulate
 from clearway.roadmap.inflate import boundary_segments
+from clearway.roadmap.inside import contains_points
 
 #: Jitter of the samples before triangulation, metres (deterministic, seeded).
 JITTER = 1e-6
@@ -348,7 +349,7 @@ def medial_axis(free_space, *, step: float = 0.25, coarse: float | None = None,
     centres, _ = circumcircles(xy, simplices)
     finite = np.isfinite(centres).all(axis=1)
     inside = np.zeros(len(simplices), dtype=bool)
-    inside[finite] = shapely.contains_xy(free_space, centres[finite, 0], centres[finite, 1])
+    inside[finite] = contains_points(free_space, centres[finite, 0], centres[finite, 1])
     # Ridges: the Delaunay edge opposite vertex k of triangle t is shared with neighbour n.
     tri = np.repeat(np.arange(len(simplices)), 3)
     corner = np.tile(np.arange(3), len(simplices))
