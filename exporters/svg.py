@@ -237,20 +237,24 @@ def render_svg(plan, roadmap, *, date: str, band=None) -> bytes:
             0.1 * font, quad_segs=2))
         add_heading(marks, x, -y, heading, font)
     right = xmin + 0.75 * width       # labels of marks beyond this prefer the left
+    labels = [(x, y + (1.3 * font if kind == "personnel" else 0.0), label, 0.8 * font,
+               symbol_reach(kind, font), x > right, None)
+              for kind, x, y, label in symbols if label is not None]
+    named = [room for room in roadmap.rooms if room.names]
+    for room in named:               # last: a name moves off lanes, symbols and labels
+        inside = shapely.affinity.translate(room.polygon, -ox, -oy)
+        largest = max(getattr(inside, "geoms", [inside]), key=lambda part: part.area)
+        centre = shapely.get_coordinates(polylabel(largest, 0.25 * font))[0]
+        labels.append((*centre, room.names[0], 0.9 * font, 0.0, False, inside))
+    placed = iter(placer.place_all(labels))   # in this order, as one at a time
     for kind, x, y, label in symbols:
-        lift = 1.3 * font if kind == "personnel" else 0.0
-        at = (placer.place(x, y + lift, label, 0.8 * font, symbol_reach(kind, font),
-                           prefer_left=x > right) if label is not None else None)
-        add_marker(marks, kind, x, y, font, label, label_at=at)
+        add_marker(marks, kind, x, y, font, label,
+                   label_at=next(placed) if label is not None else None)
     names = etree.SubElement(root, "g", id="room-names")
-    for room in roadmap.rooms:       # last: a name moves off lanes, symbols and labels
-        if room.names:
-            inside = shapely.affinity.translate(room.polygon, -ox, -oy)
-            largest = max(getattr(inside, "geoms", [inside]), key=lambda part: part.area)
-            centre = shapely.get_coordinates(polylabel(largest, 0.25 * font))[0]
-            x, y, anchor = placer.place(*centre, room.names[0], 0.9 * font, 0.0, within=inside)
-            add_text(names, x, -y, xml_text(room.names[0]), 0.9 * font, anchor=anchor,
-                     halo=True, colour="#3A3A3A")
+    for room in named:
+        x, y, anchor = next(placed)
+        add_text(names, x, -y, xml_text(room.names[0]), 0.9 * font, anchor=anchor,
+                 halo=True, colour="#3A3A3A")
     present = {kind for kind, *_ in symbols}
     if facing:                          # the legend's station shows its heading line
         present = (present - {"station"}) | {"facing"}

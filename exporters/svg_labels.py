@@ -168,21 +168,36 @@ class LabelPlacer:
         """Index into `boxes` of each (box, symbol) pair that intersects: the pairs the
         R-tree's 'intersects' query gives.
 
-        A symbol with one of its extreme vertices in the closed box meets it for certain
-        (that point lies in both); only the other pairs whose bounds overlap ask GEOS, with
-        the box prepared, as the query itself asks.
+        A symbol holds the disc about the middle of its bounds out to its boundary (less a
+        margin far above rounding) when its interior holds that middle, so it meets a
+        closed box whose point nearest the middle lies in that disc; one with one of its
+        extreme vertices in the closed box meets it too (that point lies in both). Only the
+        other pairs whose bounds overlap ask GEOS, with the box prepared, as the query
+        itself asks.
         """
         if self._symbol_tree is None:
             symbols = np.asarray(self._symbols, dtype=object).reshape(-1)
             self._symbol_tree = STRtree(symbols)
             self._symbol_array = symbols
             self._symbol_extremes = _extreme_vertices(symbols)
+            low_x, low_y, high_x, high_y = shapely.bounds(symbols).T
+            middle_x, middle_y = (low_x + high_x) / 2, (low_y + high_y) / 2
+            middles = shapely.points(middle_x, middle_y)
+            held = shapely.contains(symbols, middles)
+            radius = np.where(held, shapely.distance(middles, shapely.boundary(symbols)), -1.0)
+            # a symbol whose middle is not in it never passes the first test
+            self._symbol_discs = middle_x, middle_y, radius * (1 - 1e-9) - 1e-12
         box, symbol = self._symbol_tree.query(boxes)
         if len(box) == 0:
             return box
-        x, y = np.moveaxis(self._symbol_extremes[symbol], 2, 0)          # (P, 4) each
-        left, bottom, right, top = (column[:, None] for column in bounds[box].T)
-        certain = ((x >= left) & (x <= right) & (y >= bottom) & (y <= top)).any(axis=1)
+        x, y, radius = (part[symbol] for part in self._symbol_discs)
+        dx = np.clip(x, bounds[box, 0], bounds[box, 2]) - x
+        dy = np.clip(y, bounds[box, 1], bounds[box, 3]) - y
+        certain = dx * dx + dy * dy <= radius * np.abs(radius)
+        rest = np.flatnonzero(~certain)
+        x, y = np.moveaxis(self._symbol_extremes[symbol[rest]], 2, 0)    # (R, 4) each
+        left, bottom, right, top = (column[:, None] for column in bounds[box[rest]].T)
+        certain[rest] = ((x >= left) & (x <= right) & (y >= bottom) & (y <= top)).any(axis=1)
         doubt = np.flatnonzero(~certain)
         if len(doubt):
             shapely.prepare(boxes)
@@ -190,9 +205,8 @@ class LabelPlacer:
                                                 self._symbol_array[symbol[doubt]])
         return box[certain]
 
-    def _clashes(self, boxes, bounds, within) -> np.ndarray:
-        """Number of symbols and labels each box touches (+1 when it leaves `within`)."""
-        count = np.bincount(self._symbol_hits(boxes, bounds), minlength=len(boxes))
+    def _touches(self, bounds) -> np.ndarray:
+        """Number of labels placed so far that each box of `bounds` (B, 4) touches."""
         # labels are axis-aligned boxes: two touch when their bounds overlap, edges included
         taken = self._taken
         x0, y0, x1, y1 = bounds.T
@@ -200,11 +214,8 @@ class LabelPlacer:
         taken = taken[(taken[:, 0] <= x1.max()) & (taken[:, 2] >= x0.min())
                       & (taken[:, 1] <= y1.max()) & (taken[:, 3] >= y0.min())]
         x0, y0, x1, y1 = (column[:, None] for column in bounds.T)
-        count += np.count_nonzero((taken[:, 0] <= x1) & (taken[:, 2] >= x0)
-                                  & (taken[:, 1] <= y1) & (taken[:, 3] >= y0), axis=1)
-        if within is not None:
-            count += ~shapely.covers(within, boxes)
-        return count
+        return np.count_nonzero((taken[:, 0] <= x1) & (taken[:, 2] >= x0)
+                                & (taken[:, 1] <= y1) & (taken[:, 3] >= y0), axis=1)
 
     def _lane_cost(self, box) -> float:
         """Lane area `box` covers, by shapely's overlay (the measure positions are judged by)."""
@@ -255,20 +266,65 @@ class LabelPlacer:
         `within` (a polygon: the name of an area), the text is first tried centred on
         (x, y), and a position whose box leaves `within` counts as a clash.
         """
-        gap = reach + 0.3 * size
-        sides = [("start", gap), ("end", -gap)]
-        if prefer_left:
-            sides.reverse()
-        candidates = [(x, y - 0.35 * size, "middle")] if within is not None else []
-        for step in (0.0, 1.0, 2.2):
-            for anchor, dx in sides:
-                for dy in (-0.35 * size, 0.9 * size + step * size, -1.6 * size - step * size):
-                    candidates.append((x + dx * (1 + step), y + dy, anchor))
-            for dy in (gap + 0.3 * size + step * size, -gap - 1.0 * size - step * size):
-                candidates.append((x, y + dy, "middle"))
-        bounds = np.array([text_bounds(cx, cy, text, size, anchor)
-                           for cx, cy, anchor in candidates])
+        return self.place_all([(x, y, text, size, reach, prefer_left, within)])[0]
+
+    def place_all(self, labels) -> list[tuple[float, float, str]]:
+        """Place `labels` one after the other, as `place` does each in turn.
+
+        Parameters
+        ----------
+        labels : sequence of (x, y, text, size, reach, prefer_left, within)
+            The arguments of `place`, one tuple a label, in the order they are placed.
+
+        Returns
+        -------
+        list of (x, y, anchor), one a label
+
+        Which symbols a position touches and whether it leaves its `within` do not depend
+        on the labels placed before it: they are found for every position of every label
+        at once (one R-tree query, one GEOS call); only the labels placed so far are
+        counted label by label.
+        """
+        candidates, rows, start = [], [], [0]
+        for x, y, text, size, reach, prefer_left, within in labels:
+            tried = _positions(x, y, size, reach, prefer_left, within is not None)
+            candidates.append(tried)
+            rows.extend(text_bounds(cx, cy, text, size, anchor) for cx, cy, anchor in tried)
+            start.append(len(rows))
+        if not candidates:
+            return []
+        bounds = np.array(rows, dtype=float).reshape(-1, 4)
         boxes = shapely.box(*bounds.T)
-        best = self._cheapest(boxes, bounds, _CLASH * self._clashes(boxes, bounds, within))
-        self._taken = np.vstack([self._taken, bounds[best]])
-        return candidates[best]
+        fixed = np.bincount(self._symbol_hits(boxes, bounds), minlength=len(boxes))
+        owner = np.repeat(np.arange(len(candidates)), np.diff(start))
+        area = np.empty(len(candidates), dtype=object)
+        area[:] = [label[6] for label in labels]
+        area = area[owner]
+        bounded = np.flatnonzero([value is not None for value in area])
+        if len(bounded):
+            fixed[bounded] += ~shapely.covers(area[bounded], boxes[bounded])
+        placed = []
+        for index, tried in enumerate(candidates):
+            first, stop = start[index], start[index + 1]
+            clash = fixed[first:stop] + self._touches(bounds[first:stop])
+            best = self._cheapest(boxes[first:stop], bounds[first:stop], _CLASH * clash)
+            self._taken = np.vstack([self._taken, bounds[first + best]])
+            placed.append(tried[best])
+        return placed
+
+
+def _positions(x: float, y: float, size: float, reach: float, prefer_left: bool,
+               centred: bool) -> list[tuple[float, float, str]]:
+    """The baselines (x, y, anchor) a label tries round its symbol, in order of preference."""
+    gap = reach + 0.3 * size
+    sides = [("start", gap), ("end", -gap)]
+    if prefer_left:
+        sides.reverse()
+    candidates = [(x, y - 0.35 * size, "middle")] if centred else []
+    for step in (0.0, 1.0, 2.2):
+        for anchor, dx in sides:
+            for dy in (-0.35 * size, 0.9 * size + step * size, -1.6 * size - step * size):
+                candidates.append((x + dx * (1 + step), y + dy, anchor))
+        for dy in (gap + 0.3 * size + step * size, -gap - 1.0 * size - step * size):
+            candidates.append((x, y + dy, "middle"))
+    return candidates

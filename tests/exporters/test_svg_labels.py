@@ -143,3 +143,25 @@ def test_symbol_hits_are_the_pairs_geos_finds_intersecting(seed):
         # source: GEOS through shapely's R-tree query with the 'intersects' predicate
         expected = shapely.STRtree(symbols).query(boxes, predicate="intersects")[0]
         assert np.array_equal(np.sort(placer._symbol_hits(boxes, bounds)), np.sort(expected))
+
+
+@pytest.mark.parametrize("seed", range(3))
+def test_place_all_places_as_one_label_at_a_time(seed):
+    # the definition: `place` called label by label, in order, on a placer in the same state
+    rng = np.random.default_rng(70 + seed)
+    lines = [shapely.LineString(np.cumsum(rng.uniform(-3, 3, size=(4, 2)), axis=0)
+                                + rng.uniform(0, 15, size=2)) for _ in range(30)]
+    symbols = [shapely.Point(rng.uniform(0, 15, size=2)).buffer(0.4, quad_segs=2)
+               for _ in range(12)]
+    rooms = [shapely.box(0, 0, 8, 8), shapely.box(6, 5, 15, 15), None]
+    labels = [(*rng.uniform(0, 15, size=2), "a" * int(rng.integers(2, 9)), 0.8,
+               float(rng.uniform(0, 0.5)), bool(rng.integers(2)), rooms[i % 3])
+              for i in range(25)]
+    one, many = LabelPlacer(lines, 0.3), LabelPlacer(lines, 0.3)
+    for symbol in symbols:
+        one.block(symbol)
+        many.block(symbol)
+    expected = [one.place(x, y, text, size, reach, prefer_left=left, within=within)
+                for x, y, text, size, reach, left, within in labels]
+    assert many.place_all(labels) == expected
+    assert len({at for at in expected}) > 10              # the labels moved apart
