@@ -21,22 +21,26 @@ field about many points at once, and only the few left undecided are measured:
    poses are made for the paths it leaves (most of a turn round's forward loops leave
    the floor, 150 poses each);
 2. two points of the body at every GROUP-th pose, then the second at each pose of the
-   moves not yet clear: every body point lies within the swing radius of the rotation
-   centre and within the half diagonal of the footprint's centre, so their clearance less
-   that radius (and less half the way to the next measured pose, plus one step) bounds
-   each move's gap from below; a disc about the rotation centre lies inside the
-   footprint, so its clearance bounds the gap from above. The rotation centre is
-   measured only where the footprint centre's clearance, plus the distance between the
-   two, leaves its bounds in doubt;
+   moves not yet clear (every other such pose first: a measured neighbour's clearance
+   less the distance between bounds the pose between, and clears most of its moves):
+   every body point lies within the swing radius of the rotation centre and within the
+   half diagonal of the footprint's centre, so their clearance less that radius (and
+   less half the way to the next measured pose, plus one step) bounds each move's gap
+   from below; a disc about the rotation centre lies inside the footprint, so its
+   clearance bounds the gap from above. The rotation centre is measured only where the
+   footprint centre's clearance, plus the distance between the two, leaves its bounds
+   in doubt;
 3. the corners at the tightest FEW moves of each path (a corner's clearance bounds the gap
    from above), then points OUTLINE_STEP apart on the footprint's outline at each pose of
    the moves still tight, against the floor (one off it refuses the path, as in stage 1),
    then at every move still tight the discs covering the footprint along its long axis
-   (radius at most COVER_SLACK more than its half-width): the hull of two footprints
-   lies within half the largest corner displacement of one of them (a point of the hull
-   is lambda p + (1 - lambda) q with q within that displacement of the first footprint,
-   p of the second), so the smaller disc clearance less that half bounds the hull's gap
-   from below; and the corners where the discs leave less than the margin.
+   (radius at most COVER_SLACK more than its half-width; at every other pose first, as
+   in stage 2, each disc's clearance at the pose between bounded by the same disc's):
+   the hull of two footprints lies within half the largest corner displacement of one
+   of them (a point of the hull is lambda p + (1 - lambda) q with q within that
+   displacement of the first footprint, p of the second), so the smaller disc clearance
+   less that half bounds the hull's gap from below; and the corners where the discs
+   leave less than the margin.
 
 Only two things about a lower bound of a move matter to the stages after the one that
 made it: whether it is below the margin, and if so its exact value (it ranks the moves
@@ -324,6 +328,86 @@ def _nearby(known: np.ndarray, at: np.ndarray, xy: np.ndarray, room: np.ndarray)
     return result
 
 
+def _beside(known: np.ndarray, at: np.ndarray, starts: np.ndarray, xy: np.ndarray,
+            room: np.ndarray) -> np.ndarray:
+    """Lower bounds of the clearance at points `xy` (N, 2) of poses `at` (N,), sorted, from
+    the poses just before and after each (within its path: `starts`, each path's first
+    pose, sorted) where those are measured (`known`, clearance `room`), as `_nearby`;
+    -inf where neither is."""
+    result = np.full(len(at), -np.inf)
+    if len(at) < 2:
+        return result
+    found = np.minimum(np.searchsorted(starts, at), len(starts) - 1)
+    opens = starts[found] == at
+    # pairs (i, i + 1) of consecutive poses of one path
+    pair = np.flatnonzero((np.diff(at) == 1) & ~opens[1:])
+    for target, source in ((pair, pair + 1), (pair + 1, pair)):
+        ok = known[source]
+        target, source = target[ok], source[ok]
+        result[target] = np.maximum(result[target], room[source] - np.hypot(
+            *(xy[target] - xy[source]).T) - NEARBY_SLACK)
+    return result
+
+
+def _run_positions(at: np.ndarray, starts: np.ndarray) -> np.ndarray:
+    """Each pose's place (0, 1, ...) in its run of consecutive poses `at` (N,), sorted,
+    within one path (`starts`, (P,), each path's first pose, sorted): numbered within the
+    path's own poses, so a path's answer does not depend on the paths judged beside it."""
+    if not len(at):
+        return np.zeros(0, dtype=int)
+    opens = np.r_[True, np.diff(at) != 1]
+    found = np.minimum(np.searchsorted(starts, at), len(starts) - 1)
+    opens |= starts[found] == at
+    return np.arange(len(at)) - np.flatnonzero(opens)[np.cumsum(opens) - 1]
+
+
+def _every_other(at: np.ndarray, starts: np.ndarray) -> np.ndarray:
+    """Which of poses `at` (N,), sorted, are the first, third, ... of their runs (see
+    `_run_positions`)."""
+    return _run_positions(at, starts) % 2 == 0
+
+
+def _disc_rooms(field, at: np.ndarray, starts: np.ndarray, discs: np.ndarray, radius: float,
+                a_end, b_end, shift: np.ndarray, margin: float) -> np.ndarray:
+    """Stage 3's smallest clearance of the covering discs at poses `at` (E,), sorted, whose
+    disc centres are `discs` (E, D, 2), less their `radius`: exact at every pose it could
+    matter at, a lower bound elsewhere (only where it keeps `margin` + NEARBY_SLACK, and
+    the moves a_end -> b_end (M,) it ends, with their `shift`, keep the margin).
+
+    Every other pose of each run of consecutive poses of a path (`starts`, each path's
+    first pose, sorted) is measured first (the first, the third, ...); each disc's
+    clearance at a pose between is at least that of the same disc at a neighbour less the
+    distance it moved (1-Lipschitz, as in `_nearby`). The poses where that leaves a move
+    below the margin, or the pose itself below margin + NEARBY_SLACK (where stage 3
+    measures the corners), are measured too. So every value the stage uses below the
+    margin is the exact one, and every other keeps it, as when every pose is measured.
+    """
+    count, width = len(at), discs.shape[1]
+    clear = np.full((count, width), -np.inf)
+    position = _run_positions(at, starts)
+    first = np.flatnonzero(position % 2 == 0)
+    clear[first] = field.at(discs[first].reshape(-1, 2)).reshape(len(first), width)
+    room = np.full(count, -np.inf)
+    room[first] = clear[first].min(axis=1) - radius
+    skipped = np.flatnonzero(position % 2 == 1)   # the pose before is measured
+    if len(skipped):
+        after = np.minimum(skipped + 1, count - 1)
+        after = np.where(position[after] == position[skipped] + 1, after, skipped - 1)
+        low = np.maximum(*(clear[side] - np.hypot(*(discs[skipped] - discs[side])
+                                                  .transpose(2, 0, 1)) - NEARBY_SLACK
+                           for side in (skipped - 1, after)))
+        room[skipped] = low.min(axis=1) - radius
+        unsure = np.zeros(count, bool)
+        short = np.minimum(room[a_end], room[b_end]) - shift / 2 < margin
+        unsure[a_end[short]] = unsure[b_end[short]] = True
+        unsure[room < margin + NEARBY_SLACK] = True
+        again = skipped[unsure[skipped]]
+        if len(again):
+            room[again] = field.at(discs[again].reshape(-1, 2)).reshape(
+                len(again), width).min(axis=1) - radius
+    return room
+
+
 # tens of thousands of short-lived paths, poses and lists: the cyclic collector's passes
 # would rescan the build's long-lived objects again and again (nothing here makes a cycle)
 @paused_collector()
@@ -507,18 +591,28 @@ def _measure(robot: Robot, field, paths, owner, best, floor=None) -> None:
     # first from those: a point's clearance is at least a measured one's less the
     # distance between them; where that clears a move, its bound is left at that (only
     # whether it is below the margin, and the exact values of those that are, matter to
-    # the stages after), and the others' poses are measured
-    guess = np.where(known, room, _nearby(known, ends, points[1][ends], room))
-    fair = np.minimum(guess[a_end], guess[b_end]) - chords[1][tight] * (1 + 1e-3) / 2 - \
-        circum - extra
-    sure = fair >= margin
-    bound[tight[sure]] = np.maximum(bound[tight[sure]], fair[sure])
-    tight, a_end, b_end = tight[~sure], a_end[~sure], b_end[~sure]
-    want = np.zeros(len(ends), bool)
-    want[a_end] = want[b_end] = True
-    want &= ~known
-    room[want] = field.at(points[1][ends[want]])
-    centre_room[ends[known | want]] = room[known | want]
+    # the stages after), and the others' poses are measured: every other one of them
+    # first, then, where those do not clear their moves either, the rest
+    xy = points[1][ends]
+    guess = np.where(known, room, _nearby(known, ends, xy, room))
+    for sweep in range(2):
+        fair = np.minimum(guess[a_end], guess[b_end]) - chords[1][tight] * (1 + 1e-3) / 2 \
+            - circum - extra
+        sure = fair >= margin
+        bound[tight[sure]] = np.maximum(bound[tight[sure]], fair[sure])
+        tight, a_end, b_end = tight[~sure], a_end[~sure], b_end[~sure]
+        want = np.zeros(len(ends), bool)
+        want[a_end] = want[b_end] = True
+        want &= ~known
+        if sweep == 0:
+            wanted = np.flatnonzero(want)
+            want[wanted[~_every_other(ends[wanted], first)]] = False
+        room[want] = field.at(xy[want])
+        known |= want
+        if sweep == 0:
+            guess = np.where(known, room, np.maximum(guess, _beside(known, ends, first, xy,
+                                                                    room)))
+    centre_room[ends[known]] = room[known]
     bound[tight] = np.maximum(bound[tight], np.minimum(room[a_end], room[b_end]) -
                               chords[1][tight] * (1 + 1e-3) / 2 - circum - extra)
     left = settle(bound)
@@ -573,8 +667,11 @@ def _measure(robot: Robot, field, paths, owner, best, floor=None) -> None:
     centres, radius = cover(robot)
     ends, where = np.unique(np.r_[move[tight], move[tight] + 1], return_inverse=True)
     near = place(np.vstack([centres, corners]), every[ends, :2], every[ends, 2])
-    disc_room = field.at(near[:, :len(centres)].reshape(-1, 2)).reshape(
-        len(ends), -1).min(axis=1) - radius
+    a_end, b_end = np.split(where.ravel(), 2)
+    shift = np.hypot(*(near[b_end, len(centres):] - near[a_end, len(centres):])
+                     .transpose(2, 0, 1)).max(axis=1)
+    disc_room = _disc_rooms(field, ends, first, near[:, :len(centres)], radius, a_end,
+                            b_end, shift, margin)
     # the end discs reach the corners, so a corner's clearance less `extra` is at least
     # disc_room: where that keeps the margin the corner cannot bring a path's upper bound
     # below it (only such bounds are used), and it is not measured
@@ -584,9 +681,6 @@ def _measure(robot: Robot, field, paths, owner, best, floor=None) -> None:
     if len(some):
         corner_room[some] = field.at(near[some, len(centres):].reshape(-1, 2)).reshape(
             len(some), -1).min(axis=1) - extra
-    a_end, b_end = np.split(where.ravel(), 2)
-    shift = np.hypot(*(near[b_end, len(centres):] - near[a_end, len(centres):])
-                     .transpose(2, 0, 1)).max(axis=1)
     bound[tight] = np.maximum(bound[tight], np.minimum(disc_room[a_end], disc_room[b_end]) -
                               shift / 2)
     np.minimum.at(high, path_of_move[tight], np.minimum(corner_room[a_end],

@@ -197,26 +197,33 @@ def car_bends(robot: Robot, field, lines, ends, floor=None):
 
     Returns the kept lines, their ends, and a Shortfall per dropped lane (local frame).
     """
-    bends, jobs = [], []                 # per lane its bend vertices; the manoeuvres
-    all_coords = []
-    for line in lines:
-        coords = shapely.get_coordinates(line)
-        coords = coords[np.concatenate([[True], np.hypot(*np.diff(coords, axis=0).T) > 1e-9])]
-        all_coords.append(coords)
-        mine = []
-        if len(coords) >= 3:
-            step = np.diff(coords, axis=0)
-            length = np.hypot(*step.T)
-            heading = np.arctan2(step[:, 1], step[:, 0])
-            turn = np.abs(angle_between(heading[:-1], heading[1:]))
-            span = (length[:-1] + length[1:]) / 2
-            sharp = np.flatnonzero((turn > BEND_ANGLE) &
-                                   (turn > (1 + BEND_SLACK) * span / robot.turn_radius)) + 1
-            for vertex in _bend_middles(sharp, np.concatenate([[0.0], np.cumsum(length)]),
-                                        robot.turn_radius):
-                mine.append((vertex, len(jobs)))
-                jobs.append((coords[vertex], coords[:vertex + 1][::-1], coords[vertex:]))
-        bends.append(mine)
+    # every lane's vertices at once (the same differences, headings and turns as lane by
+    # lane: numpy's arithmetic element by element); only the few lanes with a vertex
+    # sharp enough take their own running sums and bend middles
+    lines = np.asarray(lines, dtype=object).reshape(-1)
+    xy, owner = shapely.get_coordinates(lines, return_index=True)
+    moved = np.hypot(*np.diff(xy, axis=0).T) > 1e-9
+    keep = np.r_[True, moved | (owner[1:] != owner[:-1])][:len(xy)]
+    xy, owner = xy[keep], owner[keep]
+    all_coords = np.split(xy, np.cumsum(np.bincount(owner, minlength=len(lines)))[:-1])
+    step = np.diff(xy, axis=0)
+    length = np.hypot(*step.T)
+    heading = np.arctan2(step[:, 1], step[:, 0])
+    turn = np.abs(angle_between(heading[:-1], heading[1:]))
+    span = (length[:-1] + length[1:]) / 2
+    # the turn at vertex k + 1 joins steps k and k + 1, both within one lane
+    inside = (owner[1:-1] == owner[:-2]) & (owner[2:] == owner[1:-1])
+    sharp = np.flatnonzero(inside & (turn > BEND_ANGLE) &
+                           (turn > (1 + BEND_SLACK) * span / robot.turn_radius)) + 1
+    first = np.searchsorted(owner, np.arange(len(lines)))
+    bends, jobs = [[] for _ in range(len(lines))], []     # per lane its bend vertices
+    for lane in np.unique(owner[sharp]).tolist():
+        coords = all_coords[lane]
+        mine = sharp[owner[sharp] == lane] - first[lane]
+        along = np.concatenate([[0.0], np.cumsum(np.hypot(*np.diff(coords, axis=0).T))])
+        for vertex in _bend_middles(mine, along, robot.turn_radius):
+            bends[lane].append((vertex, len(jobs)))
+            jobs.append((coords[vertex], coords[:vertex + 1][::-1], coords[vertex:]))
     gaps = car_gaps(robot, field, jobs, floor)
     kept_lines, kept_ends, short = [], [], []
     for coords, (u, v), mine in zip(all_coords, ends, bends):

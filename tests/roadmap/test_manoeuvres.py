@@ -12,8 +12,8 @@ from clearway.roadmap import Robot
 from clearway.roadmap.body import MAX_STEP_ANGLE, core, move_gaps, place
 from clearway.roadmap.clearance import clearance_field
 from clearway.roadmap.inflate import boundary_segments
-from clearway.roadmap.manoeuvres import (CAR_REACH, GROUP, _off_floor, car_gaps, cover,
-                                         paths_tried)
+from clearway.roadmap.manoeuvres import (CAR_REACH, GROUP, _disc_rooms, _off_floor, car_gaps,
+                                         cover, paths_tried)
 
 
 def exact_best(robot, field, here, arrive, leave):
@@ -147,3 +147,40 @@ def test_discs_cover_the_footprint():
     nearest = np.hypot(*(grid[:, None] - centres[None]).transpose(2, 0, 1)).min(axis=1)
     assert nearest.max() <= radius + 1e-12
     assert radius <= 0.4 + 0.02 + 1e-12
+
+
+@pytest.mark.parametrize("seed", range(3))
+def test_disc_rooms_exact_wherever_they_could_matter(seed):
+    # analytic: the distance to a set is 1-Lipschitz, so a disc's clearance at a pose is at
+    # least the same disc's at a neighbouring pose less the distance it moved; stage 3 may
+    # keep such a bound only where it clears the margin, and must measure every other pose
+    rng = np.random.default_rng(40 + seed)
+    floor = cluttered_floor(rng)
+    field = clearance_field(boundary_segments(floor)[0])
+    robot = Robot.rectangle(1.4, 0.8, margin=0.1, kind="car", centre=(-0.5, 0.0),
+                            turn_radius=2.0)
+    centres, radius = cover(robot)
+    # three paths of consecutive poses, arcs of radius 2 m at 0.05 rad, each a path's
+    # poses 0..n-1; a few poses left out make runs
+    poses, starts = [], []
+    for _ in range(3):
+        starts.append(len(poses))
+        x, y, heading = rng.uniform(3, 17, 3)
+        turned = heading + 0.05 * np.arange(40)
+        poses += [(x + 2 * math.sin(t), y - 2 * math.cos(t), t) for t in turned]
+    poses = np.array(poses)
+    at = np.flatnonzero(rng.random(len(poses)) < 0.8)
+    discs = place(centres, poses[at, :2], poses[at, 2])
+    exact = field.at(discs.reshape(-1, 2)).reshape(len(at), -1).min(axis=1) - radius
+    pair = np.flatnonzero(np.diff(at) == 1)
+    shift = np.full(len(pair), 0.05)
+    found = _disc_rooms(field, at, np.array(starts), discs, radius, pair, pair + 1, shift,
+                        robot.margin)
+    low = exact < robot.margin + 1e-9
+    assert np.array_equal(found[low], exact[low])
+    assert (found[~low] <= exact[~low]).all() and (found[~low] >= robot.margin).all()
+    short = np.minimum(found[pair], found[pair + 1]) - shift / 2 < robot.margin
+    assert np.array_equal(found[pair[short]], exact[pair[short]])
+    assert np.array_equal(found[pair[short] + 1], exact[pair[short] + 1])
+    assert low.any() and (~low).any()                     # both kinds of pose tried
+    assert (found != exact).any()                         # and some left to the bound

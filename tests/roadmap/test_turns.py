@@ -274,3 +274,32 @@ def test_with_no_margin_a_car_may_not_swing_its_body_through_a_wall():
     assert 2 * (2.0 - math.sqrt(2) * (2.0 - 0.5)) < 0
     found = turns_at(robot, floor, graph)
     assert ("e1", "e3") in found and ("e1", "e2") not in found and ("e1", "e4") not in found
+
+
+def test_car_bends_finds_the_bends_sharper_than_the_turning_radius(monkeypatch):
+    # analytic: a lane along a circle of radius r, vertices s apart, turns by s / r at
+    # each inner vertex over a span of s, so it bends faster than (1 + BEND_SLACK) / R
+    # exactly where r < R / 1.1; a run of such vertices is one bend, judged at its middle
+    import clearway.roadmap.turns as turns
+    judged = []
+
+    def record(robot, field, jobs, floor=None):
+        judged.extend(jobs)
+        return np.where(np.arange(len(jobs)) == 0, -1.0, 1.0)     # the first one fails
+
+    monkeypatch.setattr(turns, "car_gaps", record)
+    robot = Robot.rectangle(1.4, 0.8, margin=0.1, kind="car", turn_radius=1.5)
+
+    def arc(cx, r, count):
+        angle = np.linspace(0, math.pi / 2, count)
+        return np.column_stack([cx + r * np.cos(angle), r * np.sin(angle)])
+
+    tight = arc(0, 1.0, 12)                              # r = 1.0 m < 1.5 / 1.1
+    wide = arc(10, 3.0, 12)                              # r = 3.0 m: followed
+    doubled = np.repeat(arc(20, 1.2, 9), 2, axis=0)      # repeated vertices, r = 1.2 m
+    lines = np.array([shapely.LineString(c) for c in (tight, wide, doubled)], dtype=object)
+    kept, ends, short = turns.car_bends(robot, None, lines, [(0, 1), (2, 3), (4, 5)])
+    assert [len(job[1]) - 1 for job in judged] == [6, 4]  # middles of vertices 1..10, 1..7
+    assert np.allclose(judged[0][0], tight[6]) and np.allclose(judged[1][0], arc(20, 1.2, 9)[4])
+    assert ends == [(2, 3), (4, 5)] and len(short) == 1   # the failing bend drops its lane
+    assert np.allclose(shapely.get_coordinates(kept[1]), arc(20, 1.2, 9))
