@@ -19,7 +19,10 @@ field about many points at once, and only the few left undecided are measured:
    the path crosses the floor's edge (it starts on a lane, where the body fits): refused.
    This test comes first, on the poses stage 1 measures only (`_off_floor`); the other
    poses are made for the paths it leaves (most of a turn round's forward loops leave
-   the floor, 150 poses each);
+   the floor, 150 poses each). The first paths tried, which mostly stay on it, have all
+   their poses made at once and the footprint centre's clearance at those poses (stage
+   1 needs it) measured first: where it exceeds the half diagonal, the centre alone is
+   tested (`_off_floor_measured`);
 2. two points of the body at every GROUP-th pose, then the second at each pose of the
    moves not yet clear (every other such pose first: a measured neighbour's clearance
    less the distance between bounds the pose between, and clears most of its moves):
@@ -448,6 +451,7 @@ def car_gaps(robot: Robot, field, manoeuvres, floor=None) -> np.ndarray:
                        robot.turn_radius)
         tries = {index: _tries(robot, *poses, known, arc)
                  for (index, poses), arc in zip(pairs, arcs)}
+        likely = step == 0          # the first paths tried mostly stay on the floor
         while tries:
             paths, owner = [], []
             for index in list(tries):
@@ -459,7 +463,8 @@ def car_gaps(robot: Robot, field, manoeuvres, floor=None) -> np.ndarray:
                 paths.append(path)
                 owner.append(index)
             if paths:
-                _judge(robot, field, paths, np.asarray(owner), best, floor)
+                _judge(robot, field, paths, np.asarray(owner), best, floor, likely)
+            likely = False
     return best
 
 
@@ -486,31 +491,74 @@ def _off_floor(robot: Robot, paths, floor) -> np.ndarray:
     return off
 
 
-def _judge(robot: Robot, field, paths, owner, best, floor=None) -> None:
+def _judge(robot: Robot, field, paths, owner, best, floor=None, likely=False) -> None:
     """Raise best[owner[k]] to the gap beside the body along paths[k] (or a bound of it,
-    see the module's docstring), skipping exact checks of manoeuvres already possible."""
+    see the module's docstring), skipping exact checks of manoeuvres already possible.
+    `likely`: most paths are expected to pass the floor test (the first tried), so all
+    their poses are made at once and stage 1's clearances help the floor test."""
     margin = robot.least_gap
     extra = core(robot)[1] - robot.margin
+    made = None
     if floor is not None:
         # stage 1's floor test first, on its own poses only: a path it refuses has the
         # gap 0.0 - extra (never -0.0, printed "-0.00"), or CROSSING where that would keep
         # the margin (a rectangle and no margin), whatever the others do, and the rest need
         # not make its poses (most of a turn round's forward loops, 150 poses each, swing
         # off the floor)
-        off = _off_floor(robot, paths, floor)
+        if likely:
+            every, counts = poses_of(paths, step=MAX_STEP_ANGLE)
+            off, centre_at = _off_floor_measured(robot, field, every, counts, floor)
+        else:
+            off = _off_floor(robot, paths, floor)
         np.maximum.at(best, owner[off], 0.0 - extra if 0.0 - extra < margin else CROSSING)
         kept = np.flatnonzero(~off)
         if not len(kept):
             return
         paths, owner = [paths[k] for k in kept], owner[kept]
-    _measure(robot, field, paths, owner, best, floor)
+        if likely:
+            head = np.r_[0, np.cumsum(counts)[:-1]]
+            rows = np.repeat(head[kept] - np.r_[0, np.cumsum(counts[kept])[:-1]],
+                             counts[kept]) + np.arange(int(counts[kept].sum()))
+            made = every[rows], counts[kept], centre_at[rows]
+    _measure(robot, field, paths, owner, best, floor, made)
 
 
-def _measure(robot: Robot, field, paths, owner, best, floor=None) -> None:
+def _off_floor_measured(robot: Robot, field, every, counts, floor):
+    """`_off_floor` of paths whose poses `every` (N, 3) (`counts` (P,) a path) are made,
+    the same answers; and the footprint centre's clearance at the poses stage 1 measures
+    (N,), NaN elsewhere. Where that clearance exceeds the farthest body point's distance
+    from the centre, the whole body lies on the centre's side of the floor's edge (the
+    field measures the floor's boundary), so only the centre is tested there."""
+    head = np.r_[0, np.cumsum(counts)[:-1]]
+    index = np.arange(len(every)) - np.repeat(head, counts)
+    rows = np.flatnonzero((index % GROUP == 0) | (index == np.repeat(counts - 1, counts)))
+    path_of_row = np.repeat(np.arange(len(counts)), counts)[rows]
+    centre = place(-np.asarray(robot.centre, float)[None], every[rows, :2],
+                   every[rows, 2])[:, 0]
+    centre_at = np.full(len(every), np.nan)
+    centre_at[rows] = room = field.at(centre)
+    corners = core(robot)[0]
+    spread = float(np.hypot(*(corners + np.asarray(robot.centre, float)).T).max()) \
+        if len(corners) else 0.0
+    alone = room > spread + NEARBY_SLACK
+    off = np.zeros(len(counts), bool)
+    off[path_of_row[alone][~shapely.contains_xy(floor, centre[alone])]] = True
+    some = np.flatnonzero(~alone)
+    if len(some):
+        body = np.concatenate([centre[some, None], place(corners, every[rows[some], :2],
+                                                         every[rows[some], 2])], axis=1)
+        inside = shapely.contains_xy(floor, body.reshape(-1, 2)).reshape(body.shape[:2])
+        off[path_of_row[some[~inside.all(axis=1)]]] = True
+    return off, centre_at
+
+
+def _measure(robot: Robot, field, paths, owner, best, floor=None, made=None) -> None:
     """`_judge` from stage 1's clearance queries on, for paths that passed its floor
-    test."""
+    test; `made`, where given, their poses, counts and footprint centres' clearances
+    (NaN where not measured), as `_off_floor_measured` gives them."""
     margin = robot.least_gap
-    every, counts = poses_of(paths, step=MAX_STEP_ANGLE)
+    every, counts, centre_at = made if made is not None else \
+        (*poses_of(paths, step=MAX_STEP_ANGLE), None)
     first = np.r_[0, np.cumsum(counts)[:-1]]
     # moves join consecutive poses of one path: move k from pose move[k] to move[k] + 1
     joined = np.ones(len(every) - 1, bool)
@@ -559,7 +607,12 @@ def _measure(robot: Robot, field, paths, owner, best, floor=None) -> None:
                   for at in (move[starts], move[stops] + 1)]
     spreads = [np.add.reduceat(chord, starts) / 2 + np.maximum.reduceat(chord, starts)
                for chord in chords]
-    rooms = [np.full(len(ends), -np.inf), field.at(points[1][ends])]
+    rooms = [np.full(len(ends), -np.inf), np.full(len(ends), np.nan)]
+    if centre_at is not None:
+        rooms[1] = centre_at[ends]
+    unknown = np.flatnonzero(np.isnan(rooms[1]))
+    if len(unknown):
+        rooms[1][unknown] = field.at(points[1][ends[unknown]])
     lowest = np.minimum(*(rooms[1][at] for at in group_ends))
     by_centre = lowest - spreads[1] - circum
     apart = math.hypot(*robot.centre) + NEARBY_SLACK

@@ -12,8 +12,9 @@ from clearway.roadmap import Robot
 from clearway.roadmap.body import MAX_STEP_ANGLE, core, move_gaps, place
 from clearway.roadmap.clearance import clearance_field
 from clearway.roadmap.inflate import boundary_segments
-from clearway.roadmap.manoeuvres import (CAR_REACH, GROUP, _disc_rooms, _off_floor, car_gaps,
-                                         cover, paths_tried)
+from clearway.roadmap.dubins import poses_of
+from clearway.roadmap.manoeuvres import (CAR_REACH, GROUP, _disc_rooms, _off_floor,
+                                         _off_floor_measured, car_gaps, cover, paths_tried)
 
 
 def exact_best(robot, field, here, arrive, leave):
@@ -135,6 +136,17 @@ def test_off_floor_is_stage_one_floor_test():
     found = _off_floor(robot, paths, floor)
     assert found.tolist() == expected
     assert 0 < sum(expected) < len(paths)                   # both kinds of path tried
+    # the first round's test, from all poses and stage 1's clearances, answers the same;
+    # it measures the footprint's centre exactly at those poses (NaN elsewhere)
+    field = clearance_field(boundary_segments(floor)[0])
+    every, counts = poses_of(paths, step=MAX_STEP_ANGLE)
+    found, centre_at = _off_floor_measured(robot, field, every, counts, floor)
+    assert found.tolist() == expected
+    rows = np.flatnonzero(~np.isnan(centre_at))
+    centre = place(-np.asarray(robot.centre, float)[None], every[rows, :2], every[rows, 2])
+    assert np.allclose(centre_at[rows], shapely.distance(shapely.points(centre[:, 0]),
+                                                         floor.boundary), atol=1e-12)
+    assert len(rows) == sum(math.ceil((n - 1) / GROUP) + 1 for n in counts.tolist())
 
 
 def test_discs_cover_the_footprint():
