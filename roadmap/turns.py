@@ -83,6 +83,28 @@ def _leaving(coords: np.ndarray, at: np.ndarray) -> tuple[np.ndarray, float]:
     return coords, math.atan2(dy, dx)
 
 
+def _leavings(coords_of: list, at_of: list) -> list[tuple[np.ndarray, float]]:
+    """`_leaving` of many edges (n_i, 2) and points (2,): the same coordinates and
+    headings (numpy's hypot and differences element by element, the math module's
+    atan2); only an edge whose first step does not move takes `_leaving` itself."""
+    if not coords_of:
+        return []
+    at = np.array(at_of, dtype=float).reshape(-1, 2)
+    ends = np.array([(c[0], c[1], c[-2], c[-1]) if len(c) >= 2 else (c[0], c[0], c[0], c[0])
+                     for c in coords_of], dtype=float)
+    turned = np.hypot(*(ends[:, 3] - at).T) < np.hypot(*(ends[:, 0] - at).T)
+    step = np.where(turned[:, None], ends[:, 2] - ends[:, 3], ends[:, 1] - ends[:, 0])
+    moving = (np.hypot(*step.T) > 1e-9).tolist()
+    found = []
+    for coords, where, flip, go, (dx, dy) in zip(coords_of, at_of, turned.tolist(), moving,
+                                                  step.tolist()):
+        if go and len(coords) >= 2:
+            found.append((coords[::-1] if flip else coords, math.atan2(dy, dx)))
+        else:
+            found.append(_leaving(coords, where))
+    return found
+
+
 def _clear(robot: Robot, field, a_xy, a_heading, b_xy, b_heading) -> float:
     """Smallest gap beside the body over moves a -> b (arrays), metres."""
     return float(move_gaps(robot, field, a_xy, a_heading, b_xy, b_heading).min()) \
@@ -121,14 +143,19 @@ def check_turns(robot: Robot, field, graph, offset, floor=None) -> list[BodyShor
     local_of = dict(zip(keys_of, np.split(
         shapely.get_coordinates(geometry).reshape(-1, 2) - shift,
         np.cumsum(shapely.get_num_coordinates(geometry)).astype(int)[:-1])))
+    here_of = [xy[index] - shift for index in range(len(nodes))]
+    incident_of = [sorted(((key, data) for _, _, key, data in
+                           graph.edges(node, keys=True, data=True)),
+                          key=lambda item: rank[item[0]]) for node in nodes]
+    leaving = iter(_leavings([local_of[key] for incident in incident_of
+                              for key, _ in incident],
+                             [here for here, incident in zip(here_of, incident_of)
+                              for _ in incident]))
     for index, node in enumerate(nodes):
-        here = xy[index] - shift
-        incident = sorted(((key, data) for _, _, key, data in graph.edges(node, keys=True,
-                                                                        data=True)),
-                          key=lambda item: rank[item[0]])
+        here, incident = here_of[index], incident_of[index]
         legs = {}
         for key, data in incident:
-            coords, heading = _leaving(local_of[key], here)
+            coords, heading = next(leaving)
             if not math.isnan(heading):
                 legs[key] = (coords, heading)
         allowed = set()
@@ -139,7 +166,9 @@ def check_turns(robot: Robot, field, graph, offset, floor=None) -> list[BodyShor
                     allowed.add((a, b))       # a station on its node: no heading to keep
                     continue
                 arrive = legs[a][1] + math.pi
-                turn = float(angle_between(arrive, legs[b][1])) if a != b else math.pi
+                # angle_between on floats: Python's % is numpy's (as in fillet)
+                turn = -((math.pi - (legs[b][1] - arrive)) % (2 * math.pi) - math.pi) \
+                    if a != b else math.pi
                 if robot.kind == "car":
                     if abs(turn) < 1e-9:
                         allowed.add((a, b))  # straight through: the lanes' own check
