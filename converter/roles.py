@@ -20,7 +20,7 @@ EQUIPMENT_PATTERNS = ("*EQPM*", "*EQUIP*", "*MACHIN*", "*MASCHIN*", "*CONVEY*")
 #: against the name left after an external-reference prefix (``SITE$0$A-WALL``,
 #: ``SITE|A-WALL``). They cover the US National CAD Standard / AIA layer names (A-WALL,
 #: A-DOOR, A-GLAZ, A-FLOR-STRS, A-COLS, S-COLS, A-FLOR-OTLN) and the plain words offices
-#: use in English, French, German, Spanish, Italian and Dutch, which also appear in the
+#: use in English, French, German, Spanish, Portuguese, Italian and Dutch, which also appear in the
 #: descriptive fields of ISO 13567 and BS 1192 names ("A-325G - Internal Doors"), and the
 #: Chinese, Japanese and Korean words for wall, column, door, window and stair. Numeric
 #: classification codes alone are not matched: schemes number differently (a CI/SfB 32 is
@@ -29,8 +29,9 @@ DEFAULT_ROLE_PATTERNS: Mapping[str, tuple[str, ...]] = MappingProxyType({
     "opening": ("*DOOR*", "*GLAZ*", "*WINDOW*", "*-WIND", "*-WIND-*", "*OPNG*", "*OPENING*",
                 "*CURTAIN*", "*TÜR*", "*TUER*", "TUR", "TUR[-_ ]*", "*FENSTER*", "*PORTE*",
                 "*FENETRE*", "*FENÊTRE*", "*PUERTA*", "*VENTANA*", "*FINESTR*", "*DEUR*",
-                "*RAAM*", "*RAMEN*", "*门*", "*窗*", "*幕墙*", "*建具*", "*ドア*", "*窓*",
-                "*창호*"),
+                "*RAAM*", "*RAMEN*", "*APERTUR*", "*INFISS*", "*SERRAMENT*", "*ABERTUR*",
+                "*ESQUADRI*", "*MENUISER*", "PORTA", "PORTA[-_ ]*", "*[-_ ]PORTA", "*PORTAS*",
+                "*JANELA*", "*门*", "*窗*", "*幕墙*", "*建具*", "*ドア*", "*窓*", "*창호*"),
     "stair": ("*STAIR*", "*STRS*", "*TREPPE*", "*ESCALIER*", "*ESCALERA*", "*SCALA",
               "*TRAP[-_ ]*", "*TRAPPE*", "*楼梯*", "*階段*", "*계단*",
               # lifts (the car and its shaft are no floor: the robot waits in the lobby)
@@ -41,7 +42,8 @@ DEFAULT_ROLE_PATTERNS: Mapping[str, tuple[str, ...]] = MappingProxyType({
              "MUR[-_ ]*", "*[-_ ]MUR", "*[-_ ]MURS*", "*[-_ ]MUR[-_ ]*", "MURO*", "*[-_ ]MURO*",
              "*PARED*", "*PARETE*", "*PARETI*", "*MUUR*", "*MUREN*", "*STÜTZ*", "*STUETZ*",
              "*POTEAU*", "*PILAR*", "*PILLAR*", "*COLONN*", "*PARTITION*", "*CLOISON*",
-             "*墙*", "*牆*", "*柱*", "*壁*", "*벽*", "*기둥*"),
+             "*MURATUR*", "*TRAMEZZ*", "*TAMPONAM*", "*ALVENARI*", "*TABIQU*", "*MAMPOSTER*",
+             "*MACONNER*", "*MAÇONNER*", "*墙*", "*牆*", "*柱*", "*壁*", "*벽*", "*기둥*"),
     "racking": ("*RACK*", "*SHELV*", "*SHELF*", "*SHLF*", "*PALLET*", "*REGAL*", "*RAYONNAGE*",
                 "*ESTANTER*", "*SCAFFAL*", "*STELLING*"),
     "keepout": ("*KEEPOUT*", "*KEEP-OUT*", "*KEEP_OUT*", "*KEEP OUT*", "*NOGO*", "*NO-GO*",
@@ -98,11 +100,11 @@ NOT_RACKING_PATTERNS = ("*AISLE*", "*SPRINK*", "E-LITE*", "*LIGHTING*")
 #: (common practice).
 DOOR_PATTERNS = ("*DOOR*", "*TÜR*", "*TUER*", "TUR", "TUR[-_ ]*", "*PORTE*", "*PUERTA*", "*DEUR*",
                  "*GATE*", "*-DR-*", "DR[-_ ]*", "[1-9][0-9][6-8][0-9]",
-                 "M[0-9][0-9][0-9][0-9]*", "FM*[0-9][0-9][0-9][0-9]*", "*门*", "*ドア*",
-                 "*扉*")
+                 "M[0-9][0-9][0-9][0-9]*", "FM*[0-9][0-9][0-9][0-9]*", "PORTA", "PORTA[-_ ]*",
+                 "*[-_ ]PORTA", "*PORTAS*", "*门*", "*ドア*", "*扉*")
 WINDOW_PATTERNS = ("*WINDOW*", "*-WIND", "*-WIND-*", "WIN", "WIN[-_ 0-9]*", "*WDW*", "*GLAZ*", "*CURTAIN*",
                    "*FENSTER*", "*FENETRE*", "*FENÊTRE*", "*VENTANA*", "*FINESTR*", "*RAAM*",
-                   "*RAMEN*", "C[0-9][0-9][0-9][0-9]*", "*窗*", "*窓*", "*幕墙*")
+                   "*RAMEN*", "*JANELA*", "C[0-9][0-9][0-9][0-9]*", "*窗*", "*窓*", "*幕墙*")
 
 #: Role -> the option / config key that sets it (``--walls``, ``[layers] walls = [...]``).
 ROLE_OPTION_NAMES: Mapping[str, str] = MappingProxyType({

@@ -109,6 +109,20 @@ def test_xref_prefixes_and_plain_language_layer_names():
     assert opening_kind("3068") == "door"      # common practice: 3'0" x 6'8" door block
 
 
+@pytest.mark.parametrize("name, role, kind", [
+    # from memory: the words Italian, Spanish, Portuguese and French offices name layers with
+    ("muratura", "wall", None), ("Tramezzi", "wall", None), ("Tamponamenti", "wall", None),
+    ("Alvenaria", "wall", None), ("Tabiques", "wall", None), ("MAMPOSTERIA", "wall", None),
+    ("Maçonnerie", "wall", None),
+    ("aperture", "opening", None), ("A-INFISSI", "opening", None), ("ABERTURAS", "opening", None),
+    ("Esquadrias", "opening", None), ("MENUISERIES", "opening", None),
+    ("PORTAS", "opening", "door"), ("PORTA", "opening", "door"), ("JANELAS", "opening", "window"),
+    ("PORTAL", None, None), ("PORTABLE", None, None)])
+def test_southern_european_layer_words(name, role, kind):
+    assert Roles().role_of(name) == role
+    assert opening_kind(name) == kind
+
+
 def test_lift_layers_are_impassable_like_stairs(tmp_path):
     roles = Roles()
     # source: US National CAD Standard layer list, A-FLOR-EVTR (elevator); common practice for
