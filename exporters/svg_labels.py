@@ -27,6 +27,9 @@ _CLASH = 1e6
 #: Bound on the relative rounding error of an estimated covered area, against the box's
 #: coordinates times its size: a double carries 2.2e-16; the rest is headroom for sums.
 _ROUNDING = 1e-12
+#: Label positions whose symbol pairs are judged together: a position of a large preview
+#: meets some 80 symbols' bounds, so this bounds the pair arrays to a few tens of MB.
+BOXES_AT_ONCE = 4096
 
 
 def text_bounds(x: float, y: float, text: str, size: float,
@@ -295,7 +298,11 @@ class LabelPlacer:
             return []
         bounds = np.array(rows, dtype=float).reshape(-1, 4)
         boxes = shapely.box(*bounds.T)
-        fixed = np.bincount(self._symbol_hits(boxes, bounds), minlength=len(boxes))
+        fixed = np.zeros(len(boxes), dtype=np.int64)
+        for first in range(0, len(boxes), BOXES_AT_ONCE):    # each box's pairs are its own
+            chunk = slice(first, first + BOXES_AT_ONCE)
+            fixed[chunk] = np.bincount(self._symbol_hits(boxes[chunk], bounds[chunk]),
+                                       minlength=len(boxes[chunk]))
         owner = np.repeat(np.arange(len(candidates)), np.diff(start))
         area = np.empty(len(candidates), dtype=object)
         area[:] = [label[6] for label in labels]
