@@ -31,6 +31,8 @@ PLAN_SPAN_M = (3.0, 2000.0)
 #: deep count: a whole row drawn as one rectangle says nothing about the unit.
 RACK_DEPTH_M = (0.6, 2.5)
 RACK_BAY_ASPECT = 5.0
+#: ... and at least this much longer than deep (a back-to-back bay, 2.7 m x 2.4 m, is 1.125).
+RACK_BAY_SQUARE = 1.05
 #: With no unit in the header, the content decides with a full weight of support (say, every
 #: door leaf plausible), or with CLEAR_SUPPORT and a lead of CLEAR_LEAD over every other unit:
 #: measured walls always include a few faces that are no wall's two sides.
@@ -219,14 +221,17 @@ def _nearest_parallel(a, b):
 def rack_depths(parts, *, limit=4000):
     """Depths (drawing units) of the rack bays among closed four-cornered parts: the shorter
     side of each rectangle (opposite sides within 1 %, diagonals too) at most RACK_BAY_ASPECT
-    times shorter than the longer, at most `limit` of them.
+    times shorter than the longer, at most `limit` of them. Squares (sides within
+    RACK_BAY_SQUARE of each other) are upright posts or columns, not bays: a 100 mm post
+    read as a bay 1 m deep would make a metric warehouse ten times too large.
 
     Examples
     --------
     >>> from clearway.converter.parts import CLOSED, Parts
     >>> bays = Parts.from_list([[(0, 0), (108, 0), (108, 42), (0, 42)],
     ...                         [(0, 0), (1200, 0), (1200, 42), (0, 42)],
-    ...                         [(0, 0), (5, 0), (3, 4)]], [CLOSED, CLOSED, CLOSED])
+    ...                         [(0, 0), (100, 0), (100, 100), (0, 100)],
+    ...                         [(0, 0), (5, 0), (3, 4)]], [CLOSED, CLOSED, CLOSED, CLOSED])
     >>> rack_depths(bays).tolist()
     [42.0]
     """
@@ -246,7 +251,7 @@ def rack_depths(parts, *, limit=4000):
             (sides.min(axis=1) > 0) & np.isfinite(sides).all(axis=1)
     short = np.minimum(sides[rectangle, 0], sides[rectangle, 1])
     long = np.maximum(sides[rectangle, 0], sides[rectangle, 1])
-    return short[long <= RACK_BAY_ASPECT * short]
+    return short[(long <= RACK_BAY_ASPECT * short) & (long > RACK_BAY_SQUARE * short)]
 
 
 def dimension_factors(dimensions):

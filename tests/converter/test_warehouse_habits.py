@@ -470,3 +470,24 @@ def test_overhead_dock_doors_close_their_openings(tmp_path, layer):
     # analytic: the hall inside its walls less the 3 mm seam by which each door's closure
     # overlaps the floor (interior.SEAM)
     assert plan.free_space.area == pytest.approx(29.6 * 19.6 - 3 * 2.74 * 0.003, rel=1e-6)
+
+
+def test_square_upright_posts_are_no_rack_bays_for_the_unit(tmp_path):
+    """A metric warehouse with no unit in its header, its rack rows drawn as 100 mm square
+    posts between beam lines and no door swings: read as bays, the posts would be 1 m deep
+    in centimetres and make the 60 m hall 600 m long. Squares are posts, not bays."""
+    doc = new_drawing(0)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 60000, 40000, thickness=200)
+    for r in range(8):
+        y = 4000 + r * 4000
+        for k in range(16):
+            for yy in (y, y + 1000):
+                msp.add_lwpolyline(rectangle(5000 + k * 2700, yy, 5100 + k * 2700, yy + 100),
+                                   close=True, dxfattribs={"layer": "RACKING"})
+        for yy in (y, y + 1100):
+            msp.add_line((5000, yy), (45600, yy), dxfattribs={"layer": "RACKING"})
+    plan = read_floorplan(save(doc, tmp_path))
+    assert plan.units == "mm"
+    # analytic: the hall inside its walls less 8 rows of (15 x 2.7 + 0.1) m x 1.1 m
+    assert plan.free_space.area == pytest.approx(59.6 * 39.6 - 8 * 40.6 * 1.1, rel=1e-6)
