@@ -38,7 +38,8 @@ field about many points at once, and only the few left undecided are measured:
    the moves still tight, against the floor (one off it refuses the path, as in stage 1),
    then at every move still tight the discs covering the footprint along its long axis
    (radius at most COVER_SLACK more than its half-width; at every other pose first, as
-   in stage 2, each disc's clearance at the pose between bounded by the same disc's):
+   in stage 2, each disc's clearance at the pose between bounded by the same disc's, and
+   at a pose the end discs first, the others only where they could be the smallest):
    the hull of two footprints lies within half the largest corner displacement of one
    of them (a point of the hull is lambda p + (1 - lambda) q with q within that
    displacement of the first footprint, p of the second), so the smaller disc clearance
@@ -370,8 +371,38 @@ def _every_other(at: np.ndarray, starts: np.ndarray) -> np.ndarray:
     return _run_positions(at, starts) % 2 == 0
 
 
+def _smallest_disc(field, discs: np.ndarray, centre: np.ndarray, centre_room: np.ndarray):
+    """Each disc's clearance or a lower bound of it (n, D), and the smallest, exact (n,),
+    of disc centres `discs` (n, D, 2) at n poses. The two end discs are measured first; a
+    disc between is at least as clear as the footprint's centre (`centre` (n, 2), whose
+    clearance is `centre_room` (n,), -inf where unknown) or an end disc less the distance
+    between them (1-Lipschitz), and is measured only where that leaves it below the end
+    discs' smaller clearance: the others cannot be the smallest."""
+    count, width = discs.shape[:2]
+    clear = np.full((count, width), -np.inf)
+    if count == 0 or width <= 2:
+        if count:
+            clear[:] = field.at(discs.reshape(-1, 2)).reshape(count, width)
+        return clear, clear.min(axis=1) if width else np.full(count, np.inf)
+    ends, inner = [0, width - 1], np.arange(1, width - 1)
+    clear[:, ends] = field.at(discs[:, ends].reshape(-1, 2)).reshape(count, 2)
+    low = centre_room[:, None] - np.hypot(*(discs[:, inner] - centre[:, None])
+                                          .transpose(2, 0, 1))
+    for end in ends:
+        low = np.maximum(low, clear[:, [end]] - np.hypot(
+            *(discs[:, inner] - discs[:, [end]]).transpose(2, 0, 1)))
+    clear[:, inner] = low - NEARBY_SLACK
+    smallest = clear[:, ends].min(axis=1)
+    rows, columns = np.nonzero(clear[:, inner] < smallest[:, None])
+    if len(rows):
+        clear[rows, inner[columns]] = field.at(discs[rows, inner[columns]])
+        np.minimum.at(smallest, rows, clear[rows, inner[columns]])
+    return clear, smallest
+
+
 def _disc_rooms(field, at: np.ndarray, starts: np.ndarray, discs: np.ndarray, radius: float,
-                a_end, b_end, shift: np.ndarray, margin: float) -> np.ndarray:
+                a_end, b_end, shift: np.ndarray, margin: float, centre: np.ndarray,
+                centre_room: np.ndarray) -> np.ndarray:
     """Stage 3's smallest clearance of the covering discs at poses `at` (E,), sorted, whose
     disc centres are `discs` (E, D, 2), less their `radius`: exact at every pose it could
     matter at, a lower bound elsewhere (only where it keeps `margin` + NEARBY_SLACK, and
@@ -384,14 +415,18 @@ def _disc_rooms(field, at: np.ndarray, starts: np.ndarray, discs: np.ndarray, ra
     below the margin, or the pose itself below margin + NEARBY_SLACK (where stage 3
     measures the corners), are measured too. So every value the stage uses below the
     margin is the exact one, and every other keeps it, as when every pose is measured.
+    At a measured pose only the discs that could be the smallest are measured
+    (`_smallest_disc`, with the footprint's `centre` (E, 2) and its clearance
+    `centre_room` (E,)).
     """
-    count, width = len(at), discs.shape[1]
-    clear = np.full((count, width), -np.inf)
+    count = len(at)
+    clear = np.full(discs.shape[:2], -np.inf)
     position = _run_positions(at, starts)
     first = np.flatnonzero(position % 2 == 0)
-    clear[first] = field.at(discs[first].reshape(-1, 2)).reshape(len(first), width)
     room = np.full(count, -np.inf)
-    room[first] = clear[first].min(axis=1) - radius
+    clear[first], smallest = _smallest_disc(field, discs[first], centre[first],
+                                            centre_room[first])
+    room[first] = smallest - radius
     skipped = np.flatnonzero(position % 2 == 1)   # the pose before is measured
     if len(skipped):
         after = np.minimum(skipped + 1, count - 1)
@@ -406,8 +441,8 @@ def _disc_rooms(field, at: np.ndarray, starts: np.ndarray, discs: np.ndarray, ra
         unsure[room < margin + NEARBY_SLACK] = True
         again = skipped[unsure[skipped]]
         if len(again):
-            room[again] = field.at(discs[again].reshape(-1, 2)).reshape(
-                len(again), width).min(axis=1) - radius
+            room[again] = _smallest_disc(field, discs[again], centre[again],
+                                         centre_room[again])[1] - radius
     return room
 
 
@@ -724,7 +759,7 @@ def _measure(robot: Robot, field, paths, owner, best, floor=None, made=None) -> 
     shift = np.hypot(*(near[b_end, len(centres):] - near[a_end, len(centres):])
                      .transpose(2, 0, 1)).max(axis=1)
     disc_room = _disc_rooms(field, ends, first, near[:, :len(centres)], radius, a_end,
-                            b_end, shift, margin)
+                            b_end, shift, margin, points[1][ends], centre_room[ends])
     # the end discs reach the corners, so a corner's clearance less `extra` is at least
     # disc_room: where that keeps the margin the corner cannot bring a path's upper bound
     # below it (only such bounds are used), and it is not measured

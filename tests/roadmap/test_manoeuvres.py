@@ -11,10 +11,11 @@ import shapely
 from clearway.roadmap import Robot
 from clearway.roadmap.body import MAX_STEP_ANGLE, core, move_gaps, place
 from clearway.roadmap.clearance import clearance_field
-from clearway.roadmap.inflate import boundary_segments
 from clearway.roadmap.dubins import poses_of
+from clearway.roadmap.inflate import boundary_segments
 from clearway.roadmap.manoeuvres import (CAR_REACH, GROUP, _disc_rooms, _off_floor,
-                                         _off_floor_measured, car_gaps, cover, paths_tried)
+                                         _off_floor_measured, _smallest_disc, car_gaps,
+                                         cover, paths_tried)
 
 
 def exact_best(robot, field, here, arrive, leave):
@@ -164,8 +165,9 @@ def test_discs_cover_the_footprint():
 @pytest.mark.parametrize("seed", range(3))
 def test_disc_rooms_exact_wherever_they_could_matter(seed):
     # analytic: the distance to a set is 1-Lipschitz, so a disc's clearance at a pose is at
-    # least the same disc's at a neighbouring pose less the distance it moved; stage 3 may
-    # keep such a bound only where it clears the margin, and must measure every other pose
+    # least the same disc's at a neighbouring pose less the distance it moved (or another
+    # disc's, or the footprint centre's, less the distance between them); stage 3 may keep
+    # such a bound only where it clears the margin, and the smallest disc exactly elsewhere
     rng = np.random.default_rng(40 + seed)
     floor = cluttered_floor(rng)
     field = clearance_field(boundary_segments(floor)[0])
@@ -186,8 +188,11 @@ def test_disc_rooms_exact_wherever_they_could_matter(seed):
     exact = field.at(discs.reshape(-1, 2)).reshape(len(at), -1).min(axis=1) - radius
     pair = np.flatnonzero(np.diff(at) == 1)
     shift = np.full(len(pair), 0.05)
+    # the footprint's centre, its clearance known (or, the last time, not)
+    centre = place(-np.asarray(robot.centre, float)[None], poses[at, :2], poses[at, 2])[:, 0]
+    centre_room = field.at(centre) if seed < 2 else np.full(len(at), -np.inf)
     found = _disc_rooms(field, at, np.array(starts), discs, radius, pair, pair + 1, shift,
-                        robot.margin)
+                        robot.margin, centre, centre_room)
     low = exact < robot.margin + 1e-9
     assert np.array_equal(found[low], exact[low])
     assert (found[~low] <= exact[~low]).all() and (found[~low] >= robot.margin).all()
@@ -196,3 +201,7 @@ def test_disc_rooms_exact_wherever_they_could_matter(seed):
     assert np.array_equal(found[pair[short] + 1], exact[pair[short] + 1])
     assert low.any() and (~low).any()                     # both kinds of pose tried
     assert (found != exact).any()                         # and some left to the bound
+    # at a measured pose the smallest disc is the exact one, whichever discs were skipped
+    clear, smallest = _smallest_disc(field, discs, centre, centre_room)
+    assert np.array_equal(smallest - radius, exact)
+    assert (clear <= field.at(discs.reshape(-1, 2)).reshape(clear.shape)).all()
