@@ -575,6 +575,10 @@ def _rack_footprints(content, layers, factor):
     if not found:
         return np.empty(0, dtype=object)
     rings = Parts.concat(found).scaled(factor, grid=SNAP_M).geometries()[1]
+    # a block smaller than the 0.1 mm snap grid collapses: it holds no pallet
+    rings = rings[shapely.area(shapely.polygons(rings)) > 0]
+    if not len(rings):
+        return np.empty(0, dtype=object)
     boxes = shapely.minimum_rotated_rectangle(shapely.polygons(rings))
     corners = shapely.get_coordinates(shapely.get_exterior_ring(boxes)).reshape(len(boxes), 5, 2)
     sides = np.hypot(*np.diff(corners[:, :3], axis=1).transpose(2, 0, 1))

@@ -491,3 +491,17 @@ def test_square_upright_posts_are_no_rack_bays_for_the_unit(tmp_path):
     assert plan.units == "mm"
     # analytic: the hall inside its walls less 8 rows of (15 x 2.7 + 0.1) m x 1.1 m
     assert plan.free_space.area == pytest.approx(59.6 * 39.6 - 8 * 40.6 * 1.1, rel=1e-6)
+
+
+def test_a_racking_block_smaller_than_the_snap_grid_is_no_crash(tmp_path):
+    # a block of three lines 20 um across on a racking layer: its footprint collapses onto the
+    # 0.1 mm grid and holds nothing; the hall stays whole (analytic: 19.6 m x 9.6 m)
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 20, 10)
+    speck = doc.blocks.new("SPECK")
+    for start, end in (((0, 0), (2e-5, 0)), ((0, 1e-5), (2e-5, 1e-5)), ((0, 0), (1e-5, 2e-5))):
+        speck.add_line(start, end)
+    msp.add_blockref("SPECK", (5, 5), dxfattribs={"layer": "A-RACK"})
+    plan = read_floorplan(save(doc, tmp_path))
+    assert plan.free_space.area == pytest.approx(19.6 * 9.6, rel=1e-6)
