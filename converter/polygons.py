@@ -670,16 +670,34 @@ def _bands(origin, along, across, t0, t1):
     return shapely.polygons(np.stack([start, end, end + across, start + across], axis=1))
 
 
+#: Endpoint gaps up to this wide (metres) are closed in racking, keep-out and shared-zone
+#: linework, whatever the drawing's gap tolerance: an outline drawn without snapping (a
+#: rack row's corners a few centimetres short) would otherwise enclose nothing, and the
+#: inside of the rack would read as floor with a lane through it. No robot passes a gap
+#: this narrow, so closing one never takes away a way through.
+FILL_GAP = 0.1
+
+
 def filled_regions(lines, rings, fills, *, gap_tolerance, nominal_thickness, posts=False):
     """Return the area racking, keep-out or shared-zone linework covers, metres.
 
     Closed shapes are filled; open lines that together enclose faces, alone or with the
     outlines of closed shapes they reach, fill those faces (a rack row drawn as two beam
     lines between upright frames drawn as rectangles: each bay is closed by two beams and
-    two frames); with `posts` (racking), two parallel lines with small closed shapes
-    standing between them fill the strip between them (:func:`beam_pairs`); open lines
-    that enclose nothing and lie outside every filled area become bands
-    `nominal_thickness` wide.
+    two frames), endpoint gaps up to `gap_tolerance` or FILL_GAP closed; with `posts`
+    (racking), two parallel lines with small closed shapes standing between them fill the
+    strip between them (:func:`beam_pairs`); open lines that enclose nothing and lie
+    outside every filled area become bands `nominal_thickness` wide.
+
+    Examples
+    --------
+    >>> corner = 0.03          # a 2 m x 1 m outline whose corners stop 3 cm short
+    >>> sides = [((corner, 0), (2 - corner, 0)), ((2, corner), (2, 1 - corner)),
+    ...          ((2 - corner, 1), (corner, 1)), ((0, 1 - corner), (0, corner))]
+    >>> area = filled_regions(shapely.linestrings(sides), [], [], gap_tolerance=0.01,
+    ...                       nominal_thickness=0.1)
+    >>> round(area.area, 9)     # analytic: 2 m^2 less four corner triangles of 0.03^2 / 2
+    1.9982
     """
     rings = np.asarray(rings, dtype=object)
     polygons = shapely.make_valid(shapely.polygons(rings)) if len(rings) else rings
@@ -695,7 +713,7 @@ def filled_regions(lines, rings, fills, *, gap_tolerance, nominal_thickness, pos
                                                      distance=max(gap_tolerance, 1e-9))
         outlines = shapely.get_parts(shapely.boundary(polygons[np.unique(reached)]))
         lines = np.concatenate([lines, outlines])
-    edges = node_lines(lines, gap_tolerance=gap_tolerance)
+    edges = node_lines(lines, gap_tolerance=max(gap_tolerance, FILL_GAP))
     faces = shapely.get_parts(shapely.polygonize(edges))
     filled = union_polygons(np.concatenate([faces, [area]]))
     # each face and shape lies inside `filled`: most edges are settled by one of them

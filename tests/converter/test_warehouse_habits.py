@@ -505,3 +505,28 @@ def test_a_racking_block_smaller_than_the_snap_grid_is_no_crash(tmp_path):
     msp.add_blockref("SPECK", (5, 5), dxfattribs={"layer": "A-RACK"})
     plan = read_floorplan(save(doc, tmp_path))
     assert plan.free_space.area == pytest.approx(19.6 * 9.6, rel=1e-6)
+
+
+@pytest.mark.parametrize("layer", ["RACKING", "KEEPOUT"])
+@pytest.mark.parametrize("short", [0.02, 0.05, 0.07])  # gaps 0.03-0.099 m across
+def test_outlines_drawn_without_snapping_are_closed(tmp_path, layer, short):
+    """Rack rows and a keep-out zone drawn as four lines each whose corners stop a few
+    centimetres short of each other (drawn without snapping to the corners): the outline is
+    closed across each corner and its inside is left out of the floor, not a 1.1 m corridor
+    inside each rack with a lane through it. common practice"""
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 30, 20)  # 0.2 m walls
+    rows = [(3.0, 27.0, y, y + 1.1) for y in (4.0, 8.0, 12.0)]
+    for x0, x1, y0, y1 in rows:
+        for a, b in (((x0 + short, y0), (x1 - short, y0)), ((x1, y0 + short), (x1, y1 - short)),
+                     ((x1 - short, y1), (x0 + short, y1)), ((x0, y1 - short), (x0, y0 + short))):
+            msp.add_line(a, b, dxfattribs={"layer": layer})
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: the hall inside its walls (29.6 m x 19.6 m) less three 24 m x 1.1 m rows,
+    # each closed across its corners: four corner triangles of legs `short` stay floor
+    row = 24.0 * 1.1 - 4 * short ** 2 / 2
+    assert plan.free_space.area == pytest.approx(29.6 * 19.6 - 3 * row, rel=1e-9)
+    for _, _, y0, y1 in rows:
+        assert not plan.free_space.intersects(shapely.Point(15.0, (y0 + y1) / 2))
+    assert len(shapely.get_parts(plan.free_space)) == 1
