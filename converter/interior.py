@@ -128,7 +128,8 @@ def _enclose(solid, enclosed, gaps, kinds, find_envelope):
     walls = union_polygons(np.concatenate([shapely.get_parts(solid), shut])) if len(shut) else solid
     bridged = union_polygons(np.concatenate([shapely.get_parts(solid), quads])) if len(quads) \
         else solid
-    base = fill_holes(shapely.union_all([enclosed, bridged]))
+    # `enclosed` holds the solid walls already: the quads are all `bridged` adds to it
+    base = fill_holes(shapely.union_all(np.concatenate([[enclosed], quads])))
     leaks, container = find_leaks(bridged, base) if find_envelope else ([], base)
     envelope = fill_holes(container)
     outside = _lead_outside([gaps[k] for k in kept], envelope) if find_envelope and kept \
