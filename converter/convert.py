@@ -292,7 +292,7 @@ def _read_plan(path, *, roles, units, chord_tolerance, gap_tolerance, max_wall_t
         if role == "racking":
             rings = np.concatenate([rings, _rack_footprints(content, by_role[role], factor)])
         regions[role] = filled_regions(lines, rings, fills, nominal_thickness=nominal_wall_thickness,
-                                       posts=role == "racking", **common)
+                                       posts=role == "racking", walls=interior.walls, **common)
     if by_role["stair"]:  # stairs are impassable: they join the keep-out areas
         stairs = filled_regions(*geometry("stair"), nominal_thickness=nominal_wall_thickness,
                                 **common)

@@ -530,3 +530,45 @@ def test_outlines_drawn_without_snapping_are_closed(tmp_path, layer, short):
     for _, _, y0, y1 in rows:
         assert not plan.free_space.intersects(shapely.Point(15.0, (y0 + y1) / 2))
     assert len(shapely.get_parts(plan.free_space)) == 1
+
+
+def _rows_of_lines(msp, faces, x0=3.0, x1=27.0, layer="RACKING"):
+    """Rack rows drawn as their long faces only: one line per face, nothing across."""
+    for y in faces:
+        msp.add_line((x0, y), (x1, y), dxfattribs={"layer": layer})
+
+
+def test_rack_rows_drawn_as_face_lines_only_are_racking(tmp_path):
+    """A block of rows drawn as their long faces only, no posts and nothing across the rows
+    or at their ends: a single row with its back 0.1 m off the south wall, a double row
+    drawn as one (2.4 m) between a 3 m aisle and a 1.8 m narrow aisle, a back-to-back pair
+    with its 0.2 m flue drawn, a 3 m aisle and a single row facing open floor. The narrow
+    aisle is narrower than the double row beside it, so no width threshold tells them
+    apart; the row beside the open floor and the wide aisles do. common practice"""
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 30, 20)  # 0.2 m walls: the floor inside is 0.2 .. 19.8
+    _rows_of_lines(msp, [0.3, 1.4, 4.4, 6.8, 8.6, 9.7, 9.9, 11.0, 14.0, 15.1])
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: the hall inside its walls less five rows 24 m long, 1.1 + 2.4 + 1.1 + 1.1
+    # + 1.1 m deep; the flue, the aisles and the floor round the block stay free
+    assert plan.free_space.area == pytest.approx(29.6 * 19.6 - 24.0 * 6.8, rel=1e-9)
+    for y in (0.85, 5.6, 9.15, 10.45, 14.55):                    # inside each row
+        assert not plan.free_space.intersects(shapely.Point(15.0, y))
+    for y in (2.9, 7.7, 9.8, 12.5, 17.0):                        # aisles, flue, open floor
+        assert plan.free_space.contains(shapely.Point(15.0, y))
+    assert len(shapely.get_parts(plan.free_space)) == 1
+
+
+def test_shelves_against_both_walls_drawn_as_one_line_leave_the_aisles_open(tmp_path):
+    """Shelving 0.5 m deep along both long walls drawn as its front line only (the wall is
+    its back) and a free-standing row between them drawn as two faces: nothing says which
+    gaps are shelving (an open side would, a wall behind a line does not), so no gap is
+    filled and the 2 m and 2.2 m aisles stay floor. common practice"""
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 30, 6.6)  # the floor inside is 0.2 .. 6.4
+    _rows_of_lines(msp, [0.7, 2.7, 3.7, 5.9], x0=1.0, x1=29.0)
+    plan = read_floorplan(save(doc, tmp_path))
+    for y in (1.7, 4.8):                                          # the aisles
+        assert plan.free_space.contains(shapely.Point(15.0, y))
