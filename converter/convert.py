@@ -330,6 +330,8 @@ def _read_plan(path, *, roles, units, chord_tolerance, gap_tolerance, max_wall_t
                  what="length of the free space's boundary in metres (the roadmap samples it "
                       "every 0.25 to 1 m)")
     stations = find_stations(content, by_role["station"], factor, label_radius, source)
+    # normalized like the free space: how the regions were united does not show in them
+    regions = {role: shapely.normalize(region) for role, region in regions.items()}
     # the extents of the union are the combined bounds; no need to build the union itself
     everything = shapely.total_bounds([region for region in regions.values()] + [free])
     return FloorPlan(source=source, sha256=content.sha256, units=unit, m_per_unit=factor,

@@ -100,12 +100,14 @@ def building_interior(wall_lines, wall_rings, wall_fills, wall_arcs, *, door_lin
     openings, closures = [], []
     kept = [(gaps[k], kinds[k]) for k in kept]
     for (gap, kind), quad, exterior in zip(kept, quads, outside.tolist()):
+        # the jamb listed first is the lower in (x, y): which one a gap is found from
+        # depends on where GEOS starts the walls' rings
+        start, end = sorted([(round(float(gap.start[0]), 4), round(float(gap.start[1]), 4)),
+                             (round(float(gap.end[0]), 4), round(float(gap.end[1]), 4))])
         openings.append(Opening(
             x=round(float(gap.middle[0]), 4), y=round(float(gap.middle[1]), 4),
             width=round(gap.width, 4), kind=kind, exterior=bool(exterior),
-            start=(round(float(gap.start[0]), 4), round(float(gap.start[1]), 4)),
-            end=(round(float(gap.end[0]), 4), round(float(gap.end[1]), 4)),
-            depth=round(gap.depth, 4)))
+            start=start, end=end, depth=round(gap.depth, 4)))
         if exterior and kind in ("door", "open"):
             closures.append(quad)
     closures = as_multipolygon(shapely.union_all(closures)) if closures else shapely.MultiPolygon()

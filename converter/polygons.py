@@ -541,7 +541,8 @@ def wall_regions(lines, rings, fills, *, gap_tolerance, max_wall_thickness, nomi
             loose = shapely.get_parts(shapely.difference(loose, swing))
             loose = loose[~shapely.is_empty(loose)]
         banded = bands(loose, nominal_wall_thickness)
-        solid = as_multipolygon(shapely.union_all([solid, banded]))
+        if len(loose):  # else the solid stays as united above, its columns not again
+            solid = as_multipolygon(shapely.union_all([solid, banded]))
     # the faces tile the plane (polygonize): one coverage union, then the fills and the bands
     # as a handful of geometries; the solid faces are among the faces, so the solid (with
     # every round column again) is not united a second time

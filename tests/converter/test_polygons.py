@@ -483,3 +483,14 @@ def test_free_space_is_the_same_bytes_whatever_the_order_of_the_obstacles():
     # of each ring (which the boundary sampling starts from) do not depend on the union's order
     assert shapely.to_wkb(once) == shapely.to_wkb(again)
     assert once.area == pytest.approx(30 * 20 - 6 * 2 * 14 - 6 * 0.5 * 0.5, abs=1e-9)
+
+
+def test_floor_plan_areas_and_openings_do_not_show_how_they_were_united(samples):
+    plan = read_floorplan(samples / "office_ground_floor.dxf")
+    # analytic: a normalized geometry is its own normal form, to the byte (GEOS normalize)
+    for role, region in plan.regions.items():
+        assert shapely.to_wkb(shapely.normalize(region)) == shapely.to_wkb(region), role
+    assert shapely.to_wkb(shapely.normalize(plan.free_space)) == shapely.to_wkb(plan.free_space)
+    # a gap found from either jamb is one opening: the lower jamb in (x, y) comes first
+    assert len(plan.openings) == 17              # sample_drawings/README.md: 17 openings
+    assert all(opening.start <= opening.end for opening in plan.openings)
