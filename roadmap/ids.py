@@ -27,6 +27,7 @@ from scipy.spatial import cKDTree
 from shapely.geometry.base import BaseGeometry
 
 from clearway.roadmap.choices import SAME_PLACE_TOLERANCE
+from clearway.roadmap.lanes import node_order
 from clearway.roadmap.model import Roadmap
 from clearway.roadmap.turns import pair_text, parse_turns
 from clearway.sorting import natural_key
@@ -145,8 +146,9 @@ def stable_id_mapping(new_graph: nx.MultiGraph, previous_graph: nx.MultiGraph, *
     pairs = match_nodes(previous_graph, new_graph, tolerance=tolerance)
     fresh = fresh_ids(previous_graph.nodes, "n")
     nodes = {}
-    order = sorted(new_graph.nodes, key=lambda n: (new_graph.nodes[n]["x"],
-                                                   new_graph.nodes[n]["y"], str(n)))
+    new_nodes = list(new_graph.nodes)
+    order = [new_nodes[i] for i in node_order(_xy(new_graph, new_nodes).reshape(-1, 2),
+                                              np.array([str(n) for n in new_nodes]))]
     for node in order:
         nodes[node] = pairs[node] if node in pairs else next(fresh)
     return nodes, _match_edges(previous_graph, new_graph, nodes)

@@ -1,7 +1,7 @@
 """Assemble the networkx lane graph: split lanes at stations, number nodes and edges.
 
-Node ids are ``n<k>`` in sorted (x, y) order and edge ids ``e<k>`` sorted by their end ids,
-so the same input always gives the same ids. Clearances are exact distances (shapely/GEOS)
+Node ids are ``n<k>`` in sorted (x, y) order (to the micrometre first: `node_order`) and edge
+ids ``e<k>`` sorted by their end ids, so the same input always gives the same ids. Clearances are exact distances (shapely/GEOS)
 on the final geometry: at each node, and along each edge every COARSE_STEP metres plus
 vertices, then every EDGE_STEP metres wherever the curvature bound of the distance leaves
 room for a lower value (see ClearanceField.along_adaptive).
@@ -19,6 +19,10 @@ from clearway.roadmap.clearance import ClearanceField
 from clearway.roadmap.inflate import polylines
 from clearway.roadmap.stations import ON_LANE, Attachment
 
+#: Node ids follow (x, y) on this grid first, metres (1 um, far below the 10 um to which axis
+#: vertices are merged): nodes on one line across the floor, whose x differ in the last bits
+#: of their computation only, are numbered by y, whatever those bits are.
+ID_GRID = 1e-6
 #: Sampling interval for each edge's clearance_min, metres.
 EDGE_STEP = 0.03
 #: First sampling interval along each edge, metres.
@@ -130,12 +134,12 @@ def assemble_graph(lines, ends, vertices, isolated, station_xy, labels, joins,
         pieces.append((station, target, np.vstack([points[station], points[target]]), True))
     keys = list(points)
     xy = np.array([points[key] for key in keys]).reshape(-1, 2)
-    order = np.lexsort((xy[:, 1], xy[:, 0]))
+    shift = np.asarray(offset, dtype=float)
+    order = node_order(xy + shift)
     node_id = {keys[i]: f"n{rank}" for rank, i in enumerate(order)}
     number = {keys[i]: rank for rank, i in enumerate(order)}
     pieces.sort(key=lambda p: (min(number[p[0]], number[p[1]]), max(number[p[0]], number[p[1]]),
                                len(p[2]), tuple(p[2].ravel()[:4])))
-    shift = np.asarray(offset, dtype=float)
     geometry = [shapely.LineString(piece + shift) for _, _, piece, _ in pieces]
     local_lines = polylines([piece for _, _, piece, _ in pieces])
     sample_xy, owner, values = field.along_adaptive(
@@ -167,6 +171,24 @@ def assemble_graph(lines, ends, vertices, isolated, station_xy, labels, joins,
     stations = {key[1]: node_id[key] for key in keys if key[0] == "s"}
     station_links = frozenset(edge_ids[i] for i, piece in enumerate(pieces) if piece[3])
     return graph, EdgeSamples(sample_xy, owner, values, edge_ids, station_links), stations
+
+
+def node_order(xy, *tie_breaks):
+    """Return the order in which nodes at `xy` ((N, 2) array, metres) are numbered, shape (N,).
+
+    Sorted by x, then y, both rounded to ID_GRID, then by the exact x and y and then by
+    `tie_breaks` (arrays of N sortable values, the first deciding first): two nodes whose
+    x agree to the micrometre are numbered by y, so a change in the last bits of x does
+    not swap their ids.
+
+    Examples
+    --------
+    >>> node_order(np.array([[2.0 + 1e-12, 0.0], [2.0, 1.0], [1.0, 5.0]])).tolist()
+    [2, 0, 1]
+    """
+    xy = np.asarray(xy, dtype=float).reshape(-1, 2)
+    grid = np.round(xy / ID_GRID)
+    return np.lexsort((*reversed(tie_breaks), xy[:, 1], xy[:, 0], grid[:, 1], grid[:, 0]))
 
 
 def refine_lanes(lines: list[np.ndarray], field: ClearanceField, *, below: float,

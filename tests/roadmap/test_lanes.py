@@ -45,3 +45,17 @@ def test_node_ids_follow_sorted_coordinates_and_edge_ids_their_ends():
     ends = [tuple(sorted((int(u[1:]), int(v[1:])))) for u, v, _ in
             sorted(graph.edges(keys=True), key=lambda edge: int(edge[2][1:]))]
     assert ends == sorted(ends)
+
+
+@pytest.mark.parametrize("seed", [0, 1])
+def test_node_numbering_does_not_hang_on_the_last_bits_of_x(seed):
+    from clearway.roadmap.lanes import node_order
+
+    rng = np.random.default_rng(seed)
+    lattice = rng.permutation(np.unique(rng.integers(0, 6, size=(200, 2)) * 0.5, axis=0))
+    expected = sorted(range(len(lattice)), key=lambda k: tuple(lattice[k]))
+    for _ in range(3):
+        noisy = lattice + rng.uniform(-1e-12, 1e-12, size=lattice.shape)
+        # analytic: within 1e-12 m of 0.5 m lattice points, (x, y) to the micrometre is the
+        # lattice order, whatever the noise
+        assert node_order(noisy).tolist() == expected
