@@ -248,6 +248,28 @@ def test_no_lane_anywhere_is_exit_2_with_a_diagnosis(tmp_path):
     assert not (tmp_path / "out").exists() or not any((tmp_path / "out").iterdir())
 
 
+def test_no_lane_for_a_rectangular_body_says_the_lanes_were_dropped_for_it(tmp_path):
+    """An L-shaped corridor 1.05 m wide (1.1 m outline less its 0.025 m band): wide enough
+    for a 0.8 m wide robot with a 0.1 m margin (analytic: 2 x (0.4 + 0.1) = 1.0 m), and a
+    disc robot of that radius gets its lanes; a 1.4 m long body heading along them does not
+    fit their ends. The diagnosis says so instead of only that the floor is wide enough."""
+    doc = new_drawing(6)
+    doc.modelspace().add_lwpolyline([(0, 0), (6, 0), (6, 1.1), (1.1, 1.1), (1.1, 6), (0, 6)],
+                                     close=True, dxfattribs={"layer": "A-FLOR-OTLN"})
+    path = save(doc, tmp_path)
+    disc = CliRunner().invoke(main, ["build", str(path), "-o", str(tmp_path / "disc"),
+                                     "--quiet", "--robot-radius", "0.4"])
+    assert disc.exit_code == 0, disc.output
+    result = CliRunner().invoke(main, ["build", str(path), "-o", str(tmp_path / "out"),
+                                       "--quiet", "--robot-size", "1.4x0.8"])
+    assert result.exit_code == 2
+    line = result.stderr.strip()
+    assert "\n" not in line and "no lane" in line
+    assert "2 lane(s) wide enough for the robot's width were dropped" in line
+    assert "1.40 m x 0.80 m body does not fit along them" in line
+    assert "needs 1.00 m (half its width + margin on both sides)" in line
+
+
 def test_no_wall_layer_named_takes_the_layer_that_looks_like_walls(tmp_path):
     doc = new_drawing(6)
     msp = doc.modelspace()
