@@ -287,12 +287,16 @@ def _read_plan(path, *, roles, units, chord_tolerance, gap_tolerance, max_wall_t
                                  find_envelope=not by_role["boundary"],
                                  loose_lines=np.concatenate(unmapped.geometries()[:2]), **common)
     regions = {"wall": interior.walls}
+    loose_racking = []
     for role in ("racking", "keepout", "shared"):
         lines, rings, fills = geometry(role)
         if role == "racking":
             rings = np.concatenate([rings, _rack_footprints(content, by_role[role], factor)])
         regions[role] = filled_regions(lines, rings, fills, nominal_thickness=nominal_wall_thickness,
-                                       posts=role == "racking", walls=interior.walls, **common)
+                                       posts=role == "racking", walls=interior.walls,
+                                       loose_out=loose_racking if role == "racking" else None,
+                                       **common)
+    warnings.extend(_loose_racking_warning(source, loose_racking))
     if by_role["stair"]:  # stairs are impassable: they join the keep-out areas
         stairs = filled_regions(*geometry("stair"), nominal_thickness=nominal_wall_thickness,
                                 **common)
@@ -383,6 +387,26 @@ NOT_SHELL = NOT_WALLS + ("*BORDER*", "*FRAME*", "*RAHMEN*", "*SHEET*", "*CARTOUC
                          "*PLANKOPF*", "*TTLB*", "*MARGIN*")
 #: The share of the wall layers' line length a layer's outline must hold to be their shell.
 SHELL_HOLDS = 0.9
+
+
+#: Racking lines that enclose nothing, this long in all (metres), are worth a warning:
+#: a rack row whose outline does not close reads as floor.
+LOOSE_RACKING_LENGTH = 2.0
+
+
+def _loose_racking_warning(source, lines):
+    """A warning for racking lines that close no shape (kept as thin lines), when they run
+    LOOSE_RACKING_LENGTH metres or more in all: ``[]`` or one line."""
+    lines = np.asarray(lines, dtype=object)
+    length = shapely.length(lines) if len(lines) else np.zeros(0)
+    if length.sum() < LOOSE_RACKING_LENGTH:
+        return []
+    x, y = shapely.get_coordinates(shapely.line_interpolate_point(
+        lines[np.argmax(length)], 0.5, normalized=True))[0]
+    return [f"{source}: {len(lines)} racking line(s), {length.sum():.1f} m in all, close no "
+            f"shape and are kept as thin lines (the longest, {length.max():.1f} m, about "
+            f"({x:.2f}, {y:.2f}) m): if they are rack faces, the rack between them reads as "
+            f"floor; close the rows or draw them as closed shapes"]
 
 
 def enclosing_layer(mapping, whole, *, gap_tolerance, reach):

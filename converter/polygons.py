@@ -838,7 +838,7 @@ FILL_GAP = 0.1
 
 
 def filled_regions(lines, rings, fills, *, gap_tolerance, nominal_thickness, posts=False,
-                   walls=None):
+                   walls=None, loose_out=None):
     """Return the area racking, keep-out or shared-zone linework covers, metres.
 
     Closed shapes are filled; open lines that together enclose faces, alone or with the
@@ -849,7 +849,8 @@ def filled_regions(lines, rings, fills, *, gap_tolerance, nominal_thickness, pos
     strip between them (:func:`beam_pairs`), and parallel lines that bound rack rows with
     nothing across them fill the rows (:func:`beam_rows`, beside `walls`); open lines that
     enclose nothing and lie outside every filled area become bands `nominal_thickness`
-    wide.
+    wide (those that bound no filled area are appended to `loose_out`, a list, where
+    given).
 
     Examples
     --------
@@ -890,6 +891,11 @@ def filled_regions(lines, rings, fills, *, gap_tolerance, nominal_thickness, pos
         if len(strips):
             filled = union_polygons(np.concatenate([strips, [filled]]))
             loose = loose[~covered(loose, filled, pieces=strips)]
+    if loose_out is not None and len(loose):
+        # lines along a filled area's edge (within 1 mm) that rounding keeps from being
+        # covered (a rotated row's faces) bound something: only the others are loose
+        probe = shapely.line_interpolate_point(loose[:, None], [0.0, 0.5, 1.0], normalized=True)
+        loose_out.extend(loose[~(shapely.distance(filled, probe) <= 1e-3).all(axis=1)])
     return as_multipolygon(shapely.union_all([filled, bands(loose, nominal_thickness)]))
 
 

@@ -572,3 +572,22 @@ def test_shelves_against_both_walls_drawn_as_one_line_leave_the_aisles_open(tmp_
     plan = read_floorplan(save(doc, tmp_path))
     for y in (1.7, 4.8):                                          # the aisles
         assert plan.free_space.contains(shapely.Point(15.0, y))
+
+
+def test_racking_lines_that_close_nothing_are_named_in_a_warning(tmp_path):
+    """Three face lines of two rows, the second row's back face missing: the lines
+    contradict each other (the row at 8.1 m faces open floor, so the 3 m gap below it would
+    be its rack, wider than any rack), nothing is filled, and a warning says that 72 m of
+    racking lines close no shape, so the user can check the rows the preview shows as
+    floor. Rows whose faces all close get no such warning."""
+    doc = new_drawing(6)
+    walled_room(doc.modelspace(), 0, 0, 30, 20)
+    _rows_of_lines(doc.modelspace(), [4.0, 5.1, 8.1])
+    plan = read_floorplan(save(doc, tmp_path, "open.dxf"))
+    loose = [w for w in plan.warnings if "racking line(s)" in w]
+    assert len(loose) == 1 and "3 racking line(s), 72.0 m in all, close no shape" in loose[0]
+    doc = new_drawing(6)
+    walled_room(doc.modelspace(), 0, 0, 30, 20)
+    _rows_of_lines(doc.modelspace(), [4.0, 5.1, 8.1, 9.2])
+    plan = read_floorplan(save(doc, tmp_path, "closed.dxf"))
+    assert not [w for w in plan.warnings if "racking line(s)" in w]
