@@ -645,9 +645,9 @@ def beam_pairs(lines, posts, *, min_depth=0.05):
     return _bands(origin[row], along[row], across[row], t0[row], t1[row])
 
 
-#: Racking lines with nothing across them and no posts: the longest gap between two
-#: parallel lines that may be a rack row (a back-to-back pair drawn as one, common
-#: practice), and the widest gap beside a line that is a flue between two rows (metres).
+#: Racking lines with nothing across them and no posts: the widest gap (metres) between
+#: two parallel lines that is a flue between back-to-back rows (0.1 to 0.3 m, common
+#: practice), not a rack or an aisle.
 FLUE_WIDTH = 0.35
 #: How far across (metres) a line's neighbours are looked for; a side with none that near
 #: faces open floor (or a wall, drawn on another layer).
@@ -671,10 +671,9 @@ def beam_rows(lines, walls=None):
     labelled rack or aisle from what is certain, and each line's rule carries the labels
     across a block of rows: a side with no line within ROW_LOOK, and no wall within
     WALL_BEHIND, is open, so the gap on the line's other side is a rack; a gap wider than
-    BEAM_PAIR_DEPTH is an aisle. Narrow
-    aisles between double rows (1.8 m between rows 2.4 m deep) are told from the rows so,
-    which no threshold on widths could do. A block whose labels contradict each other, or
-    that nothing anchors, is left as it is drawn.
+    BEAM_PAIR_DEPTH is an aisle. Narrow aisles between double rows (1.8 m between rows
+    2.4 m deep) are told from the rows so, which no threshold on widths could do. A block
+    whose labels contradict each other, or that nothing anchors, is left as it is drawn.
 
     Parameters
     ----------
@@ -730,6 +729,7 @@ def beam_rows(lines, walls=None):
                             normal * sign * WALL_BEHIND, np.full(len(lines), WALL_BEHIND),
                             length - WALL_BEHIND)
             walled[:, where] = shapely.intersects(walls, behind)
+    anchor = label.copy()       # what is certain of each gap; 2: certain both ways
     rules = []                  # (gaps on one side, gaps on the other): one rack, one not
     for line in range(len(lines)):
         sides = [[g for g in by_side.get((line, where), []) if not flue[g]] for where in (0, 1)]
@@ -738,26 +738,14 @@ def beam_rows(lines, walls=None):
             if sides[where] and (faces[1 - where] or not (by_side.get((line, 1 - where))
                                                           or walled[line, 1 - where])):
                 for g in sides[where]:      # the rack is on this side
-                    label[g] = 1 if label[g] in (-1, 1) else 2
+                    anchor[g] = 1 if anchor[g] in (-1, 1) else 2
         if sides[0] and sides[1] and not (faces[0] or faces[1]):
             rules.append((sides[0], sides[1]))
     # carry the labels: the gaps on one side of a line share a label, the other side's is
-    # the other one; 2 marks a contradiction
-    changed = True
-    while changed:
-        changed = False
-        for one, two in rules:
-            for here, there in ((one, two), (two, one)):
-                known = {int(label[g]) for g in here if label[g] >= 0}
-                if not known:
-                    continue
-                want = 2 if len(known) > 1 or 2 in known else 1 - known.pop()
-                for g in here + there:
-                    value = want if g in there else (2 if want == 2 else 1 - want)
-                    if label[g] != value and label[g] != 2:
-                        label[g] = value if label[g] == -1 else 2
-                        changed = True
-    label[(label == 1) & (width > BEAM_PAIR_DEPTH)] = 2
+    # the other one (the gaps joined with the parity of their labels, in one pass)
+    label = _two_labels(len(gaps), [(one[0], g, 0) for one, two in rules for g in one[1:] + two[1:]]
+                        + [(one[0], two[0], 1) for one, two in rules], anchor,
+                        too_wide=width > BEAM_PAIR_DEPTH)
     # a contradiction anywhere in a block of rows leaves the whole block as drawn
     links = np.unique(np.r_[gaps // len(lines), gaps % len(lines)])
     parent = {line: line for line in links.tolist()}
@@ -821,6 +809,65 @@ def _nothing_between(left, d, lo, hi, slack=0.0):
     inside = ((np.sign(d[other]) == np.sign(d[pair])) & (np.abs(d[other]) < np.abs(d[pair]) - 1e-6)
               & (hi[other] > lo[pair] + slack) & (lo[other] < hi[pair] - slack))
     return np.bincount(pair[inside], minlength=len(left)) == 0
+
+
+def _two_labels(count, joins, anchor, too_wide):
+    """Labels 0 or 1 for `count` items joined by `joins`, (a, b, parity) each: a's label
+    xor b's is the parity. `anchor` (count,) fixes some: 0 or 1, -1 free, 2 both (already a
+    contradiction). Returns (count,): each item's label where a fixed item settles its
+    group, -1 where nothing does, and 2 throughout a group whose joins or anchors
+    contradict each other or that labels 1 an item `too_wide` (count,) for it.
+
+    Examples
+    --------
+    >>> _two_labels(4, [(0, 1, 1), (1, 2, 1)], np.array([1, -1, -1, -1]),
+    ...             np.zeros(4, bool)).tolist()
+    [1, 0, 1, -1]
+    >>> _two_labels(3, [(0, 1, 1), (1, 2, 1), (0, 2, 1)], np.array([-1, -1, -1]),
+    ...             np.zeros(3, bool)).tolist()           # an odd cycle
+    [2, 2, 2]
+    """
+    parent, parity = list(range(count)), [0] * count    # parity: label xor its parent's
+
+    def find(item):
+        path = []
+        while parent[item] != item:
+            path.append(item)
+            item = parent[item]
+        total = 0
+        for node in reversed(path):     # nearest the root first: compress the path
+            total ^= parity[node]
+            parity[node], parent[node] = total, item
+        return item
+
+    bad = set()
+    for a, b, odd in joins:
+        root_a, root_b = find(a), find(b)
+        if root_a == root_b:
+            if parity[a] ^ parity[b] != odd:
+                bad.add(root_a)
+            continue
+        parent[root_a], parity[root_a] = root_b, parity[a] ^ parity[b] ^ odd
+        if root_a in bad:
+            bad.add(root_b)
+    value = {}
+    for item in np.flatnonzero(anchor >= 0).tolist():
+        root = find(item)
+        own = 2 if anchor[item] == 2 else int(anchor[item]) ^ parity[item]
+        if own == 2 or value.get(root, own) != own:
+            bad.add(root)
+        value[root] = own
+    label = np.full(count, -1)
+    for item in range(count):
+        root = find(item)
+        if root in value:
+            label[item] = value[root] ^ parity[item] if value[root] != 2 else 2
+    for item in np.flatnonzero(too_wide & (label == 1)).tolist():
+        bad.add(find(item))
+    for item in range(count):
+        if find(item) in bad:
+            label[item] = 2
+    return label
 
 
 def _bands(origin, along, across, t0, t1):
