@@ -714,7 +714,7 @@ def beam_rows(lines, walls=None):
     flue = width <= FLUE_WIDTH
     side = (d > 0).astype(int)                      # 0: right of the line, 1: left
     label = np.full(len(gaps), -1)                  # 1 rack, 0 aisle, -1 not known yet
-    label[(width > BEAM_PAIR_DEPTH) & ~flue] = 0
+    label[width > BEAM_PAIR_DEPTH] = 0
     # per line and side, its gaps; a side with none (and no wall behind) is open, one with
     # a flue faces a row
     by_side = {}
@@ -743,9 +743,9 @@ def beam_rows(lines, walls=None):
             rules.append((sides[0], sides[1]))
     # carry the labels: the gaps on one side of a line share a label, the other side's is
     # the other one (the gaps joined with the parity of their labels, in one pass)
-    label = _two_labels(len(gaps), [(one[0], g, 0) for one, two in rules for g in one[1:] + two[1:]]
-                        + [(one[0], two[0], 1) for one, two in rules], anchor,
-                        too_wide=width > BEAM_PAIR_DEPTH)
+    joins = [(side[0], g, 0) for one, two in rules for side in (one, two) for g in side[1:]]
+    joins += [(one[0], two[0], 1) for one, two in rules]
+    label = _two_labels(len(gaps), joins, anchor, too_wide=width > BEAM_PAIR_DEPTH)
     # a contradiction anywhere in a block of rows leaves the whole block as drawn
     links = np.unique(np.r_[gaps // len(lines), gaps % len(lines)])
     parent = {line: line for line in links.tolist()}

@@ -560,6 +560,26 @@ def test_rack_rows_drawn_as_face_lines_only_are_racking(tmp_path):
     assert len(shapely.get_parts(plan.free_space)) == 1
 
 
+def test_a_long_row_facing_two_shorter_rows_across_an_aisle(tmp_path):
+    """A single row's face lines run the whole length (x 3 to 27 m); across a 1.8 m aisle
+    two double rows drawn as one (2.4 m) stand end to end with a 2 m cross aisle between
+    them (x 3 to 14 m and 16 to 27 m): the long face has two neighbours on its aisle side,
+    both aisle. Every row is racking and both aisles stay floor. common practice"""
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 30, 20)  # the floor inside is 0.2 .. 19.8
+    _rows_of_lines(msp, [4.0, 5.1])
+    for x0, x1 in ((3.0, 14.0), (16.0, 27.0)):
+        _rows_of_lines(msp, [6.9, 9.3], x0=x0, x1=x1)
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: the hall less a 24 m x 1.1 m row and two 11 m x 2.4 m rows
+    assert plan.free_space.area == pytest.approx(29.6 * 19.6 - 24 * 1.1 - 2 * 11 * 2.4,
+                                                 rel=1e-9)
+    assert plan.free_space.contains(shapely.Point(8.0, 6.0))      # the 1.8 m aisle
+    assert plan.free_space.contains(shapely.Point(15.0, 8.0))     # the cross aisle
+    assert not [w for w in plan.warnings if "racking line(s)" in w]
+
+
 def test_shelves_against_both_walls_drawn_as_one_line_leave_the_aisles_open(tmp_path):
     """Shelving 0.5 m deep along both long walls drawn as its front line only (the wall is
     its back) and a free-standing row between them drawn as two faces: nothing says which
