@@ -691,6 +691,9 @@ def beam_rows(lines, walls=None):
     >>> sorted(round(strip.area, 9) for strip in rows)
     [22.0, 22.0]
     """
+    from scipy.sparse import coo_matrix
+    from scipy.sparse.csgraph import connected_components
+
     none = np.empty(0, dtype=object)
     lines = segments(lines)
     lines = lines[shapely.length(lines) >= ROW_MIN_LENGTH]
@@ -746,21 +749,13 @@ def beam_rows(lines, walls=None):
     joins = [(side[0], g, 0) for one, two in rules for side in (one, two) for g in side[1:]]
     joins += [(one[0], two[0], 1) for one, two in rules]
     label = _two_labels(len(gaps), joins, anchor, too_wide=width > BEAM_PAIR_DEPTH)
-    # a contradiction anywhere in a block of rows leaves the whole block as drawn
-    links = np.unique(np.r_[gaps // len(lines), gaps % len(lines)])
-    parent = {line: line for line in links.tolist()}
-
-    def root(line):
-        while parent[line] != line:
-            parent[line] = parent[parent[line]]
-            line = parent[line]
-        return line
-
-    for g in gaps.tolist():
-        parent[root(g // len(lines))] = root(g % len(lines))
-    spoilt = {root(g // len(lines)) for g in gaps[label == 2].tolist()}
-    rack = np.array([label[g] == 1 and root(int(gaps[g]) // len(lines)) not in spoilt
-                     for g in gap_of])
+    # a contradiction anywhere in a block of rows (lines joined by gaps) leaves the whole
+    # block as drawn
+    first, second = gaps // len(lines), gaps % len(lines)
+    _, block = connected_components(coo_matrix((np.ones(len(gaps)), (first, second)),
+                                               shape=(len(lines), len(lines))), directed=False)
+    spoilt = np.isin(block, block[first[label == 2]])
+    rack = (label[gap_of] == 1) & ~spoilt[left]
     # each rack gap once, over the common stretch seen from one of its lines
     once = np.zeros(len(left), dtype=bool)
     once[np.unique(gap_of, return_index=True)[1]] = True
