@@ -282,8 +282,9 @@ def node_lines(lines, *, gap_tolerance):
     lines = lines[~shapely.is_empty(lines) & (shapely.length(lines) > 0)]
     if not len(lines):
         return np.empty(0, dtype=object)
+    # merged at degree-2 nodes only, the union's edges still meet only at its nodes: a
+    # second union would node nothing and give back the same lines (0.4 s on 30,000 edges)
     edges = shapely.get_parts(shapely.line_merge(shapely.union_all(lines)))
-    edges = shapely.get_parts(shapely.union_all(edges))
     if gap_tolerance <= 0:
         return edges
     ends = np.concatenate([shapely.get_coordinates(shapely.get_point(edges, 0)),
