@@ -228,7 +228,7 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
                                     render_id_sheet, render_report, render_svg, render_tables,
                                     write_outputs)
     from clearway.roadmap import build_roadmap, carry_ids_over, site_warnings
-    from clearway.side_by_side import forced, render_side_by_side
+    from clearway.side_by_side import forced, side_by_side
 
     def say(message: str) -> None:
         if not quiet:
@@ -287,7 +287,7 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
         # the preview takes about as long as the other outputs together: on a large graph
         # it renders in a second process meanwhile (clearway.side_by_side)
         large = roadmap.graph.number_of_edges() >= SIDE_BY_SIDE_EDGES or forced()
-        files = render_side_by_side(renderers, aside=["roadmap.svg"] if large else ())
+        files = side_by_side(renderers, aside=["roadmap.svg"] if large else ())
         if with_dxf:
             files["roadmap.dxf"] = render_dxf(plan, roadmap)
         if with_csv:

@@ -1,22 +1,27 @@
-"""Render independent outputs side by side: some in a forked process, the rest in this one.
+"""Run independent pieces of work side by side: some in a forked process, the rest in this one.
 
-The five outputs of a build are made from the same finished roadmap and do not depend on
-each other. On a 20,000-bay warehouse the preview (label placement, path text) takes about
-as long as the other four together, so a second process that renders it while this one
-renders the rest shortens the output stage by close to half on two cores. The child is a
-fork: it shares the roadmap copy-on-write and sends back only the rendered bytes (one
-pickle through a pipe). It writes no file and prints nothing; this process writes every
-output, as one set, as before.
+Two uses, each of work that does not depend on the rest:
+
+- the five outputs of a build are made from the same finished roadmap. On a 20,000-bay
+  warehouse the preview (label placement, path text) takes about as long as the other four
+  together, so a second process that renders it while this one renders the rest shortens
+  the output stage by close to half on two cores;
+- the Delaunay triangulation of many boundary samples is made in strips
+  (clearway.roadmap.delaunay), half of them in the second process.
+
+The child is a fork: it shares the caller's data copy-on-write and sends back only its
+results (one pickle through a pipe). It writes no file and prints nothing; this process
+writes every output, as one set, as before.
 
 A fork is used only where it is safe and pays: on Linux (where fork is the default way to
 start a process), with no other thread running (a fork copies only the calling thread),
 and for enough work (the caller says; CLEARWAY_PROCESSES=2 forks for any work, for tests);
-otherwise, and when CLEARWAY_PROCESSES=1, everything renders here in turn. The bytes are the same either way: the renderers are deterministic functions of the
-roadmap.
+otherwise, and when CLEARWAY_PROCESSES=1, everything runs here in turn. The results are the
+same either way: the work is a deterministic function of its inputs.
 
-An error in the child is raised here as if the renderer had run here (the exception is
+An error in the child is raised here as if the work had run here (the exception is
 pickled back; one that cannot be pickled arrives as a RuntimeError with its text). If this
-process stops first (an error in its own renderers, Ctrl-C, SIGTERM), the child is killed
+process stops first (an error in its own work, Ctrl-C, SIGTERM), the child is killed
 and reaped before the exception goes on.
 """
 
@@ -41,34 +46,36 @@ def forced() -> bool:
 
 
 def can_fork() -> bool:
-    """True where a forked renderer is safe: Linux, one thread, not switched off."""
+    """True where a forked child is safe: Linux, one thread, not switched off."""
     return (sys.platform.startswith("linux") and hasattr(os, "fork")
             and threading.active_count() == 1
             and os.environ.get(PROCESSES_VARIABLE, "").strip() != "1")
 
 
-def render_side_by_side(renderers: Mapping[str, Callable[[], bytes]],
-                        aside: Sequence[str] = ()) -> dict[str, bytes]:
-    """Call every renderer; those named in `aside` in a forked child when :func:`can_fork`.
+def side_by_side(work: Mapping[str, Callable[[], object]],
+                 aside: Sequence[str] = ()) -> dict[str, object]:
+    """Call every function of `work`; those named in `aside` in a forked child when
+    :func:`can_fork`.
 
     Parameters
     ----------
-    renderers : mapping of name -> callable returning bytes
-    aside : names of `renderers` to run in the child (at most about half the work)
+    work : mapping of name -> callable without arguments returning a picklable value
+        (rendered bytes, arrays)
+    aside : names of `work` to run in the child (at most about half the work)
 
     Returns
     -------
-    dict of name -> bytes, in the order of `renderers`.
+    dict of name -> value, in the order of `work`.
 
     Examples
     --------
-    >>> render_side_by_side({"a": lambda: b"1", "b": lambda: b"2"}, aside=["b"])
+    >>> side_by_side({"a": lambda: b"1", "b": lambda: b"2"}, aside=["b"])
     {'a': b'1', 'b': b'2'}
     """
     wanted = set(aside)
-    aside = [name for name in renderers if name in wanted]
+    aside = [name for name in work if name in wanted]
     if not aside or not can_fork():
-        return {name: make() for name, make in renderers.items()}
+        return {name: make() for name, make in work.items()}
     read_end, write_end = os.pipe()
     gc.freeze()      # the child's collector then leaves the shared objects' pages alone
     try:
@@ -77,16 +84,16 @@ def render_side_by_side(renderers: Mapping[str, Callable[[], bytes]],
         gc.unfreeze()
         os.close(read_end)
         os.close(write_end)
-        return {name: make() for name, make in renderers.items()}
-    if pid == 0:     # the child: render, send, leave without running any exit handler
+        return {name: make() for name, make in work.items()}
+    if pid == 0:     # the child: work, send, leave without running any exit handler
         os.close(read_end)
-        _child(renderers, aside, write_end)
+        _child(work, aside, write_end)
     os.close(write_end)
     gc.unfreeze()
     reaped = False
     with os.fdopen(read_end, "rb") as pipe:
         try:
-            results = {name: make() for name, make in renderers.items() if name not in aside}
+            results = {name: make() for name, make in work.items() if name not in aside}
             payload = pipe.read()
             os.waitpid(pid, 0)
             reaped = True
@@ -94,20 +101,20 @@ def render_side_by_side(renderers: Mapping[str, Callable[[], bytes]],
             if not reaped:
                 _stop(pid)
     status, value = pickle.loads(payload) if payload else (
-        "error", RuntimeError("the rendering process ended without a result"))
+        "error", RuntimeError("the second process ended without a result"))
     if status != "ok":
         raise value
     results.update(value)
-    return {name: results[name] for name in renderers}
+    return {name: results[name] for name in work}
 
 
-def _child(renderers, aside, write_end) -> None:
-    """Run in the forked child: render `aside`, pickle the outcome into the pipe, _exit."""
+def _child(work, aside, write_end) -> None:
+    """Run in the forked child: call `aside`, pickle the outcome into the pipe, _exit."""
     code = 0
     try:
         signal.signal(signal.SIGTERM, signal.SIG_DFL)
         try:
-            outcome = ("ok", {name: renderers[name]() for name in aside})
+            outcome = ("ok", {name: work[name]() for name in aside})
         except BaseException as err:  # noqa: BLE001 - every failure goes back to the parent
             outcome = ("error", err)
         try:

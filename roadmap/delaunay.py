@@ -1,25 +1,44 @@
-"""Delaunay triangulation of many boundary samples: one Qhull call, or strips when huge.
+"""Delaunay triangulation of many boundary samples: one Qhull call, or strips side by side.
 
 Qhull's time grows about linearly with the samples of these floors (measured here on the
-mixed suite drawing tiled 1, 4 and 8 times: 11, 11 and 12 us a point) but its memory is
-about 0.7 KiB a point, so up to 2 x STRIP_POINTS samples are triangulated in one call, whose
-neighbours come with it. Larger sets are triangulated in strips of about STRIP_POINTS points
-along the longer axis, each with a margin of its neighbours' points. A triangle of a strip is
-a triangle of the whole triangulation when its circumcircle lies inside the strip's band (the
-band holds every point there, and the circle holds none of them); each is kept by the strip
-holding its circumcentre. A triangle whose circle leaves the band matters only when its
-circumcentre lies in the free space (a Voronoi vertex); then the strip is done again with
-twice the margin. Neighbours are then found by matching the triangles' edges.
+mixed suite drawing tiled 1, 4 and 8 times: 11, 11 and 12 us a point) and its memory is about
+0.7 KiB a point. Below SPLIT_POINTS samples (or when the caller asks for no split) one call
+triangulates them all, and its neighbours come with it. From SPLIT_POINTS on they are
+triangulated in strips along the longer axis: two, or one per STRIP_POINTS when there are
+more, each with a margin of its neighbours' points; the first half of the strips here and
+the second half in a forked second process where that is possible (clearway.side_by_side),
+on two cores in about half the time. The strips are the same either way, so the result is.
+
+A triangle of a strip is a triangle of the whole triangulation when its circumcircle lies
+inside the strip's band (the band holds every point there, and the circle holds none of
+them); each is kept by the strip holding its circumcentre. A triangle whose circle leaves the
+band matters only when its circumcentre lies in the free space (a Voronoi vertex); then the
+strip is done again with twice the margin. Neighbours are then found by matching the
+triangles' edges.
+
+Where four or more samples lie on one circle to within rounding (regular samples on
+parallel faces, less the micrometre jitter), the triangulation is not unique and Qhull's
+choice depends on the points it is given: a strip may split such a quadrilateral the other
+way than one call over all points would. Both are Delaunay triangulations with the same
+circumcentres, to rounding.
 """
 
 from __future__ import annotations
+
+from typing import Callable
 
 import numpy as np
 import shapely
 from scipy.spatial import Delaunay
 
-#: Points per strip; up to twice as many take one Qhull call (about 420 MiB at 600k points).
+from clearway.side_by_side import side_by_side
+
+#: Points per strip; from SPLIT_POINTS to twice as many make two strips.
 STRIP_POINTS = 300_000
+#: Samples from which the triangulation is made in strips (two at least), side by side in two
+#: processes where possible: about a second of Qhull here, of which the second process saves
+#: about 0.4 s (the strips' margins and matching their neighbours cost the rest).
+SPLIT_POINTS = 90_000
 #: First margin of each strip, metres.
 MARGIN = 8.0
 #: scipy's options for 2-D Delaunay ("Qbb Qc Qz Q12", with "Qt") plus "Q5": Qhull then
@@ -65,44 +84,76 @@ def neighbours_of(simplices: np.ndarray) -> np.ndarray:
 
 
 def triangulate(points: np.ndarray, free_space=None, *, strip_points: int = STRIP_POINTS,
-                neighbours: bool = True):
+                neighbours: bool = True, split_points: int | None = SPLIT_POINTS,
+                measure: Callable[[np.ndarray], tuple] | None = None):
     """Return the Delaunay triangles of `points` (N, 2) that matter, and their neighbours.
 
     Parameters
     ----------
     points : (N, 2) float ndarray, metres, in general position (jittered)
     free_space : prepared Polygon or MultiPolygon, optional
-        Triangles whose circumcentre lies outside it may be left out (strips only).
+        Triangles whose circumcentre lies outside it may be left out (strips only); without
+        it, one call triangulates every point.
+    strip_points : int
+        Points per strip where there are more than 2 x strip_points.
+    neighbours : bool
+        Also return the neighbours.
+    split_points : int or None
+        From this many points on, at least two strips; None: one call up to
+        2 x strip_points.
+    measure : callable, optional
+        Called with the triangles of each strip (or all of them) in the process that made
+        them; returns a tuple of arrays, which are joined strip after strip.
 
     Returns
     -------
     simplices : (T, 3) int ndarray, indices into `points`
     neighbours : (T, 3) int ndarray, as scipy's ``Delaunay.neighbors`` (-1: none kept);
         None when `neighbours` is false.
+    measured : tuple of ndarray, only with `measure`: its arrays, joined.
     """
-    if len(points) <= 2 * strip_points or free_space is None:
+    count = len(points)
+    strips = count // strip_points
+    if split_points is not None and count >= split_points:
+        strips = max(strips, 2)
+    if strips < 2 or free_space is None:
         triangulation = Delaunay(points, qhull_options=QHULL_OPTIONS)
-        return triangulation.simplices, triangulation.neighbors
+        result = triangulation.simplices, triangulation.neighbors
+        return result if measure is None else (*result, measure(triangulation.simplices))
     axis = int(np.argmax(np.ptp(points, axis=0)))
     along = points[:, axis]
-    edges = np.quantile(along, np.linspace(0.0, 1.0, len(points) // strip_points + 1))
+    edges = np.quantile(along, np.linspace(0.0, 1.0, strips + 1))
     edges[0], edges[-1] = -np.inf, np.inf
-    kept = []
-    for low, high in zip(edges[:-1], edges[1:]):
-        margin = MARGIN
-        while True:
-            members = np.flatnonzero((along >= low - margin) & (along <= high + margin))
-            simplices = members[Delaunay(points[members],
-                                               qhull_options=QHULL_OPTIONS).simplices]
-            centre, radius = circumcircles(points, simplices)
-            mine = (centre[:, axis] >= low) & (centre[:, axis] < high)
-            inside_band = (centre[:, axis] - radius >= low - margin) & \
-                (centre[:, axis] + radius <= high + margin)
-            doubtful = np.flatnonzero(mine & ~inside_band & np.isfinite(centre).all(axis=1))
-            if len(doubtful) == 0 or not shapely.contains_xy(
-                    free_space, centre[doubtful, 0], centre[doubtful, 1]).any():
-                kept.append(simplices[mine & inside_band])
-                break
-            margin *= 2.0
-    simplices = np.concatenate(kept)
-    return simplices, neighbours_of(simplices) if neighbours else None
+    bands = list(zip(edges[:-1], edges[1:]))
+    half = len(bands) // 2
+
+    def triangles_of(some):
+        made = [_strip(points, along, axis, low, high, free_space) for low, high in some]
+        return [(simplices, measure(simplices) if measure else ()) for simplices in made]
+
+    done = side_by_side({"first": lambda: triangles_of(bands[:half]),
+                         "second": lambda: triangles_of(bands[half:])}, aside=["second"])
+    pieces = done["first"] + done["second"]
+    simplices = np.concatenate([simplices for simplices, _ in pieces])
+    result = simplices, neighbours_of(simplices) if neighbours else None
+    if measure is None:
+        return result
+    return (*result, tuple(np.concatenate(arrays) for arrays in zip(*(m for _, m in pieces))))
+
+
+def _strip(points, along, axis, low, high, free_space):
+    """The triangles of the band `low` <= along < `high` whose circumcentres it holds and
+    that matter (see the module's text)."""
+    margin = MARGIN
+    while True:
+        members = np.flatnonzero((along >= low - margin) & (along <= high + margin))
+        simplices = members[Delaunay(points[members], qhull_options=QHULL_OPTIONS).simplices]
+        centre, radius = circumcircles(points, simplices)
+        mine = (centre[:, axis] >= low) & (centre[:, axis] < high)
+        inside_band = (centre[:, axis] - radius >= low - margin) & \
+            (centre[:, axis] + radius <= high + margin)
+        doubtful = np.flatnonzero(mine & ~inside_band & np.isfinite(centre).all(axis=1))
+        if len(doubtful) == 0 or not shapely.contains_xy(
+                free_space, centre[doubtful, 0], centre[doubtful, 1]).any():
+            return simplices[mine & inside_band]
+        margin *= 2.0

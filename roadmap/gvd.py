@@ -139,8 +139,10 @@ def adaptive_samples(segments, previous, following, step: float, *, coarse: floa
     if coarse <= step or len(segments) < 3:
         return sample_boundary(segments, following, step)
     xy, owner, successor = sample_boundary(segments, following, probe)
+    # one call up to 600,000 probe samples (at 2 m apart, few floors have as many): the
+    # widths come from every edge, also of triangles outside the free space
     simplices, _ = triangulate(xy + rng.uniform(-JITTER, JITTER, xy.shape), free_space,
-                               neighbours=False)
+                               neighbours=False, split_points=None)
     pairs = np.concatenate([simplices[:, [0, 1]], simplices[:, [1, 2]], simplices[:, [2, 0]]])
     a, b = pairs[:, 0], pairs[:, 1]
     apart = (owner[a] != owner[b]) & (following[owner[a]] != owner[b]) & \
@@ -342,14 +344,12 @@ def medial_axis(free_space, *, step: float = 0.25, coarse: float | None = None,
     try:
         xy, owner, successor = adaptive_samples(segments, previous, following, step,
                                                 coarse=coarse, rng=rng, free_space=free_space)
-        simplices, neighbours = triangulate(xy + rng.uniform(-JITTER, JITTER, xy.shape),
-                                            free_space)
+        simplices, neighbours, (inside, corrected, clearance) = triangulate(
+            xy + rng.uniform(-JITTER, JITTER, xy.shape), free_space,
+            measure=lambda simplices: _voronoi_vertices(simplices, xy, owner, segments,
+                                                        previous, following, free_space))
     except QhullError:
         return empty
-    centres, _ = circumcircles(xy, simplices)
-    finite = np.isfinite(centres).all(axis=1)
-    inside = np.zeros(len(simplices), dtype=bool)
-    inside[finite] = contains_points(free_space, centres[finite, 0], centres[finite, 1])
     # Ridges: the Delaunay edge opposite vertex k of triangle t is shared with neighbour n.
     tri = np.repeat(np.arange(len(simplices)), 3)
     corner = np.tile(np.arange(3), len(simplices))
@@ -360,8 +360,6 @@ def medial_axis(free_space, *, step: float = 0.25, coarse: float | None = None,
     take &= (successor[g0] != g1) & (successor[g1] != g0)
     tri, other = tri[take], other[take]
     used = np.flatnonzero(inside)
-    corrected, clearance = correct_vertices(centres[used], owner[simplices[used]],
-                                            segments, previous, following)
     key = np.round(corrected / MERGE_GRID).astype(np.int64)
     first, merged = unique_rows(key)
     compact = np.full(len(simplices), -1, dtype=np.int64)
@@ -373,6 +371,20 @@ def medial_axis(free_space, *, step: float = 0.25, coarse: float | None = None,
     best = np.full(len(first), np.inf)
     np.minimum.at(best, merged, clearance)
     return MedialAxis(vertices, best, edges)
+
+
+def _voronoi_vertices(simplices, xy, owner, segments, previous, following, free_space):
+    """Which of the Delaunay triangles `simplices` have their circumcentre in `free_space`,
+    and for those, in order, the Voronoi vertex on the exact bisector and its clearance
+    (:func:`correct_vertices`)."""
+    centres, _ = circumcircles(xy, simplices)
+    finite = np.isfinite(centres).all(axis=1)
+    inside = np.zeros(len(simplices), dtype=bool)
+    inside[finite] = contains_points(free_space, centres[finite, 0], centres[finite, 1])
+    used = np.flatnonzero(inside)
+    corrected, clearance = correct_vertices(centres[used], owner[simplices[used]],
+                                            segments, previous, following)
+    return inside, corrected, clearance
 
 
 def generalized_voronoi(free_space, clearance: float, *, step: float = 0.25,

@@ -14,7 +14,7 @@ from pathlib import Path
 import pytest
 
 from clearway.errors import ClearwayError
-from clearway.side_by_side import can_fork, render_side_by_side
+from clearway.side_by_side import can_fork, side_by_side
 
 ROOT = Path(__file__).resolve().parent.parent
 SAMPLE = ROOT / "sample_drawings" / "distribution_centre.dxf"
@@ -54,7 +54,7 @@ def _children() -> set[int]:
 @needs_fork
 def test_aside_renderers_run_in_another_process_and_keep_the_order(one_thread):
     before, here = _children(), os.getpid()
-    result = render_side_by_side({"a": lambda: str(os.getpid()).encode(),
+    result = side_by_side({"a": lambda: str(os.getpid()).encode(),
                                   "b": lambda: str(os.getpid()).encode(),
                                   "c": lambda: b"c" * 3_000_000},   # larger than a pipe holds
                                  aside=["b", "c"])
@@ -71,7 +71,7 @@ def test_an_error_in_the_child_is_raised_here_as_itself(one_thread):
     def refuse():
         raise ClearwayError("plan.dxf: no walls")
     with pytest.raises(ClearwayError, match="plan.dxf: no walls"):
-        render_side_by_side({"a": lambda: b"", "b": refuse}, aside=["b"])
+        side_by_side({"a": lambda: b"", "b": refuse}, aside=["b"])
     assert _children() <= before
 
 
@@ -85,14 +85,14 @@ def test_an_error_that_cannot_travel_arrives_as_its_text(one_thread):
     def fail():
         raise _Unpicklable("lost detail")
     with pytest.raises(RuntimeError, match="_Unpicklable: lost detail"):
-        render_side_by_side({"a": lambda: b"", "b": fail}, aside=["b"])
+        side_by_side({"a": lambda: b"", "b": fail}, aside=["b"])
 
 
 @needs_fork
 def test_a_child_that_dies_is_reported_and_reaped(one_thread):
     before = _children()
     with pytest.raises(RuntimeError, match="ended without a result"):
-        render_side_by_side({"a": lambda: b"", "b": lambda: os._exit(7)}, aside=["b"])
+        side_by_side({"a": lambda: b"", "b": lambda: os._exit(7)}, aside=["b"])
     assert _children() <= before
 
 
@@ -106,7 +106,7 @@ def test_an_error_here_stops_the_child(one_thread):
         raise ValueError("here")
     before, start = _children(), time.monotonic()
     with pytest.raises(ValueError, match="here"):
-        render_side_by_side({"a": fail, "b": slow}, aside=["b"])
+        side_by_side({"a": fail, "b": slow}, aside=["b"])
     assert time.monotonic() - start < 10 and _children() <= before
 
 
@@ -117,7 +117,7 @@ def test_another_thread_keeps_everything_here():
     try:
         assert not can_fork()
         here = str(os.getpid()).encode()
-        assert render_side_by_side({"a": lambda: str(os.getpid()).encode()},
+        assert side_by_side({"a": lambda: str(os.getpid()).encode()},
                                    aside=["a"]) == {"a": here}
     finally:
         stop.set()
@@ -128,7 +128,7 @@ def test_switched_off_everything_renders_here(monkeypatch):
     monkeypatch.setenv("CLEARWAY_PROCESSES", "1")
     assert not can_fork()
     here = str(os.getpid()).encode()
-    assert render_side_by_side({"a": lambda: str(os.getpid()).encode()}, aside=["a"]) == \
+    assert side_by_side({"a": lambda: str(os.getpid()).encode()}, aside=["a"]) == \
         {"a": here}
 
 
