@@ -21,8 +21,14 @@ MIN_ISLAND_AREA = 0.01
 MIN_COMPONENT_AREA = 0.05
 #: Distance beyond c + the drivable region at which slivers are cut off, metres.
 REACH_SLACK = 0.05
-#: Pieces of the free space beyond reach are cut off from this area up, m^2.
+#: Pieces of the free space beyond reach are cut off from this area up, m^2,
 SLIVER_AREA = 0.5
+#: and hairlines from this perimeter up, metres: pieces thinner on average (2 area /
+#: perimeter) than HAIRLINE, metres. A slit between back-to-back rack rows drawn rotated, whose
+#: rounded faces miss each other by a grid step, has next to no area but is sampled densely
+#: along both sides, and the faces beside it as walls half as thick.
+SLIVER_PERIMETER = 4.0
+HAIRLINE = 0.001
 #: Input vertices are snapped to this grid in the local frame, metres (0.1 mm).
 SNAP_GRID = 1e-4
 
@@ -136,7 +142,8 @@ def drivable_region(free_space, clearance: float, *, quad_segs: int = QUAD_SEGS,
 
 
 def reached_parts(free_space, regions, clearance: float, *, slack: float = REACH_SLACK,
-                  sliver_area: float = SLIVER_AREA, quad_segs: int = QUAD_SEGS) -> np.ndarray:
+                  sliver_area: float = SLIVER_AREA, sliver_perimeter: float = SLIVER_PERIMETER,
+                  quad_segs: int = QUAD_SEGS) -> np.ndarray:
     """Return the free space that discs of radius `clearance` reach, less its slivers.
 
     Lanes depend only on the part of the free floor that a disc of the required clearance c
@@ -149,8 +156,9 @@ def reached_parts(free_space, regions, clearance: float, *, slack: float = REACH
 
     - a component holding no drivable region is left out whole;
     - from a component holding one region, the pieces beyond the region grown by c + `slack`
-      of at least `sliver_area` are cut off (smaller pieces, the rounded-off inside corners,
-      stay: cutting them would change the sampling of every corner);
+      of at least `sliver_area`, and hairlines (thinner than HAIRLINE on average) of at
+      least `sliver_perimeter` around, are cut off (smaller pieces, the rounded-off inside
+      corners, stay: cutting them would change the sampling of every corner);
     - a component holding two or more is kept whole: the medial axis between its regions,
       below the clearance, locates the narrow passages.
 
@@ -185,7 +193,9 @@ def reached_parts(free_space, regions, clearance: float, *, slack: float = REACH
         grown = shapely.buffer(regions[owner[single]], clearance + slack, quad_segs=quad_segs)
         beyond, piece_of = shapely.get_parts(shapely.difference(parts[single], grown),
                                              return_index=True)
-        large = shapely.area(beyond) >= sliver_area
+        area, perimeter = shapely.area(beyond), shapely.length(beyond)
+        large = (area >= sliver_area) | \
+            ((perimeter >= sliver_perimeter) & (2 * area < HAIRLINE * perimeter))
         if large.any():
             parts = parts.copy()
             for index in np.unique(piece_of[large]):

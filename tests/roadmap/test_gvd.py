@@ -11,7 +11,7 @@ from scipy.spatial import cKDTree
 
 from clearway.roadmap import build as build_module
 from clearway.roadmap import generalized_voronoi, medial_axis
-from clearway.roadmap.inflate import polygon_parts
+from clearway.roadmap.inflate import drivable_region, polygon_parts, reached_parts
 
 from roadmap_builders import assert_exact_clearances, assert_lanes_clear, assert_topology, build, \
     corridor, plan
@@ -187,6 +187,39 @@ def test_open_flue_slot_cut_off_leaves_the_lanes_in_place(monkeypatch):
     # has a twin within 1 mm (the cut changes only the sampling near the slot's mouth)
     assert len(a) == len(b)
     assert cKDTree(b).query(a)[0].max() < 1e-3 and cKDTree(a).query(b)[0].max() < 1e-3
+    lanes = [shapely.union_all([d["geometry"] for *_, d in r.graph.edges(data=True)])
+             for r in (cut, whole)]
+    # lanes are simplified with a 5 mm Douglas-Peucker tolerance (roadmap/build.py SIMPLIFY)
+    assert shapely.hausdorff_distance(*lanes, densify=0.05) <= 0.005 + 1e-9
+    assert_lanes_clear(cut)
+    assert_topology(cut)
+
+
+def test_issue_11_hairline_slit_between_back_to_back_rows_is_cut_off(monkeypatch):
+    # two rack rows 1.1 m deep back to back whose faces miss each other by 0.2 mm (as rotated
+    # rows rounded to 0.1 mm do): a slit open at both ends, area 4 mm^2 per metre
+    hall = (0.0, 0.0, 30.0, 12.0)
+    rows = [shapely.box(5, 4, 25, 5.1), shapely.box(5, 5.1002, 25, 6.2)]
+    obstacles, free = plan(hall, *rows)
+    assert len(shapely.get_parts(free)) == 1
+    regions = drivable_region(free, 0.45)
+    reached = shapely.union_all(reached_parts(free, regions, 0.45))
+    # analytic: no disc of radius c = 0.45 m enters a 0.2 mm slit; its middle is 10 m from
+    # either mouth, far beyond the drivable region grown by c + 5 cm
+    assert shapely.intersects(free, shapely.Point(15, 5.1001))
+    assert not shapely.intersects(reached, shapely.Point(15, 5.1001))
+    assert shapely.area(free) - shapely.area(reached) == pytest.approx(0.0002 * 20, rel=0.01)
+    cut = build(obstacles, free)
+    monkeypatch.setattr(build_module, "reached_parts",
+                        lambda free_space, regions, clearance: polygon_parts(free_space))
+    whole = build(obstacles, free)
+    a = np.array([(d["x"], d["y"], d["clearance"]) for _, d in cut.graph.nodes(data=True)])
+    b = np.array([(d["x"], d["y"], d["clearance"]) for _, d in whole.graph.nodes(data=True)])
+    # analytic: points of clearance >= c keep their nearest obstacle points (inflate.py
+    # reached_parts), so every node has a twin at the same place and clearance
+    assert len(a) == len(b)
+    assert cKDTree(b[:, :2]).query(a[:, :2])[0].max() < 1e-3
+    assert np.abs(np.sort(a[:, 2]) - np.sort(b[:, 2])).max() < 1e-3
     lanes = [shapely.union_all([d["geometry"] for *_, d in r.graph.edges(data=True)])
              for r in (cut, whole)]
     # lanes are simplified with a 5 mm Douglas-Peucker tolerance (roadmap/build.py SIMPLIFY)
