@@ -224,9 +224,9 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
     from clearway.beside import rooms_beside
     from clearway.converter import read_floorplan
     from clearway.diagnosis import check_lanes
-    from clearway.exporters import (clearance_band, render_dxf, render_geojson, render_graphml,
-                                    render_id_sheet, render_report, render_svg, render_tables,
-                                    write_outputs)
+    from clearway.exporters import (clearance_band, oriented_edges, render_dxf, render_geojson,
+                                    render_graphml, render_id_sheet, render_report, render_svg,
+                                    render_tables, write_outputs)
     from clearway.roadmap import build_roadmap, carry_ids_over, site_warnings
     from clearway.side_by_side import forced, side_by_side
 
@@ -278,12 +278,15 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
         say(f"rendering {', '.join(names)}")
         # the preview and the page both draw it: computed once, before any second process
         band = clearance_band(plan, roadmap)
+        # the lanes as written (ids, ends, coordinates), which four of the outputs list
+        edges = oriented_edges(roadmap.graph)
         renderers = dict(zip(names, (
-            lambda: render_graphml(plan, roadmap),
-            lambda: render_geojson(plan, roadmap, anchor=anchor),
-            lambda: render_svg(plan, roadmap, date=_drawing_date(plan), band=band),
+            lambda: render_graphml(plan, roadmap, edges=edges),
+            lambda: render_geojson(plan, roadmap, anchor=anchor, edges=edges),
+            lambda: render_svg(plan, roadmap, date=_drawing_date(plan), band=band, edges=edges),
             lambda: render_report(plan, roadmap),
-            lambda: html_page(plan, roadmap, _drawing_date(plan), previous_graph, band=band))))
+            lambda: html_page(plan, roadmap, _drawing_date(plan), previous_graph, band=band,
+                              edges=edges))))
         # the preview takes about as long as the other outputs together: on a large graph
         # it renders in a second process meanwhile (clearway.side_by_side)
         large = roadmap.graph.number_of_edges() >= SIDE_BY_SIDE_EDGES or forced()

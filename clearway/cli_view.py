@@ -12,13 +12,14 @@ from clearway.cli_common import InputError
 PAGE = "roadmap.html"
 
 
-def html_page(plan, roadmap, date: str, previous_graph=None, band=None) -> bytes:
+def html_page(plan, roadmap, date: str, previous_graph=None, band=None, edges=None) -> bytes:
     """roadmap.html for `build`; with the previous revision's graph, its changes as a layer
-    (`band`: the clearance band, when the build has it already)."""
+    (`band`: the clearance band, `edges`: the graph's oriented edges, when the build has them
+    already)."""
     from clearway.exporters import render_html
     from clearway.roadmap import compare_graphs
     changes = compare_graphs(previous_graph, roadmap.graph) if previous_graph is not None else None
-    return render_html(plan, roadmap, date=date, changes=changes, band=band)
+    return render_html(plan, roadmap, date=date, changes=changes, band=band, edges=edges)
 
 
 @click.command()

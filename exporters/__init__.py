@@ -14,6 +14,7 @@ __getattr__, __dir__, __all__ = lazy_exports(__name__, {
     "check_anchor": "anchor",
     "clearance_band": "svg_parts",
     "finish_interrupted_set": "files",
+    "oriented_edges": "graphml",
     "read_graphml": "graphml_read",
     "render_id_sheet": "id_sheet",
     "render_compare_svg": "compare_svg",

@@ -150,10 +150,11 @@ def _area_features(plan, roadmap, project) -> list[dict]:
     return features
 
 
-def _graph_features(roadmap, project) -> list[dict]:
+def _graph_features(roadmap, project, edges=None) -> list[dict]:
     graph = roadmap.graph
     features = []
-    for edge_id, source, target, attrs, coords in oriented_edges(graph):
+    for edge_id, source, target, attrs, coords in (oriented_edges(graph) if edges is None
+                                                   else edges):
         features.append(_feature(_line(coords, project), {
             "element": "edge", "id": json_text(edge_id), "source": json_text(source),
             "target": json_text(target), "length": finite_or_none(attrs["length"]),
@@ -229,7 +230,7 @@ def coordinate_system(anchor=None) -> dict:
 
 
 @paused_collector()  # many small containers, none in a cycle: see collector.py
-def render_geojson(plan, roadmap, *, anchor=None) -> bytes:
+def render_geojson(plan, roadmap, *, anchor=None, edges=None) -> bytes:
     """Return the floor and the roadmap as RFC 7946 GeoJSON bytes (UTF-8, deterministic).
 
     Parameters
@@ -239,6 +240,8 @@ def render_geojson(plan, roadmap, *, anchor=None) -> bytes:
     anchor : (latitude, longitude, bearing) in degrees, optional
         WGS84 position of the drawing origin and bearing of its +Y axis. Without it the
         coordinates are the drawing's local metres.
+    edges : list, optional
+        ``graphml.oriented_edges(roadmap.graph)`` when the caller has it already.
 
     Returns
     -------
@@ -264,7 +267,7 @@ def render_geojson(plan, roadmap, *, anchor=None) -> bytes:
     }
     rooms, openings = _room_features(roadmap, project)
     features = (_area_features(plan, roadmap, project) + rooms
-                + _graph_features(roadmap, project) + _station_features(plan, roadmap, project)
+                + _graph_features(roadmap, project, edges) + _station_features(plan, roadmap, project)
                 + openings)
     head = json.dumps(header, ensure_ascii=False, allow_nan=False)[:-1]
     lines = [json.dumps(f, ensure_ascii=False, allow_nan=False, separators=(",", ":"))

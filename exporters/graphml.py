@@ -82,7 +82,7 @@ def linestring_wkt(coords: np.ndarray) -> str:
         f"{exact_float(x)} {exact_float(y)}" for x, y in coords.tolist()) + ")"
 
 
-def render_graph(graph) -> bytes:
+def render_graph(graph, *, edges=None) -> bytes:
     """Return `graph` as GraphML 1.0 bytes (UTF-8), identical for identical graphs.
 
     Works from the graph alone, as networkx's ``write_graphml`` does: every key of the
@@ -98,6 +98,8 @@ def render_graph(graph) -> bytes:
         clearance, kind, label; edge keys are edge ids, edge attributes length, weight,
         clearance_min, geometry (LineString); graph attributes units, source, sha256,
         robot_radius, margin, required_clearance, tool_version.
+    edges : list, optional
+        ``oriented_edges(graph)`` when the caller has it already.
 
     Returns
     -------
@@ -144,7 +146,7 @@ def render_graph(graph) -> bytes:
     for node_id in sorted(graph.nodes, key=natural_key):
         node = etree.SubElement(element, _Q + "node", {"id": xml_text(node_id)})
         add_data(node, "node", {"label": "", "room": ""} | graph.nodes[node_id])
-    for edge_id, source, target, attrs, coords in oriented_edges(graph):
+    for edge_id, source, target, attrs, coords in (oriented_edges(graph) if edges is None else edges):
         edge = etree.SubElement(element, _Q + "edge", {"id": xml_text(edge_id),
                                                       "source": xml_text(source),
                                                       "target": xml_text(target)})
@@ -153,7 +155,7 @@ def render_graph(graph) -> bytes:
 
 
 @paused_collector()  # many small containers, none in a cycle: see collector.py
-def render_graphml(plan, roadmap) -> bytes:
+def render_graphml(plan, roadmap, *, edges=None) -> bytes:
     """Return the roadmap as GraphML 1.0 bytes: `render_graph` of its graph, with the
     drawing's file name and SHA-256, the robot and the tool version as graph attributes.
 
@@ -163,6 +165,8 @@ def render_graphml(plan, roadmap) -> bytes:
         Supplies the drawing's file name (``source``) and SHA-256.
     roadmap : roadmap.model.Roadmap
         The lane graph (networkx MultiGraph with the documented attributes) and the robot.
+    edges : list, optional
+        ``oriented_edges(roadmap.graph)`` when the caller has it already.
 
     Returns
     -------
@@ -174,4 +178,4 @@ def render_graphml(plan, roadmap) -> bytes:
         "units": "m", "source": plan.source, "sha256": plan.sha256,
         "robot_radius": robot.radius, "margin": robot.margin,
         "required_clearance": robot.clearance, "tool_version": TOOL_VERSION}
-    return render_graph(graph)
+    return render_graph(graph, edges=edges)

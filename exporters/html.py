@@ -130,7 +130,7 @@ def _areas(plan, roadmap, origin, band=None) -> dict:
     return {role: parts for role, parts in polygons.items() if parts}
 
 
-def _graph(roadmap, origin) -> tuple[list, list]:
+def _graph(roadmap, origin, oriented=None) -> tuple[list, list]:
     graph = roadmap.graph
     nodes = []
     for node_id in sorted(graph.nodes, key=natural_key):
@@ -141,7 +141,8 @@ def _graph(roadmap, origin) -> tuple[list, list]:
                       finite_or_none(attrs.get("clearance")),
                       None if turns is None else json_text(turns)])
     edges = []
-    for edge_id, source, target, attrs, coords in oriented_edges(graph):
+    for edge_id, source, target, attrs, coords in (oriented_edges(graph) if oriented is None
+                                                   else oriented):
         edges.append([json_text(edge_id), json_text(source), json_text(target),
                       float(attrs["length"]), float(attrs["weight"]),
                       finite_or_none(attrs.get("clearance_min")), _flat(coords, origin)])
@@ -265,7 +266,7 @@ def _rooms(plan, roadmap, origin) -> tuple[list, list]:
     return rooms, openings
 
 
-def page_data(plan, roadmap, *, date: str, changes=None, band=None) -> dict:
+def page_data(plan, roadmap, *, date: str, changes=None, band=None, edges=None) -> dict:
     """Return everything the page shows, as plain JSON-ready values.
 
     Drawn geometry is in metres relative to ``origin`` (see ``svg.drawing_origin``), rounded
@@ -273,11 +274,12 @@ def page_data(plan, roadmap, *, date: str, changes=None, band=None) -> dict:
     page's route search adds up the same numbers as ``clearway route``. Nodes are listed in
     the GraphML's order and lanes in its order with its source and target, so that the page
     builds its graph in the order ``read_graphml`` does and breaks ties alike. `band` is
-    ``svg_parts.clearance_band(plan, roadmap)`` when the caller has it already.
+    ``svg_parts.clearance_band(plan, roadmap)`` and `edges` is
+    ``graphml.oriented_edges(roadmap.graph)``, when the caller has them already.
     """
     bounds = _bounds(plan, roadmap)
     origin = drawing_origin(bounds)
-    nodes, edges = _graph(roadmap, origin)
+    nodes, edges = _graph(roadmap, origin, edges)
     rooms, openings = _rooms(plan, roadmap, origin)
     clearance = roadmap.robot.clearance
     return {
@@ -308,7 +310,7 @@ def _asset(name: str) -> str:
 
 
 @paused_collector()  # many small containers, none in a cycle: see collector.py
-def render_html(plan, roadmap, *, date: str, changes=None, band=None) -> bytes:
+def render_html(plan, roadmap, *, date: str, changes=None, band=None, edges=None) -> bytes:
     """Return roadmap.html as UTF-8 bytes (deterministic for the same input).
 
     Parameters
@@ -321,13 +323,15 @@ def render_html(plan, roadmap, *, date: str, changes=None, band=None) -> bytes:
         What changed since the previous revision; drawn as a layer when given.
     band : shapely geometry, optional
         ``svg_parts.clearance_band(plan, roadmap)`` when the caller has it already.
+    edges : list, optional
+        ``graphml.oriented_edges(roadmap.graph)`` when the caller has it already.
 
     Returns
     -------
     bytes
         A complete HTML document with its script, style and data inline.
     """
-    data = page_data(plan, roadmap, date=date, changes=changes, band=band)
+    data = page_data(plan, roadmap, date=date, changes=changes, band=band, edges=edges)
     for number in (data["clearance"], *data["bounds"]):
         if not math.isfinite(number):
             raise ValueError(f"{plan.source}: roadmap has a non-finite extent or clearance")

@@ -38,10 +38,15 @@ _PX_PER_MM = 96 / 25.4  # CSS Values and Units: 1 in = 96 px = 25.4 mm
 
 
 def _bounds(plan, roadmap) -> tuple[float, float, float, float]:
-    geometries = [*plan.regions.values(), plan.free_space, roadmap.drivable,
-                  shapely.MultiPoint([(s.x, s.y) for s in plan.stations]),
-                  shapely.MultiPoint([(d["x"], d["y"]) for _, d in roadmap.graph.nodes(data=True)])]
-    boxes = np.array([g.bounds for g in geometries if g is not None and not g.is_empty])
+    geometries = [*plan.regions.values(), plan.free_space, roadmap.drivable]
+    boxes = [g.bounds for g in geometries if g is not None and not g.is_empty]
+    # the stations and nodes as one array, not as shapely points (tens of thousands of them)
+    points = [(s.x, s.y) for s in plan.stations] + \
+        [(d["x"], d["y"]) for _, d in roadmap.graph.nodes(data=True)]
+    if points:
+        xy = np.array(points, dtype=float)
+        boxes.append((*xy.min(axis=0), *xy.max(axis=0)))
+    boxes = np.array(boxes)
     if len(boxes) == 0 or not np.isfinite(boxes).all():
         return 0.0, 0.0, 1.0, 1.0
     xmin, ymin = boxes[:, 0].min(), boxes[:, 1].min()
@@ -122,7 +127,7 @@ def _wrap(text: str, width: int) -> list[str]:
 
 
 @paused_collector()  # many small containers, none in a cycle: see collector.py
-def render_svg(plan, roadmap, *, date: str, band=None) -> bytes:
+def render_svg(plan, roadmap, *, date: str, band=None, edges=None) -> bytes:
     """Return the SVG preview as UTF-8 bytes (deterministic for the same input and date).
 
     Parameters
@@ -134,6 +139,8 @@ def render_svg(plan, roadmap, *, date: str, band=None) -> bytes:
         of the same drawing gives the same bytes).
     band : shapely geometry, optional
         ``svg_parts.clearance_band(plan, roadmap)`` when the caller has it already.
+    edges : list, optional
+        ``graphml.oriented_edges(roadmap.graph)`` when the caller has it already.
 
     Returns
     -------
@@ -142,9 +149,10 @@ def render_svg(plan, roadmap, *, date: str, band=None) -> bytes:
         (x - x0, -(y - y0)) with (x0, y0) = ``drawing_origin`` (zero unless the plan lies at
         survey coordinates), plus a margin and the title block below the plan.
     """
-    origin = drawing_origin(_bounds(plan, roadmap))
+    bounds = _bounds(plan, roadmap)
+    origin = drawing_origin(bounds)
     ox, oy = origin
-    xmin, ymin, xmax, ymax = np.subtract(_bounds(plan, roadmap), [ox, oy, ox, oy]).tolist()
+    xmin, ymin, xmax, ymax = np.subtract(bounds, [ox, oy, ox, oy]).tolist()
 
     def local(geometry):
         return shapely.transform(geometry, lambda xy: xy - origin)
@@ -191,7 +199,8 @@ def render_svg(plan, roadmap, *, date: str, band=None) -> bytes:
     lanes = etree.SubElement(root, "g", id="lanes", fill="none",
                              **{"stroke-width": number(0.32 * font), "stroke-linecap": "round",
                                 "stroke-linejoin": "round"})
-    edges = sorted(oriented_edges(roadmap.graph), key=lambda e: -float(e[3]["clearance_min"]))
+    edges = sorted(oriented_edges(roadmap.graph) if edges is None else edges,
+                   key=lambda e: -float(e[3]["clearance_min"]))
     for edge_id, _, _, attrs, coords in edges:
         colour = lane_colour(bins, float(attrs["clearance_min"]))
         etree.SubElement(lanes, "polyline", stroke=colour, id=xml_text(f"lane-{edge_id}"),
