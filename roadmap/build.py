@@ -17,7 +17,7 @@ from clearway.roadmap.gvd import medial_axis
 from clearway.roadmap.graph import (_adjacency, chain_lanes, contract_short_edges, prune_spurs,
                            split_loops)
 from clearway.roadmap.clearance import clearance_field
-from clearway.roadmap.inflate import (boundary_segments, drivable_region, inflate_obstacles,
+from clearway.roadmap.inflate import (boundary_segments, drivable_region,
                              local_offset, polygon_parts, polylines, reached_parts, to_drawing,
                              to_local)
 from clearway.roadmap.body import fit_edges, fit_lanes
@@ -166,7 +166,6 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
     regions = drivable_region(local, threshold)
     obstacle_parts = polygon_parts([g for g in obstacles.values() if g is not None]) \
         if obstacles else np.empty(0, object)
-    inflated = inflate_obstacles(obstacle_parts, c)
     drivable = shapely.MultiPolygon(list(regions))
     field = clearance_field(boundary_segments(local)[0])
 
@@ -273,7 +272,7 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
     room_list, passages = describe_rooms(rooms, seeds, names, narrow, openings, graph,
                                          lane_vertices, regions, offset, c)
     findings = _stations_in_rooms(findings, room_list)
-    return Roadmap(graph=graph, robot=robot, inflated=inflated,
+    return Roadmap(graph=graph, robot=robot, obstacles=tuple(obstacle_parts),
                    drivable=to_drawing(drivable, offset), findings=findings,
                    rooms=room_list, passages=passages)
 

@@ -5,6 +5,7 @@ from __future__ import annotations
 import math
 from decimal import Decimal
 from dataclasses import dataclass, field
+from functools import cached_property
 
 import networkx as nx
 from shapely.geometry.base import BaseGeometry
@@ -302,24 +303,35 @@ class Roadmap:
         Graph attributes: units="m", robot_radius, margin, required_clearance
         (radius + margin) (floats, m).
     robot : Robot
-    inflated : shapely geometry
-        The obstacles grown by the required clearance.
     drivable : shapely geometry
-        Where the robot's centre may be: free space minus ``inflated``.
+        Where the robot's centre may be: free space minus :attr:`inflated`.
     findings : Findings
     rooms : tuple of Room
         Sorted by id (``r<k>`` in (x, y) order of the room nodes).
     passages : tuple of Passage
         One per opening of the drawing, in its order, then one per narrowing.
+    obstacles : tuple of shapely geometry
+        The obstacles (walls, racking, keep-out zones, the boundary's band) that
+        :attr:`inflated` grows.
     """
 
     graph: nx.MultiGraph
     robot: Robot
-    inflated: BaseGeometry
     drivable: BaseGeometry
     findings: Findings = field(default_factory=Findings)
     rooms: tuple[Room, ...] = ()
     passages: tuple[Passage, ...] = ()
+    obstacles: tuple[BaseGeometry, ...] = ()
+
+    @cached_property
+    def inflated(self) -> BaseGeometry:
+        """The obstacles grown by the required clearance, as one geometry.
+
+        Made when first asked for: no output draws it (the preview draws `drivable`), and
+        the union of a large warehouse's obstacles takes about a second.
+        """
+        from clearway.roadmap.inflate import inflate_obstacles
+        return inflate_obstacles(self.obstacles, self.robot.clearance)
 
     @property
     def openings(self) -> tuple[Passage, ...]:

@@ -87,5 +87,5 @@ def make_roadmap(plan: FloorPlan, robot: Robot | None = None) -> Roadmap:
         warnings=("lane e2 runs close to <racking> & walls",),
         personnel_clearance=0.5,
     )
-    return Roadmap(graph=graph, robot=robot, inflated=inflated, drivable=drivable,
+    return Roadmap(graph=graph, robot=robot, obstacles=(obstacles,), drivable=drivable,
                    findings=findings)

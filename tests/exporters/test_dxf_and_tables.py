@@ -140,7 +140,7 @@ def test_csv_cells_that_would_run_as_formulas_are_defused():
                                  "n1": (-4, 0, "station", "A,B \"quoted\"")},
                                 [("e0", "n0", "n1")])
     empty = shapely.MultiPolygon()
-    tables = render_tables(Roadmap(graph, Robot.disc(0.35, margin=0.1), empty, empty))
+    tables = render_tables(Roadmap(graph, Robot.disc(0.35, margin=0.1), empty))
     rows = list(csv.reader(io.StringIO(tables["nodes.csv"].decode("utf-8"), newline="")))
     # source: OWASP, "CSV Injection": prefix cells starting with = + - @ tab CR with '
     assert rows[1][2] == "'=HYPERLINK(\"x\")"

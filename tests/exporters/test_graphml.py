@@ -110,8 +110,8 @@ def test_same_input_gives_identical_bytes_whatever_the_insertion_order(plan, roa
         shuffled.add_node(node, **roadmap.graph.nodes[node])
     for u, v, key, attrs in reversed(list(roadmap.graph.edges(keys=True, data=True))):
         shuffled.add_edge(v, u, key=key, **attrs)
-    again = render_graphml(plan, type(roadmap)(shuffled, roadmap.robot, roadmap.inflated,
-                                                roadmap.drivable, roadmap.findings))
+    again = render_graphml(plan, type(roadmap)(shuffled, roadmap.robot, roadmap.drivable,
+                                                roadmap.findings))
     assert first == again == render_graphml(plan, roadmap)
     # no date or time anywhere (the pattern of test_report.py: any year, not only this one)
     assert not re.search(rb"\d{4}-\d{2}-\d{2}|\d{2}:\d{2}:\d{2}", first)
@@ -123,8 +123,7 @@ def test_issue_16_a_graph_read_back_writes_the_same_bytes(shift):
     roadmap = make_roadmap(plan)
     graph = roadmap.graph.copy()
     graph.nodes["n3"]["label"] = HOSTILE          # escaped, XML-illegal controls dropped
-    written = render_graphml(plan, type(roadmap)(graph, roadmap.robot, roadmap.inflated,
-                                                 roadmap.drivable))
+    written = render_graphml(plan, type(roadmap)(graph, roadmap.robot, roadmap.drivable))
     back = read_graphml(written)
     assert render_graph(back) == written
     assert render_graph(read_graphml(render_graph(back))) == written
@@ -156,7 +155,7 @@ def test_survey_coordinates_round_trip_exactly():
 def test_hostile_label_is_escaped_and_kept_except_xml_illegal_controls(plan, roadmap):
     graph = roadmap.graph.copy()
     graph.nodes["n3"]["label"] = HOSTILE
-    hostile_roadmap = type(roadmap)(graph, roadmap.robot, roadmap.inflated, roadmap.drivable)
+    hostile_roadmap = type(roadmap)(graph, roadmap.robot, roadmap.drivable)
     data = render_graphml(plan, hostile_roadmap)
     assert b"\x07" not in data
     # source: XML 1.0 sec. 2.4 -- '<' and '&' in character data must be escaped

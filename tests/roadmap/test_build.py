@@ -2,10 +2,12 @@
 
 from __future__ import annotations
 
+import math
+
 import pytest
 
 from clearway.config import DEFAULTS
-from roadmap_builders import build, corridor
+from roadmap_builders import build, corridor, rack_grid
 
 
 @pytest.mark.parametrize("width, pinched", [(1.2, True), (1.4, False)])
@@ -37,3 +39,17 @@ def test_defaults_come_from_the_config_schema():
 def test_a_free_space_with_nothing_drivable_is_refused():
     with pytest.raises(ValueError, match="free space is empty"):
         build({}, corridor(2.0)[1].buffer(-5))
+
+
+def test_the_inflated_obstacles_are_the_obstacles_grown_by_c():
+    # analytic: a square rack of side s grown by c (round corners) covers s^2 + 4 s c + pi c^2
+    obstacles, free = rack_grid(1, 1)
+    rack = obstacles["racking"]
+    roadmap = build(obstacles, free)
+    c = roadmap.robot.clearance
+    side_x, side_y = 6 * 1.1, 2.2
+    inflated_rack = roadmap.inflated.intersection(rack.buffer(c + 0.01))
+    expected = side_x * side_y + 2 * (side_x + side_y) * c + math.pi * c ** 2
+    assert inflated_rack.area == pytest.approx(expected, rel=2e-3)   # 16-gon quarter circles
+    # and it is made when first asked for, then kept
+    assert roadmap.inflated is roadmap.inflated

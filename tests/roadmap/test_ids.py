@@ -187,8 +187,7 @@ def test_carry_ids_over_updates_the_findings_too():
                                             ("y", "b", "c")])
     findings = Findings(stations=(StationResult("DOCK-1", 0.0, 0.0, "a", 0, True),),
                         pinch_points=(PinchPoint(3.0, 0.0, 0.4, edge="x"),))
-    built = Roadmap(new, Robot.disc(0.35, margin=0.1), shapely.Point(0, 0), shapely.Point(0, 0),
-                    findings)
+    built = Roadmap(new, Robot.disc(0.35, margin=0.1), shapely.Point(0, 0), findings)
     carried = carry_ids_over(built, old)
     assert sorted(carried.graph.nodes) == ["n10", "n4", "n9"]
     assert carried.findings.stations[0].node == "n4"
