@@ -140,8 +140,10 @@ def assemble_graph(lines, ends, vertices, isolated, station_xy, labels, joins,
     number = {keys[i]: rank for rank, i in enumerate(order)}
     pieces.sort(key=lambda p: (min(number[p[0]], number[p[1]]), max(number[p[0]], number[p[1]]),
                                len(p[2]), tuple(p[2].ravel()[:4])))
-    geometry = [shapely.LineString(piece + shift) for _, _, piece, _ in pieces]
     local_lines = polylines([piece for _, _, piece, _ in pieces])
+    # the same lines in the drawing frame, all in one call (not a LineString per piece)
+    geometry = shapely.transform(local_lines, lambda coords: coords + shift)
+    lengths = shapely.length(geometry).tolist()
     sample_xy, owner, values = field.along_adaptive(
         local_lines, COARSE_STEP, fine=EDGE_STEP, tolerance=CLEARANCE_TOLERANCE,
         below=refine_below) if pieces else \
@@ -163,7 +165,7 @@ def assemble_graph(lines, ends, vertices, isolated, station_xy, labels, joins,
                        clearance=float(node_clearance[i]), kind=kind, label=label)
     edge_ids = []
     for index, (u, v, _, _) in enumerate(pieces):
-        length = float(geometry[index].length)
+        length = lengths[index]
         key = f"e{index}"
         edge_ids.append(key)
         graph.add_edge(node_id[u], node_id[v], key=key, length=length, weight=length,
