@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import functools
+import importlib
 import math
 import signal
 import threading
@@ -20,6 +21,9 @@ from clearway.roadmap import ROBOT_KINDS          # a constant: the stages load 
 # them, not when the command line starts: `clearway --help` stays fast
 
 
+#: Imported before the drawing is read in a second process: the reader and the roadmap stage
+#: both use them (numpy, GEOS, Qhull and the k-d tree, sparse graphs), and a fork shares them.
+SHARED_LIBRARIES = ("numpy", "shapely", "scipy.spatial", "scipy.sparse.csgraph")
 #: The files `build` writes, in the order they are rendered.
 BUILD_FILES = ("roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json", "roadmap.html")
 #: Lanes from which the preview renders in a second process. Chosen, not measured as a
@@ -51,6 +55,17 @@ def _parse_anchor(value: str | None):
 def _drawing_date(plan) -> str:
     """The title block's date: the drawing's own, so rebuilding gives byte-identical files."""
     return f"drawing of {plan.drawing_date}" if plan.drawing_date else "drawing undated"
+
+
+def _read_plan(drawing, options: dict):
+    """``(read_floorplan(drawing, **options), None)``, or ``(None, text)`` of the ClearwayError
+    it raised: from a second process the text is what matters (some such errors carry data
+    that does not pickle)."""
+    from clearway.converter import read_floorplan
+    try:
+        return read_floorplan(drawing, **options), None
+    except ClearwayError as err:
+        return None, str(err)
 
 
 def _count(number: int, singular: str, plural: str = "") -> str:
@@ -220,15 +235,7 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
     Exit 0 when built, 1 with --strict when a station is unreachable or free space leaks,
     2 for bad input.
     """
-    from clearway.cli_view import html_page
-    from clearway.beside import rooms_beside
-    from clearway.converter import read_floorplan
-    from clearway.diagnosis import check_lanes
-    from clearway.exporters import (clearance_band, oriented_edges, render_dxf, render_geojson,
-                                    render_graphml, render_id_sheet, render_report, render_svg,
-                                    render_tables, write_outputs)
-    from clearway.roadmap import build_roadmap, carry_ids_over, site_warnings
-    from clearway.side_by_side import forced, side_by_side
+    from clearway.side_by_side import Aside, forced, side_by_side
 
     def say(message: str) -> None:
         if not quiet:
@@ -248,8 +255,23 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
                                 Metres()))
         anchor = _parse_anchor(anchor)
         previous_graph = read_graph(previous) if previous else None
+        reading = converter_options(options, config)
+        # the drawing is read in a second process while this one imports what comes next
+        # (clearway.side_by_side); the libraries both need are imported once, before
+        for name in SHARED_LIBRARIES:
+            importlib.import_module(name)
+        with Aside(lambda: _read_plan(drawing, reading)) as reader:
+            from clearway.beside import rooms_beside
+            from clearway.cli_view import html_page
+            from clearway.diagnosis import check_lanes
+            from clearway.exporters import (clearance_band, oriented_edges, render_geojson,
+                                            render_graphml, render_id_sheet, render_report,
+                                            render_svg, render_tables, write_outputs)
+            from clearway.roadmap import build_roadmap, carry_ids_over, site_warnings
+            plan, refused = reader.result()
+        if refused is not None:
+            raise InputError(refused)
         # said once read, so that a drawing refused by the reader gives one line only
-        plan = read_floorplan(drawing, **converter_options(options, config))
         say(f"read {drawing}: units {plan.units}, "
             f"{sum(len(p.geoms) for p in plan.obstacles.values())} obstacle polygons, "
             f"{len(plan.stations)} stations")
@@ -292,6 +314,7 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
         large = roadmap.graph.number_of_edges() >= SIDE_BY_SIDE_EDGES or forced()
         files = side_by_side(renderers, aside=["roadmap.svg"] if large else ())
         if with_dxf:
+            from clearway.exporters import render_dxf   # ezdxf: in this process only for it
             files["roadmap.dxf"] = render_dxf(plan, roadmap)
         if with_csv:
             files.update(render_tables(roadmap))

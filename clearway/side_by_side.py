@@ -1,7 +1,10 @@
 """Run independent pieces of work side by side: some in a forked process, the rest in this one.
 
-Two uses, each of work that does not depend on the rest:
+Three uses, each of work that does not depend on the rest:
 
+- `clearway build` reads the drawing in the second process while this one imports the
+  roadmap stage and the exporters (about half a second of start-up), and gets the floor
+  plan back;
 - the five outputs of a build are made from the same finished roadmap. On a 20,000-bay
   warehouse the preview (label placement, path text) takes about as long as the other four
   together, so a second process that renders it while this one renders the rest shortens
@@ -20,7 +23,8 @@ otherwise, and when CLEARWAY_PROCESSES=1, everything runs here in turn. The resu
 same either way: the work is a deterministic function of its inputs.
 
 An error in the child is raised here as if the work had run here (the exception is
-pickled back; one that cannot be pickled arrives as a RuntimeError with its text). If this
+pickled back, with the child's traceback in a note; one that cannot be pickled arrives as a
+RuntimeError with its text). If this
 process stops first (an error in its own work, Ctrl-C, SIGTERM), the child is killed
 and reaped before the exception goes on.
 """
@@ -33,6 +37,7 @@ import pickle
 import signal
 import sys
 import threading
+import traceback
 from typing import Callable, Mapping, Sequence
 
 #: Environment variable: "1" renders everything in this process, "2" forks even for a
@@ -74,48 +79,94 @@ def side_by_side(work: Mapping[str, Callable[[], object]],
     """
     wanted = set(aside)
     aside = [name for name in work if name in wanted]
-    if not aside or not can_fork():
+    if not aside:
         return {name: make() for name, make in work.items()}
-    read_end, write_end = os.pipe()
-    gc.freeze()      # the child's collector then leaves the shared objects' pages alone
-    try:
-        pid = os.fork()
-    except OSError:
-        gc.unfreeze()
-        os.close(read_end)
-        os.close(write_end)
-        return {name: make() for name, make in work.items()}
-    if pid == 0:     # the child: work, send, leave without running any exit handler
-        os.close(read_end)
-        _child(work, aside, write_end)
-    os.close(write_end)
-    gc.unfreeze()
-    reaped = False
-    with os.fdopen(read_end, "rb") as pipe:
-        try:
-            results = {name: make() for name, make in work.items() if name not in aside}
-            payload = pipe.read()
-            os.waitpid(pid, 0)
-            reaped = True
-        finally:
-            if not reaped:
-                _stop(pid)
-    status, value = pickle.loads(payload) if payload else (
-        "error", RuntimeError("the second process ended without a result"))
-    if status != "ok":
-        raise value
-    results.update(value)
+    with Aside(lambda: {name: work[name]() for name in aside}) as child:
+        results = {name: make() for name, make in work.items() if name not in aside}
+        results.update(child.result())
     return {name: results[name] for name in work}
 
 
-def _child(work, aside, write_end) -> None:
-    """Run in the forked child: call `aside`, pickle the outcome into the pipe, _exit."""
+class Aside:
+    """`function` (no arguments, a picklable result) called in a forked child from the
+    moment the ``with`` block is entered, where :func:`can_fork`; else here, when
+    :meth:`result` is first asked for. This process meanwhile runs the block.
+
+    Leaving the block before :meth:`result` (an error, Ctrl-C, SIGTERM) kills and reaps the
+    child.
+
+    Examples
+    --------
+    >>> with Aside(lambda: sum(range(10))) as child:
+    ...     here = 2 + 2
+    ...     child.result() + here
+    49
+    """
+
+    def __init__(self, function: Callable[[], object]):
+        self.function = function
+        self.pid = None
+        self.pipe = None
+        self.done = False
+        self.value = None
+
+    def __enter__(self) -> "Aside":
+        if not can_fork():
+            return self
+        read_end, write_end = os.pipe()
+        gc.freeze()      # the child's collector then leaves the shared objects' pages alone
+        try:
+            pid = os.fork()
+        except OSError:
+            gc.unfreeze()
+            os.close(read_end)
+            os.close(write_end)
+            return self
+        if pid == 0:     # the child: work, send, leave without running any exit handler
+            os.close(read_end)
+            _child(self.function, write_end)
+        gc.unfreeze()
+        os.close(write_end)
+        self.pid, self.pipe = pid, os.fdopen(read_end, "rb")
+        return self
+
+    def result(self):
+        """The function's value; its exception, raised here, if it raised one."""
+        if self.done:
+            return self.value
+        if self.pid is None:
+            self.value, self.done = self.function(), True
+            return self.value
+        payload = self.pipe.read()
+        self.pipe.close()
+        os.waitpid(self.pid, 0)
+        self.pid, self.done = None, True
+        status, value = pickle.loads(payload) if payload else (
+            "error", RuntimeError("the second process ended without a result"))
+        if status != "ok":
+            raise value
+        self.value = value
+        return value
+
+    def __exit__(self, *exc) -> None:
+        if self.pid is not None:       # left before the result: stop the child
+            self.pipe.close()
+            _stop(self.pid)
+            self.pid = None
+        return None
+
+
+def _child(function, write_end) -> None:
+    """Run in the forked child: call `function`, pickle the outcome into the pipe, _exit."""
     code = 0
     try:
         signal.signal(signal.SIGTERM, signal.SIG_DFL)
         try:
-            outcome = ("ok", {name: work[name]() for name in aside})
+            outcome = ("ok", function())
         except BaseException as err:  # noqa: BLE001 - every failure goes back to the parent
+            # its traceback stays here: the frames go back as text, in a note on it
+            err.add_note("in the second process:\n"
+                         + "".join(traceback.format_tb(err.__traceback__)).rstrip())
             outcome = ("error", err)
         try:
             payload = pickle.dumps(outcome, protocol=pickle.HIGHEST_PROTOCOL)

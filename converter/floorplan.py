@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, fields
 from types import MappingProxyType
 from typing import TYPE_CHECKING, Mapping
 
@@ -232,6 +232,12 @@ class FloorPlan:
 
     def __post_init__(self):
         object.__setattr__(self, "regions", MappingProxyType(dict(self.regions)))
+
+    def __reduce__(self):
+        """Pickled (a plan read in a second process comes back so) with its regions as a dict:
+        a mapping proxy does not pickle."""
+        return type(self), tuple(dict(self.regions) if name == "regions" else getattr(self, name)
+                                 for name in (field.name for field in fields(self)))
 
     @property
     def obstacles(self) -> dict[str, MultiPolygon]:

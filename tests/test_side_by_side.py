@@ -14,7 +14,7 @@ from pathlib import Path
 import pytest
 
 from clearway.errors import ClearwayError
-from clearway.side_by_side import can_fork, side_by_side
+from clearway.side_by_side import Aside, can_fork, side_by_side
 
 ROOT = Path(__file__).resolve().parent.parent
 SAMPLE = ROOT / "sample_drawings" / "distribution_centre.dxf"
@@ -166,4 +166,62 @@ def test_an_interrupt_while_rendering_leaves_no_second_process(tmp_path, signum)
     process.wait(timeout=60)
     time.sleep(0.2)
     # the forked child has the build's command line: none may be left running
+    assert not [pid for pid, _, command in _processes() if str(out).encode() in command]
+
+
+@needs_fork
+def test_aside_runs_while_the_block_runs_and_its_error_keeps_the_child_traceback(one_thread):
+    here = os.getpid()
+    with Aside(os.getpid) as child:
+        assert child.result() != here and child.result() == child.result()
+
+    def deep():
+        raise ClearwayError("plan.dxf: no walls")
+    with pytest.raises(ClearwayError, match="plan.dxf: no walls") as caught:
+        with Aside(lambda: deep()) as child:
+            child.result()
+    # the frames of the second process come back as text
+    assert any("in deep" in note for note in caught.value.__notes__)
+
+
+@needs_fork
+def test_leaving_the_block_first_stops_the_child(one_thread):
+    before, start = _children(), time.monotonic()
+    with pytest.raises(ValueError, match="here"):
+        with Aside(lambda: time.sleep(30)):
+            raise ValueError("here")
+    assert time.monotonic() - start < 10 and _children() <= before
+
+
+@needs_fork
+def test_a_plan_read_in_the_second_process_comes_back_whole(one_thread):
+    from clearway.converter import read_floorplan
+    with Aside(lambda: read_floorplan(SAMPLE)) as child:
+        there = child.result()
+    here = read_floorplan(SAMPLE)
+    # the regions come back as a read-only mapping, every geometry coordinate for coordinate
+    assert there == here and type(there.regions) is type(here.regions)
+    assert all(there.regions[role].equals_exact(here.regions[role], 0) for role in here.regions)
+
+
+@needs_fork
+@pytest.mark.parametrize("signum", [signal.SIGINT, signal.SIGTERM], ids=["SIGINT", "SIGTERM"])
+def test_an_interrupt_while_reading_leaves_no_second_process(tmp_path, signum):
+    sys.path.insert(0, str(ROOT))
+    from benchmarks.synthetic import write_style
+    drawing, out = tmp_path / "hall.dxf", tmp_path / "out"
+    write_style(str(drawing), "current", 3000)          # read for about a second
+    # (a shell without job control starts its background jobs with SIGINT ignored)
+    process = subprocess.Popen([sys.executable, "-m", "clearway", "build", str(drawing), "-o",
+                                str(out)], stderr=subprocess.PIPE, text=True,
+                               preexec_fn=lambda: signal.signal(signal.SIGINT, signal.SIG_DFL))
+    deadline = time.monotonic() + 60
+    while not [pid for pid, ppid, _ in _processes() if ppid == process.pid]:
+        assert time.monotonic() < deadline and process.poll() is None
+        time.sleep(0.01)
+    process.send_signal(signum)
+    process.stderr.read()
+    process.wait(timeout=60)
+    time.sleep(0.2)
+    assert process.returncode != 0 and not out.exists()
     assert not [pid for pid, _, command in _processes() if str(out).encode() in command]
