@@ -35,6 +35,7 @@ class OneLineErrorGroup(click.Group):
         if not standalone_mode:
             return super().main(args, prog_name, complete_var, standalone_mode=False, **extra)
         previous = signal.getsignal(signal.SIGINT)
+        _INTERRUPTED.clear()                 # one command's interrupts
         if previous is signal.default_int_handler:
             signal.signal(signal.SIGINT, _note_interrupt)
         try:

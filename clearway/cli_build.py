@@ -165,13 +165,33 @@ def _sigterm_as_exit(command):
             return command(*args, **kwargs)
 
         def terminate(signum, frame):
+            _SIGNALLED.append(signum)
             raise SystemExit(128 + signum)
         previous = signal.signal(signal.SIGTERM, terminate)
+        _SIGNALLED.clear()
         try:
             return command(*args, **kwargs)
         finally:
             signal.signal(signal.SIGTERM, previous)
     return wrapper
+
+
+#: SIGTERMs that reached a running build (see _sigterm_as_exit).
+_SIGNALLED: list[int] = []
+
+
+def _stop_if_signalled() -> None:
+    """Stop as the signal asked if SIGINT or SIGTERM came while modules were imported.
+
+    A signal inside the import of a compiled module comes back as an ImportError, which a
+    library importing an optional module of its own catches and forgets; the build would
+    then go on to write its outputs as if nothing had been asked.
+    """
+    from clearway.cli import _INTERRUPTED
+    if _SIGNALLED:
+        raise SystemExit(128 + _SIGNALLED[-1])
+    if _INTERRUPTED:
+        raise KeyboardInterrupt
 
 
 @click.command()
@@ -268,6 +288,7 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
                                             render_graphml, render_id_sheet, render_report,
                                             render_svg, render_tables, write_outputs)
             from clearway.roadmap import build_roadmap, carry_ids_over, site_warnings
+            _stop_if_signalled()
             plan, refused = reader.result()
         if refused is not None:
             raise InputError(refused)
