@@ -73,9 +73,10 @@ def _count(number: int, singular: str, plural: str = "") -> str:
     return f"{number} {singular if number == 1 else plural or singular + 's'}"
 
 
-def _summary(plan, roadmap, outdir: str, names=BUILD_FILES) -> list[str]:
+def _summary(plan, roadmap, outdir: str, names=BUILD_FILES, counts=None) -> list[str]:
+    """The lines printed after a build (`counts`: its report data, when already made)."""
     from clearway.exporters import report_data
-    counts = report_data(plan, roadmap)
+    counts = report_data(plan, roadmap) if counts is None else counts
     findings = roadmap.findings
     unreachable = [s for s in findings.stations if not s.reachable]
     lines = [f"{plan.source}: {counts['counts']['edges']} lanes, "
@@ -286,7 +287,8 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
             from clearway.diagnosis import check_lanes
             from clearway.exporters import (clearance_band, oriented_edges, render_geojson,
                                             render_graphml, render_id_sheet, render_report,
-                                            render_svg, render_tables, write_outputs)
+                                            render_svg, render_tables, report_data,
+                                            write_outputs)
             from clearway.roadmap import build_roadmap, carry_ids_over, site_warnings
             _stop_if_signalled()
             plan, refused = reader.result()
@@ -323,11 +325,13 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
         band = clearance_band(plan, roadmap)
         # the lanes as written (ids, ends, coordinates), which four of the outputs list
         edges = oriented_edges(roadmap.graph)
+        # report.json, and the summary printed at the end
+        report = report_data(plan, roadmap)
         renderers = dict(zip(names, (
             lambda: render_graphml(plan, roadmap, edges=edges),
             lambda: render_geojson(plan, roadmap, anchor=anchor, edges=edges),
             lambda: render_svg(plan, roadmap, date=_drawing_date(plan), band=band, edges=edges),
-            lambda: render_report(plan, roadmap),
+            lambda: render_report(plan, roadmap, data=report),
             lambda: html_page(plan, roadmap, _drawing_date(plan), previous_graph, band=band,
                               edges=edges))))
         # the preview takes about as long as the other outputs together: on a large graph
@@ -351,7 +355,7 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
         write_outputs(outdir, files)
     except OSError as err:
         raise InputError(f"{outdir}: cannot write outputs ({err.strerror or err})") from None
-    for line in _summary(plan, roadmap, outdir, list(files)):
+    for line in _summary(plan, roadmap, outdir, list(files), report):
         say(line)
     unreachable = sum(1 for s in roadmap.findings.stations if not s.reachable)
     if strict and (unreachable or plan.leaks):

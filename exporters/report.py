@@ -134,17 +134,20 @@ def _left_out(layer) -> dict:
 
 
 @paused_collector()  # many small containers, none in a cycle: see collector.py
-def render_report(plan, roadmap) -> bytes:
+def render_report(plan, roadmap, *, data=None) -> bytes:
     """Return report.json bytes (UTF-8, indented, deterministic, no timestamps).
 
     Parameters
     ----------
     plan : converter.floorplan.FloorPlan
     roadmap : roadmap.model.Roadmap
+    data : dict, optional
+        ``report_data(plan, roadmap)`` when the caller has it already.
 
     Returns
     -------
     bytes
     """
-    text = json.dumps(report_data(plan, roadmap), ensure_ascii=False, indent=2, allow_nan=False)
+    data = report_data(plan, roadmap) if data is None else data
+    text = json.dumps(data, ensure_ascii=False, indent=2, allow_nan=False)
     return (text + "\n").encode("utf-8")

@@ -218,7 +218,7 @@ def test_a_failing_last_exporter_leaves_the_previous_outputs(built, tmp_path, mo
     assert result.exit_code == 0
     before = _snapshot(tmp_path)
 
-    def broken(plan, roadmap):
+    def broken(plan, roadmap, **options):
         raise RuntimeError("simulated crash in the report exporter")
     monkeypatch.setattr(clearway.exporters, "render_report", broken)
     result = run("--debug", "build", SAMPLES / "clinic.dxf", "-o", tmp_path, "--robot-radius",
