@@ -2,12 +2,12 @@
 
 Qhull's time grows about linearly with the samples of these floors (measured here on the
 mixed suite drawing tiled 1, 4 and 8 times: 11, 11 and 12 us a point) and its memory is about
-0.7 KiB a point. Below SPLIT_POINTS samples (or when the caller asks for no split) one call
-triangulates them all, and its neighbours come with it. From SPLIT_POINTS on they are
-triangulated in strips along the longer axis: two, or one per STRIP_POINTS when there are
-more, each with a margin of its neighbours' points; the first half of the strips here and
-the second half in a forked second process where that is possible (clearway.side_by_side),
-on two cores in about half the time. The strips are the same either way, so the result is.
+0.7 KiB a point. Up to 2 x STRIP_POINTS samples (or below `split_points`, when a caller
+sets it) one call triangulates them all, and its neighbours come with it. Beyond, they are
+triangulated in strips along the longer axis: one per STRIP_POINTS (two at least from
+`split_points`), each with a margin of its neighbours' points; the first half of the strips
+here and the second half in a forked second process where that is possible
+(clearway.side_by_side). The strips are the same either way, so the result is.
 
 A triangle of a strip is a triangle of the whole triangulation when its circumcircle lies
 inside the strip's band (the band holds every point there, and the circle holds none of
@@ -33,12 +33,17 @@ from scipy.spatial import Delaunay
 
 from clearway.side_by_side import side_by_side
 
-#: Points per strip; from SPLIT_POINTS to twice as many make two strips.
+#: Points per strip where there are more than twice as many.
 STRIP_POINTS = 300_000
 #: Samples from which the triangulation is made in strips (two at least), side by side in two
-#: processes where possible: about a second of Qhull here, of which the second process saves
-#: about 0.4 s (the strips' margins and matching their neighbours cost the rest).
-SPLIT_POINTS = 90_000
+#: processes where possible; None: only beyond 2 x STRIP_POINTS, for memory. Off by default:
+#: with the fixed first margin, a floor with wide open areas where the strips meet has its
+#: strips redone, each with twice the margin. On the angled suite drawing at 20,000 bays
+#: (112,000 samples) each strip was triangulated three times (8, 16 and 32 m), 3.4 s of
+#: Qhull CPU against 1.3 s for one call. Where no strip is redone (current, 95,000 samples)
+#: the two strips take 0.84 and 0.71 s CPU side by side against 1.22 s for one call. Margins
+#: sized from the floor's clearance where the strips meet would let it earn its place.
+SPLIT_POINTS = None
 #: First margin of each strip, metres.
 MARGIN = 8.0
 #: scipy's options for 2-D Delaunay ("Qbb Qc Qz Q12", with "Qt") plus "Q5": Qhull then
