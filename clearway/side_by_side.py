@@ -3,14 +3,15 @@
 Three uses, each of work that does not depend on the rest:
 
 - `clearway build` reads the drawing in the second process while this one imports the
-  roadmap stage and the exporters (about half a second of start-up), and gets the floor
-  plan back;
+  roadmap stage and the exporters (a few tenths of a second of start-up), and gets the
+  floor plan back;
 - the five outputs of a build are made from the same finished roadmap. On a 20,000-bay
   warehouse the preview (label placement, path text) takes about as long as the other four
   together, so a second process that renders it while this one renders the rest shortens
   the output stage by close to half on two cores;
-- the Delaunay triangulation of many boundary samples is made in strips
-  (clearway.roadmap.delaunay), half of them in the second process.
+- the Delaunay triangulation of a floor beyond 600,000 boundary samples (or from a
+  caller's `split_points`) is made in strips (clearway.roadmap.delaunay), half of them in
+  the second process.
 
 The child is a fork: it shares the caller's data copy-on-write and sends back only its
 results (one pickle through a pipe). It writes no file and prints nothing; this process
@@ -24,9 +25,8 @@ same either way: the work is a deterministic function of its inputs.
 
 An error in the child is raised here as if the work had run here (the exception is
 pickled back, with the child's traceback in a note; one that cannot be pickled arrives as a
-RuntimeError with its text). If this
-process stops first (an error in its own work, Ctrl-C, SIGTERM), the child is killed
-and reaped before the exception goes on.
+RuntimeError with its text). If this process stops first (an error in its own work, Ctrl-C,
+SIGTERM), the child is killed and reaped before the exception goes on.
 """
 
 from __future__ import annotations
