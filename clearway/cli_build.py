@@ -22,8 +22,10 @@ from clearway.roadmap import ROBOT_KINDS          # a constant: the stages load 
 
 
 #: Imported before the drawing is read in a second process: the reader and the roadmap stage
-#: both use them (numpy, GEOS, Qhull and the k-d tree, sparse graphs), and a fork shares them.
-SHARED_LIBRARIES = ("numpy", "shapely", "scipy.spatial", "scipy.sparse.csgraph")
+#: both use them, and a fork shares them. scipy is not among them: the reader does without
+#: it (clearway.converter.grouping), and this process imports it (about 0.35 s) while the
+#: other reads.
+SHARED_LIBRARIES = ("numpy", "shapely")
 #: The files `build` writes, in the order they are rendered.
 BUILD_FILES = ("roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json", "roadmap.html")
 #: Lanes from which the preview renders in a second process. The fork costs about 0.01 s; the

@@ -15,6 +15,7 @@ from dataclasses import dataclass
 import numpy as np
 import shapely
 
+from clearway.converter.grouping import pairs_within
 from clearway.converter.openings import arc_radius
 from clearway.converter.units import UNITS_TO_M
 
@@ -194,18 +195,15 @@ def _nearest_parallel(a, b):
         return empty
     a, b, unit, middle, length = a[finite], b[finite], unit[finite], middle[finite], length[finite]
     taken = taken[finite]
-    from scipy.spatial import cKDTree
-    tree = cKDTree(middle)
     reach = float(np.median(length)) * 2 + 1e-9
     if not np.isfinite(reach) or np.abs(middle).max() > 1e15:
         return empty  # absurd coordinates: refused by the limits later, not measured here
-    # every (segment, neighbour) pair at once: a Python loop over pairs cost a third of a
-    # second on a floor of a few thousand wall segments
-    neighbours = tree.query_ball_point(middle, reach)
-    i = np.repeat(np.arange(len(middle)), [len(found) for found in neighbours])
-    j = np.fromiter((index for found in neighbours for index in found), dtype=np.intp, count=len(i))
+    # every (segment, neighbour) pair at once, each way round: a Python loop over pairs cost
+    # a third of a second on a floor of a few thousand wall segments
+    one, other = pairs_within(middle, reach)
+    i, j = np.concatenate([one, other]), np.concatenate([other, one])
     cosine = unit[i, 0] * unit[j, 0] + unit[i, 1] * unit[j, 1]
-    pair = (i != j) & (np.abs(cosine) >= 0.995)
+    pair = np.abs(cosine) >= 0.995
     i, j = i[pair], j[pair]
     offset = middle[j] - a[i]
     gap = np.abs(unit[i, 0] * offset[:, 1] - unit[i, 1] * offset[:, 0])

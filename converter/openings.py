@@ -17,6 +17,7 @@ from dataclasses import dataclass
 import numpy as np
 import shapely
 
+from clearway.converter.grouping import pairs_within
 from clearway.converter.polygons import segments
 
 #: Gaps wider than these are not openings of that kind (metres): an open gap with nothing
@@ -105,12 +106,10 @@ def close_open_wall_ends(lines, *, max_thickness, tolerance=0.01):
     free = np.flatnonzero(counts[inverse.ravel()] == 1)
     if len(free) < 2:
         return np.empty(0, dtype=object)
-    from scipy.spatial import cKDTree
-    tree = cKDTree(ends[free])
-    pairs = tree.query_pairs(max_thickness, output_type="ndarray")
-    if not len(pairs):
+    first, second = pairs_within(ends[free], max_thickness)
+    if not len(first):
         return np.empty(0, dtype=object)
-    a, b = free[pairs[:, 0]], free[pairs[:, 1]]
+    a, b = free[first], free[second]
     across = ends[b] - ends[a]
     length = np.hypot(across[:, 0], across[:, 1])
     ok = length > tolerance
@@ -364,16 +363,23 @@ def _merge_pairs(gaps):
     if len(gaps) < 2:
         return gaps
     middles = np.array([gap.middle for gap in gaps])
-    from scipy.spatial import cKDTree
-    tree = cKDTree(middles)
+    reach = np.array([0.05 + 0.05 * gap.width for gap in gaps])
+    near = {index: [] for index in range(len(gaps))}     # the gaps within each one's reach
+    one, other = pairs_within(middles, float(reach.max()))
+    apart = np.hypot(*(middles[one] - middles[other]).T)
+    for i, j, distance in zip(one.tolist(), other.tolist(), apart.tolist()):
+        if distance <= reach[i]:
+            near[i].append(j)
+        if distance <= reach[j]:
+            near[j].append(i)
     order = sorted(range(len(gaps)), key=lambda i: (-gaps[i].depth, gaps[i].width))
     kept, dropped = [], set()
     for index in order:
         if index in dropped:
             continue
         kept.append(gaps[index])
-        for other in tree.query_ball_point(middles[index], 0.05 + 0.05 * gaps[index].width):
-            if other != index and abs(gaps[other].width - gaps[index].width) < 0.05 + 0.05 * gaps[index].width:
+        for other in near[index]:
+            if abs(gaps[other].width - gaps[index].width) < reach[index]:
                 dropped.add(other)
     return sorted(kept, key=lambda gap: (round(gap.middle[0], 4), round(gap.middle[1], 4)))
 

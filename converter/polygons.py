@@ -9,6 +9,8 @@ from __future__ import annotations
 import numpy as np
 import shapely
 
+from clearway.converter.grouping import components
+
 #: Closing widths (metres) tried, smallest first, when looking for gaps in the enclosure.
 LEAK_WIDTHS = (0.25, 0.5, 1.0, 2.0, 4.0, 8.0)
 
@@ -99,9 +101,6 @@ def coverage_union(polygons):
 
 def _coverage_union_by_group(polygons, *, min_groups=16, min_size=4):
     """The coverage union of `polygons` as `coverage_union` describes, or None."""
-    from scipy.sparse import coo_matrix
-    from scipy.sparse.csgraph import connected_components
-
     count = len(polygons)
     if count < min_groups * min_size:
         return None
@@ -111,8 +110,7 @@ def _coverage_union_by_group(polygons, *, min_groups=16, min_size=4):
     vertex = np.empty(len(xy), dtype=int)
     vertex[sort] = np.cumsum(new) - 1                    # the same number for the same point
     nodes = count + int(vertex.max()) + 1
-    links = coo_matrix((np.ones(len(owner)), (owner, count + vertex)), shape=(nodes, nodes))
-    _, label = connected_components(links, directed=False)
+    label = components(nodes, owner, count + vertex)
     _, label = np.unique(label[:count], return_inverse=True)
     label = label.ravel()
     groups = int(label.max()) + 1
@@ -692,9 +690,6 @@ def beam_rows(lines, walls=None):
     >>> sorted(round(strip.area, 9) for strip in rows)
     [22.0, 22.0]
     """
-    from scipy.sparse import coo_matrix
-    from scipy.sparse.csgraph import connected_components
-
     none = np.empty(0, dtype=object)
     lines = segments(lines)
     lines = lines[shapely.length(lines) >= ROW_MIN_LENGTH]
@@ -753,8 +748,7 @@ def beam_rows(lines, walls=None):
     # a contradiction anywhere in a block of rows (lines joined by gaps) leaves the whole
     # block as drawn
     first, second = gaps // len(lines), gaps % len(lines)
-    _, block = connected_components(coo_matrix((np.ones(len(gaps)), (first, second)),
-                                               shape=(len(lines), len(lines))), directed=False)
+    block = components(len(lines), first, second)
     spoilt = np.isin(block, block[first[label == 2]])
     rack = (label[gap_of] == 1) & ~spoilt[left]
     # each rack gap once, over the common stretch seen from one of its lines
@@ -987,17 +981,13 @@ def union_touching(polygons):
     >>> len(merged.geoms), merged.area, merged.equals(shapely.union_all(parts))
     (2, 4.0, True)
     """
-    from scipy.sparse import coo_matrix
-    from scipy.sparse.csgraph import connected_components
-
     polygons = np.asarray(polygons, dtype=object)
     polygons = polygons[~shapely.is_empty(polygons)] if len(polygons) else polygons
     count = len(polygons)
     if count < 2:
         return as_multipolygon(shapely.union_all(polygons))
     left, right = shapely.STRtree(polygons).query(polygons, predicate="intersects")
-    links = coo_matrix((np.ones(len(left)), (left, right)), shape=(count, count))
-    _, label = connected_components(links, directed=False)
+    label = components(count, left, right)
     order = np.argsort(label, kind="stable")
     start = np.searchsorted(label[order], np.arange(label.max() + 2))
     pieces = []
