@@ -120,7 +120,10 @@ def close_open_wall_ends(lines, *, max_thickness, tolerance=0.01):
         (np.abs(np.sum(unit * inward[b], axis=1)) < 0.26)
     keep = ok & parallel & same_way & square
     a, b, length = a[keep], b[keep], length[keep]
-    # each free end joins its nearest partner only
+    # each free end joins its nearest partner only; between partners equally near, the pair
+    # drawn first (the pairs come in the order of their ends' lines), so the choice does not
+    # depend on a search tree's internal order (a row of stair treads 0.25 m apart pairs
+    # from its first end)
     order = np.argsort(length, kind="stable")
     used, closers = set(), []
     for index in order:
