@@ -229,6 +229,48 @@ def test_union_tiling_says_when_the_pieces_lie_exactly_inside():
     assert not tiled and merged.equals(shapely.union_all(overlapping))
 
 
+def rotated_double_row(bays, angle, *, width=2.7, depth=1.1, grid=1e-4):
+    """Back-to-back rows of bays rotated by `angle` degrees, each bay's insertion point
+    rounded to `grid` (as a drawing stores it) and its corners placed from there."""
+    theta = np.radians(angle)
+    along, across = np.array([np.cos(theta), np.sin(theta)]), np.array([-np.sin(theta), np.cos(theta)])
+    tiles = []
+    for side in (0, 1):
+        for k in range(bays):
+            origin = np.round((k * width * along + side * depth * across) / grid) * grid
+            corners = [origin, origin + width * along, origin + width * along + depth * across,
+                       origin + depth * across]
+            tiles.append(shapely.Polygon(corners))
+    return np.array(tiles)
+
+
+@pytest.mark.parametrize("angle", [17.0, 30.0, 61.3])
+def test_rotated_bays_that_almost_meet_are_united_by_snapping(angle):
+    from clearway.converter.polygons import TILE_SNAP, union_tiling
+    bays = rotated_double_row(40, angle)
+    merged, tiled = union_tiling(bays)
+    # source: shapely's exact union_all as the reference; the snapped union differs from it
+    # by less than TILE_SNAP everywhere (both ways), and the 0.1 mm slits that rounding
+    # leaves between the rows are closed: one polygon for the double row
+    exact = shapely.union_all(bays)
+    assert not tiled
+    assert shapely.difference(merged, shapely.buffer(exact, TILE_SNAP)).is_empty
+    assert shapely.difference(exact, shapely.buffer(merged, TILE_SNAP)).is_empty
+    assert len(merged.geoms) == 1 and len(merged.geoms[0].interiors) == 0
+    # analytic: 80 bays of 2.7 x 1.1 m, each side moved by at most TILE_SNAP
+    assert merged.area == pytest.approx(80 * 2.7 * 1.1, abs=80 * 2 * (2.7 + 1.1) * TILE_SNAP)
+
+
+def test_snap_corners_declines_chains_and_far_corners():
+    from clearway.converter.polygons import snap_corners
+    # source: analytic: corners 0.15 mm apart in a chain three long span 0.3 mm > 0.2 mm
+    chain = np.array([shapely.box(0, 0, 1, 1), shapely.box(1.00015, 0, 2, 1),
+                      shapely.box(1.0003, 1, 2, 2)])
+    assert snap_corners(chain, 2e-4) is None
+    apart = np.array([shapely.box(0, 0, 1, 1), shapely.box(1.001, 0, 2, 1)])
+    assert snap_corners(apart, 2e-4) is None
+
+
 def test_covered_agrees_with_shapely_covered_by():
     from clearway.converter.polygons import covered, union_tiling
     rng = np.random.default_rng(11)
