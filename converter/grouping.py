@@ -88,8 +88,9 @@ def pairs_within(points, reach: float) -> tuple[np.ndarray, np.ndarray]:
     reach = float(reach)
     low = points.min(axis=0)
     span = points.max(axis=0) - low
-    # a cell no smaller than a 2**-40 share of the extents, so the cell numbers fit in int64
-    cell = max(reach, float(span.max()) * 2.0 ** -40, 1e-300)
+    # a cell no smaller than a 2**-30 share of the extents: at most 2**30 cells a side, so
+    # the cell numbers (column * cells a column + row) fit in int64
+    cell = max(reach, float(span.max()) * 2.0 ** -30, 1e-300)
     key = np.floor((points - low) / cell).astype(np.int64)
     width = int(key[:, 1].max()) + 3                    # cells per column, with room around
     code = (key[:, 0] + 1) * width + (key[:, 1] + 1)

@@ -91,7 +91,7 @@ def _tiled_union(polygons):
 
 
 def snap_corners(polygons, tolerance):
-    """`polygons` with corners less than `tolerance` apart moved onto one of them, or None
+    """`polygons` with corners at most `tolerance` apart moved onto one of them, or None
     when no corner moves, a group of such corners spans more than `tolerance` or a moved
     polygon is not valid.
 
@@ -104,7 +104,7 @@ def snap_corners(polygons, tolerance):
     >>> [p.bounds for p in snap_corners(bays, 2e-4)]
     [(0.0, 0.0, 2.7, 1.1), (2.7, 0.0, 5.4, 1.1)]
     """
-    xy, owner = shapely.get_coordinates(polygons, return_index=True)
+    xy = shapely.get_coordinates(polygons)
     corners, which = np.unique(xy, axis=0, return_inverse=True)
     which = which.ravel()
     near, other = pairs_within(corners, tolerance)

@@ -93,11 +93,16 @@ def test_pairs_within_are_kdtree_pairs(points, reach, snap):
 
 
 def test_pairs_within_far_apart_coordinates():
-    # coordinates 1e12 apart with a 1 m reach: the cells are coarsened, not overflowed
-    # source: analytic
-    points = np.array([(0.0, 0.0), (0.5, 0.0), (1e12, 1e12), (1e12 + 0.6, 1e12)])
+    # coordinates 1e12 apart with a 1 m reach: the cells are coarsened so that their numbers
+    # stay within int64, and every pair is still found
+    # source: analytic, and scipy's cKDTree on the same points
+    rng = np.random.default_rng(3)
+    corners = np.array([(0.0, 0.0), (1e12, 1e12), (0.0, 1e12), (1e12, 0.0), (3e11, 7e11)])
+    points = np.concatenate([corner + rng.uniform(0, 2.0, (40, 2)) for corner in corners])
     i, j = pairs_within(points, 1.0)
-    assert list(zip(i.tolist(), j.tolist())) == [(0, 1), (2, 3)]
+    expected = sorted(cKDTree(points).query_pairs(1.0))
+    assert list(zip(i.tolist(), j.tolist())) == expected
+    assert (i // 40 == j // 40).all()         # no pair across corners 3e11 m or more apart
 
 
 READ = """
