@@ -124,8 +124,29 @@ def _polyline(entity, tolerance, limit):
 
 
 def _arc_or_circle(entity, tolerance, limit):
-    xy = _xy(entity.flattening(tolerance), limit)
-    return [(xy, ARC if entity.dxftype() == "ARC" else CLOSED)]
+    kind = ARC if entity.dxftype() == "ARC" else CLOSED
+    radius = abs(entity.dxf.radius)
+    if _beyond_segment_count(radius, tolerance):
+        # two chords, each spanning at most half a turn, depart from the arc by at most its
+        # radius, which is within the tolerance (ezdxf's own angles and vertices)
+        if kind == ARC:
+            start, end = entity.dxf.start_angle, entity.dxf.end_angle
+            sweep = (end - start) % 360.0 or 360.0
+            angles = [start, start + sweep / 2, start + sweep]
+        else:
+            angles = [0.0, 180.0, 360.0]
+        return [(_xy(entity.vertices(angles), limit), kind)]
+    return [(_xy(entity.flattening(tolerance), limit), kind)]
+
+
+def _beyond_segment_count(radius, tolerance):
+    """True where ezdxf's arc_segment_count is wrong: a radius between half the tolerance
+    and the tolerance (a sub-millimetre circle in a drawing in millimetres). It takes the
+    chord for a sagitta greater than the radius as the chord of the smaller arc, whose
+    angle goes to 0 as the sagitta nears the diameter: 105,414,358 segments for a circle
+    of radius 0.5000000000000001 at a tolerance of 1, which the vertex limit refused with
+    the whole drawing. At or under half the tolerance it returns 1, and at the tolerance 2."""
+    return tolerance / 2 < radius < tolerance
 
 
 def _circle(entity, tolerance, limit):
@@ -142,7 +163,8 @@ def _circle(entity, tolerance, limit):
         return _arc_or_circle(entity, tolerance, limit)
     if radius <= 0.0:
         return [(np.zeros((0, 2)), CLOSED)]
-    count = arc_segment_count(radius, math.tau, tolerance)
+    count = 2 if _beyond_segment_count(radius, tolerance) else \
+        arc_segment_count(radius, math.tau, tolerance)
     if limit is not None and count + 1 > limit:
         raise TooMany(limit)
     # numpy's product and sum round each element as one float operation does, as ezdxf's

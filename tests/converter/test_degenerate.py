@@ -111,3 +111,30 @@ def test_zero_radius_arc_and_spline_with_repeated_points(tmp_path):
     assert plan.regions["racking"].area == pytest.approx(1.0, abs=1e-6)
     assert plan.free_space.area == pytest.approx(FLOOR - 1.0, abs=1e-3)
     assert all(np.isfinite(shapely.bounds(plan.free_space)))
+
+
+@pytest.mark.parametrize("radius", [0.5000000000000001, 0.5000000000000003, 0.75, 0.999])
+def test_sub_millimetre_circles_and_arcs_in_a_drawing_in_millimetres(tmp_path, radius):
+    # A drawing in mm reads curves to a 1 mm chord tolerance: 1 drawing unit. For a radius
+    # between half that and all of it, ezdxf's segment count takes the chord of the smaller
+    # arc and asks for up to 105 million segments; the vertex limit then refused the whole
+    # drawing over one tiny circle (a real plan with 0.5 mm circles on a wall layer).
+    from clearway.converter.entities import READERS
+    doc = ezdxf.new("R2010", units=4)
+    msp = doc.modelspace()
+    for inset in (0.0, 200.0):
+        corners = [(inset, inset), (10000 - inset, inset), (10000 - inset, 8000 - inset),
+                   (inset, 8000 - inset)]
+        msp.add_lwpolyline(corners, close=True, dxfattribs={"layer": "A-WALL"})
+    circle = msp.add_circle((100.0, 100.0), radius, dxfattribs={"layer": "A-WALL"})
+    arc = msp.add_arc((100.0, 4000.0), radius, 10.0, 350.0, dxfattribs={"layer": "A-WALL"})
+    for entity in (circle, arc):
+        (xy, _), = READERS[entity.dxftype()](entity, 1.0, 100_000)
+        # source: analytic: every vertex lies on the circle, and a chord spanning at most
+        # half a turn departs from its arc by at most the radius, within the 1.0 tolerance
+        centre = np.array([entity.dxf.center.x, entity.dxf.center.y])
+        assert len(xy) == 3
+        assert np.allclose(np.hypot(*(xy - centre).T), radius, rtol=0, atol=1e-9)
+    plan = _read(doc, tmp_path)
+    # analytic: a 10 x 8 m room with 0.2 m walls has a 9.6 x 7.6 m floor
+    assert plan.free_space.area == pytest.approx(FLOOR, abs=1e-6)
