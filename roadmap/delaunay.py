@@ -1,26 +1,26 @@
-"""Delaunay triangulation of many boundary samples: one Qhull call, or strips side by side.
+"""Delaunay triangulation of many boundary samples: in one piece, or in strips side by side.
 
-Qhull's time grows about linearly with the samples of these floors (measured here on the
-mixed suite drawing tiled 1, 4 and 8 times: 11, 11 and 12 us a point) and its memory is about
-0.7 KiB a point. Up to 2 x STRIP_POINTS samples (or below `split_points`, when a caller
+The triangulator is startinpy (MIT; Rust, incremental insertion with exact orientation and
+in-circle predicates), the points inserted in Morton (Z-) order so that each walk to the
+next point is short. On the boundary samples of the suite's 20,000-bay drawings it took 0.98,
+0.22 and 0.27 s (`mixed`, `angled`, `flue_sealed`: 433,000, 108,000 and 114,000 points)
+where scipy's Qhull took 3.46, 0.80 and 0.85 s, about 0.7 KiB a point either way. Its
+predicates are exact, so the triangulation is the Delaunay triangulation of the jittered
+points, which is unique; Qhull's floating-point hull gave 978 of the 866,598 triangles of
+`mixed` the other way, across four points on one circle to within its rounding. Up to 2 x
+STRIP_POINTS samples (or below `split_points`, when a caller
 sets it) one call triangulates them all, and its neighbours come with it. Beyond, they are
 triangulated in strips along the longer axis: one per STRIP_POINTS (two at least from
 `split_points`), each with a margin of its neighbours' points; the first half of the strips
 here and the second half in a forked second process where that is possible
 (clearway.side_by_side). The strips are the same either way, so the result is.
+Neighbours are found by matching the triangles' edges (:func:`neighbours_of`).
 
 A triangle of a strip is a triangle of the whole triangulation when its circumcircle lies
 inside the strip's band (the band holds every point there, and the circle holds none of
 them); each is kept by the strip holding its circumcentre. A triangle whose circle leaves the
 band matters only when its circumcentre lies in the free space (a Voronoi vertex); then the
-strip is done again with twice the margin. Neighbours are then found by matching the
-triangles' edges.
-
-Where four or more samples lie on one circle to within rounding (regular samples on
-parallel faces, less the micrometre jitter), the triangulation is not unique and Qhull's
-choice depends on the points it is given: a strip may split such a quadrilateral the other
-way than one call over all points would. Both are Delaunay triangulations with the same
-circumcentres, to rounding.
+strip is done again with twice the margin.
 """
 
 from __future__ import annotations
@@ -29,7 +29,7 @@ from typing import Callable
 
 import numpy as np
 import shapely
-from scipy.spatial import Delaunay
+import startinpy
 
 from clearway.side_by_side import side_by_side
 
@@ -40,18 +40,17 @@ STRIP_POINTS = 300_000
 #: with the fixed first margin, a floor with wide open areas where the strips meet has its
 #: strips redone, each with twice the margin. On the angled suite drawing at 20,000 bays
 #: (112,000 samples) each strip was triangulated three times (8, 16 and 32 m), 3.4 s of
-#: Qhull CPU against 1.3 s for one call. Where no strip is redone (current, 95,000 samples)
+#: Qhull CPU against 1.3 s for one call (measured before startinpy replaced Qhull). Where no strip is redone (current, 95,000 samples)
 #: the two strips take 0.84 and 0.71 s CPU side by side against 1.22 s for one call. Margins
 #: sized from the floor's clearance where the strips meet would let it earn its place.
 SPLIT_POINTS = None
 #: First margin of each strip, metres.
 MARGIN = 8.0
-#: scipy's options for 2-D Delaunay ("Qbb Qc Qz Q12", with "Qt") plus "Q5": Qhull then
-#: skips its last pass, which measures how far each point lies above the facets (the outer
-#: planes; for its precision report and its list of near-coplanar points, none here after
-#: the jitter). The triangles and neighbours are the same, bit for bit, on the suite and
-#: sample drawings; Qhull takes about 15 % less time (433,000 samples: 6.3 -> 5.3 s CPU).
-QHULL_OPTIONS = "Qbb Qc Qz Q12 Qt Q5"
+#: Points nearer each other than this are one vertex to startinpy (metres; its default is
+#: 1 mm). The samples are jittered by a micrometre, so only a point given twice is.
+SNAP = 1e-9
+#: Bits of each coordinate in the Morton key of the insertion order.
+MORTON_BITS = 16
 
 
 def circumcircles(points: np.ndarray, simplices: np.ndarray):
@@ -65,6 +64,60 @@ def circumcircles(points: np.ndarray, simplices: np.ndarray):
         ux = (c[:, 1] * bb - b[:, 1] * cc) / d
         uy = (b[:, 0] * cc - c[:, 0] * bb) / d
     return a + np.stack([ux, uy], axis=1), np.hypot(ux, uy)
+
+
+def delaunay(points: np.ndarray) -> np.ndarray:
+    """The Delaunay triangles (T, 3) of `points` (N, 2), as indices into `points`.
+
+    Counter-clockwise. A point given twice is in no triangle but under its first index; where
+    all points lie on one line (or there are fewer than three) there are no triangles.
+
+    Examples
+    --------
+    >>> delaunay(np.array([[0.0, 0.0], [2.0, 0.0], [2.0, 1.0], [0.0, 1.5], [2.0, 0.0]]))
+    array([[0, 1, 2],
+           [0, 2, 3]])
+    """
+    points = np.asarray(points, dtype=float).reshape(-1, 2)
+    order = morton_order(points)
+    triangulation = startinpy.DT()
+    triangulation.snap_tolerance = SNAP
+    lifted = np.column_stack([points[order], np.zeros(len(points))])
+    triangulation.insert(lifted, insertionstrategy="AsIs")
+    if triangulation.number_of_vertices() == len(points):
+        index = order                 # vertex k + 1 is the k-th point inserted
+    else:                             # points given twice: where did each one go?
+        triangulation = startinpy.DT()
+        triangulation.snap_tolerance = SNAP
+        vertex = np.array([triangulation.insert_one_pt([x, y, 0.0])[0]
+                           for x, y in points[order].tolist()], dtype=np.int64)
+        index = np.zeros(triangulation.number_of_vertices(), dtype=np.int64)
+        first = np.unique(vertex, return_index=True)[1]
+        index[vertex[first] - 1] = order[first]
+    triangles = np.asarray(triangulation.triangles, dtype=np.int64).reshape(-1, 3)
+    return index[triangles - 1]
+
+
+def morton_order(points: np.ndarray, bits: int = MORTON_BITS) -> np.ndarray:
+    """Indices that sort `points` (N, 2) along a Morton (Z-order) curve on a 2**bits grid
+    over their bounding box; ties in drawing order.
+
+    Examples
+    --------
+    >>> morton_order(np.array([[1.0, 1.0], [0.0, 0.0], [1.0, 0.0], [0.0, 1.0]])).tolist()
+    [1, 2, 3, 0]
+    """
+    if len(points) == 0:
+        return np.zeros(0, dtype=np.int64)
+    low = points.min(axis=0)
+    span = float(np.ptp(points, axis=0).max()) or 1.0
+    cells = ((points - low) * ((2 ** bits - 1) / span)).astype(np.uint64)
+    key = np.zeros(len(points), dtype=np.uint64)
+    for bit in range(bits):
+        one = np.uint64(1 << bit)
+        key |= (cells[:, 0] & one) << np.uint64(bit)
+        key |= (cells[:, 1] & one) << np.uint64(bit + 1)
+    return np.argsort(key, kind="stable")
 
 
 def neighbours_of(simplices: np.ndarray) -> np.ndarray:
@@ -122,9 +175,9 @@ def triangulate(points: np.ndarray, free_space=None, *, strip_points: int = STRI
     if split_points is not None and count >= split_points:
         strips = max(strips, 2)
     if strips < 2 or free_space is None:
-        triangulation = Delaunay(points, qhull_options=QHULL_OPTIONS)
-        result = triangulation.simplices, triangulation.neighbors
-        return result if measure is None else (*result, measure(triangulation.simplices))
+        simplices = delaunay(points)
+        result = simplices, neighbours_of(simplices) if neighbours else None
+        return result if measure is None else (*result, measure(simplices))
     axis = int(np.argmax(np.ptp(points, axis=0)))
     along = points[:, axis]
     edges = np.quantile(along, np.linspace(0.0, 1.0, strips + 1))
@@ -152,7 +205,7 @@ def _strip(points, along, axis, low, high, free_space):
     margin = MARGIN
     while True:
         members = np.flatnonzero((along >= low - margin) & (along <= high + margin))
-        simplices = members[Delaunay(points[members], qhull_options=QHULL_OPTIONS).simplices]
+        simplices = members[delaunay(points[members])]
         centre, radius = circumcircles(points, simplices)
         mine = (centre[:, axis] >= low) & (centre[:, axis] < high)
         inside_band = (centre[:, axis] - radius >= low - margin) & \

@@ -6,7 +6,7 @@ to clearance >= c it is the GVD of the obstacles grown by c, the roadmap of maxi
 [CB00]_, [Lat91]_, [LaV06]_.
 
 Method: sample the free space's boundary every `step` metres plus every vertex, jitter the
-samples by a micrometre (Qhull is slow on regular grids), triangulate them (Delaunay), and
+samples by a micrometre (into general position), triangulate them (Delaunay), and
 take the circumcentres (the Voronoi vertices) that fall inside the free space, joined by the
 Voronoi ridges between samples that are not neighbours along the boundary. Each Voronoi
 vertex is then moved onto the exact bisector of the boundary segments its three samples lie
@@ -28,7 +28,6 @@ from dataclasses import dataclass
 
 import numpy as np
 import shapely
-from scipy.spatial import QhullError
 
 from clearway.roadmap.delaunay import circumcircles, triangulate
 from clearway.roadmap.inflate import boundary_segments
@@ -341,14 +340,13 @@ def medial_axis(free_space, *, step: float = 0.25, coarse: float | None = None,
     rng = np.random.default_rng(seed)
     coarse = 4 * step if coarse is None else max(float(coarse), step)
     shapely.prepare(free_space)
-    try:
-        xy, owner, successor = adaptive_samples(segments, previous, following, step,
-                                                coarse=coarse, rng=rng, free_space=free_space)
-        simplices, neighbours, (inside, corrected, clearance) = triangulate(
-            xy + rng.uniform(-JITTER, JITTER, xy.shape), free_space,
-            measure=lambda simplices: _voronoi_vertices(simplices, xy, owner, segments,
-                                                        previous, following, free_space))
-    except QhullError:
+    xy, owner, successor = adaptive_samples(segments, previous, following, step,
+                                            coarse=coarse, rng=rng, free_space=free_space)
+    simplices, neighbours, (inside, corrected, clearance) = triangulate(
+        xy + rng.uniform(-JITTER, JITTER, xy.shape), free_space,
+        measure=lambda simplices: _voronoi_vertices(simplices, xy, owner, segments,
+                                                    previous, following, free_space))
+    if not inside.any():
         return empty
     # Ridges: the Delaunay edge opposite vertex k of triangle t is shared with neighbour n.
     tri = np.repeat(np.arange(len(simplices)), 3)

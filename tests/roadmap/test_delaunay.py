@@ -1,12 +1,80 @@
-"""Strip-wise Delaunay triangulation against scipy's (Qhull's) triangulation of all points."""
+"""The Delaunay triangulation (startinpy, in one piece or in strips) against scipy's (Qhull's)
+triangulation of the same points and against the empty-circle property itself."""
 
 from __future__ import annotations
 
 import numpy as np
+import pytest
 import shapely
-from scipy.spatial import Delaunay
+from scipy.spatial import Delaunay, cKDTree
 
-from clearway.roadmap.delaunay import circumcircles, neighbours_of, triangulate
+from clearway.roadmap.delaunay import (circumcircles, delaunay, morton_order, neighbours_of,
+                                       triangulate)
+
+
+def _as_set(simplices):
+    return {tuple(t) for t in np.sort(simplices, axis=1).tolist()}
+
+
+def _twice_areas(points, simplices):
+    """Twice the signed area of each triangle (positive: counter-clockwise)."""
+    a, b, c = (points[simplices[:, k]] for k in range(3))
+    return (b[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1]) - (b[:, 1] - a[:, 1]) * (c[:, 0] - a[:, 0])
+
+
+def test_random_points_give_qhulls_triangles():
+    # points in general position have one Delaunay triangulation: Qhull's is it
+    rng = np.random.default_rng(11)
+    points = rng.uniform((-50, 0), (50, 30), (20_000, 2))
+    simplices = delaunay(points)
+    # source: scipy.spatial.Delaunay (Qhull), an independent triangulator
+    assert _as_set(simplices) == _as_set(Delaunay(points).simplices)
+    # counter-clockwise, as documented
+    assert (_twice_areas(points, simplices) > 0).all()
+
+
+def test_jittered_grid_triangles_have_empty_circumcircles():
+    # samples a step apart on parallel faces, jittered by a micrometre as the medial axis
+    # does: four points lie on one circle to within rounding all over
+    rng = np.random.default_rng(2)
+    x, y = np.meshgrid(np.arange(0.0, 60.0, 0.25), np.array([0.0, 1.3, 2.6, 9.0]))
+    points = np.column_stack([x.ravel(), y.ravel()]) + rng.uniform(-1e-6, 1e-6, (x.size, 2))
+    simplices = delaunay(points)
+    # source: Delaunay's empty-circle property (Delaunay 1934): no point strictly inside
+    # any triangle's circumcircle; up to the rounding of the circle itself
+    centre, radius = circumcircles(points, simplices)
+    nearest, _ = cKDTree(points).query(centre, k=1)
+    assert (nearest >= radius * (1 - 1e-9) - 1e-12).all()
+    # every point is a vertex, and the triangles tile the convex hull
+    # source: Euler's formula: a triangulation of n points, h of them on the convex hull,
+    # has 2n - 2 - h triangles
+    hull = shapely.MultiPoint(points).convex_hull
+    assert len(np.unique(simplices)) == len(points)
+    assert len(simplices) == 2 * len(points) - 2 - (len(hull.exterior.coords) - 1)
+    assert (_twice_areas(points, simplices) > 0).all()
+    assert 0.5 * _twice_areas(points, simplices).sum() == pytest.approx(hull.area, rel=1e-9)
+
+
+def test_points_given_twice_are_in_no_triangle_under_their_second_index():
+    rng = np.random.default_rng(4)
+    points = rng.uniform(0, 10, (300, 2))
+    doubled = np.concatenate([points, points[::3]])
+    simplices = delaunay(doubled)
+    assert _as_set(simplices) == _as_set(delaunay(points))
+    assert simplices.max() < len(points)
+
+
+def test_no_triangles_without_three_points_off_one_line():
+    assert delaunay(np.array([[0.0, 0.0], [1.0, 1.0], [2.0, 2.0]])).shape == (0, 3)
+    assert delaunay(np.zeros((0, 2))).shape == (0, 3)
+    assert delaunay(np.array([[0.0, 0.0], [1.0, 0.0]])).shape == (0, 3)
+
+
+def test_morton_order_visits_quadrants_in_z_order():
+    # source: Morton (1966), bits of x and y interleaved with x in the low bit
+    points = np.array([[3.0, 3.0], [0.0, 0.0], [3.0, 0.0], [0.0, 3.0], [1.0, 1.0]])
+    assert morton_order(points, bits=2).tolist() == [1, 4, 2, 3, 0]
+    assert morton_order(np.zeros((0, 2))).tolist() == []
 
 
 def test_strips_give_the_triangles_of_the_whole_triangulation():
