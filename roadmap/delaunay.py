@@ -121,24 +121,30 @@ def morton_order(points: np.ndarray, bits: int = MORTON_BITS) -> np.ndarray:
 
 
 def neighbours_of(simplices: np.ndarray) -> np.ndarray:
-    """Neighbour across the edge opposite each corner (T, 3), -1 where none."""
+    """Neighbour across the edge opposite each corner (T, 3), -1 where none.
+
+    Edges are numbered corner by corner (edge ``k * T + t`` is opposite corner k of
+    triangle t), matched through one sorted int64 key each: an edge of a triangulation
+    borders at most two triangles.
+
+    Examples
+    --------
+    >>> neighbours_of(np.array([[0, 1, 2], [0, 2, 3]])).tolist()
+    [[-1, 1, -1], [-1, -1, 0]]
+    """
     count = len(simplices)
-    first = np.concatenate([simplices[:, 1], simplices[:, 2], simplices[:, 0]])
-    second = np.concatenate([simplices[:, 2], simplices[:, 0], simplices[:, 1]])
+    first = simplices[:, [1, 2, 0]].T.ravel()
+    second = simplices[:, [2, 0, 1]].T.ravel()
     low, high = np.minimum(first, second), np.maximum(first, second)
-    owner = np.tile(np.arange(count), 3)
-    corner = np.repeat(np.arange(3), count)
-    # one int64 key per edge sorts faster than lexsort on two columns; stable, so the
-    # order is lexsort's
     key = low.astype(np.int64) * (int(high.max(initial=0)) + 1) + high
     order = np.argsort(key, kind="stable")
     ordered = key[order]
-    same = ordered[1:] == ordered[:-1]
-    a, b = order[:-1][same], order[1:][same]
-    result = np.full((count, 3), -1, dtype=np.int64)
-    result[owner[a], corner[a]] = owner[b]
-    result[owner[b], corner[b]] = owner[a]
-    return result
+    twice = np.flatnonzero(ordered[1:] == ordered[:-1])
+    a, b = order[twice], order[twice + 1]
+    flat = np.full(3 * count, -1, dtype=np.int64)
+    flat[a] = b % count
+    flat[b] = a % count
+    return np.ascontiguousarray(flat.reshape(3, count).T)
 
 
 def triangulate(points: np.ndarray, free_space=None, *, strip_points: int = STRIP_POINTS,
