@@ -37,7 +37,8 @@ from shapely.geometry import MultiPolygon, Polygon, mapping
 from clearway.collector import paused_collector
 from clearway.exporters.anchor import check_anchor, drawing_to_wgs84
 from clearway.exporters.graphml import oriented_edges
-from clearway.exporters.text import SAFETY_CAUTION, TOOL_VERSION, finite_or_none, json_text, natural_key
+from clearway.exporters.text import (SAFETY_CAUTION, TOOL_VERSION, compact_json, finite_or_none,
+                                     json_text, natural_key)
 
 #: Decimal places kept: 4 for metres (0.1 mm), 9 for degrees (about 0.1 mm of latitude).
 METRE_DECIMALS = 4
@@ -270,7 +271,6 @@ def render_geojson(plan, roadmap, *, anchor=None, edges=None) -> bytes:
                 + _graph_features(roadmap, project, edges) + _station_features(plan, roadmap, project)
                 + openings)
     head = json.dumps(header, ensure_ascii=False, allow_nan=False)[:-1]
-    lines = [json.dumps(f, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
-             for f in features]
+    lines = [compact_json(f) for f in features]
     body = ",\n".join(lines)
     return (head + ', "features": [\n' + body + "\n]}\n").encode("utf-8")

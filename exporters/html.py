@@ -14,7 +14,6 @@ the page as JSON data only, and the script shows it as text (never as markup).
 from __future__ import annotations
 
 import html
-import json
 import math
 import re
 from importlib import resources
@@ -26,8 +25,8 @@ from clearway.collector import paused_collector
 from clearway.exporters.graphml import oriented_edges
 from clearway.exporters.svg import drawing_origin
 from clearway.exporters.svg_parts import LANE_COLOURS, clearance_band, lane_bins
-from clearway.exporters.text import (SAFETY_CAUTION, TOOL_VERSION, finite_or_none, json_text,
-                                     natural_key)
+from clearway.exporters.text import (SAFETY_CAUTION, TOOL_VERSION, compact_json,
+                                     finite_or_none, json_text, natural_key)
 
 #: Decimal places of drawn geometry, metres relative to the page origin (1 mm).
 DRAWN_DECIMALS = 3
@@ -51,7 +50,7 @@ def script_json(value) -> str:
     >>> script_json({"label": "</script><b>&"})
     '{"label":"\\\\u003c/script\\\\u003e\\\\u003cb\\\\u003e\\\\u0026"}'
     """
-    text = json.dumps(value, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
+    text = compact_json(value)
     for character, escape in _SCRIPT_ESCAPES:
         text = text.replace(character, escape)
     return text
