@@ -8,10 +8,9 @@ where scipy's Qhull took 3.46, 0.80 and 0.85 s, about 0.7 KiB a point either way
 predicates are exact, so the triangulation is the Delaunay triangulation of the jittered
 points, which is unique; Qhull's floating-point hull gave 978 of the 866,598 triangles of
 `mixed` the other way, across four points on one circle to within its rounding. Up to 2 x
-STRIP_POINTS samples (or below `split_points`, when a caller
-sets it) one call triangulates them all, and its neighbours come with it. Beyond, they are
-triangulated in strips along the longer axis: one per STRIP_POINTS (two at least from
-`split_points`), each with a margin of its neighbours' points; the first half of the strips
+STRIP_POINTS samples, and below `split_points`, one call triangulates them all. Beyond,
+they are triangulated in strips along the longer axis: one per STRIP_POINTS (two at least
+from `split_points`), each with a margin of its neighbours' points; the first half of the strips
 here and the second half in a forked second process where that is possible
 (clearway.side_by_side). The strips are the same either way, so the result is.
 Neighbours are found by matching the triangles' edges (:func:`neighbours_of`).
@@ -20,7 +19,8 @@ A triangle of a strip is a triangle of the whole triangulation when its circumci
 inside the strip's band (the band holds every point there, and the circle holds none of
 them); each is kept by the strip holding its circumcentre. A triangle whose circle leaves the
 band matters only when its circumcentre lies in the free space (a Voronoi vertex); then the
-strip is done again with twice the margin.
+strip is done again with a wider margin on that side (twice as wide, and as wide as such
+circles reach).
 """
 
 from __future__ import annotations
@@ -35,17 +35,22 @@ from clearway.side_by_side import side_by_side
 
 #: Points per strip where there are more than twice as many.
 STRIP_POINTS = 300_000
-#: Samples from which the triangulation is made in strips (two at least), side by side in two
-#: processes where possible; None: only beyond 2 x STRIP_POINTS, for memory. Off by default:
-#: with the fixed first margin, a floor with wide open areas where the strips meet has its
-#: strips redone, each with twice the margin. On the angled suite drawing at 20,000 bays
-#: (112,000 samples) each strip was triangulated three times (8, 16 and 32 m), 3.4 s of
-#: Qhull CPU against 1.3 s for one call (measured before startinpy replaced Qhull). Where no strip is redone (current, 95,000 samples)
-#: the two strips take 0.84 and 0.71 s CPU side by side against 1.22 s for one call. Margins
-#: sized from the floor's clearance where the strips meet would let it earn its place.
-SPLIT_POINTS = None
+#: Samples from which the triangulation is made in two strips (at least), side by side in two
+#: processes where possible; None: only beyond 2 x STRIP_POINTS, for memory. The first
+#: triangulation's empty circles place the cut and size its margins (:func:`strip_bands`),
+#: so a strip is seldom done again: with a fixed 8 m margin, the angled suite drawing at
+#: 20,000 bays (108,000 samples) had each strip triangulated three times (8, 16 and 32 m);
+#: placed and sized, once. The medial axis of the 20,000-bay suite drawings (medians of three,
+#: one call -> two strips): current 0.67 -> 0.55 s, flue_open 1.04 -> 0.76, dock_columns
+#: 0.72 -> 0.52, angled 0.73 -> 0.69, mixed (433,000 samples) 3.02 -> 2.64. The strips do
+#: not depend on the processes at hand, so neither does the result.
+SPLIT_POINTS = 60_000
 #: First margin of each strip, metres.
 MARGIN = 8.0
+#: Added to the radius of a circle that a margin is sized to hold, metres.
+MARGIN_SLACK = 1.0
+#: Positions tried for each boundary between strips (see :func:`strip_bands`).
+CUT_CHOICES = 21
 #: Points nearer each other than this are one vertex to startinpy (metres; its default is
 #: 1 mm). The samples are jittered by a micrometre, so only a point given twice is.
 SNAP = 1e-9
@@ -147,9 +152,18 @@ def neighbours_of(simplices: np.ndarray) -> np.ndarray:
     return np.ascontiguousarray(flat.reshape(3, count).T)
 
 
+def strip_count(count: int, strip_points: int = STRIP_POINTS,
+                split_points: int | None = SPLIT_POINTS) -> int:
+    """How many strips :func:`triangulate` makes of `count` points (below 2: one call)."""
+    strips = count // strip_points
+    if split_points is not None and count >= split_points:
+        strips = max(strips, 2)
+    return strips
+
+
 def triangulate(points: np.ndarray, free_space=None, *, strip_points: int = STRIP_POINTS,
                 neighbours: bool = True, split_points: int | None = SPLIT_POINTS,
-                measure: Callable[[np.ndarray], tuple] | None = None):
+                measure: Callable[[np.ndarray], tuple] | None = None, circles=None):
     """Return the Delaunay triangles of `points` (N, 2) that matter, and their neighbours.
 
     Parameters
@@ -168,6 +182,11 @@ def triangulate(points: np.ndarray, free_space=None, *, strip_points: int = STRI
     measure : callable, optional
         Called with the triangles of each strip (or all of them) in the process that made
         them; returns a tuple of arrays, which are joined strip after strip.
+    circles : (centres (C, 2), radii (C,)), optional
+        Empty circles centred in the free space from a coarser triangulation of the same
+        boundary: each strip boundary is placed, near its quantile, where the largest
+        of them that it crosses is smallest, and the margins there are sized to hold it
+        (:func:`strip_bands`).
 
     Returns
     -------
@@ -176,23 +195,19 @@ def triangulate(points: np.ndarray, free_space=None, *, strip_points: int = STRI
         None when `neighbours` is false.
     measured : tuple of ndarray, only with `measure`: its arrays, joined.
     """
-    count = len(points)
-    strips = count // strip_points
-    if split_points is not None and count >= split_points:
-        strips = max(strips, 2)
+    strips = strip_count(len(points), strip_points, split_points)
     if strips < 2 or free_space is None:
         simplices = delaunay(points)
         result = simplices, neighbours_of(simplices) if neighbours else None
         return result if measure is None else (*result, measure(simplices))
     axis = int(np.argmax(np.ptp(points, axis=0)))
     along = points[:, axis]
-    edges = np.quantile(along, np.linspace(0.0, 1.0, strips + 1))
-    edges[0], edges[-1] = -np.inf, np.inf
-    bands = list(zip(edges[:-1], edges[1:]))
+    edges, margins = strip_bands(along, strips, circles, axis)
+    bands = list(zip(edges[:-1], edges[1:], margins[:-1], margins[1:]))
     half = len(bands) // 2
 
     def triangles_of(some):
-        made = [_strip(points, along, axis, low, high, free_space) for low, high in some]
+        made = [_strip(points, along, axis, band, free_space) for band in some]
         return [(simplices, measure(simplices) if measure else ()) for simplices in made]
 
     done = side_by_side({"first": lambda: triangles_of(bands[:half]),
@@ -205,19 +220,69 @@ def triangulate(points: np.ndarray, free_space=None, *, strip_points: int = STRI
     return (*result, tuple(np.concatenate(arrays) for arrays in zip(*(m for _, m in pieces))))
 
 
-def _strip(points, along, axis, low, high, free_space):
+def strip_bands(along: np.ndarray, strips: int, circles=None, axis: int = 0):
+    """Boundaries (strips + 1,) of the strips along one axis, and the margin at each, metres.
+
+    Without `circles` the boundaries are the quantiles of `along` and every margin is
+    MARGIN. With them (centres (C, 2), radii (C,)), each inner boundary is the position
+    among CUT_CHOICES quantiles within a quarter of a strip of its own where the largest
+    circle crossing it is smallest (the nearest to the quantile among equals), and its
+    margin is that radius plus MARGIN_SLACK, MARGIN at least. The outer boundaries are
+    infinite.
+
+    Examples
+    --------
+    >>> along = np.arange(100.0)
+    >>> edges, margins = strip_bands(along, 2)
+    >>> edges.tolist(), margins.tolist()
+    ([-inf, 49.5, inf], [8.0, 8.0, 8.0])
+    >>> hall = (np.array([[48.0, 0.0]]), np.array([5.0]))     # a hall from 43 to 53
+    >>> strip_bands(along, 2, hall)[0].tolist()             # the nearest cut beside it
+    [-inf, 53.2125, inf]
+    >>> hall = (np.array([[48.0, 0.0]]), np.array([30.0]))    # no cut within reach misses it
+    >>> [values.tolist() for values in strip_bands(along, 2, hall)]
+    [[-inf, 49.5, inf], [8.0, 31.0, 8.0]]
+    """
+    edges = np.quantile(along, np.linspace(0.0, 1.0, strips + 1))
+    margins = np.full(strips + 1, MARGIN)
+    if circles is not None and len(circles[1]):
+        centre, radius = np.asarray(circles[0])[:, axis], np.asarray(circles[1])
+        for k in range(1, strips):
+            quantiles = k / strips + np.linspace(-0.25, 0.25, CUT_CHOICES) / strips
+            choices = np.quantile(along, quantiles)
+            crossing = (centre[None] - radius[None] < choices[:, None]) & \
+                (centre[None] + radius[None] > choices[:, None])
+            largest = np.where(crossing, radius[None], 0.0).max(axis=1)
+            best = np.flatnonzero(largest == largest.min())
+            pick = best[np.argmin(np.abs(best - CUT_CHOICES // 2))]
+            edges[k] = choices[pick]
+            margins[k] = max(MARGIN, largest[pick] + MARGIN_SLACK)
+    edges[0], edges[-1] = -np.inf, np.inf
+    return edges, margins
+
+
+def _strip(points, along, axis, band, free_space):
     """The triangles of the band `low` <= along < `high` whose circumcentres it holds and
-    that matter (see the module's text)."""
-    margin = MARGIN
+    that matter (see the module's text); `band` is (low, high, low margin, high margin)."""
+    low, high, below, above = band
     while True:
-        members = np.flatnonzero((along >= low - margin) & (along <= high + margin))
+        members = np.flatnonzero((along >= low - below) & (along <= high + above))
         simplices = members[delaunay(points[members])]
         centre, radius = circumcircles(points, simplices)
         mine = (centre[:, axis] >= low) & (centre[:, axis] < high)
-        inside_band = (centre[:, axis] - radius >= low - margin) & \
-            (centre[:, axis] + radius <= high + margin)
+        inside_band = (centre[:, axis] - radius >= low - below) & \
+            (centre[:, axis] + radius <= high + above)
         doubtful = np.flatnonzero(mine & ~inside_band & np.isfinite(centre).all(axis=1))
-        if len(doubtful) == 0 or not shapely.contains_xy(
-                free_space, centre[doubtful, 0], centre[doubtful, 1]).any():
+        if len(doubtful):
+            doubtful = doubtful[shapely.contains_xy(free_space, centre[doubtful, 0],
+                                                    centre[doubtful, 1])]
+        if len(doubtful) == 0:
             return simplices[mine & inside_band]
-        margin *= 2.0
+        # a side these circles leave: twice its margin, and at least as far as they reach
+        # (empty circles about the same centres among all points are no larger)
+        reach_below = low - (centre[doubtful, axis] - radius[doubtful])
+        reach_above = centre[doubtful, axis] + radius[doubtful] - high
+        if reach_below.max() > below:
+            below = max(2 * below, float(reach_below.max()) + MARGIN_SLACK)
+        if reach_above.max() > above:
+            above = max(2 * above, float(reach_above.max()) + MARGIN_SLACK)

@@ -29,7 +29,7 @@ from dataclasses import dataclass
 import numpy as np
 import shapely
 
-from clearway.roadmap.delaunay import circumcircles, triangulate
+from clearway.roadmap.delaunay import circumcircles, strip_count, triangulate
 from clearway.roadmap.inflate import boundary_segments
 from clearway.roadmap.inside import contains_points
 
@@ -133,15 +133,16 @@ def adaptive_samples(segments, previous, following, step: float, *, coarse: floa
     Returns
     -------
     xy, owner, successor : as :func:`sample_boundary`
+    probe : (points (P, 2), simplices (T, 3)), the first triangulation; None without one
     """
     probe = 2 * coarse if probe is None else probe
     if coarse <= step or len(segments) < 3:
-        return sample_boundary(segments, following, step)
+        return (*sample_boundary(segments, following, step), None)
     xy, owner, successor = sample_boundary(segments, following, probe)
     # one call up to 600,000 probe samples (at 2 m apart, few floors have as many): the
     # widths come from every edge, also of triangles outside the free space
-    simplices, _ = triangulate(xy + rng.uniform(-JITTER, JITTER, xy.shape), free_space,
-                               neighbours=False, split_points=None)
+    jittered = xy + rng.uniform(-JITTER, JITTER, xy.shape)
+    simplices, _ = triangulate(jittered, free_space, neighbours=False, split_points=None)
     pairs = np.concatenate([simplices[:, [0, 1]], simplices[:, [1, 2]], simplices[:, [2, 0]]])
     a, b = pairs[:, 0], pairs[:, 1]
     apart = (owner[a] != owner[b]) & (following[owner[a]] != owner[b]) & \
@@ -171,7 +172,16 @@ def adaptive_samples(segments, previous, following, step: float, *, coarse: floa
     pieces = np.maximum(1, np.ceil(np.hypot(*(xy[successor] - xy).T) / wanted)).astype(np.int64)
     fine, fine_owner, fine_successor = _cut(np.stack([xy, xy[successor]], axis=1), successor,
                                             pieces)
-    return fine, owner[fine_owner], fine_successor
+    return fine, owner[fine_owner], fine_successor, (jittered, simplices)
+
+
+def free_circles(points, simplices, free_space):
+    """Centres (C, 2) and radii (C,) of the circumcircles of `simplices` centred in
+    `free_space` (prepared): the triangulation's empty circles that hold Voronoi vertices."""
+    centres, radii = circumcircles(points, simplices)
+    finite = np.flatnonzero(np.isfinite(centres).all(axis=1))
+    finite = finite[contains_points(free_space, centres[finite, 0], centres[finite, 1])]
+    return centres[finite], radii[finite]
 
 
 def _features(segments, previous, following, owner):
@@ -340,10 +350,15 @@ def medial_axis(free_space, *, step: float = 0.25, coarse: float | None = None,
     rng = np.random.default_rng(seed)
     coarse = 4 * step if coarse is None else max(float(coarse), step)
     shapely.prepare(free_space)
-    xy, owner, successor = adaptive_samples(segments, previous, following, step,
-                                            coarse=coarse, rng=rng, free_space=free_space)
+    xy, owner, successor, probe = adaptive_samples(segments, previous, following, step,
+                                                   coarse=coarse, rng=rng,
+                                                   free_space=free_space)
+    # where the samples are triangulated in strips, the first triangulation's empty circles
+    # place the cuts between them and size their margins
+    circles = free_circles(*probe, free_space) \
+        if probe is not None and strip_count(len(xy)) >= 2 else None
     simplices, neighbours, (inside, corrected, clearance) = triangulate(
-        xy + rng.uniform(-JITTER, JITTER, xy.shape), free_space,
+        xy + rng.uniform(-JITTER, JITTER, xy.shape), free_space, circles=circles,
         measure=lambda simplices: _voronoi_vertices(simplices, xy, owner, segments,
                                                     previous, following, free_space))
     if not inside.any():

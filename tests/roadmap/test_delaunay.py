@@ -126,3 +126,48 @@ def test_two_processes_give_the_strips_of_one(monkeypatch):
     inside = shapely.contains_xy(room, centre[:, 0], centre[:, 1])
     expected = {tuple(t) for t in np.sort(whole.simplices[inside], axis=1).tolist()}
     assert expected <= {tuple(t) for t in np.sort(one, axis=1).tolist()}
+
+
+def test_strips_placed_by_a_coarser_triangulations_circles_are_done_once(monkeypatch):
+    # a 40 m hall between two 80 m wings of 1 m wide aisles: cut at the middle with 8 m
+    # margins, the hall's 20 m circles leave the strips, which are then done again
+    import clearway.roadmap.delaunay as module
+    from clearway.roadmap.gvd import free_circles
+
+    rng = np.random.default_rng(8)
+    hall = shapely.box(80, 0, 120, 40)
+    wings = [shapely.box(x, 0, x + 1, 40) for x in np.arange(0.0, 80.0, 2.0)] + \
+        [shapely.box(x, 0, x + 1, 40) for x in np.arange(121.0, 200.0, 2.0)]
+    floor = shapely.union_all([hall, *wings])
+    shapely.prepare(floor)
+
+    def samples(step):
+        ring = shapely.segmentize(floor.boundary, step)
+        points = np.unique(shapely.get_coordinates(ring), axis=0)
+        return points + rng.uniform(-1e-6, 1e-6, points.shape)
+
+    points = samples(0.5)
+    coarse = samples(2.0)
+    circles = free_circles(coarse, delaunay(coarse), floor)
+    calls = []
+    monkeypatch.setattr(module, "delaunay", lambda some: calls.append(len(some)) or
+                        delaunay(some))
+    monkeypatch.setenv("CLEARWAY_PROCESSES", "1")
+    expected = None
+    for guide in (None, circles):
+        calls.clear()
+        simplices, _ = triangulate(points, floor, split_points=1000, circles=guide)
+        # independent reference: scipy's triangulation of all points, on the triangles
+        # centred in the floor (the strips keep all of those)
+        if expected is None:
+            whole = Delaunay(points)
+            centre, _ = circumcircles(points, whole.simplices)
+            inside = shapely.contains_xy(floor, centre[:, 0], centre[:, 1])
+            expected = _as_set(whole.simplices[inside])
+        centre, _ = circumcircles(points, simplices)
+        kept = shapely.contains_xy(floor, centre[:, 0], centre[:, 1])
+        assert _as_set(simplices[kept]) == expected
+        if guide is None:
+            assert len(calls) > 2                 # a strip was done again
+        else:
+            assert len(calls) == 2                # each strip once
