@@ -9,9 +9,8 @@ Three uses, each of work that does not depend on the rest:
   warehouse the preview (label placement, path text) takes about as long as the other four
   together, so a second process that renders it while this one renders the rest shortens
   the output stage by close to half on two cores;
-- the Delaunay triangulation of a floor beyond 600,000 boundary samples (or from a
-  caller's `split_points`) is made in strips (clearway.roadmap.delaunay), half of them in
-  the second process.
+- the Delaunay triangulation of a floor of 60,000 boundary samples or more is made in
+  strips (clearway.roadmap.delaunay), half of them in the second process.
 
 The child is a fork: it shares the caller's data copy-on-write and sends back only its
 results (one pickle through a pipe). It writes no file and prints nothing; this process

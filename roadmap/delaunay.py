@@ -41,9 +41,10 @@ STRIP_POINTS = 300_000
 #: so a strip is seldom done again: with a fixed 8 m margin, the angled suite drawing at
 #: 20,000 bays (108,000 samples) had each strip triangulated three times (8, 16 and 32 m);
 #: placed and sized, once. The medial axis of the 20,000-bay suite drawings (medians of three,
-#: one call -> two strips): current 0.67 -> 0.55 s, flue_open 1.04 -> 0.76, dock_columns
-#: 0.72 -> 0.52, angled 0.73 -> 0.69, mixed (433,000 samples) 3.02 -> 2.64. The strips do
-#: not depend on the processes at hand, so neither does the result.
+#: one call -> two strips, seconds): current 0.75 -> 0.64, flue_sealed 0.88 -> 0.70,
+#: flue_open 0.80 -> 0.72, dock_columns 0.77 -> 0.58, dock_open 0.73 -> 0.65, angled
+#: 0.70 -> 0.66, mixed (433,000 samples) 3.25 -> 2.73. The strips do not depend on the
+#: processes at hand, so neither does the result.
 SPLIT_POINTS = 60_000
 #: First margin of each strip, metres.
 MARGIN = 8.0
@@ -224,11 +225,12 @@ def strip_bands(along: np.ndarray, strips: int, circles=None, axis: int = 0):
     """Boundaries (strips + 1,) of the strips along one axis, and the margin at each, metres.
 
     Without `circles` the boundaries are the quantiles of `along` and every margin is
-    MARGIN. With them (centres (C, 2), radii (C,)), each inner boundary is the position
-    among CUT_CHOICES quantiles within a quarter of a strip of its own where the largest
-    circle crossing it is smallest (the nearest to the quantile among equals), and its
-    margin is that radius plus MARGIN_SLACK, MARGIN at least. The outer boundaries are
-    infinite.
+    MARGIN. With them (centres (C, 2), radii (C,)), each inner boundary is one of
+    CUT_CHOICES positions (quantiles within a quarter of a strip of its own), its margin
+    the radius of the largest circle crossing it plus MARGIN_SLACK, MARGIN at least; the
+    position taken is the one whose larger side holds the fewest points, margins included
+    (the strips run side by side: the larger one sets the time), the nearest to the
+    quantile among equals. The outer boundaries are infinite.
 
     Examples
     --------
@@ -236,27 +238,34 @@ def strip_bands(along: np.ndarray, strips: int, circles=None, axis: int = 0):
     >>> edges, margins = strip_bands(along, 2)
     >>> edges.tolist(), margins.tolist()
     ([-inf, 49.5, inf], [8.0, 8.0, 8.0])
-    >>> hall = (np.array([[48.0, 0.0]]), np.array([5.0]))     # a hall from 43 to 53
-    >>> strip_bands(along, 2, hall)[0].tolist()             # the nearest cut beside it
-    [-inf, 53.2125, inf]
-    >>> hall = (np.array([[48.0, 0.0]]), np.array([30.0]))    # no cut within reach misses it
+    >>> hall = (np.array([[40.0, 0.0]]), np.array([12.0]))    # a hall from 28 to 52
+    >>> [values.tolist() for values in strip_bands(along, 2, hall)]  # cut beside it
+    [[-inf, 53.2125, inf], [8.0, 8.0, 8.0]]
+    >>> hall = (np.array([[48.0, 0.0]]), np.array([12.0]))    # from 36 to 60: cut across it
     >>> [values.tolist() for values in strip_bands(along, 2, hall)]
-    [[-inf, 49.5, inf], [8.0, 31.0, 8.0]]
+    [[-inf, 49.5, inf], [8.0, 13.0, 8.0]]
     """
     edges = np.quantile(along, np.linspace(0.0, 1.0, strips + 1))
     margins = np.full(strips + 1, MARGIN)
     if circles is not None and len(circles[1]):
         centre, radius = np.asarray(circles[0])[:, axis], np.asarray(circles[1])
+        ordered = np.sort(along)
         for k in range(1, strips):
             quantiles = k / strips + np.linspace(-0.25, 0.25, CUT_CHOICES) / strips
             choices = np.quantile(along, quantiles)
             crossing = (centre[None] - radius[None] < choices[:, None]) & \
                 (centre[None] + radius[None] > choices[:, None])
             largest = np.where(crossing, radius[None], 0.0).max(axis=1)
-            best = np.flatnonzero(largest == largest.min())
+            margin = np.maximum(MARGIN, np.where(largest > 0, largest + MARGIN_SLACK, 0.0))
+            # points of the strip below the cut and of the one above, margins included
+            start = np.searchsorted(ordered, edges[k - 1] - margins[k - 1])
+            stop = np.searchsorted(ordered, edges[k + 1] + MARGIN, side="right")
+            below = np.searchsorted(ordered, choices + margin, side="right") - start
+            above = stop - np.searchsorted(ordered, choices - margin)
+            load = np.maximum(below, above)
+            best = np.flatnonzero(load == load.min())
             pick = best[np.argmin(np.abs(best - CUT_CHOICES // 2))]
-            edges[k] = choices[pick]
-            margins[k] = max(MARGIN, largest[pick] + MARGIN_SLACK)
+            edges[k], margins[k] = choices[pick], margin[pick]
     edges[0], edges[-1] = -np.inf, np.inf
     return edges, margins
 
