@@ -75,8 +75,8 @@ def circumcircles(points: np.ndarray, simplices: np.ndarray):
 def delaunay(points: np.ndarray) -> np.ndarray:
     """The Delaunay triangles (T, 3) of `points` (N, 2), as indices into `points`.
 
-    Counter-clockwise. A point given twice is in no triangle but under its first index; where
-    all points lie on one line (or there are fewer than three) there are no triangles.
+    Counter-clockwise. A point given twice appears under its first index only; where all
+    points lie on one line (or there are fewer than three) there are no triangles.
 
     Examples
     --------
@@ -185,9 +185,8 @@ def triangulate(points: np.ndarray, free_space=None, *, strip_points: int = STRI
         them; returns a tuple of arrays, which are joined strip after strip.
     circles : (centres (C, 2), radii (C,)), optional
         Empty circles centred in the free space from a coarser triangulation of the same
-        boundary: each strip boundary is placed, near its quantile, where the largest
-        of them that it crosses is smallest, and the margins there are sized to hold it
-        (:func:`strip_bands`).
+        boundary: they size the margins where the strips meet, and the cuts go where the
+        larger strip, margins included, holds the fewest points (:func:`strip_bands`).
 
     Returns
     -------
@@ -287,11 +286,12 @@ def _strip(points, along, axis, band, free_space):
                                                     centre[doubtful, 1])]
         if len(doubtful) == 0:
             return simplices[mine & inside_band]
-        # a side these circles leave: twice its margin, and at least as far as they reach
-        # (empty circles about the same centres among all points are no larger)
-        reach_below = low - (centre[doubtful, axis] - radius[doubtful])
-        reach_above = centre[doubtful, axis] + radius[doubtful] - high
-        if reach_below.max() > below:
-            below = max(2 * below, float(reach_below.max()) + MARGIN_SLACK)
-        if reach_above.max() > above:
-            above = max(2 * above, float(reach_above.max()) + MARGIN_SLACK)
+        # a side these circles leave (each leaves one at least, by the same comparison as
+        # above): twice its margin, and at least as far as they reach (empty circles about
+        # the same centres among all points are no larger)
+        left, right = centre[doubtful, axis] - radius[doubtful], \
+            centre[doubtful, axis] + radius[doubtful]
+        if (left < low - below).any():
+            below = max(2 * below, float(low - left.min()) + MARGIN_SLACK)
+        if (right > high + above).any():
+            above = max(2 * above, float(right.max() - high) + MARGIN_SLACK)
