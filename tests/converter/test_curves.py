@@ -48,6 +48,8 @@ def test_circle_area_is_within_the_chord_tolerance_bound(tmp_path, tolerance):
        tolerance=st.floats(1e-4, 0.5), extrusion=st.sampled_from([None, (0, 0, 1), (0, 0, -1),
                                                                   (0, 0, 2.5)]))
 @example(x=0.0, y=0.0, radius=0.125, tolerance=0.5, extrusion=None)  # smaller than the tolerance
+@example(x=0.0, y=0.0, radius=0.25, tolerance=0.375, extrusion=None)   # two chords (below)
+@example(x=3.0, y=-1.0, radius=-0.3, tolerance=0.5, extrusion=(0, 0, -1))
 def test_circle_vertices_are_ezdxfs_own_flattening_to_the_bit(x, y, radius, tolerance, extrusion):
     # source: ezdxf's Circle.flattening (the independent reference the fast reader replaces):
     # the same vertices, bit for bit, so the outputs of every drawing stay byte-identical
@@ -57,6 +59,14 @@ def test_circle_vertices_are_ezdxfs_own_flattening_to_the_bit(x, y, radius, tole
 
     attributes = {} if extrusion is None else {"extrusion": extrusion}
     circle = ezdxf.new().modelspace().add_circle((x, y), radius, dxfattribs=attributes)
+    if tolerance / 2 < abs(radius) < tolerance:
+        # where ezdxf's segment count goes wrong (up to 105 million segments; see
+        # entities._beyond_segment_count) the reader takes two chords instead, each within
+        # the tolerance of the circle: ezdxf's own vertices at 0, 180 and 360 degrees
+        expected = np.array([(v.x, v.y) for v in circle.vertices([0.0, 180.0, 360.0])])
+        [(xy, _)] = flatten_entity(circle, tolerance)
+        assert xy.dtype == np.float64 and np.array_equal(xy, expected)
+        return
     try:
         expected = np.array([(v.x, v.y) for v in circle.flattening(tolerance)]).reshape(-1, 2)
     except (ValueError, ZeroDivisionError) as err:
