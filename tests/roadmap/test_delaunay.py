@@ -8,8 +8,10 @@ import pytest
 import shapely
 from scipy.spatial import Delaunay, cKDTree
 
+import clearway.roadmap.delaunay as module
 from clearway.roadmap.delaunay import (circumcircles, delaunay, morton_order, neighbours_of,
                                        triangulate)
+from clearway.roadmap.gvd import free_circles
 
 
 def _as_set(simplices):
@@ -131,9 +133,6 @@ def test_two_processes_give_the_strips_of_one(monkeypatch):
 def test_strips_placed_by_a_coarser_triangulations_circles_are_done_once(monkeypatch):
     # a 40 m hall between two 80 m wings of 1 m wide aisles: cut at the middle with 8 m
     # margins, the hall's 20 m circles leave the strips, which are then done again
-    import clearway.roadmap.delaunay as module
-    from clearway.roadmap.gvd import free_circles
-
     rng = np.random.default_rng(8)
     hall = shapely.box(80, 0, 120, 40)
     wings = [shapely.box(x, 0, x + 1, 40) for x in np.arange(0.0, 80.0, 2.0)] + \
