@@ -1,10 +1,13 @@
 """Run independent pieces of work side by side: some in a forked process, the rest in this one.
 
-Three uses, each of work that does not depend on the rest:
+Four uses, each of work that does not depend on the rest:
 
 - `clearway build` reads the drawing in the second process while this one imports the
   roadmap stage and the exporters (a few tenths of a second of start-up), and gets the
   floor plan back;
+- that reader parses a large model space in two halves, the second in a process of its own
+  (clearway.converter.read): on two cores the 4 MB drawing of the mixed suite floor at 20,000
+  bays was read in 3.25 s instead of 4.02 s;
 - the five outputs of a build are made from the same finished roadmap. On a 20,000-bay
   warehouse the preview (label placement, path text) takes about as long as the other four
   together, so a second process that renders it while this one renders the rest shortens

@@ -4,7 +4,9 @@ Damaged files go through ezdxf's recovery path and its repairs are returned as n
 truncated or non-DXF bytes are refused here, because recovery accepts them silently. A file
 that checks over its group codes prove sound (`sound.sound_text`) and whose audit finds
 nothing is read by ezdxf's ordinary reader instead, about a third faster: none of the
-repairs the recovery path makes applies to it, so what clearway reads is the same.
+repairs the recovery path makes applies to it, so what clearway reads is the same. Such
+text can also be cut into two drawings with half the model space each (`entity_halves`), for
+the reader to read side by side.
 """
 
 from __future__ import annotations
@@ -35,6 +37,9 @@ _SECTION_NAME = re.compile(rb"SECTION[ \t]*\r?\n[ \t]*2[ \t]*\r?\n[ \t]*(\w+)")
 #: of the wrong type or out of range.
 #: Repair notices kept in full (the report lists them; the summary counts them).
 MAX_NOTICES = 200
+
+#: `parse_document`'s text when the caller has not checked it.
+UNKNOWN = object()
 
 DAMAGE = (DXFError, AttributeError, AssertionError, ValueError, TypeError, KeyError,
           IndexError, ZeroDivisionError, OverflowError, UnicodeError, EOFError)
@@ -114,6 +119,14 @@ def open_document(path, limits=None):
 
     The notices are ezdxf's own words for each repair, at most MAX_NOTICES of them.
     """
+    data = load_bytes(path, limits)
+    doc, notices = parse_document(data, Path(path).name)
+    return doc, hashlib.sha256(data).hexdigest(), notices
+
+
+def load_bytes(path, limits=None) -> bytes:
+    """The bytes of the DXF file `path`: DrawingError when it is missing, unreadable, not DXF
+    or truncated, LimitError when it is larger than `limits` allow."""
     limits = limits or Limits()
     path = Path(path)
     source = path.name
@@ -129,13 +142,21 @@ def open_document(path, limits=None):
     except OSError as err:
         raise DrawingError(f"{path}: cannot read file ({err.strerror})") from None
     check_dxf_bytes(data, source)
+    return data
+
+
+def parse_document(data, source, text=UNKNOWN):
+    """(document, repair notices) of the checked bytes `data` (`load_bytes`) of file `source`.
+
+    text : `ordinary_text(data)` when the caller has it already (None: not sound).
+    """
     try:
         with quiet_library():
             if data.startswith(BINARY_SENTINEL):  # recovery reads ASCII only
                 doc = Drawing.load(binary_tags_loader(data))
                 auditor = doc.audit()
             else:
-                doc, auditor = _read_ascii(data)
+                doc, auditor = _read_ascii(data, ordinary_text(data) if text is UNKNOWN else text)
     except RecursionError:
         raise DrawingError(f"{source}: not a readable DXF file (structures nest too "
                            f"deeply to recover)") from None
@@ -147,28 +168,87 @@ def open_document(path, limits=None):
                 if "block reference cycle" not in error.message.lower()]
     if len(notices) > MAX_NOTICES:
         notices = notices[:MAX_NOTICES] + [f"{len(notices) - MAX_NOTICES} more not listed"]
-    return doc, hashlib.sha256(data).hexdigest(), notices
+    return doc, notices
 
 
-def _read_ascii(data):
-    """(document, auditor) of an ASCII DXF: the ordinary reader when `data` is sound, else
-    ezdxf's recovery: also when the ordinary reader refuses what the checks let through, and
-    when its audit finds anything to repair (recovery leaves empty tables out and numbers
-    the handles of what the audit adds differently, so its notices would differ)."""
-    text = sound_text(data)
+def _read_ascii(data, text):
+    """(document, auditor) of an ASCII DXF: the ordinary reader when `data` is sound (its
+    `text` is not None), else ezdxf's recovery: also when the ordinary reader refuses what the
+    checks let through, and when its audit finds anything to repair (recovery leaves empty
+    tables out and numbers the handles of what the audit adds differently, so its notices
+    would differ)."""
     if text is not None:
-        try:
-            doc = Drawing.read(io.StringIO(text))
-            auditor = doc.audit()
-        except DAMAGE:
-            pass
-        else:
-            if not auditor.fixes and not auditor.errors:
-                return doc, auditor
+        read = read_sound(text)
+        if read is not None:
+            return read
     page = guess_code_page(data)
     if page is not None:
         data = _with_code_page(data, page)
     return recover.read(io.BytesIO(data))
+
+
+def ordinary_text(data):
+    """`data` as text when ezdxf's ordinary reader may read it (`sound.sound_text`), else
+    None (binary DXF among them)."""
+    return None if data.startswith(BINARY_SENTINEL) else sound_text(data)
+
+
+def read_sound(text):
+    """(document, auditor) of ezdxf's ordinary reader on sound `text` (`ordinary_text`), or
+    None when the reader refuses it or the audit finds anything to repair or report."""
+    try:
+        with quiet_library():
+            doc = Drawing.read(io.StringIO(text))
+            auditor = doc.audit()
+    except DAMAGE:
+        return None
+    return (doc, auditor) if not auditor.fixes and not auditor.errors else None
+
+
+_ENTITIES = re.compile(r"^[ \t]*0[ \t]*\n[ \t]*SECTION[ \t]*\n[ \t]*2[ \t]*\n[ \t]*ENTITIES[ \t]*\n",
+                       re.MULTILINE)
+_ENDSEC = re.compile(r"^[ \t]*0[ \t]*\n[ \t]*ENDSEC[ \t]*\n", re.MULTILINE)
+#: A tag of group code 0 (an entity starts). Its value has a letter, so it cannot be a group
+#: code line, and the line before it is a group code 0, not a value: in sound text every
+#: group code is an integer.
+_ENTITY = re.compile(r"^[ \t]*0[ \t]*\n[ \t]*([A-Z0-9_]*[A-Z_][A-Z0-9_]*)[ \t]*\n", re.MULTILINE)
+#: Entities that belong to the one before them (a POLYLINE's vertices, an INSERT's
+#: attributes, the end of either): a half never starts with one.
+_FOLLOWERS = frozenset({"VERTEX", "SEQEND", "ATTRIB"})
+
+
+def entity_halves(text):
+    """Split sound DXF `text` (`ordinary_text`) into two drawings, (first, second), or None
+    when it has no ENTITIES section of two entities or more.
+
+    Each keeps every section of `text` (header, tables, blocks, objects) but only half the
+    entities of its ENTITIES section, as counted: `first` those before the cut, `second`
+    those from it. Read side by side, the two give the model space of `text` in order. The
+    cut falls before an entity that stands on its own, never between a POLYLINE or an
+    INSERT and what follows it.
+
+    Examples
+    --------
+    >>> entities = "".join(f"  0\\nLINE\\n  8\\n{layer}\\n" for layer in "ABCD")
+    >>> text = f"  0\\nSECTION\\n  2\\nENTITIES\\n{entities}  0\\nENDSEC\\n  0\\nEOF\\n"
+    >>> first, second = entity_halves(text)
+    >>> [line for line in first.split("\\n") if len(line) == 1]
+    ['A', 'B']
+    >>> [line for line in second.split("\\n") if len(line) == 1]
+    ['C', 'D']
+    """
+    section = _ENTITIES.search(text)
+    if section is None:
+        return None
+    end = _ENDSEC.search(text, section.end())
+    if end is None:
+        return None
+    starts = [match.start() for match in _ENTITY.finditer(text, section.end(), end.start())
+              if match.group(1) not in _FOLLOWERS]
+    if len(starts) < 2:
+        return None
+    cut = starts[len(starts) // 2]
+    return text[:cut] + text[end.start():], text[:section.end()] + text[cut:]
 
 
 #: Code pages tried, in this order, for the text of a drawing whose header names none: ezdxf's

@@ -1,0 +1,182 @@
+"""A large model space read in two halves side by side reads as the whole file does.
+
+`document.entity_halves` cuts the ENTITIES section of sound text in two; the reference for
+the cut is ezdxf itself, reading the whole file and each half. `read.read_drawing` then
+reads the halves in two processes and merges them; the reference is the same reader on the
+whole file, in one process.
+"""
+
+from __future__ import annotations
+
+import io
+import os
+
+import ezdxf
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+import clearway.converter.read as read
+from benchmarks.synthetic import write_style
+import clearway.converter.document as document
+from clearway.converter.document import entity_halves, sound_text
+from clearway.errors import LimitError
+from clearway.limits import Limits
+from tests.conftest import SAMPLES, new_drawing, walled_room
+from tests.converter.test_document import contents
+
+KINDS = ("line", "lwpolyline", "polyline", "insert", "attributed", "circle", "text", "hatch")
+
+
+def add(msp, kind, k):
+    """Add one entity of `kind` (the k-th) to `msp`; return its handle."""
+    x = float(k)
+    if kind == "line":
+        entity = msp.add_line((x, 0), (x, 1), dxfattribs={"layer": "A-WALL"})
+    elif kind == "lwpolyline":
+        entity = msp.add_lwpolyline([(x, 0), (x + 1, 0), (x + 1, 1)], close=True)
+    elif kind == "polyline":       # POLYLINE, VERTEX, VERTEX, VERTEX, SEQEND
+        entity = msp.add_polyline2d([(x, 0), (x + 1, 0), (x + 1, 1)])
+    elif kind in ("insert", "attributed"):
+        entity = msp.add_blockref("PALLET", (x, 2), dxfattribs={"layer": "A-STATION"})
+        if kind == "attributed":   # INSERT, ATTRIB, ATTRIB, SEQEND
+            entity.add_attrib("ID", f"P{k}", (x, 2))
+            entity.add_attrib("KIND", "dock", (x, 2.5))
+    elif kind == "circle":
+        entity = msp.add_circle((x, 3), 0.2, dxfattribs={"layer": "A-COLS"})
+    elif kind == "text":
+        entity = msp.add_text(f"ROOM {k}", dxfattribs={"layer": "A-ANNO"})
+    else:
+        entity = msp.add_hatch(dxfattribs={"layer": "A-AREA-KEEPOUT"})
+        entity.paths.add_polyline_path([(x, 4), (x + 1, 4), (x + 1, 5)], is_closed=True)
+    return entity.dxf.handle
+
+
+def text_of(kinds):
+    """Sound DXF text of a drawing with one entity of each of `kinds`, and their handles."""
+    doc = new_drawing()
+    block = doc.blocks.new("PALLET")
+    block.add_lwpolyline([(0, 0), (1, 0), (1, 1), (0, 1)], close=True)
+    msp = doc.modelspace()
+    handles = [add(msp, kind, k) for k, kind in enumerate(kinds)]
+    stream = io.StringIO()
+    doc.write(stream)
+    text = sound_text(stream.getvalue().encode("ascii"))
+    assert text is not None
+    return text, handles
+
+
+def model_space(text):
+    """ezdxf's reading of `text`: (handles of the model space in order, its audit's findings,
+    (type, vertex or attribute count) of each entity)."""
+    doc = ezdxf.read(io.StringIO(text))
+    auditor = doc.audit()
+    entities = list(doc.modelspace())
+    shape = [(e.dxftype(), len(e.vertices) if e.dxftype() == "POLYLINE"
+              else len(e.attribs) if e.dxftype() == "INSERT" else 0) for e in entities]
+    return [e.dxf.handle for e in entities], len(auditor.fixes) + len(auditor.errors), shape
+
+
+# source: ezdxf reading the whole file and each half (independent of the cut)
+@settings(max_examples=25, deadline=None)
+@given(st.lists(st.sampled_from(KINDS), min_size=2, max_size=12))
+def test_the_halves_hold_every_entity_once_in_order_and_whole(kinds):
+    text, handles = text_of(kinds)
+    whole, findings, shape = model_space(text)
+    assert whole == handles and findings == 0
+    first, second = entity_halves(text)
+    first_handles, first_findings, first_shape = model_space(first)
+    second_handles, second_findings, second_shape = model_space(second)
+    assert first_handles + second_handles == whole
+    # counted by entities that stand on their own: the first half has half of them
+    assert len(first_handles) == len(whole) // 2
+    # a polyline keeps its vertices, an insert its attributes: nothing cut apart
+    assert first_shape + second_shape == shape
+    assert first_findings == second_findings == 0
+
+
+def test_text_without_two_entities_is_not_cut():
+    text, _ = text_of(["line"])
+    assert entity_halves(text) is None
+    assert entity_halves(text.replace("ENTITIES", "NOTHING")) is None
+
+
+@pytest.fixture
+def split_reads(monkeypatch):
+    """Every drawing read in halves; the lengths of the texts the ordinary reader was given
+    in this process (the second half is read in another)."""
+    lengths = []
+    sound = document.read_sound
+
+    def recorded(text):
+        lengths.append(len(text))
+        return sound(text)
+
+    monkeypatch.setattr(read, "SPLIT_CHARACTERS", 0)
+    monkeypatch.setattr(read, "read_sound", recorded)
+    monkeypatch.setattr(document, "read_sound", recorded)
+    return lengths
+
+
+def whole_contents(path, monkeypatch):
+    with monkeypatch.context() as patch:
+        patch.setattr(read, "SPLIT_CHARACTERS", float("inf"))
+        return contents(path)
+
+
+@pytest.fixture(scope="module")
+def suite_drawing(tmp_path_factory):
+    """A mixed floor of the benchmark suite: rooms, curved walls, racking, stations."""
+    return write_style(tmp_path_factory.mktemp("suite") / "mixed.dxf", "mixed", 300)
+
+
+@pytest.mark.parametrize("name", ["mixed suite drawing"]
+                         + sorted(path.name for path in SAMPLES.glob("*.dxf")))
+def test_halves_read_as_the_whole_file(name, suite_drawing, split_reads, monkeypatch):
+    path = suite_drawing if name == "mixed suite drawing" else SAMPLES / name
+    whole = whole_contents(path, monkeypatch)
+    split_reads.clear()
+    assert contents(path) == whole
+    # only the first half was read here, a text shorter than the file's
+    assert len(split_reads) == 1 and split_reads[0] < len(path.read_text())
+
+
+@pytest.mark.parametrize("refused", ["first", "second"])
+def test_a_half_the_ordinary_reader_refuses_sends_the_whole_file_to_it(
+        refused, suite_drawing, split_reads, monkeypatch):
+    whole = whole_contents(suite_drawing, monkeypatch)
+    length = len(suite_drawing.read_text())
+    here, sound = os.getpid(), document.read_sound
+    lengths = []
+
+    def refusing(text):
+        if os.getpid() == here:
+            lengths.append(len(text))
+        in_first = os.getpid() == here and len(text) < length
+        if len(text) < length and (in_first if refused == "first" else os.getpid() != here):
+            return None
+        return sound(text)
+
+    monkeypatch.setattr(read, "read_sound", refusing)
+    monkeypatch.setattr(document, "read_sound", refusing)
+    assert contents(suite_drawing) == whole
+    # the first half, then the whole file
+    assert len(lengths) == 2 and lengths[0] < length and lengths[1] == length
+
+
+def test_a_limit_reached_in_the_second_half_is_reported_as_in_the_whole(tmp_path, split_reads,
+                                                                          monkeypatch):
+    doc = new_drawing()
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 10, 8)
+    msp.add_circle((5, 4), 3.0, dxfattribs={"layer": "A-COLS"})     # drawn last
+    path = tmp_path / "circle.dxf"
+    doc.saveas(path)
+    limits = Limits(max_curve_vertices=8)
+    with pytest.raises(LimitError) as split:
+        read.read_drawing(path, chord_tolerance=0.001, limits=limits)
+    assert split_reads
+    monkeypatch.setattr(read, "SPLIT_CHARACTERS", float("inf"))
+    with pytest.raises(LimitError) as whole:
+        read.read_drawing(path, chord_tolerance=0.001, limits=limits)
+    assert str(split.value) == str(whole.value)
