@@ -9,7 +9,6 @@ whole file, in one process.
 from __future__ import annotations
 
 import io
-import os
 
 import ezdxf
 import pytest
@@ -103,24 +102,24 @@ def test_text_without_two_entities_is_not_cut():
 
 @pytest.fixture
 def split_reads(monkeypatch):
-    """Every drawing read in halves; the lengths of the texts the ordinary reader was given
-    in this process (the second half is read in another)."""
-    lengths = []
+    """Every drawing read in halves: in a second process where one can be forked, else here
+    in turn. Returns the texts the ordinary reader was given in this process."""
+    texts = []
     sound = document.read_sound
 
     def recorded(text):
-        lengths.append(len(text))
+        texts.append(text)
         return sound(text)
 
-    monkeypatch.setattr(read, "SPLIT_CHARACTERS", 0)
+    monkeypatch.setattr(read, "_worth_halves", lambda text: True)
     monkeypatch.setattr(read, "read_sound", recorded)
     monkeypatch.setattr(document, "read_sound", recorded)
-    return lengths
+    return texts
 
 
 def whole_contents(path, monkeypatch):
     with monkeypatch.context() as patch:
-        patch.setattr(read, "SPLIT_CHARACTERS", float("inf"))
+        patch.setattr(read, "_worth_halves", lambda text: False)
         return contents(path)
 
 
@@ -137,31 +136,31 @@ def test_halves_read_as_the_whole_file(name, suite_drawing, split_reads, monkeyp
     whole = whole_contents(path, monkeypatch)
     split_reads.clear()
     assert contents(path) == whole
-    # only the first half was read here, a text shorter than the file's
-    assert len(split_reads) == 1 and split_reads[0] < len(path.read_text())
+    # the halves were read (the second here too when no process could be forked), never
+    # the whole file
+    first, second = entity_halves(path.read_text())
+    assert split_reads in ([first], [first, second])
 
 
-@pytest.mark.parametrize("refused", ["first", "second"])
+@pytest.mark.parametrize("refused", [0, 1])
 def test_a_half_the_ordinary_reader_refuses_sends_the_whole_file_to_it(
         refused, suite_drawing, split_reads, monkeypatch):
     whole = whole_contents(suite_drawing, monkeypatch)
-    length = len(suite_drawing.read_text())
-    here, sound = os.getpid(), document.read_sound
-    lengths = []
+    text = suite_drawing.read_text()
+    halves = entity_halves(text)
+    sound = document.read_sound
+    here = []
 
-    def refusing(text):
-        if os.getpid() == here:
-            lengths.append(len(text))
-        in_first = os.getpid() == here and len(text) < length
-        if len(text) < length and (in_first if refused == "first" else os.getpid() != here):
-            return None
-        return sound(text)
+    def refusing(candidate):
+        here.append(candidate)
+        return None if candidate == halves[refused] else sound(candidate)
 
     monkeypatch.setattr(read, "read_sound", refusing)
     monkeypatch.setattr(document, "read_sound", refusing)
     assert contents(suite_drawing) == whole
-    # the first half, then the whole file
-    assert len(lengths) == 2 and lengths[0] < length and lengths[1] == length
+    # the halves (the second in another process where one was forked), then the whole file
+    assert here[0] == halves[0] and here[-1] == text
+    assert here[1:-1] in ([], [halves[1]])
 
 
 def test_a_limit_reached_in_the_second_half_is_reported_as_in_the_whole(tmp_path, split_reads,
@@ -175,8 +174,8 @@ def test_a_limit_reached_in_the_second_half_is_reported_as_in_the_whole(tmp_path
     limits = Limits(max_curve_vertices=8)
     with pytest.raises(LimitError) as split:
         read.read_drawing(path, chord_tolerance=0.001, limits=limits)
-    assert split_reads
-    monkeypatch.setattr(read, "SPLIT_CHARACTERS", float("inf"))
+    assert split_reads[0] == entity_halves(path.read_text())[0]
+    monkeypatch.setattr(read, "_worth_halves", lambda text: False)
     with pytest.raises(LimitError) as whole:
         read.read_drawing(path, chord_tolerance=0.001, limits=limits)
     assert str(split.value) == str(whole.value)
