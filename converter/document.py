@@ -215,11 +215,14 @@ _ENTITY = re.compile(r"^[ \t]*0[ \t]*\n[ \t]*([A-Z0-9_]*[A-Z_][A-Z0-9_]*)[ \t]*\
 #: Entities that belong to the one before them (a POLYLINE's vertices, an INSERT's
 #: attributes, the end of either): a half never starts with one.
 _FOLLOWERS = frozenset({"VERTEX", "SEQEND", "ATTRIB"})
+#: APP DATA of entities that objects refer to.
+_REFERRED = ("{ACAD_XDICTIONARY", "{ACAD_REACTORS")
 
 
-def entity_halves(text):
+def entity_halves(text, least: int = 0):
     """Split sound DXF `text` (`ordinary_text`) into two drawings, (first, second), or None
-    when it has no ENTITIES section of two entities or more.
+    when it has no ENTITIES section of two entities or more and `least` characters or more,
+    or when objects refer to its entities.
 
     Each keeps every section of `text` (header, tables, blocks, objects) but only half the
     entities of its ENTITIES section, as counted: `first` those before the cut, `second`
@@ -241,7 +244,12 @@ def entity_halves(text):
     if section is None:
         return None
     end = _ENDSEC.search(text, section.end())
-    if end is None:
+    if end is None or end.start() - section.end() < least:
+        return None
+    # an entity with an extension dictionary, or one a group or an associative object
+    # watches, is referred to from the OBJECTS section: the half without it would hold
+    # objects that refer to nothing, which its audit repairs, and the file is read whole
+    if any(text.find(mark, section.end(), end.start()) >= 0 for mark in _REFERRED):
         return None
     starts = [match.start() for match in _ENTITY.finditer(text, section.end(), end.start())
               if match.group(1) not in _FOLLOWERS]

@@ -139,7 +139,7 @@ def read_drawing(path, *, chord_tolerance, units=None, limits=None, block_kind=N
     data = load_bytes(path, limits)
     sha256 = hashlib.sha256(data).hexdigest()
     text = ordinary_text(data)
-    halves = entity_halves(text) if text is not None and _worth_halves(text) else None
+    halves = _halves(text) if text is not None else None
     if halves is not None:
         with Aside(lambda: _read_half(halves[1], source, sha256, chord_tolerance, units,
                                       limits)) as second:
@@ -157,9 +157,10 @@ def read_drawing(path, *, chord_tolerance, units=None, limits=None, block_kind=N
     return _place_blocks(doc, content, reading, limits, block_kind)
 
 
-def _worth_halves(text) -> bool:
-    """Whether `text`'s model space is read in two halves side by side (SPLIT_CHARACTERS)."""
-    return len(text) >= SPLIT_CHARACTERS and can_fork()
+def _halves(text):
+    """The two drawings `text`'s model space is read in side by side, or None: one pass
+    (a small model space, or no second process to be had)."""
+    return entity_halves(text, least=SPLIT_CHARACTERS) if can_fork() else None
 
 
 @dataclass

@@ -183,11 +183,20 @@ def _root_dictionary_first(codes, values, zero, names, start):
 
 def _extensions_sound(codes, values, zero):
     """APP DATA (102) opens and closes in pairs inside one entity, before its XDATA; XDATA
-    (1001 on) holds only codes from 1000 and balanced lists; no embedded objects (101)."""
+    (1001 on) holds only codes from 1000 and balanced lists; no embedded objects (101).
+
+    APP DATA belongs to the first, unnamed part of an entity, before its first subclass
+    marker (100): after that marker, both of ezdxf's readers take a 102 as an ordinary tag
+    (the data of an XRECORD, such as a visual style's properties, uses it freely).
+    """
     if (codes == 101).any():
         return False
     entity = _entity_of(codes, zero)
+    subclass = np.flatnonzero(codes == 100)
+    first_subclass = np.full(len(zero) + 1, len(codes))
+    np.minimum.at(first_subclass, entity[subclass] + 1, subclass)
     marks = np.flatnonzero(codes == 102)
+    marks = marks[marks < first_subclass[entity[marks] + 1]]
     if len(marks):
         if len(marks) % 2:
             return False

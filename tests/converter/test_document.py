@@ -117,3 +117,33 @@ def test_recover_and_ordinary_documents_agree_on_a_sound_file(tmp_path):
         return [(e.dxftype(), e.dxf.handle, e.dxf.layer) for e in doc.modelspace()]
     assert entities(ordinary) == entities(recovered)
     assert [layer.dxf.name for layer in ordinary.layers] == [layer.dxf.name for layer in recovered.layers]
+
+
+def xrecord_drawing(tmp_path, tags):
+    """A sound drawing with an XRECORD holding `tags` under the root dictionary."""
+    doc = new_drawing()
+    walled_room(doc.modelspace(), 0, 0, 10, 8)
+    record = doc.objects.add_xrecord(doc.rootdict.dxf.handle)
+    record.extend(tags)
+    doc.rootdict["CLEARWAY_TEST"] = record
+    path = tmp_path / "xrecord.dxf"
+    doc.saveas(path)
+    return path
+
+
+# source: ezdxf's lldxf/extendedtags.py: APP DATA is collected in an entity's first, unnamed
+# part only; a 102 after a subclass marker is an ordinary tag to both readers. Real drawings
+# keep visual-style properties so (tests/data/real/SOURCES.md: the university floor, the
+# house plan with elevations)
+@pytest.mark.parametrize("tags", [[(102, "MATERIAL"), (1, "concrete")],
+                                  [(102, "{NOT_APP_DATA"), (70, 1)],
+                                  [(102, "VTR_VISUALSTYLE"), (102, "VTR_GRIDDISPLAY"), (102, "ODD")]])
+def test_a_102_in_an_xrecords_data_is_sound_and_reads_as_recovered(tmp_path, tags, monkeypatch):
+    path = xrecord_drawing(tmp_path, tags)
+    assert sound_text(path.read_bytes()) is not None
+    assert contents(path) == recovered_contents(path, monkeypatch)
+
+
+def test_an_unclosed_app_data_before_the_subclass_is_still_left_to_recovery(tmp_path):
+    data = drawing_bytes(tmp_path)
+    assert sound_text(EDITS["APP DATA not closed"](data)) is None
