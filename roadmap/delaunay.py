@@ -207,17 +207,53 @@ def triangulate(points: np.ndarray, free_space=None, *, strip_points: int = STRI
     half = len(bands) // 2
 
     def triangles_of(some):
+        """The triangles of these strips, joined; their neighbours among themselves; what
+        `measure` makes of each strip's triangles."""
         made = [_strip(points, along, axis, band, free_space) for band in some]
-        return [(simplices, measure(simplices) if measure else ()) for simplices in made]
+        joined = np.concatenate(made) if made else np.zeros((0, 3), dtype=np.int64)
+        return (joined, neighbours_of(joined) if neighbours else None,
+                [measure(simplices) if measure else () for simplices in made])
 
     done = side_by_side({"first": lambda: triangles_of(bands[:half]),
                          "second": lambda: triangles_of(bands[half:])}, aside=["second"])
-    pieces = done["first"] + done["second"]
-    simplices = np.concatenate([simplices for simplices, _ in pieces])
-    result = simplices, neighbours_of(simplices) if neighbours else None
+    (first, first_neighbours, first_measured), (second, second_neighbours, second_measured) = \
+        done["first"], done["second"]
+    simplices = np.concatenate([first, second])
+    result = simplices, joined_neighbours(simplices, first_neighbours, second_neighbours) \
+        if neighbours else None
     if measure is None:
         return result
-    return (*result, tuple(np.concatenate(arrays) for arrays in zip(*(m for _, m in pieces))))
+    pieces = first_measured + second_measured
+    return (*result, tuple(np.concatenate(arrays) for arrays in zip(*pieces)))
+
+
+def joined_neighbours(simplices: np.ndarray, first: np.ndarray, second: np.ndarray) -> np.ndarray:
+    """``neighbours_of(simplices)`` from the neighbours of its first ``len(first)`` triangles
+    among themselves (`first`) and of the rest among themselves (`second`): only the edges
+    left without a neighbour in either are matched again (those where the two parts meet,
+    and the hull's), a small share of all.
+
+    Examples
+    --------
+    >>> simplices = np.array([[0, 1, 2], [0, 2, 3]])
+    >>> alone = np.full((1, 3), -1)
+    >>> joined_neighbours(simplices, alone, alone).tolist()
+    [[-1, 1, -1], [-1, -1, 0]]
+    """
+    count = len(first)
+    flat = np.concatenate([first, np.where(second >= 0, second + count, -1)])
+    triangle, corner = np.nonzero(flat < 0)
+    # the edge opposite a corner joins the other two
+    a = simplices[triangle, (corner + 1) % 3]
+    b = simplices[triangle, (corner + 2) % 3]
+    low, high = np.minimum(a, b), np.maximum(a, b)
+    key = low.astype(np.int64) * (int(high.max(initial=0)) + 1) + high
+    order = np.argsort(key, kind="stable")
+    twice = np.flatnonzero(key[order][1:] == key[order][:-1])
+    i, j = order[twice], order[twice + 1]
+    flat[triangle[i], corner[i]] = triangle[j]
+    flat[triangle[j], corner[j]] = triangle[i]
+    return flat
 
 
 def strip_bands(along: np.ndarray, strips: int, circles=None, axis: int = 0):

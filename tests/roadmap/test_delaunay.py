@@ -6,11 +6,13 @@ from __future__ import annotations
 import numpy as np
 import pytest
 import shapely
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from scipy.spatial import Delaunay, cKDTree
 
 import clearway.roadmap.delaunay as module
-from clearway.roadmap.delaunay import (circumcircles, delaunay, morton_order, neighbours_of,
-                                       triangulate)
+from clearway.roadmap.delaunay import (circumcircles, delaunay, joined_neighbours, morton_order,
+                                       neighbours_of, triangulate)
 from clearway.roadmap.gvd import free_circles
 
 
@@ -117,6 +119,9 @@ def test_two_processes_give_the_strips_of_one(monkeypatch):
         results.append(triangulate(points, room, split_points=2000, measure=measure))
     (one, one_n, (one_sum, one_count)), (two, two_n, (two_sum, two_count)) = results
     assert np.array_equal(one, two) and np.array_equal(one_n, two_n)
+    # each half's neighbours, made where it was, joined: those of all triangles at once
+    # (neighbours_of itself is held to Qhull's in the test above)
+    assert np.array_equal(one_n, neighbours_of(one))
     assert np.array_equal(one_sum, two_sum) and np.array_equal(one_count, two_count)
     # two strips, each measured where it was made, joined in order
     assert len(one_count) == 2 and one_count.sum() == len(one)
@@ -170,3 +175,15 @@ def test_strips_placed_by_a_coarser_triangulations_circles_are_done_once(monkeyp
             assert len(calls) > 2                 # a strip was done again
         else:
             assert len(calls) == 2                # each strip once
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.integers(0, 2**32 - 1), st.integers(3, 400), st.floats(0.0, 1.0))
+def test_neighbours_joined_from_two_parts_are_those_of_the_whole(seed, count, share):
+    points = np.random.default_rng(seed).uniform(0, 10, (count, 2))
+    simplices = Delaunay(points).simplices
+    cut = int(share * len(simplices))
+    joined = joined_neighbours(simplices, neighbours_of(simplices[:cut]),
+                               neighbours_of(simplices[cut:]))
+    # source: scipy's Qhull neighbours of the same triangles
+    assert np.array_equal(joined, Delaunay(points).neighbors)
