@@ -1,6 +1,6 @@
 """Run independent pieces of work side by side: some in a forked process, the rest in this one.
 
-Four uses, each of work that does not depend on the rest:
+Five uses, each of work that does not depend on the rest:
 
 - `clearway build` reads the drawing in the second process while this one imports the
   roadmap stage and the exporters (a few tenths of a second of start-up), and gets the
@@ -13,7 +13,9 @@ Four uses, each of work that does not depend on the rest:
   together, so a second process that renders it while this one renders the rest shortens
   the output stage by close to half on two cores;
 - the Delaunay triangulation of a floor of 60,000 boundary samples or more is made in
-  strips (clearway.roadmap.delaunay), half of them in the second process.
+  strips (clearway.roadmap.delaunay), half of them in the second process;
+- on a medial axis of 100,000 vertices or more, the floor is split into rooms in the
+  second process while this one prunes the lanes (clearway.roadmap.build).
 
 The child is a fork: it shares the caller's data copy-on-write and sends back only its
 results (one pickle through a pipe). It writes no file and prints nothing; this process
@@ -92,7 +94,9 @@ def side_by_side(work: Mapping[str, Callable[[], object]],
 class Aside:
     """`function` (no arguments, a picklable result) called in a forked child from the
     moment the ``with`` block is entered, where :func:`can_fork`; else here, when
-    :meth:`result` is first asked for. This process meanwhile runs the block.
+    :meth:`result` is first asked for. This process meanwhile runs the block. With
+    `fork` false (too little work to pay for a process) it runs here too, unless
+    CLEARWAY_PROCESSES=2 asks for the second process.
 
     Leaving the block before :meth:`result` (an error, Ctrl-C, SIGTERM) kills and reaps the
     child.
@@ -105,15 +109,16 @@ class Aside:
     49
     """
 
-    def __init__(self, function: Callable[[], object]):
+    def __init__(self, function: Callable[[], object], fork: bool = True):
         self.function = function
+        self.fork = fork
         self.pid = None
         self.pipe = None
         self.done = False
         self.value = None
 
     def __enter__(self) -> "Aside":
-        if not can_fork():
+        if not (self.fork or forced()) or not can_fork():
             return self
         read_end, write_end = os.pipe()
         gc.freeze()      # the child's collector then leaves the shared objects' pages alone

@@ -132,18 +132,34 @@ def test_switched_off_everything_renders_here(monkeypatch):
         {"a": here}
 
 
-def _build(tmp_path, name, processes):
+@needs_fork
+def test_aside_with_too_little_work_runs_here_unless_two_processes_are_asked_for(
+        one_thread, monkeypatch):
+    here = os.getpid()
+    monkeypatch.delenv("CLEARWAY_PROCESSES", raising=False)
+    with Aside(os.getpid, fork=False) as child:
+        assert child.result() == here
+    monkeypatch.setenv("CLEARWAY_PROCESSES", "2")
+    with Aside(os.getpid, fork=False) as child:
+        assert child.result() != here
+
+
+def _build(tmp_path, name, processes, sample=SAMPLE):
     out = tmp_path / name
     env = {**os.environ, "CLEARWAY_PROCESSES": processes}
-    done = subprocess.run([sys.executable, "-m", "clearway", "build", str(SAMPLE), "-o", str(out),
+    done = subprocess.run([sys.executable, "-m", "clearway", "build", str(sample), "-o", str(out),
                            "-q"], env=env, capture_output=True, text=True, timeout=300)
     assert done.returncode == 0, done.stderr
     return out
 
 
 @needs_fork
-def test_the_build_writes_the_same_bytes_with_one_process_or_two(tmp_path):
-    one, two = _build(tmp_path, "one", "1"), _build(tmp_path, "two", "2")
+@pytest.mark.parametrize("sample", [SAMPLE, ROOT / "sample_drawings" / "clinic.dxf"],
+                         ids=["warehouse", "rooms"])
+def test_the_build_writes_the_same_bytes_with_one_process_or_two(tmp_path, sample):
+    # with two, the drawing is read, the rooms are found and the preview is rendered in a
+    # second process (clearway.side_by_side)
+    one, two = _build(tmp_path, "one", "1", sample), _build(tmp_path, "two", "2", sample)
     names = sorted(path.name for path in one.iterdir())
     assert names == sorted(path.name for path in two.iterdir()) and "roadmap.svg" in names
     for name in names:
