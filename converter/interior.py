@@ -127,10 +127,11 @@ def _enclose(solid, enclosed, gaps, kinds, find_envelope):
     quads = shapely.buffer(np.array([gaps[k].quad for k in kept], dtype=object), SEAM,
                            join_style="mitre")
     shut = quads[[kinds[k] in ("window", "closed") for k in kept]] if len(kept) else quads
-    walls = _with(solid, shut)
-    bridged = _with(solid, quads)
+    walls = _with(solid, shapely.union_all(shut)) if len(shut) else solid
+    united = shapely.union_all(quads) if len(quads) else None
+    bridged = _with(solid, united)
     # `enclosed` holds the solid walls already: the quads are all `bridged` adds to it
-    base = fill_holes(_with(enclosed, quads))
+    base = fill_holes(_with(enclosed, united))
     leaks, container = find_leaks(bridged, base) if find_envelope else ([], base)
     envelope = fill_holes(container)
     outside = _lead_outside([gaps[k] for k in kept], envelope) if find_envelope and kept \
@@ -139,17 +140,19 @@ def _enclose(solid, enclosed, gaps, kinds, find_envelope):
 
 
 def _with(area, quads):
-    """`area` (a MultiPolygon) with the gaps' `quads` added, as a MultiPolygon.
+    """`area` (a MultiPolygon) with the gaps' `quads` added (their union, or None for none),
+    as a MultiPolygon.
 
     The quads are united among themselves first (most stand apart, so that is quick), then
     with `area` in one overlay: they overlap the walls by SEAM, so the union of every part
     at once (a cascade over hundreds of wall parts and thousands of quads) did the same work
     over many more overlays. On the mixed suite floor at 20,000 bays (228 wall parts, 2,030
-    quads) that union took 0.32 s, this one 0.18 s.
+    quads) that union took 0.32 s, this one 0.18 s, of which 0.08 s unites the quads: that
+    is done once for the walls with every gap bridged and for the enclosed area.
     """
-    if not len(quads):
+    if quads is None:
         return area
-    return as_multipolygon(shapely.union(area, shapely.union_all(quads)))
+    return as_multipolygon(shapely.union(area, quads))
 
 
 def _lead_outside(gaps, envelope):
