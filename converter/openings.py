@@ -253,8 +253,10 @@ def find_gaps(solid, loose, *, max_thickness, max_width=MAX_WINDOW_WIDTH, hints=
     if not len(middles):
         return []
     loose = np.asarray(loose, dtype=object)
-    bands = shapely.buffer(loose, 0.005, cap_style="flat") if len(loose) else loose
-    walls = shapely.union_all(np.concatenate([shapely.get_parts(solid), bands]))
+    # the solid walls are one union already: only the single-line walls' bands join them
+    # (uniting the 228 wall parts of the mixed suite floor at 20,000 bays again took 0.12 s)
+    walls = shapely.union(solid, shapely.union_all(
+        shapely.buffer(loose, 0.005, cap_style="flat"))) if len(loose) else solid
     outline = shapely.boundary(walls)
     tree_target = segments(shapely.get_parts(outline))
     if not len(tree_target):
