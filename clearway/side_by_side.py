@@ -121,6 +121,7 @@ class Aside:
         if not (self.fork or forced()) or not can_fork():
             return self
         read_end, write_end = os.pipe()
+        parent = os.getpid()
         gc.freeze()      # the child's collector then leaves the shared objects' pages alone
         try:
             pid = os.fork()
@@ -131,6 +132,7 @@ class Aside:
             return self
         if pid == 0:     # the child: work, send, leave without running any exit handler
             os.close(read_end)
+            _die_with(parent)
             _child(self.function, write_end)
         gc.unfreeze()
         os.close(write_end)
@@ -161,6 +163,28 @@ class Aside:
             _stop(self.pid)
             self.pid = None
         return None
+
+
+#: prctl's option that has the kernel signal a process when the thread that forked it ends
+#: (linux/prctl.h).
+_PR_SET_PDEATHSIG = 1
+
+
+def _die_with(parent: int) -> None:
+    """Have the kernel kill this child when `parent`, which forked it, ends, however it ends.
+
+    A child may fork a child of its own (the reader parses half the drawing in one): killed
+    by its parent (Ctrl-C, SIGTERM), it cannot stop that one, which would parse on, alone.
+    Where prctl is not to be had, nothing is asked.
+    """
+    try:
+        import ctypes
+        libc = ctypes.CDLL(None, use_errno=True)
+        libc.prctl(_PR_SET_PDEATHSIG, signal.SIGKILL, 0, 0, 0)
+    except (OSError, AttributeError):
+        return
+    if os.getppid() != parent:      # it ended before the request was made
+        os._exit(1)
 
 
 def _child(function, write_end) -> None:

@@ -241,3 +241,36 @@ def test_an_interrupt_while_reading_leaves_no_second_process(tmp_path, signum):
     time.sleep(0.2)
     assert process.returncode != 0 and not out.exists()
     assert not [pid for pid, _, command in _processes() if str(out).encode() in command]
+
+
+def _alive(pid: int) -> bool:
+    """Whether `pid` runs (a zombie, dead and not yet reaped, does not)."""
+    try:
+        with open(f"/proc/{pid}/stat", encoding="ascii") as stat:
+            return stat.read().rsplit(")", 1)[1].split()[0] != "Z"
+    except FileNotFoundError:
+        return False
+
+
+@needs_fork
+def test_a_child_of_a_child_ends_when_its_parent_is_killed(one_thread, tmp_path):
+    # the reader forks one to parse half the drawing: a build killed while reading (its
+    # reader killed by SIGKILL, which cannot be caught) must leave nothing parsing on
+    marker = tmp_path / "grandchild"
+
+    def middle():
+        with Aside(lambda: (marker.write_text(str(os.getpid())), time.sleep(60))) as inner:
+            time.sleep(60)
+            return inner.result()
+
+    with Aside(middle) as outer:
+        deadline = time.monotonic() + 30
+        while not (marker.exists() and marker.read_text()) and time.monotonic() < deadline:
+            time.sleep(0.01)
+        grandchild = int(marker.read_text())
+        assert _alive(grandchild)
+        os.kill(outer.pid, signal.SIGKILL)
+        deadline = time.monotonic() + 10
+        while _alive(grandchild) and time.monotonic() < deadline:
+            time.sleep(0.01)
+        assert not _alive(grandchild)
