@@ -206,13 +206,14 @@ def read_sound(text):
     return (doc, auditor) if not auditor.fixes and not auditor.errors else None
 
 
-_ENTITIES = re.compile(r"^[ \t]*0[ \t]*\n[ \t]*SECTION[ \t]*\n[ \t]*2[ \t]*\n[ \t]*ENTITIES[ \t]*\n",
-                       re.MULTILINE)
-_ENDSEC = re.compile(r"^[ \t]*0[ \t]*\n[ \t]*ENDSEC[ \t]*\n", re.MULTILINE)
+#: Tags as ezdxf's reader takes them: a group code line is an integer, spaces about it
+#: allowed; a value line is the value, spaces and all (ezdxf strips only the line end).
+_ENTITIES = re.compile(r"^[ \t]*0[ \t]*\nSECTION\n[ \t]*2[ \t]*\nENTITIES\n", re.MULTILINE)
+_ENDSEC = re.compile(r"^[ \t]*0[ \t]*\nENDSEC\n", re.MULTILINE)
 #: A tag of group code 0 (an entity starts). Its value has a letter, so it cannot be a group
 #: code line, and the line before it is a group code 0, not a value: in sound text every
 #: group code is an integer.
-_ENTITY = re.compile(r"^[ \t]*0[ \t]*\n[ \t]*([A-Z0-9_]*[A-Z_][A-Z0-9_]*)[ \t]*\n", re.MULTILINE)
+_ENTITY = re.compile(r"^[ \t]*0[ \t]*\n([A-Z0-9_]*[A-Z_][A-Z0-9_]*)\n", re.MULTILINE)
 #: Entities that belong to the one before them (a POLYLINE's vertices, an INSERT's
 #: attributes, the end of either): a half never starts with one.
 _FOLLOWERS = frozenset({"VERTEX", "SEQEND", "ATTRIB"})
