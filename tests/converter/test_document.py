@@ -147,3 +147,22 @@ def test_a_102_in_an_xrecords_data_is_sound_and_reads_as_recovered(tmp_path, tag
 def test_an_unclosed_app_data_before_the_subclass_is_still_left_to_recovery(tmp_path):
     data = drawing_bytes(tmp_path)
     assert sound_text(EDITS["APP DATA not closed"](data)) is None
+
+
+def test_a_sound_file_whose_audit_only_removes_an_empty_group_is_read_once(tmp_path,
+                                                                            monkeypatch):
+    doc = new_drawing()
+    walled_room(doc.modelspace(), 0, 0, 10, 8)
+    doc.groups.new("*A1")           # an anonymous group whose entities were all erased
+    path = tmp_path / "empty-group.dxf"
+    doc.saveas(path)
+    assert sound_text(path.read_bytes()) is not None
+    # source: ezdxf's recovery reader on the same file, with the same repair notice
+    expected = recovered_contents(path, monkeypatch)
+    assert any("empty group" in notice for notice in expected[-2])
+
+    def refuse(*args, **kwargs):
+        raise AssertionError("read a second time by the recovery reader")
+
+    monkeypatch.setattr(document.recover, "read", refuse)
+    assert contents(path) == expected

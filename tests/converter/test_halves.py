@@ -149,9 +149,9 @@ def split_reads(monkeypatch):
     texts = []
     sound = document.read_sound
 
-    def recorded(text):
+    def recorded(text, **options):
         texts.append(text)
-        return sound(text)
+        return sound(text, **options)
 
     monkeypatch.setattr(read, "_halves", entity_halves)
     monkeypatch.setattr(read, "read_sound", recorded)
@@ -193,9 +193,9 @@ def test_a_half_the_ordinary_reader_refuses_sends_the_whole_file_to_it(
     sound = document.read_sound
     here = []
 
-    def refusing(candidate):
+    def refusing(candidate, **options):
         here.append(candidate)
-        return None if candidate == halves[refused] else sound(candidate)
+        return None if candidate == halves[refused] else sound(candidate, **options)
 
     monkeypatch.setattr(read, "read_sound", refusing)
     monkeypatch.setattr(document, "read_sound", refusing)
