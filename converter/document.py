@@ -40,9 +40,6 @@ _SECTION_NAME = re.compile(rb"SECTION[ \t]*\r?\n[ \t]*2[ \t]*\r?\n[ \t]*(\w+)")
 #: Repair notices kept in full (the report lists them; the summary counts them).
 MAX_NOTICES = 200
 
-#: `parse_document`'s text when the caller has not checked it.
-UNKNOWN = object()
-
 DAMAGE = (DXFError, AttributeError, AssertionError, ValueError, TypeError, KeyError,
           IndexError, ZeroDivisionError, OverflowError, UnicodeError, EOFError)
 
@@ -116,16 +113,6 @@ def check_dxf_bytes(data, source):
         raise DrawingError(f"{source}: file is truncated: no end-of-file marker")
 
 
-def open_document(path, limits=None):
-    """Read `path` through ezdxf's recovery; return (document, sha256, repair notices).
-
-    The notices are ezdxf's own words for each repair, at most MAX_NOTICES of them.
-    """
-    data = load_bytes(path, limits)
-    doc, notices = parse_document(data, Path(path).name)
-    return doc, hashlib.sha256(data).hexdigest(), notices
-
-
 def load_bytes(path, limits=None) -> bytes:
     """The bytes of the DXF file `path`: DrawingError when it is missing, unreadable, not DXF
     or truncated, LimitError when it is larger than `limits` allow."""
@@ -147,10 +134,11 @@ def load_bytes(path, limits=None) -> bytes:
     return data
 
 
-def parse_document(data, source, text=UNKNOWN):
-    """(document, repair notices) of the checked bytes `data` (`load_bytes`) of file `source`.
+def parse_document(data, source, text):
+    """(document, repair notices) of the checked bytes `data` (`load_bytes`) of file `source`,
+    `text` being `ordinary_text(data)` (None: not sound, for the recovery reader).
 
-    text : `ordinary_text(data)` when the caller has it already (None: not sound).
+    The notices are ezdxf's own words for each repair, at most MAX_NOTICES of them.
     """
     try:
         with quiet_library():
@@ -158,7 +146,7 @@ def parse_document(data, source, text=UNKNOWN):
                 doc = Drawing.load(binary_tags_loader(data))
                 auditor = doc.audit()
             else:
-                doc, auditor = _read_ascii(data, ordinary_text(data) if text is UNKNOWN else text)
+                doc, auditor = _read_ascii(data, text)
     except RecursionError:
         raise DrawingError(f"{source}: not a readable DXF file (structures nest too "
                            f"deeply to recover)") from None

@@ -139,9 +139,9 @@ def _enclose(solid, enclosed, gaps, kinds, find_envelope):
     return kept, quads, walls, leaks, container, envelope, outside
 
 
-def _with(area, quads):
-    """`area` (a MultiPolygon) with the gaps' `quads` added (their union, or None for none),
-    as a MultiPolygon.
+def _with(area, united):
+    """`area` (a MultiPolygon) with the gaps' quads added, as a MultiPolygon; `united` is
+    their union, None for none.
 
     The quads are united among themselves first (most stand apart, so that is quick), then
     with `area` in one overlay: they overlap the walls by SEAM, so the union of every part
@@ -150,9 +150,9 @@ def _with(area, quads):
     quads) that union took 0.32 s, this one 0.18 s, of which 0.08 s unites the quads: that
     is done once for the walls with every gap bridged and for the enclosed area.
     """
-    if quads is None:
+    if united is None:
         return area
-    return as_multipolygon(shapely.union(area, quads))
+    return as_multipolygon(shapely.union(area, united))
 
 
 def _lead_outside(gaps, envelope):

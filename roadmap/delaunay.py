@@ -139,18 +139,21 @@ def neighbours_of(simplices: np.ndarray) -> np.ndarray:
     [[-1, 1, -1], [-1, -1, 0]]
     """
     count = len(simplices)
-    first = simplices[:, [1, 2, 0]].T.ravel()
-    second = simplices[:, [2, 0, 1]].T.ravel()
-    low, high = np.minimum(first, second), np.maximum(first, second)
-    key = low.astype(np.int64) * (int(high.max(initial=0)) + 1) + high
-    order = np.argsort(key, kind="stable")
-    ordered = key[order]
-    twice = np.flatnonzero(ordered[1:] == ordered[:-1])
-    a, b = order[twice], order[twice + 1]
+    a, b = _shared_edges(simplices[:, [1, 2, 0]].T.ravel(), simplices[:, [2, 0, 1]].T.ravel())
     flat = np.full(3 * count, -1, dtype=np.int64)
     flat[a] = b % count
     flat[b] = a % count
     return np.ascontiguousarray(flat.reshape(3, count).T)
+
+
+def _shared_edges(start, end):
+    """Index pairs (i, j) of the edges ``(start[k], end[k])`` given twice, either way round,
+    matched through one sorted int64 key each (an edge borders at most two triangles)."""
+    low, high = np.minimum(start, end), np.maximum(start, end)
+    key = low.astype(np.int64) * (int(high.max(initial=0)) + 1) + high
+    order = np.argsort(key, kind="stable")
+    twice = np.flatnonzero(key[order][1:] == key[order][:-1])
+    return order[twice], order[twice + 1]
 
 
 def strip_count(count: int, strip_points: int = STRIP_POINTS,
@@ -244,13 +247,8 @@ def joined_neighbours(simplices: np.ndarray, first: np.ndarray, second: np.ndarr
     flat = np.concatenate([first, np.where(second >= 0, second + count, -1)])
     triangle, corner = np.nonzero(flat < 0)
     # the edge opposite a corner joins the other two
-    a = simplices[triangle, (corner + 1) % 3]
-    b = simplices[triangle, (corner + 2) % 3]
-    low, high = np.minimum(a, b), np.maximum(a, b)
-    key = low.astype(np.int64) * (int(high.max(initial=0)) + 1) + high
-    order = np.argsort(key, kind="stable")
-    twice = np.flatnonzero(key[order][1:] == key[order][:-1])
-    i, j = order[twice], order[twice + 1]
+    i, j = _shared_edges(simplices[triangle, (corner + 1) % 3],
+                         simplices[triangle, (corner + 2) % 3])
     flat[triangle[i], corner[i]] = triangle[j]
     flat[triangle[j], corner[j]] = triangle[i]
     return flat
