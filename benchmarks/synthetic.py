@@ -85,7 +85,7 @@ STYLES = {
     "mixed": "racking beside mezzanine-style blocks of small rooms and curved walls",
 }
 FLUE, COLUMN_RADIUS, COLUMN_EVERY, RUN_PITCH = 0.1, 0.2, 5, BAYS_PER_RUN * BAY_LENGTH + CROSS_AISLE
-DOCK_DEPTH, ROOM_W, ROOM_D, DOOR, PARTITION = 30.0, 5.0, 4.0, 1.2, 0.15
+DOCK_DEPTH, ROOM_W, ROOM_D, DOOR, PARTITION, CURVE_PITCH = 30.0, 5.0, 4.0, 1.2, 0.15, 30.0
 
 
 class _Sheet:
@@ -129,17 +129,20 @@ class _Sheet:
         return Path(path)
 
 
-def _grid(bays, pitch):
-    """Runs across and double rows for about `bays` bays on a floor about 1.6 x as wide as deep."""
+def _grid(bays, pitch, aspect=1.6):
+    """Runs across and double rows for about `bays` bays on a floor about `aspect` x as wide as
+    deep."""
     per_cell = 2 * BAYS_PER_RUN
-    runs = max(1, round(math.sqrt(bays * pitch / (1.6 * per_cell * RUN_PITCH))))
+    runs = max(1, round(math.sqrt(bays * pitch / (aspect * per_cell * RUN_PITCH))))
     return runs, max(1, math.ceil(bays / (per_cell * runs)))
 
 
-def _racking(sheet, bays, *, flue, y_start, columns):
-    """Double rows in runs of 20 bays from y_start; return (width, top of the racking)."""
+def _racking(sheet, bays, *, flue, y_start, columns, runs=None):
+    """Double rows in runs of 20 bays from y_start, `runs` across (by default as many as keep the
+    racking about 1.6 x as wide as deep); return (width, top of the racking)."""
     pitch = 2 * BAY_DEPTH + flue + AISLE
-    runs, rows = _grid(bays, pitch)
+    runs = runs or _grid(bays, pitch)[0]
+    rows = max(1, math.ceil(bays / (2 * BAYS_PER_RUN * runs)))
     placed = 0
     for row in range(rows):
         y = y_start + row * pitch
@@ -251,16 +254,20 @@ def write_style(path, style="current", bays=5000):
             sheet.circles.extend((x, DOCK_DEPTH / 2) for x in np.arange(12.0, width - 6.0, 12.0))
     elif style == "angled":
         width, depth = _angled(sheet, bays)
-    else:  # mixed: racking on two thirds of the floor, rooms and curved walls on the rest
+    else:  # mixed: racking on two thirds of the floor's width, rooms and curved walls beside it
         racked = int(bays * 2 / 3)
-        width, top = _racking(sheet, bays - racked, flue=0.0, y_start=6.0, columns="aisle")
-        _, top = _racking(sheet, racked, flue=FLUE, y_start=top + 8.0, columns="aisle")
-        columns = max(2, int((width - 30.0) / ROOM_W))
-        rooms_top = 6.0
-        _, rooms_top = _rooms(sheet, width + 6.0, 6.0, columns, max(1, int(top / 11.0 / 2)))
-        for k, y in enumerate(np.arange(rooms_top + 20.0, top - 15.0, 40.0)):
-            _curved_wall(sheet, width + 6.0 + (columns * ROOM_W) / 2, float(y), 10.0,
-                         200.0 + 40 * (k % 2), 140.0)
-        width = width + 6.0 + columns * ROOM_W + 6.0
+        runs = _grid(bays, 2 * BAY_DEPTH + AISLE, aspect=1.6 * 2 / 3)[0]  # one width for both
+        width, top = _racking(sheet, bays - racked, flue=0.0, y_start=6.0, columns="aisle",
+                              runs=runs)
+        _, top = _racking(sheet, racked, flue=FLUE, y_start=top + 8.0, columns="aisle", runs=runs)
+        x0, columns = width + 6.0, max(2, int(width / 2 / ROOM_W))
+        rows = max(1, int((top - 6.0) / 2 / (2 * ROOM_D + 3.0)))  # rooms on the lower half
+        _, rooms_top = _rooms(sheet, x0, 6.0, columns, rows)
+        across = max(1, int(columns * ROOM_W / CURVE_PITCH))  # curved walls on the upper half
+        for k, y in enumerate(np.arange(rooms_top + 20.0, top - 5.0, CURVE_PITCH)):
+            for j in range(across):
+                _curved_wall(sheet, x0 + (j + 0.5) * columns * ROOM_W / across, float(y), 10.0,
+                             200.0 + 40 * ((k + j) % 2), 140.0)
+        width = x0 + columns * ROOM_W + 6.0
         depth = top + 3.0
     return sheet.save(path, width, depth)
