@@ -13,6 +13,8 @@ segments among more samples, or the STRtree's nearest query). Results agree with
 
 from __future__ import annotations
 
+import os
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 from functools import cached_property
 
@@ -30,6 +32,10 @@ WIDER = 16
 NEAR_TIE = 1e-9
 #: Points per block of a query, bounding the temporary arrays to a few tens of MB.
 BLOCK = 200_000
+#: Queries of this many points or more are answered in blocks of THREAD_BLOCK points on two
+#: threads: numpy and the k-d tree release the GIL, and blocks this small keep each
+#: block's temporary arrays in the processor's cache.
+THREADED_POINTS, THREAD_BLOCK = 50_000, 16_384
 
 
 @dataclass(frozen=True)
@@ -179,11 +185,23 @@ class ClearanceField:
         xy = np.asarray(xy, dtype=float).reshape(-1, 2)
         if len(xy) == 0 or len(self.segments) == 0:
             return np.full(len(xy), np.inf)
+        if len(xy) >= THREADED_POINTS and _cores() > 1:
+            blocks = [xy[i:i + THREAD_BLOCK] for i in range(0, len(xy), THREAD_BLOCK)]
+            # the indexes are built here, not raced for by the threads (GEOS builds an
+            # STRtree at its first query)
+            self.index, self._parts, self.tree.query_nearest(shapely.points(xy[:1]))
+            # threads joined before returning: a thread left running would keep the build
+            # from forking (clearway.side_by_side)
+            with ThreadPoolExecutor(2) as pool:
+                return np.concatenate(list(pool.map(self._at, blocks)))
         if len(xy) > BLOCK:
-            return np.concatenate([self.at(xy[i:i + BLOCK]) for i in range(0, len(xy), BLOCK)])
+            return np.concatenate([self._at(xy[i:i + BLOCK]) for i in range(0, len(xy), BLOCK)])
+        return self._at(xy)
+
+    def _at(self, xy) -> np.ndarray:
+        """`at` for one block of points, in this thread."""
         k = min(CANDIDATES, len(self.samples))
-        # threads pay off only on large queries (starting them costs about a millisecond)
-        reach, nearest = self.index.query(xy, k=k, workers=-1 if len(xy) > 20_000 else 1)
+        reach, nearest = self.index.query(xy, k=k)
         reach, nearest = reach.reshape(len(xy), k), nearest.reshape(len(xy), k)
         segment = self.owner[nearest]
         best = self._distance(xy, segment).min(axis=1)
@@ -270,6 +288,12 @@ class ClearanceField:
         at = interval[which] + 1
         return (np.insert(xy, at, extra, axis=0), np.insert(owner, at, owner[at - 1]),
                 np.insert(value, at, self.at(extra)))
+
+
+def _cores() -> int:
+    """Processor cores this process may run on."""
+    return len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else \
+        (os.cpu_count() or 1)
 
 
 def sample_lines(lines, step: float) -> tuple[np.ndarray, np.ndarray]:

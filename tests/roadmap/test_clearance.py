@@ -2,10 +2,13 @@
 
 from __future__ import annotations
 
+import threading
+
 import numpy as np
 import pytest
 import shapely
 
+import clearway.roadmap.clearance as clearance
 from clearway.roadmap.clearance import clearance_field
 from clearway.roadmap.inflate import boundary_segments
 
@@ -42,6 +45,26 @@ def test_at_least_answers_as_the_exact_distance_does(spacing):
         decided = np.abs(exact - need) > 1e-9
         assert (clear[decided] == (exact >= need)[decided]).all()
         assert (clear == (field.at(xy) >= need)).all()
+
+
+@pytest.mark.parametrize("spacing", [0.25, 3.0])
+def test_a_large_query_on_two_threads_gives_the_same_floats(spacing, monkeypatch):
+    # a query of THREADED_POINTS or more runs in blocks on two threads; each point's answer
+    # is its own, so the floats equal those of one pass, and GEOS's distance (reference)
+    free = _room_with_rack()
+    segments = boundary_segments(free)[0]
+    xy = np.random.default_rng(5).uniform((-2, -2), (22, 14), size=(6000, 2))
+    one = clearance_field(segments, spacing=spacing).at(xy)
+    monkeypatch.setattr(clearance, "THREADED_POINTS", 1000)
+    monkeypatch.setattr(clearance, "THREAD_BLOCK", 700)
+    monkeypatch.setattr(clearance, "_cores", lambda: 2)
+    field = clearance_field(segments, spacing=spacing)   # its indexes built by the query
+    threads = field.at(xy)
+    assert np.array_equal(threads, one)
+    assert np.allclose(threads, shapely.distance(shapely.points(xy), free.boundary),
+                       rtol=0, atol=1e-9)
+    # the threads are joined: none is left to keep the build from forking
+    assert not any(t.name.startswith("ThreadPoolExecutor") for t in threading.enumerate())
 
 
 def test_spacing_does_not_change_the_answer():
