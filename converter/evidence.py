@@ -52,6 +52,22 @@ INCH_FORMATS = {3: "engineering", 4: "architectural"}
 _FEET_INCHES = re.compile(r"""^\s*(?:(\d+(?:\.\d+)?)\s*'\s*-?\s*)?(?:(\d+(?:\.\d+)?)(?:\s+(\d+)/(\d+))?\s*(?:"|''))?\s*$""")
 _WITH_UNIT = re.compile(r"^\s*(\d+(?:[.,]\d+)?)\s*(mm|cm|m)\s*$", re.IGNORECASE)
 
+#: Room-area texts: a number with a unit of area after it ("28.51 m²", "855 SQ. FT.", "345 SF")
+#: or before it ("mq=28.51", Italian metri quadri). Common practice: plans label each room
+#: with its net floor area, computed by the CAD program from the room's outline.
+_NUMBER = r"(\d{1,3}(?:[,.]\d{3})+(?:[.,]\d+)?|\d+(?:[.,]\d+)?)"
+_SQUARE_METRES = r"(?:m²|m2|mq|sq\.?\s*m\.?|sqm)"
+_SQUARE_FEET = r"(?:ft²|ft2|sq\.?\s*ft\.?|sqft|s\.?f\.?)"
+_AREA_AFTER = re.compile(_NUMBER + r"\s*(" + _SQUARE_METRES + "|" + _SQUARE_FEET + r")(?![a-z0-9])",
+                         re.IGNORECASE)
+_AREA_BEFORE = re.compile(r"(?<![a-z])(" + _SQUARE_METRES + "|" + _SQUARE_FEET + r")\s*[=:]?\s*"
+                          + _NUMBER, re.IGNORECASE)
+#: Square metres in a square foot (exact: 0.3048 m squared).
+SQUARE_FOOT_M2 = 0.09290304
+#: Area texts implying one unit (within 3 %) that are enough to count: one alone may be a
+#: coincidence.
+MIN_AREA_TEXTS = 2
+
 
 @dataclass(frozen=True)
 class Evidence:
@@ -62,7 +78,7 @@ class Evidence:
     kind: str
     values: np.ndarray
     weight: float
-    implied: bool = False   # values are metres per drawing unit (dimension text)
+    implied: bool = False   # values are metres per drawing unit (dimension or area text)
 
 
 def door_swings(arcs):
@@ -289,6 +305,91 @@ def text_length_m(text):
     return total * 0.0254 if total > 0 else None
 
 
+def _plain_number(text, feet=False):
+    """A number as a plan writes it: with both separators the last is the decimal one
+    (1,257.42 or 1.257,42); a separator written twice groups thousands (1.257.000); one comma
+    before three digits groups thousands in square feet (1,257 sf), else it is decimal (28,51)."""
+    separators = [c for c in text if c in ",."]
+    if len(set(separators)) == 2:
+        decimal = separators[-1]
+        return float(text.replace("," if decimal == "." else ".", "").replace(decimal, "."))
+    if len(separators) > 1:
+        return float(text.replace(separators[0], ""))
+    if separators == [","] and feet and re.fullmatch(r"\d{1,3},\d{3}", text):
+        return float(text.replace(",", ""))
+    return float(text.replace(",", "."))
+
+
+def text_area_m2(text):
+    """The floor area a room's text states, square metres, or None when it states none.
+
+    Examples
+    --------
+    >>> text_area_m2("mq=28.51"), text_area_m2("Palier 2,09 m²"), text_area_m2("AREA :- 116.818 Sq.M.")
+    (28.51, 2.09, 116.818)
+    >>> round(text_area_m2("855 SQ. FT."), 4), round(text_area_m2("1,257 sf"), 4)
+    (79.4321, 116.7791)
+    >>> text_area_m2("1.257,5 m2"), text_area_m2("12,500 m²")
+    (1257.5, 12.5)
+    >>> text_area_m2("H=2.60"), text_area_m2("3.60 m"), text_area_m2("12 SFX")
+    (None, None, None)
+    """
+    match = _AREA_AFTER.search(text)
+    if match:
+        value, unit = match.group(1), match.group(2)
+    else:
+        match = _AREA_BEFORE.search(text)
+        if not match:
+            return None
+        unit, value = match.group(1), match.group(2)
+    feet = re.fullmatch(_SQUARE_METRES, unit, re.IGNORECASE) is None
+    area = _plain_number(value, feet)
+    if feet:
+        area *= SQUARE_FOOT_M2
+    return area if area > 0 else None
+
+
+def area_factors(texts, rings):
+    """Metres per drawing unit implied by room-area texts (`text_area_m2`) inside closed
+    outlines: sqrt(stated area / the area of the smallest outline holding the text).
+
+    Parameters
+    ----------
+    texts : sequence of (x, y, text), drawing units
+    rings : array of closed LineString or LinearRing, drawing units (any layer's closed
+        polylines: room outlines are often drawn for the area they state)
+
+    Returns
+    -------
+    (N,) ndarray, one factor for each area text inside an outline.
+
+    Examples
+    --------
+    >>> room = shapely.box(0, 0, 5000, 4000).exterior           # 5 m x 4 m drawn in mm
+    >>> area_factors([(2500, 2000, "20.00 m²"), (9000, 0, "7 m²")], [room]).tolist()
+    [0.001]
+    """
+    stated = [(x, y, area) for x, y, text in texts
+              if (area := text_area_m2(text)) is not None]
+    rings = np.asarray(rings, dtype=object).reshape(-1)
+    if not stated or len(rings) == 0:
+        return np.empty(0)
+    outlines = shapely.polygons(rings)
+    size = shapely.area(outlines)
+    keep = shapely.is_valid(outlines) & (size > 0)
+    outlines, size = outlines[keep], size[keep]
+    if len(outlines) == 0:
+        return np.empty(0)
+    xy = np.array([(x, y) for x, y, _ in stated], dtype=float)
+    text_index, outline = shapely.STRtree(outlines).query(shapely.points(xy),
+                                                          predicate="within")
+    smallest = np.full(len(stated), np.inf)
+    np.minimum.at(smallest, text_index, size[outline])
+    held = np.isfinite(smallest)
+    area = np.array([a for _, _, a in stated])
+    return np.sqrt(area[held] / smallest[held])
+
+
 def header_evidence(header):
     """Evidence from the header's other unit settings, for a drawing whose $INSUNITS names
     no unit: a length format in feet and inches ($LUNITS 3 or 4: the unit is an inch) and
@@ -338,7 +439,8 @@ def describe(evidence, units):
     factor = UNITS_TO_M[units]
     values = evidence.values
     if evidence.implied:
-        return f"{len(values)} dimension texts give {np.median(values) / factor:.3g} x this unit"
+        texts = "room-area texts" if evidence.kind == "area text" else "dimension texts"
+        return f"{len(values)} {texts} give {np.median(values) / factor:.3g} x this unit"
     low, high = np.percentile(values * factor, [10, 90])
     name = {"door swings": "doors", "wall thickness": "walls", "extent": "the plan"}.get(evidence.kind)
     if evidence.kind == "extent":
@@ -362,10 +464,10 @@ def judge_units(evidence):
     return dict(sorted(scores.items(), key=lambda pair: -pair[1]))
 
 
-def gather_evidence(*, swing_arcs, wall_lines, dimensions, span, rack_bays=()):
+def gather_evidence(*, swing_arcs, wall_lines, dimensions, span, rack_bays=(), areas=()):
     """Collect the evidence (drawing units) that is there; a kind with too few samples is
     left out (one arc is a chair, two doors a plan). `rack_bays` are rack-bay depths
-    (`rack_depths`)."""
+    (`rack_depths`), `areas` the factors room-area texts imply (`area_factors`)."""
     found = []
     radii = door_swings(swing_arcs)
     if len(radii) >= 2:
@@ -380,6 +482,14 @@ def gather_evidence(*, swing_arcs, wall_lines, dimensions, span, rack_bays=()):
     factors = dimension_factors(dimensions)
     if len(factors):
         found.append(Evidence("dimension text", factors, 3.0, implied=True))
+    # an area text whose outline is not its room's (a corridor, the whole floor, a frame
+    # round the text) implies no unit at all: only those that imply one count
+    areas = np.asarray(areas, dtype=float)
+    agree = np.zeros(len(areas), dtype=bool)
+    for units in CANDIDATE_UNITS:
+        agree |= np.abs(areas / UNITS_TO_M[units] - 1) <= 0.03
+    if agree.sum() >= MIN_AREA_TEXTS:
+        found.append(Evidence("area text", areas[agree], 3.0, implied=True))
     if span > 0:
         found.append(Evidence("extent", np.array([span]), 1.0))
     return found

@@ -15,9 +15,11 @@ import shapely
 
 from clearway.errors import DrawingError
 
-from clearway.converter.evidence import (decide_from_content, describe, gather_evidence,
-                                         header_evidence, hinged_on, judge_units, nearest_parallel, rack_depths,
-                                         wall_thicknesses, WALL_THICKNESS_M)
+from clearway.converter.evidence import (MIN_AREA_TEXTS, WALL_THICKNESS_M, area_factors,
+                                         decide_from_content, describe, gather_evidence,
+                                         header_evidence, hinged_on, judge_units,
+                                         nearest_parallel, rack_depths, text_area_m2,
+                                         wall_thicknesses)
 from clearway.converter.floorplan import ROLES, LeftOutLayer
 from clearway.converter.inserts import BLOCK_OPENING_PREFIX
 from clearway.converter.openings import arc_radius
@@ -237,7 +239,7 @@ def _decide_units(content, override, by_role, visible, role_of):
                           if name in content.parts])
     evidence = gather_evidence(swing_arcs=arcs, wall_lines=np.concatenate([lines, rings]),
                                dimensions=content.dimensions, span=span,
-                               rack_bays=rack_depths(racks))
+                               rack_bays=rack_depths(racks), areas=_area_factors(content, visible))
     header_unit = INSUNITS_CODES.get(content.insunits)
     if header_unit is None:
         evidence += header_evidence(content.header)
@@ -253,6 +255,21 @@ def _decide_units(content, override, by_role, visible, role_of):
     if doubt:
         span_warnings = (*span_warnings, f"{source}: {doubt}")
     return chosen, factor, default_note, kind, lines, tuple(span_warnings), doubt
+
+
+def _area_factors(content, visible):
+    """Metres per unit that the room-area texts on visible layers imply (`area_factors`),
+    measured against the closed outlines and filled areas of every visible layer."""
+    texts = [(x, y, text) for layer, x, y, text, _ in content.texts + content.attribute_texts
+             if layer in visible and text_area_m2(text) is not None]
+    if len(texts) < MIN_AREA_TEXTS:
+        return np.empty(0)
+    outlines = [np.empty(0, dtype=object)]
+    for name in sorted(visible):
+        if name in content.parts and len(content.parts[name].kinds):
+            _, rings, fills = content.parts[name].geometries()
+            outlines += [rings, shapely.get_exterior_ring(fills)]
+    return area_factors(texts, np.concatenate(outlines))
 
 
 def header_doubt(header_unit, override, evidence):

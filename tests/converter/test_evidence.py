@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 import shapely
 
-from clearway.converter.evidence import wall_thicknesses
+from clearway.converter.evidence import area_factors, text_area_m2, wall_thicknesses
 
 
 def test_wall_thickness_is_the_distance_between_overlapping_parallel_faces():
@@ -30,3 +30,33 @@ def test_wall_thickness_takes_the_nearest_of_several_partners():
     faces = [shapely.LineString([(0, y), (8, y)]) for y in (0.0, 0.2, 3.2)]
     # analytic: the middle face is 0.2 m from one neighbour and 3.0 m from the other
     assert sorted(wall_thicknesses(faces)) == pytest.approx([0.2, 0.2, 3.0])
+
+
+@pytest.mark.parametrize("text, square_metres", [
+    ("mq=28.51", 28.51),                       # Italian plans: metri quadri before the value
+    ("Palier 2,09 m\u00b2", 2.09),             # decimal comma, superscript two
+    ("A002 \nSalle TD\n71.25 m\u00b2", 71.25),  # a room tag's last line
+    ("AREA :- 116.818 Sq.M.", 116.818),        # three decimals, not thousands
+    ("855 SQ. FT.", 855 * 0.3048 ** 2),        # source: 1 ft = 0.3048 m exactly (1959 agreement)
+    ("1,257 sf", 1257 * 0.3048 ** 2),          # thousands grouped in square feet
+    ("1.257,5 m2", 1257.5),
+])
+def test_room_area_texts_state_square_metres(text, square_metres):
+    assert text_area_m2(text) == pytest.approx(square_metres, rel=1e-12)
+
+
+@pytest.mark.parametrize("text", ["H=2.60 cm", "3.60 m", "12 SFX", "ROOM 12", "m2"])
+def test_texts_without_an_area_state_none(text):
+    assert text_area_m2(text) is None
+
+
+def test_an_area_text_implies_the_unit_of_its_smallest_outline():
+    # analytic: a 5 m x 4 m room drawn in inches is 196.85 x 157.48 units; 20 m² inside it
+    # implies 0.0254 m per unit; the building's outline round it is not the room's
+    inch = 0.0254
+    room = shapely.box(0, 0, 5 / inch, 4 / inch).exterior
+    building = shapely.box(-10, -10, 20 / inch, 10 / inch).exterior
+    factors = area_factors([(100, 80, "20.00 m\u00b2"), (700, 300, "9 m\u00b2")],
+                           [building, room])
+    assert factors[0] == pytest.approx(inch, rel=1e-12)
+    assert len(factors) == 2 and abs(factors[1] / inch - 1) > 0.5

@@ -104,3 +104,43 @@ def test_r12_drawing_with_layer_names_in_a_local_code_page(tmp_path, codec, wall
     assert plan.units == "mm", plan.unit_note
     assert plan.free_space.area == pytest.approx(7.6 * 5.6, rel=1e-6)
     assert not any("no layer is named as walls" in warning for warning in plan.warnings)
+
+
+def _masonry_house(tmp_path, labels):
+    """Two rooms behind 0.7 m masonry walls, drawn in metres under a header that says mm
+    ($INSUNITS = 4, a template's default), each room outlined on an area layer and labelled
+    with `labels` (text, x, y) as CAD area tags are."""
+    doc = new_drawing(4)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 12, 8, thickness=0.7)
+    msp.add_lwpolyline([(4.85, 0.7), (5.15, 0.7), (5.15, 7.3), (4.85, 7.3)], close=True,
+                       dxfattribs={"layer": WALL})
+    for x0, x1 in ((0.7, 4.85), (5.15, 11.3)):
+        msp.add_lwpolyline([(x0, 0.7), (x1, 0.7), (x1, 7.3), (x0, 7.3)], close=True,
+                           dxfattribs={"layer": "A-AREA"})
+    for text, x, y in labels:
+        msp.add_text(text, dxfattribs={"layer": "A-AREA-IDEN", "insert": (x, y), "height": 0.2})
+    return read_floorplan(save(doc, tmp_path))
+
+
+# analytic: the rooms' floors are 4.15 m x 6.6 m = 27.39 m² and 6.15 m x 6.6 m = 40.59 m²
+ROOM_AREAS = [("mq=27.39", 2.0, 4.0), ("40,59 m\u00b2", 8.0, 4.0)]
+
+
+def test_room_area_texts_overrule_a_header_that_says_mm(tmp_path):
+    plan = _masonry_house(tmp_path, ROOM_AREAS)
+    # walls 0.7 m thick say feet as well as metres (0.21 m in ft is a common wall, 0.7 m a
+    # rare one); the stated areas fit the outlines only in metres
+    assert (plan.units, plan.unit_source) == ("m", "content")
+    assert any("2 room-area texts give 1 x this unit" in warning and "header says mm" in warning
+               for warning in plan.warnings)
+    assert "area text: mm 0%, cm 0%, m 100%, in 0%, ft 0%" in plan.unit_evidence
+    assert plan.free_space.area == pytest.approx(27.39 + 40.59, rel=1e-6)
+
+
+@pytest.mark.parametrize("labels", [ROOM_AREAS[:1],                     # one may be chance
+                                    [(t, x, y + 10.0) for t, x, y in ROOM_AREAS]])  # outside
+def test_one_area_text_or_texts_outside_their_rooms_decide_nothing(tmp_path, labels):
+    plan = _masonry_house(tmp_path, labels)
+    assert not any(line.startswith("area text") for line in plan.unit_evidence)
+    assert plan.units != "m"
