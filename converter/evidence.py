@@ -62,10 +62,15 @@ _AREA_AFTER = re.compile(_NUMBER + r"\s*(" + _SQUARE_METRES + "|" + _SQUARE_FEET
                          re.IGNORECASE)
 _AREA_BEFORE = re.compile(r"(?<![a-z])(" + _SQUARE_METRES + "|" + _SQUARE_FEET + r")\s*[=:]?\s*"
                           + _NUMBER, re.IGNORECASE)
+#: Room-size texts: two lengths with a times sign between ("14'2\" x 12'4\"", "3.60 x 4.20 m"),
+#: the room's clear width and depth (common practice on residential plans and on plans that
+#: floor scanners export).
+_SIZE = re.compile(r"^\s*(.+?)\s*[xX\u00d7*]\s*(.+?)\s*$")
+_BARE_NUMBER = re.compile(r"^\d+(?:[.,]\d+)?$")
 #: Square metres in a square foot (exact: 0.3048 m squared).
 SQUARE_FOOT_M2 = 0.09290304
-#: Area texts implying one unit (within 3 %) that are enough to count: one alone may be a
-#: coincidence.
+#: Area or size texts implying one unit (within 3 %) that are enough to count: one alone may
+#: be a coincidence.
 MIN_AREA_TEXTS = 2
 
 
@@ -390,6 +395,97 @@ def area_factors(texts, rings):
     return np.sqrt(area[held] / smallest[held])
 
 
+def text_size_m(text):
+    """The two sides a room-size text states, metres, or None when it states no size with a
+    unit (feet and inches, or mm, cm or m after the second side).
+
+    Examples
+    --------
+    >>> [round(v, 4) for v in text_size_m("14'2'' x 12'4''")]
+    [4.318, 3.7592]
+    >>> text_size_m("3.60 x 4.20 m"), text_size_m("Kitchen\\n360 x 420 cm")
+    ((3.6, 4.2), (3.6, 4.2))
+    >>> text_size_m("3.60 x 4.20"), text_size_m("2 x 4"), text_size_m("Hallway")
+    (None, None, None)
+    """
+    for line in text.replace("\\P", "\n").replace("\\n", "\n").splitlines():
+        match = _SIZE.match(line)
+        if not match:
+            continue
+        first, second = match.groups()
+        width, depth = text_length_m(first), text_length_m(second)
+        if width is None and depth is not None and _BARE_NUMBER.match(first):
+            unit = _WITH_UNIT.match(second).group(2)       # "3.60 x 4.20 m": both in m
+            width = text_length_m(f"{first} {unit}")
+        if width and depth:
+            return width, depth
+    return None
+
+
+def size_factors(texts, walls, *, reach):
+    """Metres per drawing unit implied by room-size texts (`text_size_m`): the clear span of
+    the room across each text, along x and along y, to the nearest wall linework.
+
+    Parameters
+    ----------
+    texts : sequence of (x, y, text), drawing units
+    walls : array of LineString (wall faces), drawing units
+    reach : float
+        How far the spans are sought, drawing units (the plan's size).
+
+    Returns
+    -------
+    (N,) ndarray, one value for each text with walls round it: the geometric mean of the
+    factors its two sides imply where they agree (within 3 %, in either order); else the
+    factor of a side that implies a candidate unit (a room's other side often ends at a
+    closet or an alcove), stated width along x, depth along y; else NaN (no unit).
+
+    Examples
+    --------
+    >>> room = shapely.box(0, 0, 400, 300).exterior              # 4 m x 3 m drawn in cm
+    >>> size_factors([(150, 120, "3.00 x 4.00 m")], [room], reach=1000).round(6).tolist()
+    [0.01]
+    """
+    stated = [(x, y, size) for x, y, text in texts if (size := text_size_m(text)) is not None]
+    walls = np.asarray(walls, dtype=object).reshape(-1)
+    if not stated or len(walls) == 0 or not reach > 0:
+        return np.empty(0)
+    faces = shapely.get_parts(walls)
+    # marks smaller than a fiftieth of the plan (arrows, ticks, small columns) are no room's
+    # sides: a span is measured between walls
+    low_x, low_y, high_x, high_y = shapely.bounds(faces).T
+    faces = faces[np.hypot(high_x - low_x, high_y - low_y) >= reach / 50]
+    origin = np.repeat(np.array([(x, y) for x, y, _ in stated], dtype=float), 4, axis=0)
+    step = np.tile(np.array([(1, 0), (-1, 0), (0, 1), (0, -1)], dtype=float), (len(stated), 1))
+    rays = shapely.linestrings(np.stack([origin, origin + step * reach], axis=1))
+    ray, face = shapely.STRtree(faces).query(rays, predicate="intersects")
+    points, hit = shapely.get_coordinates(shapely.intersection(rays[ray], faces[face]),
+                                          return_index=True)
+    nearest = np.full(len(rays), np.inf)
+    np.minimum.at(nearest, ray[hit],
+                  np.abs(((points - origin[ray[hit]]) * step[ray[hit]]).sum(axis=1)))
+    span_x, span_y = (nearest[0::4] + nearest[1::4]), (nearest[2::4] + nearest[3::4])
+    factors = []
+    for (_, _, (a, b)), across, along in zip(stated, span_x, span_y):
+        if not (np.isfinite(across) and np.isfinite(along) and across > 0 and along > 0):
+            continue
+        value = np.nan
+        for first, second in ((a / across, b / along), (a / along, b / across)):
+            if abs(first / second - 1) <= 0.03:
+                value = float(np.sqrt(first * second))
+                break
+        else:
+            sides = [ratio for ratio in (a / across, b / along) if _implies_a_unit(ratio)]
+            value = sides[0] if sides else np.nan
+        factors.append(value)
+    return np.array(factors, dtype=float)
+
+
+def _implies_a_unit(factor):
+    """Whether metres-per-unit `factor` is a candidate unit's, within 3 %."""
+    return any(abs(factor / UNITS_TO_M[units] - 1) <= 0.03 for units in CANDIDATE_UNITS)
+
+
 def header_evidence(header):
     """Evidence from the header's other unit settings, for a drawing whose $INSUNITS names
     no unit: a length format in feet and inches ($LUNITS 3 or 4: the unit is an inch) and
@@ -439,7 +535,9 @@ def describe(evidence, units):
     factor = UNITS_TO_M[units]
     values = evidence.values
     if evidence.implied:
-        texts = "room-area texts" if evidence.kind == "area text" else "dimension texts"
+        texts = {"area text": "room-area texts", "size text": "room-size texts"}.get(
+            evidence.kind, "dimension texts")
+        values = values[np.isfinite(values)]
         return f"{len(values)} {texts} give {np.median(values) / factor:.3g} x this unit"
     low, high = np.percentile(values * factor, [10, 90])
     name = {"door swings": "doors", "wall thickness": "walls", "extent": "the plan"}.get(evidence.kind)
@@ -464,10 +562,12 @@ def judge_units(evidence):
     return dict(sorted(scores.items(), key=lambda pair: -pair[1]))
 
 
-def gather_evidence(*, swing_arcs, wall_lines, dimensions, span, rack_bays=(), areas=()):
+def gather_evidence(*, swing_arcs, wall_lines, dimensions, span, rack_bays=(), areas=(),
+                    sizes=()):
     """Collect the evidence (drawing units) that is there; a kind with too few samples is
     left out (one arc is a chair, two doors a plan). `rack_bays` are rack-bay depths
-    (`rack_depths`), `areas` the factors room-area texts imply (`area_factors`)."""
+    (`rack_depths`), `areas` and `sizes` the factors room-area and room-size texts imply
+    (`area_factors`, `size_factors`)."""
     found = []
     radii = door_swings(swing_arcs)
     if len(radii) >= 2:
@@ -485,11 +585,14 @@ def gather_evidence(*, swing_arcs, wall_lines, dimensions, span, rack_bays=(), a
     # an area text whose outline is not its room's (a corridor, the whole floor, a frame
     # round the text) implies no unit at all: only those that imply one count
     areas = np.asarray(areas, dtype=float)
-    agree = np.zeros(len(areas), dtype=bool)
-    for units in CANDIDATE_UNITS:
-        agree |= np.abs(areas / UNITS_TO_M[units] - 1) <= 0.03
+    agree = np.array([_implies_a_unit(factor) for factor in areas], dtype=bool)
     if agree.sum() >= MIN_AREA_TEXTS:
         found.append(Evidence("area text", areas[agree], 3.0, implied=True))
+    # a size text's span runs between walls, so every one measured counts: a unit must
+    # explain most of them (NaN where a text implies none)
+    sizes = np.asarray(sizes, dtype=float)
+    if np.isfinite(sizes).sum() >= MIN_AREA_TEXTS:
+        found.append(Evidence("size text", sizes, 3.0, implied=True))
     if span > 0:
         found.append(Evidence("extent", np.array([span]), 1.0))
     return found

@@ -18,8 +18,8 @@ from clearway.errors import DrawingError
 from clearway.converter.evidence import (MIN_AREA_TEXTS, WALL_THICKNESS_M, area_factors,
                                          decide_from_content, describe, gather_evidence,
                                          header_evidence, hinged_on, judge_units,
-                                         nearest_parallel, rack_depths, text_area_m2,
-                                         wall_thicknesses)
+                                         nearest_parallel, rack_depths, size_factors,
+                                         text_area_m2, text_size_m, wall_thicknesses)
 from clearway.converter.floorplan import ROLES, LeftOutLayer
 from clearway.converter.inserts import BLOCK_OPENING_PREFIX
 from clearway.converter.openings import arc_radius
@@ -228,7 +228,7 @@ def _decide_units(content, override, by_role, visible, role_of):
         [name for name in visible if role_of.get(name) is None]
     arcs = Parts.concat([content.parts[name] for name in arc_layers if name in content.parts]).arcs()
     wall = Parts.concat([content.parts[name] for name in by_role["wall"] if name in content.parts])
-    lines, rings, _ = wall.geometries()
+    lines, rings, fills = wall.geometries()
     if len(arcs):
         # door swings hinge on the walls: arcs of fittings and symbols elsewhere (basins,
         # section bubbles) would speak for another unit; kept all when too few are hinged
@@ -239,7 +239,9 @@ def _decide_units(content, override, by_role, visible, role_of):
                           if name in content.parts])
     evidence = gather_evidence(swing_arcs=arcs, wall_lines=np.concatenate([lines, rings]),
                                dimensions=content.dimensions, span=span,
-                               rack_bays=rack_depths(racks), areas=_area_factors(content, visible))
+                               rack_bays=rack_depths(racks), areas=_area_factors(content, visible),
+                               sizes=_size_factors(content, visible,
+                                                   [lines, rings, shapely.boundary(fills)], span))
     header_unit = INSUNITS_CODES.get(content.insunits)
     if header_unit is None:
         evidence += header_evidence(content.header)
@@ -270,6 +272,17 @@ def _area_factors(content, visible):
             _, rings, fills = content.parts[name].geometries()
             outlines += [rings, shapely.get_exterior_ring(fills)]
     return area_factors(texts, np.concatenate(outlines))
+
+
+def _size_factors(content, visible, walls, span):
+    """Metres per unit that the room-size texts on visible layers imply (`size_factors`),
+    measured between the wall faces `walls` (arrays of lines)."""
+    texts = [(x, y, text) for layer, x, y, text, _ in content.texts + content.attribute_texts
+             if layer in visible and text_size_m(text) is not None]
+    if len(texts) < MIN_AREA_TEXTS:
+        return np.empty(0)
+    return size_factors(texts, np.concatenate([np.asarray(w, dtype=object) for w in walls]),
+                        reach=span)
 
 
 def header_doubt(header_unit, override, evidence):

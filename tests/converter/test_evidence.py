@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 import shapely
 
-from clearway.converter.evidence import area_factors, text_area_m2, wall_thicknesses
+from clearway.converter.evidence import area_factors, text_area_m2, text_size_m, wall_thicknesses
 
 
 def test_wall_thickness_is_the_distance_between_overlapping_parallel_faces():
@@ -60,3 +60,18 @@ def test_an_area_text_implies_the_unit_of_its_smallest_outline():
                            [building, room])
     assert factors[0] == pytest.approx(inch, rel=1e-12)
     assert len(factors) == 2 and abs(factors[1] / inch - 1) > 0.5
+
+
+@pytest.mark.parametrize("text, sides", [
+    ("14'2'' x 12'4''", (170 * 0.0254, 148 * 0.0254)),    # source: 1 in = 25.4 mm exactly
+    ('12\'0" X 7\'11"', (144 * 0.0254, 95 * 0.0254)),
+    ("Bedroom\n3.60 x 4.20 m", (3.6, 4.2)),              # the unit after the second side
+    ("360 \u00d7 420 cm", (3.6, 4.2)),
+])
+def test_room_size_texts_state_two_sides_in_metres(text, sides):
+    assert text_size_m(text) == pytest.approx(sides, rel=1e-12)
+
+
+@pytest.mark.parametrize("text", ["3.60 x 4.20", "2 x 4", "Hallway", "1:50"])
+def test_texts_without_a_size_and_unit_state_none(text):
+    assert text_size_m(text) is None

@@ -144,3 +144,39 @@ def test_one_area_text_or_texts_outside_their_rooms_decide_nothing(tmp_path, lab
     plan = _masonry_house(tmp_path, labels)
     assert not any(line.startswith("area text") for line in plan.unit_evidence)
     assert plan.units != "m"
+
+
+def _flat_in_inches(tmp_path, labels):
+    """Two rooms behind 12 in walls, drawn in inches with no unit in the header, labelled
+    with `labels` (text, x, y) as plans exported from floor scanners and estate agents'
+    plans give each room's clear width x depth."""
+    doc = new_drawing(0)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 350, 172, thickness=12)
+    msp.add_lwpolyline([(182, 12), (194, 12), (194, 160), (182, 160)], close=True,
+                       dxfattribs={"layer": WALL})
+    for text, x, y in labels:
+        msp.add_text(text, dxfattribs={"layer": "A-ANNO-TEXT", "insert": (x, y), "height": 6})
+    return read_floorplan(save(doc, tmp_path))
+
+
+# analytic: the rooms' clear spans are 170 in x 148 in (14'2" x 12'4") and 144 in x 148 in
+ROOM_SIZES = [("14'2'' x 12'4''", 90.0, 86.0), ("12'0\" x 12'4\"", 260.0, 86.0)]
+
+
+def test_room_size_texts_decide_a_unit_the_walls_leave_open(tmp_path):
+    # walls 12 units thick are 0.12 m in cm and 0.30 m in inches, both common: the walls
+    # alone read the plan in cm; the stated sizes fit the rooms' spans only in inches
+    assert _flat_in_inches(tmp_path, []).units == "cm"
+    plan = _flat_in_inches(tmp_path, ROOM_SIZES)
+    assert (plan.units, plan.unit_source) == ("in", "content")
+    assert "size text: mm 0%, cm 0%, m 0%, in 100%, ft 0%" in plan.unit_evidence
+    assert any("2 room-size texts give 1 x this unit" in warning for warning in plan.warnings)
+
+
+def test_size_texts_that_fit_no_room_decide_nothing(tmp_path):
+    # the same texts placed in a room twice their size: no side implies a unit
+    plan = _flat_in_inches(tmp_path, [("28'4'' x 24'8''", 90.0, 86.0),
+                                      ("24'0\" x 24'8\"", 260.0, 86.0)])
+    assert plan.units == "cm"
+    assert "size text: mm 0%, cm 0%, m 0%, in 0%, ft 0%" in plan.unit_evidence
