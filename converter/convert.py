@@ -194,25 +194,26 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
         plan, mapping, whole, failure = None, error.mapping, error.whole, error
     # only when the walls enclose nothing: where they enclose too little, a layer round them
     # is as likely the sheet's frame or the site as the building (a house on a slope took
-    # its drawing's frame, and lanes ran round the house outside)
+    # its drawing's frame, and lanes ran round the house outside). First a layer drawn round
+    # the walls, then the one the failure's message names as looking like walls.
     if plan is None and not roles.explicit & {"wall", "boundary"} \
             and not mapping.by_role["boundary"]:
-        shell = enclosing_layer(mapping, whole, gap_tolerance=gap_tolerance,
-                                reach=max_wall_thickness)
-        if shell is not None:
-            name, held = shell
+        walls = ", ".join(mapping.by_role["wall"][:3]) or "none"
+        for candidate in (_surrounding_layer, _wall_guess):
+            found = candidate(mapping, whole, reach=max_wall_thickness,
+                              gap_tolerance=gap_tolerance)
+            if found is None:
+                continue
+            name, why = found
             wider = Roles({**roles.patterns, "wall": roles.patterns["wall"] + (_glob_literal(name),)},
                           roles.explicit)
             try:        # reads the file again: only drawings that would fail come here
                 retry = _read_plan(path, roles=wider, **options)[0]
             except NoEnclosedFloor:
-                retry = None
-            if retry is not None:
-                walls = ", ".join(mapping.by_role["wall"][:3])
-                note = (f"{mapping.content.source}: the wall layers ({walls}) enclose no floor; "
-                        f"layer {name!r} surrounds them ({held:.0%} of their lines lie inside its "
-                        f"outline) and was taken for walls too; pass --walls to choose")
-                return replace(retry, warnings=retry.warnings + (note,))
+                continue
+            note = (f"{mapping.content.source}: the wall layers ({walls}) enclose no floor; "
+                    f"layer {name!r} {why} and was taken for walls too; pass --walls to choose")
+            return replace(retry, warnings=retry.warnings + (note,))
     if plan is None:
         raise failure
     return plan
@@ -328,7 +329,7 @@ def _read_plan(path, *, roles, units, chord_tolerance, gap_tolerance, max_wall_t
     if free.is_empty:
         raise NoEnclosedFloor(f"{subject}: no enclosed floor: the wall layers "
                               f"({', '.join(by_role['wall'][:4]) or 'none'}) enclose no free space "
-                              f"and no boundary is drawn;{_wall_hint(mapping)} check the layer "
+                              f"and no boundary is drawn;{_wall_hint(mapping, whole)} check the layer "
                               f"roles with `clearway layers`", mapping, whole)
     limits.check("max_boundary_length", float(free.boundary.length), subject=subject,
                  what="length of the free space's boundary in metres (the roadmap samples it "
@@ -463,13 +464,33 @@ def _check_mapped(content, roles, by_role, source):
                            f"--walls or --boundary (see `clearway layers`)")
 
 
-def _wall_hint(mapping):
+def _surrounding_layer(mapping, whole, *, reach, gap_tolerance):
+    """(layer, "surrounds them (why)") for a layer drawn round the wall layers
+    (`enclosing_layer`), or None."""
+    shell = enclosing_layer(mapping, whole, gap_tolerance=gap_tolerance, reach=reach)
+    if shell is None:
+        return None
+    name, held = shell
+    return name, f"surrounds them ({held:.0%} of their lines lie inside its outline)"
+
+
+def _wall_guess(mapping, whole, **_):
+    """(layer, "looks like walls (why)") for the unmapped layer that looks most like walls,
+    judged on the whole of model space (`whole`: parts by layer before other drawings were
+    left out; the walls of an unmapped layer reach beyond the drawing the mapped layers
+    span), or None."""
+    guess = guess_wall_layer(replace(mapping.content, parts=whole), mapping.visible,
+                             mapping.role_of)
+    return None if guess is None else (guess[0], f"looks like walls ({guess[1]})")
+
+
+def _wall_hint(mapping, whole):
     """' layer X looks like walls (why): pass --walls ...;' for an unmapped candidate, or ''."""
-    guess = guess_wall_layer(mapping.content, mapping.visible, mapping.role_of)
+    guess = _wall_guess(mapping, whole)
     if guess is None:
         return ""
-    name, reason = guess
-    return f" layer {name!r} looks like walls ({reason}): add --walls {name!r};"
+    name, why = guess
+    return f" layer {name!r} {why}: add --walls {name!r};"
 
 
 def _check_size(content, by_role, factor, unit, limits, subject):

@@ -20,6 +20,7 @@ from clearway.cli import main
 from clearway.converter import Roles, read_floorplan
 from clearway.converter.evidence import text_length_m
 from clearway.converter.roles import opening_kind
+from clearway.errors import DrawingError
 
 from tests.conftest import new_drawing, rectangle, save, walled_room, wall_with_gap
 
@@ -397,3 +398,27 @@ def test_what_is_drawn_in_a_gap_decides_its_kind(tmp_path, drawn, kind):
     # analytic: the gap spans x 4.0-5.6 m in the partition at y = 4
     assert (opening.kind, opening.width) == (kind, pytest.approx(1.6))
     assert plan.free_space.contains(shapely.Point(4.8, 4.0)) == (kind in ("door", "open"))
+
+
+def test_walls_on_an_unnamed_layer_are_taken_when_the_wall_layers_enclose_nothing(tmp_path):
+    """The structural columns sit on S-COLS (a wall layer by name); the architect's walls on
+    a layer whose name says nothing ("Layer 7", as a PDF import or a garbled code page leaves
+    them). The columns enclose nothing: rather than stop, the build takes the layer its own
+    message would name, and says so."""
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    for box in (rectangle(0, 0, 20, 12), rectangle(0.2, 0.2, 19.8, 11.8)):   # exploded
+        for start, end in zip(box, box[1:] + box[:1]):
+            msp.add_line(start, end, dxfattribs={"layer": "Layer 7"})
+    for x in (5, 10, 15):
+        for y in (3, 6, 9):
+            msp.add_lwpolyline(rectangle(x - 0.2, y - 0.2, x + 0.2, y + 0.2), close=True,
+                               dxfattribs={"layer": "S-COLS"})
+    plan = read_floorplan(save(doc, tmp_path))
+    # analytic: 19.6 m x 11.6 m inside the walls, less nine 0.4 m x 0.4 m columns
+    assert plan.free_space.area == pytest.approx(19.6 * 11.6 - 9 * 0.16, rel=1e-6)
+    assert any("layer 'Layer 7' looks like walls" in warning and "taken for walls too" in warning
+               for warning in plan.warnings)
+    # named as walls by the user, the columns alone still enclose nothing: no guessing then
+    with pytest.raises(DrawingError, match="no enclosed floor"):
+        read_floorplan(save(doc, tmp_path), roles=Roles.from_options(walls=["S-COLS"]))
