@@ -255,10 +255,16 @@ def render_svg(plan, roadmap, *, date: str, band=None, edges=None) -> bytes:
         largest = max(getattr(inside, "geoms", [inside]), key=lambda part: part.area)
         centre = shapely.get_coordinates(polylabel(largest, 0.25 * font))[0]
         labels.append((*centre, room.names[0], 0.9 * font, 0.0, False, inside))
-    placed = iter(placer.place_all(labels))   # in this order, as one at a time
+    # a pinch point's clearance is in report.json and the viewer: its label gives way
+    optional = [kind == "pinch" for kind, *_, label in symbols if label is not None]
+    placed = iter(placer.place_all(labels, optional + [False] * len(named)))
+    unlabelled = 0
     for kind, x, y, label in symbols:
-        add_marker(marks, kind, x, y, font, label,
-                   label_at=next(placed) if label is not None else None)
+        at = next(placed) if label is not None else None
+        if label is not None and at is None:
+            unlabelled += 1
+            label = None
+        add_marker(marks, kind, x, y, font, label, label_at=at)
     names = etree.SubElement(root, "g", id="room-names")
     for room in named:
         x, y, anchor = next(placed)
@@ -271,7 +277,7 @@ def render_svg(plan, roadmap, *, date: str, band=None, edges=None) -> bytes:
              if areas.get(role) is not None and not areas[role].is_empty}
 
     _add_title_block(root, plan, roadmap, date, bins, left, -ymin + pad, canvas_width, font,
-                     origin, (drawn, present))
+                     origin, (drawn, present), unlabelled={"pinch": unlabelled})
     return etree.tostring(root, xml_declaration=True, encoding="UTF-8", pretty_print=True)
 
 
@@ -298,7 +304,7 @@ def _add_pattern(root, font: float) -> None:
 
 
 def _add_title_block(root, plan, roadmap, date, bins, left, top, width, font, origin,
-                     occurring) -> None:
+                     occurring, unlabelled=None) -> None:
     block = etree.SubElement(root, "g", id="title-block")
     etree.SubElement(block, "rect", x=number(left + font), y=number(top),
                      width=number(width - 2 * font), height=number(13 * font), fill="#ffffff",
@@ -316,5 +322,5 @@ def _add_title_block(root, plan, roadmap, date, bins, left, top, width, font, or
         add_text(block, x, caution_top + 1.2 * index * font, line, 0.9 * font,
                  weight="bold", colour="#A03000")
     add_legend(block, left + 52 * font, top + 1.6 * font, bins, font, areas=occurring[0],
-               markers=occurring[1])
+               markers=occurring[1], unlabelled=unlabelled)
     add_scale_and_arrow(block, left + width - 14 * font, top + 2.2 * font, font)

@@ -271,17 +271,21 @@ class LabelPlacer:
         """
         return self.place_all([(x, y, text, size, reach, prefer_left, within)])[0]
 
-    def place_all(self, labels) -> list[tuple[float, float, str]]:
+    def place_all(self, labels, optional=None) -> list[tuple[float, float, str] | None]:
         """Place `labels` one after the other, as `place` does each in turn.
 
         Parameters
         ----------
         labels : sequence of (x, y, text, size, reach, prefer_left, within)
             The arguments of `place`, one tuple a label, in the order they are placed.
+        optional : sequence of bool, optional
+            Labels that are left out where every position covers a symbol or a label placed
+            before (a value the symbol's other outputs give; on a crowded plan a label laid
+            over others is read by no one).
 
         Returns
         -------
-        list of (x, y, anchor), one a label
+        list of (x, y, anchor), one a label; None for an optional label left out
 
         Which symbols a position touches and whether it leaves its `within` do not depend
         on the labels placed before it: they are found for every position of every label
@@ -310,10 +314,14 @@ class LabelPlacer:
         bounded = np.flatnonzero([value is not None for value in area])
         if len(bounded):
             fixed[bounded] += ~shapely.covers(area[bounded], boxes[bounded])
+        optional = [False] * len(candidates) if optional is None else list(optional)
         placed = []
         for index, tried in enumerate(candidates):
             first, stop = start[index], start[index + 1]
             clash = fixed[first:stop] + self._touches(bounds[first:stop])
+            if optional[index] and clash.min() > 0:
+                placed.append(None)
+                continue
             best = self._cheapest(boxes[first:stop], bounds[first:stop], _CLASH * clash)
             self._taken = np.vstack([self._taken, bounds[first + best]])
             placed.append(tried[best])

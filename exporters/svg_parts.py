@@ -271,10 +271,12 @@ def add_marker(parent, kind, x, y, font, label=None, *, label_at=None) -> None:
 
 
 def add_legend(parent, x: float, y: float, bins: np.ndarray, font: float, *,
-               areas=None, markers=None) -> None:
+               areas=None, markers=None, unlabelled=None) -> None:
     """Draw the legend from SVG position (x, y): the areas and symbols that occur on the
     plan (`areas`, `markers`: sets of keys of AREA_STYLE and MARKER_NAMES; None = all), the
-    lane clearance classes, and what the letters before each measured value mean."""
+    lane clearance classes, and what the letters before each measured value mean.
+    `unlabelled` (kind -> count) says how many symbols of a kind carry no label."""
+    unlabelled = unlabelled or {}
     areas = [role for role in AREA_STYLE if areas is None or role in areas]
     markers = [kind for kind in MARKER_NAMES if markers is None or kind in markers]
     row = 1.3 * font
@@ -309,7 +311,10 @@ def add_legend(parent, x: float, y: float, bins: np.ndarray, font: float, *,
     for index, kind in enumerate(markers):
         top = y + 0.5 * font + index * row
         _symbol(parent, kind, x + 0.8 * font, top + 0.45 * font, 0.8 * font)
-        add_text(parent, x + 2.1 * font, top + 0.75 * font, MARKER_NAMES[kind], size)
+        name = MARKER_NAMES[kind]
+        if unlabelled.get(kind):
+            name += f" ({unlabelled[kind]} unlabelled: crowded)"
+        add_text(parent, x + 2.1 * font, top + 0.75 * font, name, size)
 
 
 def nice_length(limit: float) -> float:

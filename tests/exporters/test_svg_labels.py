@@ -165,3 +165,25 @@ def test_place_all_places_as_one_label_at_a_time(seed):
                 for x, y, text, size, reach, left, within in labels]
     assert many.place_all(labels) == expected
     assert len({at for at in expected}) > 10              # the labels moved apart
+
+
+def test_an_optional_label_with_no_clear_position_is_left_out():
+    # a 9 x 9 grid of symbols 0.6 m apart, each with a label 0.8 m high: labels drawn touch
+    # no symbol and no other label; an optional one with no clear place is left out
+    # (None, taking no room); required ones are placed all the same
+    points = [(10.0 + 0.6 * i, 10.0 + 0.6 * j) for i in range(9) for j in range(9)]
+    symbols = [shapely.Point(p).buffer(0.25, quad_segs=2) for p in points]
+    labels = [(x, y, "clr 0.60 m", 0.8, 0.25, False, None) for x, y in points]
+    placer = LabelPlacer([], 0.3)
+    for symbol in symbols:
+        placer.block(symbol)
+    placed = placer.place_all(labels, optional=[True] * len(labels))
+    assert 0 < placed.count(None) < len(labels)
+    boxes = [text_box(x, y, "clr 0.60 m", 0.8, anchor) for x, y, anchor in
+             (at for at in placed if at is not None)]
+    assert not any(shapely.intersects(box, symbol) for box in boxes for symbol in symbols)
+    assert not any(shapely.intersects(a, b) for i, a in enumerate(boxes) for b in boxes[i + 1:])
+    required = LabelPlacer([], 0.3)
+    for symbol in symbols:
+        required.block(symbol)
+    assert None not in required.place_all(labels)

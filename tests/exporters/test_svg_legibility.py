@@ -148,3 +148,22 @@ def test_room_names_stay_in_their_rooms(tmp_path):
     assert set(placed) == set(rooms) and rooms
     for name, (x, y) in placed.items():
         assert rooms[name].contains(shapely.Point(x, y)), name
+
+
+def test_crowded_pinch_labels_give_way_and_the_legend_counts_them(tmp_path):
+    # the mixed floor of the benchmark suite: a door every 5 m along 3 m corridors, each a
+    # pinch point; where a value's label would cover another mark it is left out, and the
+    # legend says how many (report.json keeps every value)
+    from benchmarks.synthetic import write_style
+    drawing = write_style(tmp_path / "mixed.dxf", "mixed", 300)
+    result = CliRunner().invoke(main, ["build", str(drawing), "-o", str(tmp_path / "out"),
+                                       "-q", "--no-html"])
+    assert result.exit_code == 0, result.output
+    root = etree.fromstring((tmp_path / "out" / "roadmap.svg").read_bytes())
+    pinches = root.findall(f".//{SVG}g[@id='marks']/{SVG}g[@class='pinch']")
+    labelled = [group for group in pinches if group.find(f"{SVG}text") is not None]
+    legend = " ".join(_texts(root, "title-block"))
+    report = json.loads((tmp_path / "out" / "report.json").read_text())
+    assert len(pinches) == len(report["pinch_points"])
+    left_out = len(pinches) - len(labelled)
+    assert left_out > 0 and f"pinch point ({left_out} unlabelled: crowded)" in legend
