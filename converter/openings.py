@@ -18,7 +18,7 @@ import numpy as np
 import shapely
 
 from clearway.converter.grouping import pairs_within
-from clearway.converter.polygons import segments
+from clearway.converter.polygons import THICK_WALL_MAX, segments
 
 #: Gaps wider than these are not openings of that kind (metres): an open gap with nothing
 #: drawn in it; a door (single, double, sliding, dock and vehicle doors, common practice
@@ -199,7 +199,13 @@ def _bar_ends(xy, max_thickness):
     turn_in = before[:, 0] * unit[:, 1] - before[:, 1] * unit[:, 0]
     turn_out = unit[:, 0] * after[:, 1] - unit[:, 1] * after[:, 0]
     antiparallel = np.sum(before * after, axis=1) < -0.9
-    end = (length <= max_thickness + 0.05) & (length >= 0.02) & \
+    # a face as long as a thick masonry wall (up to THICK_WALL_MAX) is the wall's end only
+    # where the wall runs back along both its sides for half as long again: a short stub's
+    # long side, a pier's side, run back less
+    run_back = np.minimum(np.roll(length, 1), np.roll(length, -1))
+    thick = (length > max_thickness + 0.05) & (length <= THICK_WALL_MAX + 0.05) & \
+        (run_back >= THICK_RUN_BACK * length)
+    end = ((length <= max_thickness + 0.05) | thick) & (length >= 0.02) & \
         (turn_in > 0.9) & (turn_out > 0.9) & antiparallel & \
         (np.roll(length, 1) > 0.05) & (np.roll(length, -1) > 0.05)
     index = np.flatnonzero(end)
@@ -207,6 +213,10 @@ def _bar_ends(xy, max_thickness):
     outward = [(unit[i, 1], -unit[i, 0]) for i in index]  # right of the edge: out
     return middles, outward, list(length[index])
 
+
+#: A wall end longer than the usual wall thickness (masonry up to THICK_WALL_MAX) needs the
+#: wall to run back along both its sides at least this many times the end's length.
+THICK_RUN_BACK = 1.5
 
 #: Short strokes across a single-line wall mark a jamb (common practice); no longer than this.
 MAX_TICK = 0.35

@@ -428,3 +428,51 @@ def test_one_line_across_a_wide_exterior_gap_is_no_glazing(tmp_path):
     else:
         assert not any(o.kind == "window" for o in plan.openings)
         assert plan.leaks or plan.free_space.area < 0.5 * 9.6 * 7.6
+
+
+def _thick_walled_house(msp, thickness):
+    """A 12 m x 8 m house with masonry walls `thickness` thick (old buildings: 0.6 to 1 m,
+    common practice), a 1.0 m door in the south wall and a 1.5 m window in the north, drawn
+    as double lines closed by jamb lines, as a survey of an old building is drawn."""
+    t, width, depth = thickness, 12.0, 8.0
+    for points in ([(5, 0), (0, 0), (0, depth), (4, depth)],
+                   [(5.5, depth), (width, depth), (width, 0), (6, 0)],
+                   [(5, t), (t, t), (t, depth - t), (4, depth - t)],
+                   [(5.5, depth - t), (width - t, depth - t), (width - t, t), (6, t)]):
+        msp.add_lwpolyline(points, dxfattribs={"layer": "A-WALL"})
+    for x in (5, 6):
+        msp.add_line((x, 0), (x, t), dxfattribs={"layer": "A-WALL"})
+    for x in (4, 5.5):
+        msp.add_line((x, depth), (x, depth - t), dxfattribs={"layer": "A-WALL"})
+    msp.add_line((4, depth - t / 2), (5.5, depth - t / 2), dxfattribs={"layer": "A-GLAZ"})
+    msp.add_line((5, t), (5, t + 1.0), dxfattribs={"layer": "A-DOOR"})     # leaf open 90
+    msp.add_arc((5, t), 1.0, 0, 90, dxfattribs={"layer": "A-DOOR"})
+
+
+@pytest.mark.parametrize("thickness", [0.45, 0.8, 1.0])
+def test_openings_through_thick_masonry_walls_close_the_house(tmp_path, thickness):
+    doc = new_drawing(6)
+    _thick_walled_house(doc.modelspace(), thickness)
+    plan = read_floorplan(save(doc, tmp_path))
+    found = sorted((o.kind, round(o.width, 3), o.exterior) for o in plan.openings)
+    # analytic: the jambs stand 1.0 m and 1.5 m apart, both in the outer walls
+    assert found == [("door", 1.0, True), ("window", 1.5, True)]
+    assert not plan.leaks
+    # analytic: the floor inside the walls' inner faces; the openings' closures reach 3 mm
+    # (the seam) into it
+    inside = (12.0 - 2 * thickness) * (8.0 - 2 * thickness)
+    assert plan.free_space.area == pytest.approx(inside, abs=0.01)
+
+
+def test_a_thick_pier_across_a_passage_makes_no_opening(tmp_path):
+    # a 0.9 m square pier 2 m from the south wall: its sides are as long as a thick wall's
+    # end, but the pier does not run back along them, so no gap is bridged to the wall
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 12, 8)
+    msp.add_lwpolyline(rectangle(5.0, 2.2, 5.9, 3.1), close=True, dxfattribs={"layer": "A-WALL"})
+    plan = read_floorplan(save(doc, tmp_path))
+    assert plan.openings == ()
+    # analytic: 11.6 m x 7.6 m inside the walls, less the 0.9 m x 0.9 m pier, one piece
+    assert len(plan.free_space.geoms) == 1
+    assert plan.free_space.area == pytest.approx(11.6 * 7.6 - 0.81, abs=1e-6)
