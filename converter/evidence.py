@@ -83,7 +83,7 @@ class Evidence:
     kind: str
     values: np.ndarray
     weight: float
-    implied: bool = False   # values are metres per drawing unit (dimension or area text)
+    implied: bool = False   # values are metres per drawing unit (dimension, area or size text)
 
 
 def door_swings(arcs):
@@ -414,9 +414,9 @@ def text_size_m(text):
             continue
         first, second = match.groups()
         width, depth = text_length_m(first), text_length_m(second)
-        if width is None and depth is not None and _BARE_NUMBER.match(first):
-            unit = _WITH_UNIT.match(second).group(2)       # "3.60 x 4.20 m": both in m
-            width = text_length_m(f"{first} {unit}")
+        metric = _WITH_UNIT.match(second)
+        if width is None and metric and _BARE_NUMBER.match(first):
+            width = text_length_m(f"{first} {metric.group(2)}")   # "3.60 x 4.20 m": both in m
         if width and depth:
             return width, depth
     return None

@@ -3,6 +3,8 @@
 import numpy as np
 import pytest
 import shapely
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from clearway.converter.evidence import area_factors, text_area_m2, text_size_m, wall_thicknesses
 
@@ -72,6 +74,20 @@ def test_room_size_texts_state_two_sides_in_metres(text, sides):
     assert text_size_m(text) == pytest.approx(sides, rel=1e-12)
 
 
-@pytest.mark.parametrize("text", ["3.60 x 4.20", "2 x 4", "Hallway", "1:50"])
+@pytest.mark.parametrize("text", ["3.60 x 4.20", "2 x 4", "Hallway", "1:50", "12 x 4'2''",
+                                  "x 4.20 m", "3.60 m x"])
 def test_texts_without_a_size_and_unit_state_none(text):
     assert text_size_m(text) is None
+
+
+_PLAN_TEXT = st.text(alphabet=st.sampled_from(list("0123456789.,'\" xX\u00d7*=:-mqMQsSfFtT\u00b2\n")),
+                     max_size=24)
+
+
+@settings(max_examples=300, deadline=None)
+@given(_PLAN_TEXT)
+def test_any_text_states_an_area_and_a_size_or_none_and_never_fails(text):
+    # drawings carry every kind of text: the readers answer a positive number or None
+    area, size = text_area_m2(text), text_size_m(text)
+    assert area is None or area > 0
+    assert size is None or (len(size) == 2 and min(size) > 0)
