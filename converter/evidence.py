@@ -654,4 +654,39 @@ def decide_from_content(header_unit, override, evidence, *, source):
         warning = (f"{source}: drawing has no units in its header; read in {best} from its "
                    f"content ({read}){also}; pass --units if that is wrong")
         return best, "content", note, lines, (warning,)
+    lean = _leaning_unit(evidence, substantive)
+    if lean is not None:
+        read = "; ".join(describe(item, lean) for item in evidence)
+        note = (f"Read in {lean}, the unit the drawing's content leans to (the header's "
+                f"$INSUNITS gives no unit, and metres would make the plan implausibly large): "
+                f"{read}; pass --units to say otherwise.")
+        warning = (f"{source}: drawing has no units in its header, and its content does not "
+                   f"settle one; read in {lean}, the likeliest ({read}), not in metres (the plan "
+                   f"{_metres(_extent(evidence))} across); pass --units if that is wrong")
+        return lean, "content", note, lines, (warning,)
     return None, "assumed", None, lines, ()
+
+
+def _extent(evidence):
+    """The plan's size in drawing units (the extent evidence), or 0."""
+    return next((float(item.values[0]) for item in evidence if item.kind == "extent"), 0.0)
+
+
+def _leaning_unit(evidence, substantive):
+    """The unit to read a drawing with no unit in its header in, when its content does not
+    settle one but metres would make the plan larger than any one floor (PLAN_SPAN_M): among
+    the units that make its size plausible, the one the substantive evidence supports most,
+    ahead of every other; None when metres is plausible or nothing leads.
+
+    Without it the plan is assumed in metres, or in the first unit of a fixed order that
+    makes its size a building (`units.likely_unit`), whatever its walls say.
+    """
+    extent = next((item for item in evidence if item.kind == "extent"), None)
+    if extent is None or not substantive or plausibility(extent, "m") > 0:
+        return None
+    support = {unit: sum(item.weight * plausibility(item, unit) for item in substantive)
+               for unit in CANDIDATE_UNITS if plausibility(extent, unit) > 0}
+    ranked = sorted(support.items(), key=lambda pair: -pair[1])
+    if not ranked or ranked[0][1] <= 0 or (len(ranked) > 1 and ranked[1][1] >= ranked[0][1]):
+        return None
+    return ranked[0][0]

@@ -2,9 +2,11 @@
 
 from fractions import Fraction
 
+import numpy as np
 import pytest
 
 from clearway.converter import UNITS_TO_M, read_floorplan
+from clearway.converter.evidence import Evidence, decide_from_content
 from clearway.converter.units import decide_units
 from tests.conftest import new_drawing, save, walled_room
 
@@ -79,3 +81,21 @@ def test_door_swings_are_the_arcs_hinged_on_the_walls(tmp_path):
     plan = read_floorplan(save(doc, tmp_path))
     # analytic: 0.9 m leaves and 0.2 m walls in mm; 22.9 m leaves and 5 m walls in inches
     assert plan.units == "mm", plan.unit_note
+
+
+def test_an_unsettled_content_leans_away_from_metres_that_make_the_plan_too_large():
+    # analytic: 40-unit faces are 0.40 m walls in cm, 1.02 m in inches (too thick); 100-unit
+    # faces 1.0 m in cm (too thick), 0.10 m in mm; a 2,500-unit plan is 2.5 km in metres,
+    # 25 m in cm, 2.5 m in mm (too small for a plan, PLAN_SPAN_M)
+    walls = Evidence("wall thickness", np.array([40, 40, 40, 100, 100], dtype=float), 1.0)
+    unit, source, note, _, warnings = decide_from_content(
+        None, None, [walls, Evidence("extent", np.array([2500.0]), 1.0)], source="plan.dxf")
+    assert (unit, source) == ("cm", "content")
+    assert "not in metres (the plan 2500 m across)" in warnings[0]
+    # the same content on a plan 1,500 units across: 1.5 km in metres is not ruled out, and
+    # nothing settles the unit: assumed, as before
+    assert decide_from_content(None, None, [walls, Evidence("extent", np.array([1500.0]), 1.0)],
+                               source="plan.dxf")[:2] == (None, "assumed")
+    # the plan's size alone never decides
+    assert decide_from_content(None, None, [Evidence("extent", np.array([2500.0]), 1.0)],
+                               source="plan.dxf")[:2] == (None, "assumed")
