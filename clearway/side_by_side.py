@@ -7,7 +7,8 @@ Five uses, each of work that does not depend on the rest:
   floor plan back;
 - that reader parses a large model space in two halves, the second in a process of its own
   (clearway.converter.read): on two cores the 4 MB drawing of the mixed suite floor at 20,000
-  bays is read in 2.94 s instead of 4.02 s (the benchmark suite's reading stage);
+  bays, as first drawn, is read in 2.94 s instead of 4.02 s (the benchmark suite's reading
+  stage);
 - the five outputs of a build are made from the same finished roadmap. On a 20,000-bay
   warehouse the preview (label placement, path text) takes about as long as the other four
   together, so a second process that renders it while this one renders the rest shortens

@@ -187,7 +187,8 @@ def ordinary_text(data):
 #: and that neither adds an entry nor touches what clearway reads: removing a group left
 #: empty (AutoCAD leaves its anonymous groups so when their entities are erased). A sound
 #: file whose audit makes only these is not read a second time by the recovery reader (a
-#: 3 MB house plan with one such group: reading 2.00 -> 1.40 s, the same content).
+#: 3 MB house plan with one such group: reading 2.00 -> 0.98 s, against 1.26 s for the recovery
+#: reader alone, the same content).
 TOLERATED_FIXES = frozenset({AuditError.REMOVE_EMPTY_GROUP})
 
 

@@ -101,8 +101,8 @@ class _Budget:
 #: two halves side by side (`document.entity_halves`, clearway.side_by_side), where a second
 #: process can be forked. Each half parses the header, tables, blocks and objects again, and
 #: the fork costs about 0.01 s. Reading alone (medians of three to five): the current suite
-#: drawing at 5,000 bays (656,000 characters) 0.46 -> 0.27 s, the mixed one (1 MB) 0.58 ->
-#: 0.44 s, the mixed one at 20,000 bays (4 MB) 2.2 -> 1.35 s.
+#: drawing at 5,000 bays (656,000 characters) 0.46 -> 0.27 s; the mixed one as first drawn
+#: (1 MB) 0.58 -> 0.44 s, and at 20,000 bays (4 MB) 2.2 -> 1.35 s.
 SPLIT_CHARACTERS = 250_000
 
 _HEADER_KEYS = ("$MEASUREMENT", "$LUNITS", "$DIMLUNIT", "$DIMLFAC")

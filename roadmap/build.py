@@ -33,9 +33,9 @@ from clearway.roadmap.stations import (REASON_NO_LANE, REASON_NO_LINK, Attachmen
 #: Douglas-Peucker tolerance for lanes whose clearance exceeds c by more than twice it, m.
 SIMPLIFY = 0.005
 #: Medial axis vertices from which the rooms are found in a second process while the lanes
-#: are pruned (clearway.side_by_side). On the mixed suite floor at 20,000 bays (310,000
-#: vertices, 2,030 openings) the rooms take 0.30 s and the pruning 0.34 s; at 5,000 bays
-#: (69,000 vertices) the rooms take 0.05 s, which a fork and the pickles would eat.
+#: are pruned (clearway.side_by_side). On the mixed suite floor at 20,000 bays (202,000
+#: vertices, 1,476 openings) the rooms take 0.28 s and the pruning 0.26 s; at 5,000 bays
+#: (51,000 vertices) the rooms take 0.04 s, which a fork and the pickles would eat.
 ROOMS_ASIDE_VERTICES = 100_000
 
 
