@@ -323,21 +323,23 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
             roadmap = carry_ids_over(roadmap, previous_graph, previous_rooms=previous_rooms)
         names = BUILD_FILES[:-1] if no_html else BUILD_FILES
         say(f"rendering {', '.join(names)}")
-        # the preview and the page both draw it: computed once, before any second process
-        band = clearance_band(plan, roadmap)
-        # the lanes as written (ids, ends, coordinates), which four of the outputs list
-        edges = oriented_edges(roadmap.graph)
-        # report.json, and the summary printed at the end
-        report = report_data(plan, roadmap)
+        # what several outputs use is made once in each process that needs it: the preview
+        # and the page draw the clearance band; four outputs list the lanes as written (ids,
+        # ends, coordinates); report.json and the summary printed at the end share the report
+        band = functools.cache(lambda: clearance_band(plan, roadmap))
+        edges = functools.cache(lambda: oriented_edges(roadmap.graph))
+        report = functools.cache(lambda: report_data(plan, roadmap))
         renderers = dict(zip(names, (
-            lambda: render_graphml(plan, roadmap, edges=edges),
-            lambda: render_geojson(plan, roadmap, anchor=anchor, edges=edges),
-            lambda: render_svg(plan, roadmap, date=_drawing_date(plan), band=band, edges=edges),
-            lambda: render_report(plan, roadmap, data=report),
-            lambda: html_page(plan, roadmap, _drawing_date(plan), previous_graph, band=band,
-                              edges=edges))))
+            lambda: render_graphml(plan, roadmap, edges=edges()),
+            lambda: render_geojson(plan, roadmap, anchor=anchor, edges=edges()),
+            lambda: render_svg(plan, roadmap, date=_drawing_date(plan), band=band(),
+                               edges=edges()),
+            lambda: render_report(plan, roadmap, data=report()),
+            lambda: html_page(plan, roadmap, _drawing_date(plan), previous_graph, band=band(),
+                              edges=edges()))))
         # the preview takes about as long as the other outputs together: on a large graph
-        # it renders in a second process meanwhile (clearway.side_by_side)
+        # it renders in a second process meanwhile (clearway.side_by_side), forked before
+        # the band and the lanes are made, so that each process makes its own side by side
         large = roadmap.graph.number_of_edges() >= SIDE_BY_SIDE_EDGES or forced()
         files = side_by_side(renderers, aside=["roadmap.svg"] if large else ())
         if with_dxf:
@@ -357,7 +359,7 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
         write_outputs(outdir, files)
     except OSError as err:
         raise InputError(f"{outdir}: cannot write outputs ({err.strerror or err})") from None
-    for line in _summary(plan, roadmap, outdir, list(files), report):
+    for line in _summary(plan, roadmap, outdir, list(files), report()):
         say(line)
     unreachable = sum(1 for s in roadmap.findings.stations if not s.reachable)
     if strict and (unreachable or plan.leaks):
