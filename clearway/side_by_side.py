@@ -192,6 +192,10 @@ def _die_with(parent: int) -> None:
 def _child(function, write_end) -> None:
     """Run in the forked child: call `function`, pickle the outcome into the pipe, _exit."""
     code = 0
+    # the child does one piece of work and ends: the collector would only rescan what the
+    # work leaves behind (the reader's ezdxf document, one pass of 0.07 s on the mixed suite
+    # floor at 20,000 bays) to free what the child's exit frees anyway
+    gc.disable()
     try:
         signal.signal(signal.SIGTERM, signal.SIG_DFL)
         try:

@@ -11,6 +11,7 @@ from scipy.sparse.csgraph import connected_components
 from scipy.spatial import cKDTree
 from shapely.ops import polylabel  # shapely.polylabel exists only from shapely 2.1
 
+from clearway.collector import paused_collector
 from clearway.config import DEFAULTS, default_comfort_clearance
 from clearway.side_by_side import Aside
 from clearway.roadmap import checks
@@ -102,6 +103,9 @@ def _lanes(vertices, clearance, edges, isolated, c, field, robot, terminal=None)
     return geometry, ends, [int(v) for v in isolated], vertices, short
 
 
+# the stage makes few reference cycles: on the mixed suite floor at 20,000 bays the
+# collector's 539 passes freed 23 objects, and the last ones cost 0.14 s (see collector.py)
+@paused_collector()
 def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequence[tuple],
                   *, robot: Robot, shared_zones=None, comfort_clearance: float | None = None,
                   personnel_clearance: float = DEFAULTS["checks"]["personnel_clearance"],

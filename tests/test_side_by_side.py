@@ -65,6 +65,16 @@ def test_aside_renderers_run_in_another_process_and_keep_the_order(one_thread):
 
 
 @needs_fork
+def test_the_child_runs_without_the_collector_and_this_process_keeps_it(one_thread):
+    import gc
+    assert gc.isenabled()
+    with Aside(lambda: (os.getpid(), gc.isenabled())) as child:
+        pid, enabled = child.result()
+    assert pid != os.getpid() and enabled is False
+    assert gc.isenabled()
+
+
+@needs_fork
 def test_an_error_in_the_child_is_raised_here_as_itself(one_thread):
     before = _children()
 
