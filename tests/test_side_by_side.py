@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import gc
 import os
 import pickle
 import signal
@@ -66,7 +67,6 @@ def test_aside_renderers_run_in_another_process_and_keep_the_order(one_thread):
 
 @needs_fork
 def test_the_child_runs_without_the_collector_and_this_process_keeps_it(one_thread):
-    import gc
     assert gc.isenabled()
     with Aside(lambda: (os.getpid(), gc.isenabled())) as child:
         pid, enabled = child.result()
