@@ -171,6 +171,26 @@ def _nearest_distance(point, lanes, mine, tree) -> float:
     return float(shapely.distance(point, lanes[near]).min())
 
 
+#: Candidates whose links are tested together, nearest first: the first alone (it is seen
+#: from most stations), then batches growing to LINK_BATCH.
+LINK_BATCH = 32
+
+
+def _batches(count: int):
+    """(start, stop) of the batches of `count` candidates, nearest first: 1, 3, 12, then
+    LINK_BATCH at a time. Whether a link is clear is a test of that link alone, so the batches
+    decide only how much is tested before the first clear link is found.
+
+    >>> list(_batches(50))
+    [(0, 1), (1, 4), (4, 16), (16, 48), (48, 50)]
+    """
+    start, size = 0, 1
+    while start < count:
+        yield start, min(start + size, count)
+        start += size
+        size = min(4 * size if size > 1 else 3, LINK_BATCH)
+
+
 def _attach(point, lanes, mine, tree, ends, field, clearance):
     here = shapely.get_coordinates(point)[0]
     radius = _nearest_distance(point, lanes, mine, tree) + 1.0
@@ -182,13 +202,20 @@ def _attach(point, lanes, mine, tree, ends, field, clearance):
         distance = np.hypot(*(points - here).T)
         order = np.lexsort((points[:, 1], points[:, 0], distance))
         points, owners, distance = points[order], owners[order], distance[order]
-        for start in range(0, len(points), 32):
-            visible = np.flatnonzero(_visible(here, points[start:start + 32], field, clearance))
+        for start, stop in _batches(len(points)):
+            seen = _visible(here, points[start:stop], field, clearance)
+            visible = np.flatnonzero(seen)
             if len(visible) == 0:
                 continue
             best = start + visible[0]
             tied = np.arange(best, np.searchsorted(distance, distance[best] + TIE, "right"))
-            tied = tied[_visible(here, points[tied], field, clearance)]
+            # the links of this batch are tested already; only the tied ones beyond it are not
+            clear = np.zeros(len(tied), dtype=bool)
+            within = tied < stop
+            clear[within] = seen[tied[within] - start]
+            if not within.all():
+                clear[~within] = _visible(here, points[tied[~within]], field, clearance)
+            tied = tied[clear]
             at_node = np.array([np.hypot(*(ends[owners[i]] - points[i]).T).min() <= TIE
                                 for i in tied])
             pool = tied[at_node] if at_node.any() else tied

@@ -247,3 +247,33 @@ def test_link_that_would_land_next_to_a_node_joins_the_node():
     join, = link_stations(np.array([[6.05, 0.0]]), lanes, np.array([0, 0]), regions, field,
                           free, 0.45)
     assert join.on_lane and (join.x, join.y) == (pytest.approx(6.05), pytest.approx(0.0))
+
+
+def test_links_found_do_not_depend_on_how_the_candidates_are_batched(monkeypatch):
+    from clearway.roadmap import stations
+    from clearway.roadmap.clearance import clearance_field
+    from clearway.roadmap.inflate import boundary_segments
+    # a column stands between the first station and the lane point straight ahead of it
+    # (10, 5), so the first candidates are blocked and later batches find its link; the
+    # second station is 1 m from two lanes (a tie across the first batch's end)
+    free = shapely.box(0, 0, 20, 10).difference(shapely.box(9.5, 2.5, 10.5, 3.5))
+    lanes = np.array([shapely.LineString([(1, 5), (19, 5)]),
+                      shapely.LineString([(1, 8), (19, 8)])], dtype=object)
+    field = clearance_field(boundary_segments(free)[0])
+    regions = np.array([free.buffer(-0.45)], dtype=object)
+    where = np.array([[10.0, 1.5], [4.0, 6.5]])
+
+    def joins():
+        return stations.link_stations(where, lanes, np.array([0, 0]), regions, field, free, 0.45)
+
+    batched = joins()
+    # the schedule before batches grew: 32 candidates at a time from the first
+    monkeypatch.setattr(stations, "_batches",
+                        lambda count: ((start, min(start + 32, count))
+                                       for start in range(0, count, 32)))
+    assert joins() == batched
+    blocked, tied = batched
+    # analytic: the straight link from (10, 1.5) to (10, 5) crosses the column
+    assert isinstance(blocked, stations.Attachment) and blocked.x != pytest.approx(10.0)
+    # analytic: (4, 5) and (4, 8) are both 1.5 m away; the lower point wins
+    assert (tied.lane, tied.x, tied.y) == (0, pytest.approx(4.0), pytest.approx(5.0))
