@@ -255,7 +255,7 @@ def test_links_found_do_not_depend_on_how_the_candidates_are_batched(monkeypatch
     from clearway.roadmap.inflate import boundary_segments
     # a column stands between the first station and the lane point straight ahead of it
     # (10, 5), so the first candidates are blocked and later batches find its link; the
-    # second station is 1 m from two lanes (a tie across the first batch's end)
+    # second station is 1.5 m from two lanes (a tie across the first batch's end)
     free = shapely.box(0, 0, 20, 10).difference(shapely.box(9.5, 2.5, 10.5, 3.5))
     lanes = np.array([shapely.LineString([(1, 5), (19, 5)]),
                       shapely.LineString([(1, 8), (19, 8)])], dtype=object)
