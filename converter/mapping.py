@@ -259,11 +259,17 @@ def _decide_units(content, override, by_role, visible, role_of):
     return chosen, factor, default_note, kind, lines, tuple(span_warnings), doubt
 
 
+def _texts_stating(content, visible, reading):
+    """(x, y, text) of the texts and attributes on visible layers that `reading` (text ->
+    value or None) finds a value in."""
+    return [(x, y, text) for layer, x, y, text, _ in content.texts + content.attribute_texts
+            if layer in visible and reading(text) is not None]
+
+
 def _area_factors(content, visible):
     """Metres per unit that the room-area texts on visible layers imply (`area_factors`),
     measured against the closed outlines and filled areas of every visible layer."""
-    texts = [(x, y, text) for layer, x, y, text, _ in content.texts + content.attribute_texts
-             if layer in visible and text_area_m2(text) is not None]
+    texts = _texts_stating(content, visible, text_area_m2)
     if len(texts) < MIN_AREA_TEXTS:
         return np.empty(0)
     outlines = [np.empty(0, dtype=object)]
@@ -277,8 +283,7 @@ def _area_factors(content, visible):
 def _size_factors(content, visible, walls, span):
     """Metres per unit that the room-size texts on visible layers imply (`size_factors`),
     measured between the wall faces `walls` (arrays of lines)."""
-    texts = [(x, y, text) for layer, x, y, text, _ in content.texts + content.attribute_texts
-             if layer in visible and text_size_m(text) is not None]
+    texts = _texts_stating(content, visible, text_size_m)
     if len(texts) < MIN_AREA_TEXTS:
         return np.empty(0)
     return size_factors(texts, np.concatenate([np.asarray(w, dtype=object) for w in walls]),
