@@ -51,6 +51,12 @@ from typing import Callable, Mapping, Sequence
 PROCESSES_VARIABLE = "CLEARWAY_PROCESSES"
 
 
+def cores() -> int:
+    """Processor cores this process may run on (threads as well as processes)."""
+    return len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else \
+        (os.cpu_count() or 1)
+
+
 def forced() -> bool:
     """True when CLEARWAY_PROCESSES=2 asks for the second process whatever the work."""
     return os.environ.get(PROCESSES_VARIABLE, "").strip() == "2"

@@ -13,7 +13,6 @@ segments among more samples, or the STRtree's nearest query). Results agree with
 
 from __future__ import annotations
 
-import os
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 from functools import cached_property
@@ -21,6 +20,8 @@ from functools import cached_property
 import numpy as np
 import shapely
 from scipy.spatial import cKDTree
+
+from clearway.side_by_side import cores
 
 #: Boundary sampling interval of the index, metres.
 SPACING = 0.25
@@ -185,7 +186,7 @@ class ClearanceField:
         xy = np.asarray(xy, dtype=float).reshape(-1, 2)
         if len(xy) == 0 or len(self.segments) == 0:
             return np.full(len(xy), np.inf)
-        if len(xy) >= THREADED_POINTS and _cores() > 1:
+        if len(xy) >= THREADED_POINTS and cores() > 1:
             blocks = [xy[i:i + THREAD_BLOCK] for i in range(0, len(xy), THREAD_BLOCK)]
             # the indexes are built here, not raced for by the threads (GEOS builds an
             # STRtree at its first query)
@@ -288,12 +289,6 @@ class ClearanceField:
         at = interval[which] + 1
         return (np.insert(xy, at, extra, axis=0), np.insert(owner, at, owner[at - 1]),
                 np.insert(value, at, self.at(extra)))
-
-
-def _cores() -> int:
-    """Processor cores this process may run on."""
-    return len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else \
-        (os.cpu_count() or 1)
 
 
 def sample_lines(lines, step: float) -> tuple[np.ndarray, np.ndarray]:

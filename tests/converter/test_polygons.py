@@ -1,5 +1,7 @@
 """Wall faces, gap closing, filled areas, free space and leaks."""
 
+import threading
+
 import numpy as np
 import pytest
 import shapely
@@ -358,6 +360,28 @@ def test_leak_search_with_columns_deep_inside_matches_the_search_over_every_piec
     else:
         assert leaks == [] and sealed.area == pytest.approx(200 * 120 + 30 * 40, rel=1e-9)
 
+
+
+@pytest.mark.parametrize("gap", [0.2, 0.9, 3.5, 6.0])
+def test_a_gap_is_found_by_the_narrowest_closing_that_seals_it(gap):
+    """A 40 x 30 m building, 0.3 m walls, three columns inside, and one gap in its south
+    wall: a hairline, a door, a dock door and a drive-in opening. The closings are tried two
+    at a time on threads, and the search stops at the first that seals the floor; the 6 m
+    gap is sealed by the widest closing only (8 m; 4 m does not)."""
+    from clearway.converter.polygons import LEAK_WIDTHS, find_leaks
+    outer, inner = shapely.box(0, 0, 40, 30), shapely.box(0.3, 0.3, 39.7, 29.7)
+    walls = outer.difference(inner).difference(shapely.box(12 - gap / 2, -1, 12 + gap / 2, 1))
+    walls = shapely.union_all([walls] + [shapely.box(x, 10, x + 0.4, 10.4)
+                                         for x in (10, 20, 30)])
+    assert gap < LEAK_WIDTHS[-2] or LEAK_WIDTHS[-2] < gap < LEAK_WIDTHS[-1]
+    leaks, sealed = find_leaks(walls, walls)
+    # analytic: one leak in the middle of the gap, in the wall's line, as wide as the gap
+    # (less the 1 mm the slivers are opened by, at each end)
+    assert len(leaks) == 1
+    assert leaks[0] == pytest.approx((12.0, 0.15, gap), abs=3e-3)
+    assert sealed.area == pytest.approx(40 * 30, rel=1e-9)
+    # the threads are joined: none is left to keep the build from forking
+    assert not any(t.name.startswith("ThreadPoolExecutor") for t in threading.enumerate())
 
 
 def _corridor_wing(msp, mouths=("west",)):

@@ -57,7 +57,7 @@ def test_a_large_query_on_two_threads_gives_the_same_floats(spacing, monkeypatch
     one = clearance_field(segments, spacing=spacing).at(xy)
     monkeypatch.setattr(clearance, "THREADED_POINTS", 1000)
     monkeypatch.setattr(clearance, "THREAD_BLOCK", 700)
-    monkeypatch.setattr(clearance, "_cores", lambda: 2)
+    monkeypatch.setattr(clearance, "cores", lambda: 2)
     field = clearance_field(segments, spacing=spacing)   # its indexes built by the query
     threads = field.at(xy)
     assert np.array_equal(threads, one)
