@@ -83,6 +83,8 @@ STYLES = {
     "dock_open": "the same dock without columns",
     "angled": "rows at 30 degrees to the walls",
     "mixed": "racking beside mezzanine-style blocks of small rooms and curved walls",
+    "loose_lines": "walls, rack rows and square columns as loose lines and outlines (exploded "
+                   "blocks), dock doors left open in the south wall",
 }
 FLUE, COLUMN_RADIUS, COLUMN_EVERY, RUN_PITCH = 0.1, 0.2, 5, BAYS_PER_RUN * BAY_LENGTH + CROSS_AISLE
 DOCK_DEPTH, ROOM_W, ROOM_D, DOOR, PARTITION, CURVE_PITCH = 30.0, 5.0, 4.0, 1.2, 0.15, 30.0
@@ -241,6 +243,8 @@ def write_style(path, style="current", bays=5000):
         raise ValueError(f"unknown style {style!r}; one of {', '.join(STYLES)}")
     if style == "current":
         return write_warehouse(path, bays, runs_across=_grid(bays, 2 * BAY_DEPTH + AISLE)[0])
+    if style == "loose_lines":
+        return _loose_lines(path, bays)
     sheet = _Sheet()
     if style in ("flue_sealed", "flue_open"):
         width, top = _racking(sheet, bays, flue=FLUE, y_start=6.0,
@@ -271,3 +275,82 @@ def write_style(path, style="current", bays=5000):
         width = x0 + columns * ROOM_W + 6.0
         depth = top + 3.0
     return sheet.save(path, width, depth)
+
+
+#: loose_lines: bays per row, south wall thickness, dock doors (width, pitch), column size.
+LOOSE_ROW, LOOSE_WALL, DOCK_DOOR, DOCK_PITCH, SQUARE_COLUMN = 24, 0.25, 3.5, 8.0, 0.4
+
+
+def _loose_lines(path, bays):
+    """Write the `loose_lines` style: the drawing habits of a plan whose blocks were exploded.
+
+    The exterior wall is two faces of LINEs on layer S-WALL (not an A-WALL* layer, so the
+    walls are found by their content), broken by a 3.5 m dock door every 8 m along the south
+    wall with nothing drawn across it (each a leak the build reports); each rack row is one
+    closed outline with a LINE between bays (RACK); 0.4 m square columns (S-COLS) stand in
+    the flue line of every other double row, every fourth bay, and in a row across the open
+    dock area; stations in the aisles as in the other styles.
+    """
+    mm = 1000.0
+    flue, pitch = 0.15, 2 * BAY_DEPTH + 0.15 + AISLE
+    run_pitch = LOOSE_ROW * BAY_LENGTH + CROSS_AISLE
+    per_run = 2 * LOOSE_ROW
+    runs = max(1, round(math.sqrt(bays * pitch / (1.6 * per_run * run_pitch))))
+    rows = max(1, math.ceil(bays / (per_run * runs)))
+    y0 = 25.0                                        # an open dock area south of the racking
+    width, depth = 4.0 + runs * run_pitch + 2.0, y0 + rows * pitch + 3.0
+    doc = ezdxf.new("R2010", units=4)
+    msp = doc.modelspace()
+
+    def line(a, b, layer):
+        msp.add_line((round(a[0] * mm, 1), round(a[1] * mm, 1)),
+                     (round(b[0] * mm, 1), round(b[1] * mm, 1)), dxfattribs={"layer": layer})
+
+    def outline(x0, y0, x1, y1, layer):
+        msp.add_lwpolyline([(round(x * mm, 1), round(y * mm, 1))
+                            for x, y in ((x0, y0), (x1, y0), (x1, y1), (x0, y1))],
+                           close=True, dxfattribs={"layer": layer})
+
+    doors = [(x, x + DOCK_DOOR) for x in np.arange(10.0, width - 10.0 - DOCK_DOOR, DOCK_PITCH)]
+    for offset in (0.0, LOOSE_WALL):               # inner face, then outer face
+        xa, ya, xb, yb = -offset, -offset, width + offset, depth + offset
+        cuts = [xa, *[x for door in doors for x in door], xb]
+        for start, end in zip(cuts[::2], cuts[1::2]):
+            line((start, ya), (end, ya), "S-WALL")
+        line((xb, ya), (xb, yb), "S-WALL")
+        line((xb, yb), (xa, yb), "S-WALL")
+        line((xa, yb), (xa, ya), "S-WALL")
+    for door in doors:                              # the jambs
+        for x in door:
+            line((x, -LOOSE_WALL), (x, 0.0), "S-WALL")
+    placed, stations = 0, []
+    for row in range(rows):
+        y = y0 + row * pitch
+        for run in range(runs):
+            x0 = 4.0 + run * run_pitch
+            for yy in (y, y + BAY_DEPTH + flue):
+                count = min(LOOSE_ROW, bays - placed)
+                if count <= 0:
+                    break
+                placed += count
+                outline(x0, yy, x0 + count * BAY_LENGTH, yy + BAY_DEPTH, "RACK")
+                for k in range(1, count):
+                    line((x0 + k * BAY_LENGTH, yy), (x0 + k * BAY_LENGTH, yy + BAY_DEPTH), "RACK")
+            if row % 2 == 0:                        # columns in the flue line
+                for k in range(0, LOOSE_ROW + 1, 4):
+                    cx, cy, h = x0 + k * BAY_LENGTH, y + BAY_DEPTH + flue / 2, SQUARE_COLUMN / 2
+                    outline(cx - h, cy - h, cx + h, cy + h, "S-COLS")
+        if row % 8 == 0:
+            aisle_y = y + 2 * BAY_DEPTH + flue + AISLE / 2
+            stations.append((f"ST-{len(stations) + 1:03d}", 2.0, aisle_y))
+    for cx in np.arange(12.0, width - 6.0, 12.0):   # a row of columns across the dock area
+        h = SQUARE_COLUMN / 2
+        outline(cx - h, y0 / 2 - h, cx + h, y0 / 2 + h, "S-COLS")
+    stations += [(f"DOCK-{number:02d}", float(x), 3.0)
+                 for number, x in enumerate(np.arange(14.0, width - 10.0, 24.0), start=1)]
+    for label, x, y in stations:
+        msp.add_point((x * mm, y * mm), dxfattribs={"layer": "A-EQPM-STATION"})
+        msp.add_text(label, dxfattribs={"layer": "A-EQPM-STATION",
+                                        "insert": ((x + 0.2) * mm, (y + 0.2) * mm)})
+    doc.saveas(Path(path))
+    return Path(path)
