@@ -78,7 +78,47 @@ def union_tiling(polygons):
         merged = _tiled_union(snapped) if snapped is not None else None
         if merged is not None:
             return merged, False     # the tiles moved: the input may stick out by TILE_SNAP
+        inside = inside_others(polygons)
+        if inside.any():
+            # what lies inside another polygon adds nothing to the union: a rack row's
+            # footprint over its uprights, or a column inside a wall's face
+            polygons = polygons[~inside]
+            merged = _tiled_union(polygons) if len(polygons) > 8 else None
+            if merged is not None:
+                return merged, False
     return as_multipolygon(shapely.union_all(polygons)), False
+
+
+def inside_others(polygons):
+    """Return which of `polygons` (valid) another of them covers, shape (N,); of polygons
+    equal to one another, all but the first.
+
+    Examples
+    --------
+    >>> row, upright = shapely.box(0, 0, 27, 1.1), shapely.box(0, 0, 0.1, 1.1)
+    >>> inside_others(np.array([upright, row, shapely.box(0, 0, 27, 1.1)])).tolist()
+    [True, False, True]
+    """
+    polygons = np.asarray(polygons, dtype=object)
+    inner, outer = shapely.STRtree(polygons).query(polygons)
+    # only a polygon within another's bounds can lie inside it: the exact test for those pairs
+    low, high = np.split(shapely.bounds(polygons), 2, axis=1)
+    pairs = (inner != outer) & (low[inner] >= low[outer]).all(axis=1) & \
+        (high[inner] <= high[outer]).all(axis=1)
+    inner, outer = inner[pairs], outer[pairs]
+    containers = polygons[np.unique(outer)]
+    containers = containers[~shapely.is_prepared(containers)]
+    shapely.prepare(containers)      # a prepared polygon answers covers() 20 times faster
+    try:
+        pairs = shapely.covers(polygons[outer], polygons[inner])
+    finally:
+        shapely.destroy_prepared(containers)
+    inner, outer = inner[pairs], outer[pairs]
+    # a polygon covered by one it also covers is equal to it: only the later one goes
+    mutual = np.isin(outer * len(polygons) + inner, inner * len(polygons) + outer)
+    inside = np.zeros(len(polygons), dtype=bool)
+    inside[inner[~mutual | (outer < inner)]] = True
+    return inside
 
 
 def _tiled_union(polygons):

@@ -231,6 +231,29 @@ def test_union_tiling_says_when_the_pieces_lie_exactly_inside():
     assert not tiled and merged.equals(shapely.union_all(overlapping))
 
 
+def test_union_of_footprints_over_their_uprights_leaves_the_uprights_out():
+    from clearway.converter.polygons import inside_others, union_tiling
+    # a rack row drawn as a block of bay blocks: each bay's two 0.1 m upright frames (closed
+    # outlines), and the row's footprint over them; back-to-back rows meet edge to edge
+    uprights, rows = [], []
+    for y in (0.0, 1.1):
+        rows.append(shapely.box(0, y, 27, y + 1.1))
+        for k in range(10):
+            uprights += [shapely.box(2.7 * k, y, 2.7 * k + 0.1, y + 1.1),
+                         shapely.box(2.7 * k + 2.6, y, 2.7 * k + 2.7, y + 1.1)]
+    pieces = np.array(uprights + rows + [shapely.box(0, 0, 27, 1.1)], dtype=object)
+    inside = inside_others(pieces)
+    # exact: every upright lies in its row; of the two equal footprints, the second goes
+    assert inside.tolist() == [True] * len(uprights) + [False, False, True]
+    merged, tiled = union_tiling(pieces)
+    # source: shapely's plain union_all of every piece is the reference union
+    assert merged.equals(shapely.union_all(pieces)) and not tiled
+    # the union's vertices are the rows' corners: none of the uprights' on the rows' edges
+    corners = {tuple(xy) for xy in shapely.get_coordinates(np.array(rows)).round(9)}
+    assert {tuple(xy) for xy in shapely.get_coordinates(merged).round(9)} == corners
+    assert not shapely.is_prepared(pieces).any()
+
+
 def rotated_double_row(bays, angle, *, width=2.7, depth=1.1, grid=1e-4):
     """Back-to-back rows of bays rotated by `angle` degrees, each bay's insertion point
     rounded to `grid` (as a drawing stores it) and its corners placed from there."""
