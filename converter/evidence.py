@@ -39,6 +39,11 @@ RACK_BAY_SQUARE = 1.05
 #: measured walls always include a few faces that are no wall's two sides.
 CLEAR_SUPPORT = 0.75
 CLEAR_LEAD = 0.25
+#: A header whose unit makes the plan larger or smaller than any one floor (PLAN_SPAN_M: a
+#: drawing in mm whose template header says metres is hundreds of kilometres across) is
+#: overruled by a lead of this much support (say, three quarters of the walls plausible in
+#: the other unit and none in the header's), where a plausible plan needs a full 1.0.
+IMPOSSIBLE_PLAN_LEAD = 0.5
 #: Most walls are 0.08 to 0.5 m thick (common practice: a stud partition with a board each
 #: side is about 0.1 m, masonry and exterior walls up to 0.5 m); a thickness in the wider
 #: range but outside this one counts half. It separates units a factor 2.54 apart: 8 units
@@ -627,28 +632,27 @@ def decide_from_content(header_unit, override, evidence, *, source):
     best = next(iter(scores), None)
     read = "; ".join(describe(item, best) for item in evidence) if best else ""
     if header_unit is not None:
+        extent = next((item for item in evidence if item.kind == "extent"), None)
+        impossible = extent is not None and best is not None and \
+            plausibility(extent, header_unit) == 0.0 and plausibility(extent, best) > 0.0
+        lead = IMPOSSIBLE_PLAN_LEAD if impossible else 1.0
         if best and best != header_unit and substantive and \
                 scores[best] - scores.get(header_unit, 0.0) >= 1.5 and \
-                support[best] - support.get(header_unit, 0.0) >= 1.0:
+                support[best] - support.get(header_unit, 0.0) >= lead:
             said = "; ".join(describe(item, header_unit) for item in evidence)
-            warning = (f"{source}: header says {header_unit}: {said}; read in {best}: {read}; "
-                       f"pass --units {header_unit} if the header is right")
+            also = _alike(evidence, scores, support, best)
+            warning = (f"{source}: header says {header_unit}: {said}; read in {best}: {read}"
+                       f"{also}; pass --units {header_unit} if the header is right")
             note = (f"Read in {best} from the drawing's content (the header says {header_unit}, "
-                    f"but in {header_unit} {said}; in {best} {read}); pass --units to say otherwise.")
+                    f"but in {header_unit} {said}; in {best} {read}{also}); pass --units to say "
+                    f"otherwise.")
             return best, "content", note, lines, (warning,)
         return header_unit, "header", None, lines, ()
     runner_up = max((value for unit, value in support.items() if unit != best), default=0.0)
     clear = best in support and (support[best] >= 1.0 or (
         support[best] >= CLEAR_SUPPORT and support[best] - runner_up >= CLEAR_LEAD))
     if best and substantive and scores[best] >= 1.0 and clear:
-        # units the content fits exactly as well: the choice among them is the order of
-        # CANDIDATE_UNITS, and the user must hear of the others
-        alike = [unit for unit in scores if unit != best and
-                 abs(scores[unit] - scores[best]) < 1e-9 and
-                 abs(support[unit] - support[best]) < 1e-9]
-        also = "".join(f"; in {unit} it reads just as well: "
-                       f"{'; '.join(describe(item, unit) for item in evidence)}"
-                       for unit in alike)
+        also = _alike(evidence, scores, support, best)
         note = (f"Read in {best} from the drawing's content (the header's $INSUNITS gives no "
                 f"unit): {read}{also}; pass --units to say otherwise.")
         warning = (f"{source}: drawing has no units in its header; read in {best} from its "
@@ -665,6 +669,17 @@ def decide_from_content(header_unit, override, evidence, *, source):
                    f"{_metres(_extent(evidence))} across); pass --units if that is wrong")
         return lean, "content", note, lines, (warning,)
     return None, "assumed", None, lines, ()
+
+
+def _alike(evidence, scores, support, best):
+    """"; in UNIT it reads just as well: ..." for each unit the content fits exactly as well
+    as `best` (the choice among them is the order of CANDIDATE_UNITS, and the user must hear
+    of the others), or ""."""
+    alike = [unit for unit in scores if unit != best and
+             abs(scores[unit] - scores[best]) < 1e-9 and
+             abs(support.get(unit, 0.0) - support.get(best, 0.0)) < 1e-9]
+    return "".join(f"; in {unit} it reads just as well: "
+                   f"{'; '.join(describe(item, unit) for item in evidence)}" for unit in alike)
 
 
 def _extent(evidence):

@@ -99,6 +99,35 @@ def test_units_the_content_fits_alike_are_named_in_the_warning():
     assert "in in it reads just as well" in warning and "0.30 m" in warning
     assert "in in it reads just as well" in note
 
+    # the same content under a millimetre header: 12 mm walls and a 2.4 m plan are no
+    # building, and inches are named beside the centimetres it is read in
+    unit, source, note, _, (warning,) = decide_from_content("mm", None, [thickness, extent],
+                                                            source="a.dxf")
+    assert (unit, source) == ("cm", "content")
+    assert "in in it reads just as well" in warning and "0.30 m" in note
+
+
+@pytest.mark.parametrize("header", [6, None])
+def test_a_plan_drawn_in_mm_under_a_metre_header_is_read_in_mm(tmp_path, header):
+    """A template header in metres on a plan drawn in mm: four rooms side by side, two with
+    250 mm walls and two with 60 mm partitions. In metres the plan is 32 km across and its
+    walls 60 and 250 m thick; in mm, 32 m and 0.06 and 0.25 m (the 60 mm partitions, thinner
+    than most walls, count half: common practice, evidence.TYPICAL_WALL_M)."""
+    doc = new_drawing(6)
+    msp = doc.modelspace()
+    for k, thickness in enumerate((250.0, 60.0, 60.0, 250.0)):
+        walled_room(msp, k * 8000.0, 0.0, k * 8000.0 + 8000.0, 6000.0, thickness=thickness)
+    if header is None:              # the same plan with the metre header overruled by hand
+        plan = read_floorplan(save(doc, tmp_path), units="mm")
+    else:
+        plan = read_floorplan(save(doc, tmp_path))
+        assert plan.unit_source == "content" and plan.units == "mm", plan.unit_note
+        assert plan.unit_note.startswith("Read in mm from the drawing's content (the header "
+                                         "says m, but in m walls 60.00 m-250 m thick")
+    # analytic: the four rooms' floors inside their walls, in square metres
+    inside = 2 * (8 - 0.5) * (6 - 0.5) + 2 * (8 - 0.12) * (6 - 0.12)
+    assert plan.free_space.area == pytest.approx(inside, rel=1e-6)
+
 
 def test_us_dock_wall_without_door_swings_is_read_in_inches_and_closed(tmp_path):
     """The dock wall of _us_warehouse with each overhead door drawn as one line across on a
