@@ -34,6 +34,10 @@ RACK_DEPTH_M = (0.6, 2.5)
 RACK_BAY_ASPECT = 5.0
 #: ... and at least this much longer than deep (a back-to-back bay, 2.7 m x 2.4 m, is 1.125).
 RACK_BAY_SQUARE = 1.05
+#: A rectangle on a racking layer longer than RACK_BAY_ASPECT times its depth is a whole row
+#: when it is at least this share of the plan's larger side long (a row of 8 bays, 22 m, in a
+#: 400 m hall); an upright frame, 1.1 m long, is far less.
+RACK_ROW_SHARE = 0.05
 #: With no unit in the header, the content decides with a full weight of support (say, every
 #: door leaf plausible), or with CLEAR_SUPPORT and a lead of CLEAR_LEAD over every other unit:
 #: measured walls always include a few faces that are no wall's two sides.
@@ -242,12 +246,17 @@ def _nearest_parallel(a, b):
     return best, taken
 
 
-def rack_depths(parts, *, limit=4000):
+def rack_depths(parts, *, limit=4000, rows=False, span=0.0):
     """Depths (drawing units) of the rack bays among closed four-cornered parts: the shorter
     side of each rectangle (opposite sides within 1 %, diagonals too) at most RACK_BAY_ASPECT
     times shorter than the longer, at most `limit` of them. Squares (sides within
     RACK_BAY_SQUARE of each other) are upright posts or columns, not bays: a 100 mm post
-    read as a bay 1 m deep would make a metric warehouse ten times too large.
+    read as a bay 1 m deep would make a metric warehouse ten times too large. With `rows`,
+    the depths of the rectangles longer than that instead, and at least RACK_ROW_SHARE of
+    the plan's `span` long: whole rack rows drawn as one outline, their bays as lines across
+    them or not drawn. An upright frame drawn as a rectangle (100 x 1,100 mm) is as thin for
+    its length as a row, but a small share of the plan: its 100 mm would read as a 1 m row
+    in cm.
 
     Examples
     --------
@@ -258,6 +267,10 @@ def rack_depths(parts, *, limit=4000):
     ...                         [(0, 0), (5, 0), (3, 4)]], [CLOSED, CLOSED, CLOSED, CLOSED])
     >>> rack_depths(bays).tolist()
     [42.0]
+    >>> rack_depths(bays, rows=True, span=3600).tolist()
+    [42.0]
+    >>> rack_depths(bays, rows=True, span=36000).tolist()
+    []
     """
     from clearway.converter.parts import CLOSED
 
@@ -275,6 +288,8 @@ def rack_depths(parts, *, limit=4000):
             (sides.min(axis=1) > 0) & np.isfinite(sides).all(axis=1)
     short = np.minimum(sides[rectangle, 0], sides[rectangle, 1])
     long = np.maximum(sides[rectangle, 0], sides[rectangle, 1])
+    if rows:
+        return short[(long > RACK_BAY_ASPECT * short) & (long >= RACK_ROW_SHARE * span)]
     return short[(long <= RACK_BAY_ASPECT * short) & (long > RACK_BAY_SQUARE * short)]
 
 
@@ -522,7 +537,8 @@ def plausibility(evidence, units):
         # a dimension's factor agrees with a unit within 3 % (rounded dimension text)
         return float(np.mean(np.abs(evidence.values / factor - 1) <= 0.03))
     low, high = {"door swings": DOOR_LEAF_M, "wall thickness": WALL_THICKNESS_M,
-                 "rack bays": RACK_DEPTH_M, "extent": PLAN_SPAN_M}[evidence.kind]
+                 "rack bays": RACK_DEPTH_M, "rack rows": RACK_DEPTH_M,
+                 "extent": PLAN_SPAN_M}[evidence.kind]
     metres = evidence.values * factor
     share = (metres >= low) & (metres <= high)
     if evidence.kind == "wall thickness":
@@ -548,8 +564,8 @@ def describe(evidence, units):
     name = {"door swings": "doors", "wall thickness": "walls", "extent": "the plan"}.get(evidence.kind)
     if evidence.kind == "extent":
         return f"the plan {_metres(high)} across"
-    if evidence.kind == "rack bays":
-        return f"rack bays {_metres(low)}-{_metres(high)} deep"
+    if evidence.kind in ("rack bays", "rack rows"):
+        return f"{evidence.kind} {_metres(low)}-{_metres(high)} deep"
     return f"{name} {_metres(low)}-{_metres(high)}" + (" thick" if name == "walls" else " wide")
 
 
@@ -567,18 +583,22 @@ def judge_units(evidence):
     return dict(sorted(scores.items(), key=lambda pair: -pair[1]))
 
 
-def gather_evidence(*, swing_arcs, wall_lines, dimensions, span, rack_bays=(), areas=(),
-                    sizes=()):
+def gather_evidence(*, swing_arcs, wall_lines, dimensions, span, rack_bays=(), rack_rows=(),
+                    areas=(), sizes=()):
     """Collect the evidence (drawing units) that is there; a kind with too few samples is
-    left out (one arc is a chair, two doors a plan). `rack_bays` are rack-bay depths
-    (`rack_depths`), `areas` and `sizes` the factors room-area and room-size texts imply
-    (`area_factors`, `size_factors`)."""
+    left out (one arc is a chair, two doors a plan). `rack_bays` and `rack_rows` are the
+    depths of rack bays and of whole rows (`rack_depths`), `areas` and `sizes` the factors
+    room-area and room-size texts imply (`area_factors`, `size_factors`)."""
     found = []
     radii = door_swings(swing_arcs)
     if len(radii) >= 2:
         found.append(Evidence("door swings", radii, 2.0))
     if len(rack_bays) >= 4:
         found.append(Evidence("rack bays", np.asarray(rack_bays, dtype=float), 2.0))
+    if len(rack_rows) >= 4:
+        # a row is as deep as its bays, but a long rectangle on a racking layer may also be
+        # a walkway or a zone: it counts half as much as the bays
+        found.append(Evidence("rack rows", np.asarray(rack_rows, dtype=float), 1.0))
     thickness = wall_thicknesses(wall_lines)
     if len(thickness) >= 4:
         # the most common thicknesses: the lower three quarters (a room's width is no wall)

@@ -239,7 +239,9 @@ def _decide_units(content, override, by_role, visible, role_of):
                           if name in content.parts])
     evidence = gather_evidence(swing_arcs=arcs, wall_lines=np.concatenate([lines, rings]),
                                dimensions=content.dimensions, span=span,
-                               rack_bays=rack_depths(racks), areas=_area_factors(content, visible),
+                               rack_bays=rack_depths(racks),
+                               rack_rows=rack_depths(racks, rows=True, span=span),
+                               areas=_area_factors(content, visible),
                                sizes=_size_factors(content, visible,
                                                    [lines, rings, shapely.boundary(fills)], span))
     header_unit = INSUNITS_CODES.get(content.insunits)

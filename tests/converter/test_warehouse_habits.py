@@ -327,6 +327,49 @@ def test_rack_bays_decide_inches_against_a_millimetre_header(tmp_path):
         pytest.approx((3600 - 8) * 0.0254, abs=0.01)
 
 
+def _rows_drawn_whole(msp, scale, depth):
+    """Six rack rows, each one outline 24 bays long (2.7 m a bay at `scale` units a metre)
+    and `depth` units deep, with a line between bays, on layer RACKING."""
+    bay = 2.7 * scale
+    for row in range(6):
+        x0, y = 10 * scale, 8 * scale + 6 * scale * row
+        msp.add_lwpolyline(rectangle(x0, y, x0 + 24 * bay, y + depth), close=True,
+                           dxfattribs={"layer": "RACKING"})
+        for k in range(1, 24):
+            msp.add_line((x0 + k * bay, y), (x0 + k * bay, y + depth),
+                         dxfattribs={"layer": "RACKING"})
+
+
+def test_rack_rows_drawn_whole_decide_inches_against_a_millimetre_header(tmp_path):
+    """A US warehouse drawn in inches whose template header says mm, its walls two faces
+    10 units apart and each rack row one outline 42 units deep: 10-unit walls are 0.25 m in
+    inches and 0.10 m in cm, both plausible, and so is the plan either way (91 m or 36 m);
+    only the rows tell the two apart."""
+    doc = new_drawing(units=4)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 3600, 2160, thickness=10)
+    _rows_drawn_whole(msp, 1 / 0.0254, 42)
+    plan = read_floorplan(save(doc, tmp_path))
+    # common practice (from memory): US pallet-rack frames are 36 to 48 in deep; 42 in =
+    # 1.07 m. In cm the rows would be 0.42 m deep, in mm 42 mm
+    assert plan.units == "in", plan.unit_note
+    assert "rack rows 1.07 m-1.07 m deep" in plan.unit_note
+    # exact by definition (1 in = 0.0254 m): the hall inside the walls' inner faces
+    assert plan.free_space.bounds[2] - plan.free_space.bounds[0] == \
+        pytest.approx((3600 - 20) * 0.0254, abs=0.01)
+
+
+def test_rack_rows_drawn_whole_keep_a_metre_header(tmp_path):
+    """The same rows in a metre plan, back to back as one outline 2.3 m deep: 0.70 m in feet
+    is a plausible row too, so the rows must not outvote the header."""
+    doc = new_drawing(units=6)
+    msp = doc.modelspace()
+    walled_room(msp, 0, 0, 90, 50, thickness=0.3)
+    _rows_drawn_whole(msp, 1.0, 2.3)
+    plan = read_floorplan(save(doc, tmp_path))
+    assert plan.units == "m" and plan.unit_source == "header", plan.unit_note
+
+
 def test_back_to_back_bays_as_one_rectangle_keep_a_metre_header(tmp_path):
     """Pairs of bays drawn as one 2.7 m x 2.3 m rectangle in a metre plan: 2.3 units is 0.70 m
     in feet, a plausible single bay, so the bays must not outvote the header."""
