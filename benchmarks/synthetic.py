@@ -277,16 +277,16 @@ def write_style(path, style="current", bays=5000):
     return sheet.save(path, width, depth)
 
 
-#: loose_lines: bays per row, south wall thickness, dock doors (width, pitch), column size.
+#: loose_lines: bays per row, exterior wall thickness, dock doors (width, pitch), column size.
 LOOSE_ROW, LOOSE_WALL, DOCK_DOOR, DOCK_PITCH, SQUARE_COLUMN = 24, 0.25, 3.5, 8.0, 0.4
 
 
 def _loose_lines(path, bays):
     """Write the `loose_lines` style: the drawing habits of a plan whose blocks were exploded.
 
-    The exterior wall is two faces of LINEs on layer S-WALL (not an A-WALL* layer, so the
-    walls are found by their content), broken by a 3.5 m dock door every 8 m along the south
-    wall with nothing drawn across it (each a leak the build reports); each rack row is one
+    The exterior wall is two faces of LINEs 0.25 m apart on a structural layer (S-WALL),
+    broken by a 3.5 m dock door every 8 m along the south wall with nothing drawn across it
+    (each a leak the build reports, wider than an opening left open); each rack row is one
     closed outline with a LINE between bays (RACK); 0.4 m square columns (S-COLS) stand in
     the flue line of every other double row, every fourth bay, and in a row across the open
     dock area; stations in the aisles as in the other styles.
