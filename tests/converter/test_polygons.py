@@ -286,6 +286,36 @@ def test_rotated_bays_that_almost_meet_are_united_by_snapping(angle):
     assert merged.area == pytest.approx(80 * 2.7 * 1.1, abs=80 * 2 * (2.7 + 1.1) * TILE_SNAP)
 
 
+@pytest.mark.parametrize("stray", [0.0, 1e-4, 1e-3])
+def test_lines_between_bays_that_stray_by_rounding_close_nothing(stray):
+    from clearway.converter.polygons import TILE_SNAP, filled_regions
+    # rack rows drawn as one outline each at 17 degrees, a line between bays whose ends
+    # each stray `stray` metres beyond the outline (placed on their own, then rounded)
+    theta = np.radians(17.0)
+    along, across = np.array([np.cos(theta), np.sin(theta)]), np.array([-np.sin(theta), np.cos(theta)])
+    rings, lines = [], []
+    for row in range(3):
+        origin = row * 4.0 * across
+        corners = [origin, origin + 27 * along, origin + 27 * along + 1.1 * across,
+                   origin + 1.1 * across]
+        rings.append(shapely.LinearRing(corners))
+        for k in range(1, 10):
+            foot = origin + 2.7 * k * along
+            lines.append(shapely.LineString([foot - stray * across,
+                                             foot + (1.1 + stray) * across]))
+    area = filled_regions(np.array(lines), np.array(rings), [], gap_tolerance=0.01,
+                          nominal_thickness=0.05)
+    outlines = shapely.union_all(shapely.polygons(np.array(rings)))
+    if stray <= TILE_SNAP:
+        # the outlines, to the bit: the lines add no face and no vertex
+        assert area.equals(outlines) and shapely.get_num_coordinates(area) == 3 * 5
+    else:
+        # 1 mm out is drawn, not rounding: each stub becomes a 0.05 m band
+        assert area.area > outlines.area
+    # analytic: three rows of 27 m x 1.1 m, less nothing
+    assert shapely.difference(outlines, area).area == pytest.approx(0.0, abs=1e-9)
+
+
 def test_snap_corners_declines_chains_and_far_corners():
     from clearway.converter.polygons import snap_corners
     # source: analytic: corners 0.15 mm apart in a chain three long span 0.3 mm > 0.2 mm
