@@ -309,10 +309,9 @@ def test_lines_between_bays_that_stray_by_rounding_close_nothing(stray):
     if stray <= TILE_SNAP:
         # the outlines, to the bit: the lines add no face and no vertex
         assert area.equals(outlines) and shapely.get_num_coordinates(area) == 3 * 5
-    else:
-        # 1 mm out is drawn, not rounding: each stub becomes a 0.05 m band
-        assert area.area > outlines.area
-    # analytic: three rows of 27 m x 1.1 m, less nothing
+    # 1 mm out is beyond rounding: the lines go to the search for faces, whatever the noding
+    # (GEOS's version) makes of their stubs; either way, analytic: the three rows of
+    # 27 m x 1.1 m are covered whole
     assert shapely.difference(outlines, area).area == pytest.approx(0.0, abs=1e-9)
 
 
