@@ -652,7 +652,7 @@ def decide_from_content(header_unit, override, evidence, *, source):
     best = next(iter(scores), None)
     read = "; ".join(describe(item, best) for item in evidence) if best else ""
     if header_unit is not None:
-        extent = next((item for item in evidence if item.kind == "extent"), None)
+        extent = _extent_item(evidence)
         impossible = extent is not None and best is not None and \
             plausibility(extent, header_unit) == 0.0 and plausibility(extent, best) > 0.0
         lead = IMPOSSIBLE_PLAN_LEAD if impossible else 1.0
@@ -702,9 +702,15 @@ def _alike(evidence, scores, support, best):
                    f"{'; '.join(describe(item, unit) for item in evidence)}" for unit in alike)
 
 
+def _extent_item(evidence):
+    """The extent evidence (the plan's size), or None."""
+    return next((item for item in evidence if item.kind == "extent"), None)
+
+
 def _extent(evidence):
     """The plan's size in drawing units (the extent evidence), or 0."""
-    return next((float(item.values[0]) for item in evidence if item.kind == "extent"), 0.0)
+    extent = _extent_item(evidence)
+    return float(extent.values[0]) if extent is not None else 0.0
 
 
 def _leaning_unit(evidence, substantive):
@@ -716,7 +722,7 @@ def _leaning_unit(evidence, substantive):
     Without it the plan is assumed in metres, or in the first unit of a fixed order that
     makes its size a building (`units.likely_unit`), whatever its walls say.
     """
-    extent = next((item for item in evidence if item.kind == "extent"), None)
+    extent = _extent_item(evidence)
     if extent is None or not substantive or plausibility(extent, "m") > 0:
         return None
     support = {unit: sum(item.weight * plausibility(item, unit) for item in substantive)

@@ -1000,11 +1000,11 @@ def filled_regions(lines, rings, fills, *, gap_tolerance, nominal_thickness, pos
     lines = np.asarray(lines, dtype=object)
     if len(lines) and not area.is_empty:
         lines = lines[~covered(lines, area, pieces=shapes)]
-    if len(lines) and not area.is_empty:
-        # lines that stray from the closed shapes by rounding alone (a rotated rack row's
-        # lines between bays, each end placed on its own, 0.1 mm out of the row's outline)
-        # close nothing: no faces need finding for them
-        lines = lines[~shapely.covered_by(lines, shapely.buffer(area, TILE_SNAP))]
+        if len(lines):
+            # lines that stray from the closed shapes by rounding alone (a rotated rack row's
+            # lines between bays, each end placed on its own, 0.1 mm out of the row's
+            # outline) close nothing: no faces need finding for them
+            lines = lines[~shapely.covered_by(lines, shapely.buffer(area, TILE_SNAP))]
     if not len(lines):
         return area
     if len(polygons):
