@@ -61,3 +61,21 @@ def test_layers_reads_the_drawing_without_the_roadmap_stage():
     roadmap = {name for name in modules - CONSTANTS if name.startswith("clearway.roadmap.")}
     assert roadmap == set(), sorted(roadmap)
     assert "networkx" not in top_level(modules)
+
+
+def test_build_forks_its_reader_before_it_imports_the_graph_library():
+    # the reader (a forked child, clearway.side_by_side) waits for everything imported before
+    # the fork; it has no use for networkx or scipy, which this process imports while it reads
+    probe = ("import json, sys\n"
+             "import clearway.side_by_side as s\n"
+             "def stop(self):\n"
+             "    print(json.dumps(sorted(sys.modules)), file=sys.stderr)\n"
+             "    raise SystemExit(0)\n"
+             "s.Aside.__enter__ = stop\n"
+             "from clearway.cli import main\n"
+             "main(sys.argv[1:], prog_name='clearway')\n")
+    done = subprocess.run([sys.executable, "-c", probe, "build", str(SAMPLES / "clinic.dxf"),
+                           "-o", "unused", "-q"], capture_output=True, text=True, timeout=120)
+    before_fork = top_level(set(json.loads(done.stderr.strip().splitlines()[-1])))
+    assert {"numpy", "shapely"} <= before_fork      # shared with the reader: imported once
+    assert before_fork & {"networkx", "scipy", "ezdxf", "lxml"} == set()
