@@ -37,6 +37,7 @@ SIGTERM), the child is killed and reaped before the exception goes on.
 
 from __future__ import annotations
 
+import contextlib
 import gc
 import os
 import pickle
@@ -44,7 +45,8 @@ import signal
 import sys
 import threading
 import traceback
-from typing import Callable, Mapping, Sequence
+from concurrent.futures import Future, ThreadPoolExecutor
+from typing import Callable, Iterator, Mapping, Sequence
 
 #: Environment variable: "1" renders everything in this process, "2" forks even for a
 #: little work (tests); unset, the caller's measure of the work decides.
@@ -55,6 +57,33 @@ def cores() -> int:
     """Processor cores this process may run on (threads as well as processes)."""
     return len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else \
         (os.cpu_count() or 1)
+
+
+@contextlib.contextmanager
+def meanwhile(function: Callable[[], object]) -> Iterator[Future]:
+    """Call `function` on a second thread while this one runs the ``with`` block.
+
+    For work that releases the GIL beside other work that does (GEOS's operations, scipy's
+    k-d tree, numpy on large arrays): on two cores the pair takes about as long as the
+    longer of the two. Yields a Future of the function's result, to take after the block.
+    Leaving the block joins the thread, whatever happened in it: a thread left running
+    would keep the build from forking (:func:`can_fork`). With one core, `function` is
+    called here, before the block.
+
+    Examples
+    --------
+    >>> with meanwhile(lambda: sum(range(10))) as summing:
+    ...     here = 2 + 2
+    >>> summing.result() + here
+    49
+    """
+    if cores() < 2:
+        future = Future()
+        future.set_result(function())
+        yield future
+        return
+    with ThreadPoolExecutor(1) as pool:
+        yield pool.submit(function)
 
 
 def forced() -> bool:

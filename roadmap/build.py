@@ -13,7 +13,7 @@ from shapely.ops import polylabel  # shapely.polylabel exists only from shapely 
 
 from clearway.collector import paused_collector
 from clearway.config import DEFAULTS, default_comfort_clearance
-from clearway.side_by_side import Aside
+from clearway.side_by_side import Aside, meanwhile
 from clearway.roadmap import checks
 from clearway.roadmap.gvd import medial_axis
 from clearway.roadmap.graph import (_adjacency, chain_lanes, contract_short_edges, prune_spurs,
@@ -177,11 +177,15 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
     obstacle_parts = polygon_parts([g for g in obstacles.values() if g is not None]) \
         if obstacles else np.empty(0, object)
     drivable = shapely.MultiPolygon(list(regions))
-    field = clearance_field(boundary_segments(local)[0])
 
     report("voronoi")
-    axis = medial_axis(shapely.MultiPolygon(list(reached_parts(local, regions, c))),
-                       step=sample_step)
+    # the clearance field and its indexes are made on a second thread while GEOS finds the
+    # reached parts (both release the GIL): 0.17 of 0.64 s on the mixed suite floor at
+    # 20,000 bays. It is first asked after the medial axis.
+    with meanwhile(lambda: clearance_field(boundary_segments(local)[0]).prepared()) as making:
+        reached = reached_parts(local, regions, c)
+    field = making.result()
+    axis = medial_axis(shapely.MultiPolygon(list(reached)), step=sample_step)
 
     report("rooms")
 

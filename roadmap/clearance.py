@@ -181,6 +181,13 @@ class ClearanceField:
             result[doubt[found[0]]] = distance
         return result
 
+    def prepared(self) -> "ClearanceField":
+        """Build the indexes the queries use now (GEOS builds an STRtree at its first query,
+        not with it) and return the field."""
+        if len(self.samples):
+            self.index, self._parts, self.tree.query_nearest(shapely.Point(self.samples[0]))
+        return self
+
     def at(self, xy) -> np.ndarray:
         """Return the clearance at each point, metres, shape (N,)."""
         xy = np.asarray(xy, dtype=float).reshape(-1, 2)
@@ -188,9 +195,7 @@ class ClearanceField:
             return np.full(len(xy), np.inf)
         if len(xy) >= THREADED_POINTS and cores() > 1:
             blocks = [xy[i:i + THREAD_BLOCK] for i in range(0, len(xy), THREAD_BLOCK)]
-            # the indexes are built here, not raced for by the threads (GEOS builds an
-            # STRtree at its first query)
-            self.index, self._parts, self.tree.query_nearest(shapely.points(xy[:1]))
+            self.prepared()    # the indexes are built here, not raced for by the threads
             # threads joined before returning: a thread left running would keep the build
             # from forking (clearway.side_by_side)
             with ThreadPoolExecutor(2) as pool:

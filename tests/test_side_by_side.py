@@ -14,6 +14,7 @@ from pathlib import Path
 
 import pytest
 
+import clearway.side_by_side as runner
 from clearway.errors import ClearwayError
 from clearway.side_by_side import Aside, can_fork, side_by_side
 
@@ -284,3 +285,38 @@ def test_a_child_of_a_child_ends_when_its_parent_is_killed(one_thread, tmp_path)
         while _alive(grandchild) and time.monotonic() < deadline:
             time.sleep(0.01)
         assert not _alive(grandchild)
+
+
+def test_meanwhile_runs_on_a_second_thread_and_joins_it_on_leaving(monkeypatch):
+    started, go_on = threading.Event(), threading.Event()
+
+    def work():
+        started.set()
+        assert go_on.wait(10)       # runs while the block runs: the block lets it finish
+        return threading.get_ident()
+
+    monkeypatch.setattr(runner, "cores", lambda: 2)
+    with runner.meanwhile(work) as working:
+        assert started.wait(10)
+        go_on.set()
+    assert working.result() != threading.get_ident()
+    assert threading.active_count() == 1            # joined: the build may fork again
+
+
+def test_meanwhile_raises_the_threads_error_and_joins_it_when_the_block_fails(monkeypatch):
+    monkeypatch.setattr(runner, "cores", lambda: 2)
+    with runner.meanwhile(lambda: 1 / 0) as working:
+        pass
+    with pytest.raises(ZeroDivisionError):
+        working.result()
+    with pytest.raises(KeyError), runner.meanwhile(lambda: time.sleep(0.2)):
+        raise KeyError("the block's own error")
+    assert threading.active_count() == 1
+
+
+def test_meanwhile_on_one_core_calls_the_function_here_first(monkeypatch):
+    monkeypatch.setattr(runner, "cores", lambda: 1)
+    order = []
+    with runner.meanwhile(lambda: order.append(threading.get_ident()) or "done") as w:
+        order.append("block")
+    assert order == [threading.get_ident(), "block"] and w.result() == "done"
