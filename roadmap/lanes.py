@@ -221,7 +221,9 @@ def refine_lanes(lines: list[np.ndarray], field: ClearanceField, *, below: float
         owner = np.repeat(np.arange(len(lines)), counts)
         chord = np.flatnonzero(owner[1:] == owner[:-1])
         a, b = xy[chord], xy[chord + 1]
-        at_vertex = field.at(xy)  # each vertex once, not once per chord it ends
+        # each vertex once, not once per chord it ends; where it is at least below + 0.2 it
+        # ends no narrow chord, and its value (inf) neither decides one nor is kept
+        at_vertex = field.under(xy, below + 0.2)
         ends = np.minimum(at_vertex[chord], at_vertex[chord + 1])
         narrow = ends < below + 0.2
         chord, a, b, ends = chord[narrow], a[narrow], b[narrow], ends[narrow]

@@ -29,22 +29,45 @@ def test_clearance_at_random_points_equals_shapely_distance_to_the_boundary():
     assert np.allclose(field.at(xy), expected, rtol=0, atol=1e-9)
 
 
+def _random_queries(spacing, seed):
+    """(field, rng, points, GEOS's exact distances) for 4,000 points round the room."""
+    free = _room_with_rack()
+    rng = np.random.default_rng(seed)
+    xy = rng.uniform((-2, -2), (22, 14), size=(4000, 2))
+    return (clearance_field(boundary_segments(free)[0], spacing=spacing), rng, xy,
+            shapely.distance(shapely.points(xy), free.boundary))
+
+
 @pytest.mark.parametrize("spacing", [0.05, 0.25, 3.0])
 def test_at_least_answers_as_the_exact_distance_does(spacing):
     # independent reference: GEOS's exact point-to-linework distance; the thresholds are
     # drawn round each point's own distance (within 1 cm, and exactly at it), where a bound
     # that claimed too much would show
-    free = _room_with_rack()
-    field = clearance_field(boundary_segments(free)[0], spacing=spacing)
-    rng = np.random.default_rng(3)
-    xy = rng.uniform((-2, -2), (22, 14), size=(4000, 2))
-    exact = shapely.distance(shapely.points(xy), free.boundary)
+    field, rng, xy, exact = _random_queries(spacing, seed=3)
     for need in (exact + rng.uniform(-0.01, 0.01, len(xy)), exact - 1e-7, exact + 1e-7,
                  rng.uniform(0, 6, len(xy))):
         clear = field.at_least(xy, need)
         decided = np.abs(exact - need) > 1e-9
         assert (clear[decided] == (exact >= need)[decided]).all()
         assert (clear == (field.at(xy) >= need)).all()
+
+
+@pytest.mark.parametrize("spacing", [0.05, 0.25, 3.0])
+def test_under_gives_the_exact_distance_wherever_it_is_under_the_limit(spacing):
+    # independent reference: GEOS's exact point-to-linework distance; the points within
+    # 1 cm of the limit, either side, are where a bound that claimed too much would show
+    field, _, xy, exact = _random_queries(spacing, seed=11)
+    for limit in (0.5, 1.0, float(np.median(exact))):
+        got = field.under(xy, limit)
+        assert np.allclose(got[exact < limit], exact[exact < limit], rtol=0, atol=1e-9)
+        assert (got[np.isinf(got)] >= limit).all() and (exact[np.isinf(got)] >= limit).all()
+        assert np.array_equal(got[np.isfinite(got)], field.at(xy[np.isfinite(got)]))
+        near = np.abs(exact - limit) < 0.01
+        assert near.sum() > 10 and np.isfinite(got[near & (exact < limit)]).all()
+        # a point farther than limit + spacing / 2 has its nearest sample beyond the search's
+        # bound: it is left out, without the exact query (else nothing would be saved)
+        far = exact > limit + spacing / 2 + 1e-6
+        assert np.isinf(got[far]).all() and (far.sum() > 100 or limit > 0.5)
 
 
 @pytest.mark.parametrize("spacing", [0.25, 3.0])
