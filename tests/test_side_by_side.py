@@ -293,14 +293,15 @@ def test_meanwhile_runs_on_a_second_thread_and_joins_it_on_leaving(monkeypatch):
     def work():
         started.set()
         assert go_on.wait(10)       # runs while the block runs: the block lets it finish
-        return threading.get_ident()
+        return threading.current_thread()
 
     monkeypatch.setattr(runner, "cores", lambda: 2)
     with runner.meanwhile(work) as working:
         assert started.wait(10)
         go_on.set()
-    assert working.result() != threading.get_ident()
-    assert threading.active_count() == 1            # joined: the build may fork again
+    thread = working.result()
+    assert thread is not threading.current_thread()
+    assert not thread.is_alive()                    # joined: the build may fork again
 
 
 def test_meanwhile_raises_the_threads_error_and_joins_it_when_the_block_fails(monkeypatch):
@@ -309,9 +310,11 @@ def test_meanwhile_raises_the_threads_error_and_joins_it_when_the_block_fails(mo
         pass
     with pytest.raises(ZeroDivisionError):
         working.result()
-    with pytest.raises(KeyError), runner.meanwhile(lambda: time.sleep(0.2)):
+    threads = []
+    with pytest.raises(KeyError), runner.meanwhile(
+            lambda: threads.append(threading.current_thread()) or time.sleep(0.2)):
         raise KeyError("the block's own error")
-    assert threading.active_count() == 1
+    assert threads and not threads[0].is_alive()
 
 
 def test_meanwhile_on_one_core_calls_the_function_here_first(monkeypatch):
