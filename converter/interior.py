@@ -21,6 +21,7 @@ from clearway.converter.openings import (MAX_DOOR_WIDTH, MAX_OPEN_WIDTH, MAX_WIN
                                          open_swept_doorways)
 from clearway.converter.polygons import (as_multipolygon, door_swings, fill_holes, find_leaks,
                                          wall_regions)
+from clearway.side_by_side import meanwhile
 
 #: Overlap given to a gap where it meets its jambs, metres.
 SEAM = 0.003
@@ -129,9 +130,11 @@ def _enclose(solid, enclosed, gaps, kinds, find_envelope):
     shut = quads[[kinds[k] in ("window", "closed") for k in kept]] if len(kept) else quads
     walls = _with(solid, shapely.union_all(shut)) if len(shut) else solid
     united = shapely.union_all(quads) if len(quads) else None
-    bridged = _with(solid, united)
-    # `enclosed` holds the solid walls already: the quads are all `bridged` adds to it
-    base = fill_holes(_with(enclosed, united))
+    # `enclosed` holds the solid walls already: the quads are all `bridged` adds to it; the
+    # two unions are made side by side, on two threads (GEOS releases the GIL)
+    with meanwhile(lambda: fill_holes(_with(enclosed, united))) as basing:
+        bridged = _with(solid, united)
+    base = basing.result()
     leaks, container = find_leaks(bridged, base) if find_envelope else ([], base)
     envelope = fill_holes(container)
     outside = _lead_outside([gaps[k] for k in kept], envelope) if find_envelope and kept \

@@ -13,7 +13,7 @@ import numpy as np
 import shapely
 
 from clearway.converter.grouping import components, pairs_within
-from clearway.side_by_side import cores
+from clearway.side_by_side import cores, meanwhile
 
 #: Closing widths (metres) tried, smallest first, when looking for gaps in the enclosure.
 LEAK_WIDTHS = (0.25, 0.5, 1.0, 2.0, 4.0, 8.0)
@@ -601,6 +601,22 @@ def wall_regions(lines, rings, fills, *, gap_tolerance, max_wall_thickness, nomi
     faces = np.empty(0, dtype=object)
     if len(edges):
         faces = shapely.get_parts(shapely.polygonize(edges))
+    # the faces tile the plane (polygonize): their coverage union, for the enclosed area, is
+    # made on a second thread while the solid faces are found (GEOS releases the GIL)
+    with meanwhile(lambda: shapely.coverage_union_all(faces) if len(faces) else None) as tiling:
+        solid, loose, banded = _solid_walls(edges, faces, fills, arcs, texts,
+                                            max_wall_thickness, nominal_wall_thickness)
+    # the fills and the bands are then added as a handful of geometries; the solid faces are
+    # among the faces, so the solid (with every round column again) is not united a second time
+    tiled = np.array([tiling.result()] if len(faces) else [], dtype=object)
+    fills = np.asarray(fills, dtype=object)
+    enclosed = fill_holes(shapely.union_all(np.concatenate([tiled, fills, [banded]])))
+    return solid, enclosed, loose
+
+
+def _solid_walls(edges, faces, fills, arcs, texts, max_wall_thickness, nominal_wall_thickness):
+    """`wall_regions`' solid walls from the noded `edges` and their `faces`: (solid, loose
+    edges, their bands)."""
     if len(faces):
         tolerance = max(max_wall_thickness / 100.0, 1e-4)
         above = (max(max_wall_thickness, THICK_WALL_MAX if texts is not None else 0) + tolerance) / 2
@@ -636,12 +652,7 @@ def wall_regions(lines, rings, fills, *, gap_tolerance, max_wall_thickness, nomi
         banded = bands(loose, nominal_wall_thickness)
         if len(loose):  # else the solid stays as united above, its columns not again
             solid = as_multipolygon(shapely.union_all([solid, banded]))
-    # the faces tile the plane (polygonize): one coverage union, then the fills and the bands
-    # as a handful of geometries; the solid faces are among the faces, so the solid (with
-    # every round column again) is not united a second time
-    tiled = np.array([shapely.coverage_union_all(faces)] if len(faces) else [], dtype=object)
-    enclosed = fill_holes(shapely.union_all(np.concatenate([tiled, fills, [banded]])))
-    return solid, enclosed, loose
+    return solid, loose, banded
 
 
 #: Racking rows drawn as beam lines along both faces with the uprights as small posts
