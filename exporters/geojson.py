@@ -106,10 +106,23 @@ def _point(x: float, y: float, project) -> dict:
             "coordinates": project(np.array([[x, y]], dtype=float))[0].tolist()}
 
 
-def _line(coords: np.ndarray, project) -> dict:
-    """``_geometry`` of a LineString through (N, 2) `coords`, without making one."""
-    return {"type": "LineString",
-            "coordinates": project(np.ascontiguousarray(coords, dtype=float)).tolist()}
+def _lines(lines, project) -> list[dict]:
+    """``_geometry`` of a LineString through each of `lines` ((N_i, 2) arrays), without
+    making one, projected all in one call: `project` works point by point, so the values
+    are those of one line at a time."""
+    if not lines:
+        return []
+    points = project(np.concatenate([np.asarray(line, dtype=float).reshape(-1, 2)
+                                     for line in lines])).tolist()
+    ends = np.cumsum([len(line) for line in lines]).tolist()
+    return [{"type": "LineString", "coordinates": points[begin:end]}
+            for begin, end in zip([0, *ends[:-1]], ends)]
+
+
+def _points(xy, project) -> list[dict]:
+    """``_point`` of each of the points `xy` (N, 2), projected all in one call."""
+    return [{"type": "Point", "coordinates": point}
+            for point in project(np.asarray(xy, dtype=float).reshape(-1, 2)).tolist()]
 
 
 def _feature(geometry: dict, properties: dict) -> dict:
@@ -154,16 +167,19 @@ def _area_features(plan, roadmap, project) -> list[dict]:
 def _graph_features(roadmap, project, edges=None) -> list[dict]:
     graph = roadmap.graph
     features = []
-    for edge_id, source, target, attrs, coords in (oriented_edges(graph) if edges is None
-                                                   else edges):
-        features.append(_feature(_line(coords, project), {
+    edges = oriented_edges(graph) if edges is None else edges
+    for (edge_id, source, target, attrs, _), line in zip(
+            edges, _lines([edge[4] for edge in edges], project)):
+        features.append(_feature(line, {
             "element": "edge", "id": json_text(edge_id), "source": json_text(source),
             "target": json_text(target), "length": finite_or_none(attrs["length"]),
             "weight": finite_or_none(attrs["weight"]),
             "clearance_min": finite_or_none(attrs["clearance_min"])}))
-    for node_id in sorted(graph.nodes, key=natural_key):
+    nodes = sorted(graph.nodes, key=natural_key)
+    points = _points([(graph.nodes[n]["x"], graph.nodes[n]["y"]) for n in nodes], project)
+    for node_id, point in zip(nodes, points):
         attrs = graph.nodes[node_id]
-        features.append(_feature(_point(attrs["x"], attrs["y"], project), {
+        features.append(_feature(point, {
             "element": "node", "id": json_text(node_id), "kind": json_text(attrs["kind"]),
             "label": json_text(attrs.get("label", "")), "x": float(attrs["x"]),
             "y": float(attrs["y"]), "clearance": finite_or_none(attrs["clearance"])}))

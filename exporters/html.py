@@ -140,11 +140,15 @@ def _graph(roadmap, origin, oriented=None) -> tuple[list, list]:
                       finite_or_none(attrs.get("clearance")),
                       None if turns is None else json_text(turns)])
     edges = []
-    for edge_id, source, target, attrs, coords in (oriented_edges(graph) if oriented is None
-                                                   else oriented):
+    oriented = oriented_edges(graph) if oriented is None else oriented
+    # every edge's coordinates rounded in one call (as `_flat` rounds each), then cut apart
+    lines = [np.asarray(edge[4], dtype=float).reshape(-1, 2) for edge in oriented]
+    values = _flat(np.concatenate(lines), origin) if lines else []
+    ends = np.cumsum([2 * len(line) for line in lines]).tolist()
+    for (edge_id, source, target, attrs, _), begin, end in zip(oriented, [0, *ends[:-1]], ends):
         edges.append([json_text(edge_id), json_text(source), json_text(target),
                       float(attrs["length"]), float(attrs["weight"]),
-                      finite_or_none(attrs.get("clearance_min")), _flat(coords, origin)])
+                      finite_or_none(attrs.get("clearance_min")), values[begin:end]])
     return nodes, edges
 
 
