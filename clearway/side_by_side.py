@@ -29,6 +29,12 @@ and for enough work (the caller says; CLEARWAY_PROCESSES=2 forks for any work, f
 otherwise, and when CLEARWAY_PROCESSES=1, everything runs here in turn. The results are the
 same either way: the work is a deterministic function of its inputs.
 
+Work that releases the GIL (GEOS's operations, scipy's k-d tree) can run beside other such
+work on a second thread instead (:func:`meanwhile`), where a fork would cost more than the
+work: the clearance field's indexes while GEOS finds the floor the robot reaches
+(clearway.roadmap.build), two unions of the walls side by side (clearway.converter). The
+thread is joined when its block ends, so a fork after it is still safe.
+
 An error in the child is raised here as if the work had run here (the exception is
 pickled back, with the child's traceback in a note; one that cannot be pickled arrives as a
 RuntimeError with its text). If this process stops first (an error in its own work, Ctrl-C,
