@@ -11,7 +11,6 @@ the reader to read side by side.
 
 from __future__ import annotations
 
-import bisect
 import contextlib
 import datetime
 import hashlib
@@ -256,13 +255,28 @@ def entity_halves(text, least: int = 0):
     # objects that refer to nothing, which its audit repairs, and the file is read whole
     if any(text.find(mark, section.end(), end.start()) >= 0 for mark in _REFERRED):
         return None
-    starts = [match.start() for match in _ENTITY.finditer(text, section.end(), end.start())
-              if match.group(1) not in _FOLLOWERS]
-    if len(starts) < 2:
-        return None
+    # the cut: the first entity from the middle on, but never the first entity, nor past
+    # the last. Only the few entities about the middle are looked at (matching every entity
+    # of the 4 MB section of the mixed suite drawing at 20,000 bays took 0.07 s); the rest
+    # of the section is scanned only when no entity starts after the middle.
+    first = _first_entity(text, section.end(), end.start())
     middle = (section.end() + end.start()) // 2
-    cut = starts[min(max(bisect.bisect_left(starts, middle), 1), len(starts) - 1)]
+    cut = None if first is None else \
+        _first_entity(text, max(middle, first + 1), end.start())
+    if cut is None:
+        starts = [match.start() for match in _ENTITY.finditer(text, section.end(), end.start())
+                  if match.group(1) not in _FOLLOWERS]
+        if len(starts) < 2:
+            return None
+        cut = starts[-1]
     return text[:cut] + text[end.start():], text[:section.end()] + text[cut:]
+
+
+def _first_entity(text, start, stop):
+    """Where the first entity (not a follower) of `text` starts within [start, stop), or
+    None."""
+    return next((match.start() for match in _ENTITY.finditer(text, start, stop)
+                 if match.group(1) not in _FOLLOWERS), None)
 
 
 #: Code pages tried, in this order, for the text of a drawing whose header names none: ezdxf's
