@@ -28,7 +28,7 @@ from clearway.exporters.svg_parts import (AREA_STYLE, add_heading, add_legend, a
                                           add_scale_and_arrow, add_text, clearance_band,
                                           heading_end, lane_bins,
                                           lane_colour, measure_label, number, path_data,
-                                          point_list, symbol_reach)
+                                          point_lists, symbol_reach)
 from clearway.exporters.text import SAFETY_CAUTION, TOOL_VERSION, xml_text
 from clearway.roadmap.inflate import local_offset
 
@@ -201,14 +201,17 @@ def render_svg(plan, roadmap, *, date: str, band=None, edges=None) -> bytes:
                                 "stroke-linejoin": "round"})
     edges = sorted(oriented_edges(roadmap.graph) if edges is None else edges,
                    key=lambda e: -float(e[3]["clearance_min"]))
-    for edge_id, _, _, attrs, coords in edges:
+    moved = [coords - origin for *_, coords in edges]
+    for (edge_id, _, _, attrs, _), points in zip(edges, point_lists(moved)):
         colour = lane_colour(bins, float(attrs["clearance_min"]))
         etree.SubElement(lanes, "polyline", stroke=colour, id=xml_text(f"lane-{edge_id}"),
-                         points=point_list(coords - origin))
+                         points=points)
 
     marks = etree.SubElement(root, "g", id="marks")
-    placer = LabelPlacer([shapely.LineString(coords - origin) for *_, coords in edges
-                          if len(coords) >= 2], 0.32 * font)
+    # every lane's LineString in one call (the same coordinates as one at a time)
+    drawn = [line for line in moved if len(line) >= 2]
+    placer = LabelPlacer(shapely.linestrings(np.concatenate(drawn), indices=np.repeat(
+        np.arange(len(drawn)), [len(line) for line in drawn])) if drawn else [], 0.32 * font)
     symbols = [(attrs["kind"], attrs["x"] - ox, attrs["y"] - oy, None)
                for _, attrs in sorted(roadmap.graph.nodes(data=True),
                                       key=lambda n: (n[1]["x"], n[1]["y"]))

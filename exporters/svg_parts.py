@@ -106,12 +106,34 @@ def point_list(xy) -> str:
     >>> point_list(np.array([[1.25, 2.0], [-0.0001, 0.0], [10.5, -100.0]]))
     '1.25,-2 0,0 10.5,100'
     """
-    xy = np.asarray(xy, dtype=float).reshape(-1, 2)
-    if len(xy) == 0:
-        return ""
-    text = " " + ("%.3f,%.3f " * len(xy)) % tuple((xy * (1.0, -1.0)).ravel().tolist())
+    return point_lists([xy])[0]
+
+
+def _tidy(text: str) -> str:
+    """Numbers of ``%.3f`` text, each between spaces or commas, as ``number`` writes them."""
     text = _TRAILING_ZEROS.sub("", text).replace(". ", " ").replace(".,", ",")
-    return text.replace(" -0,", " 0,").replace(",-0 ", ",0 ")[1:-1]
+    return text.replace(" -0,", " 0,").replace(",-0 ", ",0 ")
+
+
+def point_lists(lines) -> list[str]:
+    """``point_list`` of each of `lines` ((N_i, 2) arrays), all formatted in one text.
+
+    Each line's numbers sit between a space before and a space after, as in its own
+    ``point_list`` text, and the lines are kept apart by newlines, which none of the
+    substitutions reaches across: each text is the one ``point_list`` writes.
+
+    Examples
+    --------
+    >>> point_lists([np.array([[1.25, 2.0], [-0.0001, 0.0]]), np.zeros((0, 2)),
+    ...              np.array([[10.5, -100.0]])])
+    ['1.25,-2 0,0', '', '10.5,100']
+    """
+    lines = [np.asarray(line, dtype=float).reshape(-1, 2) for line in lines]
+    if not lines:
+        return []
+    template = "".join(" " + "%.3f,%.3f " * len(line) + "\n" for line in lines)
+    text = _tidy(template % tuple((np.concatenate(lines) * (1.0, -1.0)).ravel().tolist()))
+    return [part[1:-1] for part in text.split("\n")[:-1]]
 
 
 def path_data(geometry) -> str:
@@ -139,9 +161,7 @@ def path_data(geometry) -> str:
     closing = np.cumsum(counts + 1) - 1
     xy = np.delete(xy, closing, axis=0)
     template = " ".join(["M " + "%.3f,%.3f " * count + "Z" for count in counts.tolist()])
-    text = template % tuple((xy * (1.0, -1.0)).ravel().tolist())
-    text = _TRAILING_ZEROS.sub("", text).replace(". ", " ").replace(".,", ",")
-    text = text.replace(" -0,", " 0,").replace(",-0 ", ",0 ")
+    text = _tidy(template % tuple((xy * (1.0, -1.0)).ravel().tolist()))
     return text.replace("M ", "M").replace(" Z", "Z")
 
 
