@@ -26,6 +26,12 @@ from clearway.roadmap import ROBOT_KINDS          # a constant: the stages load 
 #: it (clearway.converter.grouping), and this process imports it (about 0.35 s) while the
 #: other reads.
 SHARED_LIBRARIES = ("numpy", "shapely")
+#: The libraries of the roadmap stage and the exporters, imported while the reader reads, in
+#: steps of at most about 0.12 s: between steps this process holds back while the reader
+#: parses a large drawing's two halves in two processes (clearway.converter.read,
+#: HOLD_CHARACTERS), which a third process on two cores would slow.
+STAGE_LIBRARIES = ("scipy.sparse", "scipy.sparse.csgraph", "scipy.spatial", "networkx",
+                   "lxml.etree")
 #: The files `build` writes, in the order they are rendered.
 BUILD_FILES = ("roadmap.graphml", "roadmap.geojson", "roadmap.svg", "report.json", "roadmap.html")
 #: Lanes from which the preview renders in a second process. The fork costs about 0.01 s; the
@@ -280,10 +286,15 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
         previous_graph = read_graph(previous) if previous else None
         reading = converter_options(options, config)
         # the drawing is read in a second process while this one imports what comes next
-        # (clearway.side_by_side); the libraries both need are imported once, before
+        # (clearway.side_by_side), holding back while the reader keeps both cores busy; the
+        # libraries both need are imported once, before
         for name in SHARED_LIBRARIES:
             importlib.import_module(name)
-        with Aside(lambda: _read_plan(drawing, reading)) as reader:
+        with Aside(lambda: _read_plan(drawing, reading), listen=True) as reader:
+            for name in STAGE_LIBRARIES:
+                reader.hold()
+                importlib.import_module(name)
+            reader.hold()
             from clearway.beside import rooms_beside
             from clearway.cli_view import html_page
             from clearway.diagnosis import check_lanes

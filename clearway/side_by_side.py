@@ -4,7 +4,8 @@ Five uses, each of work that does not depend on the rest:
 
 - `clearway build` reads the drawing in the second process while this one imports the
   roadmap stage and the exporters (a few tenths of a second of start-up), and gets the
-  floor plan back;
+  floor plan back. While that reader parses a large drawing in two halves (next), this
+  process holds back its imports (:func:`every_core_busy`, :meth:`Aside.hold`);
 - that reader parses a large model space in two halves, the second in a process of its own
   (clearway.converter.read): on two cores the 4 MB drawing of the mixed suite floor at 20,000
   bays, as first drawn, is read in 2.94 s instead of 4.02 s (the benchmark suite's reading
@@ -47,6 +48,7 @@ import contextlib
 import gc
 import os
 import pickle
+import select
 import signal
 import sys
 import threading
@@ -90,6 +92,28 @@ def meanwhile(function: Callable[[], object]) -> Iterator[Future]:
         return
     with ThreadPoolExecutor(1) as pool:
         yield pool.submit(function)
+
+
+#: In a child forked to listen (``Aside(..., listen=True)``): the write end of the pipe on
+#: which it tells its parent when it keeps every core busy (:func:`every_core_busy`).
+_telling: int | None = None
+
+
+@contextlib.contextmanager
+def every_core_busy() -> Iterator[None]:
+    """Around work of this process that keeps every core busy (on two cores: this process
+    and a child of its own, as the reader's two halves): the parent, if it listens
+    (:meth:`Aside.hold`), holds back its own work until the block ends. With three cores
+    or more there is room for the parent as well, and nothing is said.
+    """
+    if _telling is None or cores() > 2:
+        yield
+        return
+    os.write(_telling, b"+")
+    try:
+        yield
+    finally:
+        os.write(_telling, b"-")
 
 
 def forced() -> bool:
@@ -141,6 +165,9 @@ class Aside:
     `fork` false (too little work to pay for a process) it runs here too, unless
     CLEARWAY_PROCESSES=2 asks for the second process.
 
+    With `listen`, the child can say when its work keeps every core busy
+    (:func:`every_core_busy`), and :meth:`hold` waits until it is no longer so.
+
     Leaving the block before :meth:`result` (an error, Ctrl-C, SIGTERM) kills and reaps the
     child.
 
@@ -152,35 +179,70 @@ class Aside:
     49
     """
 
-    def __init__(self, function: Callable[[], object], fork: bool = True):
+    def __init__(self, function: Callable[[], object], fork: bool = True,
+                 listen: bool = False):
         self.function = function
         self.fork = fork
+        self.listen = listen
         self.pid = None
         self.pipe = None
+        self.told = None       # the read end of the child's _telling, when listening
+        self.busy = False      # the child last said it keeps every core busy
         self.done = False
         self.value = None
 
     def __enter__(self) -> "Aside":
         if not (self.fork or forced()) or not can_fork():
             return self
+        global _telling
         read_end, write_end = os.pipe()
+        told, tell = os.pipe() if self.listen else (None, None)
         parent = os.getpid()
         gc.freeze()      # the child's collector then leaves the shared objects' pages alone
         try:
             pid = os.fork()
         except OSError:
             gc.unfreeze()
-            os.close(read_end)
-            os.close(write_end)
+            for end in (read_end, write_end, told, tell):
+                if end is not None:
+                    os.close(end)
             return self
         if pid == 0:     # the child: work, send, leave without running any exit handler
             os.close(read_end)
+            if told is not None:
+                os.close(told)
+            if _telling is not None:     # this process's own pipe to its parent
+                os.close(_telling)
+            _telling = tell
             _die_with(parent)
             _child(self.function, write_end)
         gc.unfreeze()
         os.close(write_end)
+        if tell is not None:
+            os.close(tell)
+            self.told = told
         self.pid, self.pipe = pid, os.fdopen(read_end, "rb")
         return self
+
+    def hold(self) -> None:
+        """Return once the child is not keeping every core busy (:func:`every_core_busy`).
+
+        For work of this process that may as well come a little later, such as imports: run
+        beside the child's busiest part, it would only slow that down. Returns at once when
+        the child said nothing, or has ended, or this Aside does not listen.
+        """
+        while self.told is not None:
+            if not select.select([self.told], [], [], None if self.busy else 0)[0]:
+                return
+            said = os.read(self.told, 64)
+            if said:
+                self.busy = said.endswith(b"+")
+            else:                       # the child has ended: nothing more will come
+                self._stop_listening()
+
+    def _stop_listening(self) -> None:
+        os.close(self.told)
+        self.told, self.busy = None, False
 
     def result(self):
         """The function's value; its exception, raised here, if it raised one."""
@@ -201,6 +263,8 @@ class Aside:
         return value
 
     def __exit__(self, *exc) -> None:
+        if self.told is not None:
+            self._stop_listening()
         if self.pid is not None:       # left before the result: stop the child
             self.pipe.close()
             _stop(self.pid)

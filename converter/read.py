@@ -25,7 +25,7 @@ from pathlib import Path
 import numpy as np
 
 from clearway.collector import paused_collector
-from clearway.side_by_side import Aside, can_fork
+from clearway.side_by_side import Aside, can_fork, every_core_busy
 from clearway.errors import DrawingError
 from clearway.limits import Limits
 from clearway.converter.document import (DAMAGE, entity_halves, load_bytes, ordinary_text,
@@ -104,6 +104,15 @@ class _Budget:
 #: drawing at 5,000 bays (656,000 characters) 0.46 -> 0.27 s; the mixed one as first drawn
 #: (1 MB) 0.58 -> 0.44 s, and at 20,000 bays (4 MB) 2.2 -> 1.35 s.
 SPLIT_CHARACTERS = 250_000
+#: Size of a drawing (characters) from which, while its halves are parsed side by side, the
+#: build process is asked to hold back its own imports (clearway.side_by_side.every_core_busy):
+#: on two cores a third process slows both halves. Medians of seven to fifteen builds, time
+#: to the plan in the build process: the mixed suite floor at 5,000 bays (870,000
+#: characters) 1.003 -> 0.965 s, two real plans of 1.1 and 1.4 MB 0.05 and 0.07 s sooner.
+#: Below this the halves are read quickly, and the imports left over after them would keep
+#: the build waiting longer than the hold gained: the current suite floor at 2,000 bays
+#: (269,000 characters) had its plan 0.06 s later.
+HOLD_CHARACTERS = 600_000
 
 _HEADER_KEYS = ("$MEASUREMENT", "$LUNITS", "$DIMLUNIT", "$DIMLFAC")
 
@@ -142,16 +151,18 @@ def read_drawing(path, *, chord_tolerance, units=None, limits=None, block_kind=N
     text = ordinary_text(data)
     halves = _halves(text) if text is not None else None
     if halves is not None:
-        with Aside(lambda: _read_half(halves[1], source, sha256, chord_tolerance, units,
-                                      limits)) as second:
+        first = rest = None
+        busy = every_core_busy() if len(text) >= HOLD_CHARACTERS else contextlib.nullcontext()
+        with busy, Aside(lambda: _read_half(halves[1], source, sha256, chord_tolerance, units,
+                                            limits)) as second:
             first = read_sound(halves[0])
             if first is not None:
                 content, reading = _read_model_space(first[0], source, sha256, [],
                                                      chord_tolerance, units, limits)
                 rest = second.result()
-                if rest is not None:
-                    _merge(content, reading, rest)
-                    return _place_blocks(first[0], content, reading, limits, block_kind)
+        if rest is not None:
+            _merge(content, reading, rest)
+            return _place_blocks(first[0], content, reading, limits, block_kind)
     doc, repairs = parse_document(data, source, text)
     content, reading = _read_model_space(doc, source, sha256, repairs, chord_tolerance, units,
                                          limits)

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import contextlib
 import gc
 import os
 import pickle
@@ -323,3 +324,72 @@ def test_meanwhile_on_one_core_calls_the_function_here_first(monkeypatch):
     with runner.meanwhile(lambda: order.append(threading.get_ident()) or "done") as w:
         order.append("block")
     assert order == [threading.get_ident(), "block"] and w.result() == "done"
+
+
+def _wait_for(path: Path, seconds: float = 30) -> None:
+    deadline = time.monotonic() + seconds
+    while not path.exists() and time.monotonic() < deadline:
+        time.sleep(0.005)
+    assert path.exists()
+
+
+@contextlib.contextmanager
+def _listening(read, entered: Path, monkeypatch, cores: int = 2):
+    """An Aside listening to `read` (on `cores` cores), once `read` has made `entered`."""
+    monkeypatch.setattr(runner, "cores", lambda: cores)
+    with Aside(read, listen=True) as reader:
+        _wait_for(entered)
+        yield reader
+
+
+@needs_fork
+def test_hold_waits_while_the_child_keeps_every_core_busy(one_thread, monkeypatch, tmp_path):
+    # the build imports between holds while the reader parses its halves in two processes
+    entered, left = tmp_path / "entered", tmp_path / "left"
+
+    def read():
+        with runner.every_core_busy():
+            entered.touch()
+            time.sleep(0.3)
+            left.touch()
+        time.sleep(0.3)         # still working, but no longer on every core
+        return "plan"
+
+    with _listening(read, entered, monkeypatch) as reader:
+        reader.hold()
+        assert left.exists()
+        reader.hold()           # said and done: returns at once
+        assert reader.result() == "plan"
+
+
+@needs_fork
+def test_hold_returns_when_the_child_ends_while_busy(one_thread, monkeypatch, tmp_path):
+    entered = tmp_path / "entered"
+
+    def read():
+        with runner.every_core_busy():
+            entered.touch()
+            os._exit(5)
+
+    with _listening(read, entered, monkeypatch) as reader:
+        reader.hold()
+        with pytest.raises(RuntimeError, match="ended without a result"):
+            reader.result()
+
+
+@needs_fork
+def test_with_three_cores_or_more_the_child_says_nothing(one_thread, monkeypatch, tmp_path):
+    entered, release = tmp_path / "entered", tmp_path / "release"
+
+    def read():
+        with runner.every_core_busy():
+            entered.touch()
+            _wait_for(release, seconds=20)
+        return "plan"
+
+    start = time.monotonic()
+    with _listening(read, entered, monkeypatch, cores=3) as reader:
+        reader.hold()           # would wait for the release this test gives only after it
+        release.touch()
+        assert reader.result() == "plan"
+    assert time.monotonic() - start < 10
