@@ -235,6 +235,13 @@ def _read_half(text, source, sha256, chord_tolerance, units, limits):
                                          limits)
     content.closed_open = dict(content.closed_open)      # its default factory is a lambda
     reading.budget = (reading.budget.parts, reading.budget.vertices)
+    # each layer's linework as one Parts and each block's INSERT matrices as one array: the
+    # same values in the same order (`_place_blocks` joins them so), but a few arrays to
+    # pickle instead of thousands of small ones (the second half of the mixed suite floor
+    # at 20,000 bays: 4,754 chunks and 6,257 matrices, pickled and unpickled in 0.086 s,
+    # now in 0.010 s)
+    reading.chunks = {layer: [Parts.concat(found)] for layer, found in reading.chunks.items()}
+    reading.inserts = {key: [_stacked(found)] for key, found in reading.inserts.items()}
     return content, reading
 
 
