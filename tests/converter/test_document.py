@@ -30,12 +30,13 @@ def drawing_bytes(tmp_path, version="R2010"):
 def contents(path):
     """What clearway reads from `path`, as comparable plain values."""
     content = read_drawing(path, chord_tolerance=0.001)
+
     def plain(by_layer):
         return {layer: (parts.coords.tobytes(), parts.offsets.tobytes(), parts.kinds.tobytes())
                 for layer, parts in by_layer.items()}
     return (content.insunits, content.layer_states, {k: dict(v) for k, v in content.counts.items()},
-            plain(content.parts), plain(content.footprints), content.points, content.texts, content.attribute_texts, content.inserts,
-            content.dimensions, content.header, dict(content.skipped), content.paperspace,
+            plain(content.parts), plain(content.footprints), content.points, content.texts,
+            content.attribute_texts, content.inserts, content.dimensions, content.header, dict(content.skipped), content.paperspace,
             content.warnings, content.repairs, content.drawing_date)
 
 
