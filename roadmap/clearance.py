@@ -37,6 +37,9 @@ BLOCK = 200_000
 #: threads (numpy and the k-d tree release the GIL); the blocks also bound the temporary
 #: arrays (peak memory at 20,000 bays fell by 80 to 120 MiB).
 THREADED_POINTS, THREAD_BLOCK = 50_000, 16_384
+#: Single-nearest-sample queries (`at_least`, `under`) of more points than this use every
+#: core (scipy's k-d tree ``workers=-1``).
+PARALLEL_NEAREST = 20_000
 
 
 @dataclass(frozen=True)
@@ -238,7 +241,7 @@ class ClearanceField:
         distance = np.broadcast_to(np.asarray(distance, dtype=float), (len(xy),))
         if len(xy) == 0 or len(self.segments) == 0:
             return np.ones(len(xy), dtype=bool)
-        nearest, _ = self.index.query(xy, k=1, workers=-1 if len(xy) > 20_000 else 1)
+        nearest, _ = self.index.query(xy, k=1, workers=_workers(xy))
         # 1e-9 m: far above the rounding of either distance, so the bound never decides a
         # point that the exact distance would decide the other way
         result = nearest - self.spacing / 2 - 1e-9 >= distance
@@ -271,7 +274,7 @@ class ClearanceField:
         # 1e-9 m: far above the rounding of the k-d tree's distance (see at_least)
         reach = limit + self.spacing / 2 + 1e-9
         nearest, _ = self.index.query(xy, k=1, distance_upper_bound=reach,
-                                      workers=-1 if len(xy) > 20_000 else 1)
+                                      workers=_workers(xy))
         near = np.flatnonzero(np.isfinite(nearest))
         result[near] = self.at(xy[near])
         return result
@@ -323,6 +326,11 @@ class ClearanceField:
         at = interval[which] + 1
         return (np.insert(xy, at, extra, axis=0), np.insert(owner, at, owner[at - 1]),
                 np.insert(value, at, self.at(extra)))
+
+
+def _workers(xy) -> int:
+    """scipy's ``workers`` for a single-nearest query of the points `xy`."""
+    return -1 if len(xy) > PARALLEL_NEAREST else 1
 
 
 def sample_lines(lines, step: float) -> tuple[np.ndarray, np.ndarray]:

@@ -10,10 +10,10 @@ from typing import TYPE_CHECKING
 
 from shapely.geometry.base import BaseGeometry
 
+from clearway.roadmap.choices import ROBOT_KINDS
+
 if TYPE_CHECKING:   # annotations only: `build` makes a Robot before it forks the reader,
     import networkx as nx   # which has no use for networkx (0.13 s to import)
-
-from clearway.roadmap.choices import ROBOT_KINDS
 
 #: Node kinds, as written to every export.
 NODE_KINDS = ("junction", "end", "station", "link", "waypoint")

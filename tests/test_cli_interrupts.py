@@ -1,10 +1,10 @@
 """Nothing lost: `clearway build` interrupted at random moments, and two builds at once.
 
 The same at every file-system step, deterministically: tests/test_cli_interrupt_steps.py.
-Each build runs as its own process (``python -c 'from clearway.cli import main; main()'``),
-as from a shell or a scheduler. After an interrupt OUTDIR holds the previous set byte for byte
-or the complete new one, never a mix and never a temporary file; two builds into one folder
-leave the four files of one of them. Set CLEARWAY_SIGNAL_RUNS for more runs by hand, e.g.
+Each build runs as its own process (``python -c 'from clearway.cli import script;
+script()'``, what the `clearway` script runs), as from a shell or a scheduler. After an
+interrupt OUTDIR holds the previous set byte for byte or the complete new one, never a mix
+and never a temporary file; two builds into one folder leave the four files of one of them. Set CLEARWAY_SIGNAL_RUNS for more runs by hand, e.g.
 
     CLEARWAY_SIGNAL_RUNS=40 pytest tests/test_cli_interrupts.py -q -s
 """
@@ -28,7 +28,7 @@ from benchmarks.synthetic import write_warehouse
 
 from clearway.cli_build import BUILD_FILES
 
-CLI = "from clearway.cli import main; main()"
+CLI = "from clearway.cli import script; script()"
 FILES = set(BUILD_FILES)
 ENV = dict(os.environ)
 #: Interrupted runs per signal and way of timing it; rounds of two concurrent builds.
