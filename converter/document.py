@@ -152,12 +152,18 @@ def parse_document(data, source, text):
     except DAMAGE as err:
         message = str(err).splitlines()[0].strip() if str(err).strip() else type(err).__name__
         raise DrawingError(f"{source}: not a readable DXF file ({message[:200]})") from None
+    return doc, repair_notices(auditor)
+
+
+def repair_notices(auditor):
+    """ezdxf's own words for each repair and each damage its `auditor` found, at most
+    MAX_NOTICES of them."""
     notices = [f"repaired: {fix.message}" for fix in auditor.fixes]
     notices += [f"damaged: {error.message}" for error in auditor.errors
                 if "block reference cycle" not in error.message.lower()]
     if len(notices) > MAX_NOTICES:
         notices = notices[:MAX_NOTICES] + [f"{len(notices) - MAX_NOTICES} more not listed"]
-    return doc, notices
+    return notices
 
 
 def _read_ascii(data, text):

@@ -90,9 +90,8 @@ def _attribute(insert, attribs, key):
 
 def _plan_matrix(insert, attribs, base_points=None):
     """The (3, 2) matrix of an INSERT in the plan's plane (extrusion +Z), as ezdxf's
-    ``Insert.matrix44`` gives it (scale, then rotation, block base point moved onto the
-    insertion point) without its 4 x 4 algebra, as three (x, y) tuples of rows; None for
-    any other extrusion.
+    ``Insert.matrix44`` gives it (`plan_rows`), as three (x, y) tuples of rows; None for any
+    other extrusion.
 
     attribs : dict, the attributes set on the INSERT (``all_existing_dxf_attribs``)
     base_points : dict, optional, block name -> base point (x, y) or None (a cache)
@@ -100,17 +99,26 @@ def _plan_matrix(insert, attribs, base_points=None):
     extrusion = attribs.get("extrusion", None)
     if extrusion is not None and (extrusion[0] != 0 or extrusion[1] != 0 or extrusion[2] <= 0):
         return None
-    angle = math.radians(_attribute(insert, attribs, "rotation"))
-    cos, sin = math.cos(angle), math.sin(angle)
-    xscale = float(_attribute(insert, attribs, "xscale"))
-    yscale = float(_attribute(insert, attribs, "yscale"))
-    x_axis, y_axis = (xscale * cos, xscale * sin), (-yscale * sin, yscale * cos)
     point = _attribute(insert, attribs, "insert")
-    x, y = float(point[0]), float(point[1])
-    base = _base_point(insert, base_points)
+    return plan_rows(_attribute(insert, attribs, "rotation"), _attribute(insert, attribs, "xscale"),
+                     _attribute(insert, attribs, "yscale"), point[0], point[1],
+                     _base_point(insert, base_points))
+
+
+def plan_rows(rotation, xscale, yscale, x, y, base):
+    """The rows (x axis, y axis, origin) of the plan matrix of an INSERT of extrusion +Z, as
+    ezdxf's ``Insert.matrix44`` gives them (scale, then rotation, the block's `base` point,
+    (x, y) or None, moved onto the insertion point (x, y)) without its 4 x 4 algebra.
+
+    Plain floats, the same operations in the same order as on numpy 2-vectors (whose
+    per-call overhead outweighed the arithmetic), so the rows are bit-identical.
+    """
+    angle = math.radians(rotation)
+    cos, sin = math.cos(angle), math.sin(angle)
+    xscale, yscale = float(xscale), float(yscale)
+    x_axis, y_axis = (xscale * cos, xscale * sin), (-yscale * sin, yscale * cos)
+    x, y = float(x), float(y)
     if base is not None:
-        # plain floats, same operations in the same order as on numpy 2-vectors (whose
-        # per-call overhead outweighed the arithmetic), so the matrices are bit-identical
         base_x, base_y = base
         x -= base_x * x_axis[0] + base_y * y_axis[0]
         y -= base_x * x_axis[1] + base_y * y_axis[1]
@@ -134,10 +142,15 @@ def single_plan_insert(insert, base_points=None):
 
 def _base_point(insert, cache):
     """(x, y) of the base point of the INSERT's block, None without a block."""
-    name = insert.dxf.name
+    return block_base_point(insert.doc.blocks if insert.doc else None, insert.dxf.name, cache)
+
+
+def block_base_point(blocks, name, cache=None):
+    """(x, y) of the base point of block `name` in `blocks` (a document's BlocksSection, or
+    None), None without such a block; `cache`, a dict, keeps each block's."""
     if cache is not None and name in cache:
         return cache[name]
-    block = insert.block()
+    block = blocks.get(name) if blocks is not None else None
     base = None
     if block is not None:
         point = block.block.dxf.base_point

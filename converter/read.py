@@ -2,8 +2,12 @@
 
 The file is opened by `document` (byte checks, ezdxf's ordinary reader or its recovery),
 entities are flattened by `entities` (a dispatch table per entity type) and blocks placed by
-`inserts`. These modules (and `sound`) are the only ones that import ezdxf; nothing from
-ezdxf leaves them.
+`inserts`. These modules (and `sound`, `plain`) are the only ones that import ezdxf;
+nothing from ezdxf leaves them.
+
+INSERTs written plainly (`plain.cut_plain_inserts`: a warehouse's bays, most of its text) are
+taken out of a sound file's text and read from it directly, in their places among the
+entities ezdxf reads: the same values, without ezdxf's entity objects.
 
 A sound file with a large model space (SPLIT_CHARACTERS) is read in two halves side by side:
 the second half's entities in a forked process (clearway.side_by_side), the first's here,
@@ -13,6 +17,7 @@ either half, or its audit finds anything, the whole file is read in one pass ins
 
 from __future__ import annotations
 
+import bisect
 import contextlib
 import hashlib
 import math
@@ -28,13 +33,16 @@ from clearway.collector import paused_collector
 from clearway.side_by_side import Aside, can_fork, every_core_busy
 from clearway.errors import DrawingError
 from clearway.limits import Limits
-from clearway.converter.document import (DAMAGE, entity_halves, load_bytes, ordinary_text,
-                                         parse_document, read_sound, saved_date)
+from clearway.converter.document import (DAMAGE, TOLERATED_FIXES, entity_halves, load_bytes,
+                                         ordinary_text, parse_document, read_sound,
+                                         repair_notices, saved_date)
 from clearway.converter.entities import LINEWORK, TEXTS, flatten_entity, lenient, text_item
 from clearway.converter.inserts import (BLOCK_OPENING_PREFIX, BlockReader, attribute_label,
-                                        attributes, entity_layer, insert_matrices,
-                                        scale_of, single_plan_insert)
+                                        attributes, block_base_point, entity_layer,
+                                        insert_matrices, plan_rows, scale_of,
+                                        single_plan_insert)
 from clearway.converter.parts import ARC, OPEN, Parts
+from clearway.converter.plain import cut_plain_inserts
 from clearway.converter.units import INSUNITS_CODES, UNITS_TO_M
 
 
@@ -149,24 +157,48 @@ def read_drawing(path, *, chord_tolerance, units=None, limits=None, block_kind=N
     data = load_bytes(path, limits)
     sha256 = hashlib.sha256(data).hexdigest()
     text = ordinary_text(data)
-    halves = _halves(text) if text is not None else None
+    plain = cut_plain_inserts(text) if text is not None else None
+    body = text if plain is None else plain.text
+    halves = _halves(body) if body is not None else None
     if halves is not None:
         first = rest = None
-        busy = every_core_busy() if len(text) >= HOLD_CHARACTERS else contextlib.nullcontext()
+        # the first half's INSERTs are those before the second half's first entity
+        cut = plain.index_of_first(halves[1]) if plain is not None else 0
+        busy = every_core_busy() if len(body) >= HOLD_CHARACTERS else contextlib.nullcontext()
         with busy, Aside(lambda: _read_half(halves[1], source, sha256, chord_tolerance, units,
-                                            limits)) as second:
-            first = read_sound(halves[0])
+                                            limits, plain, cut)) as second:
+            first = _read_sound(halves[0], plain)
             if first is not None:
                 content, reading = _read_model_space(first[0], source, sha256, [],
-                                                     chord_tolerance, units, limits)
+                                                     chord_tolerance, units, limits,
+                                                     plain, (-1, cut))
                 rest = second.result()
         if rest is not None:
             _merge(content, reading, rest)
             return _place_blocks(first[0], content, reading, limits, block_kind)
+    if plain is not None:
+        whole = _read_sound(plain.text, plain, tolerated=TOLERATED_FIXES)
+        if whole is not None:
+            doc, repairs = whole[0], repair_notices(whole[1])
+            content, reading = _read_model_space(doc, source, sha256, repairs, chord_tolerance,
+                                                 units, limits, plain)
+            return _place_blocks(doc, content, reading, limits, block_kind)
     doc, repairs = parse_document(data, source, text)
     content, reading = _read_model_space(doc, source, sha256, repairs, chord_tolerance, units,
                                          limits)
     return _place_blocks(doc, content, reading, limits, block_kind)
+
+
+def _read_sound(text, plain, tolerated=frozenset()):
+    """`document.read_sound` of `text`, or None also when `plain`'s INSERTs, taken out of
+    it, do not fit the document read (`PlainInserts.fit`)."""
+    try:
+        read = read_sound(text, tolerated=tolerated)
+    except RecursionError:
+        return None         # parse_document says so of the whole file
+    if read is not None and plain is not None and not plain.fit(read[0]):
+        return None
+    return read
 
 
 def _halves(text):
@@ -189,8 +221,14 @@ class _Reading:
     paperspace: int = 0
 
 
-def _read_model_space(doc, source, sha256, repairs, chord_tolerance, units, limits):
-    """(DrawingContent, _Reading) of `doc`'s model space, blocks not yet placed."""
+def _read_model_space(doc, source, sha256, repairs, chord_tolerance, units, limits,
+                      plain=None, span=None):
+    """(DrawingContent, _Reading) of `doc`'s model space, blocks not yet placed.
+
+    plain : PlainInserts, optional
+        INSERTs taken out of the text `doc` was read from: read in their places among its
+        entities, those whose `before` index is in `span` (low, high], all by default.
+    """
     insunits = doc.header.get("$INSUNITS", None)
     unit = units or INSUNITS_CODES.get(insunits, "m")
     tolerance = chord_tolerance / UNITS_TO_M[unit]
@@ -212,7 +250,18 @@ def _read_model_space(doc, source, sha256, repairs, chord_tolerance, units, limi
     with contextlib.suppress(*DAMAGE):
         reading.paperspace = len(doc.paperspace())
     base_points, headings_by_axis = {}, {}
+    cursor = stop = 0
+    if plain is not None:
+        low, high = span if span is not None else (-1, len(plain.order))
+        cursor = bisect.bisect_right(plain.before, low)
+        stop = bisect.bisect_right(plain.before, high)
     for entity in doc.modelspace():
+        if cursor < stop:
+            index = plain.order[entity.dxf.handle]
+            while cursor < stop and plain.before[cursor] <= index:
+                _read_plain_insert(doc, plain, cursor, content, reading.inserts, base_points,
+                                   headings_by_axis)
+                cursor += 1
         if not entity.is_alive:
             continue
         dxftype, layer = entity.dxftype(), entity_layer(entity)
@@ -221,18 +270,23 @@ def _read_model_space(doc, source, sha256, repairs, chord_tolerance, units, limi
         with lenient(source, limits, dxftype, layer, reading.damaged, (layer, dxftype)):
             _read_entity(entity, dxftype, layer, tolerance, content, reading.chunks,
                          reading.inserts, limits, reading.budget, base_points, headings_by_axis)
+    while cursor < stop:
+        _read_plain_insert(doc, plain, cursor, content, reading.inserts, base_points,
+                           headings_by_axis)
+        cursor += 1
     return content, reading
 
 
 @paused_collector()
-def _read_half(text, source, sha256, chord_tolerance, units, limits):
+def _read_half(text, source, sha256, chord_tolerance, units, limits, plain=None, cut=0):
     """The second half's `_read_model_space`, made fit to send back (`_merge`), or None when
-    ezdxf's ordinary reader refuses `text` or its audit finds anything."""
-    read = read_sound(text)
+    ezdxf's ordinary reader refuses `text` or its audit finds anything. `plain`'s INSERTs
+    after the entity of index `cut` are read with it."""
+    read = _read_sound(text, plain)
     if read is None:
         return None
     content, reading = _read_model_space(read[0], source, sha256, [], chord_tolerance, units,
-                                         limits)
+                                         limits, plain, (cut, len(plain.order)) if plain else None)
     content.closed_open = dict(content.closed_open)      # its default factory is a lambda
     reading.budget = (reading.budget.parts, reading.budget.vertices)
     # each layer's linework as one Parts and each block's INSERT matrices as one array: the
@@ -321,23 +375,12 @@ def _read_entity(entity, dxftype, layer, tolerance, content, chunks, inserts, li
             # the way the block's +X axis points in the plan (rotation, mirroring, extrusion)
             headings = (np.degrees(np.arctan2(matrices[:, 0, 1], matrices[:, 0, 0])) % 360.0).tolist()
         else:  # one cell in the plan: its rows as floats, stacked with the others at the end
-            matrices, origins = rows, [rows[2]]
-            # the same few axes recur across thousands of INSERTs, each computed once
-            axis = struct.pack("2d", *rows[0])  # bit for bit: -0.0 and 0.0 differ here
-            if axis not in headings_by_axis:
-                matrix = np.array(rows, dtype=float)[None]
-                headings_by_axis[axis] = (
-                    np.degrees(np.arctan2(matrix[:, 0, 1], matrix[:, 0, 0])) % 360.0).tolist()
-            headings = headings_by_axis[axis]
+            matrices, origins, headings = rows, [rows[2]], _headings(rows, headings_by_axis)
         found = attributes(entity) if entity.attribs else []
         label = attribute_label(entity, found) if found else None
         name = str(entity.dxf.name)
-        inserts[(name, layer)].append(matrices)
-        for x, y in origins:
-            content.points.append((layer, x, y, label, dxftype))
-        tags = {tag: text for tag, text, _ in found}
-        for (x, y), heading in zip(origins, headings):
-            content.inserts.append((layer, name, x, y, heading, tags))
+        _add_insert(content, inserts, layer, name, matrices, origins, headings, label,
+                    {tag: text for tag, text, _ in found})
         for _, text, attrib in found:
             if text:
                 with contextlib.suppress(*DAMAGE):
@@ -366,6 +409,38 @@ def _read_entity(entity, dxftype, layer, tolerance, content, chunks, inserts, li
         parts = Parts.from_list(*zip(*found)) if found else Parts.empty()
         budget.spend(parts, 1, f"{dxftype} on layer {layer!r}")
         chunks[layer].append(parts)
+
+
+def _headings(rows, headings_by_axis):
+    """[heading] of a one-cell INSERT's plan `rows`: where its block's +X axis points,
+    degrees; the same few axes recur across thousands of INSERTs, each computed once."""
+    axis = struct.pack("2d", *rows[0])  # bit for bit: -0.0 and 0.0 differ here
+    if axis not in headings_by_axis:
+        matrix = np.array(rows, dtype=float)[None]
+        headings_by_axis[axis] = (
+            np.degrees(np.arctan2(matrix[:, 0, 1], matrix[:, 0, 0])) % 360.0).tolist()
+    return headings_by_axis[axis]
+
+
+def _add_insert(content, inserts, layer, name, matrices, origins, headings, label, tags):
+    """Add an INSERT of block `name` on `layer` to `inserts` and `content` (its points and
+    placed copies)."""
+    inserts[(name, layer)].append(matrices)
+    for x, y in origins:
+        content.points.append((layer, x, y, label, "INSERT"))
+    for (x, y), heading in zip(origins, headings):
+        content.inserts.append((layer, name, x, y, heading, tags))
+
+
+def _read_plain_insert(doc, plain, k, content, inserts, base_points, headings_by_axis):
+    """Add INSERT `k` of `plain` (PlainInserts) as `_read_entity` adds one read by ezdxf."""
+    layer, name = plain.layer[k], plain.name[k]
+    content.counts[layer]["INSERT"] += 1
+    content.layer_states.setdefault(layer, (False, False))
+    rows = plan_rows(plain.rotation[k], plain.xscale[k], plain.yscale[k], plain.x[k],
+                     plain.y[k], block_base_point(doc.blocks, name, base_points))
+    _add_insert(content, inserts, layer, name, rows, [rows[2]], _headings(rows, headings_by_axis),
+                None, {})
 
 
 def _stacked(matrix_list):
