@@ -14,7 +14,7 @@ import math
 import numpy as np
 import shapely
 from ezdxf.entities.boundary_paths import BoundaryPathType, EdgeType
-from ezdxf.math import arc_segment_count
+from ezdxf.math import OCS, arc_segment_count
 from ezdxf.path import from_hatch_boundary_path
 
 from clearway.errors import ClearwayError, DrawingError, LimitError
@@ -326,6 +326,15 @@ def polyline_parts(points, closed, const_width, ocs, elevation, tolerance, limit
         return found
     return [(_xy(ocs.points_to_wcs([(x, y, elevation) for x, y in ring])), kind)
             for ring, kind in found]
+
+
+#: The frame of an entity drawn in the plan's plane (extrusion +Z): its OCS is the WCS.
+_PLAN = OCS()
+
+
+def plan_polyline_parts(points, closed, const_width, tolerance, limit=None):
+    """`polyline_parts` of a 2-D polyline in the plan's plane (extrusion +Z)."""
+    return polyline_parts(points, closed, const_width, _PLAN, 0.0, tolerance, limit)
 
 
 def polygon_rings(area):

@@ -1,60 +1,79 @@
-"""Plain INSERTs read straight from a sound drawing's text, not through ezdxf's entities.
+"""Plainly written entities read straight from a sound drawing's text, not through ezdxf.
 
-A warehouse plan is mostly INSERTs of a few blocks, one per bay: in the mixed suite drawing
-at 20,000 bays they are 72 % of the text, and ezdxf took 1.45 s to read and audit it whole
-against 0.43 s without them. An INSERT written plainly, with a handle, an owner, a layer,
-a block name, an insertion point and at most a line type, a colour, a line weight, a scale
-and a rotation, and nothing else (no attributes, extrusion, array, extension data), means
-only those values.
-`cut_plain_inserts` takes such INSERTs out of the ENTITIES section with one regular
+A warehouse plan is mostly INSERTs of a few blocks, one per bay, and lines and polylines:
+in the mixed suite drawing at 20,000 bays the INSERTs are 72 % of the text, and ezdxf took
+1.45 s to read and audit it whole against 0.43 s without them. An INSERT, a LINE or an
+LWPOLYLINE written plainly means only the values written:
+
+- every one: a handle, an owner, a layer, and at most a line type, a colour and a line
+  weight; no extension data, APP DATA, thickness or extrusion;
+- an INSERT: a block name, an insertion point, at most a scale and a rotation (no
+  attributes, no array);
+- a LINE: its two points;
+- an LWPOLYLINE: its flags, at most a constant width and an elevation, its vertices with
+  at most their widths and bulges.
+
+`cut_plain_entities` takes such entities out of the ENTITIES section with one regular
 expression, their values converted as ezdxf's reader converts them (`float` of the value
-line); ezdxf reads the rest. `PlainInserts.fit` then checks what ezdxf's audit would have
-checked of them (the block is defined, the layer name is valid, the line type defined,
-the handle new; `cut_plain_inserts` checks the colour and the line weight), and
-each INSERT keeps its place among the other entities (`before`), so the model space is read
-in the file's order.
+line); ezdxf reads the rest. `PlainEntities.fit` then checks what ezdxf's audit would have
+checked of them (an INSERT's block is defined, the layer name is valid, the line type
+defined, the handle new; `cut_plain_entities` checks the colour and the line weight), and
+each keeps its place among the other entities (`before`), so the model space is read in
+the file's order.
 
-ezdxf loads an INSERT's group codes into its attributes whatever their subclass and order
-(`SubclassProcessor.simple_dxfattribs_loader`), so the values are the same; an INSERT
-written any other way, or in a drawing whose other entities do not all carry a handle, is
-left to ezdxf.
+ezdxf loads an INSERT's and a LINE's group codes into their attributes whatever their
+order (`SubclassProcessor.simple_dxfattribs_loader`), and an LWPOLYLINE's vertices one 10
+after another, each with the 40, 41 and 42 after it (`LWPolylinePoints.from_tags`), so the
+values are the same; an entity written any other way, or in a drawing whose other entities
+do not all carry a handle, is left to ezdxf.
 """
 
 from __future__ import annotations
 
-import bisect
 import re
 from dataclasses import dataclass
 
 import numpy as np
-
 from ezdxf.entities.insert import acdb_block_reference
 from ezdxf.lldxf.const import VALID_DXF_LINEWEIGHT_VALUES
 from ezdxf.lldxf.validator import is_valid_layer_name, make_table_key
 
-#: A group code line: the code, spaces about it allowed (ezdxf reads it with `int`).
-_CODE = r"[ \t]*{}[ \t]*\n"
-_VALUE = r"([^\n]*)\n"
 
-
-def _tag(code, *, optional=False, value=_VALUE):
-    tag = _CODE.format(code) + value
+def _tag(code, *, optional=False, value=r"([^\n]*)\n"):
+    """A tag: its group code line (the code, spaces about it allowed: ezdxf reads it with
+    `int`), then its value line, captured unless `value` says otherwise."""
+    tag = rf"[ \t]*{code}[ \t]*\n" + value
     return f"(?:{tag})?" if optional else tag
 
 
-#: One plain INSERT, from its group code 0 to the next entity's (the lookahead: nothing else
+#: The tags every plain entity starts with, after its type: handle, owner, the AcDbEntity
+#: subclass with the layer, line type, colour and line weight (6 groups).
+_COMMON = (_tag(5, optional=True) + _tag(330, optional=True)
+           + _tag(100, value=r"AcDbEntity\n") + _tag(8)
+           + _tag(6, optional=True) + _tag(62, optional=True) + _tag(370, optional=True))
+_INSERT = (r"(INSERT)\n" + _COMMON + _tag(100, value=r"AcDbBlockReference\n") + _tag(2)
+           + _tag(10) + _tag(20) + _tag(30, optional=True)
+           + _tag(41, optional=True) + _tag(42, optional=True) + _tag(43, optional=True)
+           + _tag(50, optional=True))
+_LINE = (r"(LINE)\n" + _COMMON + _tag(100, value=r"AcDbLine\n")
+         + _tag(10) + _tag(20) + _tag(30, optional=True)
+         + _tag(11) + _tag(21) + _tag(31, optional=True))
+#: An LWPOLYLINE's vertices, one at least (ezdxf refuses a polyline without any): 10 and
+#: 20, then 40, 41 and 42 in any order.
+_VERTICES = r"((?:[ \t]*10[ \t]*\n[^\n]*\n[ \t]*20[ \t]*\n[^\n]*\n(?:[ \t]*4[012][ \t]*\n[^\n]*\n)*)+)"
+_LWPOLYLINE = (r"(LWPOLYLINE)\n" + _COMMON + _tag(100, value=r"AcDbPolyline\n")
+               + _tag(90, value=r"[^\n]*\n") + _tag(70) + _tag(43, optional=True)
+               + _tag(38, optional=True) + _VERTICES)
+#: One plain entity, from its group code 0 to the next entity's (the lookahead: nothing else
 #: follows). In sound text (`sound.sound_text`) every group code line is an integer, so a
 #: line "INSERT" is a value and the "0" before it a group code.
-_PLAIN_INSERT = re.compile(
-    r"^[ \t]*0[ \t]*\nINSERT\n"
-    + _tag(5, optional=True) + _tag(330, optional=True)
-    + _tag(100, value=r"AcDbEntity\n") + _tag(8)
-    + _tag(6, optional=True) + _tag(62, optional=True) + _tag(370, optional=True)
-    + _tag(100, value=r"AcDbBlockReference\n") + _tag(2)
-    + _tag(10) + _tag(20) + _tag(30, optional=True)
-    + _tag(41, optional=True) + _tag(42, optional=True) + _tag(43, optional=True)
-    + _tag(50, optional=True)
-    + r"(?=[ \t]*0[ \t]*\n)", re.MULTILINE)
+_PLAIN = re.compile(r"^[ \t]*0[ \t]*\n(?:" + "|".join((_INSERT, _LINE, _LWPOLYLINE)) + r")"
+                    + r"(?=[ \t]*0[ \t]*\n)", re.MULTILINE)
+#: How many groups each kind has, and where they start among the expression's (its type's
+#: group first).
+_WIDTH = {"INSERT": re.compile(_INSERT).groups, "LINE": re.compile(_LINE).groups,
+          "LWPOLYLINE": re.compile(_LWPOLYLINE).groups}
+_FIRST = {"INSERT": 1, "LINE": 1 + _WIDTH["INSERT"], "LWPOLYLINE": 1 + _WIDTH["INSERT"] + _WIDTH["LINE"]}
 #: An entity's start and, where it follows at once, its handle.
 _ENTITY = re.compile(r"^[ \t]*0[ \t]*\n([A-Z0-9_]*[A-Z_][A-Z0-9_]*)\n(?:[ \t]*5[ \t]*\n([^\n]*)\n)?",
                      re.MULTILINE)
@@ -70,40 +89,36 @@ _DEFAULT = {key: acdb_block_reference.attribs[key].default
 
 
 @dataclass
-class PlainInserts:
-    """The plain INSERTs of a drawing's model space and the drawing's text without them.
+class PlainEntities:
+    """The plain entities of a drawing's model space and the drawing's text without them.
 
     text : str, the drawing without them, for ezdxf
-    handle, owner, linetype : per INSERT, str or None (not written)
-    layer, name : per INSERT, str, as written
-    x, y, xscale, yscale, rotation : per INSERT, float (ezdxf's default where not written)
-    before : per INSERT, the index of the first other entity after it (in the ENTITIES
+    kind : per entity, "INSERT", "LINE" or "LWPOLYLINE"
+    layer : per entity, str, as written
+    values : per entity, what it means:
+        INSERT (block name, x, y, xscale, yscale, rotation), floats ezdxf's default where
+        not written;
+        LINE (x1, y1, x2, y2);
+        LWPOLYLINE ((N, 5) array of x, y, start width, end width, bulge as ezdxf keeps
+        them, closed, constant width, elevation)
+    handle, owner, linetype : per entity, str or None (not written)
+    before : per entity, the index of the first other entity after it (in the ENTITIES
         section of `text`, followers not counted), ascending
     order : handle -> index of each other entity
-    starts : where each other entity starts in `text`, ascending
     """
 
     text: str
+    kind: list
+    layer: list
+    values: list
     handle: list
     owner: list
-    layer: list
     linetype: list
-    name: list
-    x: list
-    y: list
-    xscale: list
-    yscale: list
-    rotation: list
     before: list
     order: dict
-    starts: list
 
     def __len__(self):
         return len(self.before)
-
-    def index_at(self, position: int) -> int:
-        """The index of the first other entity at `position` in `text` or after it."""
-        return bisect.bisect_left(self.starts, position)
 
     def index_of_first(self, text: str) -> int:
         """The index of the first entity of the ENTITIES section of `text`, a part of this
@@ -116,17 +131,16 @@ class PlainInserts:
         return len(self.order)
 
     def fit(self, doc) -> bool:
-        """Whether ezdxf, reading the whole text, would have read these INSERTs as they are
-        and kept the model space in this order: each INSERT's block is defined in `doc`
-        (the audit deletes one whose block is not), its layer name valid (the audit reports
-        one that is not), its owner the model space and its handle new; and each model-space
-        entity of `doc` carries the handle it was written with, in order."""
+        """Whether ezdxf, reading the whole text, would have read these entities as they
+        are and kept the model space in this order: each INSERT's block is defined in `doc`
+        (the audit deletes one whose block is not), each layer name valid (the audit reports
+        one that is not), each line type defined (the audit removes one that is not), each
+        owner the model space and each handle new; and each model-space entity of `doc`
+        carries the handle it was written with, in order."""
         modelspace = doc.modelspace()
         owner = modelspace.block_record_handle
-        blocks = doc.blocks
-        entities = doc.entitydb
-        names = {name: name in blocks for name in set(self.name)}
-        if not all(names.values()):
+        names = {values[0] for kind, values in zip(self.kind, self.values) if kind == "INSERT"}
+        if not all(name in doc.blocks for name in names):
             return False
         if not all(is_valid_layer_name(layer) for layer in set(self.layer)):
             return False
@@ -135,6 +149,7 @@ class PlainInserts:
             return False
         if any(value is not None and value != owner for value in set(self.owner)):
             return False
+        entities = doc.entitydb
         if any(handle is not None and handle in entities for handle in self.handle):
             return False
         last = -1
@@ -146,8 +161,8 @@ class PlainInserts:
         return True
 
 
-def cut_plain_inserts(text: str) -> PlainInserts | None:
-    """Take the plain INSERTs out of sound DXF `text` (`document.ordinary_text`); None when
+def cut_plain_entities(text: str) -> PlainEntities | None:
+    """Take the plain entities out of sound DXF `text` (`document.ordinary_text`); None when
     it has none, or when its other entities do not each carry a handle of their own (the
     model space could not then be put back in order)."""
     span = entities_span(text)
@@ -155,31 +170,33 @@ def cut_plain_inserts(text: str) -> PlainInserts | None:
         return None
     begin, end = span
     stop = text.index("\n", end) + 1                # the ENDSEC's group code ends the last
-    # one pass in C: the text between the INSERTs, each followed by its 11 values
-    cut = _PLAIN_INSERT.split(text[begin:stop])
+    # one pass in C: the text between the entities, each followed by the expression's groups
+    cut = _PLAIN.split(text[begin:stop])
     if len(cut) == 1:
         return None
-    width = _PLAIN_INSERT.groups + 1
+    width = _PLAIN.groups + 1
     pieces = cut[::width]
-    (handle, owner, layer, linetype, color, lineweight, name, x, y, z, xscale, yscale, zscale,
-     rotation) = (cut[k::width] for k in range(1, width))
+    kinds, layers, handles, owners, linetypes, values = [], [], [], [], [], []
     try:
-        # what ezdxf's audit would repair sends the file to its recovery: not taken out
-        if any(value is not None and not 0 <= int(value) <= 257 for value in set(color)):
-            return None
-        if any(value is not None and int(value) not in VALID_DXF_LINEWEIGHT_VALUES
-               for value in set(lineweight)):
-            return None
-        x, y = list(map(float, x)), list(map(float, y))
-        for values in (z, zscale):              # ezdxf refuses a value that is no number
-            for value in values:
-                if value is not None:
-                    float(value)
-        xscale, yscale, rotation = (
-            [_DEFAULT[key] if value is None else float(value) for value in values]
-            for key, values in (("xscale", xscale), ("yscale", yscale), ("rotation", rotation)))
+        for row in range(1, len(cut), width):
+            for kind, first in _FIRST.items():
+                if cut[row + first - 1] is not None:
+                    break
+            groups = cut[row + first - 1:row + first - 1 + _WIDTH[kind]]
+            _, handle, owner, layer, linetype, color, lineweight = groups[:7]
+            # what ezdxf's audit would repair sends the file to its recovery: not taken out
+            if color is not None and not 0 <= int(color) <= 257:
+                return None
+            if lineweight is not None and int(lineweight) not in VALID_DXF_LINEWEIGHT_VALUES:
+                return None
+            values.append(_READ[kind](groups[7:]))
+            kinds.append(kind)
+            layers.append(layer)
+            handles.append(handle)
+            owners.append(owner)
+            linetypes.append(linetype)
     except ValueError:
-        return None                             # ezdxf refuses the file: it says why
+        return None                                 # ezdxf refuses the file: it says why
     rest = "".join([text[:begin], *pieces, text[stop:]])
     order, starts = {}, []
     for match in _ENTITY.finditer(rest, begin):
@@ -192,15 +209,65 @@ def cut_plain_inserts(text: str) -> PlainInserts | None:
             return None
         order[key] = len(starts)
         starts.append(match.start())
-    written = [key for key in handle if key is not None]
+    written = [key for key in handles if key is not None]
     if len(set(written)) != len(written) or any(key in order for key in written):
         return None
-    # where each INSERT stood in the text without them: after the pieces before it
+    # where each stood in the text without them: after the pieces before it
     stood = begin + np.cumsum([len(piece) for piece in pieces[:-1]])
     before = np.searchsorted(np.asarray(starts, dtype=np.int64), stood).tolist()
-    return PlainInserts(text=rest, handle=handle, owner=owner, layer=layer, linetype=linetype,
-                        name=name, x=x, y=y, xscale=xscale, yscale=yscale, rotation=rotation,
-                        before=before, order=order, starts=starts)
+    return PlainEntities(text=rest, kind=kinds, layer=layers, values=values, handle=handles,
+                         owner=owners, linetype=linetypes, before=before, order=order)
+
+
+def _insert(groups):
+    name, x, y, z, xscale, yscale, zscale, rotation = groups
+    for value in (z, zscale):                       # ezdxf refuses a value that is no number
+        if value is not None:
+            float(value)
+    return (name, float(x), float(y),
+            _DEFAULT["xscale"] if xscale is None else float(xscale),
+            _DEFAULT["yscale"] if yscale is None else float(yscale),
+            _DEFAULT["rotation"] if rotation is None else float(rotation))
+
+
+def _line(groups):
+    x1, y1, z1, x2, y2, z2 = groups
+    for value in (z1, z2):
+        if value is not None:
+            float(value)
+    return float(x1), float(y1), float(x2), float(y2)
+
+
+#: An LWPOLYLINE vertex's value (after x and y) for each group code.
+_VERTEX_COLUMN = {"40": 2, "41": 3, "42": 4}
+
+
+def _lwpolyline(groups):
+    flags, width, elevation, block = groups
+    lines = block.split("\n")[:-1]
+    codes, numbers = lines[0::2], lines[1::2]
+    if len(codes) == 0:
+        points = np.zeros((0, 5))
+    elif all(code.strip() in ("10", "20") for code in codes):
+        points = np.zeros((len(codes) // 2, 5))
+        points[:, 0] = [float(value) for value in numbers[0::2]]
+        points[:, 1] = [float(value) for value in numbers[1::2]]
+    else:
+        rows = []
+        for code, value in zip(codes, numbers):
+            code = code.strip()
+            if code == "10":
+                rows.append([float(value), 0.0, 0.0, 0.0, 0.0])
+            elif code == "20":
+                rows[-1][1] = float(value)
+            else:
+                rows[-1][_VERTEX_COLUMN[code]] = float(value)
+        points = np.array(rows, dtype=np.float64)
+    return (points, bool(int(flags) & 1), 0.0 if width is None else float(width),
+            0.0 if elevation is None else float(elevation))
+
+
+_READ = {"INSERT": _insert, "LINE": _line, "LWPOLYLINE": _lwpolyline}
 
 
 def entities_span(text: str) -> tuple[int, int] | None:

@@ -5,9 +5,10 @@ entities are flattened by `entities` (a dispatch table per entity type) and bloc
 `inserts`. These modules (and `sound`, `plain`) are the only ones that import ezdxf;
 nothing from ezdxf leaves them.
 
-INSERTs written plainly (`plain.cut_plain_inserts`: a warehouse's bays, most of its text) are
-taken out of a sound file's text and read from it directly, in their places among the
-entities ezdxf reads: the same values, without ezdxf's entity objects.
+INSERTs, LINEs and LWPOLYLINEs written plainly (`plain.cut_plain_entities`: a warehouse's
+bays and most of its linework) are taken out of a sound file's text and read from it
+directly, in their places among the entities ezdxf reads: the same values, without ezdxf's
+entity objects.
 
 A sound file with a large model space (SPLIT_CHARACTERS) is read in two halves side by side:
 the second half's entities in a forked process (clearway.side_by_side), the first's here,
@@ -36,13 +37,14 @@ from clearway.limits import Limits
 from clearway.converter.document import (DAMAGE, TOLERATED_FIXES, entity_halves, load_bytes,
                                          ordinary_text, parse_document, read_sound,
                                          repair_notices, saved_date)
-from clearway.converter.entities import LINEWORK, TEXTS, flatten_entity, lenient, text_item
+from clearway.converter.entities import (LINEWORK, TEXTS, flatten_entity, lenient,
+                                         plan_polyline_parts, text_item)
 from clearway.converter.inserts import (BLOCK_OPENING_PREFIX, BlockReader, attribute_label,
                                         attributes, block_base_point, entity_layer,
                                         insert_matrices, plan_rows, scale_of,
                                         single_plan_insert)
 from clearway.converter.parts import ARC, OPEN, Parts
-from clearway.converter.plain import cut_plain_inserts
+from clearway.converter.plain import cut_plain_entities
 from clearway.converter.units import INSUNITS_CODES, UNITS_TO_M
 
 
@@ -157,7 +159,7 @@ def read_drawing(path, *, chord_tolerance, units=None, limits=None, block_kind=N
     data = load_bytes(path, limits)
     sha256 = hashlib.sha256(data).hexdigest()
     text = ordinary_text(data)
-    plain = cut_plain_inserts(text) if text is not None else None
+    plain = cut_plain_entities(text) if text is not None else None
     body = text if plain is None else plain.text
     halves = _halves(body) if body is not None else None
     if halves is not None:
@@ -190,8 +192,8 @@ def read_drawing(path, *, chord_tolerance, units=None, limits=None, block_kind=N
 
 
 def _read_sound(text, plain, tolerated=frozenset()):
-    """`document.read_sound` of `text`, or None also when `plain`'s INSERTs, taken out of
-    it, do not fit the document read (`PlainInserts.fit`)."""
+    """`document.read_sound` of `text`, or None also when `plain`'s entities, taken out of
+    it, do not fit the document read (`PlainEntities.fit`)."""
     try:
         read = read_sound(text, tolerated=tolerated)
     except RecursionError:
@@ -225,8 +227,8 @@ def _read_model_space(doc, source, sha256, repairs, chord_tolerance, units, limi
                       plain=None, span=None):
     """(DrawingContent, _Reading) of `doc`'s model space, blocks not yet placed.
 
-    plain : PlainInserts, optional
-        INSERTs taken out of the text `doc` was read from: read in their places among its
+    plain : PlainEntities, optional
+        Entities taken out of the text `doc` was read from: read in their places among its
         entities, those whose `before` index is in `span` (low, high], all by default.
     """
     insunits = doc.header.get("$INSUNITS", None)
@@ -259,8 +261,8 @@ def _read_model_space(doc, source, sha256, repairs, chord_tolerance, units, limi
         if cursor < stop:
             index = plain.order[entity.dxf.handle]
             while cursor < stop and plain.before[cursor] <= index:
-                _read_plain_insert(doc, plain, cursor, content, reading.inserts, base_points,
-                                   headings_by_axis)
+                _read_plain(doc, plain, cursor, content, reading, limits, base_points,
+                            headings_by_axis)
                 cursor += 1
         if not entity.is_alive:
             continue
@@ -271,8 +273,7 @@ def _read_model_space(doc, source, sha256, repairs, chord_tolerance, units, limi
             _read_entity(entity, dxftype, layer, tolerance, content, reading.chunks,
                          reading.inserts, limits, reading.budget, base_points, headings_by_axis)
     while cursor < stop:
-        _read_plain_insert(doc, plain, cursor, content, reading.inserts, base_points,
-                           headings_by_axis)
+        _read_plain(doc, plain, cursor, content, reading, limits, base_points, headings_by_axis)
         cursor += 1
     return content, reading
 
@@ -280,7 +281,7 @@ def _read_model_space(doc, source, sha256, repairs, chord_tolerance, units, limi
 @paused_collector()
 def _read_half(text, source, sha256, chord_tolerance, units, limits, plain=None, cut=0):
     """The second half's `_read_model_space`, made fit to send back (`_merge`), or None when
-    ezdxf's ordinary reader refuses `text` or its audit finds anything. `plain`'s INSERTs
+    ezdxf's ordinary reader refuses `text` or its audit finds anything. `plain`'s entities
     after the entity of index `cut` are read with it."""
     read = _read_sound(text, plain)
     if read is None:
@@ -403,12 +404,18 @@ def _read_entity(entity, dxftype, layer, tolerance, content, chunks, inserts, li
         if dxftype == "CIRCLE":
             centre = entity.ocs().to_wcs(entity.dxf.center)
             content.points.append((layer, float(centre.x), float(centre.y), None, dxftype))
-        if dxftype in LINEWORK:
-            closed = any(kind not in (OPEN, ARC) for _, kind in found)
-            content.closed_open[layer][0 if closed else 1] += 1
-        parts = Parts.from_list(*zip(*found)) if found else Parts.empty()
-        budget.spend(parts, 1, f"{dxftype} on layer {layer!r}")
-        chunks[layer].append(parts)
+        _add_linework(found, dxftype, layer, content, chunks, budget)
+
+
+def _add_linework(found, dxftype, layer, content, chunks, budget):
+    """Add an entity's flattened linework `found`, [(xy, kind), ...], to `chunks` and count
+    it closed or open in `content`."""
+    if dxftype in LINEWORK:
+        closed = any(kind not in (OPEN, ARC) for _, kind in found)
+        content.closed_open[layer][0 if closed else 1] += 1
+    parts = Parts.from_list(*zip(*found)) if found else Parts.empty()
+    budget.spend(parts, 1, f"{dxftype} on layer {layer!r}")
+    chunks[layer].append(parts)
 
 
 def _headings(rows, headings_by_axis):
@@ -432,15 +439,28 @@ def _add_insert(content, inserts, layer, name, matrices, origins, headings, labe
         content.inserts.append((layer, name, x, y, heading, tags))
 
 
-def _read_plain_insert(doc, plain, k, content, inserts, base_points, headings_by_axis):
-    """Add INSERT `k` of `plain` (PlainInserts) as `_read_entity` adds one read by ezdxf."""
-    layer, name = plain.layer[k], plain.name[k]
-    content.counts[layer]["INSERT"] += 1
+def _read_plain(doc, plain, k, content, reading, limits, base_points, headings_by_axis):
+    """Add entity `k` of `plain` (PlainEntities) as `_read_model_space` and `_read_entity`
+    add one read by ezdxf."""
+    kind, layer, values = plain.kind[k], plain.layer[k], plain.values[k]
+    content.counts[layer][kind] += 1
     content.layer_states.setdefault(layer, (False, False))
-    rows = plan_rows(plain.rotation[k], plain.xscale[k], plain.yscale[k], plain.x[k],
-                     plain.y[k], block_base_point(doc.blocks, name, base_points))
-    _add_insert(content, inserts, layer, name, rows, [rows[2]], _headings(rows, headings_by_axis),
-                None, {})
+    if kind == "INSERT":
+        name, x, y, xscale, yscale, rotation = values
+        rows = plan_rows(rotation, xscale, yscale, x, y,
+                         block_base_point(doc.blocks, name, base_points))
+        _add_insert(content, reading.inserts, layer, name, rows, [rows[2]],
+                    _headings(rows, headings_by_axis), None, {})
+        return
+    with lenient(content.source, limits, kind, layer, reading.damaged, (layer, kind)):
+        if kind == "LINE":
+            x1, y1, x2, y2 = values
+            found = [(np.array([[x1, y1], [x2, y2]]), OPEN)]
+        else:
+            points, closed, width, _ = values
+            found = plan_polyline_parts(points, closed, width, reading.tolerance,
+                                        limits.max_curve_vertices)
+        _add_linework(found, kind, layer, content, reading.chunks, reading.budget)
 
 
 def _stacked(matrix_list):
