@@ -120,16 +120,6 @@ class PlainEntities:
     def __len__(self):
         return len(self.before)
 
-    def index_of_first(self, text: str) -> int:
-        """The index of the first entity of the ENTITIES section of `text`, a part of this
-        drawing cut from `self.text` (`document.entity_halves`); len(order) for none."""
-        span = entities_span(text)
-        for match in _ENTITY.finditer(text, *span) if span else ():
-            kind, handle = match.groups()
-            if kind not in _FOLLOWERS:
-                return self.order[handle]
-        return len(self.order)
-
     def fit(self, doc) -> bool:
         """Whether ezdxf, reading the whole text, would have read these entities as they
         are and kept the model space in this order: each INSERT's block is defined in `doc`

@@ -18,7 +18,6 @@ either half, or its audit finds anything, the whole file is read in one pass ins
 
 from __future__ import annotations
 
-import bisect
 import contextlib
 import hashlib
 import math
@@ -159,48 +158,50 @@ def read_drawing(path, *, chord_tolerance, units=None, limits=None, block_kind=N
     data = load_bytes(path, limits)
     sha256 = hashlib.sha256(data).hexdigest()
     text = ordinary_text(data)
-    plain = cut_plain_entities(text) if text is not None else None
-    body = text if plain is None else plain.text
-    halves = _halves(body) if body is not None else None
+    halves = _halves(text) if text is not None else None
     if halves is not None:
         first = rest = None
-        # the first half's INSERTs are those before the second half's first entity
-        cut = plain.index_of_first(halves[1]) if plain is not None else 0
-        busy = every_core_busy() if len(body) >= HOLD_CHARACTERS else contextlib.nullcontext()
+        busy = every_core_busy() if len(text) >= HOLD_CHARACTERS else contextlib.nullcontext()
         with busy, Aside(lambda: _read_half(halves[1], source, sha256, chord_tolerance, units,
-                                            limits, plain, cut)) as second:
-            first = _read_sound(halves[0], plain)
+                                            limits)) as second:
+            first = _read_plainly(halves[0])
             if first is not None:
                 content, reading = _read_model_space(first[0], source, sha256, [],
-                                                     chord_tolerance, units, limits,
-                                                     plain, (-1, cut))
+                                                     chord_tolerance, units, limits, first[2])
                 rest = second.result()
         if rest is not None:
             _merge(content, reading, rest)
             return _place_blocks(first[0], content, reading, limits, block_kind)
-    if plain is not None:
-        whole = _read_sound(plain.text, plain, tolerated=TOLERATED_FIXES)
-        if whole is not None:
-            doc, repairs = whole[0], repair_notices(whole[1])
-            content, reading = _read_model_space(doc, source, sha256, repairs, chord_tolerance,
-                                                 units, limits, plain)
-            return _place_blocks(doc, content, reading, limits, block_kind)
-    doc, repairs = parse_document(data, source, text)
+    whole = _read_plainly(text, tolerated=TOLERATED_FIXES, fallback=False) \
+        if text is not None else None
+    if whole is not None:
+        doc, repairs, plain = whole[0], repair_notices(whole[1]), whole[2]
+    else:
+        (doc, repairs), plain = parse_document(data, source, text), None
     content, reading = _read_model_space(doc, source, sha256, repairs, chord_tolerance, units,
-                                         limits)
+                                         limits, plain)
     return _place_blocks(doc, content, reading, limits, block_kind)
 
 
-def _read_sound(text, plain, tolerated=frozenset()):
-    """`document.read_sound` of `text`, or None also when `plain`'s entities, taken out of
-    it, do not fit the document read (`PlainEntities.fit`)."""
-    try:
-        read = read_sound(text, tolerated=tolerated)
-    except RecursionError:
-        return None         # parse_document says so of the whole file
-    if read is not None and plain is not None and not plain.fit(read[0]):
+def _read_plainly(text, tolerated=frozenset(), fallback=True):
+    """(document, auditor, PlainEntities or None) of sound `text`: its plain entities taken
+    out (`plain.cut_plain_entities`) and the rest read by ezdxf's ordinary reader
+    (`document.read_sound`), where they fit what ezdxf reads (`PlainEntities.fit`); else,
+    with `fallback`, the whole of `text` read by it. None when the ordinary reader refuses it
+    or its audit finds anything but `tolerated`, and, without `fallback`, when the plain
+    entities could not be read so (the caller reads the file its own way)."""
+    plain = cut_plain_entities(text)
+    if plain is not None:
+        try:
+            read = read_sound(plain.text, tolerated=tolerated)
+        except RecursionError:
+            read = None         # parse_document says so of the whole file
+        if read is not None and plain.fit(read[0]):
+            return (*read, plain)
+    if not fallback:
         return None
-    return read
+    read = read_sound(text, tolerated=tolerated)
+    return None if read is None else (*read, None)
 
 
 def _halves(text):
@@ -224,12 +225,12 @@ class _Reading:
 
 
 def _read_model_space(doc, source, sha256, repairs, chord_tolerance, units, limits,
-                      plain=None, span=None):
+                      plain=None):
     """(DrawingContent, _Reading) of `doc`'s model space, blocks not yet placed.
 
     plain : PlainEntities, optional
         Entities taken out of the text `doc` was read from: read in their places among its
-        entities, those whose `before` index is in `span` (low, high], all by default.
+        entities.
     """
     insunits = doc.header.get("$INSUNITS", None)
     unit = units or INSUNITS_CODES.get(insunits, "m")
@@ -252,11 +253,7 @@ def _read_model_space(doc, source, sha256, repairs, chord_tolerance, units, limi
     with contextlib.suppress(*DAMAGE):
         reading.paperspace = len(doc.paperspace())
     base_points, headings_by_axis = {}, {}
-    cursor = stop = 0
-    if plain is not None:
-        low, high = span if span is not None else (-1, len(plain.order))
-        cursor = bisect.bisect_right(plain.before, low)
-        stop = bisect.bisect_right(plain.before, high)
+    cursor, stop = 0, len(plain) if plain is not None else 0
     for entity in doc.modelspace():
         if cursor < stop:
             index = plain.order[entity.dxf.handle]
@@ -279,15 +276,14 @@ def _read_model_space(doc, source, sha256, repairs, chord_tolerance, units, limi
 
 
 @paused_collector()
-def _read_half(text, source, sha256, chord_tolerance, units, limits, plain=None, cut=0):
+def _read_half(text, source, sha256, chord_tolerance, units, limits):
     """The second half's `_read_model_space`, made fit to send back (`_merge`), or None when
-    ezdxf's ordinary reader refuses `text` or its audit finds anything. `plain`'s entities
-    after the entity of index `cut` are read with it."""
-    read = _read_sound(text, plain)
+    ezdxf's ordinary reader refuses `text` or its audit finds anything."""
+    read = _read_plainly(text)
     if read is None:
         return None
     content, reading = _read_model_space(read[0], source, sha256, [], chord_tolerance, units,
-                                         limits, plain, (cut, len(plain.order)) if plain else None)
+                                         limits, read[2])
     content.closed_open = dict(content.closed_open)      # its default factory is a lambda
     reading.budget = (reading.budget.parts, reading.budget.vertices)
     # each layer's linework as one Parts and each block's INSERT matrices as one array: the

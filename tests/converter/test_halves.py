@@ -9,6 +9,7 @@ whole file, in one process.
 from __future__ import annotations
 
 import io
+import re
 
 import ezdxf
 import pytest
@@ -72,6 +73,12 @@ def section_of(text):
     return text[start:text.index("\nENDSEC\n", start)]
 
 
+def work(section):
+    """The work of reading the entities in `section` as `document.entity_halves` weighs it."""
+    entities = re.findall(r"\n  0\n([A-Z]+)\n", "\n" + section)
+    return sum(1 if kind == "INSERT" else document.ENTITY_WORK for kind in entities)
+
+
 def model_space(text):
     """ezdxf's reading of `text`: (handles of the model space in order, its audit's findings,
     (type, vertex or attribute count) of each entity)."""
@@ -94,14 +101,29 @@ def test_the_halves_hold_every_entity_once_in_order_and_whole(kinds):
     first_handles, first_findings, first_shape = model_space(first)
     second_handles, second_findings, second_shape = model_space(second)
     assert first_handles + second_handles == whole
-    # cut at the first entity from the middle of the section on: the halves differ by at
-    # most twice the entity (with what follows it) that straddles the middle
-    largest = max(len(section_of(text_of([kind])[0])) for kind in set(kinds))
+    # cut at the first entity from the middle of the work on (an INSERT weighing 1, any
+    # other entity and each that follows one ENTITY_WORK): the halves differ by at most
+    # twice the entity (with what follows it) that straddles the middle, and the work of
+    # the share of the section the middle is looked for in
+    largest = max(work(section_of(text_of([kind])[0])) for kind in set(kinds))
+    section = section_of(text)
+    size = max(len(section) // document.WORK_CHUNKS, 1)
+    share = max(work(section[at:at + size + 40]) for at in range(0, len(section), size))
     assert first_handles and second_handles
-    assert abs(len(section_of(first)) - len(section_of(second))) <= 2 * largest
+    assert abs(work(section_of(first)) - work(section_of(second))) <= 2 * (largest + share)
     # a polyline keeps its vertices, an insert its attributes: nothing cut apart
     assert first_shape + second_shape == shape
     assert first_findings == second_findings == 0
+
+
+def test_the_cut_halves_the_work_not_the_characters():
+    # 200 bays as INSERTs read straight from the text, then 40 polylines: by the characters
+    # the cut would fall among the INSERTs, leaving the second half most of the work
+    text, _ = text_of(["insert"] * 200 + ["lwpolyline"] * 40)
+    first, second = entity_halves(text)
+    total = work(section_of(text))
+    assert total == 200 + 40 * document.ENTITY_WORK
+    assert abs(work(section_of(first)) - work(section_of(second))) <= 2 * document.ENTITY_WORK
 
 
 def test_text_without_two_entities_or_a_large_enough_model_space_is_not_cut():
@@ -188,7 +210,7 @@ def test_halves_read_as_the_whole_file(name, suite_drawing, split_reads, monkeyp
     assert contents(path) == whole
     # the halves were read (the second here too when no process could be forked), never
     # the whole file
-    first, second = entity_halves(body_of(path.read_text()))
+    first, second = (body_of(half) for half in entity_halves(path.read_text()))
     assert split_reads in ([first], [first, second])
 
 
@@ -196,21 +218,24 @@ def test_halves_read_as_the_whole_file(name, suite_drawing, split_reads, monkeyp
 def test_a_half_the_ordinary_reader_refuses_sends_the_whole_file_to_it(
         refused, suite_drawing, split_reads, monkeypatch):
     whole = whole_contents(suite_drawing, monkeypatch)
-    text = body_of(suite_drawing.read_text())
+    text = suite_drawing.read_text()
     halves = entity_halves(text)
     sound = document.read_sound
     here = []
 
     def refusing(candidate, **options):
         here.append(candidate)
-        return None if candidate == halves[refused] else sound(candidate, **options)
+        refused_half = (halves[refused], body_of(halves[refused]))
+        return None if candidate in refused_half else sound(candidate, **options)
 
     monkeypatch.setattr(read, "read_sound", refusing)
     monkeypatch.setattr(document, "read_sound", refusing)
     assert contents(suite_drawing) == whole
-    # the halves (the second in another process where one was forked), then the whole file
-    assert here[0] == halves[0] and here[-1] == text
-    assert here[1:-1] in ([], [halves[1]])
+    # the first half, without its plain entities, then as written where refused; the second
+    # in another process where one was forked; then the whole file, without them (as the
+    # refused second half, when the first holds plain entities only), else as written
+    assert here[0] == body_of(halves[0]) and here[-1] in (body_of(text), text)
+    assert set(here[1:-1]) <= {halves[0], halves[1], body_of(halves[1]), body_of(text)}
 
 
 def test_a_limit_reached_in_the_second_half_is_reported_as_in_the_whole(tmp_path, split_reads,
