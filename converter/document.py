@@ -231,8 +231,8 @@ _REFERRED = ("{ACAD_XDICTIONARY", "{ACAD_REACTORS")
 
 def entity_halves(text, least: int = 0):
     """Split sound DXF `text` (`ordinary_text`) into two drawings, (first, second), or None
-    when it has no ENTITIES section of two entities or more and `least` characters or more,
-    or when objects refer to its entities.
+    when it has no ENTITIES section of two entities or more and `least` work or more (as
+    `_middle_of_the_work` weighs it), or when objects refer to its entities.
 
     Each keeps every section of `text` (header, tables, blocks, objects) but only half its
     ENTITIES section: `first` the entities before the cut, `second` those from it. Read side
@@ -257,7 +257,10 @@ def entity_halves(text, least: int = 0):
     if section is None:
         return None
     end = _ENDSEC.search(text, section.end())
-    if end is None or end.start() - section.end() < least:
+    if end is None:
+        return None
+    work = _work(text, section.end(), end.start())
+    if work[-1] < least:
         return None
     # an entity with an extension dictionary, or one a group or an associative object
     # watches, is referred to from the OBJECTS section: the half without it would hold
@@ -269,7 +272,7 @@ def entity_halves(text, least: int = 0):
     # of the 4 MB section of the mixed suite drawing at 20,000 bays took 0.07 s); the rest
     # of the section is scanned only when no entity starts after the middle.
     first = _first_entity(text, section.end(), end.start())
-    middle = _middle_of_the_work(text, section.end(), end.start())
+    middle = _middle_of_the_work(work, section.end(), end.start())
     cut = None if first is None else \
         _first_entity(text, max(middle, first + 1), end.start())
     if cut is None:
@@ -289,21 +292,29 @@ WORK_CHUNKS = 64
 ENTITY_WORK = 5
 
 
-def _middle_of_the_work(text, start, stop):
-    """Where half the work of reading the entities in `text[start:stop]` is done: the
-    entities counted by their group code lines written "  0" (as AutoCAD and ezdxf write
-    them), an INSERT (mostly read straight from the text) weighing 1 and any other
-    ENTITY_WORK; by the characters where no entity is written so."""
+def _work(text, start, stop):
+    """The work of reading the entities in `text[start:stop]`, summed over WORK_CHUNKS equal
+    shares of it (ascending): the entities counted by their group code lines written "  0"
+    (as AutoCAD and ezdxf write them), an INSERT (mostly read straight from the text,
+    `plain.py`) weighing 1 and any other ENTITY_WORK; the characters where no entity is
+    written so."""
     size = max((stop - start) // WORK_CHUNKS, 1)
     work = []
     for at in range(start, stop, size):
-        chunk = text[at:min(at + size, stop)]
-        inserts = chunk.count("\nINSERT\n")
-        work.append(inserts + ENTITY_WORK * (chunk.count("\n  0\n") - inserts))
+        # each line "  0" (or "INSERT") counted in the share its line end before it is in
+        entities = text.count("\n  0\n", at - 1, min(at + size + 3, stop))
+        inserts = text.count("\nINSERT\n", at - 1, min(at + size + 6, stop))
+        work.append(inserts + ENTITY_WORK * (entities - inserts))
     if sum(work) <= 0:
-        return (start + stop) // 2
-    reached = np.cumsum(work)
-    chunk = int(np.searchsorted(reached, reached[-1] / 2.0))
+        work = [min(at + size, stop) - at for at in range(start, stop, size)]
+    return np.cumsum(work) if work else np.zeros(1, dtype=np.int64)
+
+
+def _middle_of_the_work(work, start, stop):
+    """Where half the `work` (`_work` of `text[start:stop]`) is done: the start of the first
+    share whose work, with the work before it, passes half."""
+    size = max((stop - start) // WORK_CHUNKS, 1)
+    chunk = int(np.searchsorted(work, work[-1] / 2.0, side="right"))
     return min(start + chunk * size, stop)
 
 

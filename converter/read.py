@@ -10,7 +10,7 @@ bays and most of its linework) are taken out of a sound file's text and read fro
 directly, in their places among the entities ezdxf reads: the same values, without ezdxf's
 entity objects.
 
-A sound file with a large model space (SPLIT_CHARACTERS) is read in two halves side by side:
+A sound file with a large model space (SPLIT_WORK) is read in two halves side by side:
 the second half's entities in a forked process (clearway.side_by_side), the first's here,
 and the two merged in order before the blocks are placed. Where the ordinary reader refuses
 either half, or its audit finds anything, the whole file is read in one pass instead.
@@ -106,13 +106,15 @@ class _Budget:
                           what="vertices after block expansion", hint=hint)
 
 
-#: Size of the ENTITIES section (characters) from which a drawing's model space is read in
-#: two halves side by side (`document.entity_halves`, clearway.side_by_side), where a second
-#: process can be forked. Each half parses the header, tables, blocks and objects again, and
-#: the fork costs about 0.01 s. Reading alone (medians of three to five): the current suite
-#: drawing at 5,000 bays (656,000 characters) 0.46 -> 0.27 s; the mixed one as first drawn
-#: (1 MB) 0.58 -> 0.44 s, and at 20,000 bays (4 MB) 2.2 -> 1.35 s.
-SPLIT_CHARACTERS = 250_000
+#: The work of reading a model space (`document.entity_halves`: a plainly written INSERT
+#: weighing 1, any other entity 5) from which it is read in two halves side by side
+#: (clearway.side_by_side), where a second process can be forked. Each half parses the
+#: header, tables, blocks and objects again, and the fork costs about 0.01 s. Whole builds,
+#: paired with a bare parse (nine runs), read in halves against in one pass: the mixed suite
+#: floor at 5,000 bays (11,000) 3.12x -> 2.93x, the `loose_lines` floor (exploded lines)
+#: 2.75x -> 2.39x, but the `current` floor at 5,000 bays (5,000 INSERTs, nearly all its work)
+#: 1.69x -> 1.83x.
+SPLIT_WORK = 8_000
 #: Size of a drawing (characters) from which, while its halves are parsed side by side, the
 #: build process is asked to hold back its own imports (clearway.side_by_side.every_core_busy):
 #: on two cores a third process slows both halves. Medians of seven to fifteen builds, time
@@ -207,7 +209,7 @@ def _read_plainly(text, tolerated=frozenset(), fallback=True):
 def _halves(text):
     """The two drawings `text`'s model space is read in side by side, or None: one pass
     (a small model space, or no second process to be had)."""
-    return entity_halves(text, least=SPLIT_CHARACTERS) if can_fork() else None
+    return entity_halves(text, least=SPLIT_WORK) if can_fork() else None
 
 
 @dataclass

@@ -137,8 +137,8 @@ def test_text_without_two_entities_or_a_large_enough_model_space_is_not_cut():
     assert entity_halves(text.replace("\nENTITIES\n", "\nENTITIES \n")) is None
     text, _ = text_of(["line", "circle"])
     section = text[text.index("ENTITIES"):text.index("ENDSEC", text.index("ENTITIES"))]
-    assert entity_halves(text, least=len(section) // 2) is not None
-    assert entity_halves(text, least=len(section)) is None
+    assert entity_halves(text, least=work(section)) is not None
+    assert entity_halves(text, least=work(section) + 1) is None
 
 
 @pytest.mark.parametrize("refer", ["extension dictionary", "group"])
