@@ -216,15 +216,19 @@ def read_sound(text, tolerated=frozenset()):
 
 #: Tags as ezdxf's reader takes them: a group code line is an integer, spaces about it
 #: allowed; a value line is the value, spaces and all (ezdxf strips only the line end).
-_ENTITIES = re.compile(r"^[ \t]*0[ \t]*\nSECTION\n[ \t]*2[ \t]*\nENTITIES\n", re.MULTILINE)
-_ENDSEC = re.compile(r"^[ \t]*0[ \t]*\nENDSEC\n", re.MULTILINE)
-#: A tag of group code 0 (an entity starts). Its value has a letter, so it cannot be a group
-#: code line, and the line before it is a group code 0, not a value: in sound text every
-#: group code is an integer.
-_ENTITY = re.compile(r"^[ \t]*0[ \t]*\n([A-Z0-9_]*[A-Z_][A-Z0-9_]*)\n", re.MULTILINE)
+#: The lines before "ENTITIES" that make it a section's name, and the group code 0 line
+#: before an "ENDSEC" (searched for at their ends, `entities_span`).
+_SECTION_HEAD = re.compile(r"(?:^|\n)[ \t]*0[ \t]*\nSECTION\n[ \t]*2[ \t]*\n$")
+_CODE_ZERO = re.compile(r"\n[ \t]*0[ \t]*\n$")
+#: A tag of group code 0 (an entity starts), and the entity's handle where it follows at
+#: once. Its value has a letter, so it cannot be a group code line, and the line before it
+#: is a group code 0, not a value: in sound text every group code is an integer.
+ENTITY = re.compile(r"^[ \t]*0[ \t]*\n([A-Z0-9_]*[A-Z_][A-Z0-9_]*)\n(?:[ \t]*5[ \t]*\n([^\n]*)\n)?",
+                    re.MULTILINE)
 #: Entities that belong to the one before them (a POLYLINE's vertices, an INSERT's
-#: attributes, the end of either): a half never starts with one.
-_FOLLOWERS = frozenset({"VERTEX", "SEQEND", "ATTRIB"})
+#: attributes, the end of either): not in the model space's list, and a half never starts
+#: with one.
+FOLLOWERS = frozenset({"VERTEX", "SEQEND", "ATTRIB"})
 #: APP DATA of entities that objects refer to.
 _REFERRED = ("{ACAD_XDICTIONARY", "{ACAD_REACTORS")
 
@@ -253,35 +257,33 @@ def entity_halves(text, least: int = 0):
     >>> [line for line in second.split("\\n") if len(line) == 1]
     ['C', 'D']
     """
-    section = _ENTITIES.search(text)
-    if section is None:
+    span = entities_span(text)
+    if span is None:
         return None
-    end = _ENDSEC.search(text, section.end())
-    if end is None:
-        return None
-    work = _work(text, section.end(), end.start())
+    begin, end = span
+    work = _work(text, begin, end)
     if work[-1] < least:
         return None
     # an entity with an extension dictionary, or one a group or an associative object
     # watches, is referred to from the OBJECTS section: the half without it would hold
     # objects that refer to nothing, which its audit repairs, and the file is read whole
-    if any(text.find(mark, section.end(), end.start()) >= 0 for mark in _REFERRED):
+    if any(text.find(mark, begin, end) >= 0 for mark in _REFERRED):
         return None
     # the cut: the first entity from the middle on, but never the first entity, nor past
     # the last. Only the few entities about the middle are looked at (matching every entity
     # of the 4 MB section of the mixed suite drawing at 20,000 bays took 0.07 s); the rest
     # of the section is scanned only when no entity starts after the middle.
-    first = _first_entity(text, section.end(), end.start())
-    middle = _middle_of_the_work(work, section.end(), end.start())
+    first = _first_entity(text, begin, end)
+    middle = _middle_of_the_work(work, begin, end)
     cut = None if first is None else \
-        _first_entity(text, max(middle, first + 1), end.start())
+        _first_entity(text, max(middle, first + 1), end)
     if cut is None:
-        starts = [match.start() for match in _ENTITY.finditer(text, section.end(), end.start())
-                  if match.group(1) not in _FOLLOWERS]
+        starts = [match.start() for match in ENTITY.finditer(text, begin, end)
+                  if match.group(1) not in FOLLOWERS]
         if len(starts) < 2:
             return None
         cut = starts[-1]
-    return text[:cut] + text[end.start():], text[:section.end()] + text[cut:]
+    return text[:cut] + text[end:], text[:begin] + text[cut:]
 
 
 #: The share of the section cut into, to weigh the work of each (`_middle_of_the_work`).
@@ -318,11 +320,36 @@ def _middle_of_the_work(work, start, stop):
     return min(start + chunk * size, stop)
 
 
+def entities_span(text: str) -> tuple[int, int] | None:
+    """(start, end) of the entities of sound DXF `text`: from the first after the ENTITIES
+    section's head to the group code line of its ENDSEC; None without such a section.
+
+    Examples
+    --------
+    >>> text = "  0\\nSECTION\\n  2\\nENTITIES\\n  0\\nLINE\\n  8\\nA\\n  0\\nENDSEC\\n  0\\nEOF\\n"
+    >>> begin, end = entities_span(text)
+    >>> text[begin:end]
+    '  0\\nLINE\\n  8\\nA\\n'
+    """
+    at = text.find("\nENTITIES\n")
+    while at >= 0 and not _SECTION_HEAD.search(text, max(0, at - 40), at + 1):
+        at = text.find("\nENTITIES\n", at + 1)
+    if at < 0:
+        return None
+    begin = at + len("\nENTITIES\n")
+    end = text.find("\nENDSEC\n", begin - 1)
+    while end >= 0 and not _CODE_ZERO.search(text, max(0, end - 12), end + 1):
+        end = text.find("\nENDSEC\n", end + 1)
+    if end < 0:
+        return None
+    return begin, text.rfind("\n", 0, end) + 1
+
+
 def _first_entity(text, start, stop):
     """Where the first entity (not a follower) of `text` starts within [start, stop), or
     None."""
-    return next((match.start() for match in _ENTITY.finditer(text, start, stop)
-                 if match.group(1) not in _FOLLOWERS), None)
+    return next((match.start() for match in ENTITY.finditer(text, start, stop)
+                 if match.group(1) not in FOLLOWERS), None)
 
 
 #: Code pages tried, in this order, for the text of a drawing whose header names none: ezdxf's

@@ -38,6 +38,8 @@ from ezdxf.entities.insert import acdb_block_reference
 from ezdxf.lldxf.const import VALID_DXF_LINEWEIGHT_VALUES
 from ezdxf.lldxf.validator import is_valid_layer_name, make_table_key
 
+from clearway.converter.document import ENTITY, FOLLOWERS, entities_span
+
 
 def _tag(code, *, optional=False, value=r"([^\n]*)\n"):
     """A tag: its group code line (the code, spaces about it allowed: ezdxf reads it with
@@ -74,15 +76,6 @@ _PLAIN = re.compile(r"^[ \t]*0[ \t]*\n(?:" + "|".join((_INSERT, _LINE, _LWPOLYLI
 _WIDTH = {"INSERT": re.compile(_INSERT).groups, "LINE": re.compile(_LINE).groups,
           "LWPOLYLINE": re.compile(_LWPOLYLINE).groups}
 _FIRST = {"INSERT": 1, "LINE": 1 + _WIDTH["INSERT"], "LWPOLYLINE": 1 + _WIDTH["INSERT"] + _WIDTH["LINE"]}
-#: An entity's start and, where it follows at once, its handle.
-_ENTITY = re.compile(r"^[ \t]*0[ \t]*\n([A-Z0-9_]*[A-Z_][A-Z0-9_]*)\n(?:[ \t]*5[ \t]*\n([^\n]*)\n)?",
-                     re.MULTILINE)
-#: The lines before "ENTITIES" that make it a section's name, and the group code 0 line
-#: before an "ENDSEC" (searched for at their ends).
-_SECTION_HEAD = re.compile(r"(?:^|\n)[ \t]*0[ \t]*\nSECTION\n[ \t]*2[ \t]*\n$")
-_CODE_ZERO = re.compile(r"\n[ \t]*0[ \t]*\n$")
-#: Entities that belong to the one before them; they are not in the model space's list.
-_FOLLOWERS = frozenset({"VERTEX", "SEQEND", "ATTRIB"})
 #: ezdxf's defaults of the values a plain INSERT may leave out.
 _DEFAULT = {key: acdb_block_reference.attribs[key].default
             for key in ("xscale", "yscale", "rotation")}
@@ -189,11 +182,11 @@ def cut_plain_entities(text: str) -> PlainEntities | None:
         return None                                 # ezdxf refuses the file: it says why
     rest = "".join([text[:begin], *pieces, text[stop:]])
     order, starts = {}, []
-    for match in _ENTITY.finditer(rest, begin):
+    for match in ENTITY.finditer(rest, begin):
         kind, key = match.groups()
         if kind == "ENDSEC":
             break
-        if kind in _FOLLOWERS:
+        if kind in FOLLOWERS:
             continue
         if key is None or key in order:
             return None
@@ -258,21 +251,3 @@ def _lwpolyline(groups):
 
 
 _READ = {"INSERT": _insert, "LINE": _line, "LWPOLYLINE": _lwpolyline}
-
-
-def entities_span(text: str) -> tuple[int, int] | None:
-    """(start, end) of the entities of sound DXF `text`: from the first after the ENTITIES
-    section's head to its ENDSEC; None without such a section."""
-    at = text.find("\nENTITIES\n")
-    while at >= 0 and not _SECTION_HEAD.search(text, max(0, at - 40), at + 1):
-        at = text.find("\nENTITIES\n", at + 1)
-    if at < 0:
-        return None
-    begin = at + len("\nENTITIES\n")
-    end = text.find("\nENDSEC\n", begin - 1)
-    while end >= 0 and not _CODE_ZERO.search(text, max(0, end - 12), end + 1):
-        end = text.find("\nENDSEC\n", end + 1)
-    if end < 0:
-        return None
-    line = text.rfind("\n", 0, end) + 1          # the line of its group code 0
-    return begin, line

@@ -19,8 +19,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import clearway.converter.read as read
-from clearway.converter.document import sound_text
-from clearway.converter.plain import cut_plain_entities, entities_span
+from clearway.converter.document import entities_span, sound_text
+from clearway.converter.plain import cut_plain_entities
 from clearway.errors import DrawingError, LimitError
 from clearway.limits import Limits
 from tests.conftest import new_drawing, rectangle
