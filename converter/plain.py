@@ -34,11 +34,8 @@ import re
 from dataclasses import dataclass
 
 import numpy as np
-from ezdxf.entities.insert import acdb_block_reference
-from ezdxf.lldxf.const import VALID_DXF_LINEWEIGHT_VALUES
-from ezdxf.lldxf.validator import is_valid_layer_name, make_table_key
 
-from clearway.converter.document import ENTITY, FOLLOWERS, entities_span
+from clearway.converter.filetext import ENTITY, FOLLOWERS, entities_span
 
 
 def _tag(code, *, optional=False, value=r"([^\n]*)\n"):
@@ -76,9 +73,15 @@ _PLAIN = re.compile(r"^[ \t]*0[ \t]*\n(?:" + "|".join((_INSERT, _LINE, _LWPOLYLI
 _WIDTH = {"INSERT": re.compile(_INSERT).groups, "LINE": re.compile(_LINE).groups,
           "LWPOLYLINE": re.compile(_LWPOLYLINE).groups}
 _FIRST = {"INSERT": 1, "LINE": 1 + _WIDTH["INSERT"], "LWPOLYLINE": 1 + _WIDTH["INSERT"] + _WIDTH["LINE"]}
-#: ezdxf's defaults of the values a plain INSERT may leave out.
-_DEFAULT = {key: acdb_block_reference.attribs[key].default
-            for key in ("xscale", "yscale", "rotation")}
+#: What ezdxf knows of these entities, written out so that the text is cut without
+#: importing ezdxf (`filetext`); tests/converter/test_plain.py holds each equal to ezdxf's own.
+#: Its defaults of the values a plain INSERT may leave out (the attributes' defaults of
+#: ezdxf.entities.insert.acdb_block_reference).
+DEFAULTS = {"xscale": 1, "yscale": 1, "rotation": 0}
+#: The line weights its audit leaves as they are (ezdxf.lldxf.const.VALID_DXF_LINEWEIGHT_VALUES):
+#: hundredths of a millimetre, and -1, -2, -3 by layer, by block and the default.
+LINEWEIGHTS = frozenset({0, 5, 9, 13, 15, 18, 20, 25, 30, 35, 40, 50, 53, 60, 70, 80, 90, 100,
+                         106, 120, 140, 158, 200, 211, -1, -2, -3})
 
 
 @dataclass
@@ -120,6 +123,9 @@ class PlainEntities:
         one that is not), each line type defined (the audit removes one that is not), each
         owner the model space and each handle new; and each model-space entity of `doc`
         carries the handle it was written with, in order."""
+        # imported here, where ezdxf has read the rest: the cut needs none of it
+        from ezdxf.lldxf.validator import is_valid_layer_name, make_table_key
+
         modelspace = doc.modelspace()
         owner = modelspace.block_record_handle
         names = {values[0] for kind, values in zip(self.kind, self.values) if kind == "INSERT"}
@@ -145,7 +151,7 @@ class PlainEntities:
 
 
 def cut_plain_entities(text: str) -> PlainEntities | None:
-    """Take the plain entities out of sound DXF `text` (`document.ordinary_text`); None when
+    """Take the plain entities out of sound DXF `text` (`filetext.ordinary_text`); None when
     it has none, or when its other entities do not each carry a handle of their own (the
     model space could not then be put back in order)."""
     span = entities_span(text)
@@ -170,7 +176,7 @@ def cut_plain_entities(text: str) -> PlainEntities | None:
             # what ezdxf's audit would repair sends the file to its recovery: not taken out
             if color is not None and not 0 <= int(color) <= 257:
                 return None
-            if lineweight is not None and int(lineweight) not in VALID_DXF_LINEWEIGHT_VALUES:
+            if lineweight is not None and int(lineweight) not in LINEWEIGHTS:
                 return None
             values.append(_READ[kind](groups[7:]))
             kinds.append(kind)
@@ -208,9 +214,9 @@ def _insert(groups):
         if value is not None:
             float(value)
     return (name, float(x), float(y),
-            _DEFAULT["xscale"] if xscale is None else float(xscale),
-            _DEFAULT["yscale"] if yscale is None else float(yscale),
-            _DEFAULT["rotation"] if rotation is None else float(rotation))
+            DEFAULTS["xscale"] if xscale is None else float(xscale),
+            DEFAULTS["yscale"] if yscale is None else float(yscale),
+            DEFAULTS["rotation"] if rotation is None else float(rotation))
 
 
 def _line(groups):

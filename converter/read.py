@@ -33,11 +33,11 @@ from clearway.collector import paused_collector
 from clearway.side_by_side import Aside, can_fork, every_core_busy
 from clearway.errors import DrawingError
 from clearway.limits import Limits
-from clearway.converter.document import (DAMAGE, TOLERATED_FIXES, entity_halves, load_bytes,
-                                         ordinary_text, parse_document, read_sound,
+from clearway.converter.document import (DAMAGE, TOLERATED_FIXES, parse_document, read_sound,
                                          repair_notices, saved_date)
 from clearway.converter.entities import (LINEWORK, TEXTS, flatten_entity, lenient,
                                          plan_polyline_parts, text_item)
+from clearway.converter.filetext import SPLIT_WORK, entity_halves, load_bytes, ordinary_text
 from clearway.converter.inserts import (BLOCK_OPENING_PREFIX, BlockReader, attribute_label,
                                         attributes, block_base_point, entity_layer,
                                         insert_matrices, plan_rows, scale_of,
@@ -106,17 +106,6 @@ class _Budget:
                           what="vertices after block expansion", hint=hint)
 
 
-#: The work of reading a model space (`document.entity_halves`: a plainly written INSERT
-#: weighing 1, any other entity 5) from which it is read in two halves side by side
-#: (clearway.side_by_side), where a second process can be forked. Each half parses the
-#: header, tables, blocks and objects again, and the fork and the merge cost about 0.03 s.
-#: Reading in the reader's process, from its start to the blocks: the mixed suite floor at
-#: 20,000 bays (a work of 45,700) 0.28 s in one pass, 0.19 s in halves; at 5,000 bays
-#: (11,000) 0.131 s in one pass, 0.148 s in halves. Whole builds paired with a bare parse
-#: (seven to nine runs), halves against one pass: `loose_lines` at 5,000 bays (27,400)
-#: 2.39x against 2.75x in one run, 2.68x against 2.69x in another; `current` at 5,000 bays
-#: (5,300, nearly all INSERTs) 1.83x against 1.69x.
-SPLIT_WORK = 20_000
 #: Size of a drawing (characters) from which, while its halves are parsed side by side, the
 #: build process is asked to hold back its own imports (clearway.side_by_side.every_core_busy):
 #: on two cores a third process slows both halves. Medians of seven to fifteen builds, time

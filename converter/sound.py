@@ -10,8 +10,23 @@ from __future__ import annotations
 import re
 
 import numpy as np
-from ezdxf.lldxf.const import MANAGED_SECTIONS, TABLE_NAMES_ACAD_ORDER
-from ezdxf.lldxf.types import POINT_CODES, TYPE_TABLE
+
+#: What ezdxf's reader knows of group codes and sections, written out so that a file can be
+#: checked without importing ezdxf (the build process checks it while the reader imports
+#: ezdxf: `filetext`); tests/converter/test_document.py holds each equal to ezdxf's own.
+#: The group codes of a point's x (ezdxf.lldxf.types.POINT_CODES).
+POINT_CODES = frozenset((*range(10, 19), 110, 111, 112, 210, 211, 212, 213, *range(1010, 1014)))
+#: The group codes whose values it converts to int (those typed int in
+#: ezdxf.lldxf.types.TYPE_TABLE: the integer and boolean ranges of the DXF reference's group
+#: code value types), first and last of each range.
+INT_CODE_RANGES = ((60, 79), (90, 99), (160, 179), (270, 299), (370, 389), (400, 409),
+                   (420, 429), (440, 459), (1060, 1071))
+#: The sections it reads (ezdxf.lldxf.const.MANAGED_SECTIONS).
+MANAGED_SECTIONS = frozenset({"HEADER", "CLASSES", "TABLES", "BLOCKS", "ENTITIES", "OBJECTS",
+                              "ACDSDATA"})
+#: The tables in the order it writes them (ezdxf.lldxf.const.TABLE_NAMES_ACAD_ORDER).
+TABLE_NAMES_ACAD_ORDER = ("VPORT", "LTYPE", "LAYER", "STYLE", "VIEW", "UCS", "APPID",
+                          "DIMSTYLE", "BLOCK_RECORD")
 
 _ESCAPE = re.compile(rb"\\[UuMm]\+")
 _LOWER = re.compile(rb"[a-z]")
@@ -20,7 +35,7 @@ _INT_LINES = re.compile(rb"(?:[ \t]*[+-]?[0-9]+[ \t]*\n)*")
 _X_CODES = np.array(sorted(POINT_CODES))
 _Y_CODES = _X_CODES + 10
 _Z_CODES = np.setdiff1d(_X_CODES + 20, [38])   # a lone 38 is an elevation, not a z
-_INT_CODES = np.array(sorted(code for code, kind in TYPE_TABLE.items() if kind is int))
+_INT_CODES = np.concatenate([np.arange(first, last + 1) for first, last in INT_CODE_RANGES])
 _LINE_ORDER = np.full(32, -1)
 _LINE_ORDER[[10, 20, 30, 11, 21, 31]] = np.arange(6)
 

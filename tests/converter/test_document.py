@@ -10,7 +10,8 @@ import pytest
 from ezdxf import recover
 
 import clearway.converter.document as document
-from clearway.converter.document import sound_text
+import clearway.converter.filetext as filetext
+from clearway.converter.sound import sound_text
 from clearway.converter.read import read_drawing
 from tests.conftest import SAMPLES, new_drawing, walled_room
 
@@ -42,7 +43,7 @@ def contents(path):
 
 def recovered_contents(path, monkeypatch):
     with monkeypatch.context() as patch:
-        patch.setattr(document, "sound_text", lambda data: None)   # recovery for every file
+        patch.setattr(filetext, "sound_text", lambda data: None)   # recovery for every file
         return contents(path)
 
 
@@ -168,3 +169,30 @@ def test_a_sound_file_whose_audit_only_removes_an_empty_group_is_read_once(tmp_p
 
     monkeypatch.setattr(document.recover, "read", refuse)
     assert contents(path) == expected
+
+
+def test_what_the_checks_know_of_ezdxf_is_ezdxfs_own():
+    # source: ezdxf's reader, the tables it types group codes and orders sections with; the
+    # checks keep their own copies so that a file is checked without importing ezdxf
+    from ezdxf.lldxf import const
+    from ezdxf.lldxf.types import POINT_CODES, TYPE_TABLE
+
+    from clearway.converter import sound
+    assert sound.POINT_CODES == POINT_CODES
+    ints = {code for first, last in sound.INT_CODE_RANGES for code in range(first, last + 1)}
+    assert ints == {code for code, kind in TYPE_TABLE.items() if kind is int}
+    assert sound.MANAGED_SECTIONS == set(const.MANAGED_SECTIONS)
+    assert list(sound.TABLE_NAMES_ACAD_ORDER) == list(const.TABLE_NAMES_ACAD_ORDER)
+
+
+def test_the_file_and_its_text_are_checked_without_importing_ezdxf():
+    import subprocess
+    import sys
+    script = ("import sys\n"
+              "from clearway.converter.filetext import load_bytes, ordinary_text\n"
+              "from clearway.converter.plain import cut_plain_entities\n"
+              f"text = ordinary_text(load_bytes({str(SAMPLES / 'clinic.dxf')!r}))\n"
+              "print(cut_plain_entities(text) is not None, 'ezdxf' in sys.modules)\n")
+    done = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True,
+                          check=True)
+    assert done.stdout.split() == ["True", "False"]

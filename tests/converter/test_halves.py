@@ -1,6 +1,6 @@
 """A large model space read in two halves side by side reads as the whole file does.
 
-`document.entity_halves` cuts the ENTITIES section of sound text in two; the reference for
+`filetext.entity_halves` cuts the ENTITIES section of sound text in two; the reference for
 the cut is ezdxf itself, reading the whole file and each half. `read.read_drawing` then
 reads the halves in two processes and merges them; the reference is the same reader on the
 whole file, in one process.
@@ -19,7 +19,9 @@ from hypothesis import strategies as st
 import clearway.converter.read as read
 from benchmarks.synthetic import write_style
 import clearway.converter.document as document
-from clearway.converter.document import entity_halves, sound_text
+import clearway.converter.filetext as filetext
+from clearway.converter.filetext import entity_halves
+from clearway.converter.sound import sound_text
 from clearway.converter.plain import cut_plain_entities
 from clearway.errors import LimitError
 from clearway.limits import Limits
@@ -74,9 +76,9 @@ def section_of(text):
 
 
 def work(section):
-    """The work of reading the entities in `section` as `document.entity_halves` weighs it."""
+    """The work of reading the entities in `section` as `filetext.entity_halves` weighs it."""
     entities = re.findall(r"\n  0\n([A-Z]+)\n", "\n" + section)
-    return sum(1 if kind == "INSERT" else document.ENTITY_WORK for kind in entities)
+    return sum(1 if kind == "INSERT" else filetext.ENTITY_WORK for kind in entities)
 
 
 def model_space(text):
@@ -107,7 +109,7 @@ def test_the_halves_hold_every_entity_once_in_order_and_whole(kinds):
     # the share of the section the middle is looked for in
     largest = max(work(section_of(text_of([kind])[0])) for kind in set(kinds))
     section = section_of(text)
-    size = max(len(section) // document.WORK_CHUNKS, 1)
+    size = max(len(section) // filetext.WORK_CHUNKS, 1)
     share = max(work(section[at:at + size + 40]) for at in range(0, len(section), size))
     assert first_handles and second_handles
     assert abs(work(section_of(first)) - work(section_of(second))) <= 2 * (largest + share)
@@ -122,8 +124,8 @@ def test_the_cut_halves_the_work_not_the_characters():
     text, _ = text_of(["insert"] * 200 + ["lwpolyline"] * 40)
     first, second = entity_halves(text)
     total = work(section_of(text))
-    assert total == 200 + 40 * document.ENTITY_WORK
-    assert abs(work(section_of(first)) - work(section_of(second))) <= 2 * document.ENTITY_WORK
+    assert total == 200 + 40 * filetext.ENTITY_WORK
+    assert abs(work(section_of(first)) - work(section_of(second))) <= 2 * filetext.ENTITY_WORK
 
 
 def test_text_without_two_entities_or_a_large_enough_model_space_is_not_cut():
@@ -160,7 +162,7 @@ def test_entities_objects_refer_to_keep_the_file_whole(refer, monkeypatch):
     assert entity_halves(text) is None
     # source: ezdxf's audit: cut anyway, the first half holds objects whose entities are
     # in the second, and its audit repairs them (the reader would then read the file whole)
-    monkeypatch.setattr(document, "_REFERRED", ())
+    monkeypatch.setattr(filetext, "_REFERRED", ())
     first, second = entity_halves(text)
     assert model_space(first)[1] > 0
 

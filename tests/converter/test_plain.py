@@ -19,7 +19,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import clearway.converter.read as read
-from clearway.converter.document import entities_span, sound_text
+from clearway.converter.filetext import entities_span
+from clearway.converter.sound import sound_text
 from clearway.converter.plain import cut_plain_entities
 from clearway.errors import DrawingError, LimitError
 from clearway.limits import Limits
@@ -257,3 +258,15 @@ def test_the_last_entity_and_an_insert_in_a_block_definition(tmp_path, monkeypat
     assert plain.text.count("\nINSERT\n") == text.count("\nINSERT\n") - 1
     ours, whole = read_both(tmp_path, text, monkeypatch)
     assert ours == whole
+
+
+def test_what_the_cut_knows_of_ezdxf_is_ezdxfs_own():
+    # source: ezdxf, the defaults of an INSERT's attributes and the line weights its audit
+    # keeps; the cut keeps its own copies so that it runs without importing ezdxf
+    from ezdxf.entities.insert import acdb_block_reference
+    from ezdxf.lldxf.const import VALID_DXF_LINEWEIGHT_VALUES
+
+    from clearway.converter import plain
+    assert plain.LINEWEIGHTS == set(VALID_DXF_LINEWEIGHT_VALUES)
+    assert plain.DEFAULTS == {key: acdb_block_reference.attribs[key].default
+                              for key in ("xscale", "yscale", "rotation")}

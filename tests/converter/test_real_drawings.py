@@ -92,7 +92,7 @@ def test_rooms_carry_the_names_printed_in_them(built):
 
 @pytest.mark.parametrize("name", REAL_AT_HAND)
 def test_a_sound_real_drawing_reads_as_ezdxfs_recovery_reads_it(name, monkeypatch):
-    from clearway.converter.document import sound_text
+    from clearway.converter.sound import sound_text
     from tests.converter.test_document import contents, recovered_contents
     path = REAL_DRAWINGS / name
     if sound_text(path.read_bytes()) is None:

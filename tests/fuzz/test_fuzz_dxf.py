@@ -168,11 +168,12 @@ def test_mutated_drawing_reads_as_recovery_reads_it(tmp_path, originals, fuzz_co
                                                    recipe, monkeypatch):
     """A mutated file that `sound_text` passes to ezdxf's ordinary reader gives what the
     recovery reader gives (the reference: ezdxf's own recovery), repair notices included."""
-    import clearway.converter.document as document
+    import clearway.converter.filetext as filetext
+    from clearway.converter.sound import sound_text
     from tests.converter.test_document import contents
 
     data = mutate(originals[name], recipe)
-    if document.sound_text(data) is None:
+    if sound_text(data) is None:
         fuzz_counts["ordinary reader, mutated samples: left to recovery"] += 1
         return
     path = tmp_path / "mutated.dxf"
@@ -186,7 +187,7 @@ def test_mutated_drawing_reads_as_recovery_reads_it(tmp_path, originals, fuzz_co
     with time_limit(TIMEOUT_S):
         fast = outcome()
         with monkeypatch.context() as patch:
-            patch.setattr(document, "sound_text", lambda data: None)
+            patch.setattr(filetext, "sound_text", lambda data: None)
             recovered = outcome()
     assert fast == recovered
     fuzz_counts["ordinary reader, mutated samples: compared"] += 1
