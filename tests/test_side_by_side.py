@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import contextlib
 import gc
+import hashlib
 import os
 import pickle
 import signal
@@ -171,7 +172,10 @@ def _build(tmp_path, name, processes, sample=SAMPLE):
 def test_the_build_writes_the_same_bytes_with_one_process_or_two(tmp_path, sample):
     # with two, the drawing is read, the rooms are found and the preview is rendered in a
     # second process (clearway.side_by_side)
-    one, two = _build(tmp_path, "one", "1", sample), _build(tmp_path, "two", "2", sample)
+    _same_outputs(_build(tmp_path, "one", "1", sample), _build(tmp_path, "two", "2", sample))
+
+
+def _same_outputs(one: Path, two: Path) -> None:
     names = sorted(path.name for path in one.iterdir())
     assert names == sorted(path.name for path in two.iterdir()) and "roadmap.svg" in names
     for name in names:
@@ -393,3 +397,55 @@ def test_with_three_cores_or_more_the_child_says_nothing(one_thread, monkeypatch
         release.touch()
         assert reader.result() == "plan"
     assert time.monotonic() - start < 10
+
+
+def _digest(value) -> tuple[int, str]:
+    return len(value), hashlib.sha256(value).hexdigest()
+
+
+@needs_fork
+def test_a_child_takes_what_this_process_feeds_it_after_the_fork(one_thread, tmp_path):
+    # the build reads the drawing's text ahead while the reader imports ezdxf; what it
+    # feeds may be larger than the pipe holds, so that this process waits for the child
+    food = os.urandom(3 * runner.FEED_PIPE + 17)
+    started = tmp_path / "started"
+
+    def eat():
+        started.touch()              # forked before anything was fed
+        return os.getpid(), _digest(runner.fed()), runner.fed()
+
+    with Aside(eat, fed=True) as child:
+        _wait_for(started)
+        child.feed(lambda: food)
+        child.feed(lambda: b"a second helping")     # once only: not given
+        pid, digest, again = child.result()
+    assert pid != os.getpid() and digest == _digest(food) and again is None
+
+
+@needs_fork
+def test_a_child_left_unfed_or_gone_takes_nothing_and_stops_nobody(one_thread):
+    with Aside(runner.fed, fed=True) as child:
+        assert child.result() is None               # asked for the result before any feed
+        child.feed(lambda: b"too late")
+
+    with Aside(lambda: "not hungry", fed=True) as child:
+        _wait_for_exit(child.pid)
+        child.feed(lambda: os.urandom(2 * runner.FEED_PIPE))    # the child has gone
+        assert child.result() == "not hungry"
+
+
+def test_where_the_work_runs_here_nothing_is_made_or_fed(monkeypatch):
+    monkeypatch.setenv("CLEARWAY_PROCESSES", "1")
+    made = []
+    with Aside(runner.fed, fed=True) as child:
+        child.feed(lambda: made.append(1) or b"food")
+        assert child.result() is None and made == []
+    assert runner.fed() is None                     # nor in a process never fed
+
+
+def _wait_for_exit(pid, seconds=20.0):
+    """Wait until the child `pid` has ended (it stays a zombie until reaped)."""
+    deadline = time.monotonic() + seconds
+    while Path(f"/proc/{pid}/status").read_text().split("State:")[1].split()[0] != "Z":
+        assert time.monotonic() < deadline, "the child did not end"
+        time.sleep(0.01)
