@@ -65,15 +65,22 @@ def _drawing_date(plan) -> str:
     return f"drawing of {plan.drawing_date}" if plan.drawing_date else "drawing undated"
 
 
-def _read_plan(drawing, options: dict):
+def _read_plan(drawing, options: dict, ahead=lambda: None):
     """``(read_floorplan(drawing, **options), None)``, or ``(None, text)`` of the ClearwayError
     it raised: from a second process the text is what matters (some such errors carry data
-    that does not pickle)."""
+    that does not pickle). `ahead` gives the drawing's text read ahead, or None; it is asked
+    once the converter (and ezdxf) is imported."""
     from clearway.converter import read_floorplan
     try:
-        return read_floorplan(drawing, **options), None
+        return read_floorplan(drawing, **options, ahead=ahead()), None
     except ClearwayError as err:
         return None, str(err)
+
+
+def _read_ahead(drawing, options: dict):
+    """The drawing's text read ahead for the reader (clearway.converter.ahead), or None."""
+    from clearway.converter.ahead import read_ahead
+    return read_ahead(drawing, options.get("limits"))
 
 
 def _count(number: int, singular: str, plural: str = "") -> str:
@@ -264,7 +271,7 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
     Exit 0 when built, 1 with --strict when a station is unreachable or free space leaks,
     2 for bad input.
     """
-    from clearway.side_by_side import Aside, forced, side_by_side
+    from clearway.side_by_side import Aside, fed, forced, side_by_side
 
     def say(message: str) -> None:
         if not quiet:
@@ -287,10 +294,13 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
         reading = converter_options(options, config)
         # the drawing is read in a second process while this one imports what comes next
         # (clearway.side_by_side), holding back while the reader keeps both cores busy; the
-        # libraries both need are imported once, before
+        # libraries both need are imported once, before. While the reader imports ezdxf,
+        # this process reads the drawing's text ahead for it (clearway.converter.ahead).
         for name in SHARED_LIBRARIES:
             importlib.import_module(name)
-        with Aside(lambda: _read_plan(drawing, reading), listen=True) as reader:
+        with Aside(lambda: _read_plan(drawing, reading, ahead=fed), listen=True,
+                   fed=True) as reader:
+            reader.feed(lambda: _read_ahead(drawing, reading))
             for name in STAGE_LIBRARIES:
                 reader.hold()
                 importlib.import_module(name)

@@ -143,7 +143,7 @@ def list_layers(path, *, roles=None, units=None, limits=None, region=None):
 @paused_collector()
 def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_tolerance=0.01,
                    max_wall_thickness=0.6, nominal_wall_thickness=0.05, label_radius=3.0,
-                   limits=None, region=None):
+                   limits=None, region=None, ahead=None):
     """Read a DXF floor plan into a FloorPlan in metres.
 
     Parameters
@@ -169,6 +169,9 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
     region : (x0, y0, x1, y1), optional
         Build only the linework inside this box (drawing units): one of several drawings in
         model space. By default the floor plan among them is chosen (`views`).
+    ahead : clearway.converter.ahead.ReadAhead, optional
+        The file's text as another process read it ahead (`ahead.read_ahead`), to start
+        from (`read.read_drawing`); the result is the same without it.
 
     Returns
     -------
@@ -193,7 +196,7 @@ def read_floorplan(path, *, roles=None, units=None, chord_tolerance=0.001, gap_t
     options = dict(units=units, chord_tolerance=chord_tolerance, gap_tolerance=gap_tolerance,
                    max_wall_thickness=max_wall_thickness,
                    nominal_wall_thickness=nominal_wall_thickness, label_radius=label_radius,
-                   limits=limits, region=region)
+                   limits=limits, region=region, ahead=ahead)
     try:
         plan, mapping, whole = _read_plan(path, roles=roles, **options)
     except NoEnclosedFloor as error:
@@ -245,7 +248,7 @@ def _glob_literal(name):
 
 
 def _read_plan(path, *, roles, units, chord_tolerance, gap_tolerance, max_wall_thickness,
-               nominal_wall_thickness, label_radius, limits, region):
+               nominal_wall_thickness, label_radius, limits, region, ahead):
     """read_floorplan with these roles: return (FloorPlan, LayerMapping, whole), `whole` the
     drawing's parts by layer before the other drawings in model space were left out.
 
@@ -253,7 +256,7 @@ def _read_plan(path, *, roles, units, chord_tolerance, gap_tolerance, max_wall_t
     space.
     """
     mapping = map_drawing(path, roles=roles, units=units, chord_tolerance=chord_tolerance,
-                          limits=limits)
+                          limits=limits, ahead=ahead)
     content, unit, factor, note = mapping.content, mapping.units, mapping.m_per_unit, mapping.unit_note
     source = content.source
     if not any(content.counts.values()):

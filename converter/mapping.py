@@ -55,10 +55,11 @@ def _holds(content, name):
     return bool(content.counts.get(name)) or name in content.parts
 
 
-def map_drawing(path, *, roles, units, chord_tolerance, limits):
-    """Read `path`, give every layer its role and decide the unit; return a LayerMapping."""
+def map_drawing(path, *, roles, units, chord_tolerance, limits, ahead=None):
+    """Read `path`, give every layer its role and decide the unit; return a LayerMapping.
+    `ahead`: its text read ahead (`read.read_drawing`)."""
     content = read_drawing(path, chord_tolerance=chord_tolerance, units=units, limits=limits,
-                           block_kind=opening_kind)
+                           block_kind=opening_kind, ahead=ahead)
     source = content.source
     visible = {name for name, (frozen, off) in content.layer_states.items() if not (frozen or off)}
     role_of = {name: roles.role_of(name) for name in content.layer_states}

@@ -21,6 +21,7 @@ from __future__ import annotations
 import contextlib
 import hashlib
 import math
+import os
 import re
 import struct
 from collections import Counter, defaultdict
@@ -120,7 +121,8 @@ _HEADER_KEYS = ("$MEASUREMENT", "$LUNITS", "$DIMLUNIT", "$DIMLFAC")
 
 
 @paused_collector()  # ezdxf's many long-lived objects make each full collection costly
-def read_drawing(path, *, chord_tolerance, units=None, limits=None, block_kind=None):
+def read_drawing(path, *, chord_tolerance, units=None, limits=None, block_kind=None,
+                 ahead=None):
     """Read a drawing's model space into a DrawingContent (drawing units).
 
     Parameters
@@ -136,6 +138,10 @@ def read_drawing(path, *, chord_tolerance, units=None, limits=None, block_kind=N
     block_kind : callable, optional
         Block name -> "door", "window" or None: the contents of INSERTs of such blocks go
         to the opening pseudo-layers (see `inserts.BlockReader`).
+    ahead : clearway.converter.ahead.ReadAhead, optional
+        This file's text as another process read it ahead (`ahead.read_ahead`): its plain
+        entities are read and ezdxf reads the rest, as they would be here, where ezdxf reads
+        that rest as it stands; otherwise the file is read here.
 
     Raises
     ------
@@ -148,6 +154,13 @@ def read_drawing(path, *, chord_tolerance, units=None, limits=None, block_kind=N
     """
     limits = limits or Limits()
     source = Path(path).name
+    read = _read_cut(ahead.plain, TOLERATED_FIXES) \
+        if ahead is not None and ahead.path == os.fspath(path) else None
+    if read is not None:
+        content, reading = _read_model_space(read[0], source, ahead.sha256,
+                                             repair_notices(read[1]), chord_tolerance, units,
+                                             limits, read[2])
+        return _place_blocks(read[0], content, reading, limits, block_kind)
     data = load_bytes(path, limits)
     sha256 = hashlib.sha256(data).hexdigest()
     text = ordinary_text(data)
@@ -184,17 +197,22 @@ def _read_plainly(text, tolerated=frozenset(), fallback=True):
     or its audit finds anything but `tolerated`, and, without `fallback`, when the plain
     entities could not be read so (the caller reads the file its own way)."""
     plain = cut_plain_entities(text)
-    if plain is not None:
-        try:
-            read = read_sound(plain.text, tolerated=tolerated)
-        except RecursionError:
-            read = None         # parse_document says so of the whole file
-        if read is not None and plain.fit(read[0]):
-            return (*read, plain)
-    if not fallback:
-        return None
+    read = _read_cut(plain, tolerated) if plain is not None else None
+    if read is not None or not fallback:
+        return read
     read = read_sound(text, tolerated=tolerated)
     return None if read is None else (*read, None)
+
+
+def _read_cut(plain, tolerated):
+    """(document, auditor, `plain`) of the text `plain` was cut from: the rest read by ezdxf's
+    ordinary reader, where it reads it and its audit finds nothing but `tolerated`, and the
+    plain entities fit what it read (`PlainEntities.fit`); else None."""
+    try:
+        read = read_sound(plain.text, tolerated=tolerated)
+    except RecursionError:
+        read = None         # parse_document says so of the whole file
+    return (*read, plain) if read is not None and plain.fit(read[0]) else None
 
 
 def _halves(text):

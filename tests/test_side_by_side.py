@@ -175,6 +175,18 @@ def test_the_build_writes_the_same_bytes_with_one_process_or_two(tmp_path, sampl
     _same_outputs(_build(tmp_path, "one", "1", sample), _build(tmp_path, "two", "2", sample))
 
 
+@needs_fork
+def test_a_drawing_read_ahead_builds_the_same_bytes_with_one_process_or_two(tmp_path):
+    sys.path.insert(0, str(ROOT))
+    from benchmarks.synthetic import write_style
+    from clearway.converter.ahead import read_ahead
+    drawing = tmp_path / "mezzanines.dxf"
+    write_style(str(drawing), "mixed", 3500)
+    # with two processes the build reads its text ahead and feeds it to the reader
+    assert read_ahead(drawing) is not None
+    _same_outputs(_build(tmp_path, "one", "1", drawing), _build(tmp_path, "two", "2", drawing))
+
+
 def _same_outputs(one: Path, two: Path) -> None:
     names = sorted(path.name for path in one.iterdir())
     assert names == sorted(path.name for path in two.iterdir()) and "roadmap.svg" in names
