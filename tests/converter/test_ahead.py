@@ -13,6 +13,7 @@ import pytest
 
 import clearway.converter.ahead as ahead
 import clearway.converter.read as read
+from clearway.converter.filetext import rough_work
 from clearway.converter.read import read_drawing
 from tests.conftest import new_drawing, rectangle, walled_room
 from tests.converter.test_document import contents
@@ -124,3 +125,18 @@ def test_the_build_process_reads_ahead_without_importing_ezdxf(tmp_path):
     done = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True,
                           check=True)
     assert done.stdout.split() == ["True", "False"]
+
+
+def test_a_drawing_with_windows_line_ends_is_read_ahead_as_one_with_unix_ones(tmp_path,
+                                                                             monkeypatch):
+    # common practice: AutoCAD on Windows ends each line of a DXF file in CR LF
+    unix = warehouse(tmp_path / "unix.dxf")
+    windows = tmp_path / "windows.dxf"
+    windows.write_bytes(unix.read_bytes().replace(b"\n", b"\r\n"))
+    work = rough_work(unix.read_bytes())
+    assert work == rough_work(windows.read_bytes()) > 300
+    monkeypatch.setattr(ahead, "READ_AHEAD_WORK", work)
+    early = ahead.read_ahead(windows)
+    assert early is not None and early.plain.text == ahead.read_ahead(unix).plain.text
+    given = read_drawing(windows, chord_tolerance=0.001, ahead=early)
+    assert _contents_of(given) == contents(windows) == contents(unix)
