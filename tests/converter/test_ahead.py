@@ -6,8 +6,10 @@ The reference is ezdxf: its ordinary reader on the whole file, with nothing take
 
 from __future__ import annotations
 
+import os
 import subprocess
 import sys
+import threading
 
 import pytest
 
@@ -15,7 +17,7 @@ import clearway.converter.ahead as ahead
 import clearway.converter.read as read
 from clearway.converter.filetext import rough_work
 from clearway.converter.read import read_drawing
-from tests.conftest import new_drawing, rectangle, walled_room
+from tests.conftest import SAMPLES, new_drawing, rectangle, walled_room
 from tests.converter.test_document import contents
 
 
@@ -140,3 +142,25 @@ def test_a_drawing_with_windows_line_ends_is_read_ahead_as_one_with_unix_ones(tm
     assert early is not None and early.plain.text == ahead.read_ahead(unix).plain.text
     given = read_drawing(windows, chord_tolerance=0.001, ahead=early)
     assert _contents_of(given) == contents(windows) == contents(unix)
+
+
+@pytest.mark.skipif(not hasattr(os, "mkfifo"), reason="named pipes are a POSIX thing")
+def test_a_drawing_piped_in_is_left_to_the_reader(tmp_path):
+    # a pipe can be read once: read ahead, the reader would find it empty, or wait on it
+    pipe = tmp_path / "plan.dxf"
+    os.mkfifo(pipe)
+    drawing = (SAMPLES / "clinic.dxf").read_bytes()
+    writer = threading.Thread(target=pipe.write_bytes, args=(drawing,))
+    writer.start()
+    try:
+        assert ahead.read_ahead(pipe) is None               # reading nothing
+        done = subprocess.run([sys.executable, "-m", "clearway", "build", str(pipe), "-o",
+                               str(tmp_path / "out"), "-q"], capture_output=True, text=True,
+                              timeout=60)
+    finally:
+        if writer.is_alive():                               # nobody read it: unblock
+            with open(pipe, "rb") as end:
+                end.read()
+        writer.join()
+    assert done.returncode == 0, done.stderr
+    assert (tmp_path / "out" / "roadmap.graphml").exists()
