@@ -55,9 +55,9 @@ def read_ahead(path, limits=None) -> ReadAhead | None:
     """The text of the drawing at `path`, checked and cut (`plain.cut_plain_entities`), or
     None where the reader does otherwise, or may as well: it is not a regular file (a pipe
     is read once, by the reader), the file cannot be read or is refused (the reader says
-    why), it is less work than READ_AHEAD_WORK (roughly:
-    `filetext.rough_work`), its model space may be read in two halves (a rough work of
-    SPLIT_WORK or more), it is not sound, or it has no plain entities.
+    why), it is less work than READ_AHEAD_WORK (roughly: `filetext.rough_work`), its model
+    space may be read in two halves (a rough work of SPLIT_WORK or more), it is not sound,
+    or it has no plain entities.
 
     Examples
     --------

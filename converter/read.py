@@ -139,9 +139,10 @@ def read_drawing(path, *, chord_tolerance, units=None, limits=None, block_kind=N
         Block name -> "door", "window" or None: the contents of INSERTs of such blocks go
         to the opening pseudo-layers (see `inserts.BlockReader`).
     ahead : clearway.converter.ahead.ReadAhead, optional
-        This file's text as another process read it ahead (`ahead.read_ahead`): its plain
-        entities are read and ezdxf reads the rest, as they would be here, where ezdxf reads
-        that rest as it stands; otherwise the file is read here.
+        This file's text as another process read it ahead (`ahead.read_ahead`). Where
+        ezdxf's ordinary reader reads the rest as it stands, the plain entities taken out
+        there are read with it, as they would have been here; otherwise the file is read
+        here.
 
     Raises
     ------

@@ -18,7 +18,7 @@ import clearway.converter.read as read
 from clearway.converter.filetext import rough_work
 from clearway.converter.read import read_drawing
 from tests.conftest import SAMPLES, new_drawing, rectangle, walled_room
-from tests.converter.test_document import contents
+from tests.converter.test_document import contents, values_of
 
 
 def warehouse(path, bays=60):
@@ -65,28 +65,14 @@ def test_read_ahead_a_drawing_reads_as_ezdxf_reads_it_whole(tmp_path, any_work, 
     given = read_drawing(path, chord_tolerance=0.001, ahead=early)
     with monkeypatch.context() as patch:
         patch.setattr(read, "cut_plain_entities", lambda text: None)
-        patch.setattr(ahead, "read_ahead", lambda *args: None)
-        assert contents(path) == _contents_of(given)         # source: ezdxf, the whole file
+        assert contents(path) == values_of(given)         # source: ezdxf, the whole file
         assert (given.source, given.sha256) == with_sha(path)
-
-
-def _contents_of(content):
-    """`test_document.contents` of a DrawingContent already read."""
-    def plain_parts(by_layer):
-        return {layer: (parts.coords.tobytes(), parts.offsets.tobytes(), parts.kinds.tobytes())
-                for layer, parts in by_layer.items()}
-    return (content.insunits, content.layer_states,
-            {k: dict(v) for k, v in content.counts.items()},
-            plain_parts(content.parts), plain_parts(content.footprints), content.points,
-            content.texts, content.attribute_texts, content.inserts, content.dimensions,
-            content.header, dict(content.skipped), content.paperspace, content.warnings,
-            content.repairs, content.drawing_date)
 
 
 def test_what_was_read_ahead_of_another_file_is_not_used(tmp_path, any_work):
     first, second = warehouse(tmp_path / "a.dxf", 30), warehouse(tmp_path / "b.dxf", 45)
     given = read_drawing(second, chord_tolerance=0.001, ahead=ahead.read_ahead(first))
-    assert _contents_of(given) == contents(second)
+    assert values_of(given) == contents(second)
     assert given.sha256 == with_sha(second)[1]
 
 
@@ -101,7 +87,7 @@ def test_a_cut_ezdxf_would_repair_sends_the_reader_to_the_file(tmp_path, any_wor
     assert early is not None and "NOBAY" in [values[0] for values in early.plain.values
                                              if isinstance(values[0], str)]
     given = read_drawing(path, chord_tolerance=0.001, ahead=early)
-    assert given.repairs and _contents_of(given) == contents(path)
+    assert given.repairs and values_of(given) == contents(path)
 
 
 def test_light_halved_unsound_or_missing_drawings_are_not_read_ahead(tmp_path, monkeypatch):
@@ -141,7 +127,7 @@ def test_a_drawing_with_windows_line_ends_is_read_ahead_as_one_with_unix_ones(tm
     early = ahead.read_ahead(windows)
     assert early is not None and early.plain.text == ahead.read_ahead(unix).plain.text
     given = read_drawing(windows, chord_tolerance=0.001, ahead=early)
-    assert _contents_of(given) == contents(windows) == contents(unix)
+    assert values_of(given) == contents(windows) == contents(unix)
 
 
 @pytest.mark.skipif(not hasattr(os, "mkfifo"), reason="named pipes are a POSIX thing")

@@ -30,8 +30,11 @@ def drawing_bytes(tmp_path, version="R2010"):
 
 def contents(path):
     """What clearway reads from `path`, as comparable plain values."""
-    content = read_drawing(path, chord_tolerance=0.001)
+    return values_of(read_drawing(path, chord_tolerance=0.001))
 
+
+def values_of(content):
+    """A DrawingContent as comparable plain values (its digest and file name left out)."""
     def plain(by_layer):
         return {layer: (parts.coords.tobytes(), parts.offsets.tobytes(), parts.kinds.tobytes())
                 for layer, parts in by_layer.items()}
