@@ -108,7 +108,13 @@ def test_each_manoeuvre_is_judged_on_its_own(seed):
     assert len(manoeuvres) >= 9
     together = car_gaps(robot, field, manoeuvres, floor)
     alone = [car_gaps(robot, field, [manoeuvre], floor)[0] for manoeuvre in manoeuvres]
-    assert together.tolist() == alone
+    if int(np.__version__.split(".")[0]) >= 2:
+        assert together.tolist() == alone
+    else:
+        # under numpy 1.x (CI's run on the oldest versions) the same manoeuvres judged twice
+        # in one process have differed in the last bits (seed 1: 3 of 16 runs, 12 units in
+        # the last place): the figures agree to a few units in the last place there
+        np.testing.assert_array_max_ulp(together, np.array(alone), maxulp=64)
     refused = together < robot.margin - 1e-9
     assert refused.any() and not refused.all()             # both kinds of answer tried
 
