@@ -2,8 +2,10 @@
 
 The file is opened by `document` (byte checks, ezdxf's ordinary reader or its recovery),
 entities are flattened by `entities` (a dispatch table per entity type) and blocks placed by
-`inserts`. These modules (and `sound`, `plain`) are the only ones that import ezdxf;
-nothing from ezdxf leaves them.
+`inserts`. These modules (and `PlainEntities.fit` in `plain`) are the only ones that import
+ezdxf; nothing from ezdxf leaves them. The checks of the file and its text (`filetext`,
+`sound`) and the cut of its plain entities need none of it, so that the build process can
+do them ahead of the reader (`ahead`).
 
 INSERTs, LINEs and LWPOLYLINEs written plainly (`plain.cut_plain_entities`: a warehouse's
 bays and most of its linework) are taken out of a sound file's text and read from it

@@ -4,7 +4,8 @@ The same at every file-system step, deterministically: tests/test_cli_interrupt_
 Each build runs as its own process (``python -c 'from clearway.cli import script;
 script()'``, what the `clearway` script runs), as from a shell or a scheduler. After an
 interrupt OUTDIR holds the previous set byte for byte or the complete new one, never a mix
-and never a temporary file; two builds into one folder leave the four files of one of them. Set CLEARWAY_SIGNAL_RUNS for more runs by hand, e.g.
+and never a temporary file; two builds into one folder leave the files of one of them. Set
+CLEARWAY_SIGNAL_RUNS for more runs by hand, e.g.
 
     CLEARWAY_SIGNAL_RUNS=40 pytest tests/test_cli_interrupts.py -q -s
 """
