@@ -19,6 +19,7 @@ __getattr__, __dir__, __all__ = lazy_exports(__name__, {
     "Room": "model",
     "StationResult": "model",
     "build_roadmap": "build",
+    "drivable_floor": "inflate",
     "generalized_voronoi": "gvd",
     "medial_axis": "gvd",
     "GraphChanges": "compare",

@@ -19,9 +19,8 @@ from clearway.roadmap.gvd import medial_axis
 from clearway.roadmap.graph import (_adjacency, chain_lanes, contract_short_edges, prune_spurs,
                            split_loops)
 from clearway.roadmap.clearance import clearance_field
-from clearway.roadmap.inflate import (boundary_segments, drivable_region,
-                             local_offset, polygon_parts, polylines, reached_parts, to_drawing,
-                             to_local)
+from clearway.roadmap.inflate import (ABOVE_CLEARANCE, boundary_segments, drivable_region,
+                             local_floor, polygon_parts, polylines, reached_parts, to_drawing)
 from clearway.roadmap.body import fit_edges, fit_lanes
 from clearway.roadmap.model import BodyShortfall, Robot, Roadmap
 from clearway.roadmap.turns import car_bends, check_turns
@@ -159,18 +158,12 @@ def build_roadmap(obstacles: Mapping[str, object], free_space, stations: Sequenc
         if not (np.isfinite(value) and value >= 0):
             raise ValueError(f"{name} must be >= 0, got {value}")
     c = float(robot.clearance)
-    # 1 um above c, so a gap of exactly 2c is a wall for lanes and drivable region alike
-    threshold = c + 1e-6
+    threshold = c + ABOVE_CLEARANCE
     comfort = (default_comfort_clearance(c) if comfort_clearance is None
                else float(comfort_clearance))
     report = progress or (lambda stage: None)
-    parts = polygon_parts(free_space)
-    if len(parts) == 0:
-        raise ValueError("free space is empty; nothing to build a roadmap on")
-    offset = local_offset(shapely.total_bounds(parts))
-    local = shapely.MultiPolygon(list(to_local(parts, offset)))
-    if not shapely.is_valid(local):
-        local = shapely.MultiPolygon(list(polygon_parts(shapely.make_valid(local))))
+    # the drivable region is made the same way by drivable_floor, before the lanes
+    local, offset = local_floor(free_space)
 
     report("inflating")
     regions = drivable_region(local, threshold)

@@ -31,6 +31,9 @@ SLIVER_PERIMETER = 4.0
 HAIRLINE = 0.001
 #: Input vertices are snapped to this grid in the local frame, metres (0.1 mm).
 SNAP_GRID = 1e-4
+#: The drivable region is where the clearance exceeds c by more than this, metres: 1 um, so
+#: a gap of exactly 2c is a wall for the lanes and the drivable region alike.
+ABOVE_CLEARANCE = 1e-6
 
 
 def local_offset(bounds) -> tuple[float, float]:
@@ -70,6 +73,38 @@ def to_drawing(geometry, offset):
     if not shift.any():
         return geometry
     return shapely.transform(geometry, lambda xy: xy + shift)
+
+
+def local_floor(free_space) -> tuple[shapely.MultiPolygon, tuple[float, float]]:
+    """The free space in the local frame the roadmap is computed in: (floor, offset).
+
+    Its polygons shifted by ``-offset`` (:func:`local_offset` of their extents) and snapped to
+    SNAP_GRID, made valid again where the snapping spoilt them. ValueError when the free
+    space holds no polygon.
+    """
+    parts = polygon_parts(free_space)
+    if len(parts) == 0:
+        raise ValueError("free space is empty; nothing to build a roadmap on")
+    offset = local_offset(shapely.total_bounds(parts))
+    local = shapely.MultiPolygon(list(to_local(parts, offset)))
+    if not shapely.is_valid(local):
+        local = shapely.MultiPolygon(list(polygon_parts(shapely.make_valid(local))))
+    return local, offset
+
+
+def drivable_floor(free_space, clearance: float):
+    """The roadmap's drivable region (``Roadmap.drivable``) of `free_space` for a required
+    clearance of `clearance` metres, in the drawing's frame: what `build_roadmap` makes of
+    the same floor, coordinate for coordinate, known before the lanes are.
+
+    Examples
+    --------
+    >>> round(drivable_floor(shapely.box(0, 0, 10, 2), 0.5).area, 4)
+    9.0
+    """
+    local, offset = local_floor(free_space)
+    regions = drivable_region(local, float(clearance) + ABOVE_CLEARANCE)
+    return to_drawing(shapely.MultiPolygon(list(regions)), offset)
 
 
 def polylines(coordinates) -> np.ndarray:
