@@ -7,7 +7,9 @@ Five uses, each of work that does not depend on the rest:
   floor plan back. First, while the reader imports ezdxf, this process reads the drawing's
   text ahead and feeds it to the reader (:meth:`Aside.feed`, :func:`fed`). While that
   reader parses a large drawing in two halves (next), this process holds back its imports
-  (:func:`every_core_busy`, :meth:`Aside.hold`);
+  (:func:`every_core_busy`, :meth:`Aside.hold`). Once it has sent the plan, the reader
+  draws a large floor's areas for the outputs while this process builds the lanes
+  (``Aside(then=)``, :meth:`Aside.later`; clearway.exporters.floor);
 - that reader parses a large model space in two halves, the second in a process of its own
   (clearway.converter.read): on two cores the 4 MB drawing of the mixed suite floor at 20,000
   bays, as first drawn, is read in 2.94 s instead of 4.02 s (the benchmark suite's reading
@@ -52,6 +54,7 @@ import os
 import pickle
 import select
 import signal
+import struct
 import sys
 import threading
 import traceback
@@ -200,6 +203,11 @@ class Aside:
     this process can give the child one value after the fork (:meth:`feed`), which the
     child takes with :func:`fed`.
 
+    With `then`, a function of the result, the child goes on once it has sent the result:
+    it calls ``then(result)`` at the lowest priority (nice 19, so that it takes only the
+    time the other processes leave) and sends that too, for :meth:`later`. Where the
+    function runs here, `then` is not called.
+
     Leaving the block before :meth:`result` (an error, Ctrl-C, SIGTERM) kills and reaps the
     child.
 
@@ -212,8 +220,10 @@ class Aside:
     """
 
     def __init__(self, function: Callable[[], object], fork: bool = True,
-                 listen: bool = False, fed: bool = False):
+                 listen: bool = False, fed: bool = False,
+                 then: Callable[[object], object] | None = None):
         self.function = function
+        self.then = then
         self.fork = fork
         self.listen = listen
         self.fed = fed
@@ -224,6 +234,7 @@ class Aside:
         self.busy = False      # the child last said it keeps every core busy
         self.done = False
         self.value = None
+        self.forked = False    # the function runs (or ran) in a child
 
     def __enter__(self) -> "Aside":
         if not (self.fork or forced()) or not can_fork():
@@ -251,7 +262,7 @@ class Aside:
                     os.close(end)
             _telling, _feeding = tell, food
             _die_with(parent)
-            _child(self.function, write_end)
+            _child(self.function, write_end, self.then)
         gc.unfreeze()
         os.close(write_end)
         if tell is not None:
@@ -261,6 +272,7 @@ class Aside:
             os.close(food)
             self.feeding = feed
         self.pid, self.pipe = pid, os.fdopen(read_end, "rb")
+        self.forked = True
         return self
 
     def hold(self) -> None:
@@ -316,16 +328,43 @@ class Aside:
             self.value, self.done = self.function(), True
             return self.value
         self._stop_feeding()           # nothing more will come: the child's fed() gives None
-        payload = self.pipe.read()
-        self.pipe.close()
-        os.waitpid(self.pid, 0)
-        self.pid, self.done = None, True
-        status, value = pickle.loads(payload) if payload else (
-            "error", RuntimeError("the second process ended without a result"))
+        status, value = self._receive()
+        if self.then is None or status != "ok":
+            self._reap()
+        self.done = True
         if status != "ok":
             raise value
         self.value = value
         return value
+
+    def later(self):
+        """What `then` made of the result in the child, once it has come (the result is
+        taken first); its exception, raised here, if it raised one. None where the function
+        ran here, or without `then`.
+        """
+        if not self.forked or self.then is None:
+            return None
+        self.result()
+        if self.pid is None:
+            return None
+        status, value = self._receive()
+        self._reap()
+        if status != "ok":
+            raise value
+        return value
+
+    def _receive(self):
+        """The next (status, value) the child sent (:func:`_send`)."""
+        head = self.pipe.read(_SIZE.size)
+        payload = self.pipe.read(_SIZE.unpack(head)[0]) if len(head) == _SIZE.size else b""
+        if not payload:
+            return "error", RuntimeError("the second process ended without a result")
+        return pickle.loads(payload)
+
+    def _reap(self) -> None:
+        self.pipe.close()
+        os.waitpid(self.pid, 0)
+        self.pid = None
 
     def __exit__(self, *exc) -> None:
         if self.told is not None:
@@ -370,8 +409,14 @@ def _die_with(parent: int) -> None:
         os._exit(1)
 
 
-def _child(function, write_end) -> None:
-    """Run in the forked child: call `function`, pickle the outcome into the pipe, _exit."""
+#: The length of each pickle a child sends, before it (8 bytes, little-endian).
+_SIZE = struct.Struct("<Q")
+
+
+def _child(function, write_end, then=None) -> None:
+    """Run in the forked child: call `function`, pickle the outcome into the pipe; with
+    `then`, call it with the result at the lowest priority and pickle that outcome too;
+    _exit."""
     code = 0
     # the child does one piece of work and ends: the collector would only rescan what the
     # work leaves behind (the reader's ezdxf document, one pass of 0.07 s on the mixed suite
@@ -379,24 +424,40 @@ def _child(function, write_end) -> None:
     gc.disable()
     try:
         signal.signal(signal.SIGTERM, signal.SIG_DFL)
-        try:
-            outcome = ("ok", function())
-        except BaseException as err:  # noqa: BLE001 - every failure goes back to the parent
-            # its traceback stays here: the frames go back as text, in a note on it
-            err.add_note("in the second process:\n"
-                         + "".join(traceback.format_tb(err.__traceback__)).rstrip())
-            outcome = ("error", err)
-        try:
-            payload = pickle.dumps(outcome, protocol=pickle.HIGHEST_PROTOCOL)
-        except Exception:  # noqa: BLE001 - an exception that cannot be pickled
-            err = outcome[1]
-            payload = pickle.dumps(("error", RuntimeError(f"{type(err).__name__}: {err}")))
         with os.fdopen(write_end, "wb") as pipe:
-            pipe.write(payload)
+            outcome = _outcome(function)
+            _send(pipe, outcome)
+            if then is not None and outcome[0] == "ok":
+                pipe.flush()
+                with contextlib.suppress(OSError, AttributeError):
+                    os.nice(19)
+                _send(pipe, _outcome(lambda: then(outcome[1])))
     except BaseException:  # noqa: BLE001 - the parent reports a missing result
         code = 1
     finally:
         os._exit(code)
+
+
+def _outcome(function) -> tuple[str, object]:
+    """("ok", function()) or ("error", the exception it raised)."""
+    try:
+        return "ok", function()
+    except BaseException as err:  # noqa: BLE001 - every failure goes back to the parent
+        # its traceback stays here: the frames go back as text, in a note on it
+        err.add_note("in the second process:\n"
+                     + "".join(traceback.format_tb(err.__traceback__)).rstrip())
+        return "error", err
+
+
+def _send(pipe, outcome) -> None:
+    """Write `outcome` to `pipe` as a pickle after its length."""
+    try:
+        payload = pickle.dumps(outcome, protocol=pickle.HIGHEST_PROTOCOL)
+    except Exception:  # noqa: BLE001 - an exception that cannot be pickled
+        err = outcome[1]
+        payload = pickle.dumps(("error", RuntimeError(f"{type(err).__name__}: {err}")))
+    pipe.write(_SIZE.pack(len(payload)))
+    pipe.write(payload)
 
 
 def _stop(pid: int) -> None:

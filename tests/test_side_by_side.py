@@ -461,3 +461,59 @@ def _wait_for_exit(pid, seconds=20.0):
     while Path(f"/proc/{pid}/status").read_text().split("State:")[1].split()[0] != "Z":
         assert time.monotonic() < deadline, "the child did not end"
         time.sleep(0.01)
+
+
+@needs_fork
+def test_then_goes_on_in_the_child_after_the_result_at_the_lowest_priority(one_thread, tmp_path):
+    # the reader, once it has sent the plan, draws the floor's areas for the outputs
+    release = tmp_path / "release"
+
+    def after(pid):
+        _wait_for(release)           # the result came while `then` was still at work
+        return pid, os.getpid(), os.nice(0), os.urandom(3 * runner.FEED_PIPE)
+
+    mine = os.nice(0)
+    with Aside(os.getpid, then=after) as child:
+        first = child.result()
+        release.touch()
+        pid, there, nice, payload = child.later()
+        assert child.later() is None                # given once
+    # source: POSIX nice(); 19 is the lowest priority an unprivileged process can take
+    assert first == pid == there != os.getpid() and nice == 19
+    assert len(payload) == 3 * runner.FEED_PIPE     # more than the pipe holds
+    assert os.nice(0) == mine                       # this process keeps its priority
+
+
+@needs_fork
+def test_an_error_in_then_is_raised_by_later_and_a_failed_result_skips_then(one_thread,
+                                                                           tmp_path):
+    def fails(_):
+        raise ClearwayError("floor: no areas")
+
+    with Aside(lambda: 1, then=fails) as child:
+        assert child.result() == 1
+        with pytest.raises(ClearwayError, match="no areas") as caught:
+            child.later()
+    assert any("in the second process" in note for note in caught.value.__notes__)
+
+    called = tmp_path / "called"
+    with pytest.raises(ZeroDivisionError):
+        with Aside(lambda: 1 / 0, then=lambda _: called.touch()) as child:
+            child.later()
+    assert not called.exists()
+
+
+@needs_fork
+def test_leaving_before_later_stops_the_child_at_work_on_then(one_thread):
+    before, start = _children(), time.monotonic()
+    with Aside(lambda: "plan", then=lambda _: time.sleep(30)) as child:
+        assert child.result() == "plan"
+    assert time.monotonic() - start < 10 and _children() <= before
+
+
+def test_where_the_work_runs_here_then_is_not_called(monkeypatch):
+    monkeypatch.setenv("CLEARWAY_PROCESSES", "1")
+    called = []
+    with Aside(lambda: "plan", then=lambda _: called.append(1)) as child:
+        assert child.result() == "plan" and child.later() is None
+    assert called == [] and not child.forked
