@@ -10,8 +10,10 @@ from clearway.lazy import lazy_exports
 
 #: Public name -> the module defining it; imported on first use (see clearway/lazy.py).
 __getattr__, __dir__, __all__ = lazy_exports(__name__, {
+    "FloorDrawn": "floor",
     "SAFETY_CAUTION": "text",
     "check_anchor": "anchor",
+    "draw_floor": "floor",
     "clearance_band": "svg_parts",
     "finish_interrupted_set": "files",
     "oriented_edges": "graphml",

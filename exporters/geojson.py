@@ -151,8 +151,15 @@ def floor_outline(band) -> MultiPolygon:
     return _as_multipolygon(shapely.union_all(polygons).buffer(-half, join_style="mitre"))
 
 
-def _area_features(plan, roadmap, project) -> list[dict]:
-    sources = dict(plan.regions) | {"free": plan.free_space, "drivable": roadmap.drivable}
+def area_lines(plan, drivable, anchor=None) -> list[str]:
+    """The lines of the GeoJSON that hold the plan's areas and the drivable region: one
+    feature each, by AREA_ROLES, projected with `anchor` (checked, as ``check_anchor``
+    returns it; None: drawing metres)."""
+    return [compact_json(feature) for feature in _area_features(plan, drivable, _project(anchor))]
+
+
+def _area_features(plan, drivable, project) -> list[dict]:
+    sources = dict(plan.regions) | {"free": plan.free_space, "drivable": drivable}
     sources["boundary"] = floor_outline(_as_multipolygon(plan.regions.get("boundary")))
     features = []
     for role in AREA_ROLES:
@@ -247,7 +254,7 @@ def coordinate_system(anchor=None) -> dict:
 
 
 @paused_collector()  # many small containers, none in a cycle: see collector.py
-def render_geojson(plan, roadmap, *, anchor=None, edges=None) -> bytes:
+def render_geojson(plan, roadmap, *, anchor=None, edges=None, floor=None) -> bytes:
     """Return the floor and the roadmap as RFC 7946 GeoJSON bytes (UTF-8, deterministic).
 
     Parameters
@@ -259,6 +266,8 @@ def render_geojson(plan, roadmap, *, anchor=None, edges=None) -> bytes:
         coordinates are the drawing's local metres.
     edges : list, optional
         ``graphml.oriented_edges(roadmap.graph)`` when the caller has it already.
+    floor : exporters.floor.FloorDrawn, optional
+        The areas drawn already, used where they fit.
 
     Returns
     -------
@@ -283,10 +292,11 @@ def render_geojson(plan, roadmap, *, anchor=None, edges=None) -> bytes:
         "caution": SAFETY_CAUTION,
     }
     rooms, openings = _room_features(roadmap, project)
-    features = (_area_features(plan, roadmap, project) + rooms
-                + _graph_features(roadmap, project, edges) + _station_features(plan, roadmap, project)
-                + openings)
+    features = (rooms + _graph_features(roadmap, project, edges)
+                + _station_features(plan, roadmap, project) + openings)
+    areas = floor.geojson_lines if floor is not None and floor.anchor == anchor \
+        and floor.fits(roadmap) else area_lines(plan, roadmap.drivable, anchor)
     head = json.dumps(header, ensure_ascii=False, allow_nan=False)[:-1]
-    lines = [compact_json(f) for f in features]
+    lines = areas + [compact_json(f) for f in features]
     body = ",\n".join(lines)
     return (head + ', "features": [\n' + body + "\n]}\n").encode("utf-8")

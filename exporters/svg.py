@@ -37,12 +37,14 @@ _A3 = (420.0, 297.0)   # mm, ISO 216
 _PX_PER_MM = 96 / 25.4  # CSS Values and Units: 1 in = 96 px = 25.4 mm
 
 
-def _bounds(plan, roadmap) -> tuple[float, float, float, float]:
-    geometries = [*plan.regions.values(), plan.free_space, roadmap.drivable]
+def plan_bounds(plan, drivable, graph=None) -> tuple[float, float, float, float]:
+    """The extents the preview is drawn to: the plan's areas, `drivable`, the stations and
+    the nodes of `graph` (none when None)."""
+    geometries = [*plan.regions.values(), plan.free_space, drivable]
     boxes = [g.bounds for g in geometries if g is not None and not g.is_empty]
     # the stations and nodes as one array, not as shapely points (tens of thousands of them)
     points = [(s.x, s.y) for s in plan.stations] + \
-        [(d["x"], d["y"]) for _, d in roadmap.graph.nodes(data=True)]
+        ([(d["x"], d["y"]) for _, d in graph.nodes(data=True)] if graph is not None else [])
     if points:
         xy = np.array(points, dtype=float)
         boxes.append((*xy.min(axis=0), *xy.max(axis=0)))
@@ -127,7 +129,20 @@ def _wrap(text: str, width: int) -> list[str]:
 
 
 @paused_collector()  # many small containers, none in a cycle: see collector.py
-def render_svg(plan, roadmap, *, date: str, band=None, edges=None) -> bytes:
+def area_paths(plan, band, origin) -> dict[str, str]:
+    """Path data of the plan's areas and the clearance `band` relative to `origin`, by role:
+    every role of AREA_STYLE but "closed" (the unreachable rooms, which the lanes decide)
+    whose area is not empty."""
+    areas = {"free": plan.free_space, "band": band, **dict(plan.regions)}
+    return {role: path_data(_moved(areas[role], origin)) for role in AREA_STYLE
+            if areas.get(role) is not None and not areas[role].is_empty}
+
+
+def _moved(geometry, origin):
+    return shapely.transform(geometry, lambda xy: xy - origin)
+
+
+def render_svg(plan, roadmap, *, date: str, band=None, edges=None, floor=None) -> bytes:
     """Return the SVG preview as UTF-8 bytes (deterministic for the same input and date).
 
     Parameters
@@ -141,6 +156,8 @@ def render_svg(plan, roadmap, *, date: str, band=None, edges=None) -> bytes:
         ``svg_parts.clearance_band(plan, roadmap)`` when the caller has it already.
     edges : list, optional
         ``graphml.oriented_edges(roadmap.graph)`` when the caller has it already.
+    floor : exporters.floor.FloorDrawn, optional
+        The areas drawn already, used where they fit (then `band` is not needed).
 
     Returns
     -------
@@ -149,13 +166,10 @@ def render_svg(plan, roadmap, *, date: str, band=None, edges=None) -> bytes:
         (x - x0, -(y - y0)) with (x0, y0) = ``drawing_origin`` (zero unless the plan lies at
         survey coordinates), plus a margin and the title block below the plan.
     """
-    bounds = _bounds(plan, roadmap)
+    bounds = plan_bounds(plan, roadmap.drivable, roadmap.graph)
     origin = drawing_origin(bounds)
     ox, oy = origin
     xmin, ymin, xmax, ymax = np.subtract(bounds, [ox, oy, ox, oy]).tolist()
-
-    def local(geometry):
-        return shapely.transform(geometry, lambda xy: xy - origin)
 
     width, height = xmax - xmin, ymax - ymin
     size = max(width, height)
@@ -183,16 +197,18 @@ def render_svg(plan, roadmap, *, date: str, band=None, edges=None) -> bytes:
     etree.SubElement(root, "rect", x=number(left), y=number(top), width=number(canvas_width),
                      height=number(canvas_height), fill="#ffffff")
 
-    floor = etree.SubElement(root, "g", id="floor")
-    band = clearance_band(plan, roadmap) if band is None else band
+    if floor is not None and floor.svg_origin == (ox, oy) and floor.fits(roadmap):
+        paths = dict(floor.svg_paths)
+    else:
+        paths = area_paths(plan, clearance_band(plan, roadmap) if band is None else band, origin)
     closed = [room.polygon for room in roadmap.rooms if not room.reachable]
-    areas = {"free": plan.free_space, "band": band,
-             "closed": shapely.union_all(closed) if closed else None, **dict(plan.regions)}
-    areas = {role: local(area) for role, area in areas.items() if area is not None}
+    closed = shapely.union_all(closed) if closed else None
+    if closed is not None and not closed.is_empty:
+        paths["closed"] = path_data(_moved(closed, origin))
+    layer = etree.SubElement(root, "g", id="floor")
     for role, style in AREA_STYLE.items():
-        geometry = areas.get(role)
-        if geometry is not None and not geometry.is_empty:
-            etree.SubElement(floor, "path", d=path_data(geometry), id=f"area-{role}",
+        if role in paths:
+            etree.SubElement(layer, "path", d=paths[role], id=f"area-{role}",
                              **{"fill-rule": "evenodd"}, **style(font))
 
     bins = lane_bins(roadmap.robot.clearance)
@@ -276,8 +292,7 @@ def render_svg(plan, roadmap, *, date: str, band=None, edges=None) -> bytes:
     present = {kind for kind, *_ in symbols}
     if facing:                          # the legend's station shows its heading line
         present = (present - {"station"}) | {"facing"}
-    drawn = {role for role in AREA_STYLE
-             if areas.get(role) is not None and not areas[role].is_empty}
+    drawn = set(paths)
 
     _add_title_block(root, plan, roadmap, date, bins, left, -ymin + pad, canvas_width, font,
                      origin, (drawn, present), unlabelled={"pinch": unlabelled})

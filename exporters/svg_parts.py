@@ -171,8 +171,14 @@ def clearance_band(plan, roadmap):
     None when the plan has no free space. The preview and the viewer page both draw it; a
     build computes it once and hands it to both (``band=``).
     """
-    free = plan.free_space
-    return free.difference(roadmap.drivable) if free is not None and not free.is_empty else None
+    return floor_band(plan.free_space, roadmap.drivable)
+
+
+def floor_band(free_space, drivable):
+    """``clearance_band`` of a free space and a drivable region (None without free space)."""
+    if free_space is None or free_space.is_empty:
+        return None
+    return free_space.difference(drivable)
 
 
 def lane_bins(clearance: float) -> np.ndarray:
