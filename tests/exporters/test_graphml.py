@@ -4,11 +4,14 @@ from __future__ import annotations
 
 import io
 import re
+from pathlib import Path
 
 import igraph
 import networkx as nx
 import pytest
 import shapely
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from lxml import etree
 
 from clearway.exporters import read_graphml, render_graph, render_graphml
@@ -165,3 +168,93 @@ def test_hostile_label_is_escaped_and_kept_except_xml_illegal_controls(plan, roa
     assert read.nodes["n3"]["label"] == expected == xml_text(HOSTILE)
     assert "\u200f" in expected and "Süd" in expected
     assert read.graph["source"] == "hall <1>.dxf"
+
+
+def _written_by_lxml(graph) -> bytes:
+    """The GraphML of `graph` written element by element with lxml, as clearway wrote it
+    before it wrote the text itself: the reference for `render_graph`'s bytes."""
+    from clearway.exporters.graphml import _text, linestring_wkt, oriented_edges
+    from clearway.exporters.graphml_keys import (GRAPHML_NS, KEYS, OPTIONAL_KEYS,
+                                                 SCHEMA_LOCATION, XSI_NS, key_id)
+    from clearway.sorting import natural_key
+    q = f"{{{GRAPHML_NS}}}"
+    present = [(domain, name, kind) for domain, name, kind in OPTIONAL_KEYS
+               if any(name in attrs for *_, attrs in (graph.nodes(data=True) if domain == "node"
+                                                     else graph.edges(data=True)))]
+    keys = sorted(KEYS + tuple(present), key=lambda key: ("gne".index(key[0][0]), key[1]))
+    written = {domain: {} for domain in ("graph", "node", "edge")}
+    for domain, name, kind in keys:
+        written[domain][name] = (key_id(domain, name), kind)
+    root = etree.Element(q + "graphml", nsmap={None: GRAPHML_NS, "xsi": XSI_NS})
+    root.set(f"{{{XSI_NS}}}schemaLocation", SCHEMA_LOCATION)
+    for domain, name, kind in keys:
+        etree.SubElement(root, q + "key", {"id": key_id(domain, name), "for": domain,
+                                           "attr.name": name, "attr.type": kind})
+    element = etree.SubElement(root, q + "graph", {"id": "roadmap", "edgedefault": "undirected"})
+
+    def add_data(parent, domain, values):
+        for name in sorted(values):
+            entry = written[domain].get(name)
+            if entry is not None:
+                etree.SubElement(parent, q + "data", key=entry[0]).text = \
+                    _text(values[name], entry[1])
+
+    add_data(element, "graph", graph.graph)
+    for node_id in sorted(graph.nodes, key=natural_key):
+        node = etree.SubElement(element, q + "node", {"id": xml_text(node_id)})
+        add_data(node, "node", {"label": "", "room": ""} | graph.nodes[node_id])
+    for edge_id, source, target, attrs, coords in oriented_edges(graph):
+        edge = etree.SubElement(element, q + "edge", {"id": xml_text(edge_id),
+                                                      "source": xml_text(source),
+                                                      "target": xml_text(target)})
+        add_data(edge, "edge", attrs | {"geometry": linestring_wkt(coords)})
+    return etree.tostring(root, xml_declaration=True, encoding="UTF-8", pretty_print=True)
+
+
+#: Text that XML writers escape or normalize, or must keep as it is.
+_AWKWARD = st.text(st.sampled_from(list("&<>\"'\r\n\t ]]x9\x07\x85\u2028\u200f\ufffe") +
+                                   ["\U0001F600", "ü", "漢"]), max_size=12)
+
+
+@st.composite
+def _graphs(draw):
+    graph = nx.MultiGraph(units=draw(_AWKWARD), source=draw(_AWKWARD), margin=0.1)
+    names = draw(st.lists(_AWKWARD, min_size=1, max_size=6, unique=True))
+    for index, name in enumerate(names):
+        attrs = {"x": float(index), "y": draw(st.floats(allow_nan=True, allow_infinity=True)),
+                 "clearance": 0.5, "kind": draw(_AWKWARD), "label": draw(_AWKWARD)}
+        if draw(st.booleans()):
+            attrs["room_names"] = draw(_AWKWARD)
+        if draw(st.booleans()):
+            attrs["reverse_only"] = draw(st.booleans())
+        graph.add_node(name, **attrs)
+    for index in range(draw(st.integers(0, 6))):
+        u, v = draw(st.sampled_from(names)), draw(st.sampled_from(names))
+        start, end = graph.nodes[u], graph.nodes[v]
+        graph.add_edge(u, v, key=draw(_AWKWARD) + f"e{index}", length=1.0, weight=1.0,
+                       clearance_min=draw(st.floats()), geometry=shapely.LineString(
+                           [(start["x"], 0.0), (end["x"], 1.0)]))
+    return graph
+
+
+@settings(max_examples=150, deadline=None)
+@given(_graphs())
+def test_the_text_written_is_lxmls_byte_for_byte(graph):
+    # source: lxml (libxml2's serializer), an independent XML writer, writing the same
+    # elements: escaping, empty elements, indentation and the declaration agree
+    assert render_graph(graph) == _written_by_lxml(graph)
+    etree.fromstring(render_graph(graph))       # and it is well-formed XML
+
+
+def test_a_built_roadmap_is_written_as_lxml_writes_it():
+    from clearway.converter import read_floorplan
+    from clearway.roadmap import build_roadmap
+    from clearway.roadmap.model import Robot
+    plan = read_floorplan(Path(__file__).resolve().parents[2] / "sample_drawings" / "clinic.dxf")
+    roadmap = build_roadmap(plan.obstacles, plan.free_space,
+                            [(s.label, s.x, s.y, s.kind, s.heading) for s in plan.stations],
+                            robot=Robot.disc(0.3, margin=0.1), openings=plan.openings,
+                            texts=plan.texts)
+    graph = roadmap.graph.copy(as_view=True)
+    graph.graph = roadmap.graph.graph | {"source": plan.source, "sha256": plan.sha256}
+    assert render_graph(graph) == _written_by_lxml(graph)
