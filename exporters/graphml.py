@@ -117,14 +117,7 @@ def render_graph(graph, *, edges=None) -> bytes:
     >>> b"LINESTRING (0.0 1.0, 4.0 1.0)" in render_graph(g)
     True
     """
-    present = [(domain, name, kind) for domain, name, kind in OPTIONAL_KEYS
-               if any(name in attrs for *_, attrs in (graph.nodes(data=True) if domain == "node"
-                                                     else graph.edges(data=True)))]
-    keys = sorted(KEYS + tuple(present), key=lambda key: ("gne".index(key[0][0]), key[1]))
-    # domain -> attribute name -> (key id, attr.type), for the data elements
-    written = {domain: {} for domain in ("graph", "node", "edge")}
-    for domain, name, kind in keys:
-        written[domain][name] = (key_id(domain, name), kind)
+    keys, written = declared_keys(graph)
     lines = ["<?xml version='1.0' encoding='UTF-8'?>",
              f'<graphml xmlns="{GRAPHML_NS}" xmlns:xsi="{XSI_NS}" '
              f'xsi:schemaLocation="{_attribute(SCHEMA_LOCATION)}">']
@@ -144,6 +137,19 @@ def render_graph(graph, *, edges=None) -> bytes:
     _element(lines, '  <graph id="roadmap" edgedefault="undirected"', "graph", body, "  ")
     lines.append("</graphml>\n")
     return "\n".join(lines).encode("utf-8")
+
+
+def declared_keys(graph) -> tuple[list[tuple[str, str, str]], dict]:
+    """The keys the GraphML of `graph` declares, in order, as (domain, attr.name,
+    attr.type), and per domain, attribute name -> (key id, attr.type) for its data."""
+    present = [(domain, name, kind) for domain, name, kind in OPTIONAL_KEYS
+               if any(name in attrs for *_, attrs in (graph.nodes(data=True) if domain == "node"
+                                                     else graph.edges(data=True)))]
+    keys = sorted(KEYS + tuple(present), key=lambda key: ("gne".index(key[0][0]), key[1]))
+    written = {domain: {} for domain in ("graph", "node", "edge")}
+    for domain, name, kind in keys:
+        written[domain][name] = (key_id(domain, name), kind)
+    return keys, written
 
 
 def _data_lines(table: dict, values: dict, indent: str) -> list[str]:

@@ -173,18 +173,11 @@ def test_hostile_label_is_escaped_and_kept_except_xml_illegal_controls(plan, roa
 def _written_by_lxml(graph) -> bytes:
     """The GraphML of `graph` written element by element with lxml, as clearway wrote it
     before it wrote the text itself: the reference for `render_graph`'s bytes."""
-    from clearway.exporters.graphml import _text, linestring_wkt, oriented_edges
-    from clearway.exporters.graphml_keys import (GRAPHML_NS, KEYS, OPTIONAL_KEYS,
-                                                 SCHEMA_LOCATION, XSI_NS, key_id)
+    from clearway.exporters.graphml import _text, declared_keys, linestring_wkt, oriented_edges
+    from clearway.exporters.graphml_keys import GRAPHML_NS, SCHEMA_LOCATION, XSI_NS, key_id
     from clearway.sorting import natural_key
     q = f"{{{GRAPHML_NS}}}"
-    present = [(domain, name, kind) for domain, name, kind in OPTIONAL_KEYS
-               if any(name in attrs for *_, attrs in (graph.nodes(data=True) if domain == "node"
-                                                     else graph.edges(data=True)))]
-    keys = sorted(KEYS + tuple(present), key=lambda key: ("gne".index(key[0][0]), key[1]))
-    written = {domain: {} for domain in ("graph", "node", "edge")}
-    for domain, name, kind in keys:
-        written[domain][name] = (key_id(domain, name), kind)
+    keys, written = declared_keys(graph)
     root = etree.Element(q + "graphml", nsmap={None: GRAPHML_NS, "xsi": XSI_NS})
     root.set(f"{{{XSI_NS}}}schemaLocation", SCHEMA_LOCATION)
     for domain, name, kind in keys:
