@@ -84,6 +84,17 @@ def _draw_floor(read, clearance: float, anchor):
     return draw_floor(plan, drivable_floor(plan.free_space, clearance), anchor=anchor)
 
 
+def _floor_drawn(reader):
+    """The floor's areas the reader drew once it had sent the plan (``Aside.later``), or None
+    where it drew none or failed: the renderers then draw the areas themselves, with the
+    same code, and meet any fault of it there. Drawing them beforehand only saves time, so
+    its failure (the reader out of memory, killed) must not fail the build."""
+    try:
+        return reader.later()
+    except Exception:  # noqa: BLE001 - see above; Ctrl-C and SIGTERM still stop the build
+        return None
+
+
 def _drawing_date(plan) -> str:
     """The title block's date: the drawing's own, so rebuilding gives byte-identical files."""
     return f"drawing of {plan.drawing_date}" if plan.drawing_date else "drawing undated"
@@ -364,7 +375,7 @@ def build(drawing, outdir, robot_radius, robot_size, robot_kind, rotation_centre
                                               checks["low_clearance_penalty"]),
                 openings=plan.openings, texts=plan.texts,
                 progress=lambda *stage: say("  " + " ".join(str(part) for part in stage)))
-            floor = reader.later()
+            floor = _floor_drawn(reader)
         if floor is not None and not floor.fits(roadmap):
             floor = None
         check_lanes(plan, roadmap)

@@ -517,3 +517,47 @@ def test_where_the_work_runs_here_then_is_not_called(monkeypatch):
     with Aside(lambda: "plan", then=lambda _: called.append(1)) as child:
         assert child.result() == "plan" and child.later() is None
     assert called == [] and not child.forked
+
+
+@needs_fork
+def test_a_floor_the_reader_fails_to_draw_leaves_the_outputs_as_they_were(one_thread, tmp_path,
+                                                                          monkeypatch):
+    # drawing the floor beforehand only saves time: where it fails in the reader (out of
+    # memory, killed), the renderers draw the areas themselves
+    from click.testing import CliRunner
+
+    from clearway.cli_build import build
+
+    def build_into(name):
+        out = tmp_path / name
+        done = CliRunner().invoke(build, [str(SAMPLE), "-o", str(out), "-q"])
+        assert done.exit_code == 0, done.output
+        return out
+
+    monkeypatch.setenv("CLEARWAY_PROCESSES", "2")     # the floor drawn whatever its size
+    drawn = build_into("drawn")
+
+    def fails(*args, **kwargs):
+        raise MemoryError("the reader ran out of memory")
+    monkeypatch.setattr("clearway.exporters.floor.draw_floor", fails)
+    monkeypatch.setattr("clearway.exporters.draw_floor", fails, raising=False)
+    _same_outputs(drawn, build_into("failed"))
+
+
+@needs_fork
+def test_what_the_reader_drew_or_failed_to_draw(one_thread):
+    from clearway.cli_build import _floor_drawn
+    with Aside(lambda: (None, None), then=lambda read: "areas") as reader:
+        reader.result()
+        assert _floor_drawn(reader) == "areas"
+
+    def fails(_):
+        raise MemoryError("the reader ran out of memory")
+    with Aside(lambda: (None, None), then=fails) as reader:
+        reader.result()
+        assert _floor_drawn(reader) is None
+
+    with Aside(lambda: (None, None), then=lambda _: os.kill(os.getpid(), signal.SIGKILL)) \
+            as reader:
+        reader.result()
+        assert _floor_drawn(reader) is None
