@@ -128,7 +128,6 @@ def _wrap(text: str, width: int) -> list[str]:
     return lines + [line] if line else lines
 
 
-@paused_collector()  # many small containers, none in a cycle: see collector.py
 def area_paths(plan, band, origin) -> dict[str, str]:
     """Path data of the plan's areas and the clearance `band` relative to `origin`, by role:
     every role of AREA_STYLE but "closed" (the unreachable rooms, which the lanes decide)
@@ -142,6 +141,7 @@ def _moved(geometry, origin):
     return shapely.transform(geometry, lambda xy: xy - origin)
 
 
+@paused_collector()  # many small containers, none in a cycle: see collector.py
 def render_svg(plan, roadmap, *, date: str, band=None, edges=None, floor=None) -> bytes:
     """Return the SVG preview as UTF-8 bytes (deterministic for the same input and date).
 

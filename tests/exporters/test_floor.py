@@ -1,5 +1,6 @@
 """The floor's areas drawn before the lanes: the same bytes as drawn by each renderer, and
-used only where they were made for the roadmap's own drivable region, origin and anchor."""
+used only where they were made for the roadmap's own drivable region, origin and anchor; and
+every renderer with the collector paused."""
 
 from __future__ import annotations
 
@@ -9,7 +10,7 @@ import json
 import pytest
 import shapely
 
-from clearway.exporters import draw_floor, render_geojson, render_svg
+from clearway.exporters import draw_floor, render_geojson, render_graphml, render_html, render_svg
 from clearway.exporters.svg_parts import clearance_band
 from clearway.roadmap import build_roadmap, drivable_floor
 from clearway.roadmap.model import Robot
@@ -88,3 +89,25 @@ def test_the_drivable_floor_is_the_roadmaps_coordinate_for_coordinate(robot, shi
     c = robot.clearance
     assert shapely.distance(drivable, plan.free_space.boundary) == pytest.approx(c, abs=1e-3)
     assert draw_floor(plan, drivable).fits(roadmap)
+
+
+@pytest.mark.parametrize("module, inner, render", [
+    ("svg", "lane_bins", lambda plan, roadmap: render_svg(plan, roadmap, date=DATE)),
+    ("geojson", "compact_json", lambda plan, roadmap: render_geojson(plan, roadmap)),
+    ("graphml", "linestring_wkt", lambda plan, roadmap: render_graphml(plan, roadmap)),
+    ("html", "lane_bins", lambda plan, roadmap: render_html(plan, roadmap, date=DATE)),
+], ids=["svg", "geojson", "graphml", "html"])
+def test_every_renderer_runs_with_the_collector_paused(monkeypatch, module, inner, render):
+    # many small containers, none in a cycle (clearway/collector.py): a decorator moved off
+    # its renderer would leave the collector's passes in again, the bytes unchanged
+    import gc
+    import importlib
+    plan = make_plan()
+    roadmap = make_roadmap(plan)
+    target = importlib.import_module(f"clearway.exporters.{module}")
+    original, seen = getattr(target, inner), []
+    monkeypatch.setattr(target, inner, lambda *a, **k: seen.append(gc.isenabled())
+                        or original(*a, **k))
+    assert gc.isenabled()
+    render(plan, roadmap)
+    assert seen and not any(seen) and gc.isenabled()
