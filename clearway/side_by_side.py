@@ -356,8 +356,9 @@ class Aside:
     def _receive(self):
         """The next (status, value) the child sent (:func:`_send`)."""
         head = self.pipe.read(_SIZE.size)
-        payload = self.pipe.read(_SIZE.unpack(head)[0]) if len(head) == _SIZE.size else b""
-        if not payload:
+        size = _SIZE.unpack(head)[0] if len(head) == _SIZE.size else 0
+        payload = self.pipe.read(size) if size else b""
+        if not size or len(payload) < size:      # it ended before or while it sent
             return "error", RuntimeError("the second process ended without a result")
         return pickle.loads(payload)
 

@@ -561,3 +561,17 @@ def test_what_the_reader_drew_or_failed_to_draw(one_thread):
             as reader:
         reader.result()
         assert _floor_drawn(reader) is None
+
+
+def test_a_message_cut_short_is_a_missing_result():
+    # a child killed while it sends: its length came, not all of its pickle
+    import io
+    whole = pickle.dumps(("ok", list(range(100))))
+    for sent in (b"", runner._SIZE.pack(len(whole))[:5],
+                 runner._SIZE.pack(len(whole)) + whole[:-1]):
+        child = Aside(lambda: None)
+        child.pipe = io.BytesIO(sent)
+        status, error = child._receive()
+        assert status == "error" and "ended without a result" in str(error)
+    child.pipe = io.BytesIO(runner._SIZE.pack(len(whole)) + whole)
+    assert child._receive() == ("ok", list(range(100)))
