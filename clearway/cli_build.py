@@ -43,8 +43,9 @@ SIDE_BY_SIDE_EDGES = 200
 #: Vertices of the free space and the plan's areas from which the reader draws the outputs'
 #: areas while the lanes are built (clearway.exporters.floor; any number with
 #: CLEARWAY_PROCESSES=2). On the mixed suite floor at 20,000 bays (126,000 vertices) the
-#: whole build took 0.10 to 0.19 s less (medians of seven paired builds); at 5,000 bays
-#: (30,000) 0.02 s more, the roadmap there having less time to spare.
+#: whole build took 0.19 s less (median of seven paired builds), on flue_sealed (202,000)
+#: 0.21 s less; at 5,000 bays mixed (30,000) took 0.02 s more, its roadmap having less time
+#: to spare.
 FLOOR_VERTICES = 50_000
 
 

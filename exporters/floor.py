@@ -52,7 +52,8 @@ class FloorDrawn:
 
 def draw_floor(plan, drivable, *, anchor=None) -> FloorDrawn:
     """Draw `plan`'s areas with `drivable` (``roadmap.drivable_floor`` of its free space) for
-    every output that draws them; `anchor` as ``render_geojson`` takes it (checked first).
+    the preview and the GeoJSON, and the clearance band, which the page draws too; `anchor`
+    as ``render_geojson`` takes it (checked first).
 
     Examples
     --------
