@@ -44,9 +44,10 @@ SIDE_BY_SIDE_EDGES = 200
 #: areas while the lanes are built (clearway.exporters.floor; any number with
 #: CLEARWAY_PROCESSES=2). On the mixed suite floor at 20,000 bays (126,000 vertices) the
 #: whole build took 0.19 s less (median of seven paired builds), on flue_sealed (202,000)
-#: 0.21 s less; at 5,000 bays mixed (30,000) took 0.02 s more, its roadmap having less time
-#: to spare.
-FLOOR_VERTICES = 50_000
+#: 0.21 s less; at 5,000 bays (once the GraphML was written as text, which left the preview
+#: the longer of the two output processes) mixed (30,000) 0.051 s less (14 of 15), current
+#: (14,000), angled (11,800) and flue_open (24,000) 0.009 to 0.016 s less (7 or 8 of 11).
+FLOOR_VERTICES = 10_000
 
 
 def _factor(name: str, value) -> float:
