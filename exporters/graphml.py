@@ -29,10 +29,12 @@ from __future__ import annotations
 
 import numpy as np
 import shapely
+
 from clearway.collector import paused_collector
 from clearway.exporters.graphml_keys import (GRAPHML_NS, KEYS, OPTIONAL_KEYS, SCHEMA_LOCATION,
                                              XSI_NS, key_id)
 from clearway.exporters.text import TOOL_VERSION, exact_float, natural_key, xml_text
+
 
 def _text(value: object, kind: str) -> str:
     if kind == "boolean":
