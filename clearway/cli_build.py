@@ -74,8 +74,6 @@ def _draw_floor(read, clearance: float, anchor):
     them (clearway.exporters.floor), for a plan of FLOOR_VERTICES or more; else None."""
     import shapely
 
-    from clearway.exporters import draw_floor
-    from clearway.roadmap import drivable_floor
     from clearway.side_by_side import forced
     plan, refused = read
     if refused is not None:
@@ -83,6 +81,9 @@ def _draw_floor(read, clearance: float, anchor):
     areas = [area for area in (plan.free_space, *plan.regions.values()) if area is not None]
     if not forced() and (not areas or shapely.get_num_coordinates(areas).sum() < FLOOR_VERTICES):
         return None
+    # the renderers (lxml among them) are imported by the reader only for a floor it draws
+    from clearway.exporters import draw_floor
+    from clearway.roadmap import drivable_floor
     return draw_floor(plan, drivable_floor(plan.free_space, clearance), anchor=anchor)
 
 
